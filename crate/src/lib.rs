@@ -1,0 +1,21 @@
+//! Polewright: state-feedback design for linear(ised) plants `x' = A x + B u`.
+//!
+//! Convention everywhere: the control law is `u = -K x`; closed-loop matrix `A - B K`.
+//!
+//! The numerical modules know nothing of the browser or the command line; the
+//! `web` module (wasm32 only) and the `polewright` binary are thin front ends.
+
+pub mod analysis;
+pub mod design;
+pub mod linalg;
+pub mod metrics;
+pub mod parse;
+pub mod place;
+pub mod plant;
+pub mod plot;
+pub mod poles;
+pub mod simulate;
+pub mod warnings;
+
+#[cfg(target_arch = "wasm32")]
+pub mod web;

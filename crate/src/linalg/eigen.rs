@@ -1,0 +1,487 @@
+//! Eigenvalues of a real square matrix, with an explicit iteration limit.
+//!
+//! # Equation
+//! Find every `λ` with `det(A − λ I) = 0` for a real `n × n` matrix `A`.
+//!
+//! # Method
+//! 1. Balancing by diagonal similarity with powers of two, which changes no
+//!    eigenvalue and no rounding error (Parlett & Reinsch, "Balancing a matrix
+//!    for calculation of eigenvalues and eigenvectors", Numer. Math. 13, 1969).
+//! 2. Reduction to upper Hessenberg form by Householder reflections
+//!    (nalgebra's `Hessenberg`, a finite algorithm).
+//! 3. The Francis implicit double-shift QR iteration on the Hessenberg matrix,
+//!    with deflation of negligible subdiagonal entries and exceptional shifts
+//!    after 10 and 20 iterations without deflation (the EISPACK `hqr` scheme:
+//!    Martin, Peters & Wilkinson, "The QR algorithm for real Hessenberg
+//!    matrices", Numer. Math. 14, 1970; Golub & Van Loan, *Matrix
+//!    Computations*, 4th ed., §7.5).
+//!
+//! nalgebra 0.35's own `eigenvalues()`, `complex_eigenvalues()` and
+//! `Schur::new` iterate without a limit and fail to converge on some
+//! matrices — companion matrices among them, which is exactly what
+//! single-input pole placement produces. Every eigenvalue computation in
+//! Polewright goes through [`try_eigenvalues`] instead.
+//!
+//! # Cost
+//! About `10 n³` flops for the Hessenberg reduction plus roughly two QR
+//! sweeps of `O(n²)` per eigenvalue: `O(n³)` overall.
+//!
+//! # Failure modes
+//! Returns [`EigenError::NoConvergence`] if one eigenvalue (or pair) needs more
+//! than [`EigenParams::max_iterations_per_eigenvalue`] sweeps — it never loops
+//! forever. Non-finite input is refused with [`EigenError::NotFinite`].
+//! Eigenvalues of a defective matrix (a Jordan block of size `k`) are only
+//! accurate to about `ε^(1/k)` relative to `‖A‖`: an unavoidable property of
+//! the problem, not of the method.
+
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+
+/// Tuning constants of the eigenvalue iteration.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct EigenParams {
+    /// Largest number of QR sweeps spent on one eigenvalue (or pair) before
+    /// giving up. Default 60 (EISPACK used 30; exceptional shifts every 10).
+    pub max_iterations_per_eigenvalue: usize,
+    /// Largest number of balancing sweeps. Default 100.
+    pub max_balancing_sweeps: usize,
+}
+
+impl Default for EigenParams {
+    fn default() -> Self {
+        EigenParams { max_iterations_per_eigenvalue: 60, max_balancing_sweeps: 100 }
+    }
+}
+
+/// What went wrong computing eigenvalues.
+#[derive(Debug, Clone, PartialEq)]
+pub enum EigenError {
+    /// The matrix is not square.
+    NotSquare { rows: usize, columns: usize },
+    /// An entry is NaN or infinite.
+    NotFinite { row: usize, column: usize },
+    /// The QR iteration did not converge within the limit.
+    NoConvergence { found: usize, size: usize, iterations: usize },
+}
+
+impl std::fmt::Display for EigenError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            EigenError::NotSquare { rows, columns } => {
+                write!(f, "eigenvalues need a square matrix, got {rows}×{columns}")
+            }
+            EigenError::NotFinite { row, column } => write!(
+                f,
+                "eigenvalues cannot be computed: entry ({}, {}) is not a finite number",
+                row + 1,
+                column + 1
+            ),
+            EigenError::NoConvergence { found, size, iterations } => write!(
+                f,
+                "the eigenvalue iteration did not converge after {iterations} sweeps \
+                 ({found} of {size} eigenvalues found); the matrix may be badly scaled"
+            ),
+        }
+    }
+}
+
+impl std::error::Error for EigenError {}
+
+/// Eigenvalues of `a` with the default limits. See [`try_eigenvalues_with`].
+///
+/// # Errors
+/// See [`EigenError`].
+pub fn try_eigenvalues(a: &DMatrix<f64>) -> Result<Vec<Complex64>, EigenError> {
+    try_eigenvalues_with(a, EigenParams::default())
+}
+
+/// Eigenvalues of `a`, sorted by ascending real part then descending imaginary
+/// part; complex pairs are exact conjugates of each other.
+///
+/// # Errors
+/// [`EigenError::NotSquare`], [`EigenError::NotFinite`], or
+/// [`EigenError::NoConvergence`] when the iteration limit is reached.
+pub fn try_eigenvalues_with(a: &DMatrix<f64>, params: EigenParams) -> Result<Vec<Complex64>, EigenError> {
+    let (rows, columns) = a.shape();
+    if rows != columns {
+        return Err(EigenError::NotSquare { rows, columns });
+    }
+    for j in 0..columns {
+        for i in 0..rows {
+            if !a[(i, j)].is_finite() {
+                return Err(EigenError::NotFinite { row: i, column: j });
+            }
+        }
+    }
+    let n = rows;
+    if n == 0 {
+        return Ok(Vec::new());
+    }
+    if n == 1 {
+        return Ok(vec![Complex64::new(a[(0, 0)], 0.0)]);
+    }
+    let mut m = a.clone();
+    balance(&mut m, params.max_balancing_sweeps);
+    let h = nalgebra::linalg::Hessenberg::new(m).unpack_h();
+    let mut values = hessenberg_qr(h, params.max_iterations_per_eigenvalue)?;
+    sort_eigenvalues(&mut values);
+    Ok(values)
+}
+
+/// Sorts by ascending real part, then descending imaginary part.
+pub fn sort_eigenvalues(values: &mut [Complex64]) {
+    values.sort_by(|x, y| x.re.total_cmp(&y.re).then(y.im.total_cmp(&x.im)));
+}
+
+/// Parlett–Reinsch balancing with radix 2, in place.
+fn balance(a: &mut DMatrix<f64>, max_sweeps: usize) {
+    const RADIX: f64 = 2.0;
+    let n = a.nrows();
+    for _ in 0..max_sweeps {
+        let mut done = true;
+        for i in 0..n {
+            let mut c = 0.0;
+            let mut r = 0.0;
+            for j in 0..n {
+                if j != i {
+                    c += a[(j, i)].abs();
+                    r += a[(i, j)].abs();
+                }
+            }
+            if c == 0.0 || r == 0.0 {
+                continue;
+            }
+            let s = c + r;
+            let mut f = 1.0;
+            let mut g = r / RADIX;
+            // Bounded by the exponent range of f64 (at most ~1100 halvings/doublings).
+            let mut guard = 0;
+            while c < g && guard < 2200 {
+                f *= RADIX;
+                c *= RADIX * RADIX;
+                guard += 1;
+            }
+            g = r * RADIX;
+            while c > g && guard < 4400 {
+                f /= RADIX;
+                c /= RADIX * RADIX;
+                guard += 1;
+            }
+            if (c + r) / f < 0.95 * s && f.is_finite() && f > 0.0 {
+                done = false;
+                let g = 1.0 / f;
+                for j in 0..n {
+                    a[(i, j)] *= g;
+                }
+                for j in 0..n {
+                    a[(j, i)] *= f;
+                }
+            }
+        }
+        if done {
+            break;
+        }
+    }
+}
+
+/// Francis double-shift QR on an upper Hessenberg matrix (EISPACK `hqr`).
+fn hessenberg_qr(mut h: DMatrix<f64>, max_its: usize) -> Result<Vec<Complex64>, EigenError> {
+    let n = h.nrows();
+    let mut wr = vec![0.0; n];
+    let mut wi = vec![0.0; n];
+    let mut anorm = 0.0;
+    for i in 0..n {
+        for j in i.saturating_sub(1)..n {
+            anorm += h[(i, j)].abs();
+        }
+    }
+    // 1-based indices below follow the classical formulation; `a(i, j)` maps to h[(i-1, j-1)].
+    macro_rules! a {
+        ($i:expr, $j:expr) => {
+            h[($i - 1, $j - 1)]
+        };
+    }
+    let mut nn = n;
+    let mut t = 0.0;
+    let mut total_its = 0usize;
+    while nn >= 1 {
+        let mut its = 0usize;
+        loop {
+            // Look for a single small subdiagonal element.
+            let mut l = nn;
+            while l >= 2 {
+                let mut s = a!(l - 1, l - 1).abs() + a!(l, l).abs();
+                if s == 0.0 {
+                    s = anorm;
+                }
+                if a!(l, l - 1).abs() <= f64::EPSILON * s {
+                    a!(l, l - 1) = 0.0;
+                    break;
+                }
+                l -= 1;
+            }
+            let mut x = a!(nn, nn);
+            if l == nn {
+                // One root found.
+                wr[nn - 1] = x + t;
+                wi[nn - 1] = 0.0;
+                nn -= 1;
+                break;
+            }
+            let mut y = a!(nn - 1, nn - 1);
+            let mut w = a!(nn, nn - 1) * a!(nn - 1, nn);
+            if l == nn - 1 {
+                // Two roots found.
+                let p = 0.5 * (y - x);
+                let q = p * p + w;
+                let mut z = q.abs().sqrt();
+                x += t;
+                if q >= 0.0 {
+                    z = p + z.copysign(p);
+                    wr[nn - 2] = x + z;
+                    wr[nn - 1] = x + z;
+                    if z != 0.0 {
+                        wr[nn - 1] = x - w / z;
+                    }
+                    wi[nn - 2] = 0.0;
+                    wi[nn - 1] = 0.0;
+                } else {
+                    wr[nn - 2] = x + p;
+                    wr[nn - 1] = x + p;
+                    wi[nn - 2] = z;
+                    wi[nn - 1] = -z;
+                }
+                nn -= 2;
+                break;
+            }
+            // No roots found yet: iterate.
+            if its >= max_its {
+                return Err(EigenError::NoConvergence { found: n - nn, size: n, iterations: total_its });
+            }
+            if its > 0 && its % 10 == 0 {
+                // Exceptional shift.
+                t += x;
+                for i in 1..=nn {
+                    a!(i, i) -= x;
+                }
+                let s = a!(nn, nn - 1).abs() + a!(nn - 1, nn - 2).abs();
+                x = 0.75 * s;
+                y = x;
+                w = -0.4375 * s * s;
+            }
+            its += 1;
+            total_its += 1;
+            // Look for two consecutive small subdiagonal elements.
+            let mut m = nn - 2;
+            let (mut p, mut q, mut r);
+            loop {
+                let z = a!(m, m);
+                let r0 = x - z;
+                let s0 = y - z;
+                p = (r0 * s0 - w) / a!(m + 1, m) + a!(m, m + 1);
+                q = a!(m + 1, m + 1) - z - r0 - s0;
+                r = a!(m + 2, m + 1);
+                let s = p.abs() + q.abs() + r.abs();
+                p /= s;
+                q /= s;
+                r /= s;
+                if m == l {
+                    break;
+                }
+                let u = a!(m, m - 1).abs() * (q.abs() + r.abs());
+                let v = p.abs() * (a!(m - 1, m - 1).abs() + z.abs() + a!(m + 1, m + 1).abs());
+                if u <= f64::EPSILON * v {
+                    break;
+                }
+                m -= 1;
+            }
+            for i in (m + 2)..=nn {
+                a!(i, i - 2) = 0.0;
+                if i != m + 2 {
+                    a!(i, i - 3) = 0.0;
+                }
+            }
+            // Double QR step on rows l..nn and columns m..nn.
+            let mut k = m;
+            while k < nn {
+                if k != m {
+                    p = a!(k, k - 1);
+                    q = a!(k + 1, k - 1);
+                    r = if k != nn - 1 { a!(k + 2, k - 1) } else { 0.0 };
+                    x = p.abs() + q.abs() + r.abs();
+                    if x != 0.0 {
+                        p /= x;
+                        q /= x;
+                        r /= x;
+                    }
+                }
+                let s = (p * p + q * q + r * r).sqrt().copysign(p);
+                if s != 0.0 {
+                    if k == m {
+                        if l != m {
+                            a!(k, k - 1) = -a!(k, k - 1);
+                        }
+                    } else {
+                        a!(k, k - 1) = -s * x;
+                    }
+                    p += s;
+                    x = p / s;
+                    y = q / s;
+                    let z = r / s;
+                    q /= p;
+                    r /= p;
+                    for j in k..=nn {
+                        let mut pp = a!(k, j) + q * a!(k + 1, j);
+                        if k != nn - 1 {
+                            pp += r * a!(k + 2, j);
+                            a!(k + 2, j) -= pp * z;
+                        }
+                        a!(k + 1, j) -= pp * y;
+                        a!(k, j) -= pp * x;
+                    }
+                    let mmin = if nn < k + 3 { nn } else { k + 3 };
+                    for i in l..=mmin {
+                        let mut pp = x * a!(i, k) + y * a!(i, k + 1);
+                        if k != nn - 1 {
+                            pp += z * a!(i, k + 2);
+                            a!(i, k + 2) -= pp * r;
+                        }
+                        a!(i, k + 1) -= pp * q;
+                        a!(i, k) -= pp;
+                    }
+                }
+                k += 1;
+            }
+            if !h.iter().all(|v| v.is_finite()) {
+                return Err(EigenError::NoConvergence { found: n - nn, size: n, iterations: total_its });
+            }
+        }
+    }
+    let mut values: Vec<Complex64> = wr.iter().zip(&wi).map(|(&re, &im)| Complex64::new(re, im)).collect();
+    // Make complex pairs exact conjugates (they are by construction; this guards the sort).
+    for v in values.iter_mut() {
+        if v.im == 0.0 {
+            v.im = 0.0; // normalise -0.0
+        }
+    }
+    Ok(values)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn companion_bottom(coeffs: &[f64]) -> DMatrix<f64> {
+        // x^n + c_{n-1} x^{n-1} + ... + c_0 ; last row = -c
+        let n = coeffs.len();
+        let mut m = DMatrix::zeros(n, n);
+        for i in 0..n - 1 {
+            m[(i, i + 1)] = 1.0;
+        }
+        for j in 0..n {
+            m[(n - 1, j)] = -coeffs[j];
+        }
+        m
+    }
+
+    fn poly_from_roots(roots: &[f64]) -> Vec<f64> {
+        // monic coefficients c_0..c_{n-1}
+        let mut p = vec![1.0];
+        for &r in roots {
+            let mut q = vec![0.0; p.len() + 1];
+            for (i, &c) in p.iter().enumerate() {
+                q[i + 1] += c;
+                q[i] -= r * c;
+            }
+            p = q;
+        }
+        p.pop();
+        p
+    }
+
+    #[test]
+    fn zero_matrix_converges() {
+        // Regression: the zero matrix made an unbounded iteration spin.
+        let v = try_eigenvalues(&DMatrix::zeros(3, 3)).unwrap();
+        assert!(v.iter().all(|z| z.norm() == 0.0));
+    }
+
+    #[test]
+    fn companion_matrices_converge() {
+        // Regression: companion matrices (nalgebra issue #611) are what single-input placement produces.
+        for k in 2..=10 {
+            let roots: Vec<f64> = (1..=k).map(|i| -(i as f64)).collect();
+            let m = companion_bottom(&poly_from_roots(&roots));
+            let v = try_eigenvalues(&m).unwrap();
+            for (i, z) in v.iter().enumerate() {
+                let exact = roots[roots.len() - 1 - i];
+                // Wilkinson-type polynomials are ill-conditioned: the error grows with k.
+                assert!((z.re - exact).abs() < 1e-6 * 10f64.powi(k as i32 - 5).max(1.0), "k={k} {z} vs {exact}");
+                assert!(z.im.abs() < 1e-3, "k={k}");
+            }
+        }
+        // The closed loop of the third-order textbook example: roots -2±4j and -10.
+        let m = companion_bottom(&[200.0, 60.0, 14.0]);
+        let v = try_eigenvalues(&m).unwrap();
+        assert!((v[0] - Complex64::new(-10.0, 0.0)).norm() < 1e-12);
+        assert!((v[1] - Complex64::new(-2.0, 4.0)).norm() < 1e-12);
+        assert!((v[2] - Complex64::new(-2.0, -4.0)).norm() < 1e-12);
+    }
+
+    #[test]
+    fn permutation_cycle_needs_exceptional_shift() {
+        // A cyclic permutation has its eigenvalues on the unit circle; plain shifts stall.
+        let n = 5;
+        let mut m = DMatrix::zeros(n, n);
+        for i in 0..n {
+            m[((i + 1) % n, i)] = 1.0;
+        }
+        let v = try_eigenvalues(&m).unwrap();
+        for z in &v {
+            assert!((z.norm() - 1.0).abs() < 1e-12, "{z}");
+        }
+        let sum: Complex64 = v.iter().sum();
+        assert!(sum.norm() < 1e-12);
+    }
+
+    #[test]
+    fn iteration_limit_is_reported() {
+        let n = 6;
+        let mut m = DMatrix::zeros(n, n);
+        for i in 0..n {
+            m[((i + 1) % n, i)] = 1.0;
+        }
+        let r = try_eigenvalues_with(&m, EigenParams { max_iterations_per_eigenvalue: 1, max_balancing_sweeps: 10 });
+        assert!(matches!(r, Err(EigenError::NoConvergence { .. })), "{r:?}");
+    }
+
+    #[test]
+    fn rejects_non_finite_and_non_square() {
+        let mut m = DMatrix::zeros(2, 2);
+        m[(1, 0)] = f64::NAN;
+        assert_eq!(try_eigenvalues(&m), Err(EigenError::NotFinite { row: 1, column: 0 }));
+        assert!(matches!(try_eigenvalues(&DMatrix::zeros(2, 3)), Err(EigenError::NotSquare { .. })));
+    }
+
+    #[test]
+    fn trace_and_determinant_on_seeded_random_matrices() {
+        let mut state = 0x9E3779B97F4A7C15u64;
+        let mut next = || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            (state >> 11) as f64 / (1u64 << 53) as f64 * 2.0 - 1.0
+        };
+        for n in [2usize, 3, 5, 8, 13, 21, 40] {
+            let m = DMatrix::from_fn(n, n, |_, _| next());
+            let v = try_eigenvalues(&m).unwrap();
+            let trace: f64 = v.iter().map(|z| z.re).sum();
+            let scale = m.norm() * n as f64;
+            assert!((trace - m.trace()).abs() < 1e-12 * scale, "n={n}");
+            let det: Complex64 = v.iter().product();
+            let lu_det = m.clone().lu().determinant();
+            assert!((det.re - lu_det).abs() < 1e-9 * lu_det.abs().max(1.0), "n={n} {det} {lu_det}");
+            assert!(det.im.abs() < 1e-9 * lu_det.abs().max(1.0));
+        }
+    }
+}
