@@ -1,0 +1,917 @@
+//! Robust pole placement by eigenstructure assignment, for any number of inputs.
+//!
+//! # Equation
+//! Find `K` (`m × n`, control law `u = −K x`) such that `A − B K` has the
+//! requested eigenvalues `λ₁ … λₙ`, and among all such `K` one whose
+//! eigenvector matrix `X` is well conditioned, so that the closed-loop poles
+//! are insensitive to errors in `A`, `B` and `K`.
+//!
+//! # Method
+//! Kautsky, Nichols & Van Dooren, "Robust pole assignment in linear state
+//! feedback", Int. J. Control 41(5):1129–1155, 1985 (KNV), with the objective of
+//! Tits & Yang, "Globally convergent algorithms for robust pole assignment by
+//! state feedback", IEEE TAC 41(10):1432–1452, 1996: maximise `|det X|` over
+//! unit-norm eigenvectors.
+//! 1. SVD of `B = U_r Σ_r V_rᴴ` gives the numerical rank `r` (dependent input
+//!    columns are detected here) and `U₁`, an orthonormal basis of the
+//!    complement of `range B`.
+//! 2. For each requested pole, the admissible eigenvectors form
+//!    `S_j = null(U₁ᵀ (A − λ_j I))`, of dimension `r` (KNV §2), found from a full
+//!    Householder QR of `(A − λ_j I)ᴴ U₁`.
+//! 3. Starting from the better (larger `|det X|`) of two initial guesses, each
+//!    column is replaced in turn by the unit vector of `S_j` most orthogonal to
+//!    the other columns: `x_j ← S_j S_jᴴ y_j / ‖·‖`, where `y_j = X⁻ᴴ e_j`
+//!    is orthogonal to every other column (KNV "method 0"). Each such step cannot
+//!    decrease `|det X|`. `X⁻¹` is carried along by rank-one (Sherman–Morrison)
+//!    updates — the rank-one structure KNV point out — so a sweep costs `O(n³)`
+//!    instead of `O(n⁴)`, and it is refactored from scratch after each sweep.
+//!    A complex pair updates its two conjugate columns together; the pair step is
+//!    kept only if `|det X|` does not decrease (matrix determinant lemma).
+//! 4. Sweeps stop when `|det X|` improves by less than
+//!    [`PlacementParams::improvement_tolerance`] (relative) over a sweep, or when
+//!    `κ₂(X)`, checked every few sweeps, stops improving; the best-conditioned `X`
+//!    seen is kept. Three starting guesses are refined and the best kept.
+//! 5. `M = X Λ X⁻¹` (real up to rounding) and `K = V_r Σ_r⁻¹ U_rᵀ (A − M)`,
+//!    the minimum-norm gain when `B` has dependent columns.
+//!
+//! With one input (`r = 1`) every `S_j` is a line: `X` is unique and no
+//! iteration runs. With `r = n`, `S_j` is the whole space. Ackermann's formula
+//! and powers of `A` are never used.
+//!
+//! Uncontrollable but stabilisable plants are first put in staircase form
+//! (see [`crate::analysis`]); only the controllable part is assigned, the fixed
+//! modes stay where they are and the requested poles they displace are reported.
+//!
+//! # Cost
+//! `O(n² (n − r))` per distinct pole for the subspaces (`O(n⁴)` in all, less with
+//! conjugate pairs, which share theirs), and `O(n³)` per sweep.
+//!
+//! # Failure modes
+//! - a requested pole repeated more than `rank B` times: no diagonalisable
+//!   closed loop exists, [`PlacementError::RepeatedBeyondRank`];
+//! - an uncontrollable mode outside the open left half-plane:
+//!   [`PlacementError::UncontrollableUnstableMode`];
+//! - a singular eigenvector matrix (a degenerate problem), or a failed
+//!   eigenvalue/SVD iteration: [`PlacementError::Numerical`].
+//!
+//! The achieved poles are always recomputed from `A − B K` by an independent
+//! eigenvalue computation and compared with the request.
+
+use nalgebra::{DMatrix, DVector};
+use num_complex::Complex64;
+
+use crate::analysis::{staircase, AnalysisError};
+use crate::linalg::eigen::{sort_eigenvalues, try_eigenvalues, EigenError};
+use crate::linalg::qr::full_qr;
+use crate::linalg::svd::{try_condition_number, try_norm2, try_svd, SvdError, SvdParams};
+use crate::poles::check_conjugate_pairs;
+
+/// Tuning constants of the placement.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PlacementParams {
+    /// Largest number of sweeps over all columns. Default 200.
+    pub max_sweeps: usize,
+    /// Stop when a sweep raises `|det X|` by less than this fraction. Default `1e-6`.
+    pub improvement_tolerance: f64,
+    /// Singular values of `B` below this fraction of the largest count as zero. Default `1e-10`.
+    pub rank_tolerance: f64,
+    /// Relative rank tolerance of the staircase used for uncontrollable plants. Default `1e-10`.
+    pub controllability_tolerance: f64,
+    /// Sweeps between checks of `κ₂(X)`. Default 20.
+    pub condition_check_interval: usize,
+    /// Stop when `κ₂(X)` improved by less than this fraction since the last check. Default `1e-4`.
+    pub condition_stall_tolerance: f64,
+}
+
+impl Default for PlacementParams {
+    fn default() -> Self {
+        PlacementParams {
+            max_sweeps: 200,
+            improvement_tolerance: 1e-6,
+            rank_tolerance: 1e-10,
+            controllability_tolerance: 1e-10,
+            condition_check_interval: 20,
+            condition_stall_tolerance: 1e-4,
+        }
+    }
+}
+
+/// Why a gain could not be computed.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PlacementError {
+    /// The number of requested poles does not fit the plant.
+    PoleCount { expected: usize, controllable: usize, found: usize },
+    /// A requested pole is not finite or lacks its conjugate.
+    InvalidPoles { message: String },
+    /// A pole is requested more often than `rank B` allows.
+    RepeatedBeyondRank { pole: Complex64, multiplicity: usize, rank: usize },
+    /// A mode that feedback cannot move is not strictly stable.
+    UncontrollableUnstableMode { pole: Complex64 },
+    /// The fixed modes of an uncontrollable plant cannot be matched to the request.
+    FixedModesDoNotFit { fixed: Vec<Complex64>, controllable: usize },
+    /// A numerical step failed.
+    Numerical { message: String },
+}
+
+impl std::fmt::Display for PlacementError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        use crate::poles::format_complex as fc;
+        match self {
+            PlacementError::PoleCount { expected, controllable, found } => {
+                if controllable < expected {
+                    write!(f, "{found} poles were requested but the plant has {expected} states, of which {controllable} are controllable; give {expected} poles (the ones nearest the fixed modes are left unassigned) or exactly {controllable}")
+                } else {
+                    write!(f, "{found} poles were requested but the plant has {expected} states; give exactly {expected} poles")
+                }
+            }
+            PlacementError::InvalidPoles { message } => write!(f, "{message}"),
+            PlacementError::RepeatedBeyondRank { pole, multiplicity, rank } => write!(
+                f,
+                "the pole {} is requested {multiplicity} times but B has rank {rank}: state feedback can give one eigenvalue at most {rank} independent eigenvectors; spread the repeated poles slightly apart (e.g. by 1 %) or use fewer copies",
+                fc(*pole)
+            ),
+            PlacementError::UncontrollableUnstableMode { pole } => write!(
+                f,
+                "the mode at {} is uncontrollable (no input reaches it) and not strictly stable, so no state feedback can stabilise this plant; change the actuators (B) or the plant",
+                fc(*pole)
+            ),
+            PlacementError::FixedModesDoNotFit { fixed, controllable } => write!(
+                f,
+                "the uncontrollable modes {} cannot be matched to requested poles of the same kind (real or complex pair); give exactly {controllable} poles for the controllable part",
+                fixed.iter().map(|z| fc(*z)).collect::<Vec<_>>().join(", ")
+            ),
+            PlacementError::Numerical { message } => write!(f, "pole placement failed: {message}"),
+        }
+    }
+}
+
+impl std::error::Error for PlacementError {}
+
+impl From<EigenError> for PlacementError {
+    fn from(e: EigenError) -> Self {
+        PlacementError::Numerical { message: e.to_string() }
+    }
+}
+impl From<SvdError> for PlacementError {
+    fn from(e: SvdError) -> Self {
+        PlacementError::Numerical { message: e.to_string() }
+    }
+}
+impl From<AnalysisError> for PlacementError {
+    fn from(e: AnalysisError) -> Self {
+        PlacementError::Numerical { message: e.to_string() }
+    }
+}
+
+/// What the placement achieved.
+#[derive(Debug, Clone)]
+pub struct Placement {
+    /// `K`, `m × n`, for `u = −K x`.
+    pub gain: DMatrix<f64>,
+    /// Eigenvalues of `A − B K`, recomputed independently, sorted.
+    pub achieved_poles: Vec<Complex64>,
+    /// The requested poles that were assigned, sorted.
+    pub assigned_poles: Vec<Complex64>,
+    /// Requested poles left unassigned because fixed modes take their place.
+    pub not_assigned: Vec<Complex64>,
+    /// Uncontrollable modes (they stay where they are).
+    pub fixed_modes: Vec<Complex64>,
+    /// Largest `|λ_achieved − λ_requested| / |λ_requested|` over a one-to-one matching
+    /// (absolute for a requested pole at 0), including fixed modes against themselves.
+    pub max_pole_error: f64,
+    /// `κ₂(X)` of the unit-column eigenvector matrix of the assigned part.
+    pub eigenvector_condition: f64,
+    /// `|det X|` with unit columns (1 is the ideal: orthonormal eigenvectors).
+    pub abs_det_x: f64,
+    /// `‖K‖₂`.
+    pub gain_norm: f64,
+    /// Sweeps used (0 for one input or rank B = n).
+    pub iterations: usize,
+    /// Whether the sweeps met the improvement tolerance (true when no sweep was needed).
+    pub converged: bool,
+    /// Numerical rank of `B`.
+    pub input_rank: usize,
+}
+
+#[derive(Debug, Clone, Copy)]
+enum Slot {
+    Real(usize),
+    Pair(usize),
+}
+
+/// State-feedback gain placing the eigenvalues of `A − B K` at `poles`.
+///
+/// `poles` must have `n` entries (or exactly as many as the controllable
+/// subspace has dimensions), complex ones in conjugate pairs.
+///
+/// # Errors
+/// See [`PlacementError`].
+pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Placement, PlacementError> {
+    let n = a.nrows();
+    check_conjugate_pairs(poles).map_err(|e| PlacementError::InvalidPoles { message: e.to_string() })?;
+    // Controllability via the staircase.
+    let m = b.ncols();
+    let mut ab = DMatrix::<f64>::zeros(n, n + m);
+    ab.columns_mut(0, n).copy_from(a);
+    ab.columns_mut(n, m).copy_from(b);
+    let scale = try_norm2(&ab, SvdParams::default())?;
+    let st = staircase(a, b, params.controllability_tolerance * scale)?;
+    let nc = st.dimension;
+    if nc == n {
+        if poles.len() != n {
+            return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
+        }
+        let core = assign(a, b, poles, params)?;
+        return finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new());
+    }
+    // Uncontrollable: the fixed modes must be strictly stable.
+    let au = st.a.view((nc, nc), (n - nc, n - nc)).into_owned();
+    let fixed = try_eigenvalues(&au)?;
+    let anorm = try_norm2(a, SvdParams::default())?;
+    let axis_tol = params.controllability_tolerance * anorm.max(1.0);
+    if let Some(z) = fixed.iter().rev().find(|z| z.re >= -axis_tol) {
+        return Err(PlacementError::UncontrollableUnstableMode { pole: *z });
+    }
+    let (assigned, dropped) = if poles.len() == nc {
+        (poles.to_vec(), Vec::new())
+    } else if poles.len() == n {
+        split_for_fixed_modes(poles, &fixed).ok_or_else(|| PlacementError::FixedModesDoNotFit { fixed: fixed.clone(), controllable: nc })?
+    } else {
+        return Err(PlacementError::PoleCount { expected: n, controllable: nc, found: poles.len() });
+    };
+    let (gain_t, iterations, converged, cond, det, rank) = if nc == 0 {
+        (DMatrix::zeros(m, n), 0, true, 1.0, 1.0, 0)
+    } else {
+        let ac = st.a.view((0, 0), (nc, nc)).into_owned();
+        let bc = st.b.rows(0, nc).into_owned();
+        let core = assign(&ac, &bc, &assigned, params)?;
+        let mut g = DMatrix::zeros(m, n);
+        g.columns_mut(0, nc).copy_from(&core.gain);
+        (g, core.iterations, core.converged, core.condition, core.abs_det, core.rank)
+    };
+    // K in the original coordinates: K = [K_c 0] Tᵀ.
+    let gain = gain_t * st.transform.transpose();
+    let core = Core { gain, iterations, converged, condition: cond, abs_det: det, rank };
+    finish(a, b, core, assigned, dropped, fixed)
+}
+
+struct Core {
+    gain: DMatrix<f64>,
+    iterations: usize,
+    converged: bool,
+    condition: f64,
+    abs_det: f64,
+    rank: usize,
+}
+
+fn finish(
+    a: &DMatrix<f64>,
+    b: &DMatrix<f64>,
+    core: Core,
+    mut assigned: Vec<Complex64>,
+    mut not_assigned: Vec<Complex64>,
+    mut fixed: Vec<Complex64>,
+) -> Result<Placement, PlacementError> {
+    let closed = a - b * &core.gain;
+    let achieved = try_eigenvalues(&closed)?;
+    let mut target: Vec<Complex64> = assigned.iter().chain(fixed.iter()).cloned().collect();
+    sort_eigenvalues(&mut target);
+    let max_pole_error = max_matching_error(&target, &achieved, a.norm());
+    let gain_norm = try_norm2(&core.gain, SvdParams::default())?;
+    sort_eigenvalues(&mut assigned);
+    sort_eigenvalues(&mut not_assigned);
+    sort_eigenvalues(&mut fixed);
+    Ok(Placement {
+        gain: core.gain,
+        achieved_poles: achieved,
+        assigned_poles: assigned,
+        not_assigned,
+        fixed_modes: fixed,
+        max_pole_error,
+        eigenvector_condition: core.condition,
+        abs_det_x: core.abs_det,
+        gain_norm,
+        iterations: core.iterations,
+        converged: core.converged,
+        input_rank: core.rank,
+    })
+}
+
+/// Largest relative error over a greedy one-to-one matching of `requested` to `achieved`
+/// (closest pairs first). A requested pole at 0 is compared in absolute terms scaled by `scale`.
+pub fn max_matching_error(requested: &[Complex64], achieved: &[Complex64], scale: f64) -> f64 {
+    let mut pairs: Vec<(f64, usize, usize)> = Vec::with_capacity(requested.len() * achieved.len());
+    for (i, r) in requested.iter().enumerate() {
+        for (j, z) in achieved.iter().enumerate() {
+            pairs.push(((r - z).norm(), i, j));
+        }
+    }
+    pairs.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let mut used_r = vec![false; requested.len()];
+    let mut used_a = vec![false; achieved.len()];
+    let mut worst: f64 = 0.0;
+    let floor = (scale * f64::EPSILON).max(f64::MIN_POSITIVE);
+    let mut matched = 0;
+    for (d, i, j) in pairs {
+        if used_r[i] || used_a[j] {
+            continue;
+        }
+        used_r[i] = true;
+        used_a[j] = true;
+        matched += 1;
+        let denom = requested[i].norm().max(floor);
+        worst = worst.max(d / denom);
+    }
+    if matched < requested.len() {
+        return f64::INFINITY;
+    }
+    worst
+}
+
+/// Splits `n` requested poles into those assigned to the controllable part and those displaced
+/// by the fixed modes (nearest first, keeping conjugate pairs together).
+fn split_for_fixed_modes(poles: &[Complex64], fixed: &[Complex64]) -> Option<(Vec<Complex64>, Vec<Complex64>)> {
+    let mut remaining: Vec<Complex64> = poles.to_vec();
+    let mut dropped = Vec::new();
+    let take = |remaining: &mut Vec<Complex64>, dropped: &mut Vec<Complex64>, value: Complex64| {
+        if let Some(i) = remaining.iter().position(|z| *z == value) {
+            dropped.push(remaining.remove(i));
+        }
+    };
+    let mut fixed_reals: Vec<Complex64> = fixed.iter().filter(|z| z.im == 0.0).cloned().collect();
+    let fixed_pairs: Vec<Complex64> = fixed.iter().filter(|z| z.im > 0.0).cloned().collect();
+    for fp in fixed_pairs {
+        // Prefer a requested complex pair; else two real poles.
+        let best_pair = remaining.iter().filter(|z| z.im > 0.0).min_by(|x, y| (*x - fp).norm().total_cmp(&(*y - fp).norm())).cloned();
+        if let Some(p) = best_pair {
+            take(&mut remaining, &mut dropped, p);
+            take(&mut remaining, &mut dropped, p.conj());
+            continue;
+        }
+        for _ in 0..2 {
+            let best = remaining.iter().filter(|z| z.im == 0.0).min_by(|x, y| (*x - fp).norm().total_cmp(&(*y - fp).norm())).cloned()?;
+            take(&mut remaining, &mut dropped, best);
+        }
+    }
+    while let Some(fr) = fixed_reals.pop() {
+        if let Some(best) = remaining.iter().filter(|z| z.im == 0.0).min_by(|x, y| (*x - fr).norm().total_cmp(&(*y - fr).norm())).cloned() {
+            take(&mut remaining, &mut dropped, best);
+            continue;
+        }
+        // Two fixed real modes may displace one requested pair.
+        let other = fixed_reals.pop()?;
+        let mid = (fr + other) * 0.5;
+        let p = remaining.iter().filter(|z| z.im > 0.0).min_by(|x, y| (*x - mid).norm().total_cmp(&(*y - mid).norm())).cloned()?;
+        take(&mut remaining, &mut dropped, p);
+        take(&mut remaining, &mut dropped, p.conj());
+    }
+    if dropped.len() != fixed.len() {
+        return None;
+    }
+    Some((remaining, dropped))
+}
+
+struct Assigned {
+    gain: DMatrix<f64>,
+    iterations: usize,
+    converged: bool,
+    condition: f64,
+    abs_det: f64,
+    rank: usize,
+}
+
+impl From<Assigned> for Core {
+    fn from(a: Assigned) -> Core {
+        Core { gain: a.gain, iterations: a.iterations, converged: a.converged, condition: a.condition, abs_det: a.abs_det, rank: a.rank }
+    }
+}
+
+fn to_complex(m: &DMatrix<f64>) -> DMatrix<Complex64> {
+    m.map(|v| Complex64::new(v, 0.0))
+}
+
+/// Eigenstructure assignment for a pair with no uncontrollable mode among the requested poles.
+fn assign(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Core, PlacementError> {
+    assign_inner(a, b, poles, params).map(Core::from)
+}
+
+fn assign_inner(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Assigned, PlacementError> {
+    let n = a.nrows();
+    // 1. Rank of B and the bases U_r, U₁.
+    let svd = try_svd(b, SvdParams::default())?;
+    let smax = svd.singular_values.iter().cloned().fold(0.0, f64::max);
+    let r = svd.singular_values.iter().filter(|&&s| s > params.rank_tolerance * smax && s > 0.0).count();
+    if r == 0 {
+        return Err(PlacementError::Numerical { message: "B has rank 0".into() });
+    }
+    let ur = svd.u.columns(0, r).into_owned();
+    let (qb, _) = full_qr(&ur);
+    let u1 = qb.columns(r, n - r).into_owned();
+
+    // 2. Slots: real poles first, then conjugate pairs (positive imaginary part first).
+    let mut ordered: Vec<Complex64> = poles.iter().filter(|z| z.im == 0.0).cloned().collect();
+    ordered.sort_by(|x, y| x.re.total_cmp(&y.re));
+    let mut pairs: Vec<Complex64> = poles.iter().filter(|z| z.im > 0.0).cloned().collect();
+    pairs.sort_by(|x, y| x.re.total_cmp(&y.re).then(x.im.total_cmp(&y.im)));
+    let mut slots = Vec::new();
+    for j in 0..ordered.len() {
+        slots.push(Slot::Real(j));
+    }
+    for p in pairs {
+        slots.push(Slot::Pair(ordered.len()));
+        ordered.push(p);
+        ordered.push(p.conj());
+    }
+    if ordered.len() != n {
+        return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
+    }
+    // Multiplicities.
+    for (i, z) in ordered.iter().enumerate() {
+        let count = ordered.iter().filter(|w| *w == z).count();
+        if count > r && ordered[..i].iter().all(|w| w != z) {
+            return Err(PlacementError::RepeatedBeyondRank { pole: *z, multiplicity: count, rank: r });
+        }
+    }
+
+    // 3. Admissible subspaces S_j (n × r), shared by equal poles; the conjugate column uses conj(S).
+    let mut subspaces: Vec<DMatrix<Complex64>> = Vec::with_capacity(slots.len());
+    let mut cache: Vec<(Complex64, usize)> = Vec::new();
+    for slot in &slots {
+        let lambda = match *slot {
+            Slot::Real(j) | Slot::Pair(j) => ordered[j],
+        };
+        if let Some(&(_, k)) = cache.iter().find(|(z, _)| *z == lambda) {
+            let s = subspaces[k].clone();
+            subspaces.push(s);
+            continue;
+        }
+        let s = admissible_subspace(a, &u1, lambda, r);
+        cache.push((lambda, subspaces.len()));
+        subspaces.push(s);
+    }
+
+    // 4. Several starting guesses; each is refined by sweeps and the best-conditioned result kept
+    // (|det X| has local maxima, and a larger |det X| does not always mean a smaller κ₂(X)).
+    let mut starts: Vec<DMatrix<Complex64>> = Vec::new();
+    starts.extend(initial_x(&slots, &subspaces, &ordered, &qb));
+    starts.extend(initial_x_sum(&slots, &subspaces, &ordered, n));
+    if r > 1 {
+        starts.extend(initial_x_seeded(&slots, &subspaces, &ordered, n, 0x5DEECE66D));
+    }
+    let mut best: Option<(DMatrix<Complex64>, DMatrix<Complex64>, f64, usize, bool)> = None;
+    let mut total_sweeps = 0;
+    for x0 in starts {
+        let Some(x_inv0) = invert(&x0) else { continue };
+        let (x, x_inv, sweeps, converged) = if r > 1 { refine(x0, x_inv0, &slots, &subspaces, params)? } else { (x0, x_inv0, 0, true) };
+        total_sweeps += sweeps;
+        let kappa = try_condition_number(&x, SvdParams::default())?;
+        if best.as_ref().is_none_or(|b| kappa < b.2) {
+            best = Some((x, x_inv, kappa, sweeps, converged));
+        }
+        if r == 1 {
+            break; // X is unique up to column scaling.
+        }
+    }
+    let Some((x, _x_inv, condition, _best_sweeps, converged)) = best else {
+        return Err(PlacementError::Numerical {
+            message: "no independent set of closed-loop eigenvectors was found; the requested poles may coincide with uncontrollable or nearly uncontrollable modes".into(),
+        });
+    };
+    let iterations = total_sweeps;
+
+    // 6. Gain: K X = V_r Σ_r⁻¹ U_rᵀ (A X − X Λ), solved with X rather than through an explicit
+    // inverse (which would square the effect of κ(X) on the rounding errors).
+    let mut xl = x.clone();
+    for (j, z) in ordered.iter().enumerate() {
+        let mut col = xl.column_mut(j);
+        col *= *z;
+    }
+    let sigma_inv = DMatrix::from_diagonal(&svd.singular_values.rows(0, r).map(|s| 1.0 / s));
+    let vr = svd.v_adjoint.rows(0, r).transpose();
+    let left = to_complex(&(vr * sigma_inv * ur.transpose()));
+    let g = &left * (to_complex(a) * &x - &xl); // m × n
+    let xt_lu = x.transpose().lu();
+    let gain_c = xt_lu.solve(&g.transpose()).ok_or_else(|| PlacementError::Numerical { message: "the eigenvector matrix is singular".into() })?;
+    let gain_direct = gain_c.transpose().map(|z| z.re);
+    // Second route, K = V_r Σ_r⁻¹ U_rᵀ (A − M) with M = X Λ X⁻¹ from a solve. The two differ
+    // only in rounding; when X is ill conditioned one can be markedly better, so both are
+    // checked against the request through the eigenvalues of A − B K and the better one kept.
+    let mut gain = gain_direct;
+    if let Some(mt) = xt_lu.solve(&xl.transpose()) {
+        let m_real = mt.transpose().map(|z| z.re);
+        let gain_m = (&left).map(|z| z.re) * (a - m_real);
+        if gain_m.iter().all(|v| v.is_finite()) {
+            let err_direct = try_eigenvalues(&(a - b * &gain)).map(|e| max_matching_error(&ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
+            let err_m = try_eigenvalues(&(a - b * &gain_m)).map(|e| max_matching_error(&ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
+            if err_m < err_direct {
+                gain = gain_m;
+            }
+        }
+    }
+    let det = abs_det(&x);
+    if !gain.iter().all(|v| v.is_finite()) {
+        return Err(PlacementError::Numerical { message: "the gain is not finite".into() });
+    }
+    Ok(Assigned { gain, iterations, converged, condition, abs_det: det, rank: r })
+}
+
+/// KNV/Tits–Yang sweeps from a starting `X` (with its inverse); returns the refined `X`, `X⁻¹`,
+/// the sweeps used and whether the improvement tolerance was met.
+fn refine(
+    mut x: DMatrix<Complex64>,
+    mut x_inv: DMatrix<Complex64>,
+    slots: &[Slot],
+    subspaces: &[DMatrix<Complex64>],
+    params: PlacementParams,
+) -> Result<(DMatrix<Complex64>, DMatrix<Complex64>, usize, bool), PlacementError> {
+    let mut iterations = 0;
+    let mut converged = false;
+    let kappa0 = try_condition_number(&x, SvdParams::default())?;
+    let mut best = (x.clone(), x_inv.clone(), kappa0);
+    for _ in 0..params.max_sweeps {
+        iterations += 1;
+        let mut log_gain = 0.0;
+        for (k, slot) in slots.iter().enumerate() {
+            let s = &subspaces[k];
+            match *slot {
+                Slot::Real(j) => {
+                    let y = row_adjoint(&x_inv, j);
+                    let mut v = project(s, &y);
+                    for z in v.iter_mut() {
+                        z.im = 0.0;
+                    }
+                    if let Some(ratio) = replace_column(&mut x, &mut x_inv, j, v) {
+                        log_gain += ratio.ln();
+                    }
+                }
+                Slot::Pair(j) => {
+                    let y = row_adjoint(&x_inv, j);
+                    let v = best_pair_vector(s, &y).unwrap_or_else(|| project(s, &y));
+                    let saved = (x.column(j).into_owned(), x.column(j + 1).into_owned(), x_inv.clone());
+                    let r1 = replace_column(&mut x, &mut x_inv, j, v.clone());
+                    let r2 = r1.and_then(|_| replace_column(&mut x, &mut x_inv, j + 1, v.map(|z| z.conj())));
+                    match (r1, r2) {
+                        (Some(a1), Some(a2)) if a1 * a2 >= 1.0 => log_gain += (a1 * a2).ln(),
+                        _ => {
+                            x.set_column(j, &saved.0);
+                            x.set_column(j + 1, &saved.1);
+                            x_inv = saved.2;
+                        }
+                    }
+                }
+            }
+        }
+        // Refactor X⁻¹ to stop rounding drift in the rank-one updates.
+        match invert(&x) {
+            Some(inv) => x_inv = inv,
+            None => return Err(PlacementError::Numerical { message: "the eigenvector matrix became singular".into() }),
+        }
+        if log_gain < params.improvement_tolerance {
+            converged = true;
+            break;
+        }
+        // Every few sweeps, keep the best-conditioned X seen and stop once κ₂(X) stalls.
+        if iterations % params.condition_check_interval == 0 {
+            let kappa = try_condition_number(&x, SvdParams::default())?;
+            let stalled = kappa > best.2 * (1.0 - params.condition_stall_tolerance);
+            if kappa < best.2 {
+                best = (x.clone(), x_inv.clone(), kappa);
+            }
+            if stalled {
+                converged = true;
+                break;
+            }
+        }
+    }
+    let kappa = try_condition_number(&x, SvdParams::default())?;
+    if kappa <= best.2 {
+        Ok((x, x_inv, iterations, converged))
+    } else {
+        Ok((best.0, best.1, iterations, converged))
+    }
+}
+
+/// `null(U₁ᵀ (A − λ I))`, `n × r`, orthonormal columns.
+fn admissible_subspace(a: &DMatrix<f64>, u1: &DMatrix<f64>, lambda: Complex64, r: usize) -> DMatrix<Complex64> {
+    let n = a.nrows();
+    if u1.ncols() == 0 {
+        return DMatrix::identity(n, n);
+    }
+    if lambda.im == 0.0 {
+        // (A − λI)ᵀ U₁, real arithmetic.
+        let mut w = a.transpose() * u1;
+        for i in 0..n {
+            for j in 0..u1.ncols() {
+                w[(i, j)] -= lambda.re * u1[(i, j)];
+            }
+        }
+        let (q, _) = full_qr(&w);
+        to_complex(&q.columns(n - r, r).into_owned())
+    } else {
+        // (A − λI)ᴴ U₁ = (Aᵀ − λ̄ I) U₁.
+        let at_u1 = to_complex(&(a.transpose() * u1));
+        let mut w = at_u1;
+        let lc = lambda.conj();
+        for i in 0..n {
+            for j in 0..u1.ncols() {
+                w[(i, j)] -= lc * u1[(i, j)];
+            }
+        }
+        let (q, _) = full_qr(&w);
+        q.columns(n - r, r).into_owned()
+    }
+}
+
+/// The unit `x ∈ range S` maximising `|det X|` when the conjugate columns `x, x̄` replace a pair.
+///
+/// The complement of the other `n − 2` columns is spanned by `y` and `ȳ` (rows of `X⁻¹`), so it
+/// has a real orthonormal basis `Y`. With `g = Yᵀ x = G c` (`G = Yᵀ S`, `x = S c`),
+/// `|det X| ∝ |det [Re g, Im g]| = |Im(ḡ₁ g₂)| = |cᴴ Gᴴ J G c|` with the Hermitian
+/// `J = [[0, −i/2], [i/2, 0]]`: a Hermitian quadratic form, maximised in modulus by the
+/// eigenvector of its largest-modulus eigenvalue, `c = Gᴴ w` with `J G Gᴴ w = μ w` (2 × 2).
+fn best_pair_vector(s: &DMatrix<Complex64>, y: &DVector<Complex64>) -> Option<DVector<Complex64>> {
+    let n = y.len();
+    let yr = DVector::from_iterator(n, y.iter().map(|z| z.re));
+    let yi = DVector::from_iterator(n, y.iter().map(|z| z.im));
+    let n1 = yr.norm().max(yi.norm());
+    if !(n1 > 0.0) {
+        return None;
+    }
+    let (e1, e2) = {
+        let (p, q) = if yr.norm() >= yi.norm() { (yr, yi) } else { (yi, yr) };
+        let e1 = &p / p.norm();
+        let q = &q - &e1 * e1.dot(&q);
+        let qn = q.norm();
+        if !(qn > 1e-8 * n1) {
+            return None;
+        }
+        (e1, q / qn)
+    };
+    // G = Yᵀ S, 2 × r.
+    let r = s.ncols();
+    let mut g = DMatrix::<Complex64>::zeros(2, r);
+    for c in 0..r {
+        let col = s.column(c);
+        let mut d1 = Complex64::new(0.0, 0.0);
+        let mut d2 = Complex64::new(0.0, 0.0);
+        for i in 0..n {
+            d1 += col[i] * e1[i];
+            d2 += col[i] * e2[i];
+        }
+        g[(0, c)] = d1;
+        g[(1, c)] = d2;
+    }
+    let nn = &g * g.adjoint(); // 2 × 2 Hermitian
+    let half_i = Complex64::new(0.0, 0.5);
+    // J N with J = [[0, −i/2], [i/2, 0]].
+    let p = -half_i * nn[(1, 0)];
+    let q = -half_i * nn[(1, 1)];
+    let s_ = half_i * nn[(0, 0)];
+    let t = half_i * nn[(0, 1)];
+    let tr = p + t;
+    let det = p * t - q * s_;
+    let disc = (tr * tr - det * 4.0).sqrt();
+    let mu1 = (tr + disc) * 0.5;
+    let mu2 = (tr - disc) * 0.5;
+    let mu = if mu1.norm() >= mu2.norm() { mu1 } else { mu2 };
+    let w1 = DVector::from_vec(vec![q, mu - p]);
+    let w2 = DVector::from_vec(vec![mu - t, s_]);
+    let w = if w1.norm() >= w2.norm() { w1 } else { w2 };
+    if !(w.norm() > 0.0) {
+        return None;
+    }
+    let c = g.adjoint() * w;
+    let x = s * c;
+    let xn = x.norm();
+    if xn > 0.0 && xn.is_finite() {
+        Some(x / Complex64::new(xn, 0.0))
+    } else {
+        None
+    }
+}
+
+fn project(s: &DMatrix<Complex64>, y: &DVector<Complex64>) -> DVector<Complex64> {
+    s * (s.adjoint() * y)
+}
+
+/// `X⁻ᴴ e_j` as a column: the conjugated row `j` of `X⁻¹`.
+fn row_adjoint(x_inv: &DMatrix<Complex64>, j: usize) -> DVector<Complex64> {
+    x_inv.row(j).adjoint()
+}
+
+/// Replaces column `j` of `X` by the normalised `v`, updating `X⁻¹` (Sherman–Morrison).
+/// Returns `|det X_new| / |det X_old|`, or `None` (nothing changed) if `v` is negligible
+/// or the update would be singular.
+fn replace_column(x: &mut DMatrix<Complex64>, x_inv: &mut DMatrix<Complex64>, j: usize, v: DVector<Complex64>) -> Option<f64> {
+    let norm = v.norm();
+    if !(norm > 1e-300) || !norm.is_finite() {
+        return None;
+    }
+    let v = v / Complex64::new(norm, 0.0);
+    let u = &v - x.column(j);
+    let w = &*x_inv * &u; // X⁻¹ u
+    let denom = Complex64::new(1.0, 0.0) + w[j];
+    let ratio = denom.norm();
+    if !(ratio > 1e-12) || !ratio.is_finite() {
+        return None;
+    }
+    let row = x_inv.row(j).into_owned();
+    *x_inv -= (&w * &row) / denom;
+    x.set_column(j, &v);
+    Some(ratio)
+}
+
+fn invert(x: &DMatrix<Complex64>) -> Option<DMatrix<Complex64>> {
+    let inv = x.clone().lu().try_inverse()?;
+    if inv.iter().all(|z| z.re.is_finite() && z.im.is_finite()) {
+        Some(inv)
+    } else {
+        None
+    }
+}
+
+fn abs_det(x: &DMatrix<Complex64>) -> f64 {
+    x.clone().lu().determinant().norm()
+}
+
+fn normalise(v: DVector<Complex64>) -> Option<DVector<Complex64>> {
+    let norm = v.norm();
+    if norm > 1e-300 && norm.is_finite() {
+        Some(v / Complex64::new(norm, 0.0))
+    } else {
+        None
+    }
+}
+
+/// Initial guess: project spread-out orthonormal vectors (the columns of `[U_r U₁]`) onto each `S_j`.
+fn initial_x(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &[Complex64], qb: &DMatrix<f64>) -> Option<DMatrix<Complex64>> {
+    let n = ordered.len();
+    let q = to_complex(qb);
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    let inv_sqrt2 = Complex64::new(std::f64::consts::FRAC_1_SQRT_2, 0.0);
+    for (k, slot) in slots.iter().enumerate() {
+        let s = &subspaces[k];
+        match *slot {
+            Slot::Real(j) => {
+                let mut v = project(s, &q.column(j).into_owned());
+                for z in v.iter_mut() {
+                    z.im = 0.0;
+                }
+                let v = normalise(v)?;
+                x.set_column(j, &v);
+            }
+            Slot::Pair(j) => {
+                let target = (q.column(j) + q.column(j + 1) * Complex64::new(0.0, 1.0)) * inv_sqrt2;
+                let v = normalise(project(s, &target.into_owned()))?;
+                x.set_column(j, &v);
+                x.set_column(j + 1, &v.map(|z| z.conj()));
+            }
+        }
+    }
+    Some(x)
+}
+
+/// Initial guess: the normalised sum of each subspace's basis vectors, with repeated poles
+/// taking successive basis vectors instead so that their columns are independent.
+fn initial_x_sum(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &[Complex64], n: usize) -> Option<DMatrix<Complex64>> {
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for (k, slot) in slots.iter().enumerate() {
+        let s = &subspaces[k];
+        let j = match *slot {
+            Slot::Real(j) | Slot::Pair(j) => j,
+        };
+        let copy = ordered[..j].iter().filter(|z| **z == ordered[j]).count();
+        let v = if copy == 0 {
+            let mut sum = DVector::<Complex64>::zeros(n);
+            for c in 0..s.ncols() {
+                sum += s.column(c);
+            }
+            sum
+        } else {
+            s.column(copy % s.ncols()).into_owned()
+        };
+        let mut v = normalise(v)?;
+        if let Slot::Real(_) = slot {
+            for z in v.iter_mut() {
+                z.im = 0.0;
+            }
+            v = normalise(v)?;
+        }
+        x.set_column(j, &v);
+        if let Slot::Pair(_) = slot {
+            x.set_column(j + 1, &v.map(|z| z.conj()));
+        }
+    }
+    Some(x)
+}
+
+/// Initial guess: projections of seeded pseudo-random vectors (a third start for the sweeps).
+fn initial_x_seeded(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &[Complex64], n: usize, seed: u64) -> Option<DMatrix<Complex64>> {
+    let mut state = seed | 1;
+    let mut next = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+    };
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for (k, slot) in slots.iter().enumerate() {
+        let s = &subspaces[k];
+        let c = DVector::from_fn(s.ncols(), |_, _| Complex64::new(next(), match slot { Slot::Real(_) => 0.0, Slot::Pair(_) => next() }));
+        let mut v = s * c;
+        if let Slot::Real(_) = slot {
+            for z in v.iter_mut() {
+                z.im = 0.0;
+            }
+        }
+        let v = normalise(v)?;
+        match *slot {
+            Slot::Real(j) => x.set_column(j, &v),
+            Slot::Pair(j) => {
+                x.set_column(j, &v);
+                x.set_column(j + 1, &v.map(|z| z.conj()));
+            }
+        }
+    }
+    let _ = ordered;
+    Some(x)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn c(re: f64, im: f64) -> Complex64 {
+        Complex64::new(re, im)
+    }
+
+    #[test]
+    fn third_order_textbook_example() {
+        // Ogata, Modern Control Engineering, pole-placement example (from memory; checkable
+        // by hand): det(sI − A + BK) = s³ + (6+k3)s² + (5+k2)s + (1+k1) = (s+10)(s²+4s+20).
+        let a = DMatrix::from_row_slice(3, 3, &[0.0, 1.0, 0.0, 0.0, 0.0, 1.0, -1.0, -5.0, -6.0]);
+        let b = DMatrix::from_row_slice(3, 1, &[0.0, 0.0, 1.0]);
+        let p = state_feedback_gain(&a, &b, &[c(-2.0, 4.0), c(-2.0, -4.0), c(-10.0, 0.0)], PlacementParams::default()).unwrap();
+        let expected = [199.0, 55.0, 8.0];
+        for j in 0..3 {
+            assert!((p.gain[(0, j)] - expected[j]).abs() < 1e-10 * expected[j], "{}", p.gain);
+        }
+        assert!(p.max_pole_error < 1e-12);
+        assert_eq!(p.iterations, 0);
+    }
+
+    #[test]
+    fn full_rank_input_gives_orthonormal_eigenvectors() {
+        let a = DMatrix::from_row_slice(2, 2, &[1.0, 2.0, 3.0, 4.0]);
+        let b = DMatrix::identity(2, 2);
+        let p = state_feedback_gain(&a, &b, &[c(-1.0, 2.0), c(-1.0, -2.0)], PlacementParams::default()).unwrap();
+        assert!(p.max_pole_error < 1e-13);
+        assert!((p.eigenvector_condition - 1.0).abs() < 1e-10, "{}", p.eigenvector_condition);
+    }
+
+    #[test]
+    fn repeated_pole_limits() {
+        let a = DMatrix::from_row_slice(3, 3, &[0.0, 1.0, 0.0, 0.0, 0.0, 1.0, 1.0, 2.0, 3.0]);
+        let b = DMatrix::from_row_slice(3, 2, &[0.0, 0.0, 1.0, 0.0, 0.0, 1.0]);
+        let ok = state_feedback_gain(&a, &b, &[c(-1.0, 0.0), c(-1.0, 0.0), c(-3.0, 0.0)], PlacementParams::default()).unwrap();
+        assert!(ok.max_pole_error < 1e-8, "{}", ok.max_pole_error);
+        let e = state_feedback_gain(&a, &b, &[c(-1.0, 0.0); 3], PlacementParams::default()).unwrap_err();
+        assert!(matches!(e, PlacementError::RepeatedBeyondRank { multiplicity: 3, rank: 2, .. }), "{e:?}");
+    }
+
+    #[test]
+    fn dependent_input_columns_use_the_rank() {
+        let a = DMatrix::from_row_slice(2, 2, &[0.0, 1.0, -2.0, -0.5]);
+        let b = DMatrix::from_row_slice(2, 2, &[0.0, 0.0, 1.0, 2.0]);
+        let p = state_feedback_gain(&a, &b, &[c(-3.0, 0.0), c(-4.0, 0.0)], PlacementParams::default()).unwrap();
+        assert_eq!(p.input_rank, 1);
+        assert!(p.max_pole_error < 1e-12);
+    }
+
+    #[test]
+    fn uncontrollable_stable_mode_is_left_in_place() {
+        // x1' = -2 x1 (no input), x2' = x2 + u.
+        let a = DMatrix::from_row_slice(2, 2, &[-2.0, 0.0, 0.0, 1.0]);
+        let b = DMatrix::from_row_slice(2, 1, &[0.0, 1.0]);
+        let p = state_feedback_gain(&a, &b, &[c(-3.0, 0.0), c(-5.0, 0.0)], PlacementParams::default()).unwrap();
+        assert_eq!(p.fixed_modes.len(), 1);
+        assert!((p.fixed_modes[0].re + 2.0).abs() < 1e-12);
+        assert_eq!(p.not_assigned, vec![c(-3.0, 0.0)]);
+        assert!(p.achieved_poles.iter().any(|z| (z.re + 5.0).abs() < 1e-10));
+        // With an unstable uncontrollable mode it must fail, naming the mode.
+        let a = DMatrix::from_row_slice(2, 2, &[2.0, 0.0, 0.0, 1.0]);
+        let e = state_feedback_gain(&a, &b, &[c(-3.0, 0.0), c(-5.0, 0.0)], PlacementParams::default()).unwrap_err();
+        assert!(e.to_string().contains("mode at 2"), "{e}");
+    }
+
+    #[test]
+    fn wrong_count_and_unpaired() {
+        let a = DMatrix::from_row_slice(2, 2, &[0.0, 1.0, 0.0, 0.0]);
+        let b = DMatrix::from_row_slice(2, 1, &[0.0, 1.0]);
+        assert!(matches!(state_feedback_gain(&a, &b, &[c(-1.0, 0.0)], PlacementParams::default()), Err(PlacementError::PoleCount { .. })));
+        assert!(matches!(
+            state_feedback_gain(&a, &b, &[c(-1.0, 1.0), c(-2.0, 0.0)], PlacementParams::default()),
+            Err(PlacementError::InvalidPoles { .. })
+        ));
+    }
+}
