@@ -210,6 +210,14 @@ fn has_interior_sign(chars: &[char]) -> bool {
 /// See the [module documentation](self) for the accepted grammar. Poles are returned
 /// in the order written, a `±` pair giving the positive imaginary part first.
 pub fn parse_poles(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
+    let poles = parse_pole_items(text)?;
+    check_conjugate_pairs(&poles).map_err(PoleParseError::Unpaired)?;
+    Ok(poles)
+}
+
+/// Parses a pole list without the conjugate-pair check (for callers that assemble a list
+/// from several pieces and check the whole).
+pub fn parse_pole_items(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
     let chars: Vec<char> = text.chars().collect();
     let lexemes = lex(&chars);
     let mut poles = Vec::new();
@@ -282,7 +290,6 @@ pub fn parse_poles(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
     if poles.is_empty() {
         return Err(PoleParseError::Empty);
     }
-    check_conjugate_pairs(&poles).map_err(PoleParseError::Unpaired)?;
     Ok(poles)
 }
 

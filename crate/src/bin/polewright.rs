@@ -1,0 +1,181 @@
+//! The `polewright` command line: the same design core as the page.
+
+use std::io::{Read, Write};
+use std::process::ExitCode;
+
+use polewright::design::{self, DesignError};
+
+const HELP: &str = "\
+polewright — state-feedback design: controllability diagnostics, robust pole placement,
+closed-loop response. Convention: u = -K x.
+
+USAGE:
+    polewright design FILE.json     design from a file and write the result JSON to stdout
+    polewright design -             read the design file from standard input
+    polewright serve [FILE] [--port N]
+                                    serve the page (default dist/polewright.html) on
+                                    http://127.0.0.1:N/ (default port 8765) until stopped
+    polewright --help | --version
+
+DESIGN FILE (JSON, format \"polewright.design\", version 1):
+    { \"format\": \"polewright.design\", \"version\": 1,
+      \"plant\": { \"a\": [[0, 1], [0, 0]], \"b\": [[0], [1]],
+                 \"c\": [[1, 0]], \"d\": [[0]],                (optional)
+                 \"state_names\": [\"position\", \"velocity\"],  (optional; also input_names,
+                 \"state_units\": [\"m\", \"m/s\"] },            output_names, *_units)
+      \"feedback\": { \"poles\": [[-2, 1], [-2, -1]] },       ([re, im], numbers or \"-2±1j\")
+      \"actuators\": { \"limit\": [5.0] },                   (optional, one per input)
+      \"simulation\": { \"initial_state\": [0.1, 0],          (optional; default: 1 in the
+                      \"duration\": 5.0, \"band\": 0.02 } }     first state, horizon from the
+                                                            slowest pole, 2 % band)
+    Matrices may also be text: one row per line, entries separated by spaces, tabs or commas.
+
+EXIT STATUS:
+    0  the design succeeded (warnings, if any, are in the result)
+    1  the design cannot be done as asked (for example an unstable mode that no input
+       reaches); the reason is printed on standard error
+    2  invalid input; the message names the field, the cause and what to change
+
+CAUTION: a design aid, not a safety function. Verify every gain independently before
+use on real equipment; limits, emergency stops and trips must stay independent of this
+controller; follow local codes, the applicable functional-safety standards (e.g.
+IEC 61508, ISO 13849) and licensed engineering practice.
+";
+
+fn main() -> ExitCode {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    // A panic here would be a bug: report it as such instead of a bare abort.
+    match std::panic::catch_unwind(|| run(&args)) {
+        Ok(code) => code,
+        Err(_) => {
+            eprintln!("polewright: internal error (please report it with the input that caused it)");
+            ExitCode::from(3)
+        }
+    }
+}
+
+fn run(args: &[String]) -> ExitCode {
+    match args.first().map(String::as_str) {
+        None | Some("-h") | Some("--help") | Some("help") => {
+            print!("{HELP}");
+            ExitCode::SUCCESS
+        }
+        Some("-V") | Some("--version") => {
+            println!("polewright {}", env!("CARGO_PKG_VERSION"));
+            ExitCode::SUCCESS
+        }
+        Some("design") => design_command(&args[1..]),
+        Some("serve") => serve_command(&args[1..]),
+        Some(other) => {
+            eprintln!("polewright: unknown command \"{other}\"; try `polewright --help`");
+            ExitCode::from(2)
+        }
+    }
+}
+
+fn design_command(args: &[String]) -> ExitCode {
+    let [source] = args else {
+        eprintln!("polewright: `design` takes one argument, a design file or - for standard input");
+        return ExitCode::from(2);
+    };
+    let text = if source == "-" {
+        let mut s = String::new();
+        if let Err(e) = std::io::stdin().read_to_string(&mut s) {
+            eprintln!("polewright: cannot read standard input: {e}");
+            return ExitCode::from(2);
+        }
+        s
+    } else {
+        match std::fs::read_to_string(source) {
+            Ok(s) => s,
+            Err(e) => {
+                eprintln!("polewright: cannot read {source}: {e}");
+                return ExitCode::from(2);
+            }
+        }
+    };
+    match design::run_text(&text) {
+        Ok(result) => match serde_json::to_string_pretty(&result) {
+            Ok(json) => {
+                let mut out = std::io::stdout().lock();
+                if writeln!(out, "{json}").is_err() {
+                    return ExitCode::from(1);
+                }
+                ExitCode::SUCCESS
+            }
+            Err(e) => {
+                eprintln!("polewright: cannot write the result: {e}");
+                ExitCode::from(1)
+            }
+        },
+        Err(DesignError::Input(e)) => {
+            eprintln!("polewright: invalid input: {e}");
+            ExitCode::from(2)
+        }
+        Err(DesignError::Infeasible { message }) => {
+            eprintln!("polewright: the design cannot be done as asked: {message}");
+            ExitCode::from(1)
+        }
+    }
+}
+
+/// A minimal static server for the one-file page, bound to the loopback address only.
+fn serve_command(args: &[String]) -> ExitCode {
+    let mut file = String::from("dist/polewright.html");
+    let mut port: u16 = 8765;
+    let mut i = 0;
+    while i < args.len() {
+        if args[i] == "--port" {
+            match args.get(i + 1).and_then(|p| p.parse().ok()) {
+                Some(p) => port = p,
+                None => {
+                    eprintln!("polewright: --port needs a number from 0 to 65535");
+                    return ExitCode::from(2);
+                }
+            }
+            i += 2;
+        } else {
+            file = args[i].clone();
+            i += 1;
+        }
+    }
+    let page = match std::fs::read(&file) {
+        Ok(p) => p,
+        Err(e) => {
+            eprintln!("polewright: cannot read {file}: {e} (build it with scripts/build-page)");
+            return ExitCode::from(2);
+        }
+    };
+    let listener = match std::net::TcpListener::bind(("127.0.0.1", port)) {
+        Ok(l) => l,
+        Err(e) => {
+            eprintln!("polewright: cannot listen on 127.0.0.1:{port}: {e}");
+            return ExitCode::from(1);
+        }
+    };
+    let bound = listener.local_addr().map(|a| a.port()).unwrap_or(port);
+    let abs = std::fs::canonicalize(&file).map(|p| p.display().to_string()).unwrap_or(file.clone());
+    println!("Polewright page: http://127.0.0.1:{bound}/");
+    println!("(or open the file directly: {abs})");
+    println!("Serving on the loopback address only; press Ctrl+C to stop.");
+    let _ = std::io::stdout().flush();
+    for stream in listener.incoming() {
+        let Ok(mut stream) = stream else { continue };
+        let mut buf = [0u8; 4096];
+        let n = stream.read(&mut buf).unwrap_or(0);
+        let request = String::from_utf8_lossy(&buf[..n]);
+        let target = request.split_whitespace().nth(1).unwrap_or("/");
+        let (status, body, kind): (&str, &[u8], &str) = if target == "/" || target == "/polewright.html" || target == "/index.html" {
+            ("200 OK", &page, "text/html; charset=utf-8")
+        } else {
+            ("404 Not Found", b"not found\n", "text/plain; charset=utf-8")
+        };
+        let header = format!(
+            "HTTP/1.1 {status}\r\nContent-Type: {kind}\r\nContent-Length: {}\r\nCache-Control: no-store\r\nX-Content-Type-Options: nosniff\r\nConnection: close\r\n\r\n",
+            body.len()
+        );
+        let _ = stream.write_all(header.as_bytes());
+        let _ = stream.write_all(body);
+    }
+    ExitCode::SUCCESS
+}
