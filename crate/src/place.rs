@@ -77,8 +77,13 @@ pub struct PlacementParams {
     pub rank_tolerance: f64,
     /// Relative rank tolerance of the staircase used for uncontrollable plants. Default `1e-10`.
     pub controllability_tolerance: f64,
-    /// Sweeps between checks of `κ₂(X)`. Default 20.
+    /// Sweeps between checks of `κ₂(X)`; also the length of the first stage in which every
+    /// starting guess is refined before only the best ones continue. Default 40.
     pub condition_check_interval: usize,
+    /// How many of the starting guesses continue after the first stage. Default 1.
+    pub finalists: usize,
+    /// Sweeps between refactorisations of `X⁻¹` (rank-one updates in between). Default 4.
+    pub refactor_interval: usize,
     /// Stop when `κ₂(X)` improved by less than this fraction since the last check. Default `1e-4`.
     pub condition_stall_tolerance: f64,
 }
@@ -90,7 +95,9 @@ impl Default for PlacementParams {
             improvement_tolerance: 1e-6,
             rank_tolerance: 1e-10,
             controllability_tolerance: 1e-10,
-            condition_check_interval: 20,
+            condition_check_interval: 40,
+            refactor_interval: 4,
+            finalists: 1,
             condition_stall_tolerance: 1e-4,
         }
     }
@@ -458,25 +465,40 @@ fn assign_inner(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params:
     if r > 1 {
         starts.extend(initial_x_seeded(&slots, &subspaces, &ordered, n, 0x5DEECE66D));
     }
-    let mut best: Option<(DMatrix<Complex64>, DMatrix<Complex64>, f64, usize, bool)> = None;
-    let mut total_sweeps = 0;
+    let mut runs: Vec<Refinement> = Vec::new();
     for x0 in starts {
         let Some(x_inv0) = invert(&x0) else { continue };
-        let (x, x_inv, sweeps, converged) = if r > 1 { refine(x0, x_inv0, &slots, &subspaces, params)? } else { (x0, x_inv0, 0, true) };
-        total_sweeps += sweeps;
-        let kappa = try_condition_number(&x, SvdParams::default())?;
-        if best.as_ref().is_none_or(|b| kappa < b.2) {
-            best = Some((x, x_inv, kappa, sweeps, converged));
-        }
+        runs.push(Refinement::new(x0, x_inv0)?);
         if r == 1 {
-            break; // X is unique up to column scaling.
+            break; // X is unique up to column scaling: nothing to refine.
         }
     }
-    let Some((x, _x_inv, condition, _best_sweeps, converged)) = best else {
+    if runs.is_empty() {
         return Err(PlacementError::Numerical {
             message: "no independent set of closed-loop eigenvectors was found; the requested poles may coincide with uncontrollable or nearly uncontrollable modes".into(),
         });
+    }
+    let mut total_sweeps = 0;
+    if r > 1 {
+        // Each start gets a first stage; the best-conditioned one is then refined to the end.
+        for run in runs.iter_mut() {
+            run.sweep(&slots, &subspaces, params, params.condition_check_interval)?;
+            total_sweeps += run.sweeps;
+        }
+        runs.sort_by(|p, q| p.best_kappa.total_cmp(&q.best_kappa));
+        runs.truncate(params.finalists.max(1));
+        for run in runs.iter_mut() {
+            let before = run.sweeps;
+            run.sweep(&slots, &subspaces, params, params.max_sweeps.saturating_sub(before))?;
+            total_sweeps += run.sweeps - before;
+        }
+        runs.sort_by(|p, q| q.best_kappa.total_cmp(&p.best_kappa));
+    }
+    let Some(best) = runs.pop() else {
+        return Err(PlacementError::Numerical { message: "no eigenvector matrix".into() });
     };
+    let converged = r == 1 || best.converged;
+    let (x, condition) = best.into_best();
     let iterations = total_sweeps;
 
     // 6. Gain: K X = V_r Σ_r⁻¹ U_rᵀ (A X − X Λ), solved with X rather than through an explicit
@@ -515,79 +537,92 @@ fn assign_inner(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params:
     Ok(Assigned { gain, iterations, converged, condition, abs_det: det, rank: r })
 }
 
-/// KNV/Tits–Yang sweeps from a starting `X` (with its inverse); returns the refined `X`, `X⁻¹`,
-/// the sweeps used and whether the improvement tolerance was met.
-fn refine(
-    mut x: DMatrix<Complex64>,
-    mut x_inv: DMatrix<Complex64>,
-    slots: &[Slot],
-    subspaces: &[DMatrix<Complex64>],
-    params: PlacementParams,
-) -> Result<(DMatrix<Complex64>, DMatrix<Complex64>, usize, bool), PlacementError> {
-    let mut iterations = 0;
-    let mut converged = false;
-    let kappa0 = try_condition_number(&x, SvdParams::default())?;
-    let mut best = (x.clone(), x_inv.clone(), kappa0);
-    for _ in 0..params.max_sweeps {
-        iterations += 1;
-        let mut log_gain = 0.0;
-        for (k, slot) in slots.iter().enumerate() {
-            let s = &subspaces[k];
-            match *slot {
-                Slot::Real(j) => {
-                    let y = row_adjoint(&x_inv, j);
-                    let mut v = project(s, &y);
-                    for z in v.iter_mut() {
-                        z.im = 0.0;
+/// KNV/Tits–Yang sweeps from one starting `X`, keeping the best-conditioned `X` seen.
+struct Refinement {
+    x: DMatrix<Complex64>,
+    x_inv: DMatrix<Complex64>,
+    best_x: DMatrix<Complex64>,
+    best_kappa: f64,
+    sweeps: usize,
+    converged: bool,
+}
+
+impl Refinement {
+    fn new(x: DMatrix<Complex64>, x_inv: DMatrix<Complex64>) -> Result<Self, PlacementError> {
+        let kappa = try_condition_number(&x, SvdParams::default())?;
+        Ok(Refinement { best_x: x.clone(), x, x_inv, best_kappa: kappa, sweeps: 0, converged: false })
+    }
+
+    fn into_best(self) -> (DMatrix<Complex64>, f64) {
+        (self.best_x, self.best_kappa)
+    }
+
+    /// Runs up to `budget` more sweeps (fewer if converged).
+    fn sweep(&mut self, slots: &[Slot], subspaces: &[DMatrix<Complex64>], params: PlacementParams, budget: usize) -> Result<(), PlacementError> {
+        let x = &mut self.x;
+        let x_inv = &mut self.x_inv;
+        for _ in 0..budget {
+            if self.converged {
+                break;
+            }
+            self.sweeps += 1;
+            let mut log_gain = 0.0;
+            for (k, slot) in slots.iter().enumerate() {
+                let s = &subspaces[k];
+                match *slot {
+                    Slot::Real(j) => {
+                        let y = row_adjoint(x_inv, j);
+                        let mut v = project(s, &y);
+                        for z in v.iter_mut() {
+                            z.im = 0.0;
+                        }
+                        if let Some(ratio) = replace_column(x, x_inv, j, v) {
+                            log_gain += ratio.ln();
+                        }
                     }
-                    if let Some(ratio) = replace_column(&mut x, &mut x_inv, j, v) {
-                        log_gain += ratio.ln();
-                    }
-                }
-                Slot::Pair(j) => {
-                    let y = row_adjoint(&x_inv, j);
-                    let v = best_pair_vector(s, &y).unwrap_or_else(|| project(s, &y));
-                    let saved = (x.column(j).into_owned(), x.column(j + 1).into_owned(), x_inv.clone());
-                    let r1 = replace_column(&mut x, &mut x_inv, j, v.clone());
-                    let r2 = r1.and_then(|_| replace_column(&mut x, &mut x_inv, j + 1, v.map(|z| z.conj())));
-                    match (r1, r2) {
-                        (Some(a1), Some(a2)) if a1 * a2 >= 1.0 => log_gain += (a1 * a2).ln(),
-                        _ => {
-                            x.set_column(j, &saved.0);
-                            x.set_column(j + 1, &saved.1);
-                            x_inv = saved.2;
+                    Slot::Pair(j) => {
+                        let y = row_adjoint(x_inv, j);
+                        let v = best_pair_vector(s, &y).unwrap_or_else(|| project(s, &y));
+                        let saved = (x.column(j).into_owned(), x.column(j + 1).into_owned(), x_inv.clone());
+                        let r1 = replace_column(x, x_inv, j, v.clone());
+                        let r2 = r1.and_then(|_| replace_column(x, x_inv, j + 1, v.map(|z| z.conj())));
+                        match (r1, r2) {
+                            (Some(a1), Some(a2)) if a1 * a2 >= 1.0 => log_gain += (a1 * a2).ln(),
+                            _ => {
+                                // Undo.
+                                x.set_column(j, &saved.0);
+                                x.set_column(j + 1, &saved.1);
+                                *x_inv = saved.2;
+                            }
                         }
                     }
                 }
             }
-        }
-        // Refactor X⁻¹ to stop rounding drift in the rank-one updates.
-        match invert(&x) {
-            Some(inv) => x_inv = inv,
-            None => return Err(PlacementError::Numerical { message: "the eigenvector matrix became singular".into() }),
-        }
-        if log_gain < params.improvement_tolerance {
-            converged = true;
-            break;
-        }
-        // Every few sweeps, keep the best-conditioned X seen and stop once κ₂(X) stalls.
-        if iterations % params.condition_check_interval == 0 {
-            let kappa = try_condition_number(&x, SvdParams::default())?;
-            let stalled = kappa > best.2 * (1.0 - params.condition_stall_tolerance);
-            if kappa < best.2 {
-                best = (x.clone(), x_inv.clone(), kappa);
+            // Refactor X⁻¹ now and then to stop rounding drift in the rank-one updates.
+            if self.sweeps % params.refactor_interval.max(1) == 0 {
+                match invert(x) {
+                    Some(inv) => *x_inv = inv,
+                    None => return Err(PlacementError::Numerical { message: "the eigenvector matrix became singular".into() }),
+                }
             }
-            if stalled {
-                converged = true;
+            let mut stop = log_gain < params.improvement_tolerance;
+            // Every few sweeps (and at the end), keep the best-conditioned X seen; stop once κ₂(X) stalls.
+            if stop || self.sweeps % params.condition_check_interval.max(1) == 0 {
+                let kappa = try_condition_number(x, SvdParams::default())?;
+                if kappa > self.best_kappa * (1.0 - params.condition_stall_tolerance) {
+                    stop = true;
+                }
+                if kappa < self.best_kappa {
+                    self.best_kappa = kappa;
+                    self.best_x = x.clone();
+                }
+            }
+            if stop {
+                self.converged = true;
                 break;
             }
         }
-    }
-    let kappa = try_condition_number(&x, SvdParams::default())?;
-    if kappa <= best.2 {
-        Ok((x, x_inv, iterations, converged))
-    } else {
-        Ok((best.0, best.1, iterations, converged))
+        Ok(())
     }
 }
 
@@ -715,8 +750,9 @@ fn replace_column(x: &mut DMatrix<Complex64>, x_inv: &mut DMatrix<Complex64>, j:
     if !(ratio > 1e-12) || !ratio.is_finite() {
         return None;
     }
-    let row = x_inv.row(j).into_owned();
-    *x_inv -= (&w * &row) / denom;
+    let row = x_inv.row(j).transpose();
+    // X⁻¹ ← X⁻¹ − (X⁻¹ u)(e_jᵀ X⁻¹) / (1 + e_jᵀ X⁻¹ u), in place.
+    x_inv.ger(-Complex64::new(1.0, 0.0) / denom, &w, &row, Complex64::new(1.0, 0.0));
     x.set_column(j, &v);
     Some(ratio)
 }
