@@ -1,0 +1,101 @@
+//! The `polewright` command line, driven as a user would: files, standard input, exit codes.
+
+use std::io::Write;
+use std::process::{Command, Stdio};
+
+fn polewright(args: &[&str], stdin: Option<&str>) -> (i32, String, String) {
+    let mut cmd = Command::new(env!("CARGO_BIN_EXE_polewright"));
+    cmd.args(args).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped());
+    let mut child = cmd.spawn().expect("spawn polewright");
+    if let Some(text) = stdin {
+        child.stdin.take().expect("stdin").write_all(text.as_bytes()).expect("write stdin");
+    } else {
+        drop(child.stdin.take());
+    }
+    let out = child.wait_with_output().expect("wait");
+    (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
+}
+
+fn example(name: &str) -> String {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples").join(name).display().to_string()
+}
+
+#[test]
+fn textbook_example_from_a_file() {
+    // Ogata, Modern Control Engineering, pole-placement example (from memory): K = [199, 55, 8].
+    let (code, out, err) = polewright(&["design", &example("third-order-textbook.json")], None);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).expect("result JSON");
+    assert_eq!(v["format"], "polewright.result");
+    assert_eq!(v["version"], 1);
+    assert_eq!(v["convention"], "u = -K x");
+    let k: Vec<f64> = v["feedback"]["gain"][0].as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect();
+    for (got, want) in k.iter().zip([199.0, 55.0, 8.0]) {
+        assert!((got - want).abs() < 1e-9 * want, "{k:?}");
+    }
+    assert!(v["feedback"]["max_pole_error"].as_f64().unwrap() < 1e-12);
+    assert_eq!(v["controllability"]["rank"], 3);
+    assert_eq!(v["controllability"]["stabilizable"], true);
+}
+
+#[test]
+fn standard_input_and_exit_codes() {
+    let infeasible = r#"{"format":"polewright.design","version":1,"plant":{"a":[[1,0],[0,-1]],"b":[[0],[1]]},"feedback":{"poles":[-1,-2]}}"#;
+    let (code, out, err) = polewright(&["design", "-"], Some(infeasible));
+    assert_eq!(code, 1, "{err}");
+    assert!(out.is_empty());
+    assert!(err.contains("mode at 1") && err.contains("uncontrollable"), "{err}");
+
+    let bad = r#"{"format":"polewright.design","version":1,"plant":{"a":[[1,0],[0,"x"]],"b":[[0],[1]]},"feedback":{"poles":[-1,-2]}}"#;
+    let (code, _, err) = polewright(&["design", "-"], Some(bad));
+    assert_eq!(code, 2);
+    assert!(err.contains("plant.a") && err.contains("row 2, column 2"), "{err}");
+
+    let (code, _, err) = polewright(&["design", "-"], Some("not json"));
+    assert_eq!(code, 2);
+    assert!(err.contains("not valid JSON"), "{err}");
+
+    let (code, _, err) = polewright(&["design", "/nonexistent/file.json"], None);
+    assert_eq!(code, 2);
+    assert!(err.contains("cannot read"), "{err}");
+
+    let (code, _, _) = polewright(&["frobnicate"], None);
+    assert_eq!(code, 2);
+}
+
+#[test]
+fn help_explains_the_convention_and_the_caution() {
+    let (code, out, _) = polewright(&["--help"], None);
+    assert_eq!(code, 0);
+    assert!(out.contains("u = -K x"));
+    assert!(out.contains("not a safety function"));
+    assert!(out.contains("EXIT STATUS"));
+}
+
+#[test]
+fn hostile_inputs_never_crash() {
+    // Every one of these must end in exit 0, 1 or 2 with a message: never a panic (exit 101/134).
+    let cases = [
+        "",
+        "{}",
+        "[]",
+        "null",
+        r#"{"format":"polewright.design","version":99}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":[],"b":[]},"feedback":{"poles":[]}}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":[[0]],"b":[[0]]},"feedback":{"poles":[-1]}}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":[[0,0],[0,0]],"b":[[1],[1]]},"feedback":{"poles":[-1,-1]}}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":[[1e308,1e308],[1e308,1e308]],"b":[[1],[0]]},"feedback":{"poles":[-1,-2]}}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":[[0,1],[0,0]],"b":[[0],[1]]},"feedback":{"poles":["-1+1j"]}}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":[[0,1],[0,0]],"b":[[0],[1]]},"feedback":{"poles":[1e300,-1e300]}}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":[[0,1],[0,0]],"b":[[0],[1]]},"feedback":{"poles":[-1,-2]},"simulation":{"duration":1e300}}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":[[0,1],[0,0]],"b":[[0],[1]]},"feedback":{"poles":[-1,-2]},"actuators":{"limit":[0]}}"#,
+        r#"{"format":"polewright.design","version":1,"plant":{"a":"0 1\n0 0","b":"0\n1"},"feedback":{"poles":"0, 0"}}"#,
+    ];
+    for text in cases {
+        let (code, _, err) = polewright(&["design", "-"], Some(text));
+        assert!((0..=2).contains(&code), "exit {code} for {text}: {err}");
+        if code != 0 {
+            assert!(err.starts_with("polewright: "), "{text}: {err}");
+        }
+    }
+}
