@@ -465,10 +465,12 @@ fn assign_inner(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params:
     if r > 1 {
         starts.extend(initial_x_seeded(&slots, &subspaces, &ordered, n, 0x5DEECE66D));
     }
+    let real_subspaces: Vec<Option<DMatrix<f64>>> =
+        slots.iter().zip(&subspaces).map(|(slot, s)| matches!(slot, Slot::Real(_)).then(|| s.map(|z| z.re))).collect();
     let mut runs: Vec<Refinement> = Vec::new();
     for x0 in starts {
-        let Some(x_inv0) = invert(&x0) else { continue };
-        runs.push(Refinement::new(x0, x_inv0)?);
+        let Some(run) = Refinement::new(x0, &slots)? else { continue };
+        runs.push(run);
         if r == 1 {
             break; // X is unique up to column scaling: nothing to refine.
         }
@@ -482,14 +484,14 @@ fn assign_inner(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params:
     if r > 1 {
         // Each start gets a first stage; the best-conditioned one is then refined to the end.
         for run in runs.iter_mut() {
-            run.sweep(&slots, &subspaces, params, params.condition_check_interval)?;
+            run.sweep(&slots, &subspaces, &real_subspaces, params, params.condition_check_interval)?;
             total_sweeps += run.sweeps;
         }
         runs.sort_by(|p, q| p.best_kappa.total_cmp(&q.best_kappa));
         runs.truncate(params.finalists.max(1));
         for run in runs.iter_mut() {
             let before = run.sweeps;
-            run.sweep(&slots, &subspaces, params, params.max_sweeps.saturating_sub(before))?;
+            run.sweep(&slots, &subspaces, &real_subspaces, params, params.max_sweeps.saturating_sub(before))?;
             total_sweeps += run.sweeps - before;
         }
         runs.sort_by(|p, q| q.best_kappa.total_cmp(&p.best_kappa));
@@ -538,19 +540,84 @@ fn assign_inner(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params:
 }
 
 /// KNV/Tits–Yang sweeps from one starting `X`, keeping the best-conditioned `X` seen.
+///
+/// The sweeps work on the real form `X_r` of `X`: a real pole's column as is, a conjugate
+/// pair `x, x̄` as the two real columns `Re x, Im x`. Since `[x, x̄] = [Re x, Im x]·[[1, 1], [i, −i]]`,
+/// `|det X| = 2^p |det X_r|` (`p` pairs), so both have the same maximisers, and real
+/// arithmetic costs a quarter of complex. `X_r⁻¹` is carried along by rank-one (real pole)
+/// and rank-two (pair, Woodbury) updates whose determinant ratio is known before they are
+/// applied, so a step that would not improve `|det X|` is simply skipped.
 struct Refinement {
-    x: DMatrix<Complex64>,
-    x_inv: DMatrix<Complex64>,
+    xr: DMatrix<f64>,
+    xr_inv: DMatrix<f64>,
     best_x: DMatrix<Complex64>,
     best_kappa: f64,
     sweeps: usize,
     converged: bool,
 }
 
+/// Real form of a conjugate-structured complex `X`.
+fn to_real_form(x: &DMatrix<Complex64>, slots: &[Slot]) -> DMatrix<f64> {
+    let n = x.nrows();
+    let mut xr = DMatrix::<f64>::zeros(n, n);
+    for slot in slots {
+        match *slot {
+            Slot::Real(j) => {
+                for i in 0..n {
+                    xr[(i, j)] = x[(i, j)].re;
+                }
+            }
+            Slot::Pair(j) => {
+                for i in 0..n {
+                    xr[(i, j)] = x[(i, j)].re;
+                    xr[(i, j + 1)] = x[(i, j)].im;
+                }
+            }
+        }
+    }
+    xr
+}
+
+/// Complex `X` (unit columns) from the real form.
+fn from_real_form(xr: &DMatrix<f64>, slots: &[Slot]) -> DMatrix<Complex64> {
+    let n = xr.nrows();
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for slot in slots {
+        match *slot {
+            Slot::Real(j) => {
+                let norm = xr.column(j).norm();
+                for i in 0..n {
+                    x[(i, j)] = Complex64::new(xr[(i, j)] / norm, 0.0);
+                }
+            }
+            Slot::Pair(j) => {
+                let norm = (xr.column(j).norm_squared() + xr.column(j + 1).norm_squared()).sqrt();
+                for i in 0..n {
+                    let z = Complex64::new(xr[(i, j)], xr[(i, j + 1)]) / norm;
+                    x[(i, j)] = z;
+                    x[(i, j + 1)] = z.conj();
+                }
+            }
+        }
+    }
+    x
+}
+
+fn invert_real(x: &DMatrix<f64>) -> Option<DMatrix<f64>> {
+    let inv = x.clone().lu().try_inverse()?;
+    if inv.iter().all(|v| v.is_finite()) {
+        Some(inv)
+    } else {
+        None
+    }
+}
+
 impl Refinement {
-    fn new(x: DMatrix<Complex64>, x_inv: DMatrix<Complex64>) -> Result<Self, PlacementError> {
+    fn new(x: DMatrix<Complex64>, slots: &[Slot]) -> Result<Option<Self>, PlacementError> {
+        let xr = to_real_form(&x, slots);
+        let Some(xr_inv) = invert_real(&xr) else { return Ok(None) };
         let kappa = try_condition_number(&x, SvdParams::default())?;
-        Ok(Refinement { best_x: x.clone(), x, x_inv, best_kappa: kappa, sweeps: 0, converged: false })
+        Ok(Some(Refinement { xr, xr_inv, best_x: x, best_kappa: kappa, sweeps: 0, converged: false }))
     }
 
     fn into_best(self) -> (DMatrix<Complex64>, f64) {
@@ -558,9 +625,10 @@ impl Refinement {
     }
 
     /// Runs up to `budget` more sweeps (fewer if converged).
-    fn sweep(&mut self, slots: &[Slot], subspaces: &[DMatrix<Complex64>], params: PlacementParams, budget: usize) -> Result<(), PlacementError> {
-        let x = &mut self.x;
-        let x_inv = &mut self.x_inv;
+    fn sweep(&mut self, slots: &[Slot], subspaces: &[DMatrix<Complex64>], real_subspaces: &[Option<DMatrix<f64>>], params: PlacementParams, budget: usize) -> Result<(), PlacementError> {
+        let n = self.xr.nrows();
+        let mut w1 = DVector::<f64>::zeros(n);
+        let mut w2 = DVector::<f64>::zeros(n);
         for _ in 0..budget {
             if self.converged {
                 break;
@@ -568,53 +636,75 @@ impl Refinement {
             self.sweeps += 1;
             let mut log_gain = 0.0;
             for (k, slot) in slots.iter().enumerate() {
-                let s = &subspaces[k];
                 match *slot {
                     Slot::Real(j) => {
-                        let y = row_adjoint(x_inv, j);
-                        let mut v = project(s, &y);
-                        for z in v.iter_mut() {
-                            z.im = 0.0;
+                        let Some(sr) = real_subspaces[k].as_ref() else { continue };
+                        let y = self.xr_inv.row(j).transpose();
+                        let mut v = sr * (sr.transpose() * &y);
+                        let vn = v.norm();
+                        if !(vn > 1e-300) || !vn.is_finite() {
+                            continue;
                         }
-                        if let Some(ratio) = replace_column(x, x_inv, j, v) {
-                            log_gain += ratio.ln();
+                        v /= vn;
+                        // u = v − x_j; w = X⁻¹ u; ratio = 1 + w_j.
+                        let u = &v - self.xr.column(j);
+                        w1.gemv(1.0, &self.xr_inv, &u, 0.0);
+                        let denom = 1.0 + w1[j];
+                        if !(denom.abs() > 1.0 + 1e-15) || !denom.is_finite() {
+                            continue; // no improvement (or a breakdown): keep the column
                         }
+                        let row = self.xr_inv.row(j).transpose();
+                        self.xr_inv.ger(-1.0 / denom, &w1, &row, 1.0);
+                        self.xr.set_column(j, &v);
+                        log_gain += denom.abs().ln();
                     }
                     Slot::Pair(j) => {
-                        let y = row_adjoint(x_inv, j);
-                        let v = best_pair_vector(s, &y).unwrap_or_else(|| project(s, &y));
-                        let saved = (x.column(j).into_owned(), x.column(j + 1).into_owned(), x_inv.clone());
-                        let r1 = replace_column(x, x_inv, j, v.clone());
-                        let r2 = r1.and_then(|_| replace_column(x, x_inv, j + 1, v.map(|z| z.conj())));
-                        match (r1, r2) {
-                            (Some(a1), Some(a2)) if a1 * a2 >= 1.0 => log_gain += (a1 * a2).ln(),
-                            _ => {
-                                // Undo.
-                                x.set_column(j, &saved.0);
-                                x.set_column(j + 1, &saved.1);
-                                *x_inv = saved.2;
-                            }
+                        // The complement of the other columns is spanned by rows j, j+1 of X_r⁻¹.
+                        let r1 = self.xr_inv.row(j).transpose();
+                        let r2 = self.xr_inv.row(j + 1).transpose();
+                        let Some(x) = best_pair_vector_in(&subspaces[k], &r1, &r2) else { continue };
+                        let xr_new = DVector::from_iterator(n, x.iter().map(|z| z.re));
+                        let xi_new = DVector::from_iterator(n, x.iter().map(|z| z.im));
+                        let u1 = &xr_new - self.xr.column(j);
+                        let u2 = &xi_new - self.xr.column(j + 1);
+                        w1.gemv(1.0, &self.xr_inv, &u1, 0.0);
+                        w2.gemv(1.0, &self.xr_inv, &u2, 0.0);
+                        // C = I + Eᵀ X⁻¹ U (2 × 2); det C = |det X_new| / |det X_old|.
+                        let (c11, c12, c21, c22) = (1.0 + w1[j], w2[j], w1[j + 1], 1.0 + w2[j + 1]);
+                        let det = c11 * c22 - c12 * c21;
+                        if !(det.abs() > 1.0 + 1e-15) || !det.is_finite() {
+                            continue;
                         }
+                        // X⁻¹ ← X⁻¹ − W C⁻¹ R with R the rows j, j+1 of X⁻¹.
+                        let (i11, i12, i21, i22) = (c22 / det, -c12 / det, -c21 / det, c11 / det);
+                        let a1 = &w1 * i11 + &w2 * i21; // column 1 of W C⁻¹
+                        let a2 = &w1 * i12 + &w2 * i22; // column 2 of W C⁻¹
+                        self.xr_inv.ger(-1.0, &a1, &r1, 1.0);
+                        self.xr_inv.ger(-1.0, &a2, &r2, 1.0);
+                        self.xr.set_column(j, &xr_new);
+                        self.xr.set_column(j + 1, &xi_new);
+                        log_gain += det.abs().ln();
                     }
                 }
             }
-            // Refactor X⁻¹ now and then to stop rounding drift in the rank-one updates.
+            // Refactor X_r⁻¹ now and then to stop rounding drift in the low-rank updates.
             if self.sweeps % params.refactor_interval.max(1) == 0 {
-                match invert(x) {
-                    Some(inv) => *x_inv = inv,
+                match invert_real(&self.xr) {
+                    Some(inv) => self.xr_inv = inv,
                     None => return Err(PlacementError::Numerical { message: "the eigenvector matrix became singular".into() }),
                 }
             }
             let mut stop = log_gain < params.improvement_tolerance;
             // Every few sweeps (and at the end), keep the best-conditioned X seen; stop once κ₂(X) stalls.
             if stop || self.sweeps % params.condition_check_interval.max(1) == 0 {
-                let kappa = try_condition_number(x, SvdParams::default())?;
+                let x = from_real_form(&self.xr, slots);
+                let kappa = try_condition_number(&x, SvdParams::default())?;
                 if kappa > self.best_kappa * (1.0 - params.condition_stall_tolerance) {
                     stop = true;
                 }
                 if kappa < self.best_kappa {
                     self.best_kappa = kappa;
-                    self.best_x = x.clone();
+                    self.best_x = x;
                 }
             }
             if stop {
@@ -624,6 +714,13 @@ impl Refinement {
         }
         Ok(())
     }
+}
+
+/// [`best_pair_vector`] given two real vectors spanning the complement of the other columns.
+fn best_pair_vector_in(s: &DMatrix<Complex64>, r1: &DVector<f64>, r2: &DVector<f64>) -> Option<DVector<Complex64>> {
+    let n = r1.len();
+    let y = DVector::from_iterator(n, r1.iter().zip(r2.iter()).map(|(&a, &b)| Complex64::new(a, b)));
+    best_pair_vector(s, &y)
 }
 
 /// `null(U₁ᵀ (A − λ I))`, `n × r`, orthonormal columns.
@@ -729,42 +826,8 @@ fn project(s: &DMatrix<Complex64>, y: &DVector<Complex64>) -> DVector<Complex64>
     s * (s.adjoint() * y)
 }
 
-/// `X⁻ᴴ e_j` as a column: the conjugated row `j` of `X⁻¹`.
-fn row_adjoint(x_inv: &DMatrix<Complex64>, j: usize) -> DVector<Complex64> {
-    x_inv.row(j).adjoint()
-}
 
-/// Replaces column `j` of `X` by the normalised `v`, updating `X⁻¹` (Sherman–Morrison).
-/// Returns `|det X_new| / |det X_old|`, or `None` (nothing changed) if `v` is negligible
-/// or the update would be singular.
-fn replace_column(x: &mut DMatrix<Complex64>, x_inv: &mut DMatrix<Complex64>, j: usize, v: DVector<Complex64>) -> Option<f64> {
-    let norm = v.norm();
-    if !(norm > 1e-300) || !norm.is_finite() {
-        return None;
-    }
-    let v = v / Complex64::new(norm, 0.0);
-    let u = &v - x.column(j);
-    let w = &*x_inv * &u; // X⁻¹ u
-    let denom = Complex64::new(1.0, 0.0) + w[j];
-    let ratio = denom.norm();
-    if !(ratio > 1e-12) || !ratio.is_finite() {
-        return None;
-    }
-    let row = x_inv.row(j).transpose();
-    // X⁻¹ ← X⁻¹ − (X⁻¹ u)(e_jᵀ X⁻¹) / (1 + e_jᵀ X⁻¹ u), in place.
-    x_inv.ger(-Complex64::new(1.0, 0.0) / denom, &w, &row, Complex64::new(1.0, 0.0));
-    x.set_column(j, &v);
-    Some(ratio)
-}
 
-fn invert(x: &DMatrix<Complex64>) -> Option<DMatrix<Complex64>> {
-    let inv = x.clone().lu().try_inverse()?;
-    if inv.iter().all(|z| z.re.is_finite() && z.im.is_finite()) {
-        Some(inv)
-    } else {
-        None
-    }
-}
 
 fn abs_det(x: &DMatrix<Complex64>) -> f64 {
     x.clone().lu().determinant().norm()
