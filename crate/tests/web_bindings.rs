@@ -129,6 +129,7 @@ fn painters_draw_something() {
 
     assert!(web::draw_pole_map("no-such-canvas", js("{}")).is_err());
     assert!(web::draw_time_plot("wbt-time-plot", js(r#"{"t": "oops"}"#)).is_err());
+    assert!(web::draw_time_plot("wbt-time-plot", js(r#"{"x_lable": "t"}"#)).is_err());
 }
 
 #[wasm_bindgen_test]
@@ -153,7 +154,8 @@ fn internal_errors_are_shown_as_text() {
     el.set_id(web::ERROR_ELEMENT_ID);
     el.set_attribute("hidden", "").expect("hidden");
     doc.body().expect("body").append_child(&el).expect("append");
-    web::install_panic_hook();
+    // The hook itself is installed at start-up (see the e2e tests); setting
+    // it here would also replace the test harness's own hook.
     web::report_internal_error("<b>not markup</b>");
     assert_eq!(el.text_content().as_deref(), Some("<b>not markup</b>"));
     assert!(

@@ -1,0 +1,181 @@
+// Shared helpers for the end-to-end tests of dist/polewright.html.
+//
+// withPage(url, fn) opens the page in a fresh browser context of one shared
+// headless Chromium and hands fn an object with the page and everything seen
+// while it ran: every request, console errors, uncaught page errors.
+// startStaticServer(dir) serves a directory on 127.0.0.1 (random port) and
+// logs every request it receives, so tests can prove nothing else was asked for.
+
+import { chromium } from 'playwright-core';
+import fs from 'node:fs';
+import http from 'node:http';
+import path from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+
+export const repoRoot = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
+export const distDir = path.join(repoRoot, 'dist');
+export const pagePath = path.join(distDir, 'polewright.html');
+export const pageFileUrl = pathToFileURL(pagePath).href;
+export const artifactsDir = path.join(repoRoot, 'tests', 'artifacts');
+
+export const CHROMIUM_PATH = process.env.POLEWRIGHT_CHROMIUM || '/usr/bin/chromium';
+export const CHROMIUM_ARGS = [
+  '--no-sandbox',
+  '--disable-gpu',
+  '--disable-quic',
+  '--no-first-run',
+  '--disable-background-networking',
+  '--disable-component-update',
+  '--disable-sync',
+  '--disable-default-apps',
+  '--disable-extensions',
+];
+
+let browserPromise = null;
+
+/** The shared browser (launched on first use; Playwright gives it a fresh temporary profile). */
+export function browser() {
+  if (!browserPromise) {
+    browserPromise = chromium.launch({
+      executablePath: CHROMIUM_PATH,
+      headless: true,
+      args: CHROMIUM_ARGS,
+      timeout: 60_000,
+    });
+  }
+  return browserPromise;
+}
+
+/** Close the shared browser; call from an `after` hook. */
+export async function closeBrowser() {
+  if (browserPromise) {
+    const b = await browserPromise;
+    browserPromise = null;
+    await b.close();
+  }
+}
+
+/** Fail early with a useful message when the page has not been built. */
+export function requireBuiltPage() {
+  if (!fs.existsSync(pagePath)) {
+    throw new Error(`${pagePath} is missing: run scripts/build-page first`);
+  }
+}
+
+/**
+ * Open `url` in a fresh context and run `fn(ctx)` with
+ * ctx = { page, url, requests, consoleErrors, pageErrors, consoleMessages }.
+ * Waits for the page's status line to leave "Starting…" unless opts.waitReady is false.
+ */
+export async function withPage(url, fn, opts = {}) {
+  const b = await browser();
+  const context = await b.newContext({
+    viewport: opts.viewport || { width: 1200, height: 1100 },
+    deviceScaleFactor: opts.deviceScaleFactor || 1,
+    serviceWorkers: 'block',
+  });
+  const page = await context.newPage();
+  const requests = [];
+  const consoleErrors = [];
+  const consoleMessages = [];
+  const pageErrors = [];
+  context.on('request', (r) => requests.push(r.url()));
+  page.on('console', (m) => {
+    consoleMessages.push(`${m.type()}: ${m.text()}`);
+    if (m.type() === 'error') consoleErrors.push(m.text());
+  });
+  page.on('pageerror', (e) => pageErrors.push(String(e && e.stack ? e.stack : e)));
+  try {
+    await page.goto(url, { waitUntil: 'load', timeout: 30_000 });
+    if (opts.waitReady !== false) {
+      await page.waitForFunction(
+        () => {
+          const s = document.getElementById('pw-status');
+          return s && s.textContent !== 'Starting…';
+        },
+        null,
+        { timeout: 20_000 },
+      );
+    }
+    return await fn({ page, url, requests, consoleErrors, pageErrors, consoleMessages });
+  } finally {
+    await context.close();
+  }
+}
+
+const MIME = {
+  '.html': 'text/html; charset=utf-8',
+  '.js': 'text/javascript; charset=utf-8',
+  '.css': 'text/css; charset=utf-8',
+  '.wasm': 'application/wasm',
+  '.png': 'image/png',
+};
+
+/**
+ * Serve `root` on 127.0.0.1 with a random free port.
+ * Returns { origin, log, close } where log lists "METHOD /path" for every request.
+ */
+export async function startStaticServer(root) {
+  const log = [];
+  const base = path.resolve(root);
+  const server = http.createServer((req, res) => {
+    log.push(`${req.method} ${req.url}`);
+    const urlPath = decodeURIComponent(new URL(req.url, 'http://127.0.0.1').pathname);
+    const file = path.resolve(base, `.${urlPath}`);
+    if (req.method !== 'GET' || !file.startsWith(base + path.sep)) {
+      res.writeHead(405).end();
+      return;
+    }
+    fs.readFile(file, (err, data) => {
+      if (err) {
+        res.writeHead(404, { 'content-type': 'text/plain' }).end('not found');
+        return;
+      }
+      res.writeHead(200, {
+        'content-type': MIME[path.extname(file)] || 'application/octet-stream',
+        'cache-control': 'no-store',
+      });
+      res.end(data);
+    });
+  });
+  await new Promise((resolve, reject) => {
+    server.once('error', reject);
+    server.listen(0, '127.0.0.1', resolve);
+  });
+  const { port } = server.address();
+  return {
+    origin: `http://127.0.0.1:${port}`,
+    log,
+    close: () => new Promise((resolve) => server.close(() => resolve())),
+  };
+}
+
+/**
+ * Colour statistics of a canvas, read back with getImageData:
+ * { width, height, distinct, dominantShare } over every 2nd pixel.
+ */
+export async function canvasStats(page, id) {
+  return page.evaluate((canvasId) => {
+    const c = document.getElementById(canvasId);
+    if (!c) return null;
+    const ctx = c.getContext('2d');
+    const { data } = ctx.getImageData(0, 0, c.width, c.height);
+    const counts = new Map();
+    let n = 0;
+    for (let i = 0; i < data.length; i += 8) {
+      const key = (data[i] << 24) | (data[i + 1] << 16) | (data[i + 2] << 8) | data[i + 3];
+      counts.set(key, (counts.get(key) || 0) + 1);
+      n += 1;
+    }
+    const dominant = Math.max(...counts.values());
+    return { width: c.width, height: c.height, distinct: counts.size, dominantShare: dominant / n };
+  }, id);
+}
+
+/** Save a full-page screenshot under tests/artifacts/. Returns its path. */
+export async function screenshot(page, name) {
+  fs.mkdirSync(artifactsDir, { recursive: true });
+  const file = path.join(artifactsDir, name);
+  await page.screenshot({ path: file, fullPage: true });
+  return file;
+}
