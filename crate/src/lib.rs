@@ -6,7 +6,9 @@
 //! `web` module (wasm32 only) and the `polewright` binary are thin front ends.
 
 pub mod analysis;
+pub mod demos;
 pub mod design;
+pub mod form;
 pub mod linalg;
 pub mod metrics;
 pub mod parse;
