@@ -515,7 +515,12 @@ fn assign_inner(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params:
     let left = to_complex(&(vr * sigma_inv * ur.transpose()));
     let g = &left * (to_complex(a) * &x - &xl); // m × n
     let xt_lu = x.transpose().lu();
-    let gain_c = xt_lu.solve(&g.transpose()).ok_or_else(|| PlacementError::Numerical { message: "the eigenvector matrix is singular".into() })?;
+    let mut gain_c = xt_lu.solve(&g.transpose()).ok_or_else(|| PlacementError::Numerical { message: "the eigenvector matrix is singular".into() })?;
+    // One step of iterative refinement of Xᵀ Kᵀ = Gᵀ.
+    let residual = g.transpose() - x.transpose() * &gain_c;
+    if let Some(correction) = xt_lu.solve(&residual) {
+        gain_c += correction;
+    }
     let gain_direct = gain_c.transpose().map(|z| z.re);
     // Second route, K = V_r Σ_r⁻¹ U_rᵀ (A − M) with M = X Λ X⁻¹ from a solve. The two differ
     // only in rounding; when X is ill conditioned one can be markedly better, so both are
