@@ -6,10 +6,12 @@
 //! `web` module (wasm32 only) and the `polewright` binary are thin front ends.
 
 pub mod analysis;
+pub mod controller;
 pub mod demos;
 pub mod design;
 pub mod form;
 pub mod linalg;
+pub mod loop_sim;
 pub mod metrics;
 pub mod parse;
 pub mod place;
