@@ -1,1 +1,671 @@
-//! (in progress)
+//! Simulation of the whole loop: plant, observer, tracking law, integrator with anti-windup,
+//! actuator saturation, reference and load-disturbance steps, measurement noise.
+//!
+//! # Model
+//! Plant `x' = A x + B (u + w)`, `y = C x + D u`; `w` is a load disturbance at the plant input.
+//!
+//! **Digital controller** (sample time `T`, `t_k = k T`, everything held over `[t_k, t_{k+1})`):
+//! 1. measure `y_k = C x_k + D u_held + n_k` (`u_held` is the input being applied at `t_k`);
+//! 2. estimate: predictor `x̂_k`, or current `x̄_k = x̂_k + L_c (y_k − C x̂_k − D u_held)`
+//!    (no observer: the state itself);
+//! 3. command `u_cmd,k` = `−K x̂` | `N_u r − K (x̂ − N_x r)` | `−K_x x̂ − K_i z` (`− K_u u_prev`
+//!    with a computation delay); apply `u_k = sat(u_cmd,k)`;
+//! 4. integrator `z_{k+1} = z_k + T (r_k − y_k)` (tracked outputs), frozen while any input is
+//!    clipped (clamp), or with `− K_i⁺ (u_k − u_cmd,k) / T_t` added (back-calculation);
+//! 5. observer `x̂_{k+1} = Φ x̂_k + Γ u_a + L (y_k − C x̂_k − D u_held)` (predictor) or
+//!    `Φ x̄_k + Γ u_a` (current), with `u_a` the input applied over the interval (`u_k`, or the
+//!    previous command with a delay): the observer is fed the **applied**, saturated input;
+//! 6. plant `x_{k+1} = Φ x_k + Γ (u_a + w_k)` — exact zero-order hold.
+//!
+//! **Continuous controller**: the stacked state `s = [x; x̂; z]` obeys a linear ODE while no
+//! input is clipped, stepped exactly with the block exponential of Van Loan (IEEE TAC 23(3),
+//! 1978) on a fine grid; while any input is clipped, all inputs are held at their clipped values
+//! over the fine step (`O(h)` error) and the integrator obeys its anti-windup rule.
+//!
+//! # Cost
+//! `O((n + p)²)` per sample after two block exponentials; a 10-state loop over 5 000 samples
+//! takes about a millisecond (see the closing figures in the README).
+//!
+//! # Failure modes
+//! Errors for inconsistent sizes or a non-positive sample time; an unstable loop stops when the
+//! state passes `1e100` and is reported as diverged.
+
+use nalgebra::{DMatrix, DVector};
+
+use crate::controller::{small_pseudo_inverse, AntiWindup, ObserverForm};
+use crate::linalg::expm::{try_expm, try_zero_order_hold, ExpmError};
+
+/// The reference-tracking part of the control law.
+#[derive(Debug, Clone)]
+pub enum TrackingLaw {
+    /// Regulation: `u = −K x̂`.
+    None,
+    /// `u = N_u r − K (x̂ − N_x r)`.
+    Feedforward { nx: DMatrix<f64>, nu: DMatrix<f64> },
+    /// `u = −K x̂ − K_i z`.
+    Integral { ki: DMatrix<f64>, anti_windup: AntiWindup },
+}
+
+/// A complete controller as it would go into firmware.
+#[derive(Debug, Clone)]
+pub struct LoopController {
+    /// `K` (or `K_x`), `m × n`.
+    pub k: DMatrix<f64>,
+    /// `K_u`, `m × m`, with a one-sample computation delay (digital only).
+    pub k_delay: Option<DMatrix<f64>>,
+    /// Observer gain `L` (`n × p`): predictor form for digital, or the continuous observer.
+    pub observer: Option<DMatrix<f64>>,
+    pub observer_form: ObserverForm,
+    /// `L_c` for the current-estimator form.
+    pub current_gain: Option<DMatrix<f64>>,
+    pub tracking: TrackingLaw,
+    /// Rows of `C` that are tracked (reference entries correspond to these).
+    pub tracked_outputs: Vec<usize>,
+    /// `None`: continuous controller.
+    pub sample_time: Option<f64>,
+}
+
+/// Measurement noise.
+#[derive(Debug, Clone)]
+pub enum Noise {
+    None,
+    /// Seeded Gaussian noise per output with these standard deviations (digital only).
+    Gaussian { std: Vec<f64>, seed: u64 },
+    /// An explicit sequence `noise[output][sample]` (digital only; for tests).
+    Given(Vec<Vec<f64>>),
+}
+
+/// What the loop is asked to do.
+#[derive(Debug, Clone)]
+pub struct LoopScenario {
+    pub x0: DVector<f64>,
+    /// Observer initial estimate (zero when `None`).
+    pub xhat0: Option<DVector<f64>>,
+    pub duration: f64,
+    /// Reference step values, one per tracked output.
+    pub reference: Vec<f64>,
+    pub reference_time: f64,
+    /// Load-disturbance step values, one per input.
+    pub disturbance: Vec<f64>,
+    pub disturbance_time: f64,
+    pub noise: Noise,
+    /// Per-input magnitude limits.
+    pub limits: Vec<Option<f64>>,
+    /// Fine step of the continuous controller (chosen when `None`).
+    pub continuous_step: Option<f64>,
+}
+
+/// Why a loop simulation could not run.
+#[derive(Debug, Clone, PartialEq)]
+pub enum LoopError {
+    Size { what: &'static str, expected: usize, found: usize },
+    BadTime { what: &'static str, value: f64 },
+    NoiseNeedsDigital,
+    Expm(ExpmError),
+}
+
+impl std::fmt::Display for LoopError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            LoopError::Size { what, expected, found } => write!(f, "{what}: {found} values given but {expected} are needed"),
+            LoopError::BadTime { what, value } => write!(f, "{what} {value} must be a positive, finite number of seconds"),
+            LoopError::NoiseNeedsDigital => write!(f, "measurement noise is simulated with a digital controller: give the implementation a sample time"),
+            LoopError::Expm(e) => write!(f, "loop simulation failed: {e}"),
+        }
+    }
+}
+
+impl std::error::Error for LoopError {}
+
+impl From<ExpmError> for LoopError {
+    fn from(e: ExpmError) -> Self {
+        LoopError::Expm(e)
+    }
+}
+
+/// Recorded loop signals; `series[i][k]` is signal `i` at `time[k]`.
+#[derive(Debug, Clone)]
+pub struct LoopResponse {
+    pub time: Vec<f64>,
+    /// Outputs `C x + D u` without noise.
+    pub outputs: Vec<Vec<f64>>,
+    /// Measured outputs (with noise).
+    pub measured: Vec<Vec<f64>>,
+    /// Reference per tracked output.
+    pub reference: Vec<Vec<f64>>,
+    pub states: Vec<Vec<f64>>,
+    /// The estimate the control law used (equals the state without an observer).
+    pub estimates: Vec<Vec<f64>>,
+    /// Applied (saturated) inputs over `[t_k, t_{k+1})`.
+    pub inputs: Vec<Vec<f64>>,
+    /// Commanded inputs before saturation.
+    pub commanded: Vec<Vec<f64>>,
+    pub integrator: Vec<Vec<f64>>,
+    pub diverged: bool,
+}
+
+impl LoopResponse {
+    fn new(n: usize, m: usize, p: usize, q: usize, qi: usize, capacity: usize) -> Self {
+        let series = |k: usize| vec![Vec::with_capacity(capacity); k];
+        LoopResponse {
+            time: Vec::with_capacity(capacity),
+            outputs: series(p),
+            measured: series(p),
+            reference: series(q),
+            states: series(n),
+            estimates: series(n),
+            inputs: series(m),
+            commanded: series(m),
+            integrator: series(qi),
+            diverged: false,
+        }
+    }
+}
+
+fn push(series: &mut [Vec<f64>], v: &DVector<f64>) {
+    for (s, x) in series.iter_mut().zip(v.iter()) {
+        s.push(*x);
+    }
+}
+
+/// Seeded standard normal numbers (SplitMix64 + Box–Muller); reproducible across platforms.
+struct Gaussian {
+    state: u64,
+    spare: Option<f64>,
+}
+
+impl Gaussian {
+    fn new(seed: u64) -> Self {
+        Gaussian { state: seed ^ 0x9E37_79B9_7F4A_7C15, spare: None }
+    }
+    fn uniform(&mut self) -> f64 {
+        self.state = self.state.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.state;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^= z >> 31;
+        ((z >> 11) as f64 + 0.5) / (1u64 << 53) as f64
+    }
+    fn next(&mut self) -> f64 {
+        if let Some(s) = self.spare.take() {
+            return s;
+        }
+        let (u1, u2) = (self.uniform(), self.uniform());
+        let r = (-2.0 * u1.ln()).sqrt();
+        let th = 2.0 * std::f64::consts::PI * u2;
+        self.spare = Some(r * th.sin());
+        r * th.cos()
+    }
+}
+
+fn clip(u: &DVector<f64>, limits: &[Option<f64>]) -> (DVector<f64>, bool) {
+    let mut out = u.clone();
+    let mut clipped = false;
+    for (i, l) in limits.iter().enumerate() {
+        if let Some(l) = l {
+            if out[i] > *l {
+                out[i] = *l;
+                clipped = true;
+            } else if out[i] < -*l {
+                out[i] = -*l;
+                clipped = true;
+            }
+        }
+    }
+    (out, clipped)
+}
+
+fn rows_of(c: &DMatrix<f64>, rows: &[usize]) -> DMatrix<f64> {
+    DMatrix::from_fn(rows.len(), c.ncols(), |i, j| c[(rows[i], j)])
+}
+
+/// Simulates the loop.
+///
+/// # Errors
+/// See [`LoopError`].
+pub fn simulate_loop(
+    a: &DMatrix<f64>,
+    b: &DMatrix<f64>,
+    c: &DMatrix<f64>,
+    d: &DMatrix<f64>,
+    ctrl: &LoopController,
+    sc: &LoopScenario,
+) -> Result<LoopResponse, LoopError> {
+    let n = a.nrows();
+    let m = b.ncols();
+    let q = ctrl.tracked_outputs.len();
+    if sc.x0.len() != n {
+        return Err(LoopError::Size { what: "initial state", expected: n, found: sc.x0.len() });
+    }
+    if let Some(x) = &sc.xhat0 {
+        if x.len() != n {
+            return Err(LoopError::Size { what: "initial estimate", expected: n, found: x.len() });
+        }
+    }
+    if !matches!(ctrl.tracking, TrackingLaw::None) && sc.reference.len() != q {
+        return Err(LoopError::Size { what: "reference", expected: q, found: sc.reference.len() });
+    }
+    if !sc.disturbance.is_empty() && sc.disturbance.len() != m {
+        return Err(LoopError::Size { what: "disturbance", expected: m, found: sc.disturbance.len() });
+    }
+    if !sc.limits.is_empty() && sc.limits.len() != m {
+        return Err(LoopError::Size { what: "actuator limits", expected: m, found: sc.limits.len() });
+    }
+    if !(sc.duration.is_finite() && sc.duration > 0.0) {
+        return Err(LoopError::BadTime { what: "the duration", value: sc.duration });
+    }
+    match ctrl.sample_time {
+        Some(t) => digital(a, b, c, d, ctrl, sc, t),
+        None => {
+            if !matches!(sc.noise, Noise::None) {
+                return Err(LoopError::NoiseNeedsDigital);
+            }
+            continuous(a, b, c, d, ctrl, sc)
+        }
+    }
+}
+
+fn step_value(values: &[f64], len: usize, time: f64, at: f64, eps: f64) -> DVector<f64> {
+    if values.is_empty() || time + eps < at {
+        DVector::zeros(len)
+    } else {
+        DVector::from_column_slice(values)
+    }
+}
+
+fn digital(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario, t: f64) -> Result<LoopResponse, LoopError> {
+    if !(t.is_finite() && t > 0.0) {
+        return Err(LoopError::BadTime { what: "the sample time", value: t });
+    }
+    let n = a.nrows();
+    let m = b.ncols();
+    let p = c.nrows();
+    let q = ctrl.tracked_outputs.len();
+    let (phi, gamma) = try_zero_order_hold(a, b, t)?;
+    let steps = ((sc.duration / t).round() as usize).max(1);
+    let limits: Vec<Option<f64>> = if sc.limits.is_empty() { vec![None; m] } else { sc.limits.clone() };
+    let (ki, aw) = match &ctrl.tracking {
+        TrackingLaw::Integral { ki, anti_windup } => (Some(ki.clone()), *anti_windup),
+        _ => (None, AntiWindup::None),
+    };
+    let qi = if ki.is_some() { q } else { 0 };
+    let ki_pinv = ki.as_ref().map(small_pseudo_inverse);
+    let mut rng = match &sc.noise {
+        Noise::Gaussian { seed, .. } => Some(Gaussian::new(*seed)),
+        _ => None,
+    };
+    let mut out = LoopResponse::new(n, m, p, q, qi, steps + 1);
+    let mut x = sc.x0.clone();
+    let mut xhat = sc.xhat0.clone().unwrap_or_else(|| DVector::zeros(n));
+    let mut z = DVector::<f64>::zeros(qi);
+    let mut u_held = DVector::<f64>::zeros(m); // input applied over the interval ending at t_k
+    let mut u_prev = DVector::<f64>::zeros(m); // delayed command applied over [t_k, t_{k+1})
+    let eps = 1e-9 * t;
+    let bound = 1e100 * (1.0 + x.norm());
+    for k in 0..=steps {
+        let tk = k as f64 * t;
+        let r = step_value(&sc.reference, q, tk, sc.reference_time, eps);
+        let w = step_value(&sc.disturbance, m, tk, sc.disturbance_time, eps);
+        let mut noise = DVector::<f64>::zeros(p);
+        match &sc.noise {
+            Noise::None => {}
+            Noise::Gaussian { std, .. } => {
+                if let Some(g) = rng.as_mut() {
+                    for i in 0..p {
+                        noise[i] = g.next() * std.get(i).copied().unwrap_or(0.0);
+                    }
+                }
+            }
+            Noise::Given(seq) => {
+                for i in 0..p {
+                    noise[i] = seq.get(i).and_then(|s| s.get(k)).copied().unwrap_or(0.0);
+                }
+            }
+        }
+        let y_true = c * &x + d * &u_held;
+        let y = &y_true + &noise;
+        let estimate = match (&ctrl.observer, ctrl.observer_form, &ctrl.current_gain) {
+            (None, _, _) => x.clone(),
+            (Some(_), ObserverForm::Current, Some(lc)) => &xhat + lc * (&y - c * &xhat - d * &u_held),
+            (Some(_), _, _) => xhat.clone(),
+        };
+        let mut u_cmd = match &ctrl.tracking {
+            TrackingLaw::None => -(&ctrl.k * &estimate),
+            TrackingLaw::Feedforward { nx, nu } => nu * &r - &ctrl.k * (&estimate - nx * &r),
+            TrackingLaw::Integral { ki, .. } => -(&ctrl.k * &estimate) - ki * &z,
+        };
+        if let Some(ku) = &ctrl.k_delay {
+            u_cmd -= ku * &u_prev;
+        }
+        let (u, clipped) = clip(&u_cmd, &limits);
+        let u_applied = if ctrl.k_delay.is_some() { u_prev.clone() } else { u.clone() };
+        out.time.push(tk);
+        push(&mut out.outputs, &y_true);
+        push(&mut out.measured, &y);
+        push(&mut out.reference, &r);
+        push(&mut out.states, &x);
+        push(&mut out.estimates, &estimate);
+        push(&mut out.inputs, &u_applied);
+        push(&mut out.commanded, &u_cmd);
+        push(&mut out.integrator, &z);
+        if k == steps {
+            break;
+        }
+        if let (Some(_), Some(kp)) = (&ki, &ki_pinv) {
+            let yt = rows_of_vec(&y, &ctrl.tracked_outputs);
+            let e = &r - yt;
+            match aw {
+                AntiWindup::Clamp if clipped => {}
+                AntiWindup::BackCalculation { time_constant } => z += (e - kp * (&u - &u_cmd) / time_constant) * t,
+                _ => z += e * t,
+            }
+        }
+        xhat = match (&ctrl.observer, ctrl.observer_form, &ctrl.current_gain) {
+            (None, _, _) => xhat,
+            (Some(_), ObserverForm::Current, Some(_)) => &phi * &estimate + &gamma * &u_applied,
+            (Some(l), _, _) => &phi * &xhat + &gamma * &u_applied + l * (&y - c * &xhat - d * &u_held),
+        };
+        x = &phi * &x + &gamma * (&u_applied + &w);
+        u_held = u_applied;
+        if ctrl.k_delay.is_some() {
+            u_prev = u;
+        }
+        if !(x.norm() <= bound) {
+            out.diverged = true;
+            break;
+        }
+    }
+    Ok(out)
+}
+
+fn rows_of_vec(v: &DVector<f64>, rows: &[usize]) -> DVector<f64> {
+    DVector::from_iterator(rows.len(), rows.iter().map(|&i| v[i]))
+}
+
+fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario) -> Result<LoopResponse, LoopError> {
+    let n = a.nrows();
+    let m = b.ncols();
+    let p = c.nrows();
+    let q = ctrl.tracked_outputs.len();
+    let has_obs = ctrl.observer.is_some();
+    let (ki, aw) = match &ctrl.tracking {
+        TrackingLaw::Integral { ki, anti_windup } => (Some(ki.clone()), *anti_windup),
+        _ => (None, AntiWindup::None),
+    };
+    let qi = if ki.is_some() { q } else { 0 };
+    let ns = n + if has_obs { n } else { 0 } + qi;
+    let ox = 0;
+    let oh = n;
+    let oz = n + if has_obs { n } else { 0 };
+    let ct = rows_of(c, &ctrl.tracked_outputs);
+    let dt = rows_of(d, &ctrl.tracked_outputs);
+    // Open-loop stacked model s' = F0 s + Gr r + Gw w + Gu u.
+    let mut f0 = DMatrix::<f64>::zeros(ns, ns);
+    let mut gr = DMatrix::<f64>::zeros(ns, q);
+    let mut gw = DMatrix::<f64>::zeros(ns, m);
+    let mut gu = DMatrix::<f64>::zeros(ns, m);
+    f0.view_mut((ox, ox), (n, n)).copy_from(a);
+    gu.view_mut((ox, 0), (n, m)).copy_from(b);
+    gw.view_mut((ox, 0), (n, m)).copy_from(b);
+    if let Some(l) = &ctrl.observer {
+        // x̂' = L C x + (A − L C) x̂ + B u  (the D terms cancel in y − ŷ).
+        f0.view_mut((oh, ox), (n, n)).copy_from(&(l * c));
+        f0.view_mut((oh, oh), (n, n)).copy_from(&(a - l * c));
+        gu.view_mut((oh, 0), (n, m)).copy_from(b);
+    }
+    if qi > 0 {
+        f0.view_mut((oz, ox), (q, n)).copy_from(&(-&ct));
+        gu.view_mut((oz, 0), (q, m)).copy_from(&(-&dt));
+        for i in 0..q {
+            gr[(oz + i, i)] = 1.0;
+        }
+    }
+    // Control law u = H s + J r.
+    let mut h = DMatrix::<f64>::zeros(m, ns);
+    let mut j = DMatrix::<f64>::zeros(m, q);
+    let est = if has_obs { oh } else { ox };
+    h.view_mut((0, est), (m, n)).copy_from(&(-&ctrl.k));
+    match &ctrl.tracking {
+        TrackingLaw::None => {}
+        TrackingLaw::Feedforward { nx, nu } => j.copy_from(&(nu + &ctrl.k * nx)),
+        TrackingLaw::Integral { ki, .. } => h.view_mut((0, oz), (m, q)).copy_from(&(-ki)),
+    }
+    let limits: Vec<Option<f64>> = if sc.limits.is_empty() { vec![None; m] } else { sc.limits.clone() };
+    // Fine step: resolve the fastest closed-loop dynamics.
+    let fcl = &f0 + &gu * &h;
+    let speed = crate::linalg::svd::try_norm2(&fcl, crate::linalg::svd::SvdParams::default()).unwrap_or(1.0).max(1e-12);
+    let hstep = match sc.continuous_step {
+        Some(s) if s.is_finite() && s > 0.0 => s,
+        _ => (sc.duration / 2000.0).min(0.05 / speed),
+    };
+    let steps = ((sc.duration / hstep).round() as usize).clamp(1, 200_000);
+    let hstep = sc.duration / steps as f64;
+    // Exact transitions with held exogenous inputs: closed (unsaturated) and held-input (saturated).
+    let exo = q + m;
+    let gcl = {
+        let mut g = DMatrix::<f64>::zeros(ns, exo);
+        g.view_mut((0, 0), (ns, q)).copy_from(&(&gr + &gu * &j));
+        g.view_mut((0, q), (ns, m)).copy_from(&gw);
+        g
+    };
+    let (ecl, bcl) = block_transition(&fcl, &gcl, hstep)?;
+    // Held-input mode: u is an external held input; the integrator follows its anti-windup rule.
+    let mut fsat = f0.clone();
+    let mut gsat = DMatrix::<f64>::zeros(ns, exo + m);
+    gsat.view_mut((0, 0), (ns, q)).copy_from(&gr);
+    gsat.view_mut((0, q), (ns, m)).copy_from(&gw);
+    gsat.view_mut((0, exo), (ns, m)).copy_from(&gu);
+    if let Some(kiv) = &ki {
+        match aw {
+            AntiWindup::None => {}
+            AntiWindup::Clamp => {
+                for i in 0..q {
+                    for col in 0..ns {
+                        fsat[(oz + i, col)] = 0.0;
+                    }
+                    for col in 0..(exo + m) {
+                        gsat[(oz + i, col)] = 0.0;
+                    }
+                }
+            }
+            AntiWindup::BackCalculation { time_constant } => {
+                // z' += −K_i⁺ (u_sat − H s − J r) / T_t.
+                let kp = small_pseudo_inverse(kiv) / time_constant;
+                let add_s = &kp * &h;
+                let add_r = &kp * &j;
+                for i in 0..q {
+                    for col in 0..ns {
+                        fsat[(oz + i, col)] += add_s[(i, col)];
+                    }
+                    for col in 0..q {
+                        gsat[(oz + i, col)] += add_r[(i, col)];
+                    }
+                    for col in 0..m {
+                        gsat[(oz + i, exo + col)] -= kp[(i, col)];
+                    }
+                }
+            }
+        }
+    }
+    let (esat, bsat) = block_transition(&fsat, &gsat, hstep)?;
+    let mut s = DVector::<f64>::zeros(ns);
+    s.rows_mut(ox, n).copy_from(&sc.x0);
+    if has_obs {
+        if let Some(xh) = &sc.xhat0 {
+            s.rows_mut(oh, n).copy_from(xh);
+        }
+    }
+    let mut out = LoopResponse::new(n, m, p, q, qi, steps + 1);
+    let eps = 1e-9 * hstep;
+    let bound = 1e100 * (1.0 + sc.x0.norm());
+    for k in 0..=steps {
+        let tk = k as f64 * hstep;
+        let r = step_value(&sc.reference, q, tk, sc.reference_time, eps);
+        let w = step_value(&sc.disturbance, m, tk, sc.disturbance_time, eps);
+        let u_cmd = &h * &s + &j * &r;
+        let (u, clipped) = clip(&u_cmd, &limits);
+        let x = s.rows(ox, n).into_owned();
+        let y = c * &x + d * &u;
+        out.time.push(tk);
+        push(&mut out.outputs, &y);
+        push(&mut out.measured, &y);
+        push(&mut out.reference, &r);
+        push(&mut out.states, &x);
+        push(&mut out.estimates, &s.rows(est, n).into_owned());
+        push(&mut out.inputs, &u);
+        push(&mut out.commanded, &u_cmd);
+        push(&mut out.integrator, &s.rows(oz, qi).into_owned());
+        if k == steps {
+            break;
+        }
+        let mut v = DVector::<f64>::zeros(exo);
+        v.rows_mut(0, q).copy_from(&r);
+        v.rows_mut(q, m).copy_from(&w);
+        s = if clipped {
+            let mut vs = DVector::<f64>::zeros(exo + m);
+            vs.rows_mut(0, exo).copy_from(&v);
+            vs.rows_mut(exo, m).copy_from(&u);
+            &esat * &s + &bsat * vs
+        } else {
+            &ecl * &s + &bcl * v
+        };
+        if !(s.norm() <= bound) {
+            out.diverged = true;
+            break;
+        }
+    }
+    Ok(out)
+}
+
+/// `exp([[F, G], [0, 0]] h)` → `(e^{F h}, ∫₀ʰ e^{F s} ds G)`.
+fn block_transition(f: &DMatrix<f64>, g: &DMatrix<f64>, h: f64) -> Result<(DMatrix<f64>, DMatrix<f64>), LoopError> {
+    if g.ncols() == 0 {
+        return Ok((try_expm(&(f * h))?, DMatrix::zeros(f.nrows(), 0)));
+    }
+    Ok(try_zero_order_hold(f, g, h)?)
+}
+
+/// Step-response figures of one tracked output after a reference step.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TrackingMetrics {
+    /// 10–90 % rise time (s), `None` if the output never reaches 90 % of the step.
+    pub rise_time: Option<f64>,
+    /// Settling time after the step (s) into `band · |step|` around the reference.
+    pub settling_time: Option<f64>,
+    /// Overshoot beyond the reference, fraction of the step.
+    pub overshoot: f64,
+    /// `r − y` at the end of the run.
+    pub steady_state_error: f64,
+}
+
+/// Figures for a step of the reference at `t_ref` (from the value at `t_ref` to `r_final`).
+pub fn tracking_metrics(t: &[f64], y: &[f64], t_ref: f64, r_final: f64, band: f64) -> TrackingMetrics {
+    let start = t.iter().position(|&ti| ti >= t_ref - 1e-12).unwrap_or(0);
+    let y0 = y.get(start).copied().unwrap_or(0.0);
+    let step = r_final - y0;
+    let last = y.last().copied().unwrap_or(0.0);
+    if step == 0.0 || y.len() <= start + 1 {
+        return TrackingMetrics { rise_time: None, settling_time: None, overshoot: 0.0, steady_state_error: r_final - last };
+    }
+    let frac = |v: f64| (v - y0) / step;
+    let t10 = (start..y.len()).find(|&i| frac(y[i]) >= 0.1).map(|i| t[i]);
+    let t90 = (start..y.len()).find(|&i| frac(y[i]) >= 0.9).map(|i| t[i]);
+    let rise_time = match (t10, t90) {
+        (Some(a), Some(b)) => Some(b - a),
+        _ => None,
+    };
+    let limit = band * step.abs();
+    let last_out = (start..y.len()).rev().find(|&i| (y[i] - r_final).abs() > limit);
+    let settling_time = match last_out {
+        None => Some(0.0),
+        Some(i) if i + 1 >= y.len() => None,
+        Some(i) => Some(t[i + 1] - t[start]),
+    };
+    let overshoot = (start..y.len()).map(|i| frac(y[i]) - 1.0).fold(0.0, f64::max);
+    TrackingMetrics { rise_time, settling_time, overshoot, steady_state_error: r_final - last }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn double_integrator() -> (DMatrix<f64>, DMatrix<f64>, DMatrix<f64>, DMatrix<f64>) {
+        (
+            DMatrix::from_row_slice(2, 2, &[0.0, 1.0, 0.0, 0.0]),
+            DMatrix::from_row_slice(2, 1, &[0.0, 1.0]),
+            DMatrix::from_row_slice(1, 2, &[1.0, 0.0]),
+            DMatrix::zeros(1, 1),
+        )
+    }
+
+    fn scenario(duration: f64) -> LoopScenario {
+        LoopScenario {
+            x0: DVector::zeros(2),
+            xhat0: None,
+            duration,
+            reference: vec![1.0],
+            reference_time: 0.0,
+            disturbance: vec![],
+            disturbance_time: 0.0,
+            noise: Noise::None,
+            limits: vec![],
+            continuous_step: None,
+        }
+    }
+
+    #[test]
+    fn feedforward_tracks_a_step_exactly_in_steady_state() {
+        // Poles −2, −3: K = [6, 5]; N_x = [1, 0]ᵀ, N_u = 0 (by hand).
+        let (a, b, c, d) = double_integrator();
+        let ctrl = LoopController {
+            k: DMatrix::from_row_slice(1, 2, &[6.0, 5.0]),
+            k_delay: None,
+            observer: None,
+            observer_form: ObserverForm::Predictor,
+            current_gain: None,
+            tracking: TrackingLaw::Feedforward { nx: DMatrix::from_row_slice(2, 1, &[1.0, 0.0]), nu: DMatrix::zeros(1, 1) },
+            tracked_outputs: vec![0],
+            sample_time: None,
+        };
+        let r = simulate_loop(&a, &b, &c, &d, &ctrl, &scenario(8.0)).unwrap();
+        // y(t) = 1 − 3 e^{−2t} + 2 e^{−3t} (by hand).
+        for (t, y) in r.time.iter().zip(&r.outputs[0]) {
+            let exact = 1.0 - 3.0 * (-2.0 * t).exp() + 2.0 * (-3.0 * t).exp();
+            assert!((y - exact).abs() < 1e-12, "t={t}: {y} vs {exact}");
+        }
+        let m = tracking_metrics(&r.time, &r.outputs[0], 0.0, 1.0, 0.02);
+        assert!(m.steady_state_error.abs() < 1e-6);
+        assert!(m.overshoot == 0.0);
+    }
+
+    #[test]
+    fn noise_needs_a_digital_controller_and_sizes_are_checked() {
+        let (a, b, c, d) = double_integrator();
+        let ctrl = LoopController {
+            k: DMatrix::from_row_slice(1, 2, &[6.0, 5.0]),
+            k_delay: None,
+            observer: None,
+            observer_form: ObserverForm::Predictor,
+            current_gain: None,
+            tracking: TrackingLaw::None,
+            tracked_outputs: vec![],
+            sample_time: None,
+        };
+        let mut sc = scenario(1.0);
+        sc.reference = vec![];
+        sc.noise = Noise::Gaussian { std: vec![0.1], seed: 1 };
+        assert_eq!(simulate_loop(&a, &b, &c, &d, &ctrl, &sc).unwrap_err(), LoopError::NoiseNeedsDigital);
+        sc.noise = Noise::None;
+        sc.x0 = DVector::zeros(3);
+        assert!(matches!(simulate_loop(&a, &b, &c, &d, &ctrl, &sc), Err(LoopError::Size { .. })));
+    }
+
+    #[test]
+    fn gaussian_is_standard() {
+        let mut g = Gaussian::new(7);
+        let v: Vec<f64> = (0..20000).map(|_| g.next()).collect();
+        let mean = v.iter().sum::<f64>() / v.len() as f64;
+        let var = v.iter().map(|x| (x - mean) * (x - mean)).sum::<f64>() / v.len() as f64;
+        assert!(mean.abs() < 0.03 && (var - 1.0).abs() < 0.05, "{mean} {var}");
+    }
+}
