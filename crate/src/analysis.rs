@@ -46,6 +46,34 @@ use crate::linalg::eigen::{sort_eigenvalues, try_eigenvalues, EigenError};
 use crate::linalg::qr::full_qr;
 use crate::linalg::svd::{try_norm2, try_singular_values, try_svd, SvdError, SvdParams};
 
+/// Whether the model is a differential (`x' = A x + B u`) or a difference
+/// (`x[k+1] = A x[k] + B u[k]`) equation: it decides what a stable mode is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Domain {
+    /// Stable: `Re λ < 0`.
+    #[default]
+    Continuous,
+    /// Stable: `|λ| < 1`.
+    Discrete,
+}
+
+impl Domain {
+    /// Strictly stable, with a margin `tol` (absolute, in the units of `λ`).
+    pub fn is_strictly_stable(self, z: Complex64, tol: f64) -> bool {
+        match self {
+            Domain::Continuous => z.re < -tol,
+            Domain::Discrete => z.norm() < 1.0 - tol,
+        }
+    }
+    /// On the stability boundary within `tol`.
+    pub fn is_marginal(self, z: Complex64, tol: f64) -> bool {
+        match self {
+            Domain::Continuous => z.re.abs() <= tol,
+            Domain::Discrete => (z.norm() - 1.0).abs() <= tol,
+        }
+    }
+}
+
 /// Tolerances of the analysis.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct AnalysisParams {
@@ -53,11 +81,13 @@ pub struct AnalysisParams {
     pub relative_tolerance: f64,
     /// PBH margin below which a controllable mode is reported as weak. Default `1e-6`.
     pub weak_margin: f64,
+    /// Continuous or discrete time (what "stable" means for hidden modes). Default continuous.
+    pub domain: Domain,
 }
 
 impl Default for AnalysisParams {
     fn default() -> Self {
-        AnalysisParams { relative_tolerance: 1e-10, weak_margin: 1e-6 }
+        AnalysisParams { relative_tolerance: 1e-10, weak_margin: 1e-6, domain: Domain::Continuous }
     }
 }
 
@@ -130,7 +160,8 @@ pub struct ModalReport {
     pub states: usize,
     /// Dimension of the controllable (observable) subspace.
     pub rank: usize,
-    /// Every uncontrollable (unobservable) mode lies strictly in the open left half-plane.
+    /// Every uncontrollable (unobservable) mode is strictly stable (open left half-plane, or
+    /// inside the unit circle for a discrete-time model).
     pub stable_hidden_modes: bool,
     /// All open-loop modes, sorted.
     pub modes: Vec<ModeReport>,
@@ -290,8 +321,11 @@ pub fn controllability_report(a: &DMatrix<f64>, b: &DMatrix<f64>, params: Analys
         })
         .collect();
     let anorm = try_norm2(a, SvdParams::default())?;
-    let axis_tol = params.relative_tolerance * anorm.max(1.0);
-    let stable_hidden_modes = hidden.iter().all(|z| z.re < -axis_tol);
+    let axis_tol = match params.domain {
+        Domain::Continuous => params.relative_tolerance * anorm.max(1.0),
+        Domain::Discrete => params.relative_tolerance,
+    };
+    let stable_hidden_modes = hidden.iter().all(|z| params.domain.is_strictly_stable(*z, axis_tol));
     Ok(ModalReport {
         states: n,
         rank: nc,

@@ -43,9 +43,9 @@ pub const DESIGN_FORMAT: &str = "polewright.design";
 /// The result format name.
 pub const RESULT_FORMAT: &str = "polewright.result";
 /// Highest design-file version this build reads.
-pub const DESIGN_VERSION: u64 = 1;
+pub const DESIGN_VERSION: u64 = 2;
 /// Version of the result this build writes.
-pub const RESULT_VERSION: u64 = 1;
+pub const RESULT_VERSION: u64 = 2;
 
 /// Invalid input: which field, and what is wrong with it.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -106,6 +106,101 @@ pub struct DesignRequest {
     pub initial_state: Option<Vec<f64>>,
     pub duration: Option<f64>,
     pub band: f64,
+}
+
+/// In which plane `feedback.poles` (and observer poles) are given.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Plane {
+    /// Continuous targets (s-plane); a digital design maps them by `z = e^{sT}`.
+    #[default]
+    S,
+    /// Discrete targets (z-plane), used as given (digital designs only).
+    Z,
+}
+
+/// How the controller is run on the target.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Implementation {
+    pub sample_time: f64,
+    /// The input computed at one sample is applied at the next.
+    pub computation_delay: bool,
+    /// z-plane poles for the delay states (default: all at 0).
+    pub delay_poles: Vec<Complex64>,
+}
+
+/// How the observer poles are chosen.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ObserverPoles {
+    Given(Vec<Complex64>),
+    /// `factor ×` the controller poles (s-plane; common practice: 2–6).
+    SpeedFactor(f64),
+}
+
+/// The observer request.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ObserverSpec {
+    pub poles: ObserverPoles,
+    pub form: crate::controller::ObserverForm,
+}
+
+/// Reference tracking request.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub enum TrackingSpec {
+    #[default]
+    None,
+    Feedforward { outputs: Vec<usize> },
+    /// `integral_poles`: extra poles for the integrator states (else `feedback.poles` has `n + q`).
+    Integral { outputs: Vec<usize>, integral_poles: Vec<Complex64> },
+}
+
+/// The loop scenario of the full-controller simulation.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ScenarioSpec {
+    pub reference: Vec<f64>,
+    pub reference_time: f64,
+    pub disturbance: Vec<f64>,
+    pub disturbance_time: f64,
+    pub noise_std: Vec<f64>,
+    pub seed: u64,
+    pub initial_estimate: Option<Vec<f64>>,
+}
+
+/// Everything beyond a plain state-feedback gain (design file version 2).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ControllerSpec {
+    /// The plant matrices are already discrete (`x[k+1] = A x[k] + B u[k]`) at this sample time.
+    pub plant_sample_time: Option<f64>,
+    pub plane: Plane,
+    pub implementation: Option<Implementation>,
+    pub observer: Option<ObserverSpec>,
+    pub tracking: TrackingSpec,
+    pub anti_windup: crate::controller::AntiWindup,
+    pub scenario: ScenarioSpec,
+}
+
+impl Default for ControllerSpec {
+    fn default() -> Self {
+        ControllerSpec {
+            plant_sample_time: None,
+            plane: Plane::S,
+            implementation: None,
+            observer: None,
+            tracking: TrackingSpec::None,
+            anti_windup: crate::controller::AntiWindup::None,
+            scenario: ScenarioSpec::default(),
+        }
+    }
+}
+
+impl ControllerSpec {
+    /// True when the file asks for nothing beyond version 1.
+    pub fn is_plain(&self) -> bool {
+        *self == ControllerSpec::default()
+    }
+    /// The controller's sample time, if digital.
+    pub fn sample_time(&self) -> Option<f64> {
+        self.plant_sample_time.or(self.implementation.as_ref().map(|i| i.sample_time))
+    }
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -270,13 +365,74 @@ fn path(parent: &str, key: &str) -> String {
     }
 }
 
-/// Parses and validates a design file.
+/// Parses and validates a design file (version 1 features only; see [`parse_design_full`]).
 ///
 /// # Errors
 /// An [`InputError`] naming the field.
 pub fn parse_design(text: &str) -> Result<DesignRequest, InputError> {
+    parse_design_full(text).map(|(r, _)| r)
+}
+
+fn positive(v: &Value, field: &str) -> Result<f64, InputError> {
+    let x = finite(v, field)?;
+    if x > 0.0 {
+        Ok(x)
+    } else {
+        Err(InputError::new(field, format!("{x} must be a positive number")))
+    }
+}
+
+fn non_negative(v: &Value, field: &str) -> Result<f64, InputError> {
+    let x = finite(v, field)?;
+    if x >= 0.0 {
+        Ok(x)
+    } else {
+        Err(InputError::new(field, format!("{x} must be zero or positive")))
+    }
+}
+
+/// Output selection: names or 1-based indices.
+fn outputs_from_value(v: Option<&Value>, plant: &Plant, field: &str) -> Result<Vec<usize>, InputError> {
+    let p = plant.outputs();
+    let Some(v) = v else { return Ok((0..p).collect()) };
+    let Value::Array(items) = v else {
+        return Err(InputError::new(field, format!("expected a list of output names or numbers (1 = first output), found {}", kind(v))));
+    };
+    let mut out = Vec::new();
+    for (i, item) in items.iter().enumerate() {
+        let idx = match item {
+            Value::String(name) => plant.output_names().iter().position(|n| n == name.trim()).ok_or_else(|| {
+                InputError::new(field, format!("entry {}: no output is named \"{}\"; the outputs are {}", i + 1, name, plant.output_names().join(", ")))
+            })?,
+            Value::Number(_) => match item.as_u64() {
+                Some(k) if k >= 1 && (k as usize) <= p => k as usize - 1,
+                _ => return Err(InputError::new(field, format!("entry {}: {} is not an output number from 1 to {p}", i + 1, short(item)))),
+            },
+            other => return Err(InputError::new(field, format!("entry {}: {} is not an output name or number", i + 1, short(other)))),
+        };
+        if out.contains(&idx) {
+            return Err(InputError::new(field, format!("entry {}: output {} is listed twice", i + 1, idx + 1)));
+        }
+        out.push(idx);
+    }
+    if out.is_empty() {
+        return Err(InputError::new(field, "no outputs listed; name at least one output to track"));
+    }
+    Ok(out)
+}
+
+/// Parses and validates a design file, version 1 or 2.
+///
+/// # Errors
+/// An [`InputError`] naming the field.
+pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), InputError> {
+    use crate::controller::{AntiWindup, ObserverForm};
     let doc: Value = serde_json::from_str(text).map_err(|e| InputError::new("(file)", format!("not valid JSON: {e}")))?;
-    let top = object(&doc, "", &["format", "version", "plant", "feedback", "actuators", "simulation", "comment", "description"])?;
+    let top = object(
+        &doc,
+        "",
+        &["format", "version", "plant", "feedback", "actuators", "simulation", "implementation", "observer", "tracking", "anti_windup", "comment", "description"],
+    )?;
     match top.get("format") {
         Some(Value::String(s)) if s == DESIGN_FORMAT => {}
         Some(other) => return Err(InputError::new("format", format!("expected \"{DESIGN_FORMAT}\", found {}", short(other)))),
@@ -287,10 +443,18 @@ pub fn parse_design(text: &str) -> Result<DesignRequest, InputError> {
         Some(v) => return Err(InputError::new("version", format!("version {v} is newer than this build reads (up to {DESIGN_VERSION}); use a newer Polewright"))),
         None => return Err(InputError::new("version", "missing or not a whole number; add \"version\": 1")),
     }
+    let version = top.get("version").and_then(|v| v.as_u64()).unwrap_or(1);
+    if version < 2 {
+        for key in ["implementation", "observer", "tracking", "anti_windup"] {
+            if top.contains_key(key) {
+                return Err(InputError::new(key, format!("\"{key}\" is a version-2 feature; set \"version\": 2")));
+            }
+        }
+    }
     let plant_v = top.get("plant").ok_or_else(|| InputError::new("plant", "missing; give at least \"a\" and \"b\""))?;
     let plant = plant_from_value(plant_v, "plant")?;
     let fb = top.get("feedback").ok_or_else(|| InputError::new("feedback", "missing; give \"feedback\": {\"poles\": [...]}"))?;
-    let fbm = object(fb, "feedback", &["poles"])?;
+    let fbm = object(fb, "feedback", &["poles", "plane"])?;
     let poles_v = fbm.get("poles").ok_or_else(|| InputError::new("feedback.poles", "missing; list the desired closed-loop poles"))?;
     let poles = poles_from_value(poles_v, "feedback.poles")?;
     let mut limits = Vec::new();
@@ -328,7 +492,7 @@ pub fn parse_design(text: &str) -> Result<DesignRequest, InputError> {
     let mut duration = None;
     let mut band = metrics::DEFAULT_BAND;
     if let Some(sim) = top.get("simulation") {
-        let sm = object(sim, "simulation", &["initial_state", "duration", "band"])?;
+        let sm = object(sim, "simulation", &["initial_state", "duration", "band", "reference", "reference_time", "disturbance", "disturbance_time", "noise_std", "seed", "initial_estimate"])?;
         if let Some(x0) = sm.get("initial_state") {
             let x = number_vector(x0, "simulation.initial_state")?;
             if x.len() != plant.states() {
@@ -351,7 +515,170 @@ pub fn parse_design(text: &str) -> Result<DesignRequest, InputError> {
             band = b;
         }
     }
-    Ok(DesignRequest { plant, poles, limits, initial_state, duration, band })
+    let request = DesignRequest { plant, poles, limits, initial_state, duration, band };
+
+    // ---- version 2: digital implementation, observer, tracking, anti-windup, loop scenario.
+    let mut spec = ControllerSpec::default();
+    let plant = &request.plant;
+    if let Some(t) = plant_v.get("sample_time") {
+        spec.plant_sample_time = Some(positive(t, "plant.sample_time")?);
+    }
+    if let Some(pl) = fbm.get("plane") {
+        spec.plane = match pl.as_str() {
+            Some("s") => Plane::S,
+            Some("z") => Plane::Z,
+            _ => return Err(InputError::new("feedback.plane", format!("{} must be \"s\" (continuous targets) or \"z\" (discrete targets)", short(pl)))),
+        };
+    }
+    if let Some(imp) = top.get("implementation") {
+        let im = object(imp, "implementation", &["sample_time", "method", "computation_delay", "delay_poles"])?;
+        if spec.plant_sample_time.is_some() {
+            return Err(InputError::new("implementation", "the plant is already discrete (plant.sample_time); remove one of the two"));
+        }
+        let t = positive(im.get("sample_time").ok_or_else(|| InputError::new("implementation.sample_time", "missing; give the controller's sample time in seconds"))?, "implementation.sample_time")?;
+        if let Some(mth) = im.get("method") {
+            if mth.as_str() != Some("zoh") {
+                return Err(InputError::new("implementation.method", format!("{} is not supported; use \"zoh\" (zero-order hold)", short(mth))));
+            }
+        }
+        let delay = match im.get("computation_delay") {
+            None => false,
+            Some(Value::Bool(b)) => *b,
+            Some(other) => return Err(InputError::new("implementation.computation_delay", format!("{} must be true or false", short(other)))),
+        };
+        let delay_poles = match im.get("delay_poles") {
+            None => vec![Complex64::new(0.0, 0.0); plant.inputs()],
+            Some(v) => {
+                let p = poles_from_value(v, "implementation.delay_poles")?;
+                if p.len() != plant.inputs() {
+                    return Err(InputError::new("implementation.delay_poles", format!("{} given but there are {} inputs; give one z-plane pole per input", p.len(), plant.inputs())));
+                }
+                p
+            }
+        };
+        if !delay && im.contains_key("delay_poles") {
+            return Err(InputError::new("implementation.delay_poles", "delay poles are only used with \"computation_delay\": true"));
+        }
+        spec.implementation = Some(Implementation { sample_time: t, computation_delay: delay, delay_poles });
+    }
+    if spec.plane == Plane::Z && spec.sample_time().is_none() {
+        return Err(InputError::new("feedback.plane", "z-plane poles need a digital design: give implementation.sample_time or plant.sample_time"));
+    }
+    if let Some(obs) = top.get("observer") {
+        let om = object(obs, "observer", &["poles", "speed_factor", "form"])?;
+        if plant.c().is_none() {
+            return Err(InputError::new("observer", "an observer needs measurements: give plant.c (outputs × states)"));
+        }
+        let poles = match (om.get("poles"), om.get("speed_factor")) {
+            (Some(_), Some(_)) => return Err(InputError::new("observer", "give either \"poles\" or \"speed_factor\", not both")),
+            (Some(v), None) => {
+                let p = poles_from_value(v, "observer.poles")?;
+                if p.len() != plant.states() {
+                    return Err(InputError::new("observer.poles", format!("{} poles given but the observer has {} states", p.len(), plant.states())));
+                }
+                ObserverPoles::Given(p)
+            }
+            (None, Some(v)) => ObserverPoles::SpeedFactor(positive(v, "observer.speed_factor")?),
+            (None, None) => ObserverPoles::SpeedFactor(4.0),
+        };
+        let form = match om.get("form").map(|v| v.as_str()) {
+            None | Some(Some("predictor")) => ObserverForm::Predictor,
+            Some(Some("current")) => ObserverForm::Current,
+            Some(_) => return Err(InputError::new("observer.form", "must be \"predictor\" (uses the previous measurement) or \"current\" (corrects with the current one)")),
+        };
+        if form == ObserverForm::Current && spec.sample_time().is_none() {
+            return Err(InputError::new("observer.form", "the current-estimator form is for digital controllers; give implementation.sample_time"));
+        }
+        spec.observer = Some(ObserverSpec { poles, form });
+    }
+    if let Some(tr) = top.get("tracking") {
+        let tm = object(tr, "tracking", &["mode", "outputs", "integral_poles"])?;
+        if plant.c().is_none() {
+            return Err(InputError::new("tracking", "tracking needs outputs: give plant.c"));
+        }
+        let outputs = outputs_from_value(tm.get("outputs"), plant, "tracking.outputs")?;
+        spec.tracking = match tm.get("mode").and_then(|v| v.as_str()) {
+            Some("none") => TrackingSpec::None,
+            Some("feedforward") => TrackingSpec::Feedforward { outputs },
+            Some("integral") => {
+                let integral_poles = match tm.get("integral_poles") {
+                    None => Vec::new(),
+                    Some(v) => {
+                        let p = poles_from_value(v, "tracking.integral_poles")?;
+                        if p.len() != outputs.len() {
+                            return Err(InputError::new("tracking.integral_poles", format!("{} given but {} outputs are tracked; give one pole per integrator", p.len(), outputs.len())));
+                        }
+                        p
+                    }
+                };
+                TrackingSpec::Integral { outputs, integral_poles }
+            }
+            _ => return Err(InputError::new("tracking.mode", "must be \"feedforward\", \"integral\" or \"none\"")),
+        };
+    }
+    if let Some(aw) = top.get("anti_windup") {
+        let am = object(aw, "anti_windup", &["mode", "time_constant"])?;
+        spec.anti_windup = match am.get("mode").and_then(|v| v.as_str()) {
+            Some("none") => AntiWindup::None,
+            Some("clamp") => AntiWindup::Clamp,
+            Some("back_calculation") => {
+                let tt = positive(am.get("time_constant").ok_or_else(|| InputError::new("anti_windup.time_constant", "missing; back-calculation needs a tracking time constant in seconds"))?, "anti_windup.time_constant")?;
+                AntiWindup::BackCalculation { time_constant: tt }
+            }
+            _ => return Err(InputError::new("anti_windup.mode", "must be \"none\", \"clamp\" (conditional integration) or \"back_calculation\"")),
+        };
+        if !matches!(spec.tracking, TrackingSpec::Integral { .. }) && spec.anti_windup != AntiWindup::None {
+            return Err(InputError::new("anti_windup", "anti-windup acts on the integrator: it needs \"tracking\": {\"mode\": \"integral\"}"));
+        }
+    }
+    if let Some(sim) = top.get("simulation") {
+        let sm = object(sim, "simulation", &["initial_state", "duration", "band", "reference", "reference_time", "disturbance", "disturbance_time", "noise_std", "seed", "initial_estimate"])?;
+        let tracked = match &spec.tracking {
+            TrackingSpec::None => 0,
+            TrackingSpec::Feedforward { outputs } | TrackingSpec::Integral { outputs, .. } => outputs.len(),
+        };
+        if let Some(v) = sm.get("reference") {
+            let r = number_vector(v, "simulation.reference")?;
+            if r.len() != tracked {
+                return Err(InputError::new("simulation.reference", format!("{} values given but {tracked} outputs are tracked; give one per tracked output", r.len())));
+            }
+            spec.scenario.reference = r;
+        }
+        if let Some(v) = sm.get("reference_time") {
+            spec.scenario.reference_time = non_negative(v, "simulation.reference_time")?;
+        }
+        if let Some(v) = sm.get("disturbance") {
+            let w = number_vector(v, "simulation.disturbance")?;
+            if w.len() != plant.inputs() {
+                return Err(InputError::new("simulation.disturbance", format!("{} values given but the plant has {} inputs; give one load disturbance per input", w.len(), plant.inputs())));
+            }
+            spec.scenario.disturbance = w;
+        }
+        if let Some(v) = sm.get("disturbance_time") {
+            spec.scenario.disturbance_time = non_negative(v, "simulation.disturbance_time")?;
+        }
+        if let Some(v) = sm.get("noise_std") {
+            let ns = number_vector(v, "simulation.noise_std")?;
+            if ns.len() != plant.outputs() {
+                return Err(InputError::new("simulation.noise_std", format!("{} values given but the plant has {} outputs", ns.len(), plant.outputs())));
+            }
+            if ns.iter().any(|x| *x < 0.0) {
+                return Err(InputError::new("simulation.noise_std", "standard deviations cannot be negative"));
+            }
+            spec.scenario.noise_std = ns;
+        }
+        if let Some(v) = sm.get("seed") {
+            spec.scenario.seed = v.as_u64().ok_or_else(|| InputError::new("simulation.seed", format!("{} must be a whole number ≥ 0", short(v))))?;
+        }
+        if let Some(v) = sm.get("initial_estimate") {
+            let x = number_vector(v, "simulation.initial_estimate")?;
+            if x.len() != plant.states() {
+                return Err(InputError::new("simulation.initial_estimate", format!("{} values given but the plant has {} states", x.len(), plant.states())));
+            }
+            spec.scenario.initial_estimate = Some(x);
+        }
+    }
+    Ok((request, spec))
 }
 
 /// Reads and validates the `plant` object.
@@ -359,7 +686,7 @@ pub fn parse_design(text: &str) -> Result<DesignRequest, InputError> {
 /// # Errors
 /// An [`InputError`] naming the field.
 pub fn plant_from_value(v: &Value, field: &str) -> Result<Plant, InputError> {
-    let keys = ["a", "b", "c", "d", "state_names", "input_names", "output_names", "state_units", "input_units", "output_units"];
+    let keys = ["a", "b", "c", "d", "state_names", "input_names", "output_names", "state_units", "input_units", "output_units", "sample_time"];
     let pm = object(v, field, &keys)?;
     let a = number_matrix(pm.get("a").ok_or_else(|| InputError::new(path(field, "a"), "missing; give the state matrix A (states × states)"))?, &path(field, "a"))?;
     let b_v = pm.get("b").ok_or_else(|| InputError::new(path(field, "b"), "missing; give the input matrix B (states × inputs)"))?;
@@ -420,6 +747,108 @@ pub struct DesignResult {
     pub observability: Option<StructureResult>,
     pub simulation: SimulationResult,
     pub warnings: Vec<Warning>,
+    /// `"continuous"` or `"discrete"` (version 2).
+    pub domain: &'static str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sample_time: Option<f64>,
+    /// The zero-order-hold model the digital design used.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub discrete_plant: Option<DiscretePlantResult>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub observer: Option<ObserverResult>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tracking: Option<TrackingResult>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sample_rate: Option<SampleRateResult>,
+    /// The whole controller simulated in the loop.
+    #[serde(rename = "loop", skip_serializing_if = "Option::is_none")]
+    pub closed_loop: Option<LoopResult>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct DiscretePlantResult {
+    pub a: Vec<Vec<f64>>,
+    pub b: Vec<Vec<f64>>,
+    pub sample_time: f64,
+    pub method: &'static str,
+    pub computation_delay: bool,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ObserverResult {
+    /// `L`, states × outputs (predictor form, or the continuous observer).
+    pub gain: Vec<Vec<f64>>,
+    /// `L_c = Φ⁻¹ L` for the current-estimator form.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub current_gain: Option<Vec<Vec<f64>>>,
+    pub form: &'static str,
+    pub requested_poles: Vec<Pair>,
+    /// Eigenvalues of `A − L C` (or `Φ − L C`), recomputed.
+    pub achieved_poles: Vec<Pair>,
+    pub max_pole_error: f64,
+    pub eigenvector_condition: f64,
+    pub gain_norm: f64,
+    /// `‖K L‖₂`: how strongly measurement noise reaches the control input through the observer.
+    pub noise_to_input_gain: f64,
+    pub detectable: bool,
+}
+
+#[derive(Debug, Clone, Serialize)]
+#[serde(tag = "mode", rename_all = "snake_case")]
+pub enum TrackingResult {
+    Feedforward { outputs: Vec<String>, nx: Vec<Vec<f64>>, nu: Vec<Vec<f64>> },
+    Integral { outputs: Vec<String>, state_gain: Vec<Vec<f64>>, integral_gain: Vec<Vec<f64>>, anti_windup: &'static str, time_constant: Option<f64> },
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SampleRateResult {
+    pub bandwidth: f64,
+    pub samples_per_bandwidth: f64,
+    pub verdict: &'static str,
+    pub message: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct OutputLoopMetrics {
+    pub name: String,
+    pub reference: f64,
+    pub rise_time: Option<f64>,
+    pub settling_time: Option<f64>,
+    pub overshoot: f64,
+    pub steady_state_error: f64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct InputLoopMetrics {
+    pub name: String,
+    pub peak_command: f64,
+    pub limit: Option<f64>,
+    pub time_saturated: f64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct LoopResult {
+    pub sample_time: Option<f64>,
+    pub observer_form: Option<&'static str>,
+    pub duration: f64,
+    pub diverged: bool,
+    pub time: Vec<f64>,
+    pub outputs: Vec<Vec<f64>>,
+    pub measured: Vec<Vec<f64>>,
+    pub reference: Vec<Vec<f64>>,
+    pub states: Vec<Vec<f64>>,
+    pub estimates: Vec<Vec<f64>>,
+    pub inputs: Vec<Vec<f64>>,
+    pub commanded: Vec<Vec<f64>>,
+    pub tracked: Vec<OutputLoopMetrics>,
+    pub input_metrics: Vec<InputLoopMetrics>,
+    /// Eigenvalues of the linear closed loop with observer (when computed).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub loop_poles: Option<Vec<Pair>>,
+    /// Largest distance between those and the union of controller and observer poles
+    /// (separation principle), relative.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub separation_error: Option<f64>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -450,6 +879,9 @@ pub struct FeedbackResult {
     pub input_rank: usize,
     pub not_assigned: Vec<Pair>,
     pub fixed_modes: Vec<Pair>,
+    /// `K_u` (inputs × inputs) on the previous input, with a computation delay.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub delay_gain: Option<Vec<Vec<f64>>>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -537,43 +969,232 @@ fn structure(r: &ModalReport) -> StructureResult {
 /// [`DesignError::Infeasible`] when the design cannot be done as asked (with the reason);
 /// [`DesignError::Input`] for input that only turns out inconsistent here.
 pub fn run(req: &DesignRequest) -> Result<DesignResult, DesignError> {
+    run_with(req, &ControllerSpec::default())
+}
+
+/// Simulates a loop around the plant as given: continuous (any controller) or discrete.
+fn run_loop(plant: &Plant, spec: &ControllerSpec, ctrl: &crate::loop_sim::LoopController, sc: &crate::loop_sim::LoopScenario) -> Result<crate::loop_sim::LoopResponse, crate::loop_sim::LoopError> {
+    let n = plant.states();
+    let m = plant.inputs();
+    let (c, d) = match (plant.c(), plant.d()) {
+        (Some(c), Some(d)) => (c.clone(), d.clone()),
+        (Some(c), None) => (c.clone(), DMatrix::zeros(c.nrows(), m)),
+        _ => (DMatrix::zeros(0, n), DMatrix::zeros(0, m)),
+    };
+    if spec.plant_sample_time.is_some() {
+        crate::loop_sim::simulate_sampled_loop(plant.a(), plant.b(), &c, &d, ctrl, sc)
+    } else {
+        crate::loop_sim::simulate_loop(plant.a(), plant.b(), &c, &d, ctrl, sc)
+    }
+}
+
+/// Keeps conjugate pairs together while taking the `count` fastest poles (a leftover single slot
+/// takes the real part of the next pair).
+fn fastest_poles(poles: &[Complex64], count: usize) -> Vec<Complex64> {
+    let mut units: Vec<Complex64> = poles.iter().filter(|z| z.im >= 0.0).cloned().collect();
+    units.sort_by(|x, y| y.norm().total_cmp(&x.norm()));
+    let mut out = Vec::new();
+    for z in units {
+        if out.len() >= count {
+            break;
+        }
+        if z.im > 0.0 && out.len() + 2 <= count {
+            out.push(z);
+            out.push(z.conj());
+        } else if z.im > 0.0 {
+            out.push(Complex64::new(z.re, 0.0));
+        } else {
+            out.push(z);
+        }
+    }
+    out
+}
+
+/// Runs a design with the version-2 controller features: digital implementation, observer,
+/// tracking, integral action with anti-windup, and the whole-loop simulation.
+///
+/// # Errors
+/// See [`DesignError`].
+pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResult, DesignError> {
+    use crate::analysis::Domain;
+    use crate::controller::{delay_augmented, discretise, feedforward_gains, integral_augmented, map_to_continuous, map_to_discrete, observer_gain, sample_rate_advice, ObserverForm};
     let plant = &req.plant;
     let (a, b) = (plant.a(), plant.b());
     let n = plant.states();
     let m = plant.inputs();
     let wp = WarningParams::default();
-    let ap = AnalysisParams::default();
+    let t = spec.sample_time();
+    let domain = if t.is_some() { Domain::Discrete } else { Domain::Continuous };
+    let ap = AnalysisParams { domain, ..AnalysisParams::default() };
+    let pp = PlacementParams { domain, ..PlacementParams::default() };
     let infeasible = |e: &dyn std::fmt::Display| DesignError::Infeasible { message: e.to_string() };
-    let open_loop = try_eigenvalues(a).map_err(|e| infeasible(&e))?;
-    let ctrb = controllability_report(a, b, ap).map_err(|e| infeasible(&e))?;
+    let pole_input = |e: crate::place::PlacementError, field: &str| match e {
+        crate::place::PlacementError::PoleCount { .. } | crate::place::PlacementError::InvalidPoles { .. } | crate::place::PlacementError::RepeatedBeyondRank { .. } => {
+            DesignError::Input(InputError::new(field, e.to_string()))
+        }
+        other => DesignError::Infeasible { message: other.to_string() },
+    };
+    // The plant in the design domain.
+    let (ad, bd) = match (spec.plant_sample_time, &spec.implementation) {
+        (None, Some(imp)) => {
+            let dp = discretise(a, b, imp.sample_time).map_err(|e| infeasible(&e))?;
+            (dp.phi, dp.gamma)
+        }
+        _ => (a.clone(), b.clone()),
+    };
+    let to_design = |poles: &[Complex64]| -> Vec<Complex64> {
+        match (t, spec.plane) {
+            (Some(t), Plane::S) => map_to_discrete(poles, t),
+            _ => poles.to_vec(),
+        }
+    };
+    let to_s = |poles: &[Complex64]| -> Vec<Complex64> {
+        match (t, spec.plane) {
+            (Some(t), Plane::Z) => poles.iter().map(|z| map_to_continuous(*z, t)).collect(),
+            _ => poles.to_vec(),
+        }
+    };
+    let delay = spec.implementation.as_ref().is_some_and(|i| i.computation_delay);
+    let (tracked, integral_poles): (Vec<usize>, Option<&Vec<Complex64>>) = match &spec.tracking {
+        TrackingSpec::None => (Vec::new(), None),
+        TrackingSpec::Feedforward { outputs } => (outputs.clone(), None),
+        TrackingSpec::Integral { outputs, integral_poles } => (outputs.clone(), Some(integral_poles)),
+    };
+    let q = tracked.len();
+    let (c_full, d_full) = match (plant.c(), plant.d()) {
+        (Some(c), Some(d)) => (c.clone(), d.clone()),
+        (Some(c), None) => (c.clone(), DMatrix::zeros(c.nrows(), m)),
+        _ => (DMatrix::zeros(0, n), DMatrix::zeros(0, m)),
+    };
+    let ct = DMatrix::from_fn(q, n, |i, j| c_full[(tracked[i], j)]);
+    let dt = DMatrix::from_fn(q, m, |i, j| d_full[(tracked[i], j)]);
+    // The design pair: plant, then the delay states, then the integrators.
+    let mut da = ad.clone();
+    let mut db = bd.clone();
+    let mut dpoles = to_design(&req.poles);
+    if let (true, Some(imp)) = (delay, &spec.implementation) {
+        let (pa, pb) = delay_augmented(&da, &db);
+        da = pa;
+        db = pb;
+        dpoles.extend(imp.delay_poles.iter().cloned());
+    }
+    let nd = da.nrows();
+    if let Some(ip) = integral_poles {
+        let mut ct_d = DMatrix::<f64>::zeros(q, nd);
+        ct_d.view_mut((0, 0), (q, n)).copy_from(&ct);
+        let (ia, ib) = integral_augmented(&da, &db, &ct_d, &dt, t);
+        let aug = crate::analysis::controllability_report(&ia, &ib, ap).map_err(|e| infeasible(&e))?;
+        if !aug.is_complete() {
+            return Err(DesignError::Infeasible {
+                message: crate::controller::ControllerError::IntegralNotControllable {
+                    message: format!(
+                        "the plant augmented with {q} integrator(s) is not controllable (rank {} of {}): the tracked outputs have a zero at {} or there are more tracked outputs than independent inputs; track fewer outputs or use feedforward",
+                        aug.rank,
+                        aug.states,
+                        if t.is_some() { "z = 1" } else { "s = 0" }
+                    ),
+                }
+                .to_string(),
+            });
+        }
+        da = ia;
+        db = ib;
+        dpoles.extend(to_design(ip));
+    }
+    if dpoles.len() != da.nrows() {
+        let extra = da.nrows() - n;
+        return Err(DesignError::Input(InputError::new(
+            "feedback.poles",
+            if extra > 0 {
+                format!(
+                    "{} poles given but the design has {} states ({n} plant states + {extra} for {}); give {} poles{}",
+                    dpoles.len(),
+                    da.nrows(),
+                    if integral_poles.is_some() && delay { "delay and integrators" } else if delay { "the computation delay" } else { "the integrators" },
+                    da.nrows() - (dpoles.len() - req.poles.len()),
+                    if integral_poles.is_some() { ", or list the integrator poles in tracking.integral_poles" } else { "" }
+                )
+            } else {
+                format!("{} poles given but the plant has {n} states; give exactly {n} poles", dpoles.len())
+            },
+        )));
+    }
+    let open_loop = try_eigenvalues(&ad).map_err(|e| infeasible(&e))?;
+    let ctrb = controllability_report(&ad, &bd, ap).map_err(|e| infeasible(&e))?;
     let obsv = match plant.c() {
-        Some(c) => Some(observability_report(a, c, ap).map_err(|e| infeasible(&e))?),
+        Some(c) => Some(observability_report(&ad, c, ap).map_err(|e| infeasible(&e))?),
         None => None,
     };
-    let placement = state_feedback_gain(a, b, &req.poles, PlacementParams::default()).map_err(|e| match e {
-        crate::place::PlacementError::PoleCount { .. } | crate::place::PlacementError::InvalidPoles { .. } => {
-            DesignError::Input(InputError::new("feedback.poles", e.to_string()))
+    let placement = state_feedback_gain(&da, &db, &dpoles, pp).map_err(|e| pole_input(e, "feedback.poles"))?;
+    let k_x = placement.gain.columns(0, n).into_owned();
+    let k_u = if delay { Some(placement.gain.columns(n, m).into_owned()) } else { None };
+    let k_i = if integral_poles.is_some() { Some(placement.gain.columns(nd, q).into_owned()) } else { None };
+    // Observer.
+    let observer = match (&spec.observer, plant.c()) {
+        (Some(os), Some(c)) => {
+            let s_poles = match &os.poles {
+                ObserverPoles::Given(p) => to_s(p),
+                ObserverPoles::SpeedFactor(f) => fastest_poles(&to_s(&req.poles), n).iter().map(|z| z * *f).collect(),
+            };
+            let obs_design_poles = match &os.poles {
+                ObserverPoles::Given(p) => to_design(p),
+                ObserverPoles::SpeedFactor(_) => match t {
+                    Some(t) => map_to_discrete(&s_poles, t),
+                    None => s_poles.clone(),
+                },
+            };
+            let mut od = observer_gain(&ad, c, &obs_design_poles, pp).map_err(|e| match e {
+                crate::controller::ControllerError::Observer { message } if message.contains("poles") && !message.contains("unobservable") => DesignError::Input(InputError::new("observer.poles", message)),
+                other => infeasible(&other),
+            })?;
+            if os.form == ObserverForm::Current {
+                od.current_gain = ad.clone().lu().solve(&od.gain);
+            }
+            Some((od, obs_design_poles, os.form))
         }
-        crate::place::PlacementError::RepeatedBeyondRank { .. } => DesignError::Input(InputError::new("feedback.poles", e.to_string())),
-        other => infeasible(&other),
-    })?;
-
+        _ => None,
+    };
+    let feedforward = match &spec.tracking {
+        TrackingSpec::Feedforward { .. } => Some(feedforward_gains(&ad, &bd, &ct, &dt, t.is_some()).map_err(|e| infeasible(&e))?),
+        _ => None,
+    };
+    let advice = t.map(|t| sample_rate_advice(&to_s(&req.poles), t));
+    let a = &ad;
+    let b = &bd;
     let mut warnings = Vec::new();
-    let anorm = crate::linalg::svd::try_norm2(a, crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
-    let axis_tol = ap.relative_tolerance * anorm.max(1.0);
+    let anorm = crate::linalg::svd::try_norm2(plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
+    let axis_tol = match domain {
+        Domain::Continuous => ap.relative_tolerance * anorm.max(1.0),
+        Domain::Discrete => 1e-12,
+    };
     let mut seen_pairs = Vec::new();
-    for z in &req.poles {
+    for z in &dpoles {
         if z.im < 0.0 || seen_pairs.contains(z) {
             continue;
         }
         seen_pairs.push(*z);
         let shown = if z.im > 0.0 { format!("{}±{}j", fmt_num(z.re), fmt_num(z.im)) } else { format_complex(*z) };
-        if z.re > axis_tol {
-            warnings.push(Warning::new("requested-pole-unstable", format!("The requested pole {shown} lies in the right half-plane: the closed loop will be unstable.")));
-        } else if z.re.abs() <= axis_tol {
-            warnings.push(Warning::new("requested-pole-on-axis", format!("The requested pole {shown} lies on the imaginary axis: the closed loop will not settle (marginal stability).")));
+        if !domain.is_strictly_stable(*z, -axis_tol) && !domain.is_marginal(*z, axis_tol) {
+            warnings.push(Warning::new(
+                "requested-pole-unstable",
+                match domain {
+                    Domain::Continuous => format!("The requested pole {shown} lies in the right half-plane: the closed loop will be unstable."),
+                    Domain::Discrete => format!("The requested z-plane pole {shown} lies outside the unit circle: the digital loop will be unstable."),
+                },
+            ));
+        } else if domain.is_marginal(*z, axis_tol) {
+            warnings.push(Warning::new(
+                "requested-pole-on-axis",
+                match domain {
+                    Domain::Continuous => format!("The requested pole {shown} lies on the imaginary axis: the closed loop will not settle (marginal stability)."),
+                    Domain::Discrete => format!("The requested z-plane pole {shown} lies on the unit circle: the digital loop will not settle (marginal stability)."),
+                },
+            ));
         }
-        if anorm > 0.0 && z.norm() > wp.fast_pole_ratio * anorm {
+    }
+    for z in to_s(&req.poles).iter().filter(|z| z.im >= 0.0) {
+        let shown = if z.im > 0.0 { format!("{}±{}j", fmt_num(z.re), fmt_num(z.im)) } else { format_complex(*z) };
+        if spec.plant_sample_time.is_none() && anorm > 0.0 && z.norm() > wp.fast_pole_ratio * anorm {
             warnings.push(Warning::new(
                 "fast-pole",
                 format!(
@@ -651,9 +1272,60 @@ pub fn run(req: &DesignRequest) -> Result<DesignResult, DesignError> {
             (x, true)
         }
     };
-    let spec = SimulationSpec { initial_state: DVector::from_vec(x0.clone()), duration: req.duration, limits: req.limits.clone() };
-    let resp = closed_loop_response(a, b, &placement.gain, &spec, SimulationParams::default()).map_err(|e| infeasible(&e))?;
     let limits = if req.limits.is_empty() { vec![None; m] } else { req.limits.clone() };
+    // Horizon from the slowest s-plane pole (controller and observer): 7/σ, doubled with limits.
+    let mut all_s = to_s(&req.poles);
+    if let Some((_, op, _)) = &observer {
+        all_s.extend(match t {
+            Some(t) => op.iter().map(|z| map_to_continuous(*z, t)).collect::<Vec<_>>(),
+            None => op.clone(),
+        });
+    }
+    let slowest = all_s.iter().map(|z| -z.re).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
+    let auto_horizon = if slowest.is_finite() { 7.0 / slowest } else { 10.0 } * if limits.iter().any(|l| l.is_some()) { 2.0 } else { 1.0 };
+    let resp = match t {
+        None => {
+            let sim = SimulationSpec { initial_state: DVector::from_vec(x0.clone()), duration: req.duration, limits: req.limits.clone() };
+            closed_loop_response(a, b, &k_x, &sim, SimulationParams::default()).map_err(|e| infeasible(&e))?
+        }
+        _ => {
+            // Digital regulator: the sampled state feedback on the continuous (or given discrete) plant.
+            let ctrl = crate::loop_sim::LoopController {
+                k: k_x.clone(),
+                k_delay: k_u.clone(),
+                observer: None,
+                observer_form: ObserverForm::Predictor,
+                current_gain: None,
+                tracking: crate::loop_sim::TrackingLaw::None,
+                tracked_outputs: Vec::new(),
+                sample_time: t,
+            };
+            let duration = req.duration.unwrap_or(auto_horizon);
+            let sc = crate::loop_sim::LoopScenario {
+                x0: DVector::from_vec(x0.clone()),
+                xhat0: None,
+                duration,
+                reference: Vec::new(),
+                reference_time: 0.0,
+                disturbance: Vec::new(),
+                disturbance_time: 0.0,
+                noise: crate::loop_sim::Noise::None,
+                limits: limits.clone(),
+                continuous_step: None,
+            };
+            let lr = run_loop(plant, spec, &ctrl, &sc).map_err(|e| infeasible(&e))?;
+            crate::simulate::Response {
+                step: t.unwrap_or(0.0),
+                duration,
+                duration_chosen: req.duration.is_none(),
+                diverged: lr.diverged,
+                time: lr.time,
+                states: lr.states,
+                inputs: lr.inputs,
+                commanded: lr.commanded,
+            }
+        }
+    };
     let settling: Vec<Option<f64>> = resp.states.iter().map(|s| metrics::settling_time(&resp.time, s, 0.0, req.band)).collect();
     let overshoot: Vec<Option<f64>> = resp.states.iter().map(|s| metrics::overshoot(s)).collect();
     let peak_state: Vec<f64> = resp.states.iter().map(|s| metrics::peak_magnitude(s)).collect();
@@ -701,7 +1373,7 @@ pub fn run(req: &DesignRequest) -> Result<DesignResult, DesignError> {
         out
     };
     let simulation = SimulationResult {
-        initial_state: x0,
+        initial_state: x0.clone(),
         initial_state_chosen: x0_chosen,
         duration: resp.duration,
         duration_chosen: resp.duration_chosen,
@@ -715,10 +1387,178 @@ pub fn run(req: &DesignRequest) -> Result<DesignResult, DesignError> {
         overshoot,
         peak_state,
         peak_input,
-        input_limit: limits,
+        input_limit: limits.clone(),
         first_saturation: first_sat,
         time_saturated: time_sat,
     };
+    // ---- version 2 sections.
+    let discrete_plant = match (&spec.implementation, t) {
+        (Some(imp), Some(ts)) => Some(DiscretePlantResult { a: rows(&ad), b: rows(&bd), sample_time: ts, method: "zoh", computation_delay: imp.computation_delay }),
+        _ => None,
+    };
+    let observer_result = observer.as_ref().map(|(od, op, form)| ObserverResult {
+        gain: rows(&od.gain),
+        current_gain: od.current_gain.as_ref().map(rows),
+        form: if t.is_some() { form.key() } else { "continuous" },
+        requested_poles: op.iter().map(|z| pair(*z)).collect(),
+        achieved_poles: od.placement.achieved_poles.iter().map(|z| pair(*z)).collect(),
+        max_pole_error: od.placement.max_pole_error,
+        eigenvector_condition: od.placement.eigenvector_condition,
+        gain_norm: od.gain_norm,
+        noise_to_input_gain: crate::linalg::svd::try_norm2(&(&k_x * &od.gain), crate::linalg::svd::SvdParams::default()).unwrap_or(f64::NAN),
+        detectable: obsv.as_ref().is_some_and(|o| o.stable_hidden_modes),
+    });
+    let names_of = |idx: &[usize]| idx.iter().map(|&i| plant.output_names()[i].clone()).collect::<Vec<_>>();
+    let tracking_result = match (&spec.tracking, &feedforward, &k_i) {
+        (TrackingSpec::Feedforward { outputs }, Some((nx, nu)), _) => Some(TrackingResult::Feedforward { outputs: names_of(outputs), nx: rows(nx), nu: rows(nu) }),
+        (TrackingSpec::Integral { outputs, .. }, _, Some(ki)) => Some(TrackingResult::Integral {
+            outputs: names_of(outputs),
+            state_gain: rows(&k_x),
+            integral_gain: rows(ki),
+            anti_windup: spec.anti_windup.key(),
+            time_constant: match spec.anti_windup {
+                crate::controller::AntiWindup::BackCalculation { time_constant } => Some(time_constant),
+                _ => None,
+            },
+        }),
+        _ => None,
+    };
+    if let Some(a) = &advice {
+        if a.verdict == "too-slow" {
+            warnings.push(Warning::new("sample-rate-too-slow", a.message.clone()));
+        }
+    }
+    if let Some((od, _, _)) = &observer {
+        if od.placement.max_pole_error > wp.inaccurate_placement {
+            warnings.push(Warning::new("observer-inaccurate", format!("The observer poles are achieved only to within {} (relative).", fmt_num(od.placement.max_pole_error))));
+        }
+        if !(od.placement.eigenvector_condition <= wp.fragile_condition) {
+            warnings.push(Warning::new("fragile-observer", format!("The observer's eigenvector condition number is {}: its poles are sensitive to model errors.", fmt_num(od.placement.eigenvector_condition))));
+        }
+    }
+    // The whole loop, when anything beyond plain state feedback was asked for.
+    let closed_loop = if spec.observer.is_some() || !matches!(spec.tracking, TrackingSpec::None) || t.is_some() {
+        let tracking_law = match (&feedforward, &k_i) {
+            (Some((nx, nu)), _) => crate::loop_sim::TrackingLaw::Feedforward { nx: nx.clone(), nu: nu.clone() },
+            (None, Some(ki)) => crate::loop_sim::TrackingLaw::Integral { ki: ki.clone(), anti_windup: spec.anti_windup },
+            _ => crate::loop_sim::TrackingLaw::None,
+        };
+        let ctrl = crate::loop_sim::LoopController {
+            k: k_x.clone(),
+            k_delay: k_u.clone(),
+            observer: observer.as_ref().map(|(od, _, _)| od.gain.clone()),
+            observer_form: observer.as_ref().map_or(ObserverForm::Predictor, |(_, _, f)| *f),
+            current_gain: observer.as_ref().and_then(|(od, _, _)| od.current_gain.clone()),
+            tracking: tracking_law,
+            tracked_outputs: tracked.clone(),
+            sample_time: t,
+        };
+        let tracking_on = !matches!(spec.tracking, TrackingSpec::None);
+        let reference = if tracking_on { if spec.scenario.reference.is_empty() { vec![1.0; q] } else { spec.scenario.reference.clone() } } else { Vec::new() };
+        let x0_loop = if tracking_on && req.initial_state.is_none() { vec![0.0; n] } else { x0.clone() };
+        let events = spec.scenario.reference_time.max(if spec.scenario.disturbance.is_empty() { 0.0 } else { spec.scenario.disturbance_time });
+        let duration = req.duration.unwrap_or(events + auto_horizon * if spec.scenario.disturbance.is_empty() { 1.0 } else { 2.0 });
+        let noise = if spec.scenario.noise_std.iter().any(|s| *s > 0.0) {
+            crate::loop_sim::Noise::Gaussian { std: spec.scenario.noise_std.clone(), seed: spec.scenario.seed }
+        } else {
+            crate::loop_sim::Noise::None
+        };
+        let sc = crate::loop_sim::LoopScenario {
+            x0: DVector::from_vec(x0_loop),
+            xhat0: spec.scenario.initial_estimate.clone().map(DVector::from_vec),
+            duration,
+            reference: reference.clone(),
+            reference_time: spec.scenario.reference_time,
+            disturbance: spec.scenario.disturbance.clone(),
+            disturbance_time: spec.scenario.disturbance_time,
+            noise,
+            limits: limits.clone(),
+            continuous_step: None,
+        };
+        let lr = run_loop(plant, spec, &ctrl, &sc).map_err(|e| match e {
+            crate::loop_sim::LoopError::NoiseNeedsDigital => DesignError::Input(InputError::new("simulation.noise_std", e.to_string())),
+            other => infeasible(&other),
+        })?;
+        let tracked_metrics: Vec<OutputLoopMetrics> = tracked
+            .iter()
+            .enumerate()
+            .map(|(j, &o)| {
+                let window_end = if !spec.scenario.disturbance.is_empty() && spec.scenario.disturbance_time > spec.scenario.reference_time { spec.scenario.disturbance_time } else { f64::INFINITY };
+                let mtr = crate::loop_sim::tracking_metrics(&lr.time, &lr.outputs[o], spec.scenario.reference_time, reference[j], req.band, window_end);
+                OutputLoopMetrics { name: plant.output_names()[o].clone(), reference: reference[j], rise_time: mtr.rise_time, settling_time: mtr.settling_time, overshoot: mtr.overshoot, steady_state_error: mtr.steady_state_error }
+            })
+            .collect();
+        let input_metrics: Vec<InputLoopMetrics> = (0..m)
+            .map(|i| InputLoopMetrics {
+                name: plant.input_names()[i].clone(),
+                peak_command: metrics::peak_magnitude(&lr.commanded[i]),
+                limit: limits[i],
+                time_saturated: limits[i].map_or(0.0, |l| metrics::time_exceeding(&lr.time, &lr.commanded[i], l)),
+            })
+            .collect();
+        for im in &input_metrics {
+            if let Some(l) = im.limit {
+                if im.peak_command > l && !warnings.iter().any(|w| w.code == "input-over-limit" && w.message.contains(&im.name)) {
+                    warnings.push(Warning::new(
+                        "loop-input-over-limit",
+                        format!("In the loop simulation, {} is commanded up to {} against its limit {} and saturates for {} s.", im.name, fmt_num(im.peak_command), fmt_num(l), fmt_num(im.time_saturated)),
+                    ));
+                }
+            }
+        }
+        // Separation principle: eigenvalues of the linear loop with observer (no integrator, no delay).
+        let (loop_poles, separation_error) = match (&observer, k_u.is_none() && k_i.is_none(), plant.c()) {
+            (Some((od, _, form)), true, Some(c)) if *form == ObserverForm::Predictor || t.is_none() => {
+                let l = &od.gain;
+                let mut big = DMatrix::<f64>::zeros(2 * n, 2 * n);
+                big.view_mut((0, 0), (n, n)).copy_from(&ad);
+                big.view_mut((0, n), (n, n)).copy_from(&(-(&bd * &k_x)));
+                big.view_mut((n, 0), (n, n)).copy_from(&(l * c));
+                big.view_mut((n, n), (n, n)).copy_from(&(&ad - l * c - &bd * &k_x));
+                match try_eigenvalues(&big) {
+                    Ok(lp) => {
+                        let mut union: Vec<Complex64> = placement.achieved_poles.clone();
+                        union.extend(od.placement.achieved_poles.iter().cloned());
+                        let err = crate::place::max_matching_error(&union, &lp, big.norm());
+                        (Some(lp.iter().map(|z| pair(*z)).collect()), Some(err))
+                    }
+                    Err(_) => (None, None),
+                }
+            }
+            _ => (None, None),
+        };
+        let stride = lr.time.len().div_ceil(1000).max(1);
+        let dec = |v: &Vec<f64>| -> Vec<f64> {
+            let mut out: Vec<f64> = v.iter().step_by(stride).cloned().collect();
+            if !v.is_empty() && (v.len() - 1) % stride != 0 {
+                if let Some(last) = v.last() {
+                    out.push(*last);
+                }
+            }
+            out
+        };
+        Some(LoopResult {
+            sample_time: t,
+            observer_form: observer.as_ref().map(|(_, _, f)| if t.is_some() { f.key() } else { "continuous" }),
+            duration,
+            diverged: lr.diverged,
+            time: dec(&lr.time),
+            outputs: lr.outputs.iter().map(dec).collect(),
+            measured: lr.measured.iter().map(dec).collect(),
+            reference: lr.reference.iter().map(dec).collect(),
+            states: lr.states.iter().map(dec).collect(),
+            estimates: lr.estimates.iter().map(dec).collect(),
+            inputs: lr.inputs.iter().map(dec).collect(),
+            commanded: lr.commanded.iter().map(dec).collect(),
+            tracked: tracked_metrics,
+            input_metrics,
+            loop_poles,
+            separation_error,
+        })
+    } else {
+        None
+    };
+
     Ok(DesignResult {
         format: RESULT_FORMAT,
         version: RESULT_VERSION,
@@ -735,8 +1575,8 @@ pub fn run(req: &DesignRequest) -> Result<DesignResult, DesignError> {
         },
         open_loop_poles: open_loop.iter().map(|z| pair(*z)).collect(),
         feedback: FeedbackResult {
-            gain: rows(&placement.gain),
-            requested_poles: req.poles.iter().map(|z| pair(*z)).collect(),
+            gain: rows(&k_x),
+            requested_poles: dpoles.iter().map(|z| pair(*z)).collect(),
             achieved_poles: placement.achieved_poles.iter().map(|z| pair(*z)).collect(),
             max_pole_error: placement.max_pole_error,
             eigenvector_condition: placement.eigenvector_condition,
@@ -747,11 +1587,19 @@ pub fn run(req: &DesignRequest) -> Result<DesignResult, DesignError> {
             input_rank: placement.input_rank,
             not_assigned: placement.not_assigned.iter().map(|z| pair(*z)).collect(),
             fixed_modes: placement.fixed_modes.iter().map(|z| pair(*z)).collect(),
+            delay_gain: k_u.as_ref().map(rows),
         },
         controllability: structure(&ctrb),
         observability: obsv.as_ref().map(structure),
         simulation,
         warnings,
+        domain: if t.is_some() { "discrete" } else { "continuous" },
+        sample_time: t,
+        discrete_plant,
+        observer: observer_result,
+        tracking: tracking_result,
+        sample_rate: advice.map(|a| SampleRateResult { bandwidth: a.bandwidth, samples_per_bandwidth: a.samples_per_bandwidth, verdict: a.verdict, message: a.message }),
+        closed_loop,
     })
 }
 
@@ -760,8 +1608,8 @@ pub fn run(req: &DesignRequest) -> Result<DesignResult, DesignError> {
 /// # Errors
 /// See [`DesignError`].
 pub fn run_text(text: &str) -> Result<DesignResult, DesignError> {
-    let req = parse_design(text)?;
-    run(&req)
+    let (req, spec) = parse_design_full(text)?;
+    run_with(&req, &spec)
 }
 
 /// A short human number: 4 significant figures, scientific when large or small.

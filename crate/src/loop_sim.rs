@@ -9,7 +9,7 @@
 //! 2. estimate: predictor `x̂_k`, or current `x̄_k = x̂_k + L_c (y_k − C x̂_k − D u_held)`
 //!    (no observer: the state itself);
 //! 3. command `u_cmd,k` = `−K x̂` | `N_u r − K (x̂ − N_x r)` | `−K_x x̂ − K_i z` (`− K_u u_prev`
-//!    with a computation delay); apply `u_k = sat(u_cmd,k)`;
+//!    with a computation delay, `− K_u (u_prev − N_u r)` with feedforward); apply `u_k = sat(u_cmd,k)`;
 //! 4. integrator `z_{k+1} = z_k + T (r_k − y_k)` (tracked outputs), frozen while any input is
 //!    clipped (clamp), or with `− K_i⁺ (u_k − u_cmd,k) / T_t` added (back-calculation);
 //! 5. observer `x̂_{k+1} = Φ x̂_k + Γ u_a + L (y_k − C x̂_k − D u_held)` (predictor) or
@@ -255,7 +255,13 @@ pub fn simulate_loop(
         return Err(LoopError::BadTime { what: "the duration", value: sc.duration });
     }
     match ctrl.sample_time {
-        Some(t) => digital(a, b, c, d, ctrl, sc, t),
+        Some(t) => {
+            if !(t.is_finite() && t > 0.0) {
+                return Err(LoopError::BadTime { what: "the sample time", value: t });
+            }
+            let (phi, gamma) = try_zero_order_hold(a, b, t)?;
+            digital(&phi, &gamma, c, d, ctrl, sc, t)
+        }
         None => {
             if !matches!(sc.noise, Noise::None) {
                 return Err(LoopError::NoiseNeedsDigital);
@@ -273,15 +279,37 @@ fn step_value(values: &[f64], len: usize, time: f64, at: f64, eps: f64) -> DVect
     }
 }
 
-fn digital(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario, t: f64) -> Result<LoopResponse, LoopError> {
+/// Simulates a digital loop around a plant that is itself given in discrete time
+/// (`x[k+1] = Φ x[k] + Γ (u[k] + w[k])`), at its sample time `ctrl.sample_time`.
+///
+/// # Errors
+/// See [`LoopError`].
+pub fn simulate_sampled_loop(
+    phi: &DMatrix<f64>,
+    gamma: &DMatrix<f64>,
+    c: &DMatrix<f64>,
+    d: &DMatrix<f64>,
+    ctrl: &LoopController,
+    sc: &LoopScenario,
+) -> Result<LoopResponse, LoopError> {
+    let t = ctrl.sample_time.ok_or(LoopError::BadTime { what: "the sample time", value: 0.0 })?;
     if !(t.is_finite() && t > 0.0) {
         return Err(LoopError::BadTime { what: "the sample time", value: t });
     }
-    let n = a.nrows();
-    let m = b.ncols();
+    if sc.x0.len() != phi.nrows() {
+        return Err(LoopError::Size { what: "initial state", expected: phi.nrows(), found: sc.x0.len() });
+    }
+    if !(sc.duration.is_finite() && sc.duration > 0.0) {
+        return Err(LoopError::BadTime { what: "the duration", value: sc.duration });
+    }
+    digital(phi, gamma, c, d, ctrl, sc, t)
+}
+
+fn digital(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario, t: f64) -> Result<LoopResponse, LoopError> {
+    let n = phi.nrows();
+    let m = gamma.ncols();
     let p = c.nrows();
     let q = ctrl.tracked_outputs.len();
-    let (phi, gamma) = try_zero_order_hold(a, b, t)?;
     let steps = ((sc.duration / t).round() as usize).max(1);
     let limits: Vec<Option<f64>> = if sc.limits.is_empty() { vec![None; m] } else { sc.limits.clone() };
     let (ki, aw) = match &ctrl.tracking {
@@ -335,7 +363,11 @@ fn digital(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64
             TrackingLaw::Integral { ki, .. } => -(&ctrl.k * &estimate) - ki * &z,
         };
         if let Some(ku) = &ctrl.k_delay {
-            u_cmd -= ku * &u_prev;
+            // With feedforward the delayed input is fed back about its steady-state value N_u r.
+            match &ctrl.tracking {
+                TrackingLaw::Feedforward { nu, .. } => u_cmd -= ku * (&u_prev - nu * &r),
+                _ => u_cmd -= ku * &u_prev,
+            }
         }
         let (u, clipped) = clip(&u_cmd, &limits);
         let u_applied = if ctrl.k_delay.is_some() { u_prev.clone() } else { u.clone() };
@@ -362,10 +394,10 @@ fn digital(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64
         }
         xhat = match (&ctrl.observer, ctrl.observer_form, &ctrl.current_gain) {
             (None, _, _) => xhat,
-            (Some(_), ObserverForm::Current, Some(_)) => &phi * &estimate + &gamma * &u_applied,
-            (Some(l), _, _) => &phi * &xhat + &gamma * &u_applied + l * (&y - c * &xhat - d * &u_held),
+            (Some(_), ObserverForm::Current, Some(_)) => phi * &estimate + gamma * &u_applied,
+            (Some(l), _, _) => phi * &xhat + gamma * &u_applied + l * (&y - c * &xhat - d * &u_held),
         };
-        x = &phi * &x + &gamma * (&u_applied + &w);
+        x = phi * &x + gamma * (&u_applied + &w);
         u_held = u_applied;
         if ctrl.k_delay.is_some() {
             u_prev = u;
@@ -558,8 +590,19 @@ pub struct TrackingMetrics {
     pub steady_state_error: f64,
 }
 
-/// Figures for a step of the reference at `t_ref` (from the value at `t_ref` to `r_final`).
-pub fn tracking_metrics(t: &[f64], y: &[f64], t_ref: f64, r_final: f64, band: f64) -> TrackingMetrics {
+/// Figures for a step of the reference at `t_ref` (from the value at `t_ref` to `r_final`),
+/// evaluated up to `t_window_end` (e.g. the time a load disturbance strikes); the steady-state
+/// error is taken at the end of the whole run.
+pub fn tracking_metrics(t: &[f64], y: &[f64], t_ref: f64, r_final: f64, band: f64, t_window_end: f64) -> TrackingMetrics {
+    let last = y.last().copied().unwrap_or(0.0);
+    let end = t.iter().position(|&ti| ti >= t_window_end - 1e-12).map_or(y.len(), |i| i.max(1));
+    let (t, y) = (&t[..end.min(t.len())], &y[..end.min(y.len())]);
+    let mut m = tracking_metrics_in(t, y, t_ref, r_final, band);
+    m.steady_state_error = r_final - last;
+    m
+}
+
+fn tracking_metrics_in(t: &[f64], y: &[f64], t_ref: f64, r_final: f64, band: f64) -> TrackingMetrics {
     let start = t.iter().position(|&ti| ti >= t_ref - 1e-12).unwrap_or(0);
     let y0 = y.get(start).copied().unwrap_or(0.0);
     let step = r_final - y0;
@@ -633,7 +676,7 @@ mod tests {
             let exact = 1.0 - 3.0 * (-2.0 * t).exp() + 2.0 * (-3.0 * t).exp();
             assert!((y - exact).abs() < 1e-12, "t={t}: {y} vs {exact}");
         }
-        let m = tracking_metrics(&r.time, &r.outputs[0], 0.0, 1.0, 0.02);
+        let m = tracking_metrics(&r.time, &r.outputs[0], 0.0, 1.0, 0.02, f64::INFINITY);
         assert!(m.steady_state_error.abs() < 1e-6);
         assert!(m.overshoot == 0.0);
     }

@@ -60,7 +60,7 @@
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
 
-use crate::analysis::{staircase, AnalysisError};
+use crate::analysis::{staircase, AnalysisError, Domain};
 use crate::linalg::eigen::{sort_eigenvalues, try_eigenvalues, EigenError};
 use crate::linalg::qr::full_qr;
 use crate::linalg::svd::{try_condition_number, try_norm2, try_svd, SvdError, SvdParams};
@@ -80,6 +80,9 @@ pub struct PlacementParams {
     /// Sweeps between checks of `κ₂(X)`; also the length of the first stage in which every
     /// starting guess is refined before only the best ones continue. Default 40.
     pub condition_check_interval: usize,
+    /// Continuous or discrete time: decides whether a fixed (uncontrollable) mode is
+    /// acceptable. Default continuous.
+    pub domain: Domain,
     /// How many of the starting guesses continue after the first stage. Default 1.
     pub finalists: usize,
     /// Sweeps between refactorisations of `X⁻¹` (rank-one updates in between). Default 4.
@@ -98,6 +101,7 @@ impl Default for PlacementParams {
             condition_check_interval: 40,
             refactor_interval: 4,
             finalists: 1,
+            domain: Domain::Continuous,
             condition_stall_tolerance: 1e-4,
         }
     }
@@ -235,8 +239,11 @@ pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex6
     let au = st.a.view((nc, nc), (n - nc, n - nc)).into_owned();
     let fixed = try_eigenvalues(&au)?;
     let anorm = try_norm2(a, SvdParams::default())?;
-    let axis_tol = params.controllability_tolerance * anorm.max(1.0);
-    if let Some(z) = fixed.iter().rev().find(|z| z.re >= -axis_tol) {
+    let axis_tol = match params.domain {
+        Domain::Continuous => params.controllability_tolerance * anorm.max(1.0),
+        Domain::Discrete => params.controllability_tolerance,
+    };
+    if let Some(z) = fixed.iter().rev().find(|z| !params.domain.is_strictly_stable(**z, axis_tol)) {
         return Err(PlacementError::UncontrollableUnstableMode { pole: *z });
     }
     let (assigned, dropped) = if poles.len() == nc {
