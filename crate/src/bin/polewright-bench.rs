@@ -4,6 +4,9 @@
 //! (written by `tests/bench/compare_scipy.py`), times `state_feedback_gain` on each case and prints
 //! one JSON object per line: `{"name", "seconds" (median per placement), "repeats",
 //! "max_rel_error", "eigenvector_condition", "iterations", "error"}`.
+//!
+//! `polewright-bench --loop tests/fixtures/loop.json` times the whole-loop simulation of the
+//! ten-state case (observer, integral action, 5000 samples) and prints the median.
 
 use std::time::Instant;
 
@@ -33,7 +36,73 @@ fn poles(v: &Value) -> Option<Vec<Complex64>> {
     v.as_array()?.iter().map(|p| Some(Complex64::new(p.get(0)?.as_f64()?, p.get(1)?.as_f64()?))).collect()
 }
 
+fn loop_benchmark(path: &str) {
+    use polewright::controller::{AntiWindup, ObserverForm};
+    use polewright::loop_sim::{simulate_loop, LoopController, LoopScenario, Noise, TrackingLaw};
+    let Ok(text) = std::fs::read_to_string(path) else {
+        eprintln!("polewright-bench: cannot read {path}");
+        std::process::exit(2);
+    };
+    let Ok(doc) = serde_json::from_str::<Value>(&text) else {
+        eprintln!("polewright-bench: {path} is not JSON");
+        std::process::exit(2);
+    };
+    let empty = Vec::new();
+    let Some(case) = doc["cases"].as_array().unwrap_or(&empty).iter().find(|c| c["kind"] == "digital-ten-state") else {
+        eprintln!("polewright-bench: no ten-state case in {path}");
+        std::process::exit(2);
+    };
+    let get = |v: &Value| matrix(v).unwrap_or_else(|| DMatrix::zeros(0, 0));
+    let vecv = |v: &Value| -> Vec<f64> { v.as_array().map(|a| a.iter().filter_map(|x| x.as_f64()).collect()).unwrap_or_default() };
+    let (a, b, c) = (get(&case["a"]), get(&case["b"]), get(&case["c"]));
+    let g = &case["gains"];
+    let p = c.nrows();
+    let ctrl = LoopController {
+        k: get(&g["k_x"]),
+        k_delay: None,
+        observer: Some(get(&g["l"])),
+        observer_form: ObserverForm::Predictor,
+        current_gain: None,
+        tracking: TrackingLaw::Integral { ki: get(&g["k_i"]), anti_windup: AntiWindup::None },
+        tracked_outputs: (0..p).collect(),
+        sample_time: case["t_sample"].as_f64(),
+    };
+    let sc = LoopScenario {
+        x0: nalgebra::DVector::from_vec(vecv(&case["x0"])),
+        xhat0: None,
+        duration: case["duration"].as_f64().unwrap_or(1.0),
+        reference: vecv(&case["reference"]),
+        reference_time: case["reference_time"].as_f64().unwrap_or(0.0),
+        disturbance: vecv(&case["disturbance"]),
+        disturbance_time: case["disturbance_time"].as_f64().unwrap_or(0.0),
+        noise: Noise::None,
+        limits: vec![],
+        continuous_step: None,
+    };
+    let d = DMatrix::zeros(p, b.ncols());
+    let mut times = Vec::new();
+    let mut samples = 0;
+    for _ in 0..30 {
+        let t = Instant::now();
+        match simulate_loop(&a, &b, &c, &d, &ctrl, &sc) {
+            Ok(r) => samples = r.time.len() - 1,
+            Err(e) => {
+                eprintln!("polewright-bench: {e}");
+                std::process::exit(1);
+            }
+        }
+        times.push(t.elapsed().as_secs_f64());
+    }
+    times.sort_by(f64::total_cmp);
+    println!("{}", json!({"name": case["name"], "states": a.nrows(), "inputs": b.ncols(), "samples": samples, "median_seconds": times[times.len() / 2], "min_seconds": times[0], "repeats": times.len()}));
+}
+
 fn main() {
+    if std::env::args().nth(1).as_deref() == Some("--loop") {
+        let path = std::env::args().nth(2).unwrap_or_else(|| "tests/fixtures/loop.json".into());
+        loop_benchmark(&path);
+        return;
+    }
     let Some(path) = std::env::args().nth(1) else {
         eprintln!("usage: polewright-bench CASES.json");
         std::process::exit(2);
