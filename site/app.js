@@ -1,13 +1,15 @@
-// Polewright page bootstrap.
+// Polewright page bootstrap: wiring only.
 //
 // scripts/inline_page.py places this file after the wasm-bindgen glue in the
-// page's single inline module script, so `initSync`, `version`, `draw_pole_map`,
-// `pick_pole` and `draw_time_plot` below are the glue's own functions. The wasm
-// bytes come from the base64 data block #pw-wasm in the same page: nothing is
-// ever fetched. The inliner wraps this file in a block, so its names cannot
-// clash with the glue's. Keep this file small; the work belongs in Rust.
+// page's single inline module script, so `initSync`, `version`, `init_page`,
+// `update_page`, … below are the glue's own functions. The wasm bytes come from
+// the base64 data block #pw-wasm in the same page: nothing is ever fetched.
+// The inliner wraps this file in a block, so its names cannot clash with the
+// glue's. Rust (crate/src/web.rs) reads the form, designs, and builds every
+// result element and canvas; this file only forwards events to it.
 
 const byId = (id) => document.getElementById(id);
+const DEBOUNCE_MS = 150;
 
 function showError(message) {
   const box = byId('pw-error');
@@ -43,103 +45,96 @@ function wasmBytes() {
   return bytes;
 }
 
-// ---- illustrative data (replaced by the design results later) ----
-
-const demoPoles = {
-  open_loop: [[0, 0], [-1.2, 0], [3.1, 0], [-3.3, 0]],
-  closed_loop: [[-2, 1.5], [-2, -1.5], [-4, 0.8], [-4, -0.8]],
-  not_assigned: [[-0.6, 0]],
+let pending = 0;
+const designNow = guarded(() => {
+  clearTimeout(pending);
+  update_page();
+});
+const designSoon = () => {
+  clearTimeout(pending);
+  pending = setTimeout(designNow, DEBOUNCE_MS);
 };
 
-function toDiscrete(points, h) {
-  // z = exp(s h)
-  return points.map(([re, im]) => {
-    const r = Math.exp(re * h);
-    return [r * Math.cos(im * h), r * Math.sin(im * h)];
-  });
-}
-
-function poleScene() {
-  const discrete = byId('pw-domain').value === 'discrete';
-  if (!discrete) return { ...demoPoles, discrete };
-  const h = 0.25;
-  return {
-    open_loop: toDiscrete(demoPoles.open_loop, h),
-    closed_loop: toDiscrete(demoPoles.closed_loop, h),
-    not_assigned: toDiscrete(demoPoles.not_assigned, h),
-    discrete,
-  };
-}
-
-function timeScene() {
-  const t = [];
-  const x1 = [];
-  const x2 = [];
-  const u = [];
-  for (let i = 0; i <= 400; i += 1) {
-    const s = i * 0.01;
-    const e = Math.exp(-2 * s);
-    t.push(s);
-    x1.push(e * (Math.cos(1.5 * s) + 1.33 * Math.sin(1.5 * s)) * 0.8 + 0.2 * Math.exp(-4 * s));
-    x2.push(-e * 2.1 * Math.sin(1.5 * s));
-    u.push(Math.max(-2.5, -3.2 * e * Math.cos(1.5 * s - 0.4)));
-  }
-  return {
-    t,
-    series: [
-      { name: 'x₁ position', values: x1 },
-      { name: 'x₂ velocity', values: x2 },
-      { name: 'u input', values: u },
-    ],
-    limits: [
-      { value: 2.5, label: 'u max' },
-      { value: -2.5, label: 'u min' },
-    ],
-    band: { lower: -0.02, upper: 0.02, label: '±2 % band' },
-    x_label: 't [s]',
-    y_label: 'state / input',
-  };
-}
-
-function formatPole(p) {
-  const re = p.re.toPrecision(4).replace('-', '−');
-  const im = Math.abs(p.im).toPrecision(4);
-  return `${re} ${p.im < 0 ? '−' : '+'} ${im}j`;
-}
-
-const setNames = { open_loop: 'open-loop', closed_loop: 'closed-loop', not_assigned: 'not assignable' };
-
-const redraw = guarded(() => {
-  draw_pole_map('pw-pole-map', poleScene());
-  draw_time_plot('pw-time-plot', timeScene());
+const loadDemo = guarded(() => {
+  load_demo(Number(byId('pw-demo').value));
+  designNow();
 });
 
-const onPointer = guarded((event) => {
-  const pick = pick_pole('pw-pole-map', poleScene(), event.offsetX, event.offsetY);
-  byId('pw-pole-pick').textContent = pick
-    ? `${setNames[pick.set] || pick.set} pole ${pick.index + 1}: ${formatPole(pick)}`
-    : 'Point at a pole to read its value.';
+const POLE_KEYS = { ArrowRight: 1, ArrowDown: 1, ArrowLeft: -1, ArrowUp: -1 };
+const onPoleKey = guarded((event) => {
+  if (event.key in POLE_KEYS) step_pole(POLE_KEYS[event.key]);
+  else if (event.key === 'Home' || event.key === 'End') jump_pole(event.key === 'End');
+  else return;
+  event.preventDefault();
+});
+
+function selectText(el) {
+  const range = document.createRange();
+  range.selectNodeContents(el);
+  const sel = window.getSelection();
+  sel.removeAllRanges();
+  sel.addRange(range);
+}
+
+const copyGain = guarded(() => {
+  const text = gain_text();
+  const note = byId('pw-copy-status');
+  const pre = byId('pw-gain-text');
+  if (!text) {
+    note.textContent = 'There is no gain to copy.';
+    return;
+  }
+  const fallback = () => {
+    pre.closest('details').open = true;
+    selectText(pre);
+    note.textContent = 'The text is selected: press Ctrl+C (or ⌘C) to copy it.';
+  };
+  if (navigator.clipboard && navigator.clipboard.writeText) {
+    navigator.clipboard.writeText(text).then(() => {
+      note.textContent = 'Copied.';
+    }, fallback);
+  } else {
+    fallback();
+  }
 });
 
 const boot = guarded(() => {
   initSync({ module: wasmBytes() });
   byId('pw-version').textContent = version();
-  redraw();
-  byId('pw-status').textContent = 'Ready. Showing illustrative data.';
+  init_page();
+  update_page();
 });
 
 window.addEventListener('error', (e) => showError(`Polewright error: ${e.message}`));
 window.addEventListener('unhandledrejection', (e) => showError(`Polewright error: ${e.reason}`));
-byId('pw-form').addEventListener('submit', (e) => e.preventDefault());
-byId('pw-domain').addEventListener('change', redraw);
-byId('pw-pole-map').addEventListener('pointermove', onPointer);
+
+const form = byId('pw-form');
+form.addEventListener('submit', (e) => {
+  e.preventDefault();
+  designNow();
+});
+form.addEventListener('input', (e) => {
+  if (e.target.id !== 'pw-demo') designSoon();
+});
+byId('pw-demo').addEventListener('change', guarded((e) => show_demo_description(Number(e.target.value))));
+byId('pw-load-demo').addEventListener('click', loadDemo);
+byId('pw-copy-gain').addEventListener('click', copyGain);
+byId('pw-normalise').addEventListener('change', guarded((e) => set_state_scale(e.target.checked)));
+
+const poleMap = byId('pw-pole-map');
+poleMap.addEventListener('pointermove', guarded((e) => hover_pole(e.offsetX, e.offsetY)));
+poleMap.addEventListener('pointerleave', guarded(() => hover_pole(-1e6, -1e6)));
+poleMap.addEventListener('keydown', onPoleKey);
+poleMap.addEventListener('focus', guarded(() => step_pole(0)));
+poleMap.addEventListener('blur', guarded(() => clear_pole_focus()));
+
 let resizePending = false;
 window.addEventListener('resize', () => {
   if (resizePending) return;
   resizePending = true;
   requestAnimationFrame(() => {
     resizePending = false;
-    redraw();
+    guarded(redraw)();
   });
 });
 window.addEventListener('beforeprint', () => {

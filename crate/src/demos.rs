@@ -1,1 +1,148 @@
-//! (in progress)
+//! Demonstration plants for the page, as form text. All are invented, illustrative
+//! scenarios (not models of any real product); their numbers are round, plausible values.
+//!
+//! 1. A belt-driven positioning axis with a flexibly coupled tool head (the plant of
+//!    `examples/belt-axis.json`): 4 states, 1 input.
+//! 2. A two-zone heated plate with one heater under each zone: 4 states, 2 inputs.
+
+use serde::Serialize;
+
+use crate::form::FormInput;
+
+/// One demonstration: a title, a one-sentence description (saying "Illustrative") and the form text.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Demo {
+    pub title: &'static str,
+    pub description: &'static str,
+    pub form: FormInput,
+}
+
+/// Title and description only, for the page's selector.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DemoInfo {
+    pub title: &'static str,
+    pub description: &'static str,
+}
+
+fn belt_axis() -> Demo {
+    // Carriage m1 = 2.4 kg, head m2 = 0.6 kg, coupling stiffness k = 900 N/m and damping
+    // c = 1.5 N s/m, carriage viscous friction 4 N s/m, motor force on the carriage.
+    // Row 2: (-k, -(4 + c), k, c) / m1; row 4: (k, c, -k, -c) / m2; B = 1/m1 on row 2.
+    Demo {
+        title: "Belt-driven positioning axis with a flexible tool head",
+        description: "Illustrative, invented scenario: a 2.4 kg carriage pulled by a belt motor (at most 60 N) carries a 0.6 kg tool head on a springy coupling (900 N/m); the feedback returns both from a 50 mm offset while damping the coupling's wobble.",
+        form: FormInput {
+            a: "0 1 0 0\n-375 -2.291666666666667 375 0.625\n0 0 0 1\n1500 2.5 -1500 -2.5".into(),
+            b: "0\n0.4166666666666667\n0\n0".into(),
+            c: String::new(),
+            d: String::new(),
+            state_names: "carriage position, carriage velocity, head position, head velocity".into(),
+            state_units: "m, m/s, m, m/s".into(),
+            input_names: "motor force".into(),
+            input_units: "N".into(),
+            poles: "-12±9j, -20±30j".into(),
+            limits: "60".into(),
+            initial_state: "0.05 0 0.05 0".into(),
+            duration: String::new(),
+        },
+    }
+}
+
+fn heated_plate() -> Demo {
+    // Each zone: heat capacity 400 J/K, 0.5 K/W to its heater element (50 J/K), 2 K/W to the
+    // other zone, 4 K/W to the surroundings. States are deviations from the set temperatures;
+    // inputs are deviations of the heater powers from their steady values (at most ±150 W).
+    //   zone:   dT1/dt = (H1 − T1)/(0.5·400) − (T1 − T2)/(2·400) − T1/(4·400)
+    //   heater: dH1/dt = P1/50 − (H1 − T1)/(0.5·50)
+    Demo {
+        title: "Two-zone heated plate with two heaters",
+        description: "Illustrative, invented scenario: an aluminium plate with two heated zones that leak heat into each other and the room; two 150 W heater corrections bring both zones back to their set temperatures after a cold start 4 K and 2 K below.",
+        form: FormInput {
+            a: "-0.006875 0.00125 0.005 0\n0.00125 -0.006875 0 0.005\n0.04 0 -0.04 0\n0 0.04 0 -0.04".into(),
+            b: "0 0\n0 0\n0.02 0\n0 0.02".into(),
+            c: "1 0 0 0\n0 1 0 0".into(),
+            d: String::new(),
+            state_names: "zone 1 temperature, zone 2 temperature, heater 1 temperature, heater 2 temperature".into(),
+            state_units: "K, K, K, K".into(),
+            input_names: "heater 1 power, heater 2 power".into(),
+            input_units: "W, W".into(),
+            poles: "-0.02, -0.025, -0.06±0.02j".into(),
+            limits: "150, 150".into(),
+            initial_state: "-4 -2 -4 -2".into(),
+            duration: String::new(),
+        },
+    }
+}
+
+/// Every demonstration, in the order the page lists them (the first is loaded on first open).
+pub fn demos() -> Vec<Demo> {
+    vec![belt_axis(), heated_plate()]
+}
+
+/// Titles and descriptions, in order.
+pub fn demo_list() -> Vec<DemoInfo> {
+    demos().into_iter().map(|d| DemoInfo { title: d.title, description: d.description }).collect()
+}
+
+/// Demonstration `index`, if there is one.
+pub fn demo(index: usize) -> Option<Demo> {
+    demos().into_iter().nth(index)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::form::{evaluate_form, FormStatus};
+
+    #[test]
+    fn every_demo_designs_a_stable_closed_loop() {
+        let all = demos();
+        assert!(all.len() >= 2);
+        for d in &all {
+            assert!(d.description.starts_with("Illustrative"), "{}", d.title);
+            let out = evaluate_form(&d.form);
+            assert!(out.errors.is_empty(), "{}: {:?}", d.title, out.errors);
+            assert_eq!(out.status, FormStatus::Designed, "{}: {:?}", d.title, out.design_error);
+            let r = out.design.as_ref().unwrap();
+            assert!(r.feedback.achieved_poles.iter().all(|p| p[0] < 0.0), "{}: {:?}", d.title, r.feedback.achieved_poles);
+            assert!(r.feedback.max_pole_error < 1e-8, "{}: {}", d.title, r.feedback.max_pole_error);
+            assert!(r.controllability.complete, "{}", d.title);
+            assert!(!r.simulation.diverged, "{}", d.title);
+            assert!(r.simulation.settling_time.iter().all(|t| t.is_some()), "{}: {:?}", d.title, r.simulation.settling_time);
+            // Names and units are given for every state and input.
+            assert!(r.plant.state_names.iter().all(|n| !n.starts_with('x')), "{}", d.title);
+            assert!(r.plant.state_units.iter().chain(&r.plant.input_units).all(|u| !u.is_empty()), "{}", d.title);
+            assert!(r.simulation.input_limit.iter().all(|l| l.is_some()), "{}", d.title);
+            // No warning other than a possible (brief) saturation.
+            assert!(r.warnings.iter().all(|w| w.code == "input-over-limit"), "{}: {:?}", d.title, r.warnings);
+        }
+    }
+
+    #[test]
+    fn the_belt_axis_is_the_example_file() {
+        let text = include_str!("../../examples/belt-axis.json");
+        let from_file = crate::design::run_text(text).unwrap();
+        let out = evaluate_form(&belt_axis().form);
+        let from_form = out.design.unwrap();
+        assert_eq!(from_file.feedback.gain, from_form.feedback.gain);
+        assert_eq!(from_form.plant.inputs, 1);
+        assert_eq!(from_form.plant.states, 4);
+        assert_eq!(from_form.simulation.input_limit, vec![Some(60.0)]);
+    }
+
+    #[test]
+    fn the_second_demo_has_two_inputs() {
+        let out = evaluate_form(&heated_plate().form);
+        let d = out.design.unwrap();
+        assert_eq!(d.plant.inputs, 2);
+        assert!(d.observability.as_ref().is_some_and(|o| o.complete));
+    }
+
+    #[test]
+    fn list_and_lookup_agree() {
+        let list = demo_list();
+        assert_eq!(list.len(), demos().len());
+        assert_eq!(demo(1).map(|d| d.title), Some(list[1].title));
+        assert!(demo(list.len()).is_none());
+    }
+}

@@ -18,6 +18,7 @@ pub mod place;
 pub mod plant;
 pub mod plot;
 pub mod poles;
+pub mod search;
 pub mod simulate;
 pub mod warnings;
 

@@ -857,6 +857,8 @@ pub struct PoleMapScene {
     pub not_assigned: Vec<[f64; 2]>,
     /// Discrete-time map: the stable region is the unit disc, not the left half-plane.
     pub discrete: bool,
+    /// A point to ring (the pole chosen by keyboard or pointer), if any.
+    pub highlight: Option<[f64; 2]>,
 }
 
 /// Which list of a [`PoleMapScene`] a marker belongs to.
@@ -880,7 +882,35 @@ pub struct PolePick {
 impl PoleMapScene {
     /// Field names, for front ends that must reject unknown keys themselves.
     pub const FIELDS: &'static [&'static str] =
-        &["open_loop", "closed_loop", "not_assigned", "discrete"];
+        &["open_loop", "closed_loop", "not_assigned", "discrete", "highlight"];
+
+    /// Every finite marker in keyboard order: closed-loop poles, then requested
+    /// poles that could not be assigned, then open-loop poles; within each set
+    /// by increasing real part, then decreasing imaginary part. `index` is the
+    /// position in the scene's own list.
+    pub fn markers(&self) -> Vec<PolePick> {
+        let mut out = Vec::new();
+        for (set, pts) in [
+            (PoleSet::ClosedLoop, &self.closed_loop),
+            (PoleSet::NotAssigned, &self.not_assigned),
+            (PoleSet::OpenLoop, &self.open_loop),
+        ] {
+            let mut picks: Vec<PolePick> = pts
+                .iter()
+                .enumerate()
+                .filter(|(_, p)| p[0].is_finite() && p[1].is_finite())
+                .map(|(index, p)| PolePick {
+                    set,
+                    index,
+                    re: p[0],
+                    im: p[1],
+                })
+                .collect();
+            picks.sort_by(|a, b| a.re.total_cmp(&b.re).then(b.im.total_cmp(&a.im)));
+            out.extend(picks);
+        }
+        out
+    }
 
     /// The lists in drawing order (bottom first) with their set tag.
     pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 3] {
@@ -1014,9 +1044,64 @@ impl TimePlotScene {
 
     /// The frame the painter uses for a canvas of `outer` size.
     pub fn frame(&self, outer: Rect) -> Frame {
-        let (x, y) = self.data_ranges();
-        Frame::new(outer, Margins::STANDARD, x, y)
+        self.frame_with_legend_rows(outer, 1)
     }
+
+    /// The frame when the legend above the plot takes `rows` rows
+    /// ([`LEGEND_ROW_PX`] each beyond the first, which fits the standard margin).
+    pub fn frame_with_legend_rows(&self, outer: Rect, rows: usize) -> Frame {
+        let (x, y) = self.data_ranges();
+        let extra = rows.clamp(1, 12).saturating_sub(1) as f64 * LEGEND_ROW_PX;
+        let margins = Margins {
+            top: Margins::STANDARD.top + extra,
+            ..Margins::STANDARD
+        };
+        Frame::new(outer, margins, x, y)
+    }
+}
+
+/// Height of one legend row, in CSS pixels.
+pub const LEGEND_ROW_PX: f64 = 17.0;
+
+/// Width of a legend entry's swatch plus the gaps around it, in CSS pixels.
+pub const LEGEND_SWATCH_PX: f64 = 32.0;
+
+/// Flows legend entries of the given label widths into right-aligned rows no wider
+/// than `available`. Returns, per entry, its row (0 = top) and the x offset of the
+/// entry's left edge (swatch included) from the left end of `available`, in entry
+/// order; entries keep their order left to right, top to bottom. An entry wider
+/// than `available` gets a row of its own.
+pub fn flow_legend(label_widths: &[f64], available: f64) -> Vec<(usize, f64)> {
+    let avail = if available.is_finite() { available.max(0.0) } else { 0.0 };
+    let width = |w: f64| LEGEND_SWATCH_PX + if w.is_finite() { w.max(0.0) } else { 0.0 };
+    // Rows of entry indices, filled left to right.
+    let mut rows: Vec<Vec<usize>> = Vec::new();
+    let mut used = 0.0;
+    for (i, w) in label_widths.iter().enumerate() {
+        let w = width(*w);
+        match rows.last_mut() {
+            Some(row) if used + w <= avail => {
+                row.push(i);
+                used += w;
+            }
+            _ => {
+                rows.push(vec![i]);
+                used = w;
+            }
+        }
+    }
+    let mut out = vec![(0, 0.0); label_widths.len()];
+    for (r, row) in rows.iter().enumerate() {
+        let total: f64 = row.iter().filter_map(|i| label_widths.get(*i)).map(|w| width(*w)).sum();
+        let mut x = (avail - total).max(0.0);
+        for i in row {
+            if let (Some(slot), Some(w)) = (out.get_mut(*i), label_widths.get(*i)) {
+                *slot = (r, x);
+                x += width(*w);
+            }
+        }
+    }
+    out
 }
 
 #[cfg(test)]
@@ -1544,6 +1629,46 @@ mod tests {
             Ok(serde_json::Value::Object(m)) => m.keys().cloned().collect(),
             other => panic!("not an object: {other:?}"),
         }
+    }
+
+    #[test]
+    fn legend_flows_into_right_aligned_rows() {
+        let w = LEGEND_SWATCH_PX;
+        let flow = flow_legend(&[50.0, 50.0, 50.0], 2.0 * (w + 50.0) + 1.0);
+        assert_eq!(flow.iter().map(|f| f.0).collect::<Vec<_>>(), [0, 0, 1]);
+        // Right-aligned: the first row ends at the right edge.
+        assert!((flow[1].1 + w + 50.0 - (2.0 * (w + 50.0) + 1.0)).abs() < 1e-9);
+        assert!(flow[0].1 < flow[1].1);
+        let wide = flow_legend(&[500.0, 10.0], 100.0);
+        assert_eq!(wide.iter().map(|f| f.0).collect::<Vec<_>>(), [0, 1]);
+        assert_eq!(wide[0].1, 0.0);
+        assert!(flow_legend(&[], 100.0).is_empty());
+        assert_eq!(flow_legend(&[f64::NAN, f64::INFINITY], f64::NAN).len(), 2);
+        let one_row = TimePlotScene::default().frame(Rect::sized(400.0, 300.0));
+        let three = TimePlotScene::default().frame_with_legend_rows(Rect::sized(400.0, 300.0), 3);
+        assert!((three.plot.y - one_row.plot.y - 2.0 * LEGEND_ROW_PX).abs() < 1e-9);
+    }
+
+    #[test]
+    fn pole_markers_come_in_keyboard_order() {
+        let scene = PoleMapScene {
+            open_loop: vec![[1.0, 0.0], [-3.0, 0.0]],
+            closed_loop: vec![[-2.0, -1.0], [-5.0, 0.0], [-2.0, 1.0], [f64::NAN, 0.0]],
+            not_assigned: vec![[-1.0, 0.0]],
+            ..Default::default()
+        };
+        let order: Vec<(PoleSet, usize)> = scene.markers().iter().map(|p| (p.set, p.index)).collect();
+        assert_eq!(
+            order,
+            [
+                (PoleSet::ClosedLoop, 1),
+                (PoleSet::ClosedLoop, 2),
+                (PoleSet::ClosedLoop, 0),
+                (PoleSet::NotAssigned, 0),
+                (PoleSet::OpenLoop, 1),
+                (PoleSet::OpenLoop, 0),
+            ]
+        );
     }
 
     #[test]

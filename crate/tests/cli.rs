@@ -27,7 +27,7 @@ fn textbook_example_from_a_file() {
     assert_eq!(code, 0, "{err}");
     let v: serde_json::Value = serde_json::from_str(&out).expect("result JSON");
     assert_eq!(v["format"], "polewright.result");
-    assert_eq!(v["version"], 1);
+    assert_eq!(v["version"], 2);
     assert_eq!(v["convention"], "u = -K x");
     let k: Vec<f64> = v["feedback"]["gain"][0].as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect();
     for (got, want) in k.iter().zip([199.0, 55.0, 8.0]) {

@@ -164,3 +164,105 @@ fn internal_errors_are_shown_as_text() {
     );
     assert!(!el.has_attribute("hidden"));
 }
+
+/// Reads `obj.key` (nested keys separated by dots).
+fn get(obj: &JsValue, path: &str) -> JsValue {
+    path.split('.').fold(obj.clone(), |v, k| {
+        js_sys::Reflect::get(&v, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED)
+    })
+}
+
+fn array(v: &JsValue) -> Vec<JsValue> {
+    js_sys::Array::from(v).iter().collect()
+}
+
+#[wasm_bindgen_test]
+fn a_design_crosses_the_boundary_and_back_intact() {
+    // Ogata, Modern Control Engineering, pole-placement example (from memory): K = [199, 55, 8].
+    let out = web::evaluate(js(
+        r#"{"a": "0 1 0\n0 0 1\n-1 -5 -6", "b": "0 0 1", "poles": "-2±4j, -10"}"#,
+    ))
+    .expect("evaluate runs");
+    assert_eq!(get(&out, "status").as_string().as_deref(), Some("designed"));
+    assert_eq!(array(&get(&out, "errors")).len(), 0);
+    let gain = array(&get(&out, "design.feedback.gain"));
+    assert_eq!(gain.len(), 1);
+    let k: Vec<f64> = array(&gain[0]).iter().filter_map(|v| v.as_f64()).collect();
+    for (got, want) in k.iter().zip([199.0, 55.0, 8.0]) {
+        assert!((got - want).abs() <= 1e-9 * want, "{got} vs {want}");
+    }
+    assert_eq!(k.len(), 3);
+    // The same numbers as the native evaluation of the same form.
+    let native = polewright::form::evaluate_form(&polewright::form::FormInput {
+        a: "0 1 0\n0 0 1\n-1 -5 -6".into(),
+        b: "0 0 1".into(),
+        poles: "-2±4j, -10".into(),
+        ..Default::default()
+    });
+    let native_k = &native.design.expect("native design").feedback.gain[0];
+    assert_eq!(&k, native_k, "bit-identical after the round trip");
+    // The report's copyable text parses back to the same gain.
+    let text = get(&out, "report.gain.text").as_string().unwrap_or_default();
+    let row: Vec<f64> = text
+        .lines()
+        .nth(2)
+        .unwrap_or("")
+        .split('\t')
+        .skip(1)
+        .filter_map(|c| c.parse().ok())
+        .collect();
+    assert_eq!(row, k);
+    assert_eq!(get(&out, "dimensions.a").as_string().as_deref(), Some("3 × 3"));
+    assert!(get(&out, "dimensions.c").is_null(), "blank optional matrices have null dimensions");
+    assert!(get(&out, "design_error").is_null());
+    let series = array(&get(&out, "design.simulation.states"));
+    assert_eq!(series.len(), 3);
+}
+
+#[wasm_bindgen_test]
+fn bad_input_comes_back_as_field_errors_not_a_panic() {
+    let out = web::evaluate(js(
+        r#"{"a": "0 1 0\n0 0 x\n-1 -5 -6", "b": "0\n0\n1\n1", "poles": "-1, 2+j", "limits": "-4"}"#,
+    ))
+    .expect("evaluate runs");
+    assert_eq!(get(&out, "status").as_string().as_deref(), Some("invalid"));
+    let errors = array(&get(&out, "errors"));
+    let fields: Vec<String> = errors.iter().filter_map(|e| get(e, "field").as_string()).collect();
+    assert_eq!(fields, ["a", "poles", "limits"]);
+    let a_msg = get(&errors[0], "message").as_string().unwrap_or_default();
+    assert!(a_msg.contains("row 2, column 3") && a_msg.contains("\"x\""), "{a_msg}");
+    assert!(get(&out, "design").is_null());
+    assert!(get(&out, "dimensions.a").is_null());
+    assert_eq!(get(&out, "dimensions.b").as_string().as_deref(), Some("4 × 1"));
+
+    // A shape error from the plant check lands on B, not on A.
+    let out = web::evaluate(js(r#"{"a": "0 1\n0 0", "b": "0\n1\n2", "poles": "-1 -2"}"#)).expect("runs");
+    let errors = array(&get(&out, "errors"));
+    assert_eq!(get(&errors[0], "field").as_string().as_deref(), Some("b"));
+
+    // An infeasible design is a message, not an exception.
+    let out = web::evaluate(js(r#"{"a": "1 0\n0 -1", "b": "0\n1", "poles": "-1, -2"}"#)).expect("runs");
+    assert_eq!(get(&out, "status").as_string().as_deref(), Some("infeasible"));
+    assert!(get(&out, "design_error").as_string().unwrap_or_default().contains("not possible"));
+
+    // Malformed objects are refused with a readable error (still no panic).
+    let e = web::evaluate(js(r#"{"A": "1"}"#)).expect_err("unknown key");
+    assert!(e.as_string().unwrap_or_default().contains("unknown field `A`"));
+    assert!(web::evaluate(js(r#"{"a": 5}"#)).is_err(), "numbers are not text");
+    assert!(web::evaluate(JsValue::from_str("0 1")).is_err());
+    let empty = web::evaluate(js("{}")).expect("all fields optional");
+    assert_eq!(get(&empty, "status").as_string().as_deref(), Some("invalid"));
+}
+
+#[wasm_bindgen_test]
+fn demos_are_listed_and_design() {
+    let list = array(&web::demo_list().expect("list"));
+    assert!(list.len() >= 2);
+    for (i, d) in list.iter().enumerate() {
+        assert!(get(d, "description").as_string().unwrap_or_default().starts_with("Illustrative"));
+        let form = web::demo(i).expect("demo");
+        let out = web::evaluate(form).expect("evaluate");
+        assert_eq!(get(&out, "status").as_string().as_deref(), Some("designed"), "demo {i}");
+    }
+    assert!(web::demo(list.len()).is_err());
+}

@@ -179,3 +179,65 @@ export async function screenshot(page, name) {
   await page.screenshot({ path: file, fullPage: true });
   return file;
 }
+
+/** The form's field keys; the control for key k has the id `pw-k`. */
+export const FORM_FIELDS = [
+  'a', 'b', 'c', 'd', 'state_names', 'state_units', 'input_names', 'input_units',
+  'poles', 'limits', 'initial_state', 'duration',
+];
+
+/**
+ * Fill the form: every field in `fields` gets its text, every other field is cleared.
+ * Then press "Design now" and wait for the cycle it starts to finish.
+ */
+export async function design(page, fields) {
+  for (const key of FORM_FIELDS) {
+    await page.fill(`#pw-${key}`, fields[key] ?? '');
+  }
+  return designNow(page);
+}
+
+/** Press "Design now" and wait for the page's cycle; returns the status line's outcome. */
+export async function designNow(page) {
+  await page.evaluate(() => document.getElementById('pw-status').removeAttribute('data-outcome'));
+  await page.click('#pw-design');
+  await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+  return page.getAttribute('#pw-status', 'data-outcome');
+}
+
+/** The gain table as numbers (rows = inputs), read from the displayed text. */
+export async function readGain(page) {
+  return page.evaluate(() => {
+    const table = document.getElementById('pw-gain');
+    if (!table) return null;
+    return [...table.querySelectorAll('tbody tr')].map((tr) =>
+      [...tr.querySelectorAll('td')].map((td) => Number(td.textContent.trim())),
+    );
+  });
+}
+
+/** Rows of a result table (the element with id `hostId` holds one table) as arrays of cell texts. */
+export async function tableRows(page, hostId) {
+  return page.evaluate((id) => {
+    const host = document.getElementById(id);
+    const table = host && host.querySelector('table');
+    if (!table) return [];
+    return [...table.querySelectorAll('tbody tr')].map((tr) =>
+      [...tr.querySelectorAll('th, td')].map((c) => c.textContent.trim()),
+    );
+  }, hostId);
+}
+
+/** Parse a complex number as the page writes it in tables: `-2`, `2j`, `-1+2j`, `-1.5e-3-2j`. */
+export function parseComplex(text) {
+  const t = text.trim();
+  const num = '[+-]?(?:\\d+\\.?\\d*|\\.\\d+)(?:e[+-]?\\d+)?';
+  const unsigned = '(?:\\d+\\.?\\d*|\\.\\d+)(?:e[+-]?\\d+)?';
+  let m = new RegExp(`^(${num})$`, 'i').exec(t);
+  if (m) return { re: Number(m[1]), im: 0 };
+  m = new RegExp(`^(${num})j$`, 'i').exec(t);
+  if (m) return { re: 0, im: Number(m[1]) };
+  m = new RegExp(`^(${num})([+-]${unsigned})j$`, 'i').exec(t);
+  if (m) return { re: Number(m[1]), im: Number(m[2]) };
+  return null;
+}
