@@ -5,7 +5,10 @@ Reads site/index.html, site/style.css, site/app.js, the wasm-bindgen glue
 (--target web) and the wasm binary, and writes one HTML file with
 
 * the CSS inlined in one <style> element,
-* the wasm bytes base64-encoded in a non-executed data block (#pw-wasm),
+* the wasm bytes raw-deflate compressed (RFC 1951) and base64-encoded in a non-executed
+  data block (#pw-wasm, data-encoding="deflate-raw"); the bootstrap unpacks them with the
+  browser's own DecompressionStream (no network: a Blob stream, not a fetch), which cuts the
+  page to about 40 % of its uncompressed size,
 * glue + bootstrap in ONE inline module script (no import, no fetch: the
   bootstrap calls the glue's initSync({module: bytes})),
 * a Content-Security-Policy <meta> (first element of <head>) that allows
@@ -18,6 +21,7 @@ from __future__ import annotations
 
 import argparse
 import base64
+import zlib
 import hashlib
 import re
 import sys
@@ -99,7 +103,11 @@ def assemble(index_html: str, css: str, app_js: str, glue_js: str, wasm: bytes) 
         + app_js.strip("\n")
         + "\n}\n"
     )
-    b64 = base64.b64encode(wasm).decode("ascii")
+    packer = zlib.compressobj(9, zlib.DEFLATED, -15)
+    packed = packer.compress(wasm) + packer.flush()
+    if zlib.decompress(packed, -15) != wasm:
+        raise InlineError("deflate round trip failed")
+    b64 = base64.b64encode(packed).decode("ascii")
     wasm_lines = "\n".join(b64[i : i + 120] for i in range(0, len(b64), 120))
 
     csp = build_csp(sha256_source(script_text), sha256_source(style_text))
@@ -109,7 +117,7 @@ def assemble(index_html: str, css: str, app_js: str, glue_js: str, wasm: bytes) 
     html = replace_once(
         html,
         PLACEHOLDERS["wasm"],
-        f'<script type="application/octet-stream" id="pw-wasm">\n{wasm_lines}\n</script>',
+        f'<script type="application/octet-stream" id="pw-wasm" data-encoding="deflate-raw">\n{wasm_lines}\n</script>',
     )
     html = replace_once(html, PLACEHOLDERS["script"], f'<script type="module">{script_text}</script>')
 

@@ -26,8 +26,11 @@ function showError(message) {
   console.error(message);
 }
 
+let ready = false;
+
 function guarded(fn) {
   return (...args) => {
+    if (!ready) return undefined; // events before the wasm is running are ignored
     try {
       return fn(...args);
     } catch (err) {
@@ -37,20 +40,30 @@ function guarded(fn) {
   };
 }
 
-function wasmBytes() {
-  const text = byId('pw-wasm').textContent.replace(/\s+/g, '');
+// The wasm is stored raw-deflate compressed; the browser's own DecompressionStream unpacks it
+// from a Blob in memory (not a fetch: nothing touches the network, and connect-src 'none' holds).
+async function wasmBytes() {
+  const block = byId('pw-wasm');
+  const text = block.textContent.replace(/\s+/g, '');
   const binary = atob(text);
-  const bytes = new Uint8Array(binary.length);
-  for (let i = 0; i < binary.length; i += 1) bytes[i] = binary.charCodeAt(i);
-  return bytes;
+  const packed = new Uint8Array(binary.length);
+  for (let i = 0; i < binary.length; i += 1) packed[i] = binary.charCodeAt(i);
+  if (block.dataset.encoding !== 'deflate-raw') return packed;
+  if (typeof DecompressionStream !== 'function') {
+    throw new Error('this browser cannot unpack the page (it lacks DecompressionStream); use Chromium 103+, Firefox 113+ or Safari 16.4+');
+  }
+  const stream = new Blob([packed]).stream().pipeThrough(new DecompressionStream('deflate-raw'));
+  return new Uint8Array(await new Response(stream).arrayBuffer());
 }
+
 
 let pending = 0;
 const designNow = guarded(() => {
   clearTimeout(pending);
-  update_page();
+  if (ready) update_page();
 });
 const designSoon = () => {
+  if (!ready) return;
   clearTimeout(pending);
   pending = setTimeout(designNow, DEBOUNCE_MS);
 };
@@ -98,12 +111,17 @@ const copyGain = guarded(() => {
   }
 });
 
-const boot = guarded(() => {
-  initSync({ module: wasmBytes() });
-  byId('pw-version').textContent = version();
-  init_page();
-  update_page();
-});
+async function boot() {
+  try {
+    initSync({ module: await wasmBytes() });
+    ready = true;
+    byId('pw-version').textContent = version();
+    init_page();
+    update_page();
+  } catch (err) {
+    showError(`Polewright could not start: ${err && err.message ? err.message : String(err)}`);
+  }
+}
 
 window.addEventListener('error', (e) => showError(`Polewright error: ${e.message}`));
 window.addEventListener('unhandledrejection', (e) => showError(`Polewright error: ${e.reason}`));
