@@ -176,6 +176,8 @@ pub struct ControllerSpec {
     pub tracking: TrackingSpec,
     pub anti_windup: crate::controller::AntiWindup,
     pub scenario: ScenarioSpec,
+    /// Speed the pole pattern up (or down) to the fastest the actuators allow in these situations.
+    pub search: Option<Vec<crate::search::Situation>>,
 }
 
 impl Default for ControllerSpec {
@@ -188,6 +190,7 @@ impl Default for ControllerSpec {
             tracking: TrackingSpec::None,
             anti_windup: crate::controller::AntiWindup::None,
             scenario: ScenarioSpec::default(),
+            search: None,
         }
     }
 }
@@ -431,7 +434,7 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
     let top = object(
         &doc,
         "",
-        &["format", "version", "plant", "feedback", "actuators", "simulation", "implementation", "observer", "tracking", "anti_windup", "comment", "description"],
+        &["format", "version", "plant", "feedback", "actuators", "simulation", "implementation", "observer", "tracking", "anti_windup", "search", "comment", "description"],
     )?;
     match top.get("format") {
         Some(Value::String(s)) if s == DESIGN_FORMAT => {}
@@ -445,7 +448,7 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
     }
     let version = top.get("version").and_then(|v| v.as_u64()).unwrap_or(1);
     if version < 2 {
-        for key in ["implementation", "observer", "tracking", "anti_windup"] {
+        for key in ["implementation", "observer", "tracking", "anti_windup", "search"] {
             if top.contains_key(key) {
                 return Err(InputError::new(key, format!("\"{key}\" is a version-2 feature; set \"version\": 2")));
             }
@@ -678,6 +681,55 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
             spec.scenario.initial_estimate = Some(x);
         }
     }
+    if let Some(se) = top.get("search") {
+        let sm = object(se, "search", &["fastest_within_limits", "situations"])?;
+        match sm.get("fastest_within_limits") {
+            Some(Value::Bool(true)) => {}
+            Some(Value::Bool(false)) | None => return Err(InputError::new("search.fastest_within_limits", "set it to true to search (or remove the search section)")),
+            Some(other) => return Err(InputError::new("search.fastest_within_limits", format!("{} must be true or false", short(other)))),
+        }
+        if request.limits.iter().all(|l| l.is_none()) {
+            return Err(InputError::new("search", "the search needs actuator limits: give actuators.limit"));
+        }
+        if request.limits.iter().any(|l| l.is_none()) {
+            return Err(InputError::new("actuators.limit", "the search needs a limit for every input"));
+        }
+        if spec.sample_time().is_some() {
+            return Err(InputError::new("search", "the search works on continuous designs; remove the sample time, search, then discretise"));
+        }
+        let Some(Value::Array(items)) = sm.get("situations") else {
+            return Err(InputError::new("search.situations", "missing; list situations such as {\"initial_state\": [...]} or {\"reference\": [...]}"));
+        };
+        if items.is_empty() {
+            return Err(InputError::new("search.situations", "empty; list at least one situation"));
+        }
+        let mut situations = Vec::new();
+        for (i, item) in items.iter().enumerate() {
+            let field = format!("search.situations[{}]", i + 1);
+            let im = object(item, &field, &["initial_state", "reference"])?;
+            match (im.get("initial_state"), im.get("reference")) {
+                (Some(x), None) => {
+                    let x = number_vector(x, &field)?;
+                    if x.len() != plant.states() {
+                        return Err(InputError::new(field, format!("{} values given but the plant has {} states", x.len(), plant.states())));
+                    }
+                    situations.push(crate::search::Situation::InitialState(x));
+                }
+                (None, Some(r)) => {
+                    let r = number_vector(r, &field)?;
+                    if plant.c().is_none() {
+                        return Err(InputError::new(field, "a reference situation needs outputs: give plant.c"));
+                    }
+                    if r.len() != plant.outputs() {
+                        return Err(InputError::new(field, format!("{} values given but the plant has {} outputs", r.len(), plant.outputs())));
+                    }
+                    situations.push(crate::search::Situation::ReferenceStep(r));
+                }
+                _ => return Err(InputError::new(field, "give exactly one of \"initial_state\" or \"reference\"")),
+            }
+        }
+        spec.search = Some(situations);
+    }
     Ok((request, spec))
 }
 
@@ -763,6 +815,28 @@ pub struct DesignResult {
     /// The whole controller simulated in the loop.
     #[serde(rename = "loop", skip_serializing_if = "Option::is_none")]
     pub closed_loop: Option<LoopResult>,
+    /// The fastest design the actuators allow (when asked for).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub search: Option<SearchSummary>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SearchSummary {
+    /// The pattern (`feedback.poles`) was multiplied by this factor.
+    pub speed_factor: f64,
+    pub suggested_poles: Vec<Pair>,
+    /// 1-based, as in the design file.
+    pub limiting_situation: usize,
+    pub limiting_input: String,
+    /// Peak command / limit at the result (≤ 1).
+    pub peak_ratio: f64,
+    /// Per situation, the slowest state's settling time (null: not settled).
+    pub settling_time: Vec<Option<f64>>,
+    pub monotonic: bool,
+    /// `[factor, peak ratio]` samples of the monotonicity check.
+    pub samples: Vec<[f64; 2]>,
+    pub limited_by_range: bool,
+    pub evaluations: usize,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -1071,7 +1145,17 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
     // The design pair: plant, then the delay states, then the integrators.
     let mut da = ad.clone();
     let mut db = bd.clone();
-    let mut dpoles = to_design(&req.poles);
+    let search = match (&spec.search, t) {
+        (Some(situations), None) => {
+            let limits: Vec<f64> = req.limits.iter().map(|l| l.unwrap_or(f64::INFINITY)).collect();
+            let r = crate::search::fastest_within_limits(a, b, plant.c(), &req.poles, &limits, situations, crate::search::SearchParams { band: req.band, ..Default::default() })
+                .map_err(|e| infeasible(&e))?;
+            Some(r)
+        }
+        _ => None,
+    };
+    let base_poles: Vec<Complex64> = search.as_ref().map_or_else(|| req.poles.clone(), |r| r.poles.clone());
+    let mut dpoles = to_design(&base_poles);
     if let (true, Some(imp)) = (delay, &spec.implementation) {
         let (pa, pb) = delay_augmented(&da, &db);
         da = pa;
@@ -1134,7 +1218,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         (Some(os), Some(c)) => {
             let s_poles = match &os.poles {
                 ObserverPoles::Given(p) => to_s(p),
-                ObserverPoles::SpeedFactor(f) => fastest_poles(&to_s(&req.poles), n).iter().map(|z| z * *f).collect(),
+                ObserverPoles::SpeedFactor(f) => fastest_poles(&to_s(&base_poles), n).iter().map(|z| z * *f).collect(),
             };
             let obs_design_poles = match &os.poles {
                 ObserverPoles::Given(p) => to_design(p),
@@ -1158,7 +1242,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         TrackingSpec::Feedforward { .. } => Some(feedforward_gains(&ad, &bd, &ct, &dt, t.is_some()).map_err(|e| infeasible(&e))?),
         _ => None,
     };
-    let advice = t.map(|t| sample_rate_advice(&to_s(&req.poles), t));
+    let advice = t.map(|t| sample_rate_advice(&to_s(&base_poles), t));
     let a = &ad;
     let b = &bd;
     let mut warnings = Vec::new();
@@ -1192,7 +1276,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
             ));
         }
     }
-    for z in to_s(&req.poles).iter().filter(|z| z.im >= 0.0) {
+    for z in to_s(&base_poles).iter().filter(|z| z.im >= 0.0) {
         let shown = if z.im > 0.0 { format!("{}±{}j", fmt_num(z.re), fmt_num(z.im)) } else { format_complex(*z) };
         if spec.plant_sample_time.is_none() && anorm > 0.0 && z.norm() > wp.fast_pole_ratio * anorm {
             warnings.push(Warning::new(
@@ -1274,7 +1358,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
     };
     let limits = if req.limits.is_empty() { vec![None; m] } else { req.limits.clone() };
     // Horizon from the slowest s-plane pole (controller and observer): 7/σ, doubled with limits.
-    let mut all_s = to_s(&req.poles);
+    let mut all_s = to_s(&base_poles);
     if let Some((_, op, _)) = &observer {
         all_s.extend(match t {
             Some(t) => op.iter().map(|z| map_to_continuous(*z, t)).collect::<Vec<_>>(),
@@ -1559,6 +1643,27 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         None
     };
 
+    let search_summary = search.as_ref().map(|r| SearchSummary {
+        speed_factor: r.speed_factor,
+        suggested_poles: r.poles.iter().map(|z| pair(*z)).collect(),
+        limiting_situation: r.limiting_situation + 1,
+        limiting_input: plant.input_names()[r.limiting_input].clone(),
+        peak_ratio: r.peak_ratio,
+        settling_time: r.settling_time.clone(),
+        monotonic: r.monotonic,
+        samples: r.samples.iter().map(|(f, v)| [*f, *v]).collect(),
+        limited_by_range: r.limited_by_range,
+        evaluations: r.evaluations,
+    });
+    if let Some(r) = &search {
+        if !r.monotonic {
+            warnings.push(Warning::new("search-not-monotonic", "The peak input did not grow steadily with the speed-up over the searched range: the factor found is one crossing of the limit, not necessarily the only one; check the samples."));
+        }
+        if r.limited_by_range {
+            warnings.push(Warning::new("search-range-limit", format!("The inputs stay within their limits even at the largest factor tried ({}): the actuators are not what limits this design; noise, model accuracy and sampling are.", fmt_num(r.speed_factor))));
+        }
+    }
+
     Ok(DesignResult {
         format: RESULT_FORMAT,
         version: RESULT_VERSION,
@@ -1600,6 +1705,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         tracking: tracking_result,
         sample_rate: advice.map(|a| SampleRateResult { bandwidth: a.bandwidth, samples_per_bandwidth: a.samples_per_bandwidth, verdict: a.verdict, message: a.message }),
         closed_loop,
+        search: search_summary,
     })
 }
 

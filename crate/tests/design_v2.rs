@@ -150,3 +150,27 @@ fn saturated_digital_integral_loop_with_clamp() {
         assert!(l.tracked[0].steady_state_error.abs() < 1e-3, "{:?} {:?}", l.tracked[0], l.input_metrics[0]);
     }
 }
+
+#[test]
+fn fastest_design_within_the_actuator_limits() {
+    // x'' = u from x = (1, 0) with poles α(−1 ± j): K = [2α², 2α] and the peak |u| = 2α² at t = 0
+    // (by hand), so the limit 8 allows α = 2; the design then uses the poles −2 ± 2j.
+    let r = design(
+        r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}, "feedback": {"poles": ["-1±1j"]}, "actuators": {"limit": [8]},
+           "search": {"fastest_within_limits": true, "situations": [{"initial_state": [1, 0]}, {"initial_state": [0, 0.5]}]}"#,
+    )
+    .unwrap();
+    let s = r.search.as_ref().expect("search result");
+    assert!((s.speed_factor - 2.0).abs() < 4e-3, "{}", s.speed_factor);
+    assert_eq!(s.limiting_situation, 1);
+    assert!(s.monotonic && s.peak_ratio <= 1.0);
+    let k = &r.feedback.gain[0];
+    assert!((k[0] - 2.0 * s.speed_factor.powi(2)).abs() < 1e-9 && (k[1] - 2.0 * s.speed_factor).abs() < 1e-9, "{k:?}");
+    // The simulated peak from the limiting situation stays within the limit.
+    assert!(r.simulation.peak_input[0] <= 8.0 * (1.0 + 1e-9));
+    // Errors: no limits; a digital design.
+    match design(r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}, "feedback": {"poles": ["-1±1j"]}, "search": {"fastest_within_limits": true, "situations": [{"initial_state": [1, 0]}]}"#) {
+        Err(DesignError::Input(e)) => assert_eq!(e.field, "search"),
+        other => panic!("{other:?}"),
+    }
+}
