@@ -14,6 +14,7 @@ pub mod linalg;
 pub mod loop_sim;
 pub mod metrics;
 pub mod parse;
+pub mod patterns;
 pub mod place;
 pub mod plant;
 pub mod plot;
