@@ -178,6 +178,21 @@ pub struct ControllerSpec {
     pub scenario: ScenarioSpec,
     /// Speed the pole pattern up (or down) to the fastest the actuators allow in these situations.
     pub search: Option<Vec<crate::search::Situation>>,
+    /// How the poles were chosen when not listed (pattern or specification), with the region
+    /// the specification defines.
+    pub pole_choice: Option<PoleChoice>,
+}
+
+/// A pole choice made by Polewright rather than listed by the user.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PoleChoice {
+    /// `"bessel"`, `"butterworth"`, `"itae"`, `"binomial"` or `"specification"`.
+    pub method: &'static str,
+    /// Plain description of the normalisation and scaling.
+    pub description: String,
+    pub poles: Vec<Complex64>,
+    /// The admissible region from a specification.
+    pub region: Option<crate::patterns::Region>,
 }
 
 impl Default for ControllerSpec {
@@ -191,6 +206,7 @@ impl Default for ControllerSpec {
             anti_windup: crate::controller::AntiWindup::None,
             scenario: ScenarioSpec::default(),
             search: None,
+            pole_choice: None,
         }
     }
 }
@@ -457,9 +473,20 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
     let plant_v = top.get("plant").ok_or_else(|| InputError::new("plant", "missing; give at least \"a\" and \"b\""))?;
     let plant = plant_from_value(plant_v, "plant")?;
     let fb = top.get("feedback").ok_or_else(|| InputError::new("feedback", "missing; give \"feedback\": {\"poles\": [...]}"))?;
-    let fbm = object(fb, "feedback", &["poles", "plane"])?;
-    let poles_v = fbm.get("poles").ok_or_else(|| InputError::new("feedback.poles", "missing; list the desired closed-loop poles"))?;
-    let poles = poles_from_value(poles_v, "feedback.poles")?;
+    let fbm = object(fb, "feedback", &["poles", "plane", "pattern", "spec"])?;
+    let given = ["poles", "pattern", "spec"].iter().filter(|k| fbm.contains_key(**k)).count();
+    if given != 1 {
+        return Err(InputError::new("feedback", "give exactly one of \"poles\" (the closed-loop poles), \"pattern\" (a prototype scaled to a settling time or bandwidth) or \"spec\" (overshoot and settling time)"));
+    }
+    if version < 2 && (fbm.contains_key("pattern") || fbm.contains_key("spec")) {
+        return Err(InputError::new("feedback", "\"pattern\" and \"spec\" are version-2 features; set \"version\": 2"));
+    }
+    // Patterns and specifications are turned into poles at the end, once the number of
+    // closed-loop poles (plant states + integrators) is known.
+    let poles = match fbm.get("poles") {
+        Some(v) => poles_from_value(v, "feedback.poles")?,
+        None => Vec::new(),
+    };
     let mut limits = Vec::new();
     if let Some(act) = top.get("actuators") {
         let am = object(act, "actuators", &["limit"])?;
@@ -730,7 +757,111 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
         }
         spec.search = Some(situations);
     }
+    let mut request = request;
+    if request.poles.is_empty() {
+        let integrators = match &spec.tracking {
+            TrackingSpec::Integral { outputs, integral_poles } if integral_poles.is_empty() => outputs.len(),
+            _ => 0,
+        };
+        let order = request.plant.states() + integrators;
+        let choice = pole_choice_from_value(fbm, order, request.band)?;
+        request.poles = choice.poles.clone();
+        spec.pole_choice = Some(choice);
+    }
     Ok((request, spec))
+}
+
+fn pole_choice_from_value(fbm: &serde_json::Map<String, Value>, order: usize, default_band: f64) -> Result<PoleChoice, InputError> {
+    use crate::patterns::{
+        poles_from_specification, scaled_prototype_poles, specification_region, BesselNormalisation, DominantPairParams, Pattern, ResponseParams, ScaleTarget, SettlingRule,
+        Specification, SpeedRequirement,
+    };
+    let band_of = |m: &serde_json::Map<String, Value>, field: &str| -> Result<f64, InputError> {
+        match m.get("band") {
+            None => Ok(default_band),
+            Some(v) => {
+                let b = finite(v, field)?;
+                if b > 0.0 && b < 1.0 {
+                    Ok(b)
+                } else {
+                    Err(InputError::new(field, format!("{b} must be a fraction between 0 and 1, e.g. 0.02 for 2 %")))
+                }
+            }
+        }
+    };
+    if let Some(pv) = fbm.get("pattern") {
+        let pm = object(pv, "feedback.pattern", &["family", "normalisation", "settling_time", "bandwidth", "band"])?;
+        let band = band_of(pm, "feedback.pattern.band")?;
+        let pattern = match pm.get("family").and_then(|v| v.as_str()) {
+            Some("bessel") => Pattern::Bessel(match pm.get("normalisation").and_then(|v| v.as_str()) {
+                None | Some("unit_settling_time") => BesselNormalisation::UnitSettlingTime { band },
+                Some("unit_group_delay") => BesselNormalisation::UnitDcGroupDelay,
+                Some("half_power_at_unit_frequency") => BesselNormalisation::HalfPowerAtUnitFrequency,
+                Some(other) => {
+                    return Err(InputError::new(
+                        "feedback.pattern.normalisation",
+                        format!("\"{other}\" is not a Bessel normalisation; use \"unit_settling_time\", \"unit_group_delay\" or \"half_power_at_unit_frequency\""),
+                    ))
+                }
+            }),
+            Some("butterworth") => Pattern::Butterworth,
+            Some("itae") => Pattern::Itae,
+            Some("binomial") => Pattern::Binomial,
+            _ => return Err(InputError::new("feedback.pattern.family", "must be \"bessel\", \"butterworth\", \"itae\" or \"binomial\"")),
+        };
+        if pm.contains_key("normalisation") && !matches!(pattern, Pattern::Bessel(_)) {
+            return Err(InputError::new("feedback.pattern.normalisation", "only the Bessel pattern has a choice of normalisation"));
+        }
+        let target = match (pm.get("settling_time"), pm.get("bandwidth")) {
+            (Some(t), None) => ScaleTarget::SettlingTime { seconds: positive(t, "feedback.pattern.settling_time")?, band },
+            (None, Some(w)) => ScaleTarget::Bandwidth { rad_per_s: positive(w, "feedback.pattern.bandwidth")? },
+            _ => return Err(InputError::new("feedback.pattern", "give exactly one of \"settling_time\" (s) or \"bandwidth\" (rad/s) to scale the pattern")),
+        };
+        let scaled = scaled_prototype_poles(pattern, order, target, &ResponseParams::default()).map_err(|e| InputError::new("feedback.pattern", e.to_string()))?;
+        let method = match pattern {
+            Pattern::Bessel(_) => "bessel",
+            Pattern::Butterworth => "butterworth",
+            Pattern::Itae => "itae",
+            Pattern::Binomial => "binomial",
+        };
+        let description = match target {
+            ScaleTarget::SettlingTime { seconds, band } => format!(
+                "{} pattern of order {order} ({:?}), scaled so that its own step response settles into ±{} % at {} s",
+                pattern.name(),
+                scaled.prototype.normalisation,
+                fmt_num(band * 100.0),
+                fmt_num(seconds)
+            ),
+            ScaleTarget::Bandwidth { rad_per_s } => format!("{} pattern of order {order} ({:?}), scaled to a −3 dB bandwidth of {} rad/s", pattern.name(), scaled.prototype.normalisation, fmt_num(rad_per_s)),
+        };
+        return Ok(PoleChoice { method, description, poles: scaled.poles, region: None });
+    }
+    let Some(sv) = fbm.get("spec") else {
+        return Err(InputError::new("feedback", "give the poles, a pattern or a specification"));
+    };
+    let sm = object(sv, "feedback.spec", &["overshoot", "settling_time", "band", "rise_time", "bandwidth"])?;
+    let overshoot = finite(sm.get("overshoot").ok_or_else(|| InputError::new("feedback.spec.overshoot", "missing; give the largest overshoot as a fraction, e.g. 0.05 for 5 %"))?, "feedback.spec.overshoot")?;
+    let settling_time = positive(sm.get("settling_time").ok_or_else(|| InputError::new("feedback.spec.settling_time", "missing; give the settling time in seconds"))?, "feedback.spec.settling_time")?;
+    let band = band_of(sm, "feedback.spec.band")?;
+    let speed = match (sm.get("rise_time"), sm.get("bandwidth")) {
+        (None, None) => None,
+        (Some(t), None) => Some(SpeedRequirement::RiseTime { seconds: positive(t, "feedback.spec.rise_time")? }),
+        (None, Some(w)) => Some(SpeedRequirement::Bandwidth { rad_per_s: positive(w, "feedback.spec.bandwidth")? }),
+        _ => return Err(InputError::new("feedback.spec", "give at most one of \"rise_time\" and \"bandwidth\"")),
+    };
+    let spec = Specification { overshoot, settling_time, settling_band: band, settling_rule: SettlingRule::EnvelopeBound, speed };
+    let region = specification_region(&spec).map_err(|e| InputError::new("feedback.spec", e.to_string()))?;
+    let chosen = poles_from_specification(&spec, order, &DominantPairParams::default()).map_err(|e| InputError::new("feedback.spec", e.to_string()))?;
+    let description = format!(
+        "dominant pair at ζ = {}, σ = {} 1/s from {} % overshoot and {} s settling (±{} %; second-order formulas, an approximation: confirm by simulation), the other {} pole(s) five times faster",
+        fmt_num(region.min_damping),
+        fmt_num(region.min_decay_rate),
+        fmt_num(overshoot * 100.0),
+        fmt_num(settling_time),
+        fmt_num(band * 100.0),
+        order.saturating_sub(2)
+    );
+    Ok(PoleChoice { method: "specification", description, poles: chosen.poles, region: Some(region) })
 }
 
 /// Reads and validates the `plant` object.
@@ -818,6 +949,26 @@ pub struct DesignResult {
     /// The fastest design the actuators allow (when asked for).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub search: Option<SearchSummary>,
+    /// Poles chosen from a pattern or a specification.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub pole_choice: Option<PoleChoiceResult>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct PoleChoiceResult {
+    pub method: &'static str,
+    pub description: String,
+    pub suggested_poles: Vec<Pair>,
+    /// From a specification: `{min_damping, min_decay_rate, natural_frequency}`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub region: Option<RegionResult>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct RegionResult {
+    pub min_damping: f64,
+    pub min_decay_rate: f64,
+    pub natural_frequency: Option<f64>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -1655,6 +1806,26 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         limited_by_range: r.limited_by_range,
         evaluations: r.evaluations,
     });
+    let pole_choice = spec.pole_choice.as_ref().map(|c| PoleChoiceResult {
+        method: c.method,
+        description: c.description.clone(),
+        suggested_poles: c.poles.iter().map(|z| pair(*z)).collect(),
+        region: c.region.as_ref().map(|r| RegionResult { min_damping: r.min_damping, min_decay_rate: r.min_decay_rate, natural_frequency: r.natural_frequency }),
+    });
+    if let Some(region) = spec.pole_choice.as_ref().and_then(|c| c.region.as_ref()) {
+        let achieved_s: Vec<Complex64> = match t {
+            Some(ts) => placement.achieved_poles.iter().map(|z| map_to_continuous(*z, ts)).collect(),
+            None => placement.achieved_poles.clone(),
+        };
+        for v in crate::patterns::region_violations(&achieved_s, region) {
+            warnings.push(Warning::new("pole-outside-region", format!("Closed-loop pole {}: {v}.", format_complex(v.pole))));
+        }
+    }
+    if let Some(c) = &spec.pole_choice {
+        if c.method == "binomial" && placement.input_rank < c.poles.len() {
+            warnings.push(Warning::new("repeated-poles", "The binomial pattern repeats one pole: repeated poles are sensitive to model errors, and with several inputs at most rank(B) copies can be placed."));
+        }
+    }
     if let Some(r) = &search {
         if !r.monotonic {
             warnings.push(Warning::new("search-not-monotonic", "The peak input did not grow steadily with the speed-up over the searched range: the factor found is one crossing of the limit, not necessarily the only one; check the samples."));
@@ -1706,6 +1877,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         sample_rate: advice.map(|a| SampleRateResult { bandwidth: a.bandwidth, samples_per_bandwidth: a.samples_per_bandwidth, verdict: a.verdict, message: a.message }),
         closed_loop,
         search: search_summary,
+        pole_choice,
     })
 }
 

@@ -174,3 +174,36 @@ fn fastest_design_within_the_actuator_limits() {
         other => panic!("{other:?}"),
     }
 }
+
+#[test]
+fn poles_from_a_pattern_or_a_specification() {
+    // A Bessel pattern scaled to a 2 s settling time (±2 %) for a 3-state plant: the poles are the
+    // reverse-Bessel roots (θ₃ = s³ + 6 s² + 15 s + 15, from its definition) times one common factor.
+    let plant = r#""plant": {"a": [[0, 1, 0], [0, 0, 1], [-1, -5, -6]], "b": [[0], [0], [1]]}"#;
+    let r = design(&format!(r#"{plant}, "feedback": {{"pattern": {{"family": "bessel", "settling_time": 2.0}}}}"#)).unwrap();
+    let pc = r.pole_choice.as_ref().expect("pole choice");
+    assert_eq!(pc.method, "bessel");
+    assert_eq!(pc.suggested_poles.len(), 3);
+    // Product of the poles = −(constant term) × k³ and sum = −6 k for θ₃ scaled by k: their ratio
+    // fixes k, and both must agree.
+    let poles: Vec<num_complex::Complex64> = pc.suggested_poles.iter().map(|p| num_complex::Complex64::new(p[0], p[1])).collect();
+    let sum: num_complex::Complex64 = poles.iter().sum();
+    let prod: num_complex::Complex64 = poles.iter().product();
+    let k = -sum.re / 6.0;
+    assert!((prod.re + 15.0 * k.powi(3)).abs() < 1e-9 * 15.0 * k.powi(3), "sum {sum}, product {prod}");
+    assert!(r.feedback.max_pole_error < 1e-10);
+    // A specification: 5 % overshoot, 1.5 s settling. Common practice: 5 % ↔ ζ ≈ 0.690.
+    let r = design(&format!(r#"{plant}, "feedback": {{"spec": {{"overshoot": 0.05, "settling_time": 1.5}}}}"#)).unwrap();
+    let region = r.pole_choice.as_ref().and_then(|c| c.region.as_ref()).expect("region");
+    assert!((region.min_damping - 0.690).abs() < 1e-3, "{}", region.min_damping);
+    assert!(!r.warnings.iter().any(|w| w.code == "pole-outside-region"), "{:?}", r.warnings);
+    // Errors name the field.
+    match design(&format!(r#"{plant}, "feedback": {{"pattern": {{"family": "bessel"}}}}"#)) {
+        Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback.pattern"),
+        other => panic!("{other:?}"),
+    }
+    match design(&format!(r#"{plant}, "feedback": {{"poles": [-1, -2, -3], "spec": {{"overshoot": 0.05, "settling_time": 1}}}}"#)) {
+        Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback"),
+        other => panic!("{other:?}"),
+    }
+}
