@@ -19,6 +19,7 @@ pub mod place;
 pub mod plant;
 pub mod plot;
 pub mod poles;
+pub mod riccati;
 pub mod search;
 pub mod simulate;
 pub mod warnings;
