@@ -181,6 +181,16 @@ pub struct ControllerSpec {
     /// How the poles were chosen when not listed (pattern or specification), with the region
     /// the specification defines.
     pub pole_choice: Option<PoleChoice>,
+    /// LQR weights: the poles are those of the LQR closed loop.
+    pub lqr: Option<LqrWeights>,
+}
+
+/// LQR weights as given.
+#[derive(Debug, Clone, PartialEq)]
+pub enum LqrWeights {
+    Matrices { q: DMatrix<f64>, r: DMatrix<f64> },
+    /// Bryson's rule: `Q = diag(1/x_max²)`, `R = diag(1/u_max²)`.
+    Bryson { max_state: Vec<f64>, max_input: Vec<f64> },
 }
 
 /// A pole choice made by Polewright rather than listed by the user.
@@ -207,6 +217,7 @@ impl Default for ControllerSpec {
             scenario: ScenarioSpec::default(),
             search: None,
             pole_choice: None,
+            lqr: None,
         }
     }
 }
@@ -473,13 +484,13 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
     let plant_v = top.get("plant").ok_or_else(|| InputError::new("plant", "missing; give at least \"a\" and \"b\""))?;
     let plant = plant_from_value(plant_v, "plant")?;
     let fb = top.get("feedback").ok_or_else(|| InputError::new("feedback", "missing; give \"feedback\": {\"poles\": [...]}"))?;
-    let fbm = object(fb, "feedback", &["poles", "plane", "pattern", "spec"])?;
-    let given = ["poles", "pattern", "spec"].iter().filter(|k| fbm.contains_key(**k)).count();
+    let fbm = object(fb, "feedback", &["poles", "plane", "pattern", "spec", "lqr"])?;
+    let given = ["poles", "pattern", "spec", "lqr"].iter().filter(|k| fbm.contains_key(**k)).count();
     if given != 1 {
-        return Err(InputError::new("feedback", "give exactly one of \"poles\" (the closed-loop poles), \"pattern\" (a prototype scaled to a settling time or bandwidth) or \"spec\" (overshoot and settling time)"));
+        return Err(InputError::new("feedback", "give exactly one of \"poles\" (the closed-loop poles), \"pattern\" (a prototype scaled to a settling time or bandwidth), \"spec\" (overshoot and settling time) or \"lqr\" (weights)"));
     }
-    if version < 2 && (fbm.contains_key("pattern") || fbm.contains_key("spec")) {
-        return Err(InputError::new("feedback", "\"pattern\" and \"spec\" are version-2 features; set \"version\": 2"));
+    if version < 2 && (fbm.contains_key("pattern") || fbm.contains_key("spec") || fbm.contains_key("lqr")) {
+        return Err(InputError::new("feedback", "\"pattern\", \"spec\" and \"lqr\" are version-2 features; set \"version\": 2"));
     }
     // Patterns and specifications are turned into poles at the end, once the number of
     // closed-loop poles (plant states + integrators) is known.
@@ -758,6 +769,22 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
         spec.search = Some(situations);
     }
     let mut request = request;
+    if let Some(lv) = fbm.get("lqr") {
+        let lm = object(lv, "feedback.lqr", &["q", "r", "bryson"])?;
+        spec.lqr = Some(match (lm.get("q"), lm.get("r"), lm.get("bryson")) {
+            (Some(q), Some(r), None) => LqrWeights::Matrices { q: number_matrix(q, "feedback.lqr.q")?, r: number_matrix(r, "feedback.lqr.r")? },
+            (None, None, Some(b)) => {
+                let bm = object(b, "feedback.lqr.bryson", &["max_state", "max_input"])?;
+                let get = |k: &str| -> Result<Vec<f64>, InputError> {
+                    let f = format!("feedback.lqr.bryson.{k}");
+                    number_vector(bm.get(k).ok_or_else(|| InputError::new(f.clone(), "missing; give the largest acceptable excursion of each"))?, &f)
+                };
+                LqrWeights::Bryson { max_state: get("max_state")?, max_input: get("max_input")? }
+            }
+            _ => return Err(InputError::new("feedback.lqr", "give \"q\" and \"r\" (weight matrices), or \"bryson\": {\"max_state\": [...], \"max_input\": [...]}")),
+        });
+        return Ok((request, spec));
+    }
     if request.poles.is_empty() {
         let integrators = match &spec.tracking {
             TrackingSpec::Integral { outputs, integral_poles } if integral_poles.is_empty() => outputs.len(),
@@ -952,6 +979,23 @@ pub struct DesignResult {
     /// Poles chosen from a pattern or a specification.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub pole_choice: Option<PoleChoiceResult>,
+    /// LQR as a way of choosing poles.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lqr: Option<LqrResult>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct LqrResult {
+    /// The Riccati solution `X` of the design pair.
+    pub riccati_solution: Vec<Vec<f64>>,
+    /// Its normalised residual.
+    pub residual: f64,
+    /// The LQR gain itself (inputs × design states). With one input it equals the placed gain;
+    /// with several, the placed gain has the same poles but robust eigenvectors instead.
+    pub gain: Vec<Vec<f64>>,
+    pub closed_loop_poles: Vec<Pair>,
+    pub q: Vec<Vec<f64>>,
+    pub r: Vec<Vec<f64>>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -1296,6 +1340,9 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
     // The design pair: plant, then the delay states, then the integrators.
     let mut da = ad.clone();
     let mut db = bd.clone();
+    if spec.lqr.is_some() && spec.search.is_some() {
+        return Err(DesignError::Input(InputError::new("search", "the search scales a pole pattern; with LQR weights, scale the weights instead (or list the LQR poles as feedback.poles and search)")));
+    }
     let search = match (&spec.search, t) {
         (Some(situations), None) => {
             let limits: Vec<f64> = req.limits.iter().map(|l| l.unwrap_or(f64::INFINITY)).collect();
@@ -1305,7 +1352,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         }
         _ => None,
     };
-    let base_poles: Vec<Complex64> = search.as_ref().map_or_else(|| req.poles.clone(), |r| r.poles.clone());
+    let mut base_poles: Vec<Complex64> = search.as_ref().map_or_else(|| req.poles.clone(), |r| r.poles.clone());
     let mut dpoles = to_design(&base_poles);
     if let (true, Some(imp)) = (delay, &spec.implementation) {
         let (pa, pb) = delay_augmented(&da, &db);
@@ -1336,6 +1383,44 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         db = ib;
         dpoles.extend(to_design(ip));
     }
+    // LQR: the poles are those of the LQR closed loop of the design pair.
+    let lqr = match &spec.lqr {
+        None => None,
+        Some(w) => {
+            let (qw, rw) = match w {
+                LqrWeights::Matrices { q, r } => (q.clone(), r.clone()),
+                LqrWeights::Bryson { max_state, max_input } => {
+                    if max_state.len() != da.nrows() {
+                        return Err(DesignError::Input(InputError::new("feedback.lqr.bryson.max_state", format!("{} values given but the design has {} states (plant, delay and integrator states)", max_state.len(), da.nrows()))));
+                    }
+                    if max_input.len() != m {
+                        return Err(DesignError::Input(InputError::new("feedback.lqr.bryson.max_input", format!("{} values given but the plant has {m} inputs", max_input.len()))));
+                    }
+                    crate::riccati::bryson_weights(max_state, max_input).map_err(|e| DesignError::Input(InputError::new("feedback.lqr.bryson", e.to_string())))?
+                }
+            };
+            if qw.shape() != (da.nrows(), da.nrows()) {
+                return Err(DesignError::Input(InputError::new("feedback.lqr.q", format!("Q is {}×{} but the design has {} states (plant, delay and integrator states): give a {}×{} matrix", qw.nrows(), qw.ncols(), da.nrows(), da.nrows(), da.nrows()))));
+            }
+            if rw.shape() != (m, m) {
+                return Err(DesignError::Input(InputError::new("feedback.lqr.r", format!("R is {}×{} but the plant has {m} inputs: give a {m}×{m} matrix", rw.nrows(), rw.ncols()))));
+            }
+            let design = match t {
+                Some(_) => crate::riccati::discrete_lqr_gain(&da, &db, &qw, &rw),
+                None => crate::riccati::lqr_gain(&da, &db, &qw, &rw),
+            }
+            .map_err(|e| match e {
+                crate::riccati::RiccatiError::NotStabilizable { .. } | crate::riccati::RiccatiError::NotDetectable { .. } | crate::riccati::RiccatiError::NoConvergence { .. } | crate::riccati::RiccatiError::InaccurateSolution { .. } | crate::riccati::RiccatiError::NotStabilizing { .. } | crate::riccati::RiccatiError::SingularMatrix { .. } | crate::riccati::RiccatiError::Eigen(_) | crate::riccati::RiccatiError::Svd(_) | crate::riccati::RiccatiError::NotStable => infeasible(&e),
+                other => DesignError::Input(InputError::new("feedback.lqr", other.to_string())),
+            })?;
+            dpoles = design.closed_loop_poles.clone();
+            base_poles = match t {
+                Some(ts) => dpoles.iter().map(|z| map_to_continuous(*z, ts)).collect(),
+                None => dpoles.clone(),
+            };
+            Some(design)
+        }
+    };
     if dpoles.len() != da.nrows() {
         let extra = da.nrows() - n;
         return Err(DesignError::Input(InputError::new(
@@ -1806,6 +1891,14 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         limited_by_range: r.limited_by_range,
         evaluations: r.evaluations,
     });
+    let lqr_result = lqr.as_ref().map(|d| {
+        let (qw, rw) = match &spec.lqr {
+            Some(LqrWeights::Matrices { q, r }) => (rows(q), rows(r)),
+            Some(LqrWeights::Bryson { max_state, max_input }) => crate::riccati::bryson_weights(max_state, max_input).map(|(q, r)| (rows(&q), rows(&r))).unwrap_or_default(),
+            None => (Vec::new(), Vec::new()),
+        };
+        LqrResult { riccati_solution: rows(&d.riccati_solution), residual: d.residual, gain: rows(&d.gain), closed_loop_poles: d.closed_loop_poles.iter().map(|z| pair(*z)).collect(), q: qw, r: rw }
+    });
     let pole_choice = spec.pole_choice.as_ref().map(|c| PoleChoiceResult {
         method: c.method,
         description: c.description.clone(),
@@ -1878,6 +1971,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         closed_loop,
         search: search_summary,
         pole_choice,
+        lqr: lqr_result,
     })
 }
 

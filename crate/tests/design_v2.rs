@@ -207,3 +207,37 @@ fn poles_from_a_pattern_or_a_specification() {
         other => panic!("{other:?}"),
     }
 }
+
+#[test]
+fn lqr_as_a_way_of_choosing_poles() {
+    // Double integrator, Q = I, R = 1: X = [[√3, 1], [1, √3]], K = [1, √3] (a standard worked
+    // example; from memory, checkable by substituting X into the Riccati equation).
+    let plant = r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}"#;
+    let r = design(&format!(r#"{plant}, "feedback": {{"lqr": {{"q": [[1, 0], [0, 1]], "r": [[1]]}}}}"#)).unwrap();
+    let l = r.lqr.as_ref().expect("lqr section");
+    let s3 = 3f64.sqrt();
+    assert!((l.riccati_solution[0][0] - s3).abs() < 1e-12 && (l.riccati_solution[0][1] - 1.0).abs() < 1e-12 && (l.riccati_solution[1][1] - s3).abs() < 1e-12, "{:?}", l.riccati_solution);
+    assert!(l.residual < 1e-13);
+    // Single input: the placed gain is the LQR gain.
+    let k = &r.feedback.gain[0];
+    assert!((k[0] - 1.0).abs() < 1e-10 && (k[1] - s3).abs() < 1e-10, "{k:?}");
+    // Bryson's rule: the weights are inverse squares of the acceptable excursions.
+    let r = design(&format!(r#"{plant}, "feedback": {{"lqr": {{"bryson": {{"max_state": [0.5, 2], "max_input": [4]}}}}}}"#)).unwrap();
+    let l = r.lqr.as_ref().unwrap();
+    assert!((l.q[0][0] - 4.0).abs() < 1e-15 && (l.q[1][1] - 0.25).abs() < 1e-15 && (l.r[0][0] - 1.0 / 16.0).abs() < 1e-15);
+    // Wrong sizes name the field.
+    match design(&format!(r#"{plant}, "feedback": {{"lqr": {{"q": [[1]], "r": [[1]]}}}}"#)) {
+        Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback.lqr.q"),
+        other => panic!("{other:?}"),
+    }
+    // Digital LQR with integral action runs on the augmented discrete pair.
+    let r = design(
+        r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]], "c": [[1, 0]]}, "feedback": {"lqr": {"bryson": {"max_state": [0.1, 1, 0.05], "max_input": [5]}}},
+           "implementation": {"sample_time": 0.01}, "tracking": {"mode": "integral"}"#,
+    )
+    .unwrap();
+    assert!(r.lqr.as_ref().unwrap().closed_loop_poles.iter().all(|z| (z[0] * z[0] + z[1] * z[1]).sqrt() < 1.0));
+    let l = r.closed_loop.as_ref().unwrap();
+    // Integral action: the output settles into the 2 % band and keeps closing in on the reference.
+    assert!(l.tracked[0].settling_time.is_some() && l.tracked[0].steady_state_error.abs() < 0.02, "{:?}, duration {}", l.tracked[0], l.duration);
+}
