@@ -30,16 +30,16 @@ DESIGN FILE (JSON, format \"polewright.design\", version 1):
                                                             slowest pole, 2 % band)
     Matrices may also be text: one row per line, entries separated by spaces, tabs or commas.
 
-VERSION 2 ADDS ("version": 2; see README.md for every key):
-    "feedback": {"pattern": {"family": "bessel", "settling_time": 2}}   prototype poles
-                {"spec": {"overshoot": 0.05, "settling_time": 1.5}}     from specifications
-                {"lqr": {"q": [[...]], "r": [[...]]}} or {"lqr": {"bryson": {...}}}
-    "implementation": {"sample_time": 0.001, "computation_delay": true}   digital controller
-    "observer": {"speed_factor": 4, "form": "predictor" | "current"}      state estimator
-    "tracking": {"mode": "feedforward" | "integral", "outputs": [...]}    reference tracking
-    "anti_windup": {"mode": "clamp" | "back_calculation", "time_constant": 0.05}
-    "search": {"fastest_within_limits": true, "situations": [{"initial_state": [...]}]}
-    "simulation": {"reference": [...], "disturbance": [...], "noise_std": [...], "seed": 1}
+VERSION 2 ADDS (\"version\": 2; see README.md for every key):
+    \"feedback\": {\"pattern\": {\"family\": \"bessel\", \"settling_time\": 2}}   prototype poles
+                {\"spec\": {\"overshoot\": 0.05, \"settling_time\": 1.5}}     from specifications
+                {\"lqr\": {\"q\": [[...]], \"r\": [[...]]}} or {\"lqr\": {\"bryson\": {...}}}
+    \"implementation\": {\"sample_time\": 0.001, \"computation_delay\": true}   digital controller
+    \"observer\": {\"speed_factor\": 4, \"form\": \"predictor\" | \"current\"}      state estimator
+    \"tracking\": {\"mode\": \"feedforward\" | \"integral\", \"outputs\": [...]}    reference tracking
+    \"anti_windup\": {\"mode\": \"clamp\" | \"back_calculation\", \"time_constant\": 0.05}
+    \"search\": {\"fastest_within_limits\": true, \"situations\": [{\"initial_state\": [...]}]}
+    \"simulation\": {\"reference\": [...], \"disturbance\": [...], \"noise_std\": [...], \"seed\": 1}
 
 EXIT STATUS:
     0  the design succeeded (warnings, if any, are in the result)
