@@ -1,0 +1,2599 @@
+//! Direct editing of the requested closed-loop poles, and side-by-side comparison of two
+//! designs. Pure data and rules: no browser, no drawing; the page wires pointer and key
+//! events to these functions and re-runs the design when the pole list changes.
+//!
+//! # The pole list being edited ([`PoleSet`])
+//!
+//! The requested closed-loop poles are held as an ordered list of *entries*
+//! ([`PoleEntry`]): a real pole, or a conjugate pair stored once by its upper member
+//! (`re + j·im` with `im > 0`; the lower member `re − j·im` is implied). Conjugate
+//! symmetry therefore holds by construction, whatever edits are made. An entry index
+//! (0-based) names an entry, not a pole: a pair is one entry and two poles.
+//! [`PoleSet::from_poles`] pairs a plain list the way [`check_conjugate_pairs`] does
+//! (an unpaired complex pole is an error); [`PoleSet::poles`] gives the list back, each
+//! pair as upper then lower member, in entry order.
+//!
+//! # Edits ([`Edit`], [`PoleSet::edited`])
+//!
+//! - **Move** an entry: a pair moves as a whole (its conjugate follows); a target with a
+//!   negative imaginary part is reflected into the upper half-plane, so dragging either
+//!   member works. A pair cannot be moved onto the real axis (imaginary part exactly zero;
+//!   [`EditError::PairOnRealAxis`]): merge it into two real poles instead. A real pole stays
+//!   real: the imaginary part of its target is dropped.
+//! - **Add** a pole: a real value adds one real pole, a complex value adds a pair (two
+//!   poles). **Remove** an entry removes one or two poles. **Replace** swaps the whole list
+//!   (as typed in the text box).
+//! - **SplitReal** turns two real poles into one pair and **MergePair** a pair into two
+//!   real poles, so the number of poles is kept when a pair is born or dies.
+//! - Every target must be finite ([`EditError::NotFinite`]); a refused edit changes nothing.
+//!   Whether the resulting number of poles suits the plant is for the caller to check.
+//!
+//! Entry indices after an edit: Remove shifts the later entries down by one; SplitReal puts
+//! the pair at the lower of its two indices and removes the higher one; MergePair puts the
+//! two real poles at the pair's index and the next one; Add appends at the end.
+//!
+//! # Closeness to the real axis (choice)
+//!
+//! Edits made from the map ([`drag_edit`], [`nudge`]) never bring a pair closer to the real
+//! axis than [`EditParams::pair_axis_clearance`] times the frame's larger data span (default
+//! 0.5 %): the pair stays a pair, held at that minimum imaginary part, rather than snapping
+//! onto the axis or refusing the drag. Turning a pair into real poles is always the explicit
+//! MergePair edit. [`PoleSet::edited`] itself knows no frame and only refuses an imaginary
+//! part of exactly zero.
+//!
+//! # History ([`EditHistory`])
+//!
+//! The history owns the current pole list. [`EditHistory::apply`] records the previous list
+//! as one undo step; an edit that leaves the list unchanged records nothing; a new step
+//! clears the redo list; at most [`EditParams::history_limit`] steps (default 200) are kept,
+//! the oldest dropped first. A pointer drag is one step: [`EditHistory::begin_drag`], any
+//! number of [`EditHistory::drag_to`] / [`EditHistory::drag_to_pixel`] (the list changes
+//! live, nothing recorded), then [`EditHistory::end_drag`] (one step, if anything moved) or
+//! [`EditHistory::cancel_drag`] (back to where the drag began). Applying an edit, undoing or
+//! redoing during a drag first ends the drag. Each keyboard nudge is its own step.
+//!
+//! # Keyboard ([`nudge`]) and pointer ([`drag_edit`], [`PoleSet::hit`])
+//!
+//! A nudge moves an entry by [`EditParams::nudge_fraction`] (default 1 %) or
+//! [`EditParams::large_nudge_fraction`] (default 10 %) of the frame's larger data span, the
+//! same data distance in both directions (pole maps have equal scale on both axes, so it is
+//! also the same number of pixels). Left/Right change the real part; Up/Down change the
+//! imaginary part of a pair's upper member (Down stops at the axis clearance). Up/Down on a
+//! real pole does nothing and says why ([`NoChangeReason::RealPoleStaysOnAxis`]); splitting
+//! is not started from the keyboard. For a focused lower member, [`Direction::for_member`]
+//! swaps Up and Down so the marker moves the way the arrow points.
+//!
+//! Hit-testing uses [`plot::hit_test`](crate::plot::hit_test) on every marker of the set
+//! (both members of a pair; each names the same entry) in the given frame.
+//!
+//! # Comparison ([`DesignSummary`], [`compare`])
+//!
+//! A summary keeps the figures of merit of one design run; [`compare`] lines up a pinned and
+//! the current summary figure by figure. Lower is better for every figure. A figure may be
+//! missing: a response that has not settled within the simulated time
+//! ([`Figure::NotSettled`]; worse than any settled value) or a figure that does not exist
+//! for that design ([`Figure::NotAvailable`]; never better or worse than anything).
+
+use std::collections::VecDeque;
+use std::fmt;
+
+use serde::Serialize;
+
+use crate::design::{fmt_num, DesignResult, Pair};
+use crate::plot::{hit_test, Frame, HIT_RADIUS_PX};
+use crate::poles::{check_conjugate_pairs, format_pole_list, Complex64, PoleError};
+
+/// Relative tolerance for matching a pole with its conjugate: the same rule and value as
+/// [`check_conjugate_pairs`] uses, so that every list it accepts pairs up here.
+const CONJUGATE_TOLERANCE: f64 = 1e-12;
+
+// ---------------------------------------------------------------------------
+// Parameters
+// ---------------------------------------------------------------------------
+
+/// Tuning of editing from the pole map.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EditParams {
+    /// Most undo steps kept; the oldest is dropped beyond it. Default 200; 0 keeps none.
+    pub history_limit: usize,
+    /// Keyboard step as a fraction of the frame's larger data span. Default 0.01 (1 %).
+    pub nudge_fraction: f64,
+    /// The larger keyboard step (e.g. with Shift), same unit. Default 0.1 (10 %).
+    pub large_nudge_fraction: f64,
+    /// Smallest imaginary part a pair is given by a drag or nudge, as a fraction of the
+    /// frame's larger data span. Default 0.005 (0.5 %). Non-finite or negative counts as 0.
+    pub pair_axis_clearance: f64,
+    /// Pointer hit radius in CSS pixels. Default [`HIT_RADIUS_PX`] (8).
+    pub hit_radius_px: f64,
+}
+
+impl Default for EditParams {
+    fn default() -> Self {
+        EditParams {
+            history_limit: 200,
+            nudge_fraction: 0.01,
+            large_nudge_fraction: 0.1,
+            pair_axis_clearance: 0.005,
+            hit_radius_px: HIT_RADIUS_PX,
+        }
+    }
+}
+
+/// Tuning of design comparison.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ComparisonParams {
+    /// Two finite values within this relative difference (of the larger magnitude) count as
+    /// the same. Default 1e-9 (floating-point noise, not a judgement of what matters).
+    pub equal_within: f64,
+}
+
+impl Default for ComparisonParams {
+    fn default() -> Self {
+        ComparisonParams { equal_within: 1e-9 }
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Errors
+// ---------------------------------------------------------------------------
+
+/// Why an edit was refused. A refused edit changes nothing.
+#[derive(Debug, Clone, PartialEq)]
+pub enum EditError {
+    /// Entry `entry` (0-based) does not exist; the list has `entries` entries.
+    NoSuchEntry { entry: usize, entries: usize },
+    /// A target position has a NaN or infinite part.
+    NotFinite,
+    /// A conjugate pair was given an imaginary part of exactly zero.
+    PairOnRealAxis,
+    /// The entry must be a real pole (for a split) but is a pair.
+    NotReal { entry: usize },
+    /// The entry must be a conjugate pair (for a merge) but is a real pole.
+    NotPair { entry: usize },
+    /// A split named the same real pole twice.
+    SameEntry { entry: usize },
+    /// A replacement list is not a valid pole list.
+    Poles(PoleError),
+    /// `drag_to` without `begin_drag`.
+    NoDrag,
+    /// The frame has no usable data span (zero or not finite).
+    UnusableFrame,
+}
+
+impl fmt::Display for EditError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            EditError::NoSuchEntry { entry, entries } => write!(
+                f,
+                "there is no pole entry {} (the list has {entries}); choose a pole on the map",
+                entry.saturating_add(1)
+            ),
+            EditError::NotFinite => write!(
+                f,
+                "the new position is not a finite number; the pole was left where it was"
+            ),
+            EditError::PairOnRealAxis => write!(
+                f,
+                "a conjugate pair cannot sit on the real axis; merge it into two real poles \
+                 instead"
+            ),
+            EditError::NotReal { entry } => write!(
+                f,
+                "pole entry {} is a conjugate pair; only two real poles can be split into a pair",
+                entry.saturating_add(1)
+            ),
+            EditError::NotPair { entry } => write!(
+                f,
+                "pole entry {} is a real pole; only a conjugate pair can be merged into two \
+                 real poles",
+                entry.saturating_add(1)
+            ),
+            EditError::SameEntry { entry } => write!(
+                f,
+                "pole entry {} was named twice; a pair is made from two different real poles",
+                entry.saturating_add(1)
+            ),
+            EditError::Poles(inner) => inner.fmt(f),
+            EditError::NoDrag => write!(f, "no pole is being dragged"),
+            EditError::UnusableFrame => write!(
+                f,
+                "the pole map has no usable scale; resize or redraw it and try again"
+            ),
+        }
+    }
+}
+
+impl std::error::Error for EditError {
+    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+        match self {
+            EditError::Poles(inner) => Some(inner),
+            _ => None,
+        }
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Pole set
+// ---------------------------------------------------------------------------
+
+/// One entry of a [`PoleSet`].
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum PoleEntry {
+    /// A real pole at `re`.
+    Real { re: f64 },
+    /// The pair `re ± j·im`, with `im > 0`.
+    Pair { re: f64, im: f64 },
+}
+
+impl PoleEntry {
+    /// Number of poles: 1 or 2.
+    pub fn pole_count(&self) -> usize {
+        match self {
+            PoleEntry::Real { .. } => 1,
+            PoleEntry::Pair { .. } => 2,
+        }
+    }
+
+    /// The real pole, or the upper member of the pair.
+    pub fn upper(&self) -> Complex64 {
+        match *self {
+            PoleEntry::Real { re } => Complex64::new(re, 0.0),
+            PoleEntry::Pair { re, im } => Complex64::new(re, im),
+        }
+    }
+
+    /// Real part.
+    pub fn re(&self) -> f64 {
+        match *self {
+            PoleEntry::Real { re } | PoleEntry::Pair { re, .. } => re,
+        }
+    }
+
+    /// Whether this is a conjugate pair.
+    pub fn is_pair(&self) -> bool {
+        matches!(self, PoleEntry::Pair { .. })
+    }
+}
+
+/// Which member of an entry a marker shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Member {
+    /// A real pole.
+    Real,
+    /// The member of a pair with positive imaginary part (the one stored).
+    Upper,
+    /// Its conjugate.
+    Lower,
+}
+
+/// A marker of a pole set on the map: `point` is `[re, im]` in data units.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct PoleMarker {
+    pub entry: usize,
+    pub member: Member,
+    pub point: [f64; 2],
+}
+
+/// An ordered list of requested closed-loop poles, conjugate-symmetric by construction.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct PoleSet {
+    entries: Vec<PoleEntry>,
+}
+
+/// Whether `a` equals `target` to within the conjugate tolerance (largest-component norm,
+/// relative to `max(1, |target|)`), exactly as in `poles::check_conjugate_pairs`.
+fn is_close(a: Complex64, target: Complex64) -> bool {
+    let scale = 1.0_f64.max(target.re.abs().max(target.im.abs()));
+    let difference = (a.re - target.re).abs().max((a.im - target.im).abs());
+    difference <= CONJUGATE_TOLERANCE * scale
+}
+
+fn is_finite(z: Complex64) -> bool {
+    z.re.is_finite() && z.im.is_finite()
+}
+
+fn require_finite(z: Complex64) -> Result<(), EditError> {
+    if is_finite(z) {
+        Ok(())
+    } else {
+        Err(EditError::NotFinite)
+    }
+}
+
+/// A pair entry at `to`, reflected into the upper half-plane.
+fn pair_entry(to: Complex64) -> Result<PoleEntry, EditError> {
+    require_finite(to)?;
+    let im = to.im.abs();
+    if im == 0.0 {
+        return Err(EditError::PairOnRealAxis);
+    }
+    Ok(PoleEntry::Pair { re: to.re, im })
+}
+
+impl PoleSet {
+    /// The empty set.
+    pub fn new() -> PoleSet {
+        PoleSet::default()
+    }
+
+    /// Pairs a pole list into entries, keeping the order of first appearance.
+    ///
+    /// A pole with zero imaginary part is a real entry. Each complex pole is matched with
+    /// the first later unused complex pole equal to its conjugate within the tolerance of
+    /// [`check_conjugate_pairs`]; the pair's entry takes the real part of the member with the
+    /// larger imaginary part and the magnitude of that imaginary part (for an exact pair:
+    /// the upper member itself).
+    ///
+    /// # Errors
+    /// [`EditError::Poles`] with [`PoleError::NotFinite`] or [`PoleError::MissingConjugate`].
+    pub fn from_poles(poles: &[Complex64]) -> Result<PoleSet, EditError> {
+        check_conjugate_pairs(poles).map_err(EditError::Poles)?;
+        let mut used = vec![false; poles.len()];
+        let mut entries = Vec::with_capacity(poles.len());
+        for (i, z) in poles.iter().enumerate() {
+            if used.get(i).copied().unwrap_or(true) {
+                continue;
+            }
+            if let Some(flag) = used.get_mut(i) {
+                *flag = true;
+            }
+            if z.im == 0.0 {
+                entries.push(PoleEntry::Real { re: z.re });
+                continue;
+            }
+            let target = z.conj();
+            let partner = poles.iter().enumerate().skip(i + 1).find(|(j, w)| {
+                !used.get(*j).copied().unwrap_or(true) && w.im != 0.0 && is_close(**w, target)
+            });
+            match partner {
+                Some((j, w)) => {
+                    if let Some(flag) = used.get_mut(j) {
+                        *flag = true;
+                    }
+                    let top = if z.im >= w.im { z } else { w };
+                    entries.push(PoleEntry::Pair {
+                        re: top.re,
+                        im: top.im.abs(),
+                    });
+                }
+                // invariant: unreachable after check_conjugate_pairs, which matches greedily
+                // with the same rule; reported rather than assumed.
+                None => {
+                    return Err(EditError::Poles(PoleError::MissingConjugate {
+                        pole: *z,
+                        expected: target,
+                    }))
+                }
+            }
+        }
+        Ok(PoleSet { entries })
+    }
+
+    /// A set from entries, checked: every part finite and every pair's `im > 0`.
+    ///
+    /// # Errors
+    /// [`EditError::NotFinite`] or [`EditError::PairOnRealAxis`] (also for `im < 0`).
+    pub fn from_entries(entries: Vec<PoleEntry>) -> Result<PoleSet, EditError> {
+        for e in &entries {
+            require_finite(e.upper())?;
+            if let PoleEntry::Pair { im, .. } = e {
+                if *im <= 0.0 {
+                    return Err(EditError::PairOnRealAxis);
+                }
+            }
+        }
+        Ok(PoleSet { entries })
+    }
+
+    /// The entries in order.
+    pub fn entries(&self) -> &[PoleEntry] {
+        &self.entries
+    }
+
+    /// Entry `index`, if it exists.
+    pub fn entry(&self, index: usize) -> Option<PoleEntry> {
+        self.entries.get(index).copied()
+    }
+
+    /// Number of entries (a pair counts once).
+    pub fn entry_count(&self) -> usize {
+        self.entries.len()
+    }
+
+    /// Number of poles (a pair counts twice).
+    pub fn pole_count(&self) -> usize {
+        self.entries.iter().map(PoleEntry::pole_count).sum()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.entries.is_empty()
+    }
+
+    /// The poles in entry order, each pair as upper then lower member.
+    pub fn poles(&self) -> Vec<Complex64> {
+        let mut out = Vec::with_capacity(self.pole_count());
+        for e in &self.entries {
+            let z = e.upper();
+            out.push(z);
+            if e.is_pair() {
+                out.push(z.conj());
+            }
+        }
+        out
+    }
+
+    /// The list as text (`-1±2j, -3`), readable by `poles::parse_poles`.
+    pub fn text(&self) -> String {
+        format_pole_list(&self.poles())
+    }
+
+    fn no_such(&self, entry: usize) -> EditError {
+        EditError::NoSuchEntry {
+            entry,
+            entries: self.entries.len(),
+        }
+    }
+
+    fn existing(&self, entry: usize) -> Result<PoleEntry, EditError> {
+        self.entry(entry).ok_or_else(|| self.no_such(entry))
+    }
+
+    /// The set after `edit` (see the [module documentation](self) for the rules).
+    ///
+    /// # Errors
+    /// Any [`EditError`] but [`EditError::NoDrag`] and [`EditError::UnusableFrame`]; `self`
+    /// is never changed.
+    pub fn edited(&self, edit: &Edit) -> Result<PoleSet, EditError> {
+        let mut entries = self.entries.clone();
+        match edit {
+            Edit::Move { entry, to } => {
+                require_finite(*to)?;
+                let moved = match self.existing(*entry)? {
+                    PoleEntry::Real { .. } => PoleEntry::Real { re: to.re },
+                    PoleEntry::Pair { .. } => pair_entry(*to)?,
+                };
+                if let Some(slot) = entries.get_mut(*entry) {
+                    *slot = moved;
+                }
+            }
+            Edit::Add(z) => {
+                require_finite(*z)?;
+                entries.push(if z.im == 0.0 {
+                    PoleEntry::Real { re: z.re }
+                } else {
+                    pair_entry(*z)?
+                });
+            }
+            Edit::Remove { entry } => {
+                self.existing(*entry)?;
+                entries.remove(*entry);
+            }
+            Edit::Replace(poles) => return PoleSet::from_poles(poles),
+            Edit::SplitReal {
+                entries: (a, b),
+                to,
+            } => {
+                for k in [*a, *b] {
+                    if self.existing(k)?.is_pair() {
+                        return Err(EditError::NotReal { entry: k });
+                    }
+                }
+                if a == b {
+                    return Err(EditError::SameEntry { entry: *a });
+                }
+                let pair = pair_entry(*to)?;
+                let (low, high) = if a < b { (*a, *b) } else { (*b, *a) };
+                entries.remove(high);
+                if let Some(slot) = entries.get_mut(low) {
+                    *slot = pair;
+                }
+            }
+            Edit::MergePair { entry, to } => {
+                if !self.existing(*entry)?.is_pair() {
+                    return Err(EditError::NotPair { entry: *entry });
+                }
+                if !(to.0.is_finite() && to.1.is_finite()) {
+                    return Err(EditError::NotFinite);
+                }
+                if let Some(slot) = entries.get_mut(*entry) {
+                    *slot = PoleEntry::Real { re: to.0 };
+                }
+                entries.insert(*entry + 1, PoleEntry::Real { re: to.1 });
+            }
+        }
+        Ok(PoleSet { entries })
+    }
+
+    /// Every marker: entries in order, a pair's upper member before its lower one.
+    pub fn markers(&self) -> Vec<PoleMarker> {
+        let mut out = Vec::with_capacity(self.pole_count());
+        for (entry, e) in self.entries.iter().enumerate() {
+            match *e {
+                PoleEntry::Real { re } => out.push(PoleMarker {
+                    entry,
+                    member: Member::Real,
+                    point: [re, 0.0],
+                }),
+                PoleEntry::Pair { re, im } => {
+                    out.push(PoleMarker {
+                        entry,
+                        member: Member::Upper,
+                        point: [re, im],
+                    });
+                    out.push(PoleMarker {
+                        entry,
+                        member: Member::Lower,
+                        point: [re, -im],
+                    });
+                }
+            }
+        }
+        out
+    }
+
+    /// The marker under `pointer` (pixels) within `radius` pixels in `frame`, nearest first
+    /// (ties to the earlier marker), via [`plot::hit_test`](crate::plot::hit_test).
+    pub fn hit(&self, frame: &Frame, pointer: [f64; 2], radius: f64) -> Option<PoleMarker> {
+        let markers = self.markers();
+        let pixels: Vec<[f64; 2]> = markers.iter().map(|m| frame.to_pixel(m.point)).collect();
+        let k = hit_test(pointer, &pixels, radius)?;
+        markers.get(k).copied()
+    }
+}
+
+impl fmt::Display for PoleSet {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.text())
+    }
+}
+
+impl TryFrom<&[Complex64]> for PoleSet {
+    type Error = EditError;
+
+    fn try_from(poles: &[Complex64]) -> Result<Self, Self::Error> {
+        PoleSet::from_poles(poles)
+    }
+}
+
+impl TryFrom<Vec<Complex64>> for PoleSet {
+    type Error = EditError;
+
+    fn try_from(poles: Vec<Complex64>) -> Result<Self, Self::Error> {
+        PoleSet::from_poles(&poles)
+    }
+}
+
+impl From<&PoleSet> for Vec<Complex64> {
+    fn from(set: &PoleSet) -> Self {
+        set.poles()
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Edits
+// ---------------------------------------------------------------------------
+
+/// A change to a [`PoleSet`]; entries are 0-based indices.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Edit {
+    /// Move an entry: a pair as a whole (negative `to.im` reflected), a real pole along the
+    /// real axis (`to.im` ignored).
+    Move { entry: usize, to: Complex64 },
+    /// Add a real pole (`im == 0`) or a pair (otherwise).
+    Add(Complex64),
+    /// Remove an entry (one or two poles).
+    Remove { entry: usize },
+    /// Replace the whole list (must pass [`check_conjugate_pairs`]).
+    Replace(Vec<Complex64>),
+    /// Turn two real poles into the pair at `to` (reflected if `to.im < 0`).
+    SplitReal {
+        entries: (usize, usize),
+        to: Complex64,
+    },
+    /// Turn a pair into two real poles at `to.0` and `to.1`.
+    MergePair { entry: usize, to: (f64, f64) },
+}
+
+/// Whether an operation changed the pole list (and, for history operations that record,
+/// whether an undo step was added).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Change {
+    Changed,
+    Unchanged,
+}
+
+// ---------------------------------------------------------------------------
+// History
+// ---------------------------------------------------------------------------
+
+#[derive(Debug, Clone)]
+struct Drag {
+    entry: usize,
+    before: PoleSet,
+}
+
+/// The current pole list with undo and redo (see the [module documentation](self)).
+#[derive(Debug, Clone)]
+pub struct EditHistory {
+    current: PoleSet,
+    undo: VecDeque<PoleSet>,
+    redo: Vec<PoleSet>,
+    drag: Option<Drag>,
+    params: EditParams,
+}
+
+impl EditHistory {
+    /// A history starting at `initial`, with nothing to undo.
+    pub fn new(initial: PoleSet, params: EditParams) -> EditHistory {
+        EditHistory {
+            current: initial,
+            undo: VecDeque::new(),
+            redo: Vec::new(),
+            drag: None,
+            params,
+        }
+    }
+
+    /// The current pole list.
+    pub fn current(&self) -> &PoleSet {
+        &self.current
+    }
+
+    pub fn params(&self) -> &EditParams {
+        &self.params
+    }
+
+    pub fn can_undo(&self) -> bool {
+        !self.undo.is_empty()
+    }
+
+    pub fn can_redo(&self) -> bool {
+        !self.redo.is_empty()
+    }
+
+    /// Number of steps that can be undone.
+    pub fn undo_steps(&self) -> usize {
+        self.undo.len()
+    }
+
+    /// Number of steps that can be redone.
+    pub fn redo_steps(&self) -> usize {
+        self.redo.len()
+    }
+
+    fn push_undo(&mut self, previous: PoleSet) {
+        if self.params.history_limit == 0 {
+            self.undo.clear();
+            return;
+        }
+        self.undo.push_back(previous);
+        while self.undo.len() > self.params.history_limit {
+            self.undo.pop_front();
+        }
+    }
+
+    /// A new step: `previous` becomes undoable and the redo list is cleared.
+    fn record(&mut self, previous: PoleSet) {
+        self.push_undo(previous);
+        self.redo.clear();
+    }
+
+    /// Applies `edit` as one undo step (ending any drag first). An edit that leaves the list
+    /// as it was records nothing and keeps the redo list.
+    ///
+    /// # Errors
+    /// As [`PoleSet::edited`]; the list and the history are then unchanged.
+    pub fn apply(&mut self, edit: &Edit) -> Result<Change, EditError> {
+        self.end_drag();
+        let next = self.current.edited(edit)?;
+        if next == self.current {
+            return Ok(Change::Unchanged);
+        }
+        let previous = std::mem::replace(&mut self.current, next);
+        self.record(previous);
+        Ok(Change::Changed)
+    }
+
+    /// Goes back one step (ending any drag first); `None` when there is nothing to undo.
+    pub fn undo(&mut self) -> Option<&PoleSet> {
+        self.end_drag();
+        let previous = self.undo.pop_back()?;
+        let undone = std::mem::replace(&mut self.current, previous);
+        self.redo.push(undone);
+        Some(&self.current)
+    }
+
+    /// Goes forward one undone step (ending any drag first); `None` when there is none.
+    pub fn redo(&mut self) -> Option<&PoleSet> {
+        self.end_drag();
+        let next = self.redo.pop()?;
+        let previous = std::mem::replace(&mut self.current, next);
+        self.push_undo(previous);
+        Some(&self.current)
+    }
+
+    /// Starts dragging entry `entry` (ending any earlier drag first).
+    ///
+    /// # Errors
+    /// [`EditError::NoSuchEntry`].
+    pub fn begin_drag(&mut self, entry: usize) -> Result<(), EditError> {
+        self.end_drag();
+        self.current.existing(entry)?;
+        self.drag = Some(Drag {
+            entry,
+            before: self.current.clone(),
+        });
+        Ok(())
+    }
+
+    /// The entry being dragged, if any.
+    pub fn dragging(&self) -> Option<usize> {
+        self.drag.as_ref().map(|d| d.entry)
+    }
+
+    fn drag_apply(&mut self, edit: &Edit) -> Result<Change, EditError> {
+        let next = self.current.edited(edit)?;
+        if next == self.current {
+            return Ok(Change::Unchanged);
+        }
+        self.current = next;
+        Ok(Change::Changed)
+    }
+
+    /// Moves the dragged entry to `to` (rules of [`Edit::Move`]), recording nothing yet.
+    ///
+    /// # Errors
+    /// [`EditError::NoDrag`], or as [`Edit::Move`]; the list is then unchanged and the drag
+    /// goes on.
+    pub fn drag_to(&mut self, to: Complex64) -> Result<Change, EditError> {
+        let entry = self.dragging().ok_or(EditError::NoDrag)?;
+        self.drag_apply(&Edit::Move { entry, to })
+    }
+
+    /// Moves the dragged entry under the pointer ([`drag_edit`] with this history's
+    /// parameters). Use the frame the map had when the drag began, so that the view does not
+    /// rescale under the pointer as the poles move.
+    ///
+    /// # Errors
+    /// As [`EditHistory::drag_to`] and [`drag_edit`].
+    pub fn drag_to_pixel(&mut self, frame: &Frame, pointer: [f64; 2]) -> Result<Change, EditError> {
+        let entry = self.dragging().ok_or(EditError::NoDrag)?;
+        let edit = drag_edit(&self.current, entry, frame, pointer, &self.params)?;
+        self.drag_apply(&edit)
+    }
+
+    /// Ends the drag: one undo step if the list differs from where the drag began
+    /// ([`Change::Changed`]); nothing without a drag or movement.
+    pub fn end_drag(&mut self) -> Change {
+        match self.drag.take() {
+            Some(drag) if drag.before != self.current => {
+                self.record(drag.before);
+                Change::Changed
+            }
+            _ => Change::Unchanged,
+        }
+    }
+
+    /// Abandons the drag, putting the list back as it was when the drag began.
+    pub fn cancel_drag(&mut self) -> Change {
+        match self.drag.take() {
+            Some(drag) if drag.before != self.current => {
+                self.current = drag.before;
+                Change::Changed
+            }
+            _ => Change::Unchanged,
+        }
+    }
+}
+
+// ---------------------------------------------------------------------------
+// Keyboard and pointer
+// ---------------------------------------------------------------------------
+
+/// An arrow key.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Direction {
+    Left,
+    Right,
+    Up,
+    Down,
+}
+
+impl Direction {
+    /// The direction to pass to [`nudge`] when `member` is focused: Up and Down swapped for
+    /// a pair's lower member (moving it down moves the upper member up), others unchanged.
+    pub fn for_member(self, member: Member) -> Direction {
+        match (member, self) {
+            (Member::Lower, Direction::Up) => Direction::Down,
+            (Member::Lower, Direction::Down) => Direction::Up,
+            (_, d) => d,
+        }
+    }
+}
+
+/// Keyboard step size.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum StepSize {
+    /// [`EditParams::nudge_fraction`] of the span.
+    Normal,
+    /// [`EditParams::large_nudge_fraction`] of the span.
+    Large,
+}
+
+/// Why a nudge does nothing.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum NoChangeReason {
+    /// Up or Down on a real pole: it stays on the real axis.
+    RealPoleStaysOnAxis,
+    /// Down on a pair already at (or inside) the axis clearance.
+    PairAtAxisClearance,
+}
+
+impl fmt::Display for NoChangeReason {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            NoChangeReason::RealPoleStaysOnAxis => write!(
+                f,
+                "a real pole stays on the real axis; use left and right to move it, or split \
+                 two real poles into a pair"
+            ),
+            NoChangeReason::PairAtAxisClearance => write!(
+                f,
+                "the pair is as close to the real axis as it can be dragged; merge it to make \
+                 two real poles"
+            ),
+        }
+    }
+}
+
+/// What a key press does.
+#[derive(Debug, Clone, PartialEq)]
+pub enum NudgeOutcome {
+    /// Apply this edit (an [`Edit::Move`]).
+    Edit(Edit),
+    /// Nothing to do, and why.
+    NoChange(NoChangeReason),
+}
+
+/// The frame's larger data span.
+///
+/// # Errors
+/// [`EditError::UnusableFrame`] when it is not a positive finite number.
+pub fn frame_span(frame: &Frame) -> Result<f64, EditError> {
+    let span = frame.x.range.span().max(frame.y.range.span());
+    if span.is_finite() && span > 0.0 {
+        Ok(span)
+    } else {
+        Err(EditError::UnusableFrame)
+    }
+}
+
+/// Smallest imaginary part a drag or nudge gives a pair in `frame`.
+///
+/// # Errors
+/// [`EditError::UnusableFrame`].
+pub fn axis_clearance(frame: &Frame, params: &EditParams) -> Result<f64, EditError> {
+    let fraction = params.pair_axis_clearance;
+    let fraction = if fraction.is_finite() && fraction > 0.0 {
+        fraction
+    } else {
+        0.0
+    };
+    Ok(fraction * frame_span(frame)?)
+}
+
+/// The keyboard step in data units for `frame`.
+///
+/// # Errors
+/// [`EditError::UnusableFrame`] also when the fraction is not a positive finite number.
+pub fn nudge_step(frame: &Frame, step: StepSize, params: &EditParams) -> Result<f64, EditError> {
+    let fraction = match step {
+        StepSize::Normal => params.nudge_fraction,
+        StepSize::Large => params.large_nudge_fraction,
+    };
+    let distance = fraction * frame_span(frame)?;
+    if distance.is_finite() && distance > 0.0 {
+        Ok(distance)
+    } else {
+        Err(EditError::UnusableFrame)
+    }
+}
+
+/// The edit for one arrow-key press on entry `entry` of `set` (see the
+/// [module documentation](self)). Apply the returned edit with [`EditHistory::apply`].
+///
+/// # Errors
+/// [`EditError::NoSuchEntry`] or [`EditError::UnusableFrame`]. A move that overflows to a
+/// non-finite position is refused when applied.
+pub fn nudge(
+    set: &PoleSet,
+    entry: usize,
+    direction: Direction,
+    step: StepSize,
+    frame: &Frame,
+    params: &EditParams,
+) -> Result<NudgeOutcome, EditError> {
+    let current = set.existing(entry)?;
+    let distance = nudge_step(frame, step, params)?;
+    let z = current.upper();
+    let to = match (current, direction) {
+        (_, Direction::Left) => Complex64::new(z.re - distance, z.im),
+        (_, Direction::Right) => Complex64::new(z.re + distance, z.im),
+        (PoleEntry::Real { .. }, Direction::Up | Direction::Down) => {
+            return Ok(NudgeOutcome::NoChange(NoChangeReason::RealPoleStaysOnAxis))
+        }
+        (PoleEntry::Pair { .. }, Direction::Up) => Complex64::new(z.re, z.im + distance),
+        (PoleEntry::Pair { .. }, Direction::Down) => {
+            let floor = axis_clearance(frame, params)?;
+            if z.im <= floor {
+                return Ok(NudgeOutcome::NoChange(NoChangeReason::PairAtAxisClearance));
+            }
+            Complex64::new(z.re, (z.im - distance).max(floor))
+        }
+    };
+    Ok(NudgeOutcome::Edit(Edit::Move { entry, to }))
+}
+
+/// The data position `[re, im]` of a pointer pixel in `frame`, as a complex number.
+///
+/// # Errors
+/// [`EditError::NotFinite`] for a non-finite pointer (or result).
+pub fn pointer_position(frame: &Frame, pointer: [f64; 2]) -> Result<Complex64, EditError> {
+    let [re, im] = frame.to_data(pointer);
+    let z = Complex64::new(re, im);
+    require_finite(z)?;
+    Ok(z)
+}
+
+/// The edit that puts entry `entry` of `set` under the pointer: a real pole at the pointer's
+/// real part; a pair with its upper member at the pointer reflected into the upper
+/// half-plane and at least [`axis_clearance`] from the axis.
+///
+/// # Errors
+/// [`EditError::NoSuchEntry`], [`EditError::NotFinite`] or [`EditError::UnusableFrame`].
+pub fn drag_edit(
+    set: &PoleSet,
+    entry: usize,
+    frame: &Frame,
+    pointer: [f64; 2],
+    params: &EditParams,
+) -> Result<Edit, EditError> {
+    let current = set.existing(entry)?;
+    let at = pointer_position(frame, pointer)?;
+    let to = match current {
+        PoleEntry::Real { .. } => Complex64::new(at.re, 0.0),
+        PoleEntry::Pair { .. } => {
+            Complex64::new(at.re, at.im.abs().max(axis_clearance(frame, params)?))
+        }
+    };
+    Ok(Edit::Move { entry, to })
+}
+
+// ---------------------------------------------------------------------------
+// Comparison
+// ---------------------------------------------------------------------------
+
+/// One figure of merit, or why it is missing.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(tag = "kind", content = "value", rename_all = "snake_case")]
+pub enum Figure {
+    /// A number (may be `+∞`, e.g. a singular eigenvector matrix; never NaN).
+    Value(f64),
+    /// The response had not settled by the end of the simulation.
+    NotSettled,
+    /// The figure does not exist for this design (no limit, state starting at zero, …).
+    NotAvailable,
+}
+
+impl Figure {
+    /// `Value(x)`, or `NotAvailable` for NaN.
+    pub fn from_number(x: f64) -> Figure {
+        if x.is_nan() {
+            Figure::NotAvailable
+        } else {
+            Figure::Value(x)
+        }
+    }
+
+    /// A settling time: `None` is not settled.
+    pub fn from_settling(t: Option<f64>) -> Figure {
+        t.map_or(Figure::NotSettled, Figure::from_number)
+    }
+
+    /// Short text: the number with four significant figures, `not settled` or `—`.
+    pub fn text(&self) -> String {
+        match self {
+            Figure::Value(x) => fmt_num(*x),
+            Figure::NotSettled => "not settled".into(),
+            Figure::NotAvailable => "—".into(),
+        }
+    }
+}
+
+/// Peak command of one input.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct InputSummary {
+    pub name: String,
+    /// Unit text (may be empty).
+    pub unit: String,
+    /// Peak of the commanded `|u|`.
+    pub peak: Figure,
+    pub limit: Option<f64>,
+    /// `peak / limit` (`NotAvailable` without a positive finite limit).
+    pub peak_over_limit: Figure,
+}
+
+/// Tracking figures of one output, from the whole-loop simulation.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TrackedSummary {
+    pub name: String,
+    /// Seconds (`NotSettled` when not settled).
+    pub settling_time: Figure,
+    /// Percent of the reference step.
+    pub overshoot: Figure,
+    /// `|steady-state error|`, in the output's unit.
+    pub steady_state_error: Figure,
+}
+
+/// The figures of merit of one design run.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DesignSummary {
+    /// The requested poles as text.
+    pub poles: String,
+    pub state_names: Vec<String>,
+    /// Per state, seconds.
+    pub settling_time: Vec<Figure>,
+    /// The largest of them; `NotSettled` if any state has not settled.
+    pub slowest_settling_time: Figure,
+    /// Per state, percent of the initial value (`NotAvailable` for a state starting at 0).
+    pub overshoot: Vec<Figure>,
+    /// The largest available one; `NotAvailable` when none is.
+    pub largest_overshoot: Figure,
+    pub inputs: Vec<InputSummary>,
+    /// `‖K‖₂`.
+    pub gain_norm: Figure,
+    /// `κ₂(X)` of the closed-loop eigenvectors.
+    pub eigenvector_condition: Figure,
+    /// Largest relative distance between requested and achieved poles.
+    pub max_pole_error: Figure,
+    /// Per tracked output (empty without a whole-loop simulation).
+    pub tracked: Vec<TrackedSummary>,
+}
+
+fn pair_to_complex(p: &Pair) -> Complex64 {
+    Complex64::new(p[0], p[1])
+}
+
+/// Slowest settling time of a list: `NotSettled` wins, then the largest value.
+fn slowest(times: &[Figure]) -> Figure {
+    let mut worst: Option<f64> = None;
+    for t in times {
+        match t {
+            Figure::NotSettled => return Figure::NotSettled,
+            Figure::Value(x) => worst = Some(worst.map_or(*x, |w| w.max(*x))),
+            Figure::NotAvailable => {}
+        }
+    }
+    worst.map_or(Figure::NotAvailable, Figure::Value)
+}
+
+/// Largest available value of a list.
+fn largest(values: &[Figure]) -> Figure {
+    values
+        .iter()
+        .filter_map(|v| match v {
+            Figure::Value(x) => Some(*x),
+            _ => None,
+        })
+        .fold(None, |acc: Option<f64>, x| {
+            Some(acc.map_or(x, |a| a.max(x)))
+        })
+        .map_or(Figure::NotAvailable, Figure::Value)
+}
+
+impl DesignSummary {
+    /// The summary of a design run: state figures from its regulator simulation, peak inputs
+    /// against their limits, the gain and its conditioning, and (with a whole-loop
+    /// simulation) the tracking figures of each tracked output.
+    pub fn from_result(result: &DesignResult) -> DesignSummary {
+        let sim = &result.simulation;
+        let requested: Vec<Complex64> = result
+            .feedback
+            .requested_poles
+            .iter()
+            .map(pair_to_complex)
+            .collect();
+        let settling_time: Vec<Figure> = sim
+            .settling_time
+            .iter()
+            .map(|t| Figure::from_settling(*t))
+            .collect();
+        let overshoot: Vec<Figure> = sim
+            .overshoot
+            .iter()
+            .map(|o| o.map_or(Figure::NotAvailable, |x| Figure::from_number(x * 100.0)))
+            .collect();
+        let plant = &result.plant;
+        let inputs = sim
+            .peak_input
+            .iter()
+            .enumerate()
+            .map(|(i, peak)| {
+                let limit = sim.input_limit.get(i).copied().flatten();
+                let peak_over_limit = match limit {
+                    Some(l) if l.is_finite() && l > 0.0 => Figure::from_number(peak / l),
+                    _ => Figure::NotAvailable,
+                };
+                InputSummary {
+                    name: plant
+                        .input_names
+                        .get(i)
+                        .cloned()
+                        .unwrap_or_else(|| format!("u{}", i + 1)),
+                    unit: plant.input_units.get(i).cloned().unwrap_or_default(),
+                    peak: Figure::from_number(*peak),
+                    limit,
+                    peak_over_limit,
+                }
+            })
+            .collect();
+        let tracked = result
+            .closed_loop
+            .as_ref()
+            .map(|l| {
+                l.tracked
+                    .iter()
+                    .map(|t| TrackedSummary {
+                        name: t.name.clone(),
+                        settling_time: Figure::from_settling(t.settling_time),
+                        overshoot: Figure::from_number(t.overshoot * 100.0),
+                        steady_state_error: Figure::from_number(t.steady_state_error.abs()),
+                    })
+                    .collect()
+            })
+            .unwrap_or_default();
+        DesignSummary {
+            poles: format_pole_list(&requested),
+            state_names: plant.state_names.clone(),
+            slowest_settling_time: slowest(&settling_time),
+            settling_time,
+            largest_overshoot: largest(&overshoot),
+            overshoot,
+            inputs,
+            gain_norm: Figure::from_number(result.feedback.gain_norm),
+            eigenvector_condition: Figure::from_number(result.feedback.eigenvector_condition),
+            max_pole_error: Figure::from_number(result.feedback.max_pole_error),
+            tracked,
+        }
+    }
+}
+
+impl From<&DesignResult> for DesignSummary {
+    fn from(result: &DesignResult) -> Self {
+        DesignSummary::from_result(result)
+    }
+}
+
+/// Which design is better on a figure (lower is better).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Which {
+    Pinned,
+    Current,
+    /// Equal values (within [`ComparisonParams::equal_within`]).
+    Same,
+    /// No basis to choose: a figure is not available, or neither has settled.
+    Undecided,
+}
+
+/// One line of a comparison table.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ComparisonRow {
+    /// Plain label, e.g. `slowest settling time (s)`.
+    pub figure: String,
+    pub pinned: Figure,
+    pub current: Figure,
+    /// [`Figure::text`] of each.
+    pub pinned_text: String,
+    pub current_text: String,
+    pub better: Which,
+}
+
+/// Which of two figures is better, lower being better.
+pub fn better_of(pinned: Figure, current: Figure, params: &ComparisonParams) -> Which {
+    match (pinned, current) {
+        (Figure::Value(a), Figure::Value(b)) => {
+            if a.is_nan() || b.is_nan() {
+                return Which::Undecided;
+            }
+            let tolerance = if params.equal_within.is_finite() && params.equal_within > 0.0 {
+                params.equal_within
+            } else {
+                0.0
+            };
+            let finite_close =
+                a.is_finite() && b.is_finite() && (a - b).abs() <= tolerance * a.abs().max(b.abs());
+            if a == b || finite_close {
+                Which::Same
+            } else if a < b {
+                Which::Pinned
+            } else {
+                Which::Current
+            }
+        }
+        (Figure::Value(a), Figure::NotSettled) if !a.is_nan() => Which::Pinned,
+        (Figure::NotSettled, Figure::Value(b)) if !b.is_nan() => Which::Current,
+        _ => Which::Undecided,
+    }
+}
+
+fn row(
+    figure: String,
+    pinned: Figure,
+    current: Figure,
+    params: &ComparisonParams,
+) -> ComparisonRow {
+    ComparisonRow {
+        figure,
+        pinned,
+        current,
+        pinned_text: pinned.text(),
+        current_text: current.text(),
+        better: better_of(pinned, current, params),
+    }
+}
+
+fn with_unit(label: String, unit: &str) -> String {
+    if unit.trim().is_empty() {
+        label
+    } else {
+        format!("{label} ({unit})")
+    }
+}
+
+/// Compares a pinned design with the current one ([`compare_with`] at default parameters).
+pub fn compare(pinned: &DesignSummary, current: &DesignSummary) -> Vec<ComparisonRow> {
+    compare_with(pinned, current, &ComparisonParams::default())
+}
+
+/// Rows in this order: slowest settling time, largest overshoot, one row per input (its
+/// peak over its limit when both designs have a limit for it, else its raw peak; inputs are
+/// matched by position), gain norm, eigenvector condition, largest pole error, then for each
+/// tracked output (matched by name; pinned order, then outputs only the current design
+/// tracks) its settling time, overshoot and steady-state error. A figure one design lacks is
+/// [`Figure::NotAvailable`] on that side.
+pub fn compare_with(
+    pinned: &DesignSummary,
+    current: &DesignSummary,
+    params: &ComparisonParams,
+) -> Vec<ComparisonRow> {
+    let mut rows = vec![
+        row(
+            "slowest settling time (s)".into(),
+            pinned.slowest_settling_time,
+            current.slowest_settling_time,
+            params,
+        ),
+        row(
+            "largest overshoot (%)".into(),
+            pinned.largest_overshoot,
+            current.largest_overshoot,
+            params,
+        ),
+    ];
+    let inputs = pinned.inputs.len().max(current.inputs.len());
+    for i in 0..inputs {
+        let (p, c) = (pinned.inputs.get(i), current.inputs.get(i));
+        let Some(named) = c.or(p) else { continue };
+        let has_limit = |s: Option<&InputSummary>| {
+            s.is_none_or(|s| matches!(s.peak_over_limit, Figure::Value(_)))
+        };
+        let (label, pick): (String, fn(&InputSummary) -> Figure) = if has_limit(p) && has_limit(c) {
+            (format!("peak input {} / limit", named.name), |s| {
+                s.peak_over_limit
+            })
+        } else {
+            (
+                with_unit(format!("peak input {}", named.name), &named.unit),
+                |s| s.peak,
+            )
+        };
+        let side = |s: Option<&InputSummary>| s.map_or(Figure::NotAvailable, pick);
+        rows.push(row(label, side(p), side(c), params));
+    }
+    rows.push(row(
+        "gain norm ‖K‖".into(),
+        pinned.gain_norm,
+        current.gain_norm,
+        params,
+    ));
+    rows.push(row(
+        "eigenvector condition κ₂(X)".into(),
+        pinned.eigenvector_condition,
+        current.eigenvector_condition,
+        params,
+    ));
+    rows.push(row(
+        "largest pole error (relative)".into(),
+        pinned.max_pole_error,
+        current.max_pole_error,
+        params,
+    ));
+    let mut names: Vec<&str> = pinned.tracked.iter().map(|t| t.name.as_str()).collect();
+    for t in &current.tracked {
+        if !names.contains(&t.name.as_str()) {
+            names.push(&t.name);
+        }
+    }
+    for name in names {
+        let find = |s: &DesignSummary| s.tracked.iter().find(|t| t.name == name).cloned();
+        let (p, c) = (find(pinned), find(current));
+        let side = |s: &Option<TrackedSummary>, pick: fn(&TrackedSummary) -> Figure| {
+            s.as_ref().map_or(Figure::NotAvailable, pick)
+        };
+        rows.push(row(
+            format!("settling time of {name} (s)"),
+            side(&p, |t| t.settling_time),
+            side(&c, |t| t.settling_time),
+            params,
+        ));
+        rows.push(row(
+            format!("overshoot of {name} (%)"),
+            side(&p, |t| t.overshoot),
+            side(&c, |t| t.overshoot),
+            params,
+        ));
+        rows.push(row(
+            format!("steady-state error of {name}"),
+            side(&p, |t| t.steady_state_error),
+            side(&c, |t| t.steady_state_error),
+            params,
+        ));
+    }
+    rows
+}
+
+// ---------------------------------------------------------------------------
+// Tests
+// ---------------------------------------------------------------------------
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::plot::{Margins, Range, Rect};
+
+    fn c(re: f64, im: f64) -> Complex64 {
+        Complex64::new(re, im)
+    }
+
+    fn set(poles: &[Complex64]) -> PoleSet {
+        PoleSet::from_poles(poles).unwrap()
+    }
+
+    /// -1±2j, -3, -4, -5±1j: entries 0 (pair), 1, 2 (real), 3 (pair); 6 poles.
+    fn sample() -> PoleSet {
+        set(&[
+            c(-1.0, 2.0),
+            c(-1.0, -2.0),
+            c(-3.0, 0.0),
+            c(-4.0, 0.0),
+            c(-5.0, -1.0),
+            c(-5.0, 1.0),
+        ])
+    }
+
+    /// Plot area 400 × 300 px at (20, 20); data [-10, 10] × [-7.5, 7.5] (equal scale,
+    /// 20 px per unit); larger span 20.
+    fn frame() -> Frame {
+        let m = Margins {
+            left: 20.0,
+            right: 20.0,
+            top: 20.0,
+            bottom: 20.0,
+        };
+        Frame::new(
+            Rect::sized(440.0, 340.0),
+            m,
+            Range::new(-10.0, 10.0),
+            Range::new(-7.5, 7.5),
+        )
+    }
+
+    fn bits(s: &PoleSet) -> Vec<(bool, u64, u64)> {
+        s.entries()
+            .iter()
+            .map(|e| (e.is_pair(), e.upper().re.to_bits(), e.upper().im.to_bits()))
+            .collect()
+    }
+
+    fn assert_symmetric(s: &PoleSet) {
+        for e in s.entries() {
+            let z = e.upper();
+            assert!(z.re.is_finite() && z.im.is_finite(), "{s:?}");
+            match e {
+                PoleEntry::Pair { im, .. } => assert!(*im > 0.0, "{s:?}"),
+                PoleEntry::Real { .. } => assert_eq!(z.im, 0.0),
+            }
+        }
+        let poles = s.poles();
+        assert_eq!(poles.len(), s.pole_count());
+        assert_eq!(check_conjugate_pairs(&poles), Ok(()), "{s:?}");
+        assert_eq!(PoleSet::from_poles(&poles).as_ref(), Ok(s));
+    }
+
+    // ---- pole set ----------------------------------------------------------------
+
+    #[test]
+    fn pairs_and_converts_back() {
+        let s = sample();
+        assert_eq!(
+            s.entries(),
+            &[
+                PoleEntry::Pair { re: -1.0, im: 2.0 },
+                PoleEntry::Real { re: -3.0 },
+                PoleEntry::Real { re: -4.0 },
+                PoleEntry::Pair { re: -5.0, im: 1.0 },
+            ]
+        );
+        assert_eq!(s.entry_count(), 4);
+        assert_eq!(s.pole_count(), 6);
+        assert_eq!(
+            s.poles(),
+            vec![
+                c(-1.0, 2.0),
+                c(-1.0, -2.0),
+                c(-3.0, 0.0),
+                c(-4.0, 0.0),
+                c(-5.0, 1.0),
+                c(-5.0, -1.0)
+            ]
+        );
+        assert_eq!(s.text(), "-1±2j, -3, -4, -5±1j");
+        assert_eq!(s.to_string(), s.text());
+        let v: Vec<Complex64> = (&s).into();
+        assert_eq!(PoleSet::try_from(v), Ok(s.clone()));
+        // A near-conjugate within the tolerance of check_conjugate_pairs pairs up, keeping the
+        // upper member exactly.
+        let near = set(&[c(-1e6, -1e6 * (1.0 + 1e-14)), c(-1e6, 1e6)]);
+        assert_eq!(near.entries(), &[PoleEntry::Pair { re: -1e6, im: 1e6 }]);
+        let near = set(&[c(-1e6, 1e6), c(-1e6 * (1.0 + 1e-14), -1e6 * (1.0 + 1e-14))]);
+        assert_eq!(near.entries(), &[PoleEntry::Pair { re: -1e6, im: 1e6 }]);
+        assert!(PoleSet::new().is_empty());
+        assert_eq!(PoleSet::from_poles(&[]), Ok(PoleSet::new()));
+    }
+
+    #[test]
+    fn unpaired_and_non_finite_lists_refused() {
+        assert_eq!(
+            PoleSet::from_poles(&[c(-1.0, 2.0), c(-3.0, 0.0)]),
+            Err(EditError::Poles(PoleError::MissingConjugate {
+                pole: c(-1.0, 2.0),
+                expected: c(-1.0, -2.0)
+            }))
+        );
+        assert!(PoleSet::from_poles(&[c(-1.0, 2.0), c(-1.0, 2.0), c(-1.0, -2.0)]).is_err());
+        assert_eq!(
+            PoleSet::from_poles(&[c(-1.0, 0.0), c(f64::NAN, 0.0)]),
+            Err(EditError::Poles(PoleError::NotFinite { index: 2 }))
+        );
+        let err = PoleSet::from_poles(&[c(-1.0, 2.0)]).unwrap_err();
+        assert!(err.to_string().contains("-1-2j"), "{err}");
+        assert!(std::error::Error::source(&err).is_some());
+        assert_eq!(
+            PoleSet::from_entries(vec![PoleEntry::Pair { re: -1.0, im: -2.0 }]),
+            Err(EditError::PairOnRealAxis)
+        );
+        assert_eq!(
+            PoleSet::from_entries(vec![PoleEntry::Real { re: f64::INFINITY }]),
+            Err(EditError::NotFinite)
+        );
+        assert_eq!(
+            PoleSet::from_entries(vec![PoleEntry::Pair { re: -1.0, im: 2.0 }]).map(|s| s.text()),
+            Ok("-1±2j".into())
+        );
+    }
+
+    // ---- edit rules -----------------------------------------------------------------
+
+    #[test]
+    fn moving_a_pair_moves_its_conjugate() {
+        let s = sample()
+            .edited(&Edit::Move {
+                entry: 0,
+                to: c(-2.0, 3.0),
+            })
+            .unwrap();
+        assert_eq!(s.entry(0), Some(PoleEntry::Pair { re: -2.0, im: 3.0 }));
+        assert_eq!(&s.poles()[..2], &[c(-2.0, 3.0), c(-2.0, -3.0)]);
+        assert_eq!(s.pole_count(), 6);
+        // Other entries untouched.
+        assert_eq!(&s.entries()[1..], &sample().entries()[1..]);
+    }
+
+    #[test]
+    fn target_below_the_axis_is_reflected() {
+        let s = sample()
+            .edited(&Edit::Move {
+                entry: 3,
+                to: c(-6.0, -0.5),
+            })
+            .unwrap();
+        assert_eq!(s.entry(3), Some(PoleEntry::Pair { re: -6.0, im: 0.5 }));
+        assert_eq!(
+            sample().edited(&Edit::Move {
+                entry: 0,
+                to: c(-1.0, 0.0)
+            }),
+            Err(EditError::PairOnRealAxis)
+        );
+        assert_eq!(
+            sample().edited(&Edit::Move {
+                entry: 0,
+                to: c(-1.0, -0.0)
+            }),
+            Err(EditError::PairOnRealAxis)
+        );
+        assert!(EditError::PairOnRealAxis.to_string().contains("merge"));
+    }
+
+    #[test]
+    fn real_pole_stays_real() {
+        let s = sample()
+            .edited(&Edit::Move {
+                entry: 1,
+                to: c(-2.5, 4.0),
+            })
+            .unwrap();
+        assert_eq!(s.entry(1), Some(PoleEntry::Real { re: -2.5 }));
+        assert_eq!(s.pole_count(), 6);
+        assert_symmetric(&s);
+    }
+
+    #[test]
+    fn non_finite_targets_refused() {
+        let s = sample();
+        for bad in [
+            c(f64::NAN, 1.0),
+            c(-1.0, f64::INFINITY),
+            c(f64::NEG_INFINITY, 0.0),
+        ] {
+            for entry in [0, 1] {
+                assert_eq!(
+                    s.edited(&Edit::Move { entry, to: bad }),
+                    Err(EditError::NotFinite)
+                );
+            }
+            assert_eq!(s.edited(&Edit::Add(bad)), Err(EditError::NotFinite));
+            assert_eq!(
+                s.edited(&Edit::SplitReal {
+                    entries: (1, 2),
+                    to: bad
+                }),
+                Err(EditError::NotFinite)
+            );
+        }
+        assert_eq!(
+            s.edited(&Edit::MergePair {
+                entry: 0,
+                to: (-1.0, f64::NAN)
+            }),
+            Err(EditError::NotFinite)
+        );
+        assert!(matches!(
+            s.edited(&Edit::Replace(vec![c(f64::NAN, 0.0)])),
+            Err(EditError::Poles(PoleError::NotFinite { index: 1 }))
+        ));
+        // Through the history: refused, nothing recorded.
+        let mut h = EditHistory::new(s.clone(), EditParams::default());
+        assert_eq!(
+            h.apply(&Edit::Move {
+                entry: 0,
+                to: c(f64::NAN, 1.0)
+            }),
+            Err(EditError::NotFinite)
+        );
+        assert_eq!(h.current(), &s);
+        assert!(!h.can_undo());
+        h.begin_drag(0).unwrap();
+        assert_eq!(h.drag_to(c(f64::INFINITY, 1.0)), Err(EditError::NotFinite));
+        assert_eq!(h.current(), &s);
+        assert!(EditError::NotFinite
+            .to_string()
+            .contains("not a finite number"));
+    }
+
+    #[test]
+    fn add_and_remove_change_the_count() {
+        let s = sample();
+        let added = s.edited(&Edit::Add(c(-7.0, 0.0))).unwrap();
+        assert_eq!(added.pole_count(), 7);
+        assert_eq!(added.entry(4), Some(PoleEntry::Real { re: -7.0 }));
+        let added = s.edited(&Edit::Add(c(-7.0, -2.0))).unwrap();
+        assert_eq!(added.pole_count(), 8);
+        assert_eq!(added.entry(4), Some(PoleEntry::Pair { re: -7.0, im: 2.0 }));
+        let removed = s.edited(&Edit::Remove { entry: 0 }).unwrap();
+        assert_eq!(removed.pole_count(), 4);
+        assert_eq!(removed.entry(0), Some(PoleEntry::Real { re: -3.0 }));
+        assert_eq!(
+            s.edited(&Edit::Remove { entry: 1 }).unwrap().pole_count(),
+            5
+        );
+        assert_eq!(
+            s.edited(&Edit::Remove { entry: 4 }),
+            Err(EditError::NoSuchEntry {
+                entry: 4,
+                entries: 4
+            })
+        );
+        assert_eq!(
+            s.edited(&Edit::Move {
+                entry: 9,
+                to: c(-1.0, 0.0)
+            }),
+            Err(EditError::NoSuchEntry {
+                entry: 9,
+                entries: 4
+            })
+        );
+        let message = EditError::NoSuchEntry {
+            entry: 4,
+            entries: 4,
+        }
+        .to_string();
+        assert!(EditError::NoSuchEntry {
+            entry: usize::MAX,
+            entries: 0
+        }
+        .to_string()
+        .contains("has 0"));
+        assert!(
+            message.contains("entry 5") && message.contains("has 4"),
+            "{message}"
+        );
+    }
+
+    #[test]
+    fn replace_swaps_the_list() {
+        let s = sample()
+            .edited(&Edit::Replace(vec![
+                c(-2.0, 0.0),
+                c(0.0, -1.0),
+                c(0.0, 1.0),
+            ]))
+            .unwrap();
+        assert_eq!(s.text(), "-2, ±1j");
+        assert!(matches!(
+            sample().edited(&Edit::Replace(vec![c(-2.0, 1.0)])),
+            Err(EditError::Poles(PoleError::MissingConjugate { .. }))
+        ));
+    }
+
+    #[test]
+    fn split_and_merge_keep_the_count() {
+        let s = sample();
+        let split = s
+            .edited(&Edit::SplitReal {
+                entries: (2, 1),
+                to: c(-3.5, -0.75),
+            })
+            .unwrap();
+        assert_eq!(split.pole_count(), s.pole_count());
+        assert_eq!(split.entry_count(), 3);
+        assert_eq!(split.entry(1), Some(PoleEntry::Pair { re: -3.5, im: 0.75 }));
+        assert_eq!(split.entry(2), Some(PoleEntry::Pair { re: -5.0, im: 1.0 }));
+        assert_symmetric(&split);
+
+        let merged = s
+            .edited(&Edit::MergePair {
+                entry: 0,
+                to: (-0.5, -1.5),
+            })
+            .unwrap();
+        assert_eq!(merged.pole_count(), s.pole_count());
+        assert_eq!(merged.entry_count(), 5);
+        assert_eq!(
+            &merged.entries()[..3],
+            &[
+                PoleEntry::Real { re: -0.5 },
+                PoleEntry::Real { re: -1.5 },
+                PoleEntry::Real { re: -3.0 },
+            ]
+        );
+        assert_symmetric(&merged);
+
+        assert_eq!(
+            s.edited(&Edit::SplitReal {
+                entries: (1, 1),
+                to: c(-3.0, 1.0)
+            }),
+            Err(EditError::SameEntry { entry: 1 })
+        );
+        assert_eq!(
+            s.edited(&Edit::SplitReal {
+                entries: (0, 1),
+                to: c(-3.0, 1.0)
+            }),
+            Err(EditError::NotReal { entry: 0 })
+        );
+        assert_eq!(
+            s.edited(&Edit::SplitReal {
+                entries: (1, 2),
+                to: c(-3.0, 0.0)
+            }),
+            Err(EditError::PairOnRealAxis)
+        );
+        assert_eq!(
+            s.edited(&Edit::SplitReal {
+                entries: (1, 7),
+                to: c(-3.0, 1.0)
+            }),
+            Err(EditError::NoSuchEntry {
+                entry: 7,
+                entries: 4
+            })
+        );
+        assert_eq!(
+            s.edited(&Edit::MergePair {
+                entry: 1,
+                to: (-1.0, -2.0)
+            }),
+            Err(EditError::NotPair { entry: 1 })
+        );
+        assert!(EditError::NotPair { entry: 1 }
+            .to_string()
+            .contains("entry 2"));
+        assert!(EditError::NotReal { entry: 0 }
+            .to_string()
+            .contains("split"));
+    }
+
+    // ---- history ---------------------------------------------------------------------
+
+    fn mv(entry: usize, re: f64, im: f64) -> Edit {
+        Edit::Move {
+            entry,
+            to: c(re, im),
+        }
+    }
+
+    #[test]
+    fn undo_and_redo() {
+        let s0 = sample();
+        let mut h = EditHistory::new(s0.clone(), EditParams::default());
+        assert!(h.undo().is_none() && h.redo().is_none());
+        assert_eq!(h.apply(&mv(1, -2.0, 0.0)), Ok(Change::Changed));
+        let s1 = h.current().clone();
+        assert_eq!(h.apply(&Edit::Add(c(-8.0, 0.0))), Ok(Change::Changed));
+        let s2 = h.current().clone();
+        assert_eq!(h.undo_steps(), 2);
+        assert_eq!(h.undo(), Some(&s1));
+        assert_eq!(h.undo(), Some(&s0));
+        assert_eq!(h.undo(), None);
+        assert_eq!(h.current(), &s0);
+        assert_eq!(h.redo_steps(), 2);
+        assert_eq!(h.redo(), Some(&s1));
+        assert_eq!(h.redo(), Some(&s2));
+        assert_eq!(h.redo(), None);
+        assert_eq!(h.undo(), Some(&s1));
+        // A new edit after undo clears the redo list.
+        assert!(h.can_redo());
+        h.apply(&mv(0, -1.0, 5.0)).unwrap();
+        assert!(!h.can_redo());
+        assert_eq!(h.redo(), None);
+        assert_eq!(h.undo(), Some(&s1));
+        assert_eq!(h.undo(), Some(&s0));
+    }
+
+    #[test]
+    fn unchanged_edit_records_nothing() {
+        let mut h = EditHistory::new(sample(), EditParams::default());
+        h.apply(&mv(1, -2.0, 0.0)).unwrap();
+        h.undo();
+        // Moving a real pole to where it is (the imaginary part is dropped): no step, and
+        // the redo list survives.
+        assert_eq!(h.apply(&mv(1, -3.0, 9.0)), Ok(Change::Unchanged));
+        assert_eq!(h.undo_steps(), 0);
+        assert!(h.can_redo());
+    }
+
+    #[test]
+    fn history_is_bounded() {
+        let params = EditParams {
+            history_limit: 3,
+            ..EditParams::default()
+        };
+        let mut h = EditHistory::new(sample(), params);
+        let mut states = vec![h.current().clone()];
+        for k in 0..5 {
+            h.apply(&mv(1, -10.0 - k as f64, 0.0)).unwrap();
+            states.push(h.current().clone());
+        }
+        assert_eq!(h.undo_steps(), 3);
+        assert_eq!(h.undo(), Some(&states[4]));
+        assert_eq!(h.undo(), Some(&states[3]));
+        assert_eq!(h.undo(), Some(&states[2]));
+        assert_eq!(h.undo(), None, "the oldest steps were dropped");
+        assert_eq!(h.current(), &states[2]);
+        for state in &states[3..=5] {
+            assert_eq!(h.redo(), Some(state));
+        }
+        assert_eq!(h.undo_steps(), 3);
+
+        let mut none = EditHistory::new(
+            sample(),
+            EditParams {
+                history_limit: 0,
+                ..EditParams::default()
+            },
+        );
+        none.apply(&mv(1, -2.0, 0.0)).unwrap();
+        assert!(!none.can_undo());
+        assert_eq!(EditParams::default().history_limit, 200);
+    }
+
+    #[test]
+    fn a_drag_is_one_step() {
+        let s0 = sample();
+        let mut h = EditHistory::new(s0.clone(), EditParams::default());
+        h.apply(&mv(2, -4.5, 0.0)).unwrap();
+        let s1 = h.current().clone();
+        h.begin_drag(0).unwrap();
+        assert_eq!(h.dragging(), Some(0));
+        for k in 1..=20 {
+            let x = -1.0 - 0.1 * k as f64;
+            assert_eq!(h.drag_to(c(x, 2.0 + 0.05 * k as f64)), Ok(Change::Changed));
+            // The list follows live.
+            assert_eq!(
+                h.current().entry(0),
+                Some(PoleEntry::Pair {
+                    re: x,
+                    im: 2.0 + 0.05 * k as f64
+                })
+            );
+        }
+        assert_eq!(h.undo_steps(), 1, "nothing recorded during the drag");
+        assert_eq!(h.end_drag(), Change::Changed);
+        assert_eq!(h.dragging(), None);
+        assert_eq!(h.undo_steps(), 2);
+        let dragged = h.current().clone();
+        assert_eq!(h.undo(), Some(&s1), "one undo reverts the whole drag");
+        assert_eq!(h.undo(), Some(&s0));
+        assert_eq!(h.redo(), Some(&s1));
+        assert_eq!(h.redo(), Some(&dragged));
+
+        // A drag that ends where it began records nothing.
+        h.begin_drag(1).unwrap();
+        h.drag_to(c(-9.0, 0.0)).unwrap();
+        h.drag_to(c(-3.0, 0.0)).unwrap();
+        assert_eq!(h.end_drag(), Change::Unchanged);
+        assert_eq!(h.undo_steps(), 2);
+
+        // Cancel puts it back.
+        h.begin_drag(1).unwrap();
+        h.drag_to(c(-9.0, 0.0)).unwrap();
+        assert_eq!(h.cancel_drag(), Change::Changed);
+        assert_eq!(h.current(), &dragged);
+        assert_eq!(h.undo_steps(), 2);
+
+        // Without a drag.
+        assert_eq!(h.drag_to(c(-1.0, 0.0)), Err(EditError::NoDrag));
+        assert_eq!(h.end_drag(), Change::Unchanged);
+        assert_eq!(
+            h.begin_drag(99),
+            Err(EditError::NoSuchEntry {
+                entry: 99,
+                entries: 4
+            })
+        );
+        assert_eq!(h.dragging(), None);
+
+        // An edit or undo during a drag first commits it.
+        h.begin_drag(1).unwrap();
+        h.drag_to(c(-9.0, 0.0)).unwrap();
+        let mid = h.current().clone();
+        h.apply(&mv(2, -6.0, 0.0)).unwrap();
+        assert_eq!(h.dragging(), None);
+        assert_eq!(h.undo(), Some(&mid));
+        assert_eq!(h.undo(), Some(&dragged));
+        h.begin_drag(1).unwrap();
+        h.drag_to(c(-9.5, 0.0)).unwrap();
+        assert_eq!(h.undo(), Some(&dragged));
+        assert_eq!(h.dragging(), None);
+    }
+
+    // ---- keyboard ---------------------------------------------------------------------
+
+    fn nudged(s: &PoleSet, entry: usize, d: Direction, step: StepSize) -> NudgeOutcome {
+        nudge(s, entry, d, step, &frame(), &EditParams::default()).unwrap()
+    }
+
+    fn target(o: &NudgeOutcome) -> Complex64 {
+        match o {
+            NudgeOutcome::Edit(Edit::Move { to, .. }) => *to,
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn nudge_steps_are_relative_to_the_frame_span() {
+        let f = frame();
+        assert_eq!(frame_span(&f), Ok(20.0));
+        let s = sample();
+        let left = target(&nudged(&s, 1, Direction::Left, StepSize::Normal));
+        assert!((left.re - (-3.2)).abs() < 1e-12 && left.im == 0.0, "{left}");
+        let right = target(&nudged(&s, 1, Direction::Right, StepSize::Large));
+        assert!((right.re - (-1.0)).abs() < 1e-12, "{right}");
+        let up = target(&nudged(&s, 0, Direction::Up, StepSize::Normal));
+        assert!((up - c(-1.0, 2.2)).norm() < 1e-12, "{up}");
+        // Down by 10 % of 20 = 2 would reach the axis: it stops at the clearance, 0.5 % of 20.
+        let down = target(&nudged(&s, 0, Direction::Down, StepSize::Large));
+        assert!((down - c(-1.0, 0.1)).norm() < 1e-12, "{down}");
+        let down = target(&nudged(&s, 0, Direction::Down, StepSize::Normal));
+        assert!((down - c(-1.0, 1.8)).norm() < 1e-12, "{down}");
+        // Same data step in both directions, and it scales with the frame.
+        let wide = Frame::new(
+            Rect::sized(440.0, 340.0),
+            Margins {
+                left: 20.0,
+                right: 20.0,
+                top: 20.0,
+                bottom: 20.0,
+            },
+            Range::new(-100.0, 100.0),
+            Range::new(-75.0, 75.0),
+        );
+        let o = nudge(
+            &s,
+            3,
+            Direction::Up,
+            StepSize::Normal,
+            &wide,
+            &EditParams::default(),
+        )
+        .unwrap();
+        assert!((target(&o) - c(-5.0, 3.0)).norm() < 1e-12);
+        let o = nudge(
+            &s,
+            3,
+            Direction::Left,
+            StepSize::Normal,
+            &wide,
+            &EditParams::default(),
+        )
+        .unwrap();
+        assert!((target(&o) - c(-7.0, 1.0)).norm() < 1e-12);
+        // Applying the edit moves the pole.
+        let mut h = EditHistory::new(s.clone(), EditParams::default());
+        let NudgeOutcome::Edit(edit) = nudged(&s, 0, Direction::Right, StepSize::Normal) else {
+            panic!("expected an edit")
+        };
+        h.apply(&edit).unwrap();
+        assert!((h.current().entry(0).unwrap().upper() - c(-0.8, 2.0)).norm() < 1e-12);
+        assert!(nudge(
+            &s,
+            9,
+            Direction::Left,
+            StepSize::Normal,
+            &f,
+            &EditParams::default()
+        )
+        .is_err());
+        let bad = EditParams {
+            nudge_fraction: f64::NAN,
+            ..EditParams::default()
+        };
+        assert_eq!(
+            nudge(&s, 0, Direction::Left, StepSize::Normal, &f, &bad),
+            Err(EditError::UnusableFrame)
+        );
+    }
+
+    #[test]
+    fn vertical_nudge_of_a_real_pole_is_a_no_op() {
+        let s = sample();
+        for d in [Direction::Up, Direction::Down] {
+            assert_eq!(
+                nudged(&s, 2, d, StepSize::Normal),
+                NudgeOutcome::NoChange(NoChangeReason::RealPoleStaysOnAxis)
+            );
+        }
+        assert!(NoChangeReason::RealPoleStaysOnAxis
+            .to_string()
+            .contains("real axis"));
+        // A pair at the clearance cannot go further down.
+        let low = set(&[c(-1.0, 0.1), c(-1.0, -0.1)]);
+        assert_eq!(
+            nudged(&low, 0, Direction::Down, StepSize::Normal),
+            NudgeOutcome::NoChange(NoChangeReason::PairAtAxisClearance)
+        );
+        assert!(NoChangeReason::PairAtAxisClearance
+            .to_string()
+            .contains("merge"));
+        assert_eq!(Direction::Up.for_member(Member::Lower), Direction::Down);
+        assert_eq!(Direction::Down.for_member(Member::Lower), Direction::Up);
+        assert_eq!(Direction::Up.for_member(Member::Upper), Direction::Up);
+        assert_eq!(Direction::Left.for_member(Member::Lower), Direction::Left);
+    }
+
+    // ---- pointer ---------------------------------------------------------------------
+
+    #[test]
+    fn pixel_drag() {
+        let f = frame();
+        let s = sample();
+        let params = EditParams::default();
+        // Pixel of data (-2, -3): x = 20 + 8·20 = 180, y = 20 + (7.5 + 3)·20 = 230.
+        assert_eq!(f.to_pixel([-2.0, -3.0]), [180.0, 230.0]);
+        assert_eq!(pointer_position(&f, [180.0, 230.0]), Ok(c(-2.0, -3.0)));
+        // A pair dragged below the axis: the upper member is the reflection.
+        assert_eq!(
+            drag_edit(&s, 0, &f, [180.0, 230.0], &params),
+            Ok(mv(0, -2.0, 3.0))
+        );
+        // A real pole stays real.
+        assert_eq!(
+            drag_edit(&s, 1, &f, [180.0, 230.0], &params),
+            Ok(mv(1, -2.0, 0.0))
+        );
+        // A pair at the axis is held at the clearance (0.5 % of 20).
+        let on_axis = f.to_pixel([-2.0, 0.0]);
+        assert_eq!(drag_edit(&s, 0, &f, on_axis, &params), Ok(mv(0, -2.0, 0.1)));
+        assert_eq!(
+            drag_edit(&s, 0, &f, [f64::NAN, 10.0], &params),
+            Err(EditError::NotFinite)
+        );
+        assert_eq!(
+            drag_edit(&s, 5, &f, [1.0, 1.0], &params),
+            Err(EditError::NoSuchEntry {
+                entry: 5,
+                entries: 4
+            })
+        );
+        // Through the history, as one step.
+        let mut h = EditHistory::new(s.clone(), params);
+        h.begin_drag(3).unwrap();
+        for p in [[100.0, 200.0], [120.0, 250.0], [180.0, 230.0]] {
+            h.drag_to_pixel(&f, p).unwrap();
+        }
+        assert_eq!(
+            h.current().entry(3),
+            Some(PoleEntry::Pair { re: -2.0, im: 3.0 })
+        );
+        assert_eq!(
+            h.drag_to_pixel(&f, [f64::INFINITY, 0.0]),
+            Err(EditError::NotFinite)
+        );
+        h.end_drag();
+        assert_eq!(h.undo(), Some(&s));
+        assert_eq!(h.drag_to_pixel(&f, [1.0, 1.0]), Err(EditError::NoDrag));
+    }
+
+    #[test]
+    fn either_member_of_a_pair_hits_the_same_entry() {
+        let f = frame();
+        let s = sample();
+        let radius = EditParams::default().hit_radius_px;
+        let markers = s.markers();
+        assert_eq!(markers.len(), s.pole_count());
+        let lower = f.to_pixel([-1.0, -2.0]);
+        let upper = f.to_pixel([-1.0, 2.0]);
+        let hit = s.hit(&f, [lower[0] + 3.0, lower[1] - 2.0], radius).unwrap();
+        assert_eq!((hit.entry, hit.member), (0, Member::Lower));
+        let hit = s.hit(&f, upper, radius).unwrap();
+        assert_eq!((hit.entry, hit.member), (0, Member::Upper));
+        let hit = s.hit(&f, f.to_pixel([-5.0, -1.0]), radius).unwrap();
+        assert_eq!((hit.entry, hit.member), (3, Member::Lower));
+        let hit = s.hit(&f, f.to_pixel([-4.0, 0.0]), radius).unwrap();
+        assert_eq!((hit.entry, hit.member), (2, Member::Real));
+        // Misses: too far (1 unit = 20 px > 8 px), or a non-finite pointer.
+        assert_eq!(s.hit(&f, f.to_pixel([-1.0, -1.0]), radius), None);
+        assert_eq!(s.hit(&f, [f64::NAN, 0.0], radius), None);
+        // The lower marker then drags the same entry, reflected.
+        let edit = drag_edit(
+            &s,
+            hit_lower_entry(&s, &f),
+            &f,
+            f.to_pixel([-1.5, -2.5]),
+            &EditParams::default(),
+        );
+        assert_eq!(edit, Ok(mv(0, -1.5, 2.5)));
+    }
+
+    fn hit_lower_entry(s: &PoleSet, f: &Frame) -> usize {
+        s.hit(f, f.to_pixel([-1.0, -2.0]), HIT_RADIUS_PX)
+            .map(|m| m.entry)
+            .unwrap()
+    }
+
+    // ---- random sequence ------------------------------------------------------------------
+
+    struct XorShift(u64);
+
+    impl XorShift {
+        fn next(&mut self) -> u64 {
+            let mut x = self.0;
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            self.0 = x;
+            x
+        }
+        fn below(&mut self, n: usize) -> usize {
+            (self.next() % n.max(1) as u64) as usize
+        }
+        fn value(&mut self) -> f64 {
+            // Mostly ordinary numbers, sometimes exact zero, now and then non-finite.
+            match self.below(20) {
+                0 => f64::NAN,
+                1 => 0.0,
+                2 => -0.0,
+                _ => (self.below(2001) as f64 - 1000.0) / 100.0,
+            }
+        }
+        fn point(&mut self) -> Complex64 {
+            c(self.value(), self.value())
+        }
+    }
+
+    #[test]
+    fn random_edit_sequence_keeps_the_invariants() {
+        let original = sample();
+        let params = EditParams {
+            history_limit: 10_000,
+            ..EditParams::default()
+        };
+        let f = frame();
+        let mut h = EditHistory::new(original.clone(), params.clone());
+        let mut undo_model: Vec<PoleSet> = Vec::new();
+        let mut redo_model: Vec<PoleSet> = Vec::new();
+        let mut rng = XorShift(0x9E37_79B9_7F4A_7C15);
+        let (mut changed, mut refused) = (0, 0);
+        for _ in 0..3000 {
+            let before = h.current().clone();
+            let entries = before.entry_count();
+            let op = rng.below(11);
+            match op {
+                0..=6 => {
+                    let (edit, count_change): (Edit, Option<isize>) = match op {
+                        0 => (
+                            Edit::Move {
+                                entry: rng.below(entries + 1),
+                                to: rng.point(),
+                            },
+                            Some(0),
+                        ),
+                        1 => {
+                            let z = rng.point();
+                            (Edit::Add(z), Some(if z.im == 0.0 { 1 } else { 2 }))
+                        }
+                        2 if entries > 1 => {
+                            let e = rng.below(entries);
+                            let n = before.entry(e).map_or(0, |x| x.pole_count()) as isize;
+                            (Edit::Remove { entry: e }, Some(-n))
+                        }
+                        3 => {
+                            let a = rng.below(entries);
+                            let b = rng.below(entries);
+                            (
+                                Edit::SplitReal {
+                                    entries: (a, b),
+                                    to: rng.point(),
+                                },
+                                Some(0),
+                            )
+                        }
+                        4 => {
+                            let e = rng.below(entries);
+                            (
+                                Edit::MergePair {
+                                    entry: e,
+                                    to: (rng.value(), rng.value()),
+                                },
+                                Some(0),
+                            )
+                        }
+                        5 => {
+                            // A random list, sometimes unpaired.
+                            let mut poles = Vec::new();
+                            for _ in 0..=rng.below(4) {
+                                let z = rng.point();
+                                poles.push(z);
+                                if rng.below(6) != 0 && z.im != 0.0 {
+                                    poles.push(z.conj());
+                                }
+                            }
+                            (Edit::Replace(poles), None)
+                        }
+                        _ => {
+                            let d = [
+                                Direction::Left,
+                                Direction::Right,
+                                Direction::Up,
+                                Direction::Down,
+                            ][rng.below(4)];
+                            let step = if rng.below(2) == 0 {
+                                StepSize::Normal
+                            } else {
+                                StepSize::Large
+                            };
+                            match nudge(&before, rng.below(entries), d, step, &f, &params) {
+                                Ok(NudgeOutcome::Edit(e)) => (e, Some(0)),
+                                _ => continue,
+                            }
+                        }
+                    };
+                    match h.apply(&edit) {
+                        Ok(Change::Changed) => {
+                            changed += 1;
+                            undo_model.push(before.clone());
+                            redo_model.clear();
+                            if let Some(dc) = count_change {
+                                assert_eq!(
+                                    h.current().pole_count() as isize,
+                                    before.pole_count() as isize + dc,
+                                    "{edit:?}"
+                                );
+                            }
+                        }
+                        Ok(Change::Unchanged) => assert_eq!(bits(h.current()), bits(&before)),
+                        Err(e) => {
+                            refused += 1;
+                            assert!(!e.to_string().is_empty());
+                            assert_eq!(bits(h.current()), bits(&before), "{edit:?} {e}");
+                        }
+                    }
+                }
+                7 | 8 => {
+                    // A drag of several moves, ended or cancelled.
+                    let entry = rng.below(entries);
+                    if h.begin_drag(entry).is_err() {
+                        assert_eq!(entries, 0);
+                        continue;
+                    }
+                    for _ in 0..rng.below(6) {
+                        if rng.below(2) == 0 {
+                            let _ = h.drag_to(rng.point());
+                        } else {
+                            let p = [rng.value() * 40.0 + 200.0, rng.value() * 30.0 + 150.0];
+                            let _ = h.drag_to_pixel(&f, p);
+                        }
+                        assert_symmetric(h.current());
+                        assert_eq!(h.current().pole_count(), before.pole_count());
+                    }
+                    if op == 7 {
+                        if h.end_drag() == Change::Changed {
+                            changed += 1;
+                            undo_model.push(before.clone());
+                            redo_model.clear();
+                        } else {
+                            assert_eq!(h.current(), &before);
+                        }
+                    } else {
+                        h.cancel_drag();
+                        assert_eq!(bits(h.current()), bits(&before));
+                    }
+                }
+                9 => match undo_model.pop() {
+                    Some(previous) => {
+                        let got = h.undo().cloned();
+                        assert_eq!(got.as_ref().map(bits), Some(bits(&previous)));
+                        redo_model.push(before.clone());
+                    }
+                    None => assert!(h.undo().is_none()),
+                },
+                _ => match redo_model.pop() {
+                    Some(next) => {
+                        let got = h.redo().cloned();
+                        assert_eq!(got.as_ref().map(bits), Some(bits(&next)));
+                        undo_model.push(before.clone());
+                    }
+                    None => assert!(h.redo().is_none()),
+                },
+            }
+            assert_symmetric(h.current());
+            assert_eq!(h.undo_steps(), undo_model.len());
+            assert_eq!(h.redo_steps(), redo_model.len());
+        }
+        assert!(
+            changed > 500 && refused > 50,
+            "the generator exercises both: {changed} {refused}"
+        );
+        while h.undo().is_some() {}
+        assert_eq!(bits(h.current()), bits(&original));
+        assert_eq!(h.undo_steps(), 0);
+    }
+
+    // ---- comparison ----------------------------------------------------------------------
+
+    fn input(name: &str, peak: f64, limit: Option<f64>) -> InputSummary {
+        InputSummary {
+            name: name.into(),
+            unit: String::new(),
+            peak: Figure::Value(peak),
+            limit,
+            peak_over_limit: limit.map_or(Figure::NotAvailable, |l| Figure::Value(peak / l)),
+        }
+    }
+
+    fn summary() -> DesignSummary {
+        DesignSummary {
+            poles: "-1±2j, -3".into(),
+            state_names: vec!["x1".into(), "x2".into(), "x3".into()],
+            settling_time: vec![Figure::Value(2.0), Figure::Value(3.0), Figure::Value(1.0)],
+            slowest_settling_time: Figure::Value(3.0),
+            overshoot: vec![Figure::Value(5.0), Figure::NotAvailable, Figure::Value(1.0)],
+            largest_overshoot: Figure::Value(5.0),
+            inputs: vec![input("u1", 4.0, Some(8.0)), input("u2", 1.0, None)],
+            gain_norm: Figure::Value(10.0),
+            eigenvector_condition: Figure::Value(3.0),
+            max_pole_error: Figure::Value(1e-14),
+            tracked: vec![],
+        }
+    }
+
+    fn find<'a>(rows: &'a [ComparisonRow], label: &str) -> &'a ComparisonRow {
+        rows.iter()
+            .find(|r| r.figure == label)
+            .unwrap_or_else(|| panic!("no row {label}: {rows:?}"))
+    }
+
+    #[test]
+    fn comparison_rows_and_the_better_column() {
+        let pinned = summary();
+        let mut current = summary();
+        current.slowest_settling_time = Figure::Value(2.5);
+        current.largest_overshoot = Figure::Value(9.0);
+        current.inputs = vec![input("u1", 6.0, Some(8.0)), input("u2", 0.5, None)];
+        current.gain_norm = Figure::Value(10.0 * (1.0 + 1e-12));
+        current.eigenvector_condition = Figure::Value(f64::INFINITY);
+        let rows = compare(&pinned, &current);
+        let labels: Vec<&str> = rows.iter().map(|r| r.figure.as_str()).collect();
+        assert_eq!(
+            labels,
+            [
+                "slowest settling time (s)",
+                "largest overshoot (%)",
+                "peak input u1 / limit",
+                "peak input u2",
+                "gain norm ‖K‖",
+                "eigenvector condition κ₂(X)",
+                "largest pole error (relative)",
+            ]
+        );
+        assert_eq!(
+            find(&rows, "slowest settling time (s)").better,
+            Which::Current
+        );
+        assert_eq!(find(&rows, "largest overshoot (%)").better, Which::Pinned);
+        let u1 = find(&rows, "peak input u1 / limit");
+        assert_eq!(
+            (u1.pinned, u1.current, u1.better),
+            (Figure::Value(0.5), Figure::Value(0.75), Which::Pinned)
+        );
+        assert_eq!(u1.current_text, "0.75");
+        assert_eq!(find(&rows, "peak input u2").better, Which::Current);
+        assert_eq!(
+            find(&rows, "gain norm ‖K‖").better,
+            Which::Same,
+            "within 1e-9"
+        );
+        let kappa = find(&rows, "eigenvector condition κ₂(X)");
+        assert_eq!(kappa.better, Which::Pinned);
+        assert_eq!(kappa.current_text, "∞");
+        assert_eq!(
+            find(&rows, "largest pole error (relative)").better,
+            Which::Same
+        );
+        // Swapping sides swaps the verdicts.
+        let swapped = compare(&current, &pinned);
+        assert_eq!(
+            find(&swapped, "slowest settling time (s)").better,
+            Which::Pinned
+        );
+        assert_eq!(
+            find(&swapped, "eigenvector condition κ₂(X)").better,
+            Which::Current
+        );
+        let json = serde_json::to_string(&rows).unwrap();
+        assert!(json.contains("\"better\":\"current\""), "{json}");
+        assert!(
+            json.contains("{\"kind\":\"value\",\"value\":0.5}"),
+            "{json}"
+        );
+        // Strict tolerance: the tiny gain-norm difference counts.
+        let strict = compare_with(&pinned, &current, &ComparisonParams { equal_within: 0.0 });
+        assert_eq!(find(&strict, "gain norm ‖K‖").better, Which::Pinned);
+    }
+
+    #[test]
+    fn not_settled_and_missing_figures() {
+        let p = ComparisonParams::default();
+        assert_eq!(
+            better_of(Figure::Value(9.0), Figure::NotSettled, &p),
+            Which::Pinned
+        );
+        assert_eq!(
+            better_of(Figure::NotSettled, Figure::Value(9.0), &p),
+            Which::Current
+        );
+        assert_eq!(
+            better_of(Figure::NotSettled, Figure::NotSettled, &p),
+            Which::Undecided
+        );
+        assert_eq!(
+            better_of(Figure::NotAvailable, Figure::Value(1.0), &p),
+            Which::Undecided
+        );
+        assert_eq!(
+            better_of(Figure::Value(1.0), Figure::NotAvailable, &p),
+            Which::Undecided
+        );
+        assert_eq!(
+            better_of(Figure::Value(f64::NAN), Figure::Value(1.0), &p),
+            Which::Undecided
+        );
+        assert_eq!(
+            better_of(
+                Figure::Value(f64::INFINITY),
+                Figure::Value(f64::INFINITY),
+                &p
+            ),
+            Which::Same
+        );
+        assert_eq!(Figure::NotSettled.text(), "not settled");
+        assert_eq!(Figure::from_settling(None), Figure::NotSettled);
+        assert_eq!(Figure::from_number(f64::NAN), Figure::NotAvailable);
+        assert_eq!(
+            slowest(&[Figure::Value(1.0), Figure::NotSettled, Figure::Value(2.0)]),
+            Figure::NotSettled
+        );
+        assert_eq!(
+            slowest(&[Figure::Value(1.0), Figure::Value(2.0)]),
+            Figure::Value(2.0)
+        );
+        assert_eq!(slowest(&[]), Figure::NotAvailable);
+        assert_eq!(
+            largest(&[Figure::NotAvailable, Figure::Value(3.0), Figure::Value(1.0)]),
+            Figure::Value(3.0)
+        );
+        assert_eq!(largest(&[Figure::NotAvailable]), Figure::NotAvailable);
+
+        let pinned = summary();
+        let mut current = summary();
+        current.slowest_settling_time = Figure::NotSettled;
+        current.largest_overshoot = Figure::NotAvailable;
+        // One input fewer, and u1 without a limit: raw peaks are compared.
+        current.inputs = vec![input("u1", 3.0, None)];
+        let rows = compare(&pinned, &current);
+        let settle = find(&rows, "slowest settling time (s)");
+        assert_eq!(
+            (settle.better, settle.current_text.as_str()),
+            (Which::Pinned, "not settled")
+        );
+        let over = find(&rows, "largest overshoot (%)");
+        assert_eq!(
+            (over.better, over.current_text.as_str()),
+            (Which::Undecided, "—")
+        );
+        let u1 = find(&rows, "peak input u1");
+        assert_eq!(
+            (u1.pinned, u1.current, u1.better),
+            (Figure::Value(4.0), Figure::Value(3.0), Which::Current)
+        );
+        let u2 = find(&rows, "peak input u2");
+        assert_eq!(
+            (u2.current, u2.better),
+            (Figure::NotAvailable, Which::Undecided)
+        );
+    }
+
+    #[test]
+    fn tracked_outputs_are_matched_by_name() {
+        let tracked = |name: &str, settle: Option<f64>, over: f64| TrackedSummary {
+            name: name.into(),
+            settling_time: Figure::from_settling(settle),
+            overshoot: Figure::Value(over),
+            steady_state_error: Figure::Value(0.0),
+        };
+        let mut pinned = summary();
+        pinned.tracked = vec![
+            tracked("position", Some(1.0), 2.0),
+            tracked("angle", None, 1.0),
+        ];
+        let mut current = summary();
+        current.tracked = vec![
+            tracked("angle", Some(4.0), 3.0),
+            tracked("speed", Some(1.0), 0.0),
+        ];
+        let rows = compare(&pinned, &current);
+        assert_eq!(
+            find(&rows, "settling time of angle (s)").better,
+            Which::Current
+        );
+        assert_eq!(find(&rows, "overshoot of angle (%)").better, Which::Pinned);
+        assert_eq!(
+            find(&rows, "steady-state error of angle").better,
+            Which::Same
+        );
+        assert_eq!(
+            find(&rows, "settling time of position (s)").current,
+            Figure::NotAvailable
+        );
+        assert_eq!(
+            find(&rows, "settling time of speed (s)").pinned,
+            Figure::NotAvailable
+        );
+        let first_tracked = rows.iter().position(|r| r.figure.contains("of ")).unwrap();
+        assert_eq!(rows[first_tracked].figure, "settling time of position (s)");
+        assert_eq!(rows.len(), 7 + 3 * 3);
+    }
+
+    const TEXTBOOK: &str = r#"{"format": "polewright.design", "version": 1,
+        "plant": {"a": [[0,1,0],[0,0,1],[-1,-5,-6]], "b": [0,0,1], "input_units": ["N"]},
+        "feedback": {"poles": ["-2±4j", -10]}, "actuators": {"limit": [500]},
+        "simulation": {"initial_state": [1, 0, 0]}}"#;
+
+    #[test]
+    fn summary_from_a_design_run() {
+        let result = crate::design::run_text(TEXTBOOK).unwrap();
+        let s = DesignSummary::from_result(&result);
+        assert_eq!(s.poles, "-2±4j, -10");
+        let times: Vec<f64> = result
+            .simulation
+            .settling_time
+            .iter()
+            .map(|t| t.unwrap())
+            .collect();
+        let worst = times.iter().copied().fold(0.0, f64::max);
+        assert!(worst > 0.0);
+        assert_eq!(s.slowest_settling_time, Figure::Value(worst));
+        assert_eq!(s.settling_time.len(), 3);
+        assert_eq!(s.gain_norm, Figure::Value(result.feedback.gain_norm));
+        assert_eq!(
+            s.eigenvector_condition,
+            Figure::Value(result.feedback.eigenvector_condition)
+        );
+        assert_eq!(
+            s.max_pole_error,
+            Figure::Value(result.feedback.max_pole_error)
+        );
+        let peak = result.simulation.peak_input[0];
+        assert_eq!(s.inputs[0].peak, Figure::Value(peak));
+        assert_eq!(s.inputs[0].limit, Some(500.0));
+        assert_eq!(s.inputs[0].peak_over_limit, Figure::Value(peak / 500.0));
+        let over = result.simulation.overshoot[0].unwrap() * 100.0;
+        assert_eq!(s.overshoot[0], Figure::Value(over));
+        // States starting at zero have no overshoot figure.
+        assert_eq!(s.overshoot[1], Figure::NotAvailable);
+        assert!(s.tracked.is_empty());
+        // Not settled: one state's settling time missing makes the slowest "not settled".
+        let mut unsettled = result.clone();
+        unsettled.simulation.settling_time[1] = None;
+        let u = DesignSummary::from(&unsettled);
+        assert_eq!(u.slowest_settling_time, Figure::NotSettled);
+        assert_eq!(u.settling_time[1], Figure::NotSettled);
+        let rows = compare(&s, &u);
+        assert_eq!(
+            find(&rows, "slowest settling time (s)").better,
+            Which::Pinned
+        );
+        assert_eq!(find(&rows, "gain norm ‖K‖").better, Which::Same);
+        // Without a limit the raw peak is shown, with the unit.
+        let mut unlimited = result.clone();
+        unlimited.simulation.input_limit = vec![None];
+        let rows = compare(&DesignSummary::from(&unlimited), &s);
+        let u1 = find(&rows, "peak input u1 (N)");
+        assert_eq!(u1.better, Which::Same);
+        let json = serde_json::to_string(&s).unwrap();
+        assert!(
+            json.contains("\"slowest_settling_time\":{\"kind\":\"value\""),
+            "{json}"
+        );
+    }
+}
