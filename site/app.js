@@ -89,12 +89,15 @@ function selectText(el) {
   sel.addRange(range);
 }
 
-const copyGain = guarded(() => {
-  const text = gain_text();
-  const note = byId('pw-copy-status');
-  const pre = byId('pw-gain-text');
+// Copy buttons: data-copy names the text (Rust's copy_text), data-copy-target the <pre>
+// that shows it (selected for Ctrl+C when the clipboard is not available), data-copy-status
+// the element that says what happened.
+const copyText = guarded((button) => {
+  const text = copy_text(button.dataset.copy);
+  const note = byId(button.dataset.copyStatus);
+  const pre = byId(button.dataset.copyTarget);
   if (!text) {
-    note.textContent = 'There is no gain to copy.';
+    note.textContent = 'There is nothing to copy.';
     return;
   }
   const fallback = () => {
@@ -134,10 +137,17 @@ form.addEventListener('submit', (e) => {
 form.addEventListener('input', (e) => {
   if (e.target.id !== 'pw-demo') designSoon();
 });
+// A choice (select, checkbox) redesigns at once: it also shows or hides fields.
+form.addEventListener('change', (e) => {
+  if (e.target.id !== 'pw-demo' && (e.target.tagName === 'SELECT' || e.target.type === 'checkbox')) designNow();
+});
 byId('pw-demo').addEventListener('change', guarded((e) => show_demo_description(Number(e.target.value))));
 byId('pw-load-demo').addEventListener('click', loadDemo);
-byId('pw-copy-gain').addEventListener('click', copyGain);
+for (const button of document.querySelectorAll('button[data-copy]')) {
+  button.addEventListener('click', () => copyText(button));
+}
 byId('pw-normalise').addEventListener('change', guarded((e) => set_state_scale(e.target.checked)));
+byId('pw-pole-zoom').addEventListener('change', guarded((e) => set_pole_zoom(e.target.checked)));
 
 const poleMap = byId('pw-pole-map');
 poleMap.addEventListener('pointermove', guarded((e) => hover_pole(e.offsetX, e.offsetY)));
@@ -146,15 +156,21 @@ poleMap.addEventListener('keydown', onPoleKey);
 poleMap.addEventListener('focus', guarded(() => step_pole(0)));
 poleMap.addEventListener('blur', guarded(() => clear_pole_focus()));
 
+// Canvas sizes are read only here, after layout (the design cycle never forces one).
 let resizePending = false;
-window.addEventListener('resize', () => {
+const resized = () => {
   if (resizePending) return;
   resizePending = true;
   requestAnimationFrame(() => {
     resizePending = false;
-    guarded(redraw)();
+    guarded(canvases_resized)();
   });
-});
+};
+window.addEventListener('resize', resized);
+if (typeof ResizeObserver === 'function') {
+  const observer = new ResizeObserver(resized);
+  for (const canvas of document.querySelectorAll('canvas.plot')) observer.observe(canvas);
+}
 window.addEventListener('beforeprint', () => {
   for (const d of document.querySelectorAll('details')) d.open = true;
 });

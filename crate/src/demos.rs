@@ -4,6 +4,9 @@
 //! 1. A belt-driven positioning axis with a flexibly coupled tool head (the plant of
 //!    `examples/belt-axis.json`): 4 states, 1 input.
 //! 2. A two-zone heated plate with one heater under each zone: 4 states, 2 inputs.
+//! 3. The belt axis of demo 1 as a 1 kHz digital controller with a position encoder on the
+//!    tool head, an observer, integral action with clamping anti-windup, a reference step and
+//!    a load step (the design of `examples/belt-axis-digital.json`).
 
 use serde::Serialize;
 
@@ -44,6 +47,7 @@ fn belt_axis() -> Demo {
             limits: "60".into(),
             initial_state: "0.05 0 0.05 0".into(),
             duration: String::new(),
+            ..FormInput::default()
         },
     }
 }
@@ -70,13 +74,49 @@ fn heated_plate() -> Demo {
             limits: "150, 150".into(),
             initial_state: "-4 -2 -4 -2".into(),
             duration: String::new(),
+            ..FormInput::default()
+        },
+    }
+}
+
+fn belt_axis_digital() -> Demo {
+    // The plant of demo 1 with an encoder on the tool head (C picks the head position), run by
+    // a 1 kHz controller: zero-order-hold model, the s-plane targets mapped by z = e^{sT}, a
+    // predictor observer 4 times faster, one integrator on the head position (pole at -10) with
+    // conditional integration, a 10 mm step at 0.05 s and a 5 N load on the carriage at 0.6 s.
+    let axis = belt_axis().form;
+    Demo {
+        title: "Belt axis with a 1 kHz digital controller, observer and integral action",
+        description: "Illustrative, invented scenario: the belt axis above with only an encoder on the tool head; a 1 kHz controller estimates the other states with an observer, holds the head on a 10 mm step with integral action (clamped while the motor saturates) and rejects a 5 N load applied after 0.6 s.",
+        form: FormInput {
+            c: "0 0 1 0".into(),
+            output_names: "head position".into(),
+            output_units: "m".into(),
+            poles: "-12±9j, -20±30j".into(),
+            initial_state: String::new(),
+            duration: "1.2".into(),
+            observer: "speed_factor".into(),
+            observer_speed: "4".into(),
+            observer_form: "predictor".into(),
+            tracking: "integral".into(),
+            tracked_outputs: "head position".into(),
+            integral_poles: "-10".into(),
+            anti_windup: "clamp".into(),
+            sample_time: "0.001".into(),
+            computation_delay: "false".into(),
+            plane: "s".into(),
+            reference: "0.01".into(),
+            reference_time: "0.05".into(),
+            disturbance: "5".into(),
+            disturbance_time: "0.6".into(),
+            ..axis
         },
     }
 }
 
 /// Every demonstration, in the order the page lists them (the first is loaded on first open).
 pub fn demos() -> Vec<Demo> {
-    vec![belt_axis(), heated_plate()]
+    vec![belt_axis(), heated_plate(), belt_axis_digital()]
 }
 
 /// Titles and descriptions, in order.
@@ -97,14 +137,15 @@ mod tests {
     #[test]
     fn every_demo_designs_a_stable_closed_loop() {
         let all = demos();
-        assert!(all.len() >= 2);
+        assert!(all.len() >= 3);
         for d in &all {
             assert!(d.description.starts_with("Illustrative"), "{}", d.title);
             let out = evaluate_form(&d.form);
             assert!(out.errors.is_empty(), "{}: {:?}", d.title, out.errors);
             assert_eq!(out.status, FormStatus::Designed, "{}: {:?}", d.title, out.design_error);
             let r = out.design.as_ref().unwrap();
-            assert!(r.feedback.achieved_poles.iter().all(|p| p[0] < 0.0), "{}: {:?}", d.title, r.feedback.achieved_poles);
+            let stable = |p: &[f64; 2]| if r.domain == "discrete" { p[0].hypot(p[1]) < 1.0 } else { p[0] < 0.0 };
+            assert!(r.feedback.achieved_poles.iter().all(stable), "{}: {:?}", d.title, r.feedback.achieved_poles);
             assert!(r.feedback.max_pole_error < 1e-8, "{}: {}", d.title, r.feedback.max_pole_error);
             assert!(r.controllability.complete, "{}", d.title);
             assert!(!r.simulation.diverged, "{}", d.title);
@@ -136,6 +177,37 @@ mod tests {
         let d = out.design.unwrap();
         assert_eq!(d.plant.inputs, 2);
         assert!(d.observability.as_ref().is_some_and(|o| o.complete));
+    }
+
+    #[test]
+    fn the_digital_demo_is_the_digital_example_file() {
+        let text = include_str!("../../examples/belt-axis-digital.json");
+        let from_file = crate::design::run_text(text).unwrap();
+        let out = evaluate_form(&belt_axis_digital().form);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let d = out.design.as_ref().unwrap();
+        assert_eq!(from_file.feedback.gain, d.feedback.gain);
+        assert_eq!(d.domain, "discrete");
+        assert_eq!(d.sample_time, Some(0.001));
+        let (fo, o) = (from_file.observer.as_ref().unwrap(), d.observer.as_ref().unwrap());
+        assert_eq!(fo.gain, o.gain);
+        let l = d.closed_loop.as_ref().unwrap();
+        let fl = from_file.closed_loop.as_ref().unwrap();
+        assert_eq!(l.outputs, fl.outputs);
+        assert_eq!(l.tracked.len(), 1);
+        assert!(!l.diverged);
+        let tm = &l.tracked[0];
+        assert!(tm.rise_time.is_some() && tm.settling_time.is_some(), "{tm:?}");
+        // The report has the controller sections and the loop tables.
+        let r = out.report.unwrap();
+        let c = r.controller.unwrap();
+        assert_eq!(c.observer.as_ref().unwrap().gain.entries.len(), 4);
+        assert_eq!(c.tracking.len(), 1);
+        assert_eq!(c.discrete_plant.len(), 2);
+        assert_eq!(c.loop_outputs.len(), 1);
+        assert_eq!(c.loop_inputs.len(), 1);
+        assert_eq!(c.estimation.len(), 4);
+        assert_eq!(c.events.len(), 2);
     }
 
     #[test]

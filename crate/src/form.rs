@@ -20,13 +20,34 @@
 //! |---|---|---|
 //! | `a` | yes | state matrix, one row per line (or a JSON list of rows) |
 //! | `b` | yes | input matrix; one line of `n` numbers (`n > 1`) is read as a column |
-//! | `c`, `d` | no | output and feedthrough matrices |
 //! | `state_names`, `input_names` | no | names separated by commas or new lines |
 //! | `state_units`, `input_units` | no | units, likewise |
+//! | `c`, `d` | no | output and feedthrough matrices (the measurements) |
+//! | `output_names`, `output_units` | no | names and units of the outputs (rows of C) |
 //! | `poles` | yes | desired closed-loop poles, e.g. `-2, -1±2j` |
 //! | `limits` | no | one actuator limit per input (positive), `none` for an unlimited input |
 //! | `initial_state` | no | one value per state (blank: 1 in the first state) |
 //! | `duration` | no | simulated time in seconds (blank: chosen from the slowest pole) |
+//! | `observer` | no | `none` (blank), `poles` or `speed_factor` |
+//! | `observer_poles` | with `poles` | one observer pole per state (same plane as `poles`) |
+//! | `observer_speed` | no | observer poles = factor × controller poles (blank: 4) |
+//! | `observer_form` | no | `predictor` (blank) or `current` (digital only) |
+//! | `tracking` | no | `none` (blank), `feedforward` or `integral` |
+//! | `tracked_outputs` | no | output names or numbers (1 = first row of C); blank: all |
+//! | `integral_poles` | no | one pole per integrator (blank: listed in `poles`) |
+//! | `anti_windup` | no | `none` (blank), `clamp` or `back_calculation` |
+//! | `anti_windup_time` | with `back_calculation` | tracking time constant in seconds |
+//! | `sample_time` | no | the digital controller's sample time in seconds (blank: continuous) |
+//! | `computation_delay` | no | `true` when the input is applied one sample late (a checkbox) |
+//! | `delay_poles` | no | one z-plane pole per input for the delay states (blank: 0) |
+//! | `plane` | no | `s` (blank) or `z`: the plane the poles are given in |
+//! | `reference`, `reference_time` | no | reference step per tracked output (blank: 1) and its time |
+//! | `disturbance`, `disturbance_time` | no | load step per input and its time |
+//! | `noise_std`, `seed` | no | measurement-noise standard deviation per output, and the seed |
+//!
+//! Sub-fields of a section that is switched off (for example `observer_poles` while
+//! `observer` is `none`) are not read at all: see [`FormInput::is_active`]. With every
+//! version-2 field blank the design is exactly the version-1 one ([`design::run`]).
 //!
 //! Every number shown with full precision uses the shortest text that reads back to the
 //! same `f64` ([`format_complex`]); other figures use [`fmt_num`] (4 decimals).
@@ -36,16 +57,23 @@ use num_complex::Complex64;
 use serde::{Deserialize, Serialize};
 
 use crate::analysis::{controllability_report, AnalysisParams, ModalReport, ModeVerdict};
-use crate::design::{self, fmt_num, DesignError, DesignRequest, DesignResult, Pair, StructureResult};
+use crate::controller::{AntiWindup, ObserverForm};
+use crate::design::{self, fmt_num, ControllerSpec, DesignError, DesignRequest, DesignResult, Implementation, ObserverPoles, ObserverSpec, Pair, Plane, ScenarioSpec, StructureResult, TrackingResult, TrackingSpec};
 use crate::linalg::eigen::try_eigenvalues;
 use crate::metrics::DEFAULT_BAND;
 use crate::parse::{parse_matrix, parse_names, parse_vector, MatrixParseError};
 use crate::plant::{Field, Plant, PlantError, PlantSpec};
-use crate::plot::{Band, LimitLine, PoleMapScene, Series, TimePlotScene};
+use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, Series, TimePlotScene};
 use crate::poles::{format_complex, format_pole_list, parse_poles, sort_for_display};
 
 /// Largest plant the page designs (placement costs `O(n⁴)`; the page must stay responsive).
 pub const MAX_STATES: usize = 50;
+
+/// The usual observer speed factor range (common practice): 2–6 times the controller poles.
+pub const OBSERVER_SPEED_RULE: (f64, f64) = (2.0, 6.0);
+
+/// Observer speed factor used when the field is blank.
+pub const DEFAULT_OBSERVER_SPEED: f64 = 4.0;
 
 /// The form's fields, as typed. Every field may be omitted (it is then blank).
 #[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
@@ -53,52 +81,130 @@ pub const MAX_STATES: usize = 50;
 pub struct FormInput {
     pub a: String,
     pub b: String,
+    pub state_names: String,
+    pub state_units: String,
+    pub input_names: String,
+    pub input_units: String,
     pub c: String,
     pub d: String,
-    pub state_names: String,
-    pub input_names: String,
-    pub state_units: String,
-    pub input_units: String,
+    pub output_names: String,
+    pub output_units: String,
     pub poles: String,
     pub limits: String,
     pub initial_state: String,
     pub duration: String,
+    pub observer: String,
+    pub observer_poles: String,
+    pub observer_speed: String,
+    pub observer_form: String,
+    pub tracking: String,
+    pub tracked_outputs: String,
+    pub integral_poles: String,
+    pub anti_windup: String,
+    pub anti_windup_time: String,
+    pub sample_time: String,
+    pub computation_delay: String,
+    pub delay_poles: String,
+    pub plane: String,
+    pub reference: String,
+    pub reference_time: String,
+    pub disturbance: String,
+    pub disturbance_time: String,
+    pub noise_std: String,
+    pub seed: String,
 }
+
+/// The choice fields (a select or a checkbox on the page) and their allowed values
+/// (the first is what a blank field means).
+pub const CHOICES: [(&str, &[&str]); 6] = [
+    ("observer", &["none", "poles", "speed_factor"]),
+    ("observer_form", &["predictor", "current"]),
+    ("tracking", &["none", "feedforward", "integral"]),
+    ("anti_windup", &["none", "clamp", "back_calculation"]),
+    ("computation_delay", &["false", "true"]),
+    ("plane", &["s", "z"]),
+];
 
 impl FormInput {
     /// The field keys, in page order.
-    pub const FIELDS: [&'static str; 12] = [
+    pub const FIELDS: [&'static str; 33] = [
         "a",
         "b",
-        "c",
-        "d",
         "state_names",
         "state_units",
         "input_names",
         "input_units",
+        "c",
+        "d",
+        "output_names",
+        "output_units",
         "poles",
         "limits",
         "initial_state",
         "duration",
+        "observer",
+        "observer_poles",
+        "observer_speed",
+        "observer_form",
+        "tracking",
+        "tracked_outputs",
+        "integral_poles",
+        "anti_windup",
+        "anti_windup_time",
+        "sample_time",
+        "computation_delay",
+        "delay_poles",
+        "plane",
+        "reference",
+        "reference_time",
+        "disturbance",
+        "disturbance_time",
+        "noise_std",
+        "seed",
     ];
 
-    /// The text of field `key` (`None` for an unknown key).
-    pub fn get(&self, key: &str) -> Option<&str> {
+    fn slot(&self, key: &str) -> Option<&String> {
         Some(match key {
             "a" => &self.a,
             "b" => &self.b,
+            "state_names" => &self.state_names,
+            "state_units" => &self.state_units,
+            "input_names" => &self.input_names,
+            "input_units" => &self.input_units,
             "c" => &self.c,
             "d" => &self.d,
-            "state_names" => &self.state_names,
-            "input_names" => &self.input_names,
-            "state_units" => &self.state_units,
-            "input_units" => &self.input_units,
+            "output_names" => &self.output_names,
+            "output_units" => &self.output_units,
             "poles" => &self.poles,
             "limits" => &self.limits,
             "initial_state" => &self.initial_state,
             "duration" => &self.duration,
+            "observer" => &self.observer,
+            "observer_poles" => &self.observer_poles,
+            "observer_speed" => &self.observer_speed,
+            "observer_form" => &self.observer_form,
+            "tracking" => &self.tracking,
+            "tracked_outputs" => &self.tracked_outputs,
+            "integral_poles" => &self.integral_poles,
+            "anti_windup" => &self.anti_windup,
+            "anti_windup_time" => &self.anti_windup_time,
+            "sample_time" => &self.sample_time,
+            "computation_delay" => &self.computation_delay,
+            "delay_poles" => &self.delay_poles,
+            "plane" => &self.plane,
+            "reference" => &self.reference,
+            "reference_time" => &self.reference_time,
+            "disturbance" => &self.disturbance,
+            "disturbance_time" => &self.disturbance_time,
+            "noise_std" => &self.noise_std,
+            "seed" => &self.seed,
             _ => return None,
         })
+    }
+
+    /// The text of field `key` (`None` for an unknown key).
+    pub fn get(&self, key: &str) -> Option<&str> {
+        self.slot(key).map(|s| s.as_str())
     }
 
     /// Sets field `key`; returns false for an unknown key.
@@ -106,20 +212,72 @@ impl FormInput {
         let slot = match key {
             "a" => &mut self.a,
             "b" => &mut self.b,
+            "state_names" => &mut self.state_names,
+            "state_units" => &mut self.state_units,
+            "input_names" => &mut self.input_names,
+            "input_units" => &mut self.input_units,
             "c" => &mut self.c,
             "d" => &mut self.d,
-            "state_names" => &mut self.state_names,
-            "input_names" => &mut self.input_names,
-            "state_units" => &mut self.state_units,
-            "input_units" => &mut self.input_units,
+            "output_names" => &mut self.output_names,
+            "output_units" => &mut self.output_units,
             "poles" => &mut self.poles,
             "limits" => &mut self.limits,
             "initial_state" => &mut self.initial_state,
             "duration" => &mut self.duration,
+            "observer" => &mut self.observer,
+            "observer_poles" => &mut self.observer_poles,
+            "observer_speed" => &mut self.observer_speed,
+            "observer_form" => &mut self.observer_form,
+            "tracking" => &mut self.tracking,
+            "tracked_outputs" => &mut self.tracked_outputs,
+            "integral_poles" => &mut self.integral_poles,
+            "anti_windup" => &mut self.anti_windup,
+            "anti_windup_time" => &mut self.anti_windup_time,
+            "sample_time" => &mut self.sample_time,
+            "computation_delay" => &mut self.computation_delay,
+            "delay_poles" => &mut self.delay_poles,
+            "plane" => &mut self.plane,
+            "reference" => &mut self.reference,
+            "reference_time" => &mut self.reference_time,
+            "disturbance" => &mut self.disturbance,
+            "disturbance_time" => &mut self.disturbance_time,
+            "noise_std" => &mut self.noise_std,
+            "seed" => &mut self.seed,
             _ => return false,
         };
         *slot = text.into();
         true
+    }
+
+    /// The value of a choice field, normalised (blank → its first value; unknown text is
+    /// returned trimmed and lower-cased so that the evaluation can name it in an error).
+    pub fn choice(&self, key: &str) -> String {
+        let text = self.get(key).unwrap_or("").trim().to_ascii_lowercase().replace(['-', ' '], "_");
+        let allowed = CHOICES.iter().find(|(k, _)| *k == key).map(|(_, v)| *v).unwrap_or(&[]);
+        match text.as_str() {
+            "" => allowed.first().map_or(String::new(), |v| v.to_string()),
+            // A checkbox may also arrive as on/off, yes/no or 1/0.
+            "on" | "yes" | "1" if key == "computation_delay" => "true".into(),
+            "off" | "no" | "0" if key == "computation_delay" => "false".into(),
+            _ => text,
+        }
+    }
+
+    /// Whether field `key` is read: the sub-fields of a section that is switched off are
+    /// not (the page hides them). Unknown keys are not active.
+    pub fn is_active(&self, key: &str) -> bool {
+        let observer = self.choice("observer");
+        let tracking = self.choice("tracking");
+        match key {
+            "observer_poles" => observer == "poles",
+            "observer_speed" => observer == "speed_factor",
+            "observer_form" => observer != "none",
+            "tracked_outputs" | "reference" | "reference_time" => tracking != "none",
+            "integral_poles" | "anti_windup" => tracking == "integral",
+            "anti_windup_time" => tracking == "integral" && self.choice("anti_windup") == "back_calculation",
+            "delay_poles" => self.choice("computation_delay") == "true",
+            k => FormInput::FIELDS.contains(&k),
+        }
     }
 }
 
@@ -147,9 +305,18 @@ pub struct ListSizes {
     pub state_units: Option<String>,
     pub input_names: Option<String>,
     pub input_units: Option<String>,
+    pub output_names: Option<String>,
+    pub output_units: Option<String>,
     pub poles: Option<String>,
     pub limits: Option<String>,
     pub initial_state: Option<String>,
+    pub observer_poles: Option<String>,
+    pub tracked_outputs: Option<String>,
+    pub integral_poles: Option<String>,
+    pub delay_poles: Option<String>,
+    pub reference: Option<String>,
+    pub disturbance: Option<String>,
+    pub noise_std: Option<String>,
 }
 
 /// How the evaluation ended.
@@ -187,6 +354,34 @@ impl FormOutcome {
     pub fn error_for(&self, field: &str) -> Option<&str> {
         self.errors.iter().find(|e| e.field == field).map(|e| e.message.as_str())
     }
+
+    /// The live size shown beside field `key` (`"3 × 3"`, `"4 poles"`), if any.
+    pub fn size_for(&self, key: &str) -> Option<&str> {
+        let (d, s) = (&self.dimensions, &self.sizes);
+        match key {
+            "a" => d.a.as_deref(),
+            "b" => d.b.as_deref(),
+            "c" => d.c.as_deref(),
+            "d" => d.d.as_deref(),
+            "state_names" => s.state_names.as_deref(),
+            "state_units" => s.state_units.as_deref(),
+            "input_names" => s.input_names.as_deref(),
+            "input_units" => s.input_units.as_deref(),
+            "output_names" => s.output_names.as_deref(),
+            "output_units" => s.output_units.as_deref(),
+            "poles" => s.poles.as_deref(),
+            "limits" => s.limits.as_deref(),
+            "initial_state" => s.initial_state.as_deref(),
+            "observer_poles" => s.observer_poles.as_deref(),
+            "tracked_outputs" => s.tracked_outputs.as_deref(),
+            "integral_poles" => s.integral_poles.as_deref(),
+            "delay_poles" => s.delay_poles.as_deref(),
+            "reference" => s.reference.as_deref(),
+            "disturbance" => s.disturbance.as_deref(),
+            "noise_std" => s.noise_std.as_deref(),
+            _ => None,
+        }
+    }
 }
 
 /// What can be said about a plant whose design is infeasible.
@@ -199,21 +394,26 @@ pub struct OpenLoopAnalysis {
 // ---------------------------------------------------------------------------------------------
 // Presentation.
 
-/// The gain as a labelled table and as copyable text.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct GainTable {
-    /// One per input: name, with the unit in brackets when known.
+/// A labelled matrix (a gain, Φ, Γ, …) as a table and as copyable text.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct MatrixTable {
+    /// Its symbol, shown in the table's corner cell (`K`, `L`, `Φ`, …).
+    pub symbol: String,
+    /// What it is, in one sentence (the table's caption).
+    pub caption: String,
     pub row_labels: Vec<String>,
-    /// One per state.
     pub column_labels: Vec<String>,
-    /// `K[i][j]` with full precision (shortest text that reads back exactly).
+    /// Entries with full precision (shortest text that reads back exactly).
     pub entries: Vec<Vec<String>>,
     /// Tab-separated text with the labels, for copying into a spreadsheet or a file.
     pub text: String,
 }
 
+/// The gain as a labelled table and as copyable text (`K`: one row per input, one column per state).
+pub type GainTable = MatrixTable;
+
 /// One row of the pole table.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
 pub struct PoleRow {
     /// Requested pole (full precision), or empty for a fixed mode.
     pub requested: String,
@@ -228,7 +428,7 @@ pub struct PoleRow {
 }
 
 /// One open-loop mode in a controllability (observability) report.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
 pub struct ModeRow {
     pub pole: String,
     pub margin: String,
@@ -236,7 +436,7 @@ pub struct ModeRow {
 }
 
 /// A controllability (or observability) report in sentences and rows.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
 pub struct StructureReport {
     pub summary: String,
     pub tolerance: String,
@@ -244,7 +444,7 @@ pub struct StructureReport {
 }
 
 /// One state's response figures.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
 pub struct StateRow {
     pub name: String,
     pub initial: String,
@@ -254,12 +454,84 @@ pub struct StateRow {
 }
 
 /// One input's response figures.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
 pub struct InputRow {
     pub name: String,
     pub peak: String,
     pub limit: String,
     pub verdict: String,
+}
+
+/// One tracked output's figures in the loop simulation.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct LoopOutputRow {
+    pub name: String,
+    pub reference: String,
+    pub rise_time: String,
+    pub settling_time: String,
+    pub overshoot: String,
+    pub steady_state_error: String,
+}
+
+/// One input's figures in the loop simulation.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct LoopInputRow {
+    pub name: String,
+    pub peak: String,
+    pub limit: String,
+    pub saturated: String,
+}
+
+/// One state's estimation error in the loop simulation.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct EstimationRow {
+    pub name: String,
+    pub peak: String,
+    pub last: String,
+}
+
+/// The observer: its gain, poles and what it does to measurement noise.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct ObserverReport {
+    /// `L`, one row per state, one column per output.
+    pub gain: MatrixTable,
+    /// `L_c` of the current-estimator form.
+    pub current_gain: Option<MatrixTable>,
+    pub poles: Vec<PoleRow>,
+    /// Form, conditioning and gain size in a sentence.
+    pub summary: String,
+    /// The noise-to-input gain ‖K L‖₂ in a sentence.
+    pub noise: String,
+}
+
+/// The parts beyond a plain gain (design file version 2), when any was asked for.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ControllerReport {
+    /// The control law, one equation per line.
+    pub law: Vec<String>,
+    /// Continuous or digital, and how the plant was converted.
+    pub domain: String,
+    /// The sample-rate advice sentence (digital designs).
+    pub sample_rate: Option<String>,
+    /// `K_u` on the previous input (computation delay).
+    pub delay_gain: Option<MatrixTable>,
+    /// `N_x`, `N_u` (feedforward) or `K_i` (integral action).
+    pub tracking: Vec<MatrixTable>,
+    pub tracking_note: Option<String>,
+    /// `Φ` and `Γ` of the zero-order-hold model (digital implementation of a continuous plant).
+    pub discrete_plant: Vec<MatrixTable>,
+    pub observer: Option<ObserverReport>,
+    /// The whole-loop simulation: what was simulated.
+    pub loop_summary: Option<String>,
+    pub loop_outputs: Vec<LoopOutputRow>,
+    pub loop_inputs: Vec<LoopInputRow>,
+    pub estimation: Vec<EstimationRow>,
+    /// The settling band of the step figures, e.g. `±2 %`.
+    pub settling_band: String,
+    /// Output units (rows of C), for the plots' labels.
+    pub output_units: Vec<String>,
+    /// Reference and load step times, drawn on the loop plots.
+    pub events: Vec<EventLine>,
 }
 
 /// All the text the page shows for a design.
@@ -279,6 +551,8 @@ pub struct Report {
     pub inputs: Vec<InputRow>,
     /// How the response was simulated.
     pub simulation: String,
+    /// Observer, tracking, digital implementation and loop simulation (`None` for a plain gain).
+    pub controller: Option<ControllerReport>,
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -377,8 +651,8 @@ fn plant_field_key(field: Field) -> &'static str {
         Field::InputNames => "input_names",
         Field::StateUnits => "state_units",
         Field::InputUnits => "input_units",
-        // Not on the form (never given, so never wrong); attributed to C, the output matrix.
-        Field::OutputNames | Field::OutputUnits => "c",
+        Field::OutputNames => "output_names",
+        Field::OutputUnits => "output_units",
     }
 }
 
@@ -397,6 +671,8 @@ fn attribute_plant_error(e: &PlantError) -> (&'static str, String) {
     let message = match e {
         PlantError::Count { field, expected, found } => {
             let (one, many, of_one, of_many) = match field {
+                Field::OutputNames => ("name", "names", "output", "outputs"),
+                Field::OutputUnits => ("unit", "units", "output", "outputs"),
                 Field::StateNames => ("name", "names", "state", "states"),
                 Field::StateUnits => ("unit", "units", "state", "states"),
                 Field::InputNames => ("name", "names", "input", "inputs"),
@@ -424,14 +700,439 @@ fn attribute_plant_error(e: &PlantError) -> (&'static str, String) {
 fn design_field_key(path: &str) -> Option<&'static str> {
     Some(match path {
         "feedback.poles" => "poles",
+        "feedback.plane" => "plane",
         "actuators.limit" => "limits",
         "simulation.initial_state" => "initial_state",
         "simulation.duration" => "duration",
+        "simulation.reference" => "reference",
+        "simulation.reference_time" => "reference_time",
+        "simulation.disturbance" => "disturbance",
+        "simulation.disturbance_time" => "disturbance_time",
+        "simulation.noise_std" => "noise_std",
+        "simulation.seed" => "seed",
+        "observer" => "observer",
+        "observer.poles" => "observer_poles",
+        "observer.speed_factor" => "observer_speed",
+        "observer.form" => "observer_form",
+        "tracking" | "tracking.mode" => "tracking",
+        "tracking.outputs" => "tracked_outputs",
+        "tracking.integral_poles" => "integral_poles",
+        "anti_windup" | "anti_windup.mode" => "anti_windup",
+        "anti_windup.time_constant" => "anti_windup_time",
+        "implementation" | "implementation.sample_time" => "sample_time",
+        "implementation.computation_delay" => "computation_delay",
+        "implementation.delay_poles" => "delay_poles",
         p => match p.strip_prefix("plant.") {
             Some(k) => FormInput::FIELDS.iter().copied().find(|f| *f == k)?,
             None => return None,
         },
     })
+}
+
+/// One number (a sample time, a step time, a factor).
+fn one_number(text: &str, what: &str) -> Result<f64, String> {
+    let vals = parse_vector(text).map_err(|e| e.to_string())?;
+    match vals.as_slice() {
+        [v] => Ok(*v),
+        _ => Err(format!("{} numbers given; give one {what}", vals.len())),
+    }
+}
+
+fn positive_number(text: &str, what: &str, example: &str) -> Result<f64, String> {
+    let v = one_number(text, what)?;
+    if v > 0.0 {
+        Ok(v)
+    } else {
+        Err(format!("{} must be a positive number ({what}), for example {example}", full(v)))
+    }
+}
+
+fn non_negative_number(text: &str, what: &str) -> Result<f64, String> {
+    let v = one_number(text, what)?;
+    if v >= 0.0 {
+        Ok(v)
+    } else {
+        Err(format!("{} must be zero or positive ({what})", full(v)))
+    }
+}
+
+/// The tracked outputs: names (as in the output names) or numbers (1 = first row of C).
+fn parse_outputs(text: &str, names: &[String]) -> Result<Vec<usize>, String> {
+    let p = names.len();
+    let mut out = Vec::new();
+    for (i, token) in parse_names(text).iter().enumerate() {
+        let idx = match names.iter().position(|n| n == token) {
+            Some(j) => j,
+            None => match token.parse::<usize>() {
+                Ok(k) if (1..=p).contains(&k) => k - 1,
+                _ => {
+                    return Err(format!(
+                        "entry {}: no output is named \"{token}\"; the outputs are {} (or give their numbers, 1 to {p})",
+                        i + 1,
+                        names.join(", ")
+                    ))
+                }
+            },
+        };
+        if out.contains(&idx) {
+            return Err(format!("entry {}: output {} ({}) is listed twice", i + 1, idx + 1, names.get(idx).map_or("", |s| s.as_str())));
+        }
+        out.push(idx);
+    }
+    if out.is_empty() {
+        return Err("no outputs listed; name the outputs to track, or leave blank to track all of them".into());
+    }
+    Ok(out)
+}
+
+/// Reads a pole-list field into `sizes`; a parse error goes to the field.
+fn pole_field(c: &mut Collector, key: &'static str, text: &str, size: &mut Option<String>) -> Option<Vec<Complex64>> {
+    match parse_poles(text) {
+        Ok(p) => {
+            *size = Some(plural(p.len(), "pole", "poles"));
+            Some(p)
+        }
+        Err(e) => {
+            c.push(key, e.to_string());
+            None
+        }
+    }
+}
+
+/// A vector field with one value per item (`count`, when known), `what` naming the items.
+fn counted_vector(c: &mut Collector, key: &'static str, text: &str, count: Option<(usize, &str, &str)>, size: &mut Option<String>) -> Option<Vec<f64>> {
+    match parse_vector(text) {
+        Ok(v) => {
+            *size = Some(plural(v.len(), "value", "values"));
+            if let Some((n, one, many)) = count {
+                if v.len() != n {
+                    c.push(key, format!("{} given but there {} {}; give one per {one}", plural(v.len(), "value", "values"), if n == 1 { "is" } else { "are" }, plural(n, one, many)));
+                    return None;
+                }
+            }
+            Some(v)
+        }
+        Err(e) => {
+            c.push(key, e.to_string());
+            None
+        }
+    }
+}
+
+/// What the controller fields ask for, read and checked field by field.
+fn read_controller(form: &FormInput, plant: Option<&Plant>, c: &mut Collector, sizes: &mut ListSizes) -> ControllerSpec {
+    let mut spec = ControllerSpec::default();
+    let active = |k: &str| form.is_active(k) && !is_blank(form.get(k).unwrap_or(""));
+    let n = plant.map(|p| p.states());
+    let m = plant.map(|p| p.inputs());
+    // C blank is known without a plant; C given but unreadable is C's own error.
+    let has_c = if is_blank(&form.c) { Some(false) } else { plant.map(|p| p.c().is_some()) };
+    let p_out = plant.map(|p| p.outputs());
+
+    // Digital implementation.
+    let sample_time = if is_blank(&form.sample_time) {
+        None
+    } else {
+        match positive_number(&form.sample_time, "the controller's sample time in seconds", "0.001 for 1 kHz") {
+            Ok(t) => Some(t),
+            Err(e) => {
+                c.push("sample_time", e);
+                None
+            }
+        }
+    };
+    let sample_time_given = !is_blank(&form.sample_time);
+    let delay = match form.choice("computation_delay").as_str() {
+        "true" => true,
+        "false" => false,
+        other => {
+            c.push("computation_delay", format!("\"{other}\" is not a choice; tick the box (true) or leave it clear (false)"));
+            false
+        }
+    };
+    if delay && !sample_time_given {
+        c.push("computation_delay", "a computation delay is a digital effect (the input is applied one sample late): give a sample time, or clear this box");
+    }
+    let delay_poles = if delay && active("delay_poles") {
+        let p = pole_field(c, "delay_poles", &form.delay_poles, &mut sizes.delay_poles);
+        if let (Some(p), Some(m)) = (&p, m) {
+            if p.len() != m {
+                c.push("delay_poles", format!("{} given but the plant has {}; give one z-plane pole per input (0 is usual), or leave blank for 0", plural(p.len(), "pole", "poles"), plural(m, "input", "inputs")));
+            }
+        }
+        p
+    } else {
+        None
+    };
+    if let (Some(t), true) = (sample_time, !c.has("sample_time")) {
+        spec.implementation = Some(Implementation {
+            sample_time: t,
+            computation_delay: delay,
+            delay_poles: delay_poles.unwrap_or_else(|| vec![Complex64::new(0.0, 0.0); m.unwrap_or(0)]),
+        });
+    }
+    match form.choice("plane").as_str() {
+        "s" => {}
+        "z" if sample_time_given => spec.plane = Plane::Z,
+        "z" => c.push("plane", "z-plane poles belong to a digital controller: give a sample time, or choose the s-plane"),
+        other => c.push("plane", format!("\"{other}\" is not a choice; choose s (continuous targets) or z (discrete targets)")),
+    }
+
+    // Observer.
+    let observer = form.choice("observer");
+    if observer != "none" {
+        if has_c == Some(false) {
+            c.push("observer", "an observer estimates the state from the measurements: enter the output matrix C in Measurement, or choose no observer");
+        }
+        let poles = match observer.as_str() {
+            "poles" => {
+                if is_blank(&form.observer_poles) {
+                    c.push("observer_poles", "required with this choice: list one observer pole per state, or choose a speed factor instead");
+                    None
+                } else {
+                    let p = pole_field(c, "observer_poles", &form.observer_poles, &mut sizes.observer_poles);
+                    if let (Some(p), Some(n)) = (&p, n) {
+                        if p.len() != n {
+                            c.push("observer_poles", format!("{} given but the plant has {}; give one observer pole per state", plural(p.len(), "pole", "poles"), plural(n, "state", "states")));
+                        }
+                    }
+                    p.map(ObserverPoles::Given)
+                }
+            }
+            "speed_factor" => {
+                if is_blank(&form.observer_speed) {
+                    Some(ObserverPoles::SpeedFactor(DEFAULT_OBSERVER_SPEED))
+                } else {
+                    match positive_number(&form.observer_speed, "how many times faster than the controller poles", "4") {
+                        Ok(f) => Some(ObserverPoles::SpeedFactor(f)),
+                        Err(e) => {
+                            c.push("observer_speed", e);
+                            None
+                        }
+                    }
+                }
+            }
+            other => {
+                c.push("observer", format!("\"{other}\" is not a choice; choose none, poles or speed factor"));
+                None
+            }
+        };
+        let form_kind = match form.choice("observer_form").as_str() {
+            "predictor" => Some(ObserverForm::Predictor),
+            "current" if sample_time_given => Some(ObserverForm::Current),
+            "current" => {
+                c.push("observer_form", "the current-estimator form corrects with the measurement of the same sample, so it needs a digital controller: give a sample time, or choose the predictor form");
+                None
+            }
+            other => {
+                c.push("observer_form", format!("\"{other}\" is not a choice; choose predictor or current"));
+                None
+            }
+        };
+        if let (Some(poles), Some(form_kind)) = (poles, form_kind) {
+            spec.observer = Some(ObserverSpec { poles, form: form_kind });
+        }
+    }
+
+    // Tracking.
+    let tracking = form.choice("tracking");
+    let mut tracked: Option<usize> = None;
+    if tracking != "none" {
+        if has_c == Some(false) {
+            c.push("tracking", "tracking follows a reference on the outputs: enter the output matrix C in Measurement, or choose no tracking");
+        }
+        if !matches!(tracking.as_str(), "feedforward" | "integral") {
+            c.push("tracking", format!("\"{tracking}\" is not a choice; choose none, feedforward or integral action"));
+        }
+        let outputs = match plant {
+            Some(pl) if pl.c().is_some() => {
+                if is_blank(&form.tracked_outputs) {
+                    Some((0..pl.outputs()).collect::<Vec<usize>>())
+                } else {
+                    match parse_outputs(&form.tracked_outputs, pl.output_names()) {
+                        Ok(o) => {
+                            sizes.tracked_outputs = Some(plural(o.len(), "output", "outputs"));
+                            Some(o)
+                        }
+                        Err(e) => {
+                            c.push("tracked_outputs", e);
+                            None
+                        }
+                    }
+                }
+            }
+            _ => None,
+        };
+        if let (Some(o), Some(m)) = (&outputs, m) {
+            tracked = Some(o.len());
+            if tracking == "feedforward" && o.len() != m {
+                c.push(
+                    "tracked_outputs",
+                    format!(
+                        "feedforward tracking needs exactly as many tracked outputs as inputs: {} tracked, {}; {}",
+                        plural(o.len(), "output", "outputs"),
+                        plural(m, "input", "inputs"),
+                        if o.len() > m { "list fewer outputs" } else { "list more outputs, or use integral action" }
+                    ),
+                );
+            }
+            if tracking == "integral" && o.len() > m {
+                c.push("tracked_outputs", format!("integral action can hold at most as many outputs as there are inputs: {} tracked, {}; list fewer outputs", plural(o.len(), "output", "outputs"), plural(m, "input", "inputs")));
+            }
+        }
+        let integral_poles = if tracking == "integral" && active("integral_poles") {
+            let p = pole_field(c, "integral_poles", &form.integral_poles, &mut sizes.integral_poles);
+            if let (Some(p), Some(q)) = (&p, tracked) {
+                if p.len() != q {
+                    c.push("integral_poles", format!("{} given but {} tracked; give one pole per integrator, or leave blank and list them with the desired poles", plural(p.len(), "pole", "poles"), plural(q, "output is", "outputs are")));
+                }
+            }
+            p
+        } else {
+            Some(Vec::new())
+        };
+        match (tracking.as_str(), outputs, integral_poles) {
+            ("feedforward", Some(outputs), _) => spec.tracking = TrackingSpec::Feedforward { outputs },
+            ("integral", Some(outputs), Some(integral_poles)) => spec.tracking = TrackingSpec::Integral { outputs, integral_poles },
+            _ => {}
+        }
+        if tracking == "integral" {
+            match form.choice("anti_windup").as_str() {
+                "none" => {}
+                "clamp" => spec.anti_windup = AntiWindup::Clamp,
+                "back_calculation" => {
+                    if is_blank(&form.anti_windup_time) {
+                        c.push("anti_windup_time", "required for back-calculation: the tracking time constant in seconds (a fraction of the integrator's time constant is usual)");
+                    } else {
+                        match positive_number(&form.anti_windup_time, "the tracking time constant in seconds", "0.05") {
+                            Ok(tt) => spec.anti_windup = AntiWindup::BackCalculation { time_constant: tt },
+                            Err(e) => c.push("anti_windup_time", e),
+                        }
+                    }
+                }
+                other => c.push("anti_windup", format!("\"{other}\" is not a choice; choose none, clamp or back-calculation")),
+            }
+        }
+    }
+
+    // Loop scenario.
+    let mut sc = ScenarioSpec::default();
+    if active("reference") {
+        if let Some(r) = counted_vector(c, "reference", &form.reference, tracked.map(|q| (q, "tracked output", "tracked outputs")), &mut sizes.reference) {
+            sc.reference = r;
+        }
+    }
+    if active("reference_time") {
+        match non_negative_number(&form.reference_time, "the time of the reference step in seconds") {
+            Ok(t) => sc.reference_time = t,
+            Err(e) => c.push("reference_time", e),
+        }
+    }
+    let loop_runs = observer != "none" || tracking != "none" || sample_time_given;
+    if active("disturbance") {
+        if let Some(w) = counted_vector(c, "disturbance", &form.disturbance, m.map(|m| (m, "input", "inputs")), &mut sizes.disturbance) {
+            if loop_runs {
+                sc.disturbance = w;
+            } else {
+                c.push("disturbance", "the load step is simulated in the loop, which runs with an observer, tracking or a sample time; choose one of those, or leave this blank");
+            }
+        }
+    }
+    if active("disturbance_time") {
+        match non_negative_number(&form.disturbance_time, "the time of the load step in seconds") {
+            Ok(t) => sc.disturbance_time = t,
+            Err(e) => c.push("disturbance_time", e),
+        }
+    }
+    if active("noise_std") {
+        if has_c == Some(false) {
+            c.push("noise_std", "noise is added to the measured outputs: enter the output matrix C in Measurement, or leave this blank");
+        } else if let Some(ns) = counted_vector(c, "noise_std", &form.noise_std, p_out.map(|p| (p, "output", "outputs")), &mut sizes.noise_std) {
+            if ns.iter().any(|v| *v < 0.0) {
+                c.push("noise_std", "a standard deviation cannot be negative; give zero or a positive number per output");
+            } else if !sample_time_given {
+                c.push("noise_std", "measurement noise is simulated only with a digital controller (one noise sample per controller sample): give a sample time, or leave this blank");
+            } else {
+                sc.noise_std = ns;
+            }
+        }
+    }
+    if active("seed") {
+        match form.seed.trim().parse::<u64>() {
+            Ok(v) => sc.seed = v,
+            Err(_) => c.push("seed", format!("\"{}\" is not a whole number from 0 up; the seed picks the noise sequence (the same seed gives the same noise)", form.seed.trim())),
+        }
+    }
+    spec.scenario = sc;
+    spec
+}
+
+/// Most samples a digital simulation may take (the engine allocates every sample of every
+/// signal: 50 000 samples of a 10-state loop are about 10 MB and a tenth of a second).
+pub const MAX_LOOP_SAMPLES: f64 = 50_000.0;
+
+/// Refuses a digital simulation longer than [`MAX_LOOP_SAMPLES`] samples, and steps that come
+/// after the end of the simulated time; the error goes to the field that sets the length. The
+/// horizon is the engine's rule (7 / slowest decay rate of the controller and observer poles,
+/// doubled with limits; the loop adds the step times and doubles again with a load step).
+fn check_loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Collector) {
+    let sc = &spec.scenario;
+    let events = sc.reference_time.max(if sc.disturbance.is_empty() { 0.0 } else { sc.disturbance_time });
+    if let Some(d) = req.duration {
+        let tracking = !matches!(spec.tracking, TrackingSpec::None);
+        if tracking && sc.reference_time > d {
+            c.push("reference_time", format!("the reference step at {} s comes after the end of the simulated time ({} s); make it earlier, or simulate longer", fmt_num(sc.reference_time), fmt_num(d)));
+        }
+        if !sc.disturbance.is_empty() && sc.disturbance_time > d {
+            c.push("disturbance_time", format!("the load step at {} s comes after the end of the simulated time ({} s); make it earlier, or simulate longer", fmt_num(sc.disturbance_time), fmt_num(d)));
+        }
+    }
+    let Some(t) = spec.sample_time() else { return };
+    let to_s = |p: &[Complex64]| -> Vec<Complex64> {
+        match spec.plane {
+            Plane::Z => p.iter().filter_map(|z| z_to_s(*z, t)).collect(),
+            Plane::S => p.to_vec(),
+        }
+    };
+    let controller = to_s(&req.poles);
+    let decay = |p: &[Complex64]| p.iter().map(|z| -z.re).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
+    let mut slowest = decay(&controller);
+    match spec.observer.as_ref().map(|o| &o.poles) {
+        Some(ObserverPoles::Given(p)) => slowest = slowest.min(decay(&to_s(p))),
+        // The observer poles are the fastest controller poles times the factor: no slower than this.
+        Some(ObserverPoles::SpeedFactor(f)) => slowest = slowest.min(slowest * f),
+        None => {}
+    }
+    let limited = req.limits.iter().any(|l| l.is_some());
+    let horizon = if slowest.is_finite() && slowest > 0.0 { 7.0 / slowest } else { 10.0 } * if limited { 2.0 } else { 1.0 };
+    let samples = |d: f64| d / t;
+    let too_many = |d: f64| !(samples(d) <= MAX_LOOP_SAMPLES);
+    let advice = format!("the page simulates at most {} samples", MAX_LOOP_SAMPLES as u64);
+    if let Some(d) = req.duration {
+        if too_many(d) {
+            c.push("duration", format!("{} s at a sample time of {} s is {:.0} samples, but {advice}: simulate a shorter time, or sample less often", fmt_num(d), fmt_num(t), samples(d).ceil()));
+        }
+        return;
+    }
+    // A digital design always simulates the loop, after the free response.
+    let loop_length = events + horizon * if sc.disturbance.is_empty() { 1.0 } else { 2.0 };
+    if too_many(horizon.max(loop_length)) {
+        let field = if too_many(events) {
+            if sc.reference_time >= sc.disturbance_time || sc.disturbance.is_empty() { "reference_time" } else { "disturbance_time" }
+        } else {
+            "sample_time"
+        };
+        c.push(
+            field,
+            format!(
+                "the simulation would run {} s (chosen from the slowest pole{}) at a sample time of {} s, that is {:.0} samples, but {advice}: sample less often, give a shorter simulated time, or make the poles faster",
+                fmt_num(loop_length.max(horizon)),
+                if events > 0.0 { " after the steps" } else { "" },
+                fmt_num(t),
+                samples(loop_length.max(horizon)).ceil()
+            ),
+        );
+    }
 }
 
 /// Evaluates the form: see the [module documentation](self).
@@ -501,11 +1202,23 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
     let state_units = parse_names(&form.state_units);
     let input_names = parse_names(&form.input_names);
     let input_units = parse_names(&form.input_units);
+    let output_names = parse_names(&form.output_names);
+    let output_units = parse_names(&form.output_units);
     let count = |v: &Vec<String>, one: &str, many: &str| if v.is_empty() { None } else { Some(plural(v.len(), one, many)) };
     sizes.state_names = count(&state_names, "name", "names");
     sizes.state_units = count(&state_units, "unit", "units");
     sizes.input_names = count(&input_names, "name", "names");
     sizes.input_units = count(&input_units, "unit", "units");
+    sizes.output_names = count(&output_names, "name", "names");
+    sizes.output_units = count(&output_units, "unit", "units");
+    if cm.is_none() && !c.has("c") {
+        if !output_names.is_empty() {
+            c.push("output_names", "output names need outputs: enter the output matrix C, or leave this blank");
+        }
+        if !output_units.is_empty() {
+            c.push("output_units", "output units need outputs: enter the output matrix C, or leave this blank");
+        }
+    }
 
     let poles = if is_blank(&form.poles) {
         c.push("poles", "required: list the desired closed-loop poles, one per state, separated by commas or spaces, for example -2, -3, -1±2j");
@@ -578,10 +1291,10 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
             d: dm.clone(),
             state_names,
             input_names,
-            output_names: Vec::new(),
+            output_names: if cm.is_some() { output_names } else { Vec::new() },
             state_units,
             input_units,
-            output_units: Vec::new(),
+            output_units: if cm.is_some() { output_units } else { Vec::new() },
         };
         match Plant::new(spec) {
             Ok(p) => plant = Some(p),
@@ -621,6 +1334,9 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
         }
     }
 
+    // Observer, tracking, digital implementation, loop scenario.
+    let spec = read_controller(form, plant.as_ref(), &mut c, &mut sizes);
+
     let mut outcome = FormOutcome {
         status: FormStatus::Invalid,
         errors: Vec::new(),
@@ -643,11 +1359,17 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
         }),
         _ => None,
     };
+    if let Some(req) = &ready {
+        check_loop_length(req, &spec, &mut c);
+    }
+    let ready = ready.filter(|_| c.errors.is_empty());
     if let Some(req) = ready {
-        match design::run(&req) {
+        let run = if spec.is_plain() { design::run(&req) } else { design::run_with(&req, &spec) };
+        match run {
             Ok(result) => {
                 outcome.status = FormStatus::Designed;
-                outcome.report = Some(report(&result));
+                let context = ReportContext::from_request(&req, &spec);
+                outcome.report = Some(report_with(&result, &context));
                 outcome.design = Some(result);
             }
             Err(DesignError::Input(e)) => match design_field_key(&e.field) {
@@ -736,14 +1458,12 @@ pub fn pole_character(z: Complex64) -> String {
     }
 }
 
-/// The gain as a labelled table and tab-separated text, full precision.
-pub fn gain_table(result: &DesignResult) -> GainTable {
-    let p = &result.plant;
-    let row_labels: Vec<String> = p.input_names.iter().enumerate().map(|(i, n)| label(n, p.input_units.get(i))).collect();
-    let column_labels: Vec<String> = p.state_names.iter().enumerate().map(|(j, n)| label(n, p.state_units.get(j))).collect();
-    let entries: Vec<Vec<String>> = result.feedback.gain.iter().map(|row| row.iter().map(|v| full(*v)).collect()).collect();
+/// A labelled matrix with full-precision entries and its copyable text (`heading` is the
+/// text's first line).
+pub fn matrix_table(symbol: &str, caption: &str, heading: &str, row_labels: Vec<String>, column_labels: Vec<String>, rows: &[Vec<f64>]) -> MatrixTable {
+    let entries: Vec<Vec<String>> = rows.iter().map(|row| row.iter().map(|v| full(*v)).collect()).collect();
     let clean = |s: &str| s.replace(['\t', '\n', '\r'], " ");
-    let mut text = String::from("u = -K x; K has one row per input and one column per state\nK");
+    let mut text = format!("{heading}\n{symbol}");
     for l in &column_labels {
         text.push('\t');
         text.push_str(&clean(l));
@@ -757,7 +1477,69 @@ pub fn gain_table(result: &DesignResult) -> GainTable {
         }
         text.push('\n');
     }
-    GainTable { row_labels, column_labels, entries, text }
+    MatrixTable { symbol: symbol.into(), caption: caption.into(), row_labels, column_labels, entries, text }
+}
+
+fn state_labels(result: &DesignResult) -> Vec<String> {
+    let p = &result.plant;
+    p.state_names.iter().enumerate().map(|(j, n)| label(n, p.state_units.get(j))).collect()
+}
+
+fn input_labels(result: &DesignResult) -> Vec<String> {
+    let p = &result.plant;
+    p.input_names.iter().enumerate().map(|(i, n)| label(n, p.input_units.get(i))).collect()
+}
+
+fn output_label(result: &DesignResult, units: &[String], name: &str) -> String {
+    let unit = result.plant.output_names.iter().position(|n| n == name).and_then(|i| units.get(i));
+    label(name, unit)
+}
+
+/// `s = ln z / T`, the continuous-time equivalent of a z-plane pole (`None` for `z = 0`,
+/// a non-finite `z` or a sample time that is not positive).
+pub fn z_to_s(z: Complex64, t: f64) -> Option<Complex64> {
+    if !(z.re.is_finite() && z.im.is_finite() && t > 0.0 && t.is_finite()) || z.norm() == 0.0 {
+        return None;
+    }
+    let s = z.ln() / t;
+    // A real z has a real equivalent (or, for negative z, a pole at the Nyquist frequency).
+    Some(if z.im == 0.0 && z.re > 0.0 { Complex64::new(s.re, 0.0) } else { s })
+}
+
+/// The character of a z-plane pole, read through its equivalent `s = ln z / T`.
+pub fn z_pole_character(z: Complex64, t: f64) -> String {
+    match z_to_s(z, t) {
+        Some(s) => {
+            let c = pole_character(s);
+            if c.is_empty() {
+                format!("|z| = {}, s = {}", fmt_num(z.norm()), short_pole(s))
+            } else {
+                format!("|z| = {}, s = {}: {c}", fmt_num(z.norm()), short_pole(s))
+            }
+        }
+        None if z.norm() == 0.0 => "at z = 0: gone after one sample (s = −∞)".into(),
+        None => String::new(),
+    }
+}
+
+/// The character of a pole of `result`: s-plane, or z-plane read through `s = ln z / T`.
+fn character_in(result: &DesignResult, z: Complex64) -> String {
+    match (result.domain, result.sample_time) {
+        ("discrete", Some(t)) => z_pole_character(z, t),
+        _ => pole_character(z),
+    }
+}
+
+/// The gain as a labelled table and tab-separated text, full precision.
+pub fn gain_table(result: &DesignResult) -> GainTable {
+    matrix_table(
+        "K",
+        "Gain K: one row per input, one column per state",
+        "u = -K x; K has one row per input and one column per state",
+        input_labels(result),
+        state_labels(result),
+        &result.feedback.gain,
+    )
 }
 
 /// Pairs each target with the nearest unused candidate, closest pairs first (as the
@@ -826,7 +1608,7 @@ pub fn pole_rows(result: &DesignResult) -> Vec<PoleRow> {
             requested: if is_fixed { String::new() } else { format_complex(*t) },
             achieved: z.map(format_complex).unwrap_or_default(),
             error: error.unwrap_or_default(),
-            character: z.map(pole_character).unwrap_or_default(),
+            character: z.map(|z| character_in(result, z)).unwrap_or_default(),
             note: if is_fixed { "uncontrollable mode: feedback cannot move it; it stays where it is".into() } else { String::new() },
         });
     }
@@ -856,6 +1638,8 @@ struct ModeLike {
 
 /// What [`structure_text`] describes: the analysis results in one place.
 struct Structure<'a> {
+    /// z-plane modes: stable means |z| < 1.
+    discrete: bool,
     rank: usize,
     states: usize,
     hidden: &'a [Complex64],
@@ -866,12 +1650,13 @@ struct Structure<'a> {
 }
 
 fn structure_text(kind: Kind, st: Structure<'_>) -> StructureReport {
-    let Structure { rank, states, hidden, modes, tolerance, relative, consistent } = st;
+    let Structure { discrete, rank, states, hidden, modes, tolerance, relative, consistent } = st;
+    let stable = |z: &Complex64| if discrete { z.norm() < 1.0 } else { z.re < 0.0 };
     let (word, weak, matrix, can) = match kind {
         Kind::Controllability => ("controllable", "weakly controllable", "[A − λI, B]", "feedback"),
         Kind::Observability => ("observable", "weakly observable", "[A − λI; C]", "the outputs"),
     };
-    let stable_hidden = hidden.iter().all(|z| z.re < 0.0);
+    let stable_hidden = hidden.iter().all(stable);
     let mut summary = if rank == states {
         match kind {
             Kind::Controllability => format!("Controllable: every one of the {states} modes can be moved by feedback."),
@@ -912,7 +1697,7 @@ fn structure_text(kind: Kind, st: Structure<'_>) -> StructureReport {
             verdict: match m.verdict {
                 ModeVerdict::Yes => word.to_string(),
                 ModeVerdict::Weak => format!("{weak}: moving it needs large inputs"),
-                ModeVerdict::No if m.pole.re < 0.0 => format!("not {word}; stable, so it stays where it is"),
+                ModeVerdict::No if stable(&m.pole) => format!("not {word}; stable, so it stays where it is"),
                 ModeVerdict::No => format!("not {word} and not stable"),
             },
         })
@@ -924,11 +1709,11 @@ fn modal_report_text(r: &ModalReport, kind: Kind) -> StructureReport {
     let modes: Vec<ModeLike> = r.modes.iter().map(|m| ModeLike { pole: m.pole, margin: m.margin, verdict: m.verdict }).collect();
     structure_text(
         kind,
-        Structure { rank: r.rank, states: r.states, hidden: &r.hidden_modes, modes: &modes, tolerance: r.tolerance, relative: r.relative_tolerance, consistent: r.consistent },
+        Structure { discrete: false, rank: r.rank, states: r.states, hidden: &r.hidden_modes, modes: &modes, tolerance: r.tolerance, relative: r.relative_tolerance, consistent: r.consistent },
     )
 }
 
-fn structure_result_text(r: &StructureResult, kind: Kind) -> StructureReport {
+fn structure_result_text(r: &StructureResult, kind: Kind, discrete: bool) -> StructureReport {
     let modes: Vec<ModeLike> = r
         .modes
         .iter()
@@ -945,7 +1730,7 @@ fn structure_result_text(r: &StructureResult, kind: Kind) -> StructureReport {
     let hidden: Vec<Complex64> = r.uncontrollable_modes.iter().map(c64).collect();
     structure_text(
         kind,
-        Structure { rank: r.rank, states: r.states, hidden: &hidden, modes: &modes, tolerance: r.tolerance, relative: r.relative_tolerance, consistent: r.consistent },
+        Structure { discrete, rank: r.rank, states: r.states, hidden: &hidden, modes: &modes, tolerance: r.tolerance, relative: r.relative_tolerance, consistent: r.consistent },
     )
 }
 
@@ -1035,44 +1820,425 @@ fn response_rows(result: &DesignResult) -> (Vec<StateRow>, Vec<InputRow>, String
         format!("{} s", fmt_num(s.duration))
     };
     let limits = if s.input_limit.iter().any(|l| l.is_some()) { "; inputs clipped at their limits" } else { "" };
-    let summary = format!(
-        "Free response of the closed loop u = −K x from {start} over {horizon}, time step {} s{limits}. Settling: within ±{} % of each state's peak deviation from zero, for good.",
-        fmt_num(s.step),
-        fmt_num(s.band * 100.0)
-    );
+    let summary = if result.domain == "discrete" {
+        format!(
+            "Free response of the sampled state feedback u[k] = −K x[k] (the state measured exactly, no reference) from {start} over {horizon}, sample time {} s{limits}. Settling: within ±{} % of each state's peak deviation from zero, for good.",
+            fmt_num(s.step),
+            fmt_num(s.band * 100.0)
+        )
+    } else {
+        format!(
+            "Free response of the closed loop u = −K x from {start} over {horizon}, time step {} s{limits}. Settling: within ±{} % of each state's peak deviation from zero, for good.",
+            fmt_num(s.step),
+            fmt_num(s.band * 100.0)
+        )
+    };
     (states, inputs, summary)
 }
 
-/// Everything the page shows for a design.
+/// What the form knew beyond the result, for the report: the loop scenario as asked and the
+/// output units (the result carries the names only).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ReportContext {
+    pub output_units: Vec<String>,
+    /// The observer speed factor, when the observer poles were chosen by one.
+    pub speed_factor: Option<f64>,
+    pub reference_time: f64,
+    pub disturbance: Vec<f64>,
+    pub disturbance_time: f64,
+    pub noise_std: Vec<f64>,
+    pub seed: u64,
+    pub z_plane: bool,
+    pub delay_poles: Vec<Complex64>,
+}
+
+impl ReportContext {
+    /// The context of a form's request.
+    pub fn from_request(req: &DesignRequest, spec: &ControllerSpec) -> ReportContext {
+        ReportContext {
+            output_units: req.plant.output_units().to_vec(),
+            speed_factor: match spec.observer.as_ref().map(|o| &o.poles) {
+                Some(ObserverPoles::SpeedFactor(f)) => Some(*f),
+                _ => None,
+            },
+            reference_time: spec.scenario.reference_time,
+            disturbance: spec.scenario.disturbance.clone(),
+            disturbance_time: spec.scenario.disturbance_time,
+            noise_std: spec.scenario.noise_std.clone(),
+            seed: spec.scenario.seed,
+            z_plane: spec.plane == Plane::Z,
+            delay_poles: spec.implementation.as_ref().filter(|i| i.computation_delay).map(|i| i.delay_poles.clone()).unwrap_or_default(),
+        }
+    }
+}
+
+/// Everything the page shows for a design (without the form's context).
 pub fn report(result: &DesignResult) -> Report {
+    report_with(result, &ReportContext::default())
+}
+
+/// Everything the page shows for a design.
+pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
     let mut open: Vec<Complex64> = result.open_loop_poles.iter().map(c64).collect();
     sort_for_display(&mut open);
     let (states, inputs, simulation) = response_rows(result);
+    let discrete = result.domain == "discrete";
+    let mut warnings: Vec<String> = result.warnings.iter().map(|w| w.message.clone()).collect();
+    let controller = controller_report(result, context, &mut warnings);
     Report {
         law: "u = −K x".into(),
         gain: gain_table(result),
         poles: pole_rows(result),
         open_loop: format_pole_list(&open),
-        controllability: structure_result_text(&result.controllability, Kind::Controllability),
-        observability: result.observability.as_ref().map(|o| structure_result_text(o, Kind::Observability)),
+        controllability: structure_result_text(&result.controllability, Kind::Controllability, discrete),
+        observability: result.observability.as_ref().map(|o| structure_result_text(o, Kind::Observability, discrete)),
         robustness: robustness_text(result),
-        warnings: result.warnings.iter().map(|w| w.message.clone()).collect(),
+        warnings,
         states,
         inputs,
         simulation,
+        controller,
     }
+}
+
+/// `value unit`, or the value alone.
+fn with_unit(v: String, unit: Option<&String>) -> String {
+    match unit.map(|u| u.trim()).filter(|u| !u.is_empty()) {
+        Some(u) => format!("{v} {u}"),
+        None => v,
+    }
+}
+
+/// Requested versus achieved poles of any placement (no fixed modes), matched nearest first.
+fn matched_pole_rows(result: &DesignResult, requested: &[Pair], achieved: &[Pair]) -> Vec<PoleRow> {
+    let mut req: Vec<Complex64> = requested.iter().map(c64).collect();
+    sort_for_display(&mut req);
+    let ach: Vec<Complex64> = achieved.iter().map(c64).collect();
+    let matched = match_nearest(&req, &ach);
+    req.iter()
+        .enumerate()
+        .map(|(i, t)| {
+            let z = matched.get(i).copied().flatten().and_then(|j| ach.get(j)).copied();
+            PoleRow {
+                requested: format_complex(*t),
+                achieved: z.map(format_complex).unwrap_or_default(),
+                error: z
+                    .map(|z| {
+                        let d = (z - t).norm();
+                        if t.norm() > 0.0 {
+                            fmt_num(d / t.norm())
+                        } else {
+                            format!("{} (absolute)", fmt_num(d))
+                        }
+                    })
+                    .unwrap_or_default(),
+                character: z.map(|z| character_in(result, z)).unwrap_or_default(),
+                note: String::new(),
+            }
+        })
+        .collect()
+}
+
+/// The control law, one equation per line.
+fn law_lines(result: &DesignResult) -> Vec<String> {
+    let digital = result.sample_time.is_some();
+    let delay = result.feedback.delay_gain.is_some();
+    let observer = result.observer.as_ref();
+    let current = observer.is_some_and(|o| o.form == "current");
+    let x = match (observer.is_some(), current, digital) {
+        (false, _, true) => "x[k]",
+        (false, _, false) => "x",
+        (true, true, _) => "x̄[k]",
+        (true, false, true) => "x̂[k]",
+        (true, false, false) => "x̂",
+    };
+    let k = if digital { "[k]" } else { "" };
+    let mut lines = Vec::new();
+    let delay_term = |ff: bool| if delay { if ff { " − K_u (u[k−1] − N_u r)" } else { " − K_u u[k−1]" } } else { "" };
+    match &result.tracking {
+        Some(TrackingResult::Feedforward { .. }) => lines.push(format!("u{k} = N_u r − K ({x} − N_x r){}", delay_term(true))),
+        Some(TrackingResult::Integral { .. }) => lines.push(format!("u{k} = −K {x} − K_i z{k}{}", delay_term(false))),
+        None => lines.push(format!("u{k} = −K {x}{}", delay_term(false))),
+    }
+    let applied = if delay { "u[k−1]" } else { "u[k]" };
+    if let Some(o) = observer {
+        if !digital {
+            lines.push("x̂′ = A x̂ + B u + L (y − C x̂ − D u)".into());
+        } else if o.form == "current" {
+            lines.push("x̄[k] = x̂[k] + L_c (y[k] − C x̂[k] − D u_held), the estimate corrected with the measurement of the same sample".into());
+            lines.push(format!("x̂[k+1] = Φ x̄[k] + Γ {applied}"));
+        } else {
+            lines.push(format!("x̂[k+1] = Φ x̂[k] + Γ {applied} + L (y[k] − C x̂[k] − D u_held)"));
+        }
+    }
+    if observer.is_some() && digital {
+        lines.push("u_held: the input being applied when y[k] is measured".into());
+    }
+    if let Some(TrackingResult::Integral { anti_windup, time_constant, .. }) = &result.tracking {
+        lines.push(if digital { "z[k+1] = z[k] + T (r − y[k]) for each tracked output".into() } else { "z′ = r − y for each tracked output".into() });
+        match (*anti_windup, time_constant) {
+            ("clamp", _) => lines.push("anti-windup: the integrators hold while any input is clipped (conditional integration)".into()),
+            ("back_calculation", Some(tt)) => lines.push(format!("anti-windup: back-calculation, the integrators also driven by −K_i⁺ (u_applied − u_commanded) / T_t with T_t = {} s", fmt_num(*tt))),
+            _ => lines.push("no anti-windup: the integrators keep integrating while an input is clipped".into()),
+        }
+    }
+    if result.simulation.input_limit.iter().any(|l| l.is_some()) {
+        lines.push("applied input: the command clipped to each input's limit".into());
+    }
+    lines
+}
+
+fn controller_report(result: &DesignResult, context: &ReportContext, warnings: &mut Vec<String>) -> Option<ControllerReport> {
+    let v2 = result.sample_time.is_some() || result.observer.is_some() || result.tracking.is_some() || result.closed_loop.is_some();
+    if !v2 {
+        return None;
+    }
+    let p = &result.plant;
+    let inputs = input_labels(result);
+    let states = state_labels(result);
+    let outputs: Vec<String> = p.output_names.iter().enumerate().map(|(i, n)| label(n, context.output_units.get(i))).collect();
+    let t = result.sample_time;
+
+    let domain = match (t, &result.discrete_plant) {
+        (Some(t), Some(dp)) => format!(
+            "Digital controller: sample time T = {} s ({} Hz). The design uses the exact zero-order-hold model of the plant, Φ = e^(A T) and Γ = ∫₀ᵀ e^(A s) ds B, and {}{}.",
+            fmt_num(t),
+            fmt_num(1.0 / t),
+            if context.z_plane { "the desired poles as given in the z-plane" } else { "the desired poles mapped to the z-plane by z = e^(s T)" },
+            if dp.computation_delay {
+                format!(
+                    "; with a one-sample computation delay the model also carries the previous input, whose pole{} placed at z = {}",
+                    if p.inputs == 1 { " is" } else { "s are" },
+                    if context.delay_poles.is_empty() { "0".to_string() } else { format_pole_list(&context.delay_poles) }
+                )
+            } else {
+                String::new()
+            }
+        ),
+        (Some(t), None) => format!("Digital controller: sample time T = {} s ({} Hz); the plant matrices are already discrete.", fmt_num(t), fmt_num(1.0 / t)),
+        (None, _) => "Continuous controller: the equations above run in continuous time.".into(),
+    };
+
+    let delay_gain = result.feedback.delay_gain.as_ref().map(|ku| {
+        matrix_table(
+            "K_u",
+            "K_u: gain on the previous input (computation delay): one row per input, one column per previous input",
+            "u[k] = -K x[k] - K_u u[k-1]; K_u has one row per input and one column per previous input",
+            inputs.clone(),
+            p.input_names.iter().map(|n| format!("previous {n}")).collect(),
+            ku,
+        )
+    });
+
+    let (tracking, tracking_note) = match &result.tracking {
+        Some(TrackingResult::Feedforward { outputs: names, nx, nu }) => {
+            let cols: Vec<String> = names.iter().map(|n| output_label(result, &context.output_units, n)).collect();
+            (
+                vec![
+                    matrix_table("N_x", "N_x: the steady state per unit of reference (one row per state, one column per tracked output)", "N_x: steady state per unit reference; one row per state, one column per tracked output", states.clone(), cols.clone(), nx),
+                    matrix_table("N_u", "N_u: the steady input per unit of reference (one row per input, one column per tracked output)", "N_u: steady input per unit reference; one row per input, one column per tracked output", inputs.clone(), cols, nu),
+                ],
+                Some(format!("Feedforward from the steady-state equations [A B; C D] [N_x; N_u] = [0; I] (digital: [Φ − I, Γ; C, D]): the reference sets the target state N_x r and the input N_u r; K acts on the difference. Tracked: {}.", names.join(", "))),
+            )
+        }
+        Some(TrackingResult::Integral { outputs: names, integral_gain, .. }) => {
+            let cols: Vec<String> = names.iter().map(|n| format!("∫ error of {}", output_label(result, &context.output_units, n))).collect();
+            (
+                vec![matrix_table("K_i", "K_i: integral gain, one row per input, one column per integrator (tracked output)", "u = -K x - K_i z; K_i has one row per input and one column per integrator", inputs.clone(), cols, integral_gain)],
+                Some(format!("Integral action: one integrator z of r − y per tracked output ({}); the state gain K_x of u = −K_x x − K_i z is the gain K above. Placed with the plant: the desired poles and the integrator poles together.", names.join(", "))),
+            )
+        }
+        None => (Vec::new(), None),
+    };
+
+    let discrete_plant = match &result.discrete_plant {
+        Some(dp) => vec![
+            matrix_table("Φ", "Φ = e^(A T): the plant's state transition over one sample (one row and one column per state)", "Φ = e^(A T); one row and one column per state", states.clone(), states.clone(), &dp.a),
+            matrix_table("Γ", "Γ = ∫₀ᵀ e^(A s) ds B: the effect of an input held over one sample (one row per state, one column per input)", "Γ = (integral of e^(A s) ds over one sample) B; one row per state, one column per input", states.clone(), inputs.clone(), &dp.b),
+        ],
+        None => Vec::new(),
+    };
+
+    let observer = result.observer.as_ref().map(|o| {
+        let (heading, caption) = match (t.is_some(), o.form) {
+            (false, _) => ("observer x̂′ = A x̂ + B u + L (y - C x̂ - D u); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
+            (true, "current") => ("predictor gain L (the current estimator uses L_c = Φ⁻¹ L); L has one row per state and one column per output", "Observer gain L (predictor form; the current form uses L_c below): one row per state, one column per output"),
+            _ => ("observer x̂[k+1] = Φ x̂[k] + Γ u[k] + L (y[k] - C x̂[k] - D u[k]); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
+        };
+        let gain = matrix_table("L", caption, heading, states.clone(), outputs.clone(), &o.gain);
+        let current_gain = o.current_gain.as_ref().map(|lc| {
+            matrix_table("L_c", "Current-estimator gain L_c = Φ⁻¹ L: one row per state, one column per output", "current estimator x̄[k] = x̂[k] + L_c (y[k] - C x̂[k] - D u[k]); L_c has one row per state and one column per output", states.clone(), outputs.clone(), lc)
+        });
+        let cond = if o.eigenvector_condition.is_finite() { fmt_num(o.eigenvector_condition) } else { "infinite".into() };
+        let form = match o.form {
+            "predictor" => "Predictor form (the estimate for the next sample uses this sample's measurement, so the input never waits for the computation).",
+            "current" => "Current-estimator form (the estimate is corrected with the measurement of the same sample before the input is computed).",
+            _ => "Continuous observer.",
+        };
+        let speed = context.speed_factor.map(|f| format!(" Observer poles: {} times the controller poles (s-plane).", fmt_num(f))).unwrap_or_default();
+        let summary = format!(
+            "{form}{speed} Achieved to within {} (relative); eigenvector condition number {cond}; gain size ‖L‖₂ = {}.{}",
+            fmt_num(o.max_pole_error),
+            fmt_num(o.gain_norm),
+            if o.detectable { "" } else { " The plant is not detectable from these outputs: some modes cannot be estimated." }
+        );
+        let noise = format!(
+            "Noise-to-input gain ‖K L‖₂ = {}: a measurement error e moves the inputs by up to {} × |e| (worst direction) through the observer. A faster observer (larger L) passes more measurement noise to the actuators.",
+            fmt_num(o.noise_to_input_gain),
+            fmt_num(o.noise_to_input_gain)
+        );
+        if let Some(f) = context.speed_factor {
+            let (lo, hi) = OBSERVER_SPEED_RULE;
+            if f < lo {
+                warnings.push(format!("The observer poles are only {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): with a slow observer the estimation error shapes the response.", fmt_num(f)));
+            } else if f > hi {
+                warnings.push(format!("The observer poles are {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): a much faster observer passes more measurement noise to the inputs.", fmt_num(f)));
+            }
+        }
+        ObserverReport { gain, current_gain, poles: matched_pole_rows(result, &o.requested_poles, &o.achieved_poles), summary, noise }
+    });
+
+    let mut loop_summary = None;
+    let mut loop_outputs = Vec::new();
+    let mut loop_inputs = Vec::new();
+    let mut estimation = Vec::new();
+    let mut events = Vec::new();
+    if let Some(l) = &result.closed_loop {
+        let band = result.simulation.band;
+        let unit_of = |name: &str| result.plant.output_names.iter().position(|n| n == name).and_then(|i| context.output_units.get(i)).cloned();
+        for tm in &l.tracked {
+            let u = unit_of(&tm.name);
+            let step = tm.reference;
+            loop_outputs.push(LoopOutputRow {
+                name: label(&tm.name, u.as_ref()),
+                reference: format!("{} at t = {} s", with_unit(fmt_num(step), u.as_ref()), fmt_num(context.reference_time)),
+                rise_time: tm.rise_time.map_or_else(|| "not reached".to_string(), |v| format!("{} s", fmt_num(v))),
+                settling_time: tm.settling_time.map_or_else(|| format!("not settled within ±{} %", fmt_num(band * 100.0)), |v| format!("{} s", fmt_num(v))),
+                overshoot: format!("{} %", fmt_num(tm.overshoot * 100.0)),
+                steady_state_error: if step != 0.0 {
+                    format!("{} ({} % of the step)", with_unit(fmt_num(tm.steady_state_error), u.as_ref()), fmt_num(100.0 * tm.steady_state_error / step))
+                } else {
+                    with_unit(fmt_num(tm.steady_state_error), u.as_ref())
+                },
+            });
+            if tm.settling_time.is_none() && !l.diverged {
+                warnings.push(format!(
+                    "In the loop simulation, {} does not settle within ±{} % of its reference step before the simulation ends ({} s) or the load step comes: lengthen the simulated time, or make the controller faster.",
+                    tm.name,
+                    fmt_num(band * 100.0),
+                    fmt_num(l.duration)
+                ));
+            }
+        }
+        for (i, im) in l.input_metrics.iter().enumerate() {
+            let u = p.input_units.get(i);
+            loop_inputs.push(LoopInputRow {
+                name: label(&im.name, u),
+                peak: with_unit(fmt_num(im.peak_command), u),
+                limit: im.limit.map_or_else(|| "none".to_string(), |v| with_unit(fmt_num(v), u)),
+                saturated: match im.limit {
+                    None => "no limit given".into(),
+                    Some(lim) if im.peak_command <= lim => format!("never (peak is {} % of the limit)", fmt_num(100.0 * im.peak_command / lim)),
+                    Some(_) => format!("{} s in all", fmt_num(im.time_saturated)),
+                },
+            });
+        }
+        if result.observer.is_some() {
+            for (i, (x, xh)) in l.states.iter().zip(&l.estimates).enumerate() {
+                let u = p.state_units.get(i);
+                let err: Vec<f64> = x.iter().zip(xh).map(|(a, b)| a - b).collect();
+                let peak = err.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+                let last = err.last().copied().unwrap_or(0.0).abs();
+                estimation.push(EstimationRow {
+                    name: p.state_names.get(i).map(|n| label(n, u)).unwrap_or_default(),
+                    peak: with_unit(fmt_num(peak), u),
+                    last: with_unit(fmt_num(last), u),
+                });
+            }
+        }
+        let mut parts = Vec::new();
+        for tm in &l.tracked {
+            parts.push(format!("a reference step to {} on {} at t = {} s", with_unit(fmt_num(tm.reference), unit_of(&tm.name).as_ref()), tm.name, fmt_num(context.reference_time)));
+        }
+        if !l.tracked.is_empty() {
+            events.push(EventLine { time: context.reference_time, label: "reference step".into() });
+        }
+        if context.disturbance.iter().any(|w| *w != 0.0) {
+            let loads: Vec<String> = context
+                .disturbance
+                .iter()
+                .enumerate()
+                .filter(|(_, w)| **w != 0.0)
+                .map(|(i, w)| format!("{} on {}", with_unit(fmt_num(*w), p.input_units.get(i)), p.input_names.get(i).map_or("", |s| s.as_str())))
+                .collect();
+            parts.push(format!("a load step of {} at t = {} s", loads.join(" and "), fmt_num(context.disturbance_time)));
+            events.push(EventLine { time: context.disturbance_time, label: "load step".into() });
+        }
+        if context.noise_std.iter().any(|v| *v > 0.0) {
+            parts.push(format!("measurement noise of standard deviation {} (seed {})", context.noise_std.iter().map(|v| fmt_num(*v)).collect::<Vec<_>>().join(", "), context.seed));
+        }
+        if parts.is_empty() {
+            parts.push(format!("the free response from x₀ = {}", vector_text(&result.simulation.initial_state)));
+        }
+        let timing = match l.sample_time {
+            Some(t) => format!("sampled every {} s", fmt_num(t)),
+            None => "continuous".into(),
+        };
+        let start = if result.observer.is_some() { " The observer starts from x̂ = 0." } else { "" };
+        let separation = match l.separation_error {
+            Some(e) if e.is_finite() => format!(
+                " Separation check: the eigenvalues of the loop with observer are the controller and observer poles to within {} (relative).",
+                fmt_num(e)
+            ),
+            _ => String::new(),
+        };
+        loop_summary = Some(format!(
+            "The whole controller in the loop with the plant ({timing}) over {} s: {}{}.{start}{separation}",
+            fmt_num(l.duration),
+            parts.join("; "),
+            if result.simulation.input_limit.iter().any(|x| x.is_some()) { "; inputs clipped at their limits" } else { "" }
+        ));
+        if l.diverged {
+            warnings.push("The loop simulation (the whole controller with the plant) grew without bound and was stopped: this controller does not stabilise the plant as simulated.".into());
+        }
+        if let Some(e) = l.separation_error {
+            if !(e <= 1e-6) {
+                warnings.push(format!("The eigenvalues of the loop with observer differ from the controller and observer poles by up to {} (relative): the separation check failed; treat the design with care.", fmt_num(e)));
+            }
+        }
+    }
+    Some(ControllerReport {
+        law: law_lines(result),
+        domain,
+        sample_rate: result.sample_rate.as_ref().map(|a| a.message.clone()),
+        delay_gain,
+        tracking,
+        tracking_note,
+        discrete_plant,
+        observer,
+        loop_summary,
+        loop_outputs,
+        loop_inputs,
+        estimation,
+        settling_band: format!("±{} %", fmt_num(result.simulation.band * 100.0)),
+        output_units: context.output_units.clone(),
+        events,
+    })
 }
 
 // ---------------------------------------------------------------------------------------------
 // Plot scenes.
 
-/// Pole map: open-loop poles, achieved closed-loop poles, and requested poles that could not be assigned.
+/// Pole map: open-loop poles, achieved closed-loop poles, observer poles, and requested
+/// poles that could not be assigned; a digital design's map is the z-plane with the unit circle.
 pub fn pole_map_scene(result: &DesignResult) -> PoleMapScene {
     PoleMapScene {
         open_loop: result.open_loop_poles.clone(),
         closed_loop: result.feedback.achieved_poles.clone(),
         not_assigned: result.feedback.not_assigned.clone(),
-        discrete: false,
+        observer: result.observer.as_ref().map(|o| o.achieved_poles.clone()).unwrap_or_default(),
+        discrete: result.domain == "discrete",
+        fit_poles: false,
         highlight: None,
     }
 }
@@ -1096,9 +2262,9 @@ pub fn states_scene(result: &DesignResult, normalised: bool) -> TimePlotScene {
             let peak = s.peak_state.get(i).copied().unwrap_or(0.0);
             if normalised {
                 let scale = if peak > 0.0 && peak.is_finite() { 1.0 / peak } else { 1.0 };
-                Series { name, values: values.iter().map(|v| v * scale).collect() }
+                Series { name, values: values.iter().map(|v| v * scale).collect(), ..Series::default() }
             } else {
-                Series { name: label(&name, p.state_units.get(i)), values: values.clone() }
+                Series { name: label(&name, p.state_units.get(i)), values: values.clone(), ..Series::default() }
             }
         })
         .collect();
@@ -1112,16 +2278,17 @@ pub fn states_scene(result: &DesignResult, normalised: bool) -> TimePlotScene {
         series,
         limits: Vec::new(),
         band,
+        events: Vec::new(),
         x_label: "time (s)".into(),
         y_label: if normalised { "state ÷ its peak |value|".into() } else { "state (own units)".into() },
     }
 }
 
-/// Applied inputs versus time, with each input's limit drawn at ± limit.
-pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
+/// Each input's limit as a pair of lines at ± limit; one pair per distinct (limit, unit),
+/// named by input unless every input shares it.
+fn limit_lines(result: &DesignResult) -> Vec<LimitLine> {
     let p = &result.plant;
     let s = &result.simulation;
-    // One pair of lines per distinct (limit, unit); named by input unless every input shares it.
     let mut groups: Vec<(f64, String, Vec<String>)> = Vec::new();
     for (i, l) in s.input_limit.iter().enumerate() {
         if let Some(l) = l {
@@ -1140,6 +2307,22 @@ pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
         limits.push(LimitLine { value: *l, label: format!("limit +{}{unit}{whose}", fmt_num(*l)) });
         limits.push(LimitLine { value: -*l, label: format!("limit −{}{unit}{whose}", fmt_num(*l)) });
     }
+    limits
+}
+
+/// The unit shared by every input, if there is one.
+fn shared_input_unit(result: &DesignResult) -> Option<String> {
+    let units: Vec<&str> = result.plant.input_units.iter().map(|u| u.trim()).collect();
+    match units.first() {
+        Some(u) if !u.is_empty() && units.iter().all(|v| v == u) => Some(u.to_string()),
+        _ => None,
+    }
+}
+
+/// Applied inputs versus time, with each input's limit drawn at ± limit.
+pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
+    let p = &result.plant;
+    let s = &result.simulation;
     let units: Vec<&str> = p.input_units.iter().map(|u| u.trim()).collect();
     let shared_unit = match units.first() {
         Some(u) if !u.is_empty() && units.iter().all(|v| v == u) => Some(*u),
@@ -1156,19 +2339,120 @@ pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
                 label(&p.input_names.get(i).cloned().unwrap_or_default(), p.input_units.get(i))
             },
             values: values.clone(),
+            ..Series::default()
         })
         .collect();
     TimePlotScene {
         t: s.time.clone(),
         series,
-        limits,
+        limits: limit_lines(result),
         band: None,
+        events: Vec::new(),
         x_label: "time (s)".into(),
         y_label: match shared_unit {
             Some(u) => format!("input ({u})"),
             None => "input (own units)".into(),
         },
     }
+}
+
+/// The loop's outputs (solid) against their references (dashed, in the output's colour),
+/// with the reference and load steps marked. `None` without a loop simulation.
+pub fn loop_outputs_scene(result: &DesignResult, report: &Report) -> Option<TimePlotScene> {
+    let l = result.closed_loop.as_ref()?;
+    let p = &result.plant;
+    let units = report.controller.as_ref().map(|c| c.output_units.as_slice()).unwrap_or(&[]);
+    let shared = match units.first() {
+        Some(u) if !u.trim().is_empty() && units.len() == p.outputs && units.iter().all(|v| v == u) => Some(u.trim().to_string()),
+        _ => None,
+    };
+    let name_of = |i: usize| {
+        let n = p.output_names.get(i).cloned().unwrap_or_else(|| format!("y{}", i + 1));
+        if shared.is_some() {
+            n
+        } else {
+            label(&n, units.get(i))
+        }
+    };
+    let mut series: Vec<Series> = l.outputs.iter().enumerate().map(|(i, v)| Series { name: name_of(i), values: v.clone(), colour: Some(i), dash: Some(0) }).collect();
+    for (j, (r, tm)) in l.reference.iter().zip(&l.tracked).enumerate() {
+        let i = p.output_names.iter().position(|n| *n == tm.name).unwrap_or(j);
+        series.push(Series { name: format!("reference for {}", p.output_names.get(i).map_or("", |s| s.as_str())), values: r.clone(), colour: Some(i), dash: Some(1) });
+    }
+    Some(TimePlotScene {
+        t: l.time.clone(),
+        series,
+        limits: Vec::new(),
+        band: None,
+        events: report.controller.as_ref().map(|c| c.events.clone()).unwrap_or_default(),
+        x_label: "time (s)".into(),
+        y_label: match shared {
+            Some(u) => format!("output ({u})"),
+            None => "output (own units)".into(),
+        },
+    })
+}
+
+/// The loop's applied inputs (solid) and the commands before clipping (dashed, same colour),
+/// with the limits. `None` without a loop simulation.
+pub fn loop_inputs_scene(result: &DesignResult, report: &Report) -> Option<TimePlotScene> {
+    let l = result.closed_loop.as_ref()?;
+    let p = &result.plant;
+    let shared = shared_input_unit(result);
+    let name_of = |i: usize| {
+        let n = p.input_names.get(i).cloned().unwrap_or_default();
+        if shared.is_some() {
+            n
+        } else {
+            label(&n, p.input_units.get(i))
+        }
+    };
+    let mut series: Vec<Series> = l.inputs.iter().enumerate().map(|(i, v)| Series { name: format!("{} applied", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(0) }).collect();
+    series.extend(l.commanded.iter().enumerate().map(|(i, v)| Series { name: format!("{} commanded", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(1) }));
+    Some(TimePlotScene {
+        t: l.time.clone(),
+        series,
+        limits: limit_lines(result),
+        band: None,
+        events: report.controller.as_ref().map(|c| c.events.clone()).unwrap_or_default(),
+        x_label: "time (s)".into(),
+        y_label: match shared {
+            Some(u) => format!("input ({u})"),
+            None => "input (own units)".into(),
+        },
+    })
+}
+
+/// The estimation error `x − x̂` of each state in the loop, divided by that state's peak
+/// `|x|` (one scale for all). `None` without an observer.
+pub fn estimation_scene(result: &DesignResult, report: &Report) -> Option<TimePlotScene> {
+    let l = result.closed_loop.as_ref()?;
+    result.observer.as_ref()?;
+    let p = &result.plant;
+    let series = l
+        .states
+        .iter()
+        .zip(&l.estimates)
+        .enumerate()
+        .map(|(i, (x, xh))| {
+            let peak = x.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            let scale = if peak > 0.0 && peak.is_finite() { 1.0 / peak } else { 1.0 };
+            Series {
+                name: p.state_names.get(i).cloned().unwrap_or_else(|| format!("x{}", i + 1)),
+                values: x.iter().zip(xh).map(|(a, b)| (a - b) * scale).collect(),
+                ..Series::default()
+            }
+        })
+        .collect();
+    Some(TimePlotScene {
+        t: l.time.clone(),
+        series,
+        limits: Vec::new(),
+        band: None,
+        events: report.controller.as_ref().map(|c| c.events.clone()).unwrap_or_default(),
+        x_label: "time (s)".into(),
+        y_label: "(x − x̂) ÷ the state's peak |x|".into(),
+    })
 }
 
 #[cfg(test)]
@@ -1488,6 +2772,411 @@ mod tests {
         assert_eq!(f.get("nope"), None);
         let json = serde_json::to_value(&f).unwrap();
         assert_eq!(json.as_object().unwrap().len(), FormInput::FIELDS.len());
+    }
+
+    /// The belt axis with a head encoder: a version-2 base for the field tests below.
+    fn axis_v2() -> FormInput {
+        FormInput {
+            a: "0 1 0 0\n-375 -2.291666666666667 375 0.625\n0 0 0 1\n1500 2.5 -1500 -2.5".into(),
+            b: "0\n0.4166666666666667\n0\n0".into(),
+            c: "0 0 1 0".into(),
+            output_names: "head position".into(),
+            output_units: "m".into(),
+            state_names: "carriage position, carriage velocity, head position, head velocity".into(),
+            poles: "-12±9j, -20±30j".into(),
+            limits: "60".into(),
+            ..Default::default()
+        }
+    }
+
+    fn only_error(out: &FormOutcome, field: &str) -> String {
+        assert_eq!(out.status, FormStatus::Invalid, "{:?}", out.errors);
+        let fields: Vec<&str> = out.errors.iter().map(|e| e.field).collect();
+        assert_eq!(fields, [field], "{:?}", out.errors);
+        out.errors[0].message.clone()
+    }
+
+    #[test]
+    fn blank_version_2_fields_give_the_version_1_design() {
+        let f = axis_v2();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let d = out.design.as_ref().unwrap();
+        assert_eq!(d.domain, "continuous");
+        assert!(d.closed_loop.is_none() && d.observer.is_none() && d.tracking.is_none() && d.sample_time.is_none());
+        assert!(out.report.as_ref().unwrap().controller.is_none());
+        // Exactly what the version-1 run gives for the same request.
+        let text = r#"{"format": "polewright.design", "version": 1,
+            "plant": {"a": [[0,1,0,0],[-375,-2.291666666666667,375,0.625],[0,0,0,1],[1500,2.5,-1500,-2.5]],
+                      "b": [0,0.4166666666666667,0,0], "c": [[0,0,1,0]]},
+            "feedback": {"poles": ["-12±9j", "-20±30j"]}, "actuators": {"limit": [60]}}"#;
+        let v1 = design::run_text(text).unwrap();
+        assert_eq!(v1.feedback.gain, d.feedback.gain);
+        assert_eq!(v1.simulation.states, d.simulation.states);
+        // Sub-fields of switched-off sections are not read, whatever they hold.
+        let mut g = axis_v2();
+        g.observer_poles = "not poles".into();
+        g.integral_poles = "x".into();
+        g.anti_windup_time = "-1".into();
+        g.delay_poles = "?".into();
+        g.reference = "1 2 3".into();
+        let out = evaluate_form(&g);
+        assert_eq!(out.status, FormStatus::Designed, "{:?}", out.errors);
+        assert!(!g.is_active("observer_poles") && !g.is_active("reference") && g.is_active("poles"));
+        assert!(!g.is_active("nonsense"));
+    }
+
+    #[test]
+    fn a_bad_sample_time_is_the_sample_time_field_error() {
+        for bad in ["-0.001", "0", "1 kHz", "0.001 0.002"] {
+            let mut f = axis_v2();
+            f.sample_time = bad.into();
+            let out = evaluate_form(&f);
+            let msg = only_error(&out, "sample_time");
+            assert!(!msg.is_empty(), "{bad}");
+            assert_eq!(f.sample_time, bad, "the text is the caller's and stays");
+        }
+        let mut f = axis_v2();
+        f.sample_time = "-1".into();
+        assert!(only_error(&evaluate_form(&f), "sample_time").contains("positive"));
+        f.sample_time = "0.001".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?}", out.errors);
+        let d = out.design.unwrap();
+        assert_eq!(d.domain, "discrete");
+        assert!(d.closed_loop.is_some(), "a digital design is simulated in the loop");
+        assert!(d.feedback.achieved_poles.iter().all(|p| p[0].hypot(p[1]) < 1.0));
+    }
+
+    #[test]
+    fn an_observer_without_c_is_an_error_of_the_observer_choice() {
+        let mut f = axis_v2();
+        f.c = String::new();
+        f.output_names = String::new();
+        f.output_units = String::new();
+        f.observer = "speed_factor".into();
+        let msg = only_error(&evaluate_form(&f), "observer");
+        assert!(msg.contains("output matrix C"), "{msg}");
+        // With C the observer designs; L is states × outputs, labelled and exact.
+        let mut f = axis_v2();
+        f.observer = "speed_factor".into();
+        f.observer_speed = "4".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let d = out.design.as_ref().unwrap();
+        let c = out.report.as_ref().unwrap().controller.as_ref().unwrap();
+        let o = c.observer.as_ref().unwrap();
+        assert_eq!(o.gain.row_labels.len(), 4);
+        assert_eq!(o.gain.column_labels, ["head position (m)"]);
+        for (row, want) in o.gain.entries.iter().zip(&d.observer.as_ref().unwrap().gain) {
+            assert_eq!(row[0].parse::<f64>().unwrap(), want[0]);
+        }
+        assert!(o.noise.contains("‖K L‖₂"), "{}", o.noise);
+        assert_eq!(o.poles.len(), 4);
+        assert!(o.poles.iter().all(|p| p.error.parse::<f64>().is_ok_and(|e| e < 1e-9)), "{:?}", o.poles);
+        let scene = pole_map_scene(d);
+        assert_eq!(scene.observer.len(), 4);
+        assert!(!scene.discrete);
+        let est = estimation_scene(d, out.report.as_ref().unwrap()).unwrap();
+        assert_eq!(est.series.len(), 4);
+    }
+
+    #[test]
+    fn observer_fields_are_checked_one_by_one() {
+        let mut f = axis_v2();
+        f.observer = "poles".into();
+        assert!(only_error(&evaluate_form(&f), "observer_poles").starts_with("required"));
+        f.observer_poles = "-40, -50, x".into();
+        only_error(&evaluate_form(&f), "observer_poles");
+        f.observer_poles = "-40, -50, -60".into();
+        assert!(only_error(&evaluate_form(&f), "observer_poles").contains("3 poles given but the plant has 4 states"));
+        f.observer_poles = "-40±30j, -50, -60".into();
+        assert_eq!(evaluate_form(&f).status, FormStatus::Designed);
+        f.observer_form = "current".into();
+        assert!(only_error(&evaluate_form(&f), "observer_form").contains("sample time"));
+        f.sample_time = "0.001".into();
+        f.observer_poles = "0.9, 0.91, 0.92, 0.93".into();
+        f.plane = "z".into();
+        f.poles = "0.98, 0.985, 0.99, 0.995".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let o = out.design.as_ref().unwrap().observer.as_ref().unwrap();
+        assert_eq!(o.form, "current");
+        assert!(o.current_gain.is_some());
+        let c = out.report.unwrap().controller.unwrap();
+        assert!(c.observer.unwrap().current_gain.is_some());
+        assert!(c.law.iter().any(|l| l.contains("L_c")), "{:?}", c.law);
+        let mut g = axis_v2();
+        g.observer = "speed_factor".into();
+        g.observer_speed = "-2".into();
+        only_error(&evaluate_form(&g), "observer_speed");
+        g.observer_speed = "1.5".into();
+        let out = evaluate_form(&g);
+        assert!(out.report.unwrap().warnings.iter().any(|w| w.contains("2–6 times faster than the controller (common practice)")));
+        g.observer = "magic".into();
+        only_error(&evaluate_form(&g), "observer");
+    }
+
+    #[test]
+    fn integral_action_with_the_wrong_pole_count() {
+        let mut f = axis_v2();
+        f.tracking = "integral".into();
+        f.integral_poles = "-10, -11".into();
+        let msg = only_error(&evaluate_form(&f), "integral_poles");
+        assert!(msg.contains("2 poles given but 1 output is tracked"), "{msg}");
+        // Without integrator poles the desired poles need one more: the engine's message, on poles.
+        f.integral_poles = String::new();
+        let msg = only_error(&evaluate_form(&f), "poles");
+        assert!(msg.contains("integrators") && msg.contains('5'), "{msg}");
+        f.poles = "-12±9j, -20±30j, -10".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        f.poles = "-12±9j, -20±30j".into();
+        f.integral_poles = "-10".into();
+        let again = evaluate_form(&f);
+        assert_eq!(again.design.as_ref().unwrap().feedback.gain, out.design.as_ref().unwrap().feedback.gain);
+        let c = again.report.unwrap().controller.unwrap();
+        assert_eq!(c.tracking.len(), 1);
+        assert_eq!(c.tracking[0].symbol, "K_i");
+        assert_eq!(c.loop_outputs.len(), 1);
+        assert!(c.loop_outputs[0].rise_time.ends_with(" s"), "{:?}", c.loop_outputs[0]);
+        // Anti-windup.
+        f.anti_windup = "back_calculation".into();
+        assert!(only_error(&evaluate_form(&f), "anti_windup_time").starts_with("required"));
+        f.anti_windup_time = "0".into();
+        only_error(&evaluate_form(&f), "anti_windup_time");
+        f.anti_windup_time = "0.05".into();
+        assert_eq!(evaluate_form(&f).status, FormStatus::Designed);
+    }
+
+    #[test]
+    fn tracking_fields_name_outputs_and_count_them() {
+        let mut f = axis_v2();
+        f.tracking = "feedforward".into();
+        f.tracked_outputs = "carriage".into();
+        let msg = only_error(&evaluate_form(&f), "tracked_outputs");
+        assert!(msg.contains("no output is named \"carriage\"") && msg.contains("head position"), "{msg}");
+        f.tracked_outputs = "1".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let c = out.report.unwrap().controller.unwrap();
+        let symbols: Vec<&str> = c.tracking.iter().map(|m| m.symbol.as_str()).collect();
+        assert_eq!(symbols, ["N_x", "N_u"]);
+        f.tracked_outputs = "head position, 1".into();
+        assert!(only_error(&evaluate_form(&f), "tracked_outputs").contains("listed twice"));
+        // Feedforward needs as many tracked outputs as inputs.
+        f.c = "0 0 1 0\n1 0 0 0".into();
+        f.output_names = "head, carriage".into();
+        f.output_units = String::new();
+        f.tracked_outputs = String::new();
+        assert!(only_error(&evaluate_form(&f), "tracked_outputs").contains("exactly as many tracked outputs as inputs"));
+        f.tracking = "integral".into();
+        assert!(only_error(&evaluate_form(&f), "tracked_outputs").contains("at most as many"));
+        f.reference = "0.01".into();
+        f.tracked_outputs = "head".into();
+        f.integral_poles = "-10".into();
+        assert_eq!(evaluate_form(&f).status, FormStatus::Designed);
+        f.reference = "0.01, 0.02".into();
+        assert!(only_error(&evaluate_form(&f), "reference").contains("one per tracked output"));
+        let mut g = axis_v2();
+        g.c = String::new();
+        g.output_names = String::new();
+        g.output_units = String::new();
+        g.tracking = "integral".into();
+        assert!(only_error(&evaluate_form(&g), "tracking").contains("output matrix C"));
+    }
+
+    #[test]
+    fn digital_fields_need_a_sample_time_and_the_right_counts() {
+        let mut f = axis_v2();
+        f.plane = "z".into();
+        assert!(only_error(&evaluate_form(&f), "plane").contains("sample time"));
+        let mut f = axis_v2();
+        f.computation_delay = "true".into();
+        assert!(only_error(&evaluate_form(&f), "computation_delay").contains("sample time"));
+        f.sample_time = "0.001".into();
+        f.delay_poles = "0, 0".into();
+        assert!(only_error(&evaluate_form(&f), "delay_poles").contains("1 input"));
+        f.delay_poles = "0.1".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let d = out.design.as_ref().unwrap();
+        assert!(d.feedback.delay_gain.is_some());
+        assert_eq!(d.feedback.achieved_poles.len(), 5, "plant poles and the delay pole");
+        let r = out.report.unwrap();
+        let c = r.controller.unwrap();
+        assert!(c.delay_gain.is_some());
+        assert!(c.domain.contains("computation delay") && c.domain.contains("0.1"), "{}", c.domain);
+        assert!(c.law[0].contains("K_u u[k−1]"), "{:?}", c.law);
+        assert!(r.poles.iter().all(|p| p.character.starts_with("|z| = ")), "{:?}", r.poles);
+        f.computation_delay = "maybe".into();
+        only_error(&evaluate_form(&f), "computation_delay");
+    }
+
+    #[test]
+    fn noise_without_a_sample_time_is_the_noise_field_error() {
+        let mut f = axis_v2();
+        f.observer = "speed_factor".into();
+        f.noise_std = "1e-6".into();
+        let msg = only_error(&evaluate_form(&f), "noise_std");
+        assert!(msg.contains("digital controller"), "{msg}");
+        f.sample_time = "0.001".into();
+        f.seed = "7".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let l = out.design.as_ref().unwrap().closed_loop.as_ref().unwrap();
+        assert!(l.measured[0].iter().zip(&l.outputs[0]).any(|(m, y)| m != y), "noise reaches the measurement");
+        assert!(out.report.unwrap().controller.unwrap().loop_summary.unwrap().contains("seed 7"));
+        f.noise_std = "1e-6, 1e-6".into();
+        assert!(only_error(&evaluate_form(&f), "noise_std").contains("1 output"));
+        f.noise_std = "-1".into();
+        assert!(only_error(&evaluate_form(&f), "noise_std").contains("negative"));
+        f.noise_std = "1e-6".into();
+        f.seed = "1.5".into();
+        only_error(&evaluate_form(&f), "seed");
+        f.seed = String::new();
+        f.c = String::new();
+        f.output_names = String::new();
+        f.output_units = String::new();
+        f.observer = "none".into();
+        assert!(only_error(&evaluate_form(&f), "noise_std").contains("output matrix C"));
+    }
+
+    #[test]
+    fn load_steps_and_step_times() {
+        let mut f = axis_v2();
+        f.disturbance = "5".into();
+        assert!(only_error(&evaluate_form(&f), "disturbance").contains("simulated in the loop"));
+        f.sample_time = "0.001".into();
+        f.disturbance = "5, 5".into();
+        assert!(only_error(&evaluate_form(&f), "disturbance").contains("1 input"));
+        f.disturbance = "5".into();
+        f.disturbance_time = "-1".into();
+        only_error(&evaluate_form(&f), "disturbance_time");
+        f.disturbance_time = "0.3".into();
+        f.initial_state = "0 0 0 0".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let r = out.report.unwrap();
+        let c = r.controller.as_ref().unwrap();
+        assert_eq!(c.events, vec![EventLine { time: 0.3, label: "load step".into() }]);
+        assert!(c.loop_summary.as_ref().unwrap().contains("load step of 5 on"), "{:?}", c.loop_summary);
+        let d = out.design.unwrap();
+        let scene = loop_inputs_scene(&d, &r).unwrap();
+        assert_eq!(scene.series.len(), 2, "applied and commanded");
+        assert_eq!(scene.series[1].dash, Some(1));
+        assert_eq!(scene.limits.len(), 2);
+        assert!(estimation_scene(&d, &r).is_none(), "no observer, no estimation error");
+        let outputs = loop_outputs_scene(&d, &r).unwrap();
+        assert_eq!(outputs.series.len(), 1, "one output, no reference");
+        let mut g = axis_v2();
+        g.tracking = "integral".into();
+        g.integral_poles = "-10".into();
+        g.reference_time = "later".into();
+        only_error(&evaluate_form(&g), "reference_time");
+    }
+
+    #[test]
+    fn output_names_need_c_and_the_right_count() {
+        let mut f = axis_v2();
+        f.output_names = "a, b".into();
+        assert!(only_error(&evaluate_form(&f), "output_names").contains("2 names given but the plant has 1 output"));
+        f.output_names = String::new();
+        f.output_units = "m, m".into();
+        only_error(&evaluate_form(&f), "output_units");
+        f.c = String::new();
+        f.output_units = String::new();
+        f.output_names = "head".into();
+        only_error(&evaluate_form(&f), "output_names");
+    }
+
+    #[test]
+    fn digital_simulations_have_a_length_limit() {
+        let mut f = axis_v2();
+        f.sample_time = "1e-9".into();
+        assert!(only_error(&evaluate_form(&f), "sample_time").contains("at most 50000 samples"));
+        f.sample_time = "0.001".into();
+        f.duration = "100".into();
+        assert!(only_error(&evaluate_form(&f), "duration").contains("100000 samples"));
+        f.duration = String::new();
+        f.tracking = "integral".into();
+        f.integral_poles = "-10".into();
+        f.reference_time = "1e20".into();
+        only_error(&evaluate_form(&f), "reference_time");
+        f.reference_time = "2".into();
+        f.duration = "1".into();
+        assert!(only_error(&evaluate_form(&f), "reference_time").contains("after the end"));
+        f.reference_time = "0.5".into();
+        assert_eq!(evaluate_form(&f).status, FormStatus::Designed);
+    }
+
+    #[test]
+    fn z_plane_pole_characters() {
+        let t = 0.001;
+        let s = z_to_s(Complex64::new(0.99, 0.0), t).unwrap();
+        assert!((s.re - 0.99f64.ln() / t).abs() < 1e-9 && s.im == 0.0);
+        let s = z_to_s(Complex64::new(-0.5, 0.0), t).unwrap();
+        assert!((s.im - std::f64::consts::PI / t).abs() < 1e-6, "{s}");
+        assert!(z_to_s(Complex64::new(0.0, 0.0), t).is_none());
+        assert!(z_to_s(Complex64::new(0.5, 0.0), 0.0).is_none());
+        assert!(z_to_s(Complex64::new(f64::NAN, 0.0), t).is_none());
+        // z = e^{sT} read back.
+        let s0 = Complex64::new(-20.0, 30.0);
+        let z = (s0 * t).exp();
+        assert!((z_to_s(z, t).unwrap() - s0).norm() < 1e-9);
+        assert!(z_pole_character(z, t).contains("damping ratio 0.5547"), "{}", z_pole_character(z, t));
+        assert!(z_pole_character(Complex64::new(0.0, 0.0), t).contains("z = 0"));
+    }
+
+    #[test]
+    fn the_same_form_gives_the_same_report() {
+        // The page skips rebuilding what did not change: that relies on evaluations of the
+        // same text being identical.
+        let mut f = axis_v2();
+        f.observer = "speed_factor".into();
+        let (one, two) = (evaluate_form(&f), evaluate_form(&f));
+        assert_eq!(one.report, two.report);
+        f.sample_time = "0.001".into();
+        f.tracking = "integral".into();
+        f.integral_poles = "-10".into();
+        let (one, two) = (evaluate_form(&f), evaluate_form(&f));
+        assert!(one.report.is_some());
+        assert_eq!(one.report, two.report);
+    }
+
+    #[test]
+    fn hostile_text_in_the_version_2_fields_never_panics() {
+        let samples = ["", "x", "-1", "0", "1e999", "nan", "±", "1, 2, 3", "[1]", "\u{feff}", "true", "z", "current", "integral", "poles", "speed_factor", "back_calculation", "-1±2j", "head position", "99999999999999999999", "1e-300"];
+        // An observer and integral action, continuous and digital (1 kHz).
+        let mut continuous = axis_v2();
+        continuous.observer = "speed_factor".into();
+        continuous.tracking = "integral".into();
+        continuous.integral_poles = "-10".into();
+        let mut digital = continuous.clone();
+        digital.sample_time = "0.001".into();
+        let v2 = [
+            "observer", "observer_poles", "observer_speed", "observer_form", "tracking", "tracked_outputs", "integral_poles", "anti_windup", "anti_windup_time", "sample_time", "computation_delay",
+            "delay_poles", "plane", "reference", "reference_time", "disturbance", "disturbance_time", "noise_std", "seed", "output_names", "output_units", "duration",
+        ];
+        // The continuous loop is slow to simulate: there, only the fields that set times and speeds.
+        let timing = ["observer_speed", "observer_poles", "integral_poles", "anti_windup", "anti_windup_time", "reference_time", "disturbance_time", "duration"];
+        for (base, keys) in [(&continuous, &timing[..]), (&digital, &v2[..])] {
+            for &key in keys {
+                for text in samples {
+                    let mut f = base.clone();
+                    f.set(key, text);
+                    let out = evaluate_form(&f);
+                    match out.status {
+                        FormStatus::Designed => assert!(out.report.is_some() && out.errors.is_empty()),
+                        FormStatus::Invalid => assert!(!out.errors.is_empty()),
+                        FormStatus::Infeasible => assert!(out.design_error.is_some()),
+                    }
+                    for e in &out.errors {
+                        assert!(FormInput::FIELDS.contains(&e.field), "{key}={text:?}: {e:?}");
+                    }
+                }
+            }
+        }
     }
 
     #[test]

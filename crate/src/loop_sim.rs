@@ -35,6 +35,9 @@ use nalgebra::{DMatrix, DVector};
 use crate::controller::{small_pseudo_inverse, AntiWindup, ObserverForm};
 use crate::linalg::expm::{try_expm, try_zero_order_hold, ExpmError};
 
+/// Largest number of samples a digital loop simulation may take.
+pub const MAX_SAMPLES: usize = 2_000_000;
+
 /// The reference-tracking part of the control law.
 #[derive(Debug, Clone)]
 pub enum TrackingLaw {
@@ -100,6 +103,8 @@ pub struct LoopScenario {
 pub enum LoopError {
     Size { what: &'static str, expected: usize, found: usize },
     BadTime { what: &'static str, value: f64 },
+    /// More samples than [`MAX_SAMPLES`].
+    TooManySamples { samples: f64 },
     NoiseNeedsDigital,
     Expm(ExpmError),
 }
@@ -109,6 +114,7 @@ impl std::fmt::Display for LoopError {
         match self {
             LoopError::Size { what, expected, found } => write!(f, "{what}: {found} values given but {expected} are needed"),
             LoopError::BadTime { what, value } => write!(f, "{what} {value} must be a positive, finite number of seconds"),
+            LoopError::TooManySamples { samples } => write!(f, "the simulation would need {samples:.0} samples (at most {MAX_SAMPLES}); shorten the duration or lengthen the sample time"),
             LoopError::NoiseNeedsDigital => write!(f, "measurement noise is simulated with a digital controller: give the implementation a sample time"),
             LoopError::Expm(e) => write!(f, "loop simulation failed: {e}"),
         }
@@ -310,7 +316,11 @@ fn digital(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatr
     let m = gamma.ncols();
     let p = c.nrows();
     let q = ctrl.tracked_outputs.len();
-    let steps = ((sc.duration / t).round() as usize).max(1);
+    let wanted = (sc.duration / t).round();
+    if !(wanted <= MAX_SAMPLES as f64) {
+        return Err(LoopError::TooManySamples { samples: wanted });
+    }
+    let steps = (wanted as usize).max(1);
     let limits: Vec<Option<f64>> = if sc.limits.is_empty() { vec![None; m] } else { sc.limits.clone() };
     let (ki, aw) = match &ctrl.tracking {
         TrackingLaw::Integral { ki, anti_windup } => (Some(ki.clone()), *anti_windup),
@@ -701,6 +711,24 @@ mod tests {
         sc.noise = Noise::None;
         sc.x0 = DVector::zeros(3);
         assert!(matches!(simulate_loop(&a, &b, &c, &d, &ctrl, &sc), Err(LoopError::Size { .. })));
+    }
+
+    #[test]
+    fn absurd_sample_counts_are_refused() {
+        let (a, b, c, d) = double_integrator();
+        let ctrl = LoopController {
+            k: DMatrix::from_row_slice(1, 2, &[6.0, 5.0]),
+            k_delay: None,
+            observer: None,
+            observer_form: ObserverForm::Predictor,
+            current_gain: None,
+            tracking: TrackingLaw::None,
+            tracked_outputs: vec![],
+            sample_time: Some(1e-300),
+        };
+        let mut sc = scenario(1.0);
+        sc.reference = vec![];
+        assert!(matches!(simulate_loop(&a, &b, &c, &d, &ctrl, &sc), Err(LoopError::TooManySamples { .. }) | Err(LoopError::Expm(_))));
     }
 
     #[test]

@@ -25,6 +25,12 @@
 //!   both the real and imaginary axes always visible, the imaginary range
 //!   symmetric about the real axis (real systems have conjugate pairs), all
 //!   finite points inside with padding, optionally the unit circle.
+//!   [`Frame::complex_region`] fits the poles alone (a zoomed map: the origin may be
+//!   out of view), still at equal scale.
+//! * [`simplify_polyline`] / [`Simplifier`] reduce a signal's pixel polyline to what the
+//!   pixels show: at most four points per pixel column (first, lowest, highest, last),
+//!   then a corridor test that drops points within a tolerance of the line between the
+//!   points kept around them; `O(n)`.
 //! * [`hit_test`] finds the marker nearest to a pointer within a pixel radius.
 //! * [`PoleMapScene`] and [`TimePlotScene`] are the plain serde descriptions the
 //!   painter draws; their layout (`frame`, `pick`) lives here so it is tested
@@ -811,6 +817,175 @@ impl Frame {
     }
 }
 
+impl Frame {
+    /// Aspect-preserving frame around `points` alone (a zoomed pole map): equal scale on
+    /// both axes, every finite point inside with `padding` (fraction of the larger extent,
+    /// clamped to `[0, 1]`). Coincident points get a neighbourhood relative to their
+    /// magnitude. Non-finite points are ignored; with none left it is the unit square
+    /// around the origin.
+    pub fn complex_region(outer: Rect, margins: Margins, points: &[[f64; 2]], padding: f64) -> Frame {
+        let plot = outer.inset(margins);
+        let finite: Vec<[f64; 2]> = points
+            .iter()
+            .filter(|p| p[0].is_finite() && p[1].is_finite())
+            .map(|p| [p[0].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE), p[1].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE)])
+            .collect();
+        let re = Range::from_values(finite.iter().map(|p| p[0])).unwrap_or(Range { min: -1.0, max: 1.0 });
+        let im = Range::from_values(finite.iter().map(|p| p[1])).unwrap_or(Range { min: -1.0, max: 1.0 });
+        let magnitude = re.magnitude().max(im.magnitude());
+        let extent = re.span().max(im.span()).max(magnitude * 1e-6).max(MIN_SPAN * 1e3);
+        let pad = extent * if padding.is_finite() { padding.clamp(0.0, 1.0) } else { 0.0 };
+        // Centre each direction on its data with at least `extent` of room.
+        let around = |r: Range| {
+            let half = r.span().max(extent) / 2.0 + pad;
+            Range { min: r.center() - half, max: r.center() + half }
+        };
+        let (re, im) = (around(re), around(im));
+        let upp = (re.span() / plot.width).max(im.span() / plot.height);
+        let re = re.with_min_span(upp * plot.width);
+        let im = im.with_min_span(upp * plot.height);
+        Frame {
+            plot,
+            x: Axis::new(re, plot.x, plot.right()),
+            y: Axis::new(im, plot.bottom(), plot.y),
+        }
+    }
+}
+
+/// Simplifies a signal's polyline in pixels for drawing, in `O(n)`:
+///
+/// 1. at most four points per pixel column — the first, lowest, highest and last, in
+///    their order — so that each column's ink is unchanged however dense the samples;
+/// 2. then, while `x` increases, a point is dropped when the straight line between the
+///    points kept around it passes within `tolerance` pixels (vertically) of it and of
+///    every other point it replaces (a corridor of slopes narrowed point by point).
+///
+/// The first and last points are always kept; where `x` does not increase nothing is
+/// dropped. Points must be finite (split a line at its gaps first). See [`Simplifier`]
+/// for the same without collecting the input first.
+pub fn simplify_polyline(points: &[[f64; 2]], tolerance: f64) -> Vec<[f64; 2]> {
+    let mut s = Simplifier::new(tolerance);
+    for p in points {
+        s.push(*p);
+    }
+    s.finish()
+}
+
+/// A pixel column being binned: its x (floored) and its first, lowest, highest and last
+/// points, each with its position in the input.
+type ColumnBin = (f64, [(usize, [f64; 2]); 4]);
+
+/// The streaming form of [`simplify_polyline`]: push the points one by one, then
+/// [`Simplifier::finish`] returns the kept ones.
+#[derive(Debug, Clone)]
+pub struct Simplifier {
+    tolerance: f64,
+    /// The pixel column being binned: its first, lowest, highest and last points with
+    /// their positions in the input (to keep their order).
+    column: Option<ColumnBin>,
+    seen: usize,
+    /// Stage 2: the last kept point, the last point accepted after it, and the corridor.
+    anchor: Option<[f64; 2]>,
+    prev: [f64; 2],
+    lo: f64,
+    hi: f64,
+    out: Vec<[f64; 2]>,
+}
+
+impl Simplifier {
+    pub fn new(tolerance: f64) -> Simplifier {
+        Simplifier { tolerance, column: None, seen: 0, anchor: None, prev: [0.0, 0.0], lo: f64::NEG_INFINITY, hi: f64::INFINITY, out: Vec::new() }
+    }
+
+    pub fn push(&mut self, p: [f64; 2]) {
+        let k = self.seen;
+        self.seen += 1;
+        let col = p[0].floor();
+        match &mut self.column {
+            Some((c, bin)) if *c == col => {
+                if p[1] < bin[1].1[1] {
+                    bin[1] = (k, p);
+                }
+                if p[1] > bin[2].1[1] {
+                    bin[2] = (k, p);
+                }
+                bin[3] = (k, p);
+            }
+            _ => {
+                self.flush_column();
+                self.column = Some((col, [(k, p); 4]));
+            }
+        }
+    }
+
+    fn flush_column(&mut self) {
+        if let Some((_, mut bin)) = self.column.take() {
+            bin.sort_by_key(|(k, _)| *k);
+            let mut last = usize::MAX;
+            for (k, p) in bin {
+                if k != last {
+                    self.corridor(p);
+                    last = k;
+                }
+            }
+        }
+    }
+
+    /// Stage 2 for one point.
+    fn corridor(&mut self, p: [f64; 2]) {
+        let Some(mut anchor) = self.anchor else {
+            self.out.push(p);
+            self.anchor = Some(p);
+            self.prev = p;
+            return;
+        };
+        if !(self.tolerance > 0.0) {
+            self.out.push(p);
+            self.prev = p;
+            return;
+        }
+        loop {
+            let dx = p[0] - anchor[0];
+            if dx <= 0.0 {
+                // x does not increase: keep the point and start again from it.
+                if self.prev != anchor {
+                    self.out.push(self.prev);
+                }
+                self.out.push(p);
+                self.anchor = Some(p);
+                self.prev = p;
+                self.lo = f64::NEG_INFINITY;
+                self.hi = f64::INFINITY;
+                return;
+            }
+            let slope = (p[1] - anchor[1]) / dx;
+            if slope >= self.lo && slope <= self.hi {
+                // The line anchor → p passes every replaced point: p may end the segment.
+                self.lo = self.lo.max((p[1] - self.tolerance - anchor[1]) / dx);
+                self.hi = self.hi.min((p[1] + self.tolerance - anchor[1]) / dx);
+                self.prev = p;
+                return;
+            }
+            // p is outside: the previous point ends the segment and anchors the next
+            // (from which p is always inside, so this runs at most twice).
+            self.out.push(self.prev);
+            anchor = self.prev;
+            self.anchor = Some(anchor);
+            self.lo = f64::NEG_INFINITY;
+            self.hi = f64::INFINITY;
+        }
+    }
+
+    /// The kept points, in order.
+    pub fn finish(mut self) -> Vec<[f64; 2]> {
+        self.flush_column();
+        if self.anchor.is_some() && self.out.last() != Some(&self.prev) {
+            self.out.push(self.prev);
+        }
+        self.out
+    }
+}
+
 /// Index of the marker nearest to `pointer` within `radius` pixels (distance
 /// `<= radius`); ties go to the lowest index. Markers and pointer are in
 /// pixels; non-finite markers are skipped; a non-finite pointer or a negative
@@ -849,14 +1024,18 @@ pub const HIT_RADIUS_PX: f64 = 8.0;
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(default, deny_unknown_fields)]
 pub struct PoleMapScene {
-    /// Poles of the plant `A`.
+    /// Poles of the plant `A` (or of `Φ` for a digital design).
     pub open_loop: Vec<[f64; 2]>,
     /// Poles of `A - B K`.
     pub closed_loop: Vec<[f64; 2]>,
     /// Closed-loop poles the design could not move (uncontrollable modes).
     pub not_assigned: Vec<[f64; 2]>,
+    /// Poles of the observer `A − L C` (`Φ − L C`).
+    pub observer: Vec<[f64; 2]>,
     /// Discrete-time map: the stable region is the unit disc, not the left half-plane.
     pub discrete: bool,
+    /// Fit the view to the poles alone (the origin and the unit circle may be out of view).
+    pub fit_poles: bool,
     /// A point to ring (the pole chosen by keyboard or pointer), if any.
     pub highlight: Option<[f64; 2]>,
 }
@@ -868,6 +1047,7 @@ pub enum PoleSet {
     OpenLoop,
     ClosedLoop,
     NotAssigned,
+    Observer,
 }
 
 /// A picked marker.
@@ -882,16 +1062,17 @@ pub struct PolePick {
 impl PoleMapScene {
     /// Field names, for front ends that must reject unknown keys themselves.
     pub const FIELDS: &'static [&'static str] =
-        &["open_loop", "closed_loop", "not_assigned", "discrete", "highlight"];
+        &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight"];
 
-    /// Every finite marker in keyboard order: closed-loop poles, then requested
-    /// poles that could not be assigned, then open-loop poles; within each set
+    /// Every finite marker in keyboard order: closed-loop poles, observer poles, then
+    /// requested poles that could not be assigned, then open-loop poles; within each set
     /// by increasing real part, then decreasing imaginary part. `index` is the
     /// position in the scene's own list.
     pub fn markers(&self) -> Vec<PolePick> {
         let mut out = Vec::new();
         for (set, pts) in [
             (PoleSet::ClosedLoop, &self.closed_loop),
+            (PoleSet::Observer, &self.observer),
             (PoleSet::NotAssigned, &self.not_assigned),
             (PoleSet::OpenLoop, &self.open_loop),
         ] {
@@ -913,10 +1094,11 @@ impl PoleMapScene {
     }
 
     /// The lists in drawing order (bottom first) with their set tag.
-    pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 3] {
+    pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 4] {
         [
             (PoleSet::OpenLoop, &self.open_loop),
             (PoleSet::NotAssigned, &self.not_assigned),
+            (PoleSet::Observer, &self.observer),
             (PoleSet::ClosedLoop, &self.closed_loop),
         ]
     }
@@ -928,6 +1110,9 @@ impl PoleMapScene {
             .iter()
             .flat_map(|(_, pts)| pts.iter().copied())
             .collect();
+        if self.fit_poles && all.iter().any(|p| p[0].is_finite() && p[1].is_finite()) {
+            return Frame::complex_region(outer, Margins::STANDARD, &all, POLE_MAP_PADDING);
+        }
         Frame::complex_plane(
             outer,
             Margins::STANDARD,
@@ -935,6 +1120,16 @@ impl PoleMapScene {
             self.discrete,
             POLE_MAP_PADDING,
         )
+    }
+
+    /// The unit circle in pixels (`[centre x, centre y, radius]`) for a discrete map.
+    pub fn unit_circle(&self, outer: Rect) -> Option<[f64; 3]> {
+        if !self.discrete {
+            return None;
+        }
+        let f = self.frame(outer);
+        let c = f.to_pixel([0.0, 0.0]);
+        Some([c[0], c[1], f.x.scale().abs()])
     }
 
     /// The marker under `pointer` (pixels) within [`HIT_RADIUS_PX`]; the top
@@ -966,6 +1161,18 @@ pub struct Series {
     pub name: String,
     /// Samples at `TimePlotScene::t`; extra samples beyond `t` are ignored.
     pub values: Vec<f64>,
+    /// Palette slot (default: the series' position), so that related signals share a colour.
+    pub colour: Option<usize>,
+    /// Dash pattern slot: 0 solid, 1 dashed, 2 dotted, 3 dash-dot (default: from the position).
+    pub dash: Option<usize>,
+}
+
+/// A vertical marker at a moment of interest (a reference or load step).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct EventLine {
+    pub time: f64,
+    pub label: String,
 }
 
 /// A horizontal limit line (e.g. an actuator limit).
@@ -994,6 +1201,8 @@ pub struct TimePlotScene {
     pub series: Vec<Series>,
     pub limits: Vec<LimitLine>,
     pub band: Option<Band>,
+    /// Vertical markers (drawn when inside the time range).
+    pub events: Vec<EventLine>,
     pub x_label: String,
     pub y_label: String,
 }
@@ -1004,7 +1213,7 @@ pub const TIME_PLOT_PADDING: f64 = 0.06;
 impl TimePlotScene {
     /// Field names, for front ends that must reject unknown keys themselves.
     pub const FIELDS: &'static [&'static str] =
-        &["t", "series", "limits", "band", "x_label", "y_label"];
+        &["t", "series", "limits", "band", "events", "x_label", "y_label"];
 
     /// Samples of series `i` paired with their times (`[t, y]`), truncated to
     /// the shorter of the two; non-finite samples are kept (they break lines).
@@ -1671,6 +1880,118 @@ mod tests {
         );
     }
 
+    /// Vertical distance from `q` to the polyline `line` at `q`'s x (x increasing).
+    fn vertical_gap(line: &[[f64; 2]], q: [f64; 2]) -> f64 {
+        for w in line.windows(2) {
+            let (a, b) = (w[0], w[1]);
+            if q[0] >= a[0] && q[0] <= b[0] {
+                let y = if b[0] > a[0] { a[1] + (b[1] - a[1]) * (q[0] - a[0]) / (b[0] - a[0]) } else { a[1] };
+                return (q[1] - y).abs();
+            }
+        }
+        f64::INFINITY
+    }
+
+    #[test]
+    fn simplified_lines_stay_within_the_tolerance() {
+        // A decaying oscillation, 2000 samples over 1000 px: every sample stays within
+        // the tolerance of the simplified line, which is much shorter.
+        for &(n, width) in &[(2000usize, 1000.0f64), (600, 900.0), (5000, 300.0)] {
+            let pts: Vec<[f64; 2]> = (0..n)
+                .map(|i| {
+                    let t = i as f64 / (n - 1) as f64;
+                    [10.0 + width * t, 150.0 + 120.0 * (-3.0 * t).exp() * (25.0 * t).cos()]
+                })
+                .collect();
+            let tol = 0.2;
+            let out = simplify_polyline(&pts, tol);
+            assert_eq!(out.first(), pts.first());
+            assert_eq!(out.last(), pts.last());
+            assert!(out.len() * 4 < pts.len(), "{n}: {} of {} kept", out.len(), pts.len());
+            // Beyond one pixel column per sample, the column bins decide; check the corridor
+            // where samples are at least a pixel apart.
+            if width / n as f64 >= 1.0 {
+                for q in &pts {
+                    let gap = vertical_gap(&out, *q);
+                    assert!(gap <= tol + 1e-9, "{n}: {q:?} is {gap} px off");
+                }
+            }
+            // Every kept point is an original sample, in order.
+            let mut k = 0;
+            for q in &out {
+                while k < pts.len() && pts[k] != *q {
+                    k += 1;
+                }
+                assert!(k < pts.len(), "{q:?} is not a sample (or out of order)");
+            }
+        }
+    }
+
+    #[test]
+    fn simplification_keeps_each_columns_extremes_and_odd_input() {
+        // Ten samples in one pixel column with a spike: first, lowest, highest and last stay.
+        let col: Vec<[f64; 2]> = (0..10).map(|i| [5.0 + 0.05 * i as f64, if i == 4 { 90.0 } else if i == 6 { -20.0 } else { 10.0 }]).collect();
+        let out = simplify_polyline(&col, 0.0);
+        assert_eq!(out, vec![col[0], col[4], col[6], col[9]]);
+        // Too short to simplify, a straight line, and x going backwards.
+        assert_eq!(simplify_polyline(&[[0.0, 0.0], [1.0, 1.0]], 0.2).len(), 2);
+        let line: Vec<[f64; 2]> = (0..100).map(|i| [i as f64 * 3.0, i as f64 * 2.0]).collect();
+        assert_eq!(simplify_polyline(&line, 0.2), vec![line[0], line[99]]);
+        let back = [[0.0, 0.0], [10.0, 5.0], [4.0, 9.0], [20.0, 1.0]];
+        let out = simplify_polyline(&back, 0.2);
+        assert_eq!(out.len(), 4, "{out:?}");
+        assert!(simplify_polyline(&[], 1.0).is_empty());
+    }
+
+    #[test]
+    fn zoomed_pole_maps_fit_the_poles_at_equal_scale() {
+        let pts = [[0.98, 0.03], [0.98, -0.03], [0.99, 0.0], [f64::NAN, 1.0]];
+        let outer = Rect::sized(560.0, 440.0);
+        let f = Frame::complex_region(outer, Margins::STANDARD, &pts, POLE_MAP_PADDING);
+        for p in &pts[..3] {
+            let q = f.to_pixel(*p);
+            assert!(f.plot.contains(q), "{p:?} at {q:?}");
+        }
+        assert!((f.x.scale().abs() - f.y.scale().abs()).abs() < 1e-9 * f.x.scale().abs());
+        assert!(!f.x.range.contains(0.0), "the origin is not forced into view");
+        assert!(f.x.range.span() < 0.2, "{:?}", f.x.range);
+        // One point, or none: still a drawable frame.
+        let one = Frame::complex_region(outer, Margins::STANDARD, &[[5.0, 0.0]], 0.1);
+        assert!(one.x.range.span() > 0.0 && one.x.range.contains(5.0));
+        let none = Frame::complex_region(outer, Margins::STANDARD, &[], 0.1);
+        assert!(none.x.range.contains(0.0));
+        // The scene switches to it with fit_poles, and keeps the unit circle otherwise.
+        let scene = PoleMapScene { closed_loop: pts[..3].to_vec(), discrete: true, ..Default::default() };
+        let full = scene.frame(outer);
+        assert!(full.x.range.contains(-1.0) && full.x.range.contains(1.0));
+        let [cx, cy, r] = scene.unit_circle(outer).unwrap();
+        assert!((full.to_pixel([1.0, 0.0])[0] - (cx + r)).abs() < 1e-9 && (cy - full.to_pixel([0.0, 0.0])[1]).abs() < 1e-9);
+        let zoomed = PoleMapScene { fit_poles: true, ..scene.clone() };
+        assert!(zoomed.frame(outer).x.range.span() < 0.2);
+        assert!(PoleMapScene::default().unit_circle(outer).is_none());
+    }
+
+    #[test]
+    fn observer_poles_are_their_own_layer() {
+        let scene = PoleMapScene {
+            closed_loop: vec![[-2.0, 0.0]],
+            observer: vec![[-8.0, 1.0], [-8.0, -1.0]],
+            open_loop: vec![[1.0, 0.0]],
+            ..Default::default()
+        };
+        let order: Vec<PoleSet> = scene.markers().iter().map(|p| p.set).collect();
+        assert_eq!(order, [PoleSet::ClosedLoop, PoleSet::Observer, PoleSet::Observer, PoleSet::OpenLoop]);
+        let outer = Rect::sized(480.0, 360.0);
+        let at = scene.frame(outer).to_pixel([-8.0, -1.0]);
+        assert_eq!(scene.pick(outer, at).map(|p| (p.set, p.index)), Some((PoleSet::Observer, 1)));
+        let json = r#"{"observer": [[-3, 0]], "fit_poles": true}"#;
+        let s: PoleMapScene = serde_json::from_str(json).expect("valid scene");
+        assert!(s.fit_poles && s.observer.len() == 1);
+        let t: TimePlotScene = serde_json::from_str(r#"{"series": [{"name": "r", "values": [1], "colour": 2, "dash": 1}], "events": [{"time": 0.5, "label": "step"}]}"#).expect("valid scene");
+        assert_eq!((t.series[0].colour, t.series[0].dash), (Some(2), Some(1)));
+        assert_eq!(t.events[0].time, 0.5);
+    }
+
     #[test]
     fn scene_field_lists_match_the_structs() {
         let mut want = serialized_keys(&PoleMapScene::default());
@@ -1696,10 +2017,12 @@ mod tests {
                 Series {
                     name: "x1".into(),
                     values: vec![1.0, 0.5, 0.2, f64::NAN, 0.0],
+                    ..Default::default()
                 },
                 Series {
                     name: "u".into(),
                     values: vec![-3.0, -1.0, 0.0],
+                    ..Default::default()
                 },
             ],
             limits: vec![LimitLine {

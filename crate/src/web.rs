@@ -5,13 +5,27 @@
 //!
 //! # The page cycle
 //! [`update_page`] reads the form controls (`pw-<key>` for each key of
-//! [`FormInput::FIELDS`]), evaluates them, writes each field's size
-//! (`pw-<key>-size`) and error (`pw-<key>-error`; the control gets
-//! `aria-invalid`), never touching the text the user typed, then fills the
-//! results (gain, poles, controllability, warnings, response tables) and paints
-//! the pole map and the two response plots. On invalid input the previous
-//! results stay and are marked stale. It measures its own duration with
-//! `performance.now()` and leaves it in `data-cycle-ms` of the status line.
+//! [`FormInput::FIELDS`]: text areas, inputs, selects and the checkbox), evaluates them,
+//! writes each field's size (`pw-<key>-size`) and error (`pw-<key>-error`; the control
+//! gets `aria-invalid`) and hides the sub-fields of switched-off sections
+//! (`pw-<key>-field`), never touching the text the user typed; then it paints the
+//! canvases (pole map; loop outputs, loop inputs and estimation error when the loop is
+//! simulated; states and inputs of the free response) and fills the results (gain,
+//! controller, observer, poles, controllability, warnings, loop and response tables). On
+//! invalid input the previous results stay and are marked stale. It measures its own
+//! duration with `performance.now()` and leaves it in `data-cycle-ms` of the status
+//! line, the phases in `data-cycle-phases`.
+//!
+//! # What keeps the cycle short
+//! - Canvas sizes are cached: the cycle never reads layout (the page's ResizeObserver
+//!   calls [`canvases_resized`] after layout instead).
+//! - Canvases are painted before the result DOM changes (drawing text on a canvas makes
+//!   the browser bring styles up to date first), and a canvas whose picture, size and
+//!   pixel ratio are unchanged is not repainted.
+//! - Each line is simplified to what its pixels show ([`crate::plot::Simplifier`]: at most
+//!   four points per pixel column, then a 0.2 px corridor) and stroked as one `Path2D`.
+//! - Result blocks whose content is unchanged are left alone; a table of the same shape
+//!   has only its changed cells rewritten; field feedback is written only when it changes.
 //!
 //! Every exported function returns `Result<_, JsValue>` with a readable
 //! message instead of panicking; should a panic happen anyway, the hook
@@ -23,18 +37,19 @@
 //! every field may be omitted; unknown top-level keys are rejected.
 
 use std::cell::RefCell;
+use std::hash::{Hash, Hasher};
 use std::sync::Once;
 
 use num_complex::Complex64;
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
 use wasm_bindgen::JsCast;
-use web_sys::{CanvasRenderingContext2d, Document, Element, HtmlCanvasElement, HtmlInputElement, HtmlSelectElement, HtmlTextAreaElement};
+use web_sys::{CanvasRenderingContext2d, Document, Element, HtmlCanvasElement, HtmlInputElement, HtmlSelectElement, HtmlTextAreaElement, Path2d};
 
-use crate::design::DesignResult;
-use crate::form::{self, evaluate_form, FieldError, FormInput, FormOutcome, FormStatus, OpenLoopAnalysis, Report, StructureReport};
-use crate::plot::{common_ticks, flow_legend, Frame, Rect, Ticks, LEGEND_ROW_PX, LEGEND_SWATCH_PX};
-pub use crate::plot::{Band, LimitLine, PoleMapScene, PolePick, PoleSet, Series, TimePlotScene};
+use crate::design::{fmt_num, DesignResult};
+use crate::form::{self, evaluate_form, ControllerReport, FieldError, FormInput, FormOutcome, FormStatus, MatrixTable, OpenLoopAnalysis, Report, StructureReport};
+use crate::plot::{common_ticks, flow_legend, Frame, Simplifier, Rect, Ticks, LEGEND_ROW_PX, LEGEND_SWATCH_PX};
+pub use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, PolePick, PoleSet, Series, TimePlotScene};
 
 /// Id of the page element that receives internal-error messages.
 pub const ERROR_ELEMENT_ID: &str = "pw-error";
@@ -52,6 +67,10 @@ mod colour {
     pub const OPEN_LOOP: &str = "#7b8794";
     pub const CLOSED_LOOP: &str = "#0e5f5c";
     pub const NOT_ASSIGNED: &str = "#c07a0c";
+    /// Observer poles (the slate blue of the signal palette).
+    pub const OBSERVER: &str = "#3f4f86";
+    /// Reference and load step markers on the time plots.
+    pub const EVENT: &str = "#7b8794";
     pub const LIMIT: &str = "#9c3d2e";
     pub const BAND_FILL: &str = "rgba(192, 122, 12, 0.13)";
     pub const BAND_TEXT: &str = "#8a5a0c";
@@ -245,10 +264,39 @@ mod ids {
     pub const SIMULATION: &str = "pw-simulation";
     pub const POLE_MAP: &str = "pw-pole-map";
     pub const POLE_PICK: &str = "pw-pole-pick";
+    pub const POLE_LEGEND: &str = "pw-pole-legend";
     pub const STATE_PLOT: &str = "pw-state-plot";
     pub const INPUT_PLOT: &str = "pw-input-plot";
+    pub const CONTROLLER: &str = "pw-controller";
+    pub const CONTROLLER_DOMAIN: &str = "pw-controller-domain";
+    pub const CONTROLLER_LAW: &str = "pw-controller-law";
+    pub const SAMPLE_RATE: &str = "pw-sample-rate";
+    pub const DELAY_GAIN: &str = "pw-delay-gain";
+    pub const TRACKING_GAINS: &str = "pw-tracking-gains";
+    pub const TRACKING_NOTE: &str = "pw-tracking-note";
+    pub const DISCRETE_BLOCK: &str = "pw-discrete-block";
+    pub const DISCRETE_PLANT: &str = "pw-discrete-plant";
+    pub const CONTROLLER_TEXT: &str = "pw-controller-text";
+    pub const OBSERVER: &str = "pw-obs-result";
+    pub const OBSERVER_SUMMARY: &str = "pw-obs-summary";
+    pub const OBSERVER_TABLE: &str = "pw-obs-table";
+    pub const OBSERVER_CURRENT: &str = "pw-obs-current";
+    pub const OBSERVER_TEXT: &str = "pw-obs-text";
+    pub const OBSERVER_POLES: &str = "pw-obs-poles";
+    pub const OBSERVER_NOISE: &str = "pw-obs-noise";
+    pub const LOOP_SECTION: &str = "pw-loop-section";
+    pub const LOOP_SUMMARY: &str = "pw-loop-summary";
+    pub const LOOP_PLOT: &str = "pw-loop-plot";
+    pub const LOOP_TABLE: &str = "pw-loop-table";
+    pub const LOOP_INPUT_PLOT: &str = "pw-loop-input-plot";
+    pub const LOOP_INPUT_TABLE: &str = "pw-loop-input-table";
+    pub const ESTIMATION: &str = "pw-estimation";
+    pub const ESTIMATION_PLOT: &str = "pw-estimation-plot";
+    pub const ESTIMATION_TABLE: &str = "pw-estimation-table";
     /// Sections marked stale when the input is invalid.
-    pub const OUTPUT_SECTIONS: [&str; 3] = ["pw-results", "pw-pole-section", "pw-response-section"];
+    pub const OUTPUT_SECTIONS: [&str; 4] = ["pw-results", "pw-pole-section", "pw-loop-section", "pw-response-section"];
+    /// Every canvas, in painting order.
+    pub const CANVASES: [&str; 6] = [POLE_MAP, LOOP_PLOT, LOOP_INPUT_PLOT, ESTIMATION_PLOT, STATE_PLOT, INPUT_PLOT];
 }
 
 const POLE_HINT: &str = "Point at a pole, or focus the map (Tab) and use the arrow keys, to read a pole's value.";
@@ -260,26 +308,72 @@ enum Shown {
     Infeasible,
 }
 
+/// What a canvas shows; kept to skip repainting an unchanged picture.
+#[derive(Clone, PartialEq)]
+enum Picture {
+    Poles(PoleMapScene),
+    Time(TimePlotScene),
+    Message(String),
+}
+
+/// A canvas's CSS size (read from layout only when unknown or after a resize) and the
+/// picture last painted on it at that size and pixel ratio.
+struct CanvasState {
+    id: &'static str,
+    size: Option<Rect>,
+    painted: Option<(Rect, f64, Picture)>,
+}
+
+/// Per-field feedback last written (size, error, active), to touch only what changes.
+type Feedback = (Option<String>, Option<String>, bool);
+
 struct PageState {
     shown: Shown,
     design: Option<DesignResult>,
+    report: Option<Report>,
     analysis: Option<OpenLoopAnalysis>,
     pole_scene: PoleMapScene,
     /// Position in `pole_scene.markers()` chosen by keyboard.
     focus: Option<usize>,
     normalised: bool,
-    gain_text: String,
+    fit_poles: bool,
+    canvases: Vec<CanvasState>,
+    /// Content fingerprints of the result blocks last built (block id, hash).
+    rendered: Vec<(&'static str, u64)>,
+    /// Tables updated in place when only their cells change.
+    tables: Vec<TableView>,
+    feedback: Vec<(&'static str, Feedback)>,
+    last_input: FormInput,
 }
 
 thread_local! {
     static PAGE: RefCell<PageState> = RefCell::new(PageState {
         shown: Shown::Nothing,
         design: None,
+        report: None,
         analysis: None,
         pole_scene: PoleMapScene::default(),
         focus: None,
         normalised: true,
-        gain_text: String::new(),
+        fit_poles: false,
+        canvases: ids::CANVASES.iter().map(|id| CanvasState { id, size: None, painted: None }).collect(),
+        rendered: Vec::new(),
+        tables: Vec::new(),
+        feedback: Vec::new(),
+        last_input: FormInput::default(),
+    });
+    /// Named durations of the last cycle's phases (milliseconds).
+    static PHASES: RefCell<Vec<(&'static str, f64)>> = const { RefCell::new(Vec::new()) };
+}
+
+fn phase(name: &'static str, ms: f64) {
+    PHASES.with(|p| {
+        if let Ok(mut v) = p.try_borrow_mut() {
+            match v.iter_mut().find(|(k, _)| *k == name) {
+                Some(slot) => slot.1 += ms,
+                None => v.push((name, ms)),
+            }
+        }
     });
 }
 
@@ -311,7 +405,14 @@ fn set_text(doc: &Document, id: &str, text: &str) -> Result<(), JsValue> {
 }
 
 fn set_hidden(el: &Element, hidden: bool) -> Result<(), JsValue> {
-    el.toggle_attribute_with_force("hidden", hidden).map(|_| ())
+    if el.has_attribute("hidden") != hidden {
+        el.toggle_attribute_with_force("hidden", hidden)?;
+    }
+    Ok(())
+}
+
+fn set_hidden_id(doc: &Document, id: &str, hidden: bool) -> Result<(), JsValue> {
+    set_hidden(&by_id(doc, id)?, hidden)
 }
 
 /// A new element with optional text (always as text, never markup).
@@ -329,11 +430,40 @@ fn make_class(doc: &Document, tag: &str, text: Option<&str>, class: &str) -> Res
     Ok(el)
 }
 
+fn hash_of<T: Hash + ?Sized>(value: &T) -> u64 {
+    let mut h = std::collections::hash_map::DefaultHasher::new();
+    value.hash(&mut h);
+    h.finish()
+}
+
+impl PageState {
+    /// True when block `id` already shows content with this fingerprint; otherwise
+    /// records it (the caller then rebuilds the block).
+    fn unchanged(&mut self, id: &'static str, fingerprint: u64) -> bool {
+        match self.rendered.iter_mut().find(|(k, _)| *k == id) {
+            Some(slot) if slot.1 == fingerprint => true,
+            Some(slot) => {
+                slot.1 = fingerprint;
+                false
+            }
+            None => {
+                self.rendered.push((id, fingerprint));
+                false
+            }
+        }
+    }
+}
+
 /// A table: optional caption, a header row, and rows whose first cell is a row header
 /// when `row_headers` is set. Cells from column `numeric_from` on are numeric (right-aligned).
 fn table(doc: &Document, caption: Option<&str>, head: &[String], rows: &[Vec<String>], row_headers: bool, numeric_from: usize) -> Result<Element, JsValue> {
+    Ok(table_with_cells(doc, caption, head, rows, row_headers, numeric_from)?.0)
+}
+
+/// [`table`], also returning the body cells (row by row, the columns kept) for later updates.
+fn table_with_cells(doc: &Document, caption: Option<&str>, head: &[String], rows: &[Vec<String>], row_headers: bool, numeric_from: usize) -> Result<(Element, Vec<Vec<Element>>), JsValue> {
     // Columns empty in every row (e.g. "note" when nothing needs a note) are left out.
-    let keep: Vec<bool> = (0..head.len()).map(|j| j == 0 || rows.iter().any(|r| r.get(j).is_some_and(|c| !c.is_empty()))).collect();
+    let keep = kept_columns(head, rows);
     let kept = |j: usize| keep.get(j).copied().unwrap_or(true);
     let t = make(doc, "table", None)?;
     if let Some(c) = caption {
@@ -350,8 +480,10 @@ fn table(doc: &Document, caption: Option<&str>, head: &[String], rows: &[Vec<Str
     thead.append_child(&tr)?;
     t.append_child(&thead)?;
     let tbody = make(doc, "tbody", None)?;
+    let mut cells = Vec::with_capacity(rows.len());
     for row in rows {
         let tr = make(doc, "tr", None)?;
+        let mut row_cells = Vec::with_capacity(row.len());
         for (j, cell) in row.iter().enumerate().filter(|(j, _)| kept(*j)) {
             let el = if row_headers && j == 0 {
                 let th = make(doc, "th", Some(cell))?;
@@ -364,11 +496,88 @@ fn table(doc: &Document, caption: Option<&str>, head: &[String], rows: &[Vec<Str
                 el.set_class_name("num");
             }
             tr.append_child(&el)?;
+            row_cells.push(el);
         }
         tbody.append_child(&tr)?;
+        cells.push(row_cells);
     }
     t.append_child(&tbody)?;
-    Ok(t)
+    Ok((t, cells))
+}
+
+/// Which columns a table shows: the first always, the others when some row fills them.
+fn kept_columns(head: &[String], rows: &[Vec<String>]) -> Vec<bool> {
+    (0..head.len()).map(|j| j == 0 || rows.iter().any(|r| r.get(j).is_some_and(|c| !c.is_empty()))).collect()
+}
+
+/// A table on the page and what it shows, so that a new table of the same shape is
+/// written by changing only the cells whose text changed.
+struct TableView {
+    host: &'static str,
+    shape: u64,
+    rows: Vec<Vec<String>>,
+    cells: Vec<Vec<Element>>,
+}
+
+impl PageState {
+    /// Shows one table in element `host` (with id `table_id`, if given): updates the cells
+    /// in place when the table there has the same caption, header and size, else rebuilds it.
+    #[allow(clippy::too_many_arguments)]
+    fn show_table(&mut self, doc: &Document, host: &'static str, table_id: Option<&str>, caption: &str, head: &[String], rows: &[Vec<String>], row_headers: bool, numeric_from: usize) -> Result<(), JsValue> {
+        let keep = kept_columns(head, rows);
+        let shape = hash_of(&(caption, head, &keep, rows.len(), rows.iter().map(|r| r.len()).collect::<Vec<_>>(), table_id, row_headers, numeric_from));
+        let visible: Vec<Vec<String>> = rows.iter().map(|r| r.iter().enumerate().filter(|(j, _)| keep.get(*j).copied().unwrap_or(true)).map(|(_, c)| c.clone()).collect()).collect();
+        if let Some(view) = self.tables.iter_mut().find(|v| v.host == host && v.shape == shape) {
+            for (i, row) in visible.iter().enumerate() {
+                for (j, text) in row.iter().enumerate() {
+                    let old = view.rows.get(i).and_then(|r| r.get(j));
+                    if old != Some(text) {
+                        if let Some(cell) = view.cells.get(i).and_then(|r| r.get(j)) {
+                            cell.set_text_content(Some(text));
+                        }
+                    }
+                }
+            }
+            view.rows = visible;
+            return Ok(());
+        }
+        let (t, cells) = table_with_cells(doc, Some(caption), head, rows, row_headers, numeric_from)?;
+        if let Some(id) = table_id {
+            t.set_id(id);
+        }
+        fill(doc, host, &[t])?;
+        self.tables.retain(|v| v.host != host);
+        self.tables.push(TableView { host, shape, rows: visible, cells });
+        Ok(())
+    }
+
+    fn show_matrix(&mut self, doc: &Document, host: &'static str, table_id: Option<&str>, m: &MatrixTable) -> Result<(), JsValue> {
+        let (head, rows) = matrix_rows(m);
+        self.show_table(doc, host, table_id, &m.caption, &head, &rows, true, 1)
+    }
+}
+
+/// A labelled matrix's header row and body rows (symbol in the corner).
+fn matrix_rows(m: &MatrixTable) -> (Vec<String>, Vec<Vec<String>>) {
+    let mut head = vec![m.symbol.clone()];
+    head.extend(m.column_labels.iter().cloned());
+    let rows: Vec<Vec<String>> = m
+        .entries
+        .iter()
+        .enumerate()
+        .map(|(i, row)| {
+            let mut cells = vec![m.row_labels.get(i).cloned().unwrap_or_default()];
+            cells.extend(row.iter().cloned());
+            cells
+        })
+        .collect();
+    (head, rows)
+}
+
+/// A labelled matrix as a table (symbol in the corner, row and column labels as headers).
+fn matrix_element(doc: &Document, m: &MatrixTable) -> Result<Element, JsValue> {
+    let (head, rows) = matrix_rows(m);
+    table(doc, Some(&m.caption), &head, &rows, true, 1)
 }
 
 /// Replaces the children of element `id` with `children`.
@@ -381,15 +590,22 @@ fn fill(doc: &Document, id: &str, children: &[Element]) -> Result<(), JsValue> {
     Ok(())
 }
 
-/// The text of control `pw-<key>` (a textarea or an input).
+/// The text of control `pw-<key>`: a text area, a text input, a checkbox (`"true"` when
+/// ticked, else `""`) or a select.
 fn control_value(doc: &Document, key: &str) -> Result<String, JsValue> {
     let el = by_id(doc, &format!("pw-{key}"))?;
     if let Some(t) = el.dyn_ref::<HtmlTextAreaElement>() {
         Ok(t.value())
     } else if let Some(i) = el.dyn_ref::<HtmlInputElement>() {
-        Ok(i.value())
+        if i.type_() == "checkbox" {
+            Ok(if i.checked() { "true".into() } else { String::new() })
+        } else {
+            Ok(i.value())
+        }
+    } else if let Some(s) = el.dyn_ref::<HtmlSelectElement>() {
+        Ok(s.value())
     } else {
-        Err(js_err("not a text control", key))
+        Err(js_err("not a form control", key))
     }
 }
 
@@ -400,10 +616,22 @@ fn set_control_value(doc: &Document, key: &str, text: &str) -> Result<(), JsValu
         fit_rows(t);
         Ok(())
     } else if let Some(i) = el.dyn_ref::<HtmlInputElement>() {
-        i.set_value(text);
+        if i.type_() == "checkbox" {
+            i.set_checked(matches!(text.trim(), "true" | "on" | "yes" | "1"));
+        } else {
+            i.set_value(text);
+        }
+        Ok(())
+    } else if let Some(s) = el.dyn_ref::<HtmlSelectElement>() {
+        // A blank choice is the first option (the field's default).
+        if text.trim().is_empty() {
+            s.set_selected_index(0);
+        } else {
+            s.set_value(text.trim());
+        }
         Ok(())
     } else {
-        Err(js_err("not a text control", key))
+        Err(js_err("not a form control", key))
     }
 }
 
@@ -459,43 +687,42 @@ pub fn load_demo(index: usize) -> Result<(), JsValue> {
     set_text(&doc, ids::DEMO_DESCRIPTION, d.description)
 }
 
-/// Per-field size and error; the typed text is left exactly as it is.
-fn show_field_feedback(doc: &Document, outcome: &FormOutcome) -> Result<(), JsValue> {
-    let dims = &outcome.dimensions;
-    let sizes = &outcome.sizes;
+/// Per-field size, error and visibility (sub-fields of a section switched off are hidden);
+/// only what changed since the last cycle is touched, and the typed text never is.
+fn show_field_feedback(doc: &Document, page: &mut PageState, input: &FormInput, outcome: &FormOutcome) -> Result<(), JsValue> {
     for key in FormInput::FIELDS {
-        let size = match key {
-            "a" => dims.a.as_deref(),
-            "b" => dims.b.as_deref(),
-            "c" => dims.c.as_deref(),
-            "d" => dims.d.as_deref(),
-            "state_names" => sizes.state_names.as_deref(),
-            "state_units" => sizes.state_units.as_deref(),
-            "input_names" => sizes.input_names.as_deref(),
-            "input_units" => sizes.input_units.as_deref(),
-            "poles" => sizes.poles.as_deref(),
-            "limits" => sizes.limits.as_deref(),
-            "initial_state" => sizes.initial_state.as_deref(),
-            _ => None,
-        };
-        if let Some(el) = doc.get_element_by_id(&format!("pw-{key}-size")) {
-            el.set_text_content(Some(size.unwrap_or("")));
+        let now: Feedback = (outcome.size_for(key).map(str::to_string), outcome.error_for(key).map(str::to_string), input.is_active(key));
+        let before = page.feedback.iter().find(|(k, _)| *k == key).map(|(_, f)| f.clone());
+        if before.as_ref() != Some(&now) {
+            let (size, error, active) = &now;
+            if let Some(el) = doc.get_element_by_id(&format!("pw-{key}-size")) {
+                el.set_text_content(Some(size.as_deref().unwrap_or("")));
+            }
+            if let Some(el) = doc.get_element_by_id(&format!("pw-{key}-error")) {
+                el.set_text_content(Some(error.as_deref().unwrap_or("")));
+                set_hidden(&el, error.is_none())?;
+            }
+            let control = by_id(doc, &format!("pw-{key}"))?;
+            if error.is_some() {
+                control.set_attribute("aria-invalid", "true")?;
+            } else {
+                control.remove_attribute("aria-invalid")?;
+            }
+            if let Some(wrapper) = doc.get_element_by_id(&format!("pw-{key}-field")) {
+                set_hidden(&wrapper, !active)?;
+            }
+            match page.feedback.iter_mut().find(|(k, _)| *k == key) {
+                Some(slot) => slot.1 = now,
+                None => page.feedback.push((key, now)),
+            }
         }
-        let error = outcome.error_for(key);
-        if let Some(el) = doc.get_element_by_id(&format!("pw-{key}-error")) {
-            el.set_text_content(Some(error.unwrap_or("")));
-            set_hidden(&el, error.is_none())?;
-        }
-        let control = by_id(doc, &format!("pw-{key}"))?;
-        if error.is_some() {
-            control.set_attribute("aria-invalid", "true")?;
-        } else {
-            control.remove_attribute("aria-invalid")?;
-        }
-        if let Some(t) = control.dyn_ref::<HtmlTextAreaElement>() {
-            fit_rows(t);
+        if input.get(key) != page.last_input.get(key) {
+            if let Some(t) = doc.get_element_by_id(&format!("pw-{key}")).and_then(|e| e.dyn_into::<HtmlTextAreaElement>().ok()) {
+                fit_rows(&t);
+            }
         }
     }
+    page.last_input = input.clone();
     Ok(())
 }
 
@@ -506,13 +733,34 @@ fn field_label(key: &str) -> &'static str {
         "c" => "C",
         "d" => "D",
         "state_names" => "state names",
-        "state_units" => "state units",
         "input_names" => "input names",
+        "state_units" => "state units",
         "input_units" => "input units",
+        "output_names" => "output names",
+        "output_units" => "output units",
         "poles" => "desired poles",
         "limits" => "actuator limits",
         "initial_state" => "initial state",
         "duration" => "simulated time",
+        "observer" => "observer",
+        "observer_poles" => "observer poles",
+        "observer_speed" => "observer speed factor",
+        "observer_form" => "observer form",
+        "tracking" => "tracking",
+        "tracked_outputs" => "tracked outputs",
+        "integral_poles" => "integrator poles",
+        "anti_windup" => "anti-windup",
+        "anti_windup_time" => "anti-windup time constant",
+        "sample_time" => "sample time",
+        "computation_delay" => "computation delay",
+        "delay_poles" => "delay poles",
+        "plane" => "pole plane",
+        "reference" => "reference",
+        "reference_time" => "reference step time",
+        "disturbance" => "load disturbance",
+        "disturbance_time" => "load step time",
+        "noise_std" => "measurement noise",
+        "seed" => "noise seed",
         _ => "a field",
     }
 }
@@ -524,7 +772,9 @@ fn error_list(errors: &[FieldError]) -> String {
 fn mark_stale(doc: &Document, stale: bool) -> Result<(), JsValue> {
     for id in ids::OUTPUT_SECTIONS {
         if let Some(el) = doc.get_element_by_id(id) {
-            el.class_list().toggle_with_force("is-stale", stale)?;
+            if el.class_list().contains("is-stale") != stale {
+                el.class_list().toggle_with_force("is-stale", stale)?;
+            }
         }
     }
     Ok(())
@@ -532,9 +782,14 @@ fn mark_stale(doc: &Document, stale: bool) -> Result<(), JsValue> {
 
 fn note(doc: &Document, text: Option<&str>, class: &str) -> Result<(), JsValue> {
     let el = by_id(doc, ids::RESULTS_NOTE)?;
-    el.set_text_content(Some(text.unwrap_or("")));
-    el.set_class_name(class);
-    set_hidden(&el, text.is_none())
+    let text = text.unwrap_or("");
+    if el.text_content().as_deref() != Some(text) {
+        el.set_text_content(Some(text));
+    }
+    if el.class_name() != class {
+        el.set_class_name(class);
+    }
+    set_hidden(&el, text.is_empty())
 }
 
 fn structure_block(doc: &Document, r: &StructureReport, title: &str) -> Result<Vec<Element>, JsValue> {
@@ -547,60 +802,187 @@ fn structure_block(doc: &Document, r: &StructureReport, title: &str) -> Result<V
     ])
 }
 
-fn render_report(doc: &Document, r: &Report) -> Result<(), JsValue> {
+fn strings(items: &[&str]) -> Vec<String> {
+    items.iter().map(|s| s.to_string()).collect()
+}
+
+fn pole_rows_text(poles: &[form::PoleRow]) -> (Vec<String>, Vec<Vec<String>>) {
+    let head = strings(&["requested", "achieved", "relative error", "character", "note"]);
+    let rows: Vec<Vec<String>> = poles.iter().map(|p| vec![p.requested.clone(), p.achieved.clone(), p.error.clone(), p.character.clone(), p.note.clone()]).collect();
+    (head, rows)
+}
+
+fn pole_table(doc: &Document, caption: &str, poles: &[form::PoleRow]) -> Result<Element, JsValue> {
+    let (head, rows) = pole_rows_text(poles);
+    table(doc, Some(caption), &head, &rows, false, 0)
+}
+
+/// Builds the result blocks whose content changed since they were last built.
+fn render_report(doc: &Document, page: &mut PageState, r: &Report, discrete: bool) -> Result<(), JsValue> {
     // Gain.
-    let g = &r.gain;
-    let mut head = vec!["K".to_string()];
-    head.extend(g.column_labels.iter().cloned());
-    let rows: Vec<Vec<String>> = g
-        .entries
-        .iter()
-        .enumerate()
-        .map(|(i, row)| {
-            let mut cells = vec![g.row_labels.get(i).cloned().unwrap_or_default()];
-            cells.extend(row.iter().cloned());
-            cells
-        })
-        .collect();
-    let gain = table(doc, Some("Gain K: one row per input, one column per state"), &head, &rows, true, 1)?;
-    gain.set_id("pw-gain");
-    fill(doc, ids::GAIN_TABLE, &[gain])?;
-    set_text(doc, ids::GAIN_TEXT, &g.text)?;
+    if !page.unchanged(ids::GAIN_TABLE, hash_of(&r.gain)) {
+        page.show_matrix(doc, ids::GAIN_TABLE, Some("pw-gain"), &r.gain)?;
+        set_text(doc, ids::GAIN_TEXT, &r.gain.text)?;
+    }
 
     // Poles.
-    let head: Vec<String> = ["requested", "achieved", "relative error", "character", "note"].iter().map(|s| s.to_string()).collect();
-    let rows: Vec<Vec<String>> = r.poles.iter().map(|p| vec![p.requested.clone(), p.achieved.clone(), p.error.clone(), p.character.clone(), p.note.clone()]).collect();
-    fill(doc, ids::POLE_TABLE, &[table(doc, Some("Closed-loop poles: requested and achieved (the eigenvalues of A − B K)"), &head, &rows, false, 0)?])?;
-    set_text(doc, ids::OPEN_LOOP, &format!("Open-loop poles (eigenvalues of A): {}.", r.open_loop))?;
+    if !page.unchanged(ids::POLE_TABLE, hash_of(&(&r.poles, &r.open_loop, discrete))) {
+        let caption = if discrete {
+            "Closed-loop poles in the z-plane: requested and achieved (the eigenvalues of Φ − Γ K), with their equivalent s = ln z / T"
+        } else {
+            "Closed-loop poles: requested and achieved (the eigenvalues of A − B K)"
+        };
+        let (head, rows) = pole_rows_text(&r.poles);
+        page.show_table(doc, ids::POLE_TABLE, None, caption, &head, &rows, false, 0)?;
+        let open = if discrete { "Open-loop poles (eigenvalues of Φ)" } else { "Open-loop poles (eigenvalues of A)" };
+        set_text(doc, ids::OPEN_LOOP, &format!("{open}: {}.", r.open_loop))?;
+    }
 
-    fill(doc, ids::CONTROLLABILITY, &structure_block(doc, &r.controllability, "Controllability of each open-loop mode")?)?;
-    let obs = by_id(doc, ids::OBSERVABILITY)?;
-    match &r.observability {
-        Some(o) => {
-            fill(doc, ids::OBSERVABILITY, &structure_block(doc, o, "Observability of each open-loop mode (from the outputs C)")?)?;
-            set_hidden(&obs, false)?;
-        }
-        None => {
-            obs.set_text_content(None);
-            set_hidden(&obs, true)?;
+    if !page.unchanged(ids::CONTROLLABILITY, hash_of(&r.controllability)) {
+        fill(doc, ids::CONTROLLABILITY, &structure_block(doc, &r.controllability, "Controllability of each open-loop mode")?)?;
+    }
+    if !page.unchanged(ids::OBSERVABILITY, hash_of(&r.observability)) {
+        let obs = by_id(doc, ids::OBSERVABILITY)?;
+        match &r.observability {
+            Some(o) => {
+                fill(doc, ids::OBSERVABILITY, &structure_block(doc, o, "Observability of each open-loop mode (from the outputs C)")?)?;
+                set_hidden(&obs, false)?;
+            }
+            None => {
+                obs.set_text_content(None);
+                set_hidden(&obs, true)?;
+            }
         }
     }
-    set_text(doc, ids::ROBUSTNESS, &r.robustness)?;
-    let items: Vec<Element> = if r.warnings.is_empty() {
-        vec![make_class(doc, "li", Some("No warnings."), "none")?]
-    } else {
-        r.warnings.iter().map(|w| make(doc, "li", Some(w))).collect::<Result<_, _>>()?
-    };
-    fill(doc, ids::WARNINGS, &items)?;
+    if !page.unchanged(ids::ROBUSTNESS, hash_of(&r.robustness)) {
+        set_text(doc, ids::ROBUSTNESS, &r.robustness)?;
+    }
+    if !page.unchanged(ids::WARNINGS, hash_of(&r.warnings)) {
+        let items: Vec<Element> = if r.warnings.is_empty() {
+            vec![make_class(doc, "li", Some("No warnings."), "none")?]
+        } else {
+            r.warnings.iter().map(|w| make(doc, "li", Some(w))).collect::<Result<_, _>>()?
+        };
+        fill(doc, ids::WARNINGS, &items)?;
+    }
 
     // Response figures.
-    let head: Vec<String> = ["state", "initial value", "peak |value|", "settling time", "overshoot past zero"].iter().map(|s| s.to_string()).collect();
-    let rows: Vec<Vec<String>> = r.states.iter().map(|s| vec![s.name.clone(), s.initial.clone(), s.peak.clone(), s.settling.clone(), s.overshoot.clone()]).collect();
-    fill(doc, ids::STATE_TABLE, &[table(doc, Some("States: settling time and overshoot"), &head, &rows, true, 1)?])?;
-    let head: Vec<String> = ["input", "peak commanded |u|", "limit", "verdict"].iter().map(|s| s.to_string()).collect();
-    let rows: Vec<Vec<String>> = r.inputs.iter().map(|i| vec![i.name.clone(), i.peak.clone(), i.limit.clone(), i.verdict.clone()]).collect();
-    fill(doc, ids::INPUT_TABLE, &[table(doc, Some("Inputs: peak versus limit"), &head, &rows, true, 1)?])?;
-    set_text(doc, ids::SIMULATION, &r.simulation)
+    if !page.unchanged(ids::STATE_TABLE, hash_of(&r.states)) {
+        let head = strings(&["state", "initial value", "peak |value|", "settling time", "overshoot past zero"]);
+        let rows: Vec<Vec<String>> = r.states.iter().map(|s| vec![s.name.clone(), s.initial.clone(), s.peak.clone(), s.settling.clone(), s.overshoot.clone()]).collect();
+        page.show_table(doc, ids::STATE_TABLE, None, "States: settling time and overshoot", &head, &rows, true, 1)?;
+    }
+    if !page.unchanged(ids::INPUT_TABLE, hash_of(&r.inputs)) {
+        let head = strings(&["input", "peak commanded |u|", "limit", "verdict"]);
+        let rows: Vec<Vec<String>> = r.inputs.iter().map(|i| vec![i.name.clone(), i.peak.clone(), i.limit.clone(), i.verdict.clone()]).collect();
+        page.show_table(doc, ids::INPUT_TABLE, None, "Inputs: peak versus limit", &head, &rows, true, 1)?;
+    }
+    if !page.unchanged(ids::SIMULATION, hash_of(&r.simulation)) {
+        set_text(doc, ids::SIMULATION, &r.simulation)?;
+    }
+    if r.controller.is_some() {
+        let text = controller_text(r);
+        if !page.unchanged(ids::CONTROLLER_TEXT, hash_of(&text)) {
+            set_text(doc, ids::CONTROLLER_TEXT, &text)?;
+        }
+    }
+    render_controller(doc, page, r.controller.as_ref())
+}
+
+fn set_text_or_hide(doc: &Document, id: &str, text: Option<&str>) -> Result<(), JsValue> {
+    let el = by_id(doc, id)?;
+    el.set_text_content(Some(text.unwrap_or("")));
+    set_hidden(&el, text.is_none())
+}
+
+fn fill_matrices(doc: &Document, id: &str, tables: &[&MatrixTable]) -> Result<(), JsValue> {
+    let els: Vec<Element> = tables.iter().map(|m| matrix_element(doc, m)).collect::<Result<_, _>>()?;
+    fill(doc, id, &els)?;
+    set_hidden_id(doc, id, tables.is_empty())
+}
+
+/// Every controller matrix as tab-separated text: K, then K_u, the tracking gains, L (L_c), Φ, Γ.
+fn controller_text(r: &Report) -> String {
+    let mut parts = vec![r.gain.text.clone()];
+    if let Some(c) = &r.controller {
+        parts.extend(c.delay_gain.iter().map(|m| m.text.clone()));
+        parts.extend(c.tracking.iter().map(|m| m.text.clone()));
+        if let Some(o) = &c.observer {
+            parts.push(o.gain.text.clone());
+            parts.extend(o.current_gain.iter().map(|m| m.text.clone()));
+        }
+        parts.extend(c.discrete_plant.iter().map(|m| m.text.clone()));
+    }
+    parts.join("\n")
+}
+
+fn render_controller(doc: &Document, page: &mut PageState, c: Option<&ControllerReport>) -> Result<(), JsValue> {
+    let Some(c) = c else {
+        if !page.unchanged(ids::CONTROLLER, 0) {
+            set_hidden_id(doc, ids::CONTROLLER, true)?;
+            set_hidden_id(doc, ids::OBSERVER, true)?;
+            set_hidden_id(doc, ids::LOOP_SECTION, true)?;
+        }
+        return Ok(());
+    };
+    let key = hash_of(&(&c.law, &c.domain, &c.sample_rate, &c.delay_gain, &c.tracking, &c.tracking_note, &c.discrete_plant, &c.observer));
+    if !page.unchanged(ids::CONTROLLER, key) {
+        set_hidden_id(doc, ids::CONTROLLER, false)?;
+        set_text(doc, ids::CONTROLLER_DOMAIN, &c.domain)?;
+        let lines: Vec<Element> = c.law.iter().map(|l| make(doc, "li", Some(l))).collect::<Result<_, _>>()?;
+        fill(doc, ids::CONTROLLER_LAW, &lines)?;
+        set_text_or_hide(doc, ids::SAMPLE_RATE, c.sample_rate.as_deref())?;
+        fill_matrices(doc, ids::DELAY_GAIN, &c.delay_gain.iter().collect::<Vec<_>>())?;
+        fill_matrices(doc, ids::TRACKING_GAINS, &c.tracking.iter().collect::<Vec<_>>())?;
+        set_text_or_hide(doc, ids::TRACKING_NOTE, c.tracking_note.as_deref())?;
+        fill_matrices(doc, ids::DISCRETE_PLANT, &c.discrete_plant.iter().collect::<Vec<_>>())?;
+        set_hidden_id(doc, ids::DISCRETE_BLOCK, c.discrete_plant.is_empty())?;
+        match &c.observer {
+            Some(o) => {
+                set_hidden_id(doc, ids::OBSERVER, false)?;
+                set_text(doc, ids::OBSERVER_SUMMARY, &o.summary)?;
+                let l = matrix_element(doc, &o.gain)?;
+                l.set_id("pw-obs-gain");
+                fill(doc, ids::OBSERVER_TABLE, &[l])?;
+                fill_matrices(doc, ids::OBSERVER_CURRENT, &o.current_gain.iter().collect::<Vec<_>>())?;
+                let mut text = o.gain.text.clone();
+                if let Some(lc) = &o.current_gain {
+                    text.push('\n');
+                    text.push_str(&lc.text);
+                }
+                set_text(doc, ids::OBSERVER_TEXT, &text)?;
+                fill(doc, ids::OBSERVER_POLES, &[pole_table(doc, "Observer poles: requested and achieved (the eigenvalues of the observer's error dynamics)", &o.poles)?])?;
+                set_text(doc, ids::OBSERVER_NOISE, &o.noise)?;
+            }
+            None => set_hidden_id(doc, ids::OBSERVER, true)?,
+        }
+    }
+    let key = hash_of(&(&c.loop_summary, &c.loop_outputs, &c.loop_inputs, &c.estimation));
+    if !page.unchanged(ids::LOOP_SECTION, key) {
+        set_hidden_id(doc, ids::LOOP_SECTION, c.loop_summary.is_none())?;
+        set_text(doc, ids::LOOP_SUMMARY, c.loop_summary.as_deref().unwrap_or(""))?;
+        let outputs = if c.loop_outputs.is_empty() {
+            make_class(doc, "p", Some("No reference is tracked, so there are no step figures: choose feedforward or integral tracking to see rise and settling times."), "empty")?
+        } else {
+            let settling = format!("settling time ({}) after the step", c.settling_band);
+            let head = strings(&["tracked output", "reference step", "rise time (10–90 %)", &settling, "overshoot", "error at the end (r − y)"]);
+            let rows: Vec<Vec<String>> = c.loop_outputs.iter().map(|o| vec![o.name.clone(), o.reference.clone(), o.rise_time.clone(), o.settling_time.clone(), o.overshoot.clone(), o.steady_state_error.clone()]).collect();
+            let t = table(doc, Some("Loop simulation: step figures of each tracked output"), &head, &rows, true, 1)?;
+            t.set_id("pw-loop-metrics");
+            t
+        };
+        fill(doc, ids::LOOP_TABLE, &[outputs])?;
+        let head = strings(&["input", "peak commanded |u|", "limit", "time saturated"]);
+        let rows: Vec<Vec<String>> = c.loop_inputs.iter().map(|i| vec![i.name.clone(), i.peak.clone(), i.limit.clone(), i.saturated.clone()]).collect();
+        fill(doc, ids::LOOP_INPUT_TABLE, &[table(doc, Some("Loop simulation: each input's peak command against its limit"), &head, &rows, true, 1)?])?;
+        set_hidden_id(doc, ids::ESTIMATION, c.estimation.is_empty())?;
+        if !c.estimation.is_empty() {
+            let head = strings(&["state", "peak |x − x̂|", "|x − x̂| at the end"]);
+            let rows: Vec<Vec<String>> = c.estimation.iter().map(|e| vec![e.name.clone(), e.peak.clone(), e.last.clone()]).collect();
+            fill(doc, ids::ESTIMATION_TABLE, &[table(doc, Some("Loop simulation: estimation error of each state"), &head, &rows, true, 1)?])?;
+        }
+    }
+    Ok(())
 }
 
 fn render_infeasible(doc: &Document, message: &str, analysis: Option<&OpenLoopAnalysis>) -> Result<(), JsValue> {
@@ -625,6 +1007,9 @@ fn render_infeasible(doc: &Document, message: &str, analysis: Option<&OpenLoopAn
     fill(doc, ids::WARNINGS, &[make(doc, "li", Some(message))?])?;
     fill(doc, ids::STATE_TABLE, &[])?;
     fill(doc, ids::INPUT_TABLE, &[])?;
+    set_hidden_id(doc, ids::CONTROLLER, true)?;
+    set_hidden_id(doc, ids::OBSERVER, true)?;
+    set_hidden_id(doc, ids::LOOP_SECTION, true)?;
     set_text(doc, ids::SIMULATION, "No response: without a stabilising gain there is nothing to simulate.")
 }
 
@@ -633,38 +1018,152 @@ fn pole_map_label(scene: &PoleMapScene) -> String {
     if !scene.closed_loop.is_empty() {
         parts.push(format!("{} closed-loop poles", scene.closed_loop.len()));
     }
+    if !scene.observer.is_empty() {
+        parts.push(format!("{} observer poles", scene.observer.len()));
+    }
     if !scene.not_assigned.is_empty() {
         parts.push(format!("{} requested poles that could not be assigned", scene.not_assigned.len()));
     }
     parts.push(format!("{} open-loop poles", scene.open_loop.len()));
+    let plane = if scene.discrete { "Pole map in the z-plane with the unit circle" } else { "Pole map in the complex plane" };
     format!(
-        "Pole map in the complex plane: {}. Focus it and use the arrow keys to read each pole; the pole table in Results lists them all.",
+        "{plane}: {}. Focus it and use the arrow keys to read each pole; the pole tables in Results list them all.",
         parts.join(", ")
     )
 }
 
-/// Paint the three canvases from the page state.
-fn paint_all(page: &PageState) -> Result<(), JsValue> {
-    let doc = document()?;
-    by_id(&doc, ids::POLE_MAP)?.set_attribute("aria-label", &pole_map_label(&page.pole_scene))?;
-    paint_pole_map(&Surface::prepare(ids::POLE_MAP)?, &page.pole_scene)?;
-    match (&page.shown, &page.design) {
-        (Shown::Design, Some(d)) => {
-            paint_time_plot(&Surface::prepare(ids::STATE_PLOT)?, &form::states_scene(d, page.normalised))?;
-            paint_time_plot(&Surface::prepare(ids::INPUT_PLOT)?, &form::inputs_scene(d))?;
+fn pole_legend(scene: &PoleMapScene) -> String {
+    let mut text = String::from("× closed loop (teal) and open loop (grey)");
+    if !scene.observer.is_empty() {
+        text.push_str("; ⊠ observer (× in a square, slate blue)");
+    }
+    text.push_str("; ◇ a requested pole that could not be assigned (amber). ");
+    text.push_str(if scene.discrete {
+        "Shaded: the stable region inside the unit circle, |z| < 1 (dashed)."
+    } else {
+        "Shaded: the stable region, Re s < 0."
+    });
+    text
+}
+
+/// The device pixel ratio, clamped to 1…4.
+fn pixel_ratio() -> f64 {
+    web_sys::window()
+        .map(|w| w.device_pixel_ratio())
+        .filter(|d| d.is_finite() && *d > 0.0)
+        .unwrap_or(1.0)
+        .clamp(1.0, 4.0)
+}
+
+impl PageState {
+    fn canvas(&mut self, id: &str) -> Result<&mut CanvasState, JsValue> {
+        self.canvases.iter_mut().find(|c| c.id == id).ok_or_else(|| js_err("not a page canvas", id))
+    }
+
+    /// The CSS size of canvas `id`: cached, or read from layout when not known yet.
+    fn canvas_rect(&mut self, id: &str) -> Result<Rect, JsValue> {
+        let state = self.canvas(id)?;
+        if let Some(r) = state.size {
+            return Ok(r);
         }
-        (Shown::Infeasible, _) => {
-            let text = "No response: the design is not possible.";
-            paint_message(&Surface::prepare(ids::STATE_PLOT)?, text)?;
-            paint_message(&Surface::prepare(ids::INPUT_PLOT)?, text)?;
-        }
-        _ => {
-            let text = "No design yet: complete the plant and the targets above.";
-            paint_message(&Surface::prepare(ids::STATE_PLOT)?, text)?;
-            paint_message(&Surface::prepare(ids::INPUT_PLOT)?, text)?;
+        let canvas = find_canvas(id)?;
+        let (w, h) = (canvas.client_width(), canvas.client_height());
+        if w > 0 && h > 0 {
+            let r = Rect::sized(f64::from(w), f64::from(h));
+            state.size = Some(r);
+            Ok(r)
+        } else {
+            Ok(Rect::sized(f64::from(canvas.width()), f64::from(canvas.height())))
         }
     }
-    Ok(())
+
+    /// Paints `picture` on canvas `id` unless that very picture is already there.
+    fn paint(&mut self, id: &'static str, picture: Picture) -> Result<(), JsValue> {
+        let rect = self.canvas_rect(id)?;
+        let dpr = pixel_ratio();
+        let state = self.canvas(id)?;
+        if let Some((r, d, p)) = &state.painted {
+            if *r == rect && *d == dpr && *p == picture {
+                return Ok(());
+            }
+        }
+        state.painted = None;
+        let t0 = now_ms();
+        let surface = Surface::prepare_sized(id, rect, dpr)?;
+        let result = match &picture {
+            Picture::Poles(scene) => paint_pole_map(&surface, scene),
+            Picture::Time(scene) => paint_time_plot(&surface, scene),
+            Picture::Message(text) => paint_message(&surface, text),
+        };
+        phase(id, now_ms() - t0);
+        match result {
+            Ok(()) => {
+                if let Ok(state) = self.canvas(id) {
+                    state.painted = Some((rect, dpr, picture));
+                }
+                Ok(())
+            }
+            Err(e) => {
+                // Leave the bitmap to be reset next time (its context state is unknown).
+                surface.canvas.set_width(0);
+                Err(e)
+            }
+        }
+    }
+}
+
+fn time_or_message(scene: Option<TimePlotScene>, empty: &str) -> Picture {
+    match scene {
+        Some(s) if !s.series.is_empty() && !s.t.is_empty() => Picture::Time(s),
+        _ => Picture::Message(empty.to_string()),
+    }
+}
+
+/// Paint every visible canvas from the page state (unchanged pictures are left alone).
+fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
+    let doc = document()?;
+    let map = by_id(&doc, ids::POLE_MAP)?;
+    let label = pole_map_label(&page.pole_scene);
+    if map.get_attribute("aria-label").as_deref() != Some(label.as_str()) {
+        map.set_attribute("aria-label", &label)?;
+        set_text(&doc, ids::POLE_LEGEND, &pole_legend(&page.pole_scene))?;
+    }
+    let rect = page.canvas_rect(ids::POLE_MAP)?;
+    match page.pole_scene.unit_circle(rect) {
+        Some([x, y, r]) => map.set_attribute("data-unit-circle", &format!("{x:.2} {y:.2} {r:.2}"))?,
+        None => map.remove_attribute("data-unit-circle")?,
+    }
+    page.paint(ids::POLE_MAP, Picture::Poles(page.pole_scene.clone()))?;
+    let (states, inputs, loop_pictures) = match (&page.shown, &page.design, &page.report) {
+        (Shown::Design, Some(d), Some(r)) => (
+            Picture::Time(form::states_scene(d, page.normalised)),
+            Picture::Time(form::inputs_scene(d)),
+            d.closed_loop.as_ref().map(|_| {
+                (
+                    time_or_message(form::loop_outputs_scene(d, r), "No outputs to show: enter the output matrix C in Measurement."),
+                    time_or_message(form::loop_inputs_scene(d, r), "No inputs to show."),
+                    form::estimation_scene(d, r).map(Picture::Time),
+                )
+            }),
+        ),
+        (Shown::Infeasible, _, _) => {
+            let text = "No response: the design is not possible.".to_string();
+            (Picture::Message(text.clone()), Picture::Message(text), None)
+        }
+        _ => {
+            let text = "No design yet: complete the plant and the targets above.".to_string();
+            (Picture::Message(text.clone()), Picture::Message(text), None)
+        }
+    };
+    if let Some((outputs, loop_inputs, estimation)) = loop_pictures {
+        page.paint(ids::LOOP_PLOT, outputs)?;
+        page.paint(ids::LOOP_INPUT_PLOT, loop_inputs)?;
+        if let Some(e) = estimation {
+            page.paint(ids::ESTIMATION_PLOT, e)?;
+        }
+    }
+    page.paint(ids::STATE_PLOT, states)?;
+    page.paint(ids::INPUT_PLOT, inputs)
 }
 
 #[derive(Serialize)]
@@ -677,16 +1176,26 @@ struct CycleSummary {
 /// One full cycle: read the form, evaluate (parse → analyse → place → simulate),
 /// update the field feedback and the results, paint the canvases. Returns
 /// `{ status, cycle_ms, errors }` and records `cycle_ms` in the status line's
-/// `data-cycle-ms`.
+/// `data-cycle-ms` (and the phases in `data-cycle-phases`).
 #[wasm_bindgen]
 pub fn update_page() -> Result<JsValue, JsValue> {
     let start = now_ms();
+    PHASES.with(|p| {
+        if let Ok(mut v) = p.try_borrow_mut() {
+            v.clear();
+        }
+    });
     let doc = document()?;
     let input = read_form(&doc)?;
+    let t_read = now_ms();
+    phase("read", t_read - start);
     let mut outcome = evaluate_form(&input);
-    show_field_feedback(&doc, &outcome)?;
+    let t_eval = now_ms();
+    phase("evaluate", t_eval - t_read);
     let status = outcome.status;
     let status_text = with_page(|page| {
+        show_field_feedback(&doc, page, &input, &outcome)?;
+        phase("feedback", now_ms() - t_eval);
         let text = match status {
             FormStatus::Designed => {
                 let (design, report) = match (outcome.design.take(), outcome.report.take()) {
@@ -694,29 +1203,42 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                     // invariant: evaluate_form sets both with FormStatus::Designed; treat otherwise as an internal error.
                     _ => return Err(JsValue::from_str("internal error: a design without its report")),
                 };
-                render_report(&doc, &report)?;
-                note(&doc, None, "note")?;
-                mark_stale(&doc, false)?;
+                let discrete = design.domain == "discrete";
                 let mut scene = form::pole_map_scene(&design);
+                scene.fit_poles = page.fit_poles;
                 let markers = scene.markers();
                 page.focus = page.focus.filter(|i| *i < markers.len());
                 scene.highlight = page.focus.and_then(|i| markers.get(i)).map(|p| [p.re, p.im]);
                 page.pole_scene = scene;
-                page.gain_text = report.gain.text.clone();
                 let text = format!(
                     "Designed: {} state{}, {} input{}; {} warning{}.",
                     design.plant.states,
                     if design.plant.states == 1 { "" } else { "s" },
                     design.plant.inputs,
                     if design.plant.inputs == 1 { "" } else { "s" },
-                    design.warnings.len(),
-                    if design.warnings.len() == 1 { "" } else { "s" }
+                    report.warnings.len(),
+                    if report.warnings.len() == 1 { "" } else { "s" }
                 );
+                if page.shown == Shown::Infeasible {
+                    page.rendered.clear();
+                }
                 page.design = Some(design);
+                page.report = Some(report);
                 page.analysis = None;
                 page.shown = Shown::Design;
+                // Canvases first: text drawn on a canvas after the page changed would make
+                // the browser recompute the page's styles there and then.
                 paint_all(page)?;
+                let t0 = now_ms();
+                if let Some(report) = page.report.take() {
+                    let rendered = render_report(&doc, page, &report, discrete);
+                    page.report = Some(report);
+                    rendered?;
+                }
+                note(&doc, None, "note")?;
+                mark_stale(&doc, false)?;
                 refresh_readout(page)?;
+                phase("results", now_ms() - t0);
                 text
             }
             FormStatus::Invalid => {
@@ -725,25 +1247,28 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                     Shown::Nothing => format!("No design yet: check {list}."),
                     _ => format!("Input needs attention ({list}); the results below are from the last valid input."),
                 };
-                note(&doc, Some(&text), "note is-stale-note")?;
-                mark_stale(&doc, page.shown != Shown::Nothing)?;
                 if page.shown == Shown::Nothing {
                     paint_all(page)?;
                 }
+                note(&doc, Some(&text), "note is-stale-note")?;
+                mark_stale(&doc, page.shown != Shown::Nothing)?;
                 format!("Not updated: {} field{} to fix ({list}).", outcome.errors.len(), if outcome.errors.len() == 1 { "" } else { "s" })
             }
             FormStatus::Infeasible => {
                 let message = outcome.design_error.clone().unwrap_or_else(|| "The design is not possible.".into());
-                render_infeasible(&doc, &message, outcome.analysis.as_ref())?;
-                note(&doc, Some(&message), "note is-infeasible")?;
-                mark_stale(&doc, false)?;
                 page.pole_scene = outcome.analysis.as_ref().map(form::open_loop_scene).unwrap_or_default();
+                page.pole_scene.fit_poles = page.fit_poles;
                 page.focus = None;
                 page.design = None;
+                page.report = None;
                 page.analysis = outcome.analysis.take();
-                page.gain_text = String::new();
                 page.shown = Shown::Infeasible;
                 paint_all(page)?;
+                render_infeasible(&doc, &message, page.analysis.as_ref())?;
+                page.rendered.clear();
+                page.tables.clear();
+                note(&doc, Some(&message), "note is-infeasible")?;
+                mark_stale(&doc, false)?;
                 refresh_readout(page)?;
                 "Design not possible with this plant: see Results.".to_string()
             }
@@ -754,19 +1279,43 @@ pub fn update_page() -> Result<JsValue, JsValue> {
     let status_el = by_id(&doc, ids::STATUS)?;
     status_el.set_text_content(Some(&format!("{status_text} Cycle time {:.1} ms.", cycle_ms)));
     status_el.set_attribute("data-cycle-ms", &format!("{cycle_ms}"))?;
+    let phases = PHASES.with(|p| p.try_borrow().map(|v| v.iter().map(|(k, ms)| format!("{k}={ms:.3}")).collect::<Vec<_>>().join(" ")).unwrap_or_default());
+    status_el.set_attribute("data-cycle-phases", &phases)?;
     status_el.set_attribute("data-outcome", match status {
         FormStatus::Designed => "designed",
         FormStatus::Invalid => "invalid",
         FormStatus::Infeasible => "infeasible",
     })?;
-    status_el.class_list().toggle_with_force("is-error", status != FormStatus::Designed)?;
+    if status_el.class_list().contains("is-error") != (status != FormStatus::Designed) {
+        status_el.class_list().toggle_with_force("is-error", status != FormStatus::Designed)?;
+    }
     to_js(&CycleSummary { status, cycle_ms, errors: outcome.errors }, "cycle summary")
 }
 
-/// Repaint the canvases (after a resize, or before printing).
+/// Repaint the canvases (before printing, or when the pixel ratio changed).
 #[wasm_bindgen]
 pub fn redraw() -> Result<(), JsValue> {
-    with_page(|page| paint_all(page))
+    with_page(|page| {
+        for c in page.canvases.iter_mut() {
+            c.painted = None;
+        }
+        paint_all(page)
+    })
+}
+
+/// The page's canvases changed size (called from a ResizeObserver, when layout is fresh):
+/// re-read their CSS sizes and repaint those that changed.
+#[wasm_bindgen]
+pub fn canvases_resized() -> Result<(), JsValue> {
+    with_page(|page| {
+        for c in page.canvases.iter_mut() {
+            if let Ok(canvas) = find_canvas(c.id) {
+                let (w, h) = (canvas.client_width(), canvas.client_height());
+                c.size = if w > 0 && h > 0 { Some(Rect::sized(f64::from(w), f64::from(h))) } else { None };
+            }
+        }
+        paint_all(page)
+    })
 }
 
 /// Choose how the state plot is scaled: each state divided by its peak (`true`, shows
@@ -779,10 +1328,48 @@ pub fn set_state_scale(normalised: bool) -> Result<(), JsValue> {
     })
 }
 
+/// Fit the pole map's view to the poles (`true`) or show the whole stable-region context
+/// (the origin, and the unit circle for a digital design).
+#[wasm_bindgen]
+pub fn set_pole_zoom(fit: bool) -> Result<(), JsValue> {
+    with_page(|page| {
+        page.fit_poles = fit;
+        page.pole_scene.fit_poles = fit;
+        paint_all(page)
+    })
+}
+
 /// The gain as tab-separated text with labels (empty when there is no design).
 #[wasm_bindgen]
 pub fn gain_text() -> Result<String, JsValue> {
-    with_page(|page| Ok(page.gain_text.clone()))
+    copy_text("gain")
+}
+
+/// Text to copy: `"gain"` (K), `"observer"` (L, and L_c) or `"controller"` (every matrix of the
+/// controller); empty when there is none.
+#[wasm_bindgen]
+pub fn copy_text(which: &str) -> Result<String, JsValue> {
+    with_page(|page| {
+        let Some(r) = &page.report else { return Ok(String::new()) };
+        Ok(match which {
+            "gain" => r.gain.text.clone(),
+            "observer" => r
+                .controller
+                .as_ref()
+                .and_then(|c| c.observer.as_ref())
+                .map(|o| {
+                    let mut t = o.gain.text.clone();
+                    if let Some(lc) = &o.current_gain {
+                        t.push('\n');
+                        t.push_str(&lc.text);
+                    }
+                    t
+                })
+                .unwrap_or_default(),
+            "controller" => controller_text(r),
+            other => return Err(js_err("copy", format!("nothing called {other} to copy"))),
+        })
+    })
 }
 
 fn set_name(set: PoleSet) -> &'static str {
@@ -790,27 +1377,49 @@ fn set_name(set: PoleSet) -> &'static str {
         PoleSet::ClosedLoop => "Closed-loop pole",
         PoleSet::OpenLoop => "Open-loop pole",
         PoleSet::NotAssigned => "Requested pole that could not be assigned",
+        PoleSet::Observer => "Observer pole",
     }
 }
 
-/// `Closed-loop pole 2 of 4: −12 + 9j (damping ratio 0.8, natural frequency 15 rad/s).`
-fn readout(scene: &PoleMapScene, pick: &PolePick) -> String {
+/// `Closed-loop pole 2 of 4: −12 + 9j (damping ratio 0.8, natural frequency 15 rad/s).`; for a
+/// z-plane pole both `z` and the equivalent `s = ln z / T`.
+fn readout(scene: &PoleMapScene, pick: &PolePick, sample_time: Option<f64>) -> String {
     let same: Vec<PolePick> = scene.markers().into_iter().filter(|p| p.set == pick.set).collect();
     let k = same.iter().position(|p| p.index == pick.index).map_or(1, |k| k + 1);
     let z = Complex64::new(pick.re, pick.im);
-    let character = form::pole_character(z);
-    let extra = if character.is_empty() { String::new() } else { format!(" ({character})") };
-    format!("{} {k} of {}: {}{extra}.", set_name(pick.set), same.len(), form::short_pole(z))
+    let head = format!("{} {k} of {}", set_name(pick.set), same.len());
+    match (scene.discrete, sample_time) {
+        (true, Some(t)) => match form::z_to_s(z, t) {
+            Some(s) => {
+                let character = form::pole_character(s);
+                let extra = if character.is_empty() { String::new() } else { format!(" ({character})") };
+                format!("{head}: z = {} (|z| = {}); s = ln z / T = {}{extra}.", form::short_pole(z), fmt_num(z.norm()), form::short_pole(s))
+            }
+            None => format!("{head}: z = {}; s = ln z / T = −∞ (gone after one sample).", form::short_pole(z)),
+        },
+        (true, None) => format!("{head}: z = {} (|z| = {}).", form::short_pole(z), fmt_num(z.norm())),
+        _ => {
+            let character = form::pole_character(z);
+            let extra = if character.is_empty() { String::new() } else { format!(" ({character})") };
+            format!("{head}: {}{extra}.", form::short_pole(z))
+        }
+    }
 }
 
 fn show_readout(text: &str) -> Result<(), JsValue> {
-    set_text(&document()?, ids::POLE_PICK, text)
+    let doc = document()?;
+    let el = by_id(&doc, ids::POLE_PICK)?;
+    if el.text_content().as_deref() != Some(text) {
+        el.set_text_content(Some(text));
+    }
+    Ok(())
 }
 
 fn refresh_readout(page: &PageState) -> Result<(), JsValue> {
     let markers = page.pole_scene.markers();
+    let t = page.design.as_ref().and_then(|d| d.sample_time);
     match page.focus.and_then(|i| markers.get(i)) {
-        Some(p) => show_readout(&readout(&page.pole_scene, p)),
+        Some(p) => show_readout(&readout(&page.pole_scene, p, t)),
         None => show_readout(POLE_HINT),
     }
 }
@@ -833,7 +1442,7 @@ pub fn step_pole(delta: i32) -> Result<(), JsValue> {
         } as usize;
         page.focus = Some(next);
         page.pole_scene.highlight = markers.get(next).map(|p| [p.re, p.im]);
-        paint_pole_map(&Surface::prepare(ids::POLE_MAP)?, &page.pole_scene)?;
+        page.paint(ids::POLE_MAP, Picture::Poles(page.pole_scene.clone()))?;
         refresh_readout(page)
     })
 }
@@ -854,7 +1463,7 @@ pub fn clear_pole_focus() -> Result<(), JsValue> {
     with_page(|page| {
         page.focus = None;
         if page.pole_scene.highlight.take().is_some() {
-            paint_pole_map(&Surface::prepare(ids::POLE_MAP)?, &page.pole_scene)?;
+            page.paint(ids::POLE_MAP, Picture::Poles(page.pole_scene.clone()))?;
         }
         refresh_readout(page)
     })
@@ -865,9 +1474,10 @@ pub fn clear_pole_focus() -> Result<(), JsValue> {
 #[wasm_bindgen]
 pub fn hover_pole(x: f64, y: f64) -> Result<(), JsValue> {
     with_page(|page| {
-        let canvas = find_canvas(ids::POLE_MAP)?;
-        match page.pole_scene.pick(css_rect(&canvas), [x, y]) {
-            Some(p) => show_readout(&readout(&page.pole_scene, &p)),
+        let rect = page.canvas_rect(ids::POLE_MAP)?;
+        let t = page.design.as_ref().and_then(|d| d.sample_time);
+        match page.pole_scene.pick(rect, [x, y]) {
+            Some(p) => show_readout(&readout(&page.pole_scene, &p, t)),
             None => refresh_readout(page),
         }
     })
@@ -889,7 +1499,8 @@ fn find_canvas(canvas_id: &str) -> Result<HtmlCanvasElement, JsValue> {
         .map_err(|_| js_err("not a canvas", canvas_id))
 }
 
-/// The canvas's CSS box (falls back to its bitmap size before layout).
+/// The canvas's CSS box (falls back to its bitmap size before layout). Reading it forces
+/// a layout when the page changed since the last one: the page cycle uses cached sizes.
 fn css_rect(canvas: &HtmlCanvasElement) -> Rect {
     let (w, h) = (canvas.client_width(), canvas.client_height());
     if w > 0 && h > 0 {
@@ -901,30 +1512,73 @@ fn css_rect(canvas: &HtmlCanvasElement) -> Rect {
 
 /// A canvas sized for the device pixel ratio, drawing in CSS pixels.
 struct Surface {
+    canvas: HtmlCanvasElement,
     ctx: CanvasRenderingContext2d,
     rect: Rect,
+    /// The font, fill and stroke last set (each setter parses its text: skip repeats).
+    font: std::cell::Cell<&'static str>,
+    fill: std::cell::Cell<&'static str>,
+    stroke: std::cell::Cell<&'static str>,
+    align: std::cell::Cell<&'static str>,
+    baseline: std::cell::Cell<&'static str>,
 }
 
 impl Surface {
+    /// Sized from the canvas's own CSS box (for the stand-alone drawing functions).
     fn prepare(canvas_id: &str) -> Result<Surface, JsValue> {
         let canvas = find_canvas(canvas_id)?;
         let rect = css_rect(&canvas);
-        let dpr = web_sys::window()
-            .map(|w| w.device_pixel_ratio())
-            .filter(|d| d.is_finite() && *d > 0.0)
-            .unwrap_or(1.0)
-            .clamp(1.0, 4.0);
-        canvas.set_width((rect.width * dpr).round().clamp(1.0, 16384.0) as u32);
-        canvas.set_height((rect.height * dpr).round().clamp(1.0, 16384.0) as u32);
+        Surface::prepare_sized(canvas_id, rect, pixel_ratio())
+    }
+
+    /// A cleared surface of CSS size `rect`. The bitmap is resized only when its size
+    /// changes (resizing reallocates it); otherwise the drawing state is reset by hand.
+    fn prepare_sized(canvas_id: &str, rect: Rect, dpr: f64) -> Result<Surface, JsValue> {
+        let canvas = find_canvas(canvas_id)?;
+        let w = (rect.width * dpr).round().clamp(1.0, 16384.0) as u32;
+        let h = (rect.height * dpr).round().clamp(1.0, 16384.0) as u32;
+        let resized = canvas.width() != w || canvas.height() != h;
+        if resized {
+            canvas.set_width(w);
+            canvas.set_height(h);
+        }
         let ctx = canvas
             .get_context("2d")?
             .ok_or_else(|| js_err("no 2d context", canvas_id))?
             .dyn_into::<CanvasRenderingContext2d>()
             .map_err(|_| js_err("no 2d context", canvas_id))?;
         ctx.set_transform(dpr, 0.0, 0.0, dpr, 0.0, 0.0)?;
+        if !resized {
+            ctx.set_line_dash(&js_sys::Array::new())?;
+            ctx.set_line_cap("butt");
+            ctx.set_line_join("miter");
+            ctx.set_global_alpha(1.0);
+        }
         ctx.set_fill_style_str(colour::BACKGROUND);
         ctx.fill_rect(0.0, 0.0, rect.width, rect.height);
-        Ok(Surface { ctx, rect })
+        Ok(Surface { canvas, ctx, rect, font: std::cell::Cell::new(""), fill: std::cell::Cell::new(colour::BACKGROUND), stroke: std::cell::Cell::new(""), align: std::cell::Cell::new(""), baseline: std::cell::Cell::new("") })
+    }
+
+
+    fn set_font(&self, font: &'static str) {
+        if self.font.get() != font {
+            self.ctx.set_font(font);
+            self.font.set(font);
+        }
+    }
+
+    fn set_fill(&self, style: &'static str) {
+        if self.fill.get() != style {
+            self.ctx.set_fill_style_str(style);
+            self.fill.set(style);
+        }
+    }
+
+    fn set_stroke(&self, style: &'static str) {
+        if self.stroke.get() != style {
+            self.ctx.set_stroke_style_str(style);
+            self.stroke.set(style);
+        }
     }
 
     fn line(&self, a: [f64; 2], b: [f64; 2]) {
@@ -932,6 +1586,26 @@ impl Surface {
         self.ctx.move_to(a[0], a[1]);
         self.ctx.line_to(b[0], b[1]);
         self.ctx.stroke();
+    }
+
+    /// Many separate segments stroked as one path.
+    fn segments(&self, segs: &[([f64; 2], [f64; 2])]) {
+        if segs.is_empty() {
+            return;
+        }
+        let mut d = String::with_capacity(segs.len() * 24);
+        for (a, b) in segs {
+            push_point(&mut d, 'M', *a);
+            push_point(&mut d, 'L', *b);
+        }
+        self.stroke_path(&d);
+    }
+
+    /// Strokes an SVG path string in one call (falls back to nothing on a bad string).
+    fn stroke_path(&self, d: &str) {
+        if let Ok(path) = Path2d::new_with_path_string(d) {
+            self.ctx.stroke_with_path(&path);
+        }
     }
 
     fn dash(&self, pattern: &[f64]) -> Result<(), JsValue> {
@@ -942,9 +1616,15 @@ impl Surface {
         self.ctx.set_line_dash(&arr)
     }
 
-    fn text(&self, s: &str, x: f64, y: f64, align: &str, baseline: &str) -> Result<(), JsValue> {
-        self.ctx.set_text_align(align);
-        self.ctx.set_text_baseline(baseline);
+    fn text(&self, s: &str, x: f64, y: f64, align: &'static str, baseline: &'static str) -> Result<(), JsValue> {
+        if self.align.get() != align {
+            self.ctx.set_text_align(align);
+            self.align.set(align);
+        }
+        if self.baseline.get() != baseline {
+            self.ctx.set_text_baseline(baseline);
+            self.baseline.set(baseline);
+        }
         self.ctx.fill_text(s, x, y)
     }
 
@@ -955,12 +1635,46 @@ impl Surface {
             .unwrap_or(7.0 * s.chars().count() as f64)
     }
 
+    /// Ends a [`Surface::clip_to`]: the context's saved state comes back, so the cached
+    /// font and styles are forgotten (the next setter applies its value again).
+    fn restore(&self) {
+        self.ctx.restore();
+        for cell in [&self.font, &self.fill, &self.stroke, &self.align, &self.baseline] {
+            cell.set("");
+        }
+    }
+
     fn clip_to(&self, r: Rect) {
         self.ctx.save();
         self.ctx.begin_path();
         self.ctx.rect(r.x, r.y, r.width, r.height);
         self.ctx.clip();
     }
+}
+
+/// Appends `Mx y` (or `Lx y`) to an SVG path, each coordinate rounded to a hundredth of a
+/// CSS pixel and written as digits directly (float formatting is slow in the size-tuned build).
+fn push_point(d: &mut String, command: char, p: [f64; 2]) {
+    d.push(command);
+    push_hundredths(d, p[0]);
+    d.push(' ');
+    push_hundredths(d, p[1]);
+}
+
+fn push_hundredths(d: &mut String, v: f64) {
+    use std::fmt::Write;
+    // Bounded: callers clamp to ±1e6 pixels, so the count of hundredths fits an i64.
+    let c = (v.clamp(-1e9, 1e9) * 100.0).round() as i64;
+    if c < 0 {
+        d.push('-');
+    }
+    let c = c.unsigned_abs();
+    // Writing to a String cannot fail.
+    let _ = write!(d, "{}", c / 100);
+    let frac = (c % 100) as u8;
+    d.push('.');
+    d.push(char::from(b'0' + frac / 10));
+    d.push(char::from(b'0' + frac % 10));
 }
 
 /// Typographic minus for labels.
@@ -976,39 +1690,29 @@ fn own_ticks(f: &Frame) -> (Ticks, Ticks) {
 /// Grid lines, plot edge and tick labels.
 fn paint_grid(s: &Surface, f: &Frame, (xt, yt): (Ticks, Ticks)) -> Result<(), JsValue> {
     let p = f.plot;
-    s.ctx.set_stroke_style_str(colour::GRID);
+    s.set_stroke(colour::GRID);
     s.ctx.set_line_width(1.0);
+    let mut segs = Vec::with_capacity(xt.ticks.len() + yt.ticks.len());
     for t in &xt.ticks {
         let x = snap(f.x.to_pixel(t.value));
-        s.line([x, p.y], [x, p.bottom()]);
+        segs.push(([x, p.y], [x, p.bottom()]));
     }
     for t in &yt.ticks {
         let y = snap(f.y.to_pixel(t.value));
-        s.line([p.x, y], [p.right(), y]);
+        segs.push(([p.x, y], [p.right(), y]));
     }
-    s.ctx.set_stroke_style_str(colour::PLOT_EDGE);
+    s.segments(&segs);
+    s.set_stroke(colour::PLOT_EDGE);
     s.ctx
         .stroke_rect(snap(p.x), snap(p.y), p.width.round(), p.height.round());
 
-    s.ctx.set_font(FONT);
-    s.ctx.set_fill_style_str(colour::MUTED_TEXT);
+    s.set_font(FONT);
+    s.set_fill(colour::MUTED_TEXT);
     for t in &xt.ticks {
-        s.text(
-            &pretty(&t.label),
-            f.x.to_pixel(t.value),
-            p.bottom() + 5.0,
-            "center",
-            "top",
-        )?;
+        s.text(&pretty(&t.label), f.x.to_pixel(t.value), p.bottom() + 5.0, "center", "top")?;
     }
     for t in &yt.ticks {
-        s.text(
-            &pretty(&t.label),
-            p.x - 6.0,
-            f.y.to_pixel(t.value),
-            "right",
-            "middle",
-        )?;
+        s.text(&pretty(&t.label), p.x - 6.0, f.y.to_pixel(t.value), "right", "middle")?;
     }
     Ok(())
 }
@@ -1019,16 +1723,10 @@ fn snap(v: f64) -> f64 {
 }
 
 fn axis_titles(s: &Surface, f: &Frame, x_title: &str, y_title: &str) -> Result<(), JsValue> {
-    s.ctx.set_font(TITLE_FONT);
-    s.ctx.set_fill_style_str(colour::TEXT);
+    s.set_font(TITLE_FONT);
+    s.set_fill(colour::TEXT);
     let p = f.plot;
-    s.text(
-        x_title,
-        p.x + p.width / 2.0,
-        p.bottom() + 22.0,
-        "center",
-        "top",
-    )?;
+    s.text(x_title, p.x + p.width / 2.0, p.bottom() + 22.0, "center", "top")?;
     s.text(y_title, 8.0, p.y - 8.0, "left", "bottom")
 }
 
@@ -1037,12 +1735,12 @@ type Swatch<'a> = Box<dyn Fn(&Surface, [f64; 2]) + 'a>;
 
 /// Legend entries (label, swatch), right-aligned in the top margin.
 fn legend(s: &Surface, f: &Frame, entries: &[(&str, Swatch)]) -> Result<(), JsValue> {
-    s.ctx.set_font(FONT);
+    s.set_font(FONT);
     let y = f.plot.y - 12.0;
     let mut x = f.plot.right();
     for (label, swatch) in entries.iter().rev() {
         let w = s.text_width(label);
-        s.ctx.set_fill_style_str(colour::TEXT);
+        s.set_fill(colour::TEXT);
         s.text(label, x, y, "right", "middle")?;
         x -= w + 14.0;
         swatch(s, [x, y]);
@@ -1051,19 +1749,23 @@ fn legend(s: &Surface, f: &Frame, entries: &[(&str, Swatch)]) -> Result<(), JsVa
     Ok(())
 }
 
-fn cross(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &str) {
-    s.ctx.set_stroke_style_str(stroke);
+fn cross(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &'static str) {
+    s.set_stroke(stroke);
     s.ctx.set_line_width(width);
     s.ctx.set_line_cap("round");
-    s.line([c[0] - half, c[1] - half], [c[0] + half, c[1] + half]);
-    s.line([c[0] - half, c[1] + half], [c[0] + half, c[1] - half]);
+    s.ctx.begin_path();
+    s.ctx.move_to(c[0] - half, c[1] - half);
+    s.ctx.line_to(c[0] + half, c[1] + half);
+    s.ctx.move_to(c[0] - half, c[1] + half);
+    s.ctx.line_to(c[0] + half, c[1] - half);
+    s.ctx.stroke();
     s.ctx.set_line_cap("butt");
 }
 
 /// A hollow diamond: requested poles that could not be assigned (a different shape,
 /// not only a different colour, so that it reads in grey print too).
-fn diamond(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &str) {
-    s.ctx.set_stroke_style_str(stroke);
+fn diamond(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &'static str) {
+    s.set_stroke(stroke);
     s.ctx.set_line_width(width);
     s.ctx.begin_path();
     s.ctx.move_to(c[0], c[1] - half);
@@ -1072,6 +1774,14 @@ fn diamond(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &str) {
     s.ctx.line_to(c[0] - half, c[1]);
     s.ctx.close_path();
     s.ctx.stroke();
+}
+
+/// An observer pole: a cross (a pole) inside a square frame, so that it differs from a
+/// controller pole by shape as well as by colour.
+fn boxed_cross(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &'static str) {
+    cross(s, c, half * 0.62, width, stroke);
+    s.ctx.set_line_width(width * 0.6);
+    s.ctx.stroke_rect(c[0] - half, c[1] - half, 2.0 * half, 2.0 * half);
 }
 
 struct MarkerStyle {
@@ -1097,6 +1807,11 @@ fn marker_style(set: PoleSet) -> MarkerStyle {
             width: 2.25,
             stroke: colour::CLOSED_LOOP,
         },
+        PoleSet::Observer => MarkerStyle {
+            half: 6.0,
+            width: 1.75,
+            stroke: colour::OBSERVER,
+        },
     }
 }
 
@@ -1104,6 +1819,7 @@ fn marker(s: &Surface, set: PoleSet, c: [f64; 2]) {
     let st = marker_style(set);
     match set {
         PoleSet::NotAssigned => diamond(s, c, st.half, st.width, st.stroke),
+        PoleSet::Observer => boxed_cross(s, c, st.half, st.width, st.stroke),
         _ => cross(s, c, st.half, st.width, st.stroke),
     }
 }
@@ -1113,6 +1829,7 @@ fn set_label(set: PoleSet) -> &'static str {
         PoleSet::OpenLoop => "open loop",
         PoleSet::NotAssigned => "not assignable",
         PoleSet::ClosedLoop => "closed loop",
+        PoleSet::Observer => "observer",
     }
 }
 
@@ -1120,21 +1837,24 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
     let f = scene.frame(s.rect);
     let p = f.plot;
     let origin = f.to_pixel([0.0, 0.0]);
+    let radius = f.x.scale().abs();
+    // Keep coordinates bounded for the canvas; the clip hides the rest.
+    let bounded = |v: f64| v.clamp(-1e6, 1e6);
 
     // Stable region first, under the grid.
     s.clip_to(p);
-    s.ctx.set_fill_style_str(colour::STABLE_FILL);
+    s.set_fill(colour::STABLE_FILL);
     if scene.discrete {
-        let r = f.x.scale().abs();
-        s.ctx.begin_path();
-        s.ctx
-            .arc(origin[0], origin[1], r, 0.0, std::f64::consts::TAU)?;
-        s.ctx.fill();
+        if radius.is_finite() && radius < 1e7 {
+            s.ctx.begin_path();
+            s.ctx.arc(bounded(origin[0]), bounded(origin[1]), radius, 0.0, std::f64::consts::TAU)?;
+            s.ctx.fill();
+        }
     } else {
         let right = origin[0].clamp(p.x, p.right());
         s.ctx.fill_rect(p.x, p.y, right - p.x, p.height);
     }
-    s.ctx.restore();
+    s.restore();
 
     // Equal scale: one step on both axes keeps the grid square.
     paint_grid(
@@ -1145,21 +1865,16 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
 
     s.clip_to(p);
     // Real and imaginary axes.
-    s.ctx.set_stroke_style_str(colour::AXIS);
+    s.set_stroke(colour::AXIS);
     s.ctx.set_line_width(1.0);
-    s.line([p.x, snap(origin[1])], [p.right(), snap(origin[1])]);
-    s.line([snap(origin[0]), p.y], [snap(origin[0]), p.bottom()]);
-    if scene.discrete {
-        s.ctx.set_stroke_style_str(colour::STABLE_EDGE);
+    let (ox, oy) = (snap(bounded(origin[0])), snap(bounded(origin[1])));
+    s.segments(&[([p.x, oy], [p.right(), oy]), ([ox, p.y], [ox, p.bottom()])]);
+    if scene.discrete && radius.is_finite() && radius < 1e7 {
+        s.set_stroke(colour::STABLE_EDGE);
+        s.ctx.set_line_width(1.5);
         s.dash(&[5.0, 4.0])?;
         s.ctx.begin_path();
-        s.ctx.arc(
-            origin[0],
-            origin[1],
-            f.x.scale().abs(),
-            0.0,
-            std::f64::consts::TAU,
-        )?;
+        s.ctx.arc(bounded(origin[0]), bounded(origin[1]), radius, 0.0, std::f64::consts::TAU)?;
         s.ctx.stroke();
         s.dash(&[])?;
     }
@@ -1168,18 +1883,19 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
             .iter()
             .filter(|q| q[0].is_finite() && q[1].is_finite())
         {
-            marker(s, set, f.to_pixel(*pt));
+            let q = f.to_pixel(*pt);
+            marker(s, set, [bounded(q[0]), bounded(q[1])]);
         }
     }
     if let Some(h) = scene.highlight.filter(|h| h[0].is_finite() && h[1].is_finite()) {
         let c = f.to_pixel(h);
-        s.ctx.set_stroke_style_str(colour::FOCUS);
+        s.set_stroke(colour::FOCUS);
         s.ctx.set_line_width(2.0);
         s.ctx.begin_path();
-        s.ctx.arc(c[0], c[1], 11.0, 0.0, std::f64::consts::TAU)?;
+        s.ctx.arc(bounded(c[0]), bounded(c[1]), 11.0, 0.0, std::f64::consts::TAU)?;
         s.ctx.stroke();
     }
-    s.ctx.restore();
+    s.restore();
 
     let var = if scene.discrete { "z" } else { "s" };
     axis_titles(s, &f, &format!("Re {var}"), &format!("Im {var}"))?;
@@ -1190,9 +1906,9 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
         "stable region"
     };
     let fill_swatch = |s: &Surface, c: [f64; 2]| {
-        s.ctx.set_fill_style_str(colour::STABLE_FILL);
+        s.set_fill(colour::STABLE_FILL);
         s.ctx.fill_rect(c[0] - 6.0, c[1] - 6.0, 12.0, 12.0);
-        s.ctx.set_stroke_style_str(colour::STABLE_EDGE);
+        s.set_stroke(colour::STABLE_EDGE);
         s.ctx.set_line_width(1.0);
         s.ctx.stroke_rect(c[0] - 6.0, c[1] - 6.0, 12.0, 12.0);
     };
@@ -1214,7 +1930,7 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
         .filter(|q| !(q[0].is_finite() && q[1].is_finite()))
         .count();
     if hidden > 0 {
-        s.ctx.set_fill_style_str(colour::LIMIT);
+        s.set_fill(colour::LIMIT);
         s.text(
             &format!("{hidden} non-finite pole(s) not shown"),
             p.x + 6.0,
@@ -1226,28 +1942,61 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
     Ok(())
 }
 
-/// Dash pattern of series `i`: solid for the first colour cycle, then dashed, dotted…
-fn series_dash(i: usize) -> &'static [f64] {
-    const DASHES: [&[f64]; 4] = [&[], &[7.0, 3.5], &[2.0, 3.0], &[9.0, 3.0, 2.0, 3.0]];
-    DASHES[(i / colour::SERIES.len()) % DASHES.len()]
+/// Dash patterns by slot: solid, dashed, dotted, dash-dot.
+const DASHES: [&[f64]; 4] = [&[], &[7.0, 3.5], &[2.0, 3.0], &[9.0, 3.0, 2.0, 3.0]];
+
+/// Colour and dash of series `i`: its own slots, or by position (solid for the first
+/// colour cycle, then dashed, dotted…).
+fn series_style(scene: &TimePlotScene, i: usize) -> (&'static str, &'static [f64]) {
+    let ser = scene.series.get(i);
+    let c = ser.and_then(|s| s.colour).unwrap_or(i) % colour::SERIES.len();
+    let d = ser.and_then(|s| s.dash).unwrap_or(i / colour::SERIES.len()) % DASHES.len();
+    (colour::SERIES[c], DASHES[d])
 }
 
 /// A blank plot area with a centred message (no data to show).
 fn paint_message(s: &Surface, text: &str) -> Result<(), JsValue> {
     let p = s.rect.inset(crate::plot::Margins::STANDARD);
-    s.ctx.set_stroke_style_str(colour::PLOT_EDGE);
+    s.set_stroke(colour::PLOT_EDGE);
     s.ctx.set_line_width(1.0);
     s.ctx.stroke_rect(snap(p.x), snap(p.y), p.width.round(), p.height.round());
-    s.ctx.set_font(TITLE_FONT);
-    s.ctx.set_fill_style_str(colour::MUTED_TEXT);
+    s.set_font(TITLE_FONT);
+    s.set_fill(colour::MUTED_TEXT);
     s.text(text, p.x + p.width / 2.0, p.y + p.height / 2.0, "center", "middle")
 }
 
+/// The path of series `i` in pixels: finite runs, each simplified to what the pixels show.
+fn series_path(scene: &TimePlotScene, f: &Frame, i: usize) -> String {
+    let mut d = String::new();
+    let Some(ser) = scene.series.get(i) else { return d };
+    let mut run: Option<Simplifier> = None;
+    let flush = |run: &mut Option<Simplifier>, d: &mut String| {
+        if let Some(s) = run.take() {
+            for (k, q) in s.finish().iter().enumerate() {
+                push_point(d, if k == 0 { 'M' } else { 'L' }, *q);
+            }
+        }
+    };
+    for (&t, &y) in scene.t.iter().zip(&ser.values) {
+        if t.is_finite() && y.is_finite() {
+            let q = f.to_pixel([t, y]);
+            run.get_or_insert_with(|| Simplifier::new(SIMPLIFY_TOLERANCE_PX)).push([q[0].clamp(-1e6, 1e6), q[1].clamp(-1e6, 1e6)]);
+        } else {
+            flush(&mut run, &mut d);
+        }
+    }
+    flush(&mut run, &mut d);
+    d
+}
+
+/// How far (CSS pixels) a simplified line may stray from the samples it stands for.
+const SIMPLIFY_TOLERANCE_PX: f64 = 0.2;
+
 fn paint_time_plot(s: &Surface, scene: &TimePlotScene) -> Result<(), JsValue> {
     // Legend rows first: they set the top margin.
-    s.ctx.set_font(TITLE_FONT);
+    s.set_font(TITLE_FONT);
     let title_width = s.text_width(&scene.y_label);
-    s.ctx.set_font(FONT);
+    s.set_font(FONT);
     let base = scene.frame(s.rect);
     let left = 8.0 + title_width + 16.0;
     let available = (base.plot.right() - left).max(LEGEND_SWATCH_PX + 40.0);
@@ -1264,9 +2013,9 @@ fn paint_time_plot(s: &Surface, scene: &TimePlotScene) -> Result<(), JsValue> {
                 f.y.to_pixel(b.lower.min(b.upper)),
             );
             s.clip_to(p);
-            s.ctx.set_fill_style_str(colour::BAND_FILL);
+            s.set_fill(colour::BAND_FILL);
             s.ctx.fill_rect(p.x, y0, p.width, (y1 - y0).max(1.0));
-            s.ctx.restore();
+            s.restore();
         }
     }
 
@@ -1274,66 +2023,68 @@ fn paint_time_plot(s: &Surface, scene: &TimePlotScene) -> Result<(), JsValue> {
 
     s.clip_to(p);
     if f.y.range.contains(0.0) {
-        s.ctx.set_stroke_style_str(colour::AXIS);
+        s.set_stroke(colour::AXIS);
         s.ctx.set_line_width(1.0);
         let y = snap(f.y.to_pixel(0.0));
         s.line([p.x, y], [p.right(), y]);
     }
-    s.ctx.set_stroke_style_str(colour::LIMIT);
-    s.ctx.set_line_width(1.25);
-    s.dash(&[6.0, 4.0])?;
-    for l in scene.limits.iter().filter(|l| l.value.is_finite()) {
-        let y = f.y.to_pixel(l.value);
-        s.line([p.x, y], [p.right(), y]);
+    let events: Vec<&crate::plot::EventLine> = scene.events.iter().filter(|e| e.time.is_finite() && f.x.range.contains(e.time)).collect();
+    if !events.is_empty() {
+        s.set_stroke(colour::EVENT);
+        s.ctx.set_line_width(1.0);
+        s.dash(&[2.0, 3.0])?;
+        let segs: Vec<([f64; 2], [f64; 2])> = events.iter().map(|e| snap(f.x.to_pixel(e.time))).map(|x| ([x, p.y], [x, p.bottom()])).collect();
+        s.segments(&segs);
+        s.dash(&[])?;
     }
-    s.dash(&[])?;
+    let limits: Vec<([f64; 2], [f64; 2])> = scene.limits.iter().filter(|l| l.value.is_finite()).map(|l| f.y.to_pixel(l.value).clamp(-1e6, 1e6)).map(|y| ([p.x, y], [p.right(), y])).collect();
+    if !limits.is_empty() {
+        s.set_stroke(colour::LIMIT);
+        s.ctx.set_line_width(1.25);
+        s.dash(&[6.0, 4.0])?;
+        s.segments(&limits);
+        s.dash(&[])?;
+    }
 
     s.ctx.set_line_width(1.75);
     s.ctx.set_line_join("round");
-    for (i, _) in scene.series.iter().enumerate() {
-        s.ctx
-            .set_stroke_style_str(colour::SERIES[i % colour::SERIES.len()]);
-        s.dash(series_dash(i))?;
-        s.ctx.begin_path();
-        let mut pen_down = false;
-        for pt in scene.points(i) {
-            if pt[0].is_finite() && pt[1].is_finite() {
-                let q = f.to_pixel(pt);
-                // Keep coordinates bounded for the canvas; the clip hides the rest.
-                let q = [q[0].clamp(-1e6, 1e6), q[1].clamp(-1e6, 1e6)];
-                if pen_down {
-                    s.ctx.line_to(q[0], q[1]);
-                } else {
-                    s.ctx.move_to(q[0], q[1]);
-                    pen_down = true;
-                }
-            } else {
-                pen_down = false;
-            }
+    for i in 0..scene.series.len() {
+        let (stroke, dash) = series_style(scene, i);
+        s.set_stroke(stroke);
+        s.dash(dash)?;
+        let d = series_path(scene, &f, i);
+        if !d.is_empty() {
+            s.stroke_path(&d);
         }
-        s.ctx.stroke();
     }
-    s.ctx.restore();
+    s.dash(&[])?;
+    s.restore();
 
-    // Labels for limits and band, inside the plot at the right edge.
-    s.ctx.set_font(FONT);
+    // Labels for limits, events and band, inside the plot.
+    s.set_font(FONT);
     for l in scene
         .limits
         .iter()
         .filter(|l| l.value.is_finite() && !l.label.is_empty())
     {
-        s.ctx.set_fill_style_str(colour::LIMIT);
+        s.set_fill(colour::LIMIT);
         let y = f.y.to_pixel(l.value);
         if y >= p.y && y <= p.bottom() {
             s.text(&l.label, p.right() - 6.0, y - 3.0, "right", "bottom")?;
         }
+    }
+    s.set_fill(colour::MUTED_TEXT);
+    for (k, e) in events.iter().enumerate().filter(|(_, e)| !e.label.is_empty()) {
+        let x = f.x.to_pixel(e.time);
+        // Stagger the labels of neighbouring events.
+        s.text(&e.label, x + 4.0, p.y + 4.0 + 14.0 * (k % 2) as f64, "left", "top")?;
     }
     if let Some(b) = scene
         .band
         .as_ref()
         .filter(|b| !b.label.is_empty() && b.upper.is_finite())
     {
-        s.ctx.set_fill_style_str(colour::BAND_TEXT);
+        s.set_fill(colour::BAND_TEXT);
         let y = f.y.to_pixel(b.upper.max(b.lower));
         if y >= p.y && y <= p.bottom() {
             s.text(&b.label, p.x + 6.0, y - 3.0, "left", "bottom")?;
@@ -1348,17 +2099,18 @@ fn paint_time_plot(s: &Surface, scene: &TimePlotScene) -> Result<(), JsValue> {
     axis_titles(s, &f, x_title, &scene.y_label)?;
 
     // Legend: swatch (colour and dash of the line) and name, flowed into rows.
-    s.ctx.set_font(FONT);
+    s.set_font(FONT);
     for (i, ser) in scene.series.iter().enumerate() {
         let Some((row, x)) = flow.get(i).copied() else { continue };
         let y = 18.0 + row as f64 * LEGEND_ROW_PX;
         let x = left + x;
-        s.ctx.set_stroke_style_str(colour::SERIES[i % colour::SERIES.len()]);
+        let (stroke, dash) = series_style(scene, i);
+        s.set_stroke(stroke);
         s.ctx.set_line_width(2.0);
-        s.dash(series_dash(i))?;
+        s.dash(dash)?;
         s.line([x + 4.0, y], [x + 22.0, y]);
         s.dash(&[])?;
-        s.ctx.set_fill_style_str(colour::TEXT);
+        s.set_fill(colour::TEXT);
         s.text(&ser.name, x + LEGEND_SWATCH_PX - 4.0, y, "left", "middle")?;
     }
     Ok(())

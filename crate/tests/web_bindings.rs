@@ -266,3 +266,67 @@ fn demos_are_listed_and_design() {
     }
     assert!(web::demo(list.len()).is_err());
 }
+
+#[wasm_bindgen_test]
+fn a_version_2_design_crosses_the_boundary_intact() {
+    // The digital demo: observer, integral action with clamping, a 1 kHz sample time, a
+    // reference step and a load step, evaluated through the JS boundary and natively.
+    let list = array(&web::demo_list().expect("list"));
+    let index = list
+        .iter()
+        .position(|d| get(d, "title").as_string().unwrap_or_default().contains("digital"))
+        .expect("a digital demo");
+    let form = web::demo(index).expect("demo");
+    assert_eq!(get(&form, "sample_time").as_string().as_deref(), Some("0.001"));
+    let out = web::evaluate(form).expect("evaluate runs");
+    assert_eq!(get(&out, "status").as_string().as_deref(), Some("designed"));
+    assert_eq!(get(&out, "design.domain").as_string().as_deref(), Some("discrete"));
+    assert_eq!(get(&out, "design.sample_time").as_f64(), Some(0.001));
+
+    let native_form = polewright::demos::demo(index).expect("native demo").form;
+    let native = polewright::form::evaluate_form(&native_form);
+    let nd = native.design.as_ref().expect("native design");
+    let rows = |path: &str| -> Vec<Vec<f64>> {
+        array(&get(&out, path)).iter().map(|r| array(r).iter().filter_map(|v| v.as_f64()).collect()).collect()
+    };
+    // Bit-identical after the round trip: K, L, K_i, Φ and the loop's signals.
+    assert_eq!(rows("design.feedback.gain"), nd.feedback.gain);
+    let no = nd.observer.as_ref().expect("native observer");
+    assert_eq!(rows("design.observer.gain"), no.gain);
+    assert_eq!(get(&out, "design.observer.form").as_string().as_deref(), Some("predictor"));
+    assert_eq!(get(&out, "design.observer.noise_to_input_gain").as_f64(), Some(no.noise_to_input_gain));
+    assert_eq!(get(&out, "design.tracking.mode").as_string().as_deref(), Some("integral"));
+    assert_eq!(get(&out, "design.tracking.anti_windup").as_string().as_deref(), Some("clamp"));
+    assert_eq!(rows("design.discrete_plant.a"), nd.discrete_plant.as_ref().expect("Φ").a);
+    let nl = nd.closed_loop.as_ref().expect("native loop");
+    assert_eq!(rows("design.loop.outputs"), nl.outputs);
+    assert_eq!(rows("design.loop.commanded"), nl.commanded);
+    let tracked = array(&get(&out, "design.loop.tracked"));
+    assert_eq!(tracked.len(), 1);
+    assert_eq!(get(&tracked[0], "rise_time").as_f64(), nl.tracked[0].rise_time);
+    assert!(get(&out, "design.sample_rate.message").as_string().unwrap_or_default().contains("bandwidth"));
+    // The report: L's copyable text reads back to the same numbers.
+    let text = get(&out, "report.controller.observer.gain.text").as_string().unwrap_or_default();
+    let l: Vec<f64> = text.lines().skip(2).filter_map(|line| line.split('\t').nth(1)).filter_map(|c| c.parse().ok()).collect();
+    assert_eq!(l, no.gain.iter().map(|r| r[0]).collect::<Vec<_>>());
+    assert_eq!(array(&get(&out, "report.controller.loop_outputs")).len(), 1);
+    assert_eq!(array(&get(&out, "report.controller.events")).len(), 2);
+
+    // A bad observer field comes back as that field's error.
+    let bad = web::evaluate(js(
+        r#"{"a": "0 1\n0 0", "b": "0\n1", "poles": "-1, -2", "observer": "poles", "observer_poles": "-5, x"}"#,
+    ))
+    .expect("evaluate runs");
+    let errors = array(&get(&bad, "errors"));
+    let fields: Vec<String> = errors.iter().filter_map(|e| get(e, "field").as_string()).collect();
+    assert_eq!(fields, ["observer", "observer_poles"], "no C for the observer, and a bad pole");
+
+    // The z-plane map with observer poles draws.
+    let canvas = add_canvas("wbt-z-map", 420, 320);
+    web::draw_pole_map(
+        "wbt-z-map",
+        js(r#"{"closed_loop": [[0.98, 0.03], [0.98, -0.03]], "observer": [[0.9, 0.1], [0.9, -0.1]], "open_loop": [[1, 0]], "discrete": true}"#),
+    )
+    .expect("z-plane map drawn");
+    assert!(distinct_colours(&canvas) > 5, "z-plane map has content");
+}

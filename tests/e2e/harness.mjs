@@ -182,18 +182,53 @@ export async function screenshot(page, name) {
 
 /** The form's field keys; the control for key k has the id `pw-k`. */
 export const FORM_FIELDS = [
-  'a', 'b', 'c', 'd', 'state_names', 'state_units', 'input_names', 'input_units',
+  'a', 'b', 'state_names', 'state_units', 'input_names', 'input_units',
+  'c', 'd', 'output_names', 'output_units',
   'poles', 'limits', 'initial_state', 'duration',
+  'observer', 'observer_poles', 'observer_speed', 'observer_form',
+  'tracking', 'tracked_outputs', 'integral_poles', 'anti_windup', 'anti_windup_time',
+  'sample_time', 'computation_delay', 'delay_poles', 'plane',
+  'reference', 'reference_time', 'disturbance', 'disturbance_time', 'noise_std', 'seed',
 ];
+
+/** The choice fields (selects and the checkbox) and their "not used" value. */
+export const CHOICE_DEFAULTS = {
+  observer: 'none', observer_form: 'predictor', tracking: 'none', anti_windup: 'none', plane: 's',
+  computation_delay: false,
+};
+
+/**
+ * Set every form control without designing: text fields get `fields[key]` (or blank), selects
+ * the given value (or their "not used" choice), the checkbox true/false. Hidden sub-fields are
+ * set through the DOM (a user cannot type into them; the page ignores them while hidden).
+ */
+export async function setFields(page, fields) {
+  for (const key of Object.keys(fields)) {
+    if (!FORM_FIELDS.includes(key)) throw new Error(`no form field ${key}`);
+  }
+  for (const key of FORM_FIELDS) {
+    const sel = `#pw-${key}`;
+    const value = key in CHOICE_DEFAULTS ? fields[key] ?? CHOICE_DEFAULTS[key] : fields[key] ?? '';
+    if (await page.isVisible(sel)) {
+      if (typeof value === 'boolean') await page.setChecked(sel, value);
+      else if (key in CHOICE_DEFAULTS) await page.selectOption(sel, value);
+      else await page.fill(sel, value);
+    } else {
+      await page.evaluate(([s, v]) => {
+        const el = document.querySelector(s);
+        if (typeof v === 'boolean') el.checked = v;
+        else el.value = v;
+      }, [sel, value]);
+    }
+  }
+}
 
 /**
  * Fill the form: every field in `fields` gets its text, every other field is cleared.
  * Then press "Design now" and wait for the cycle it starts to finish.
  */
 export async function design(page, fields) {
-  for (const key of FORM_FIELDS) {
-    await page.fill(`#pw-${key}`, fields[key] ?? '');
-  }
+  await setFields(page, fields);
   return designNow(page);
 }
 

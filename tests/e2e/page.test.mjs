@@ -1,7 +1,9 @@
 // End-to-end checks of the built page: loads offline from file:// and from a
 // static server, requests nothing but itself, designs on load, reports bad input
 // beside the field, designs the textbook plant correctly, reports an infeasible
-// plant, works by keyboard alone, and measures its own design cycle.
+// plant, works by keyboard alone, designs digital controllers with an observer and
+// tracking (z-plane pole map with the unit circle, loop simulation, L), and measures
+// its own design cycle.
 // Run: node --test tests/e2e/   (after scripts/build-page)
 
 import assert from 'node:assert/strict';
@@ -15,6 +17,7 @@ import {
   design,
   designNow,
   distDir,
+  FORM_FIELDS,
   pageFileUrl,
   pagePath,
   parseComplex,
@@ -99,11 +102,76 @@ async function checkLoadedPage(ctx, shotName) {
   const inputs = await tableRows(page, 'pw-input-table');
   assert.deepEqual(inputs.map((r) => r.slice(0, 1).concat(r.slice(2, 3))), [['motor force (N)', '60 N']]);
 
+  // A plain gain: no controller, observer or loop sections, a continuous pole map.
+  assert.equal(await page.isHidden('#pw-loop-section'), true);
+  assert.equal(await page.isHidden('#pw-controller'), true);
+  assert.equal(await page.isHidden('#pw-obs-result'), true);
+  assert.equal(await page.getAttribute('#pw-pole-map', 'data-unit-circle'), null);
+
   await assertCanvasesDrawn(page);
   await screenshot(page, shotName);
   assert.deepEqual(pageErrors, [], 'no uncaught page errors');
   assert.deepEqual(consoleErrors, [], 'no console errors');
   assert.deepEqual(requests, [url], 'the page itself is the only request');
+}
+
+/** Share of points along the drawn unit circle (from the map's data-unit-circle) where the
+ *  dashed circle's teal is found within 2 px: the circle is there, and where it should be. */
+async function unitCircleCoverage(page) {
+  return page.evaluate(() => {
+    const c = document.getElementById('pw-pole-map');
+    const attr = c.getAttribute('data-unit-circle');
+    if (!attr) return null;
+    const [cx, cy, r] = attr.split(' ').map(Number);
+    const scale = c.width / c.clientWidth;
+    const { data, width, height } = c.getContext('2d').getImageData(0, 0, c.width, c.height);
+    const teal = (x, y) => {
+      if (x < 0 || y < 0 || x >= width || y >= height) return false;
+      const i = 4 * (y * width + x);
+      const [R, G, B] = [data[i], data[i + 1], data[i + 2]];
+      // The circle's edge colour over white or over the pale fill: clearly teal, not pale.
+      return G - R > 35 && B - R > 30 && R < 190;
+    };
+    let hit = 0;
+    const n = 180;
+    for (let k = 0; k < n; k += 1) {
+      const a = (2 * Math.PI * k) / n;
+      const px = Math.round((cx + r * Math.cos(a)) * scale);
+      const py = Math.round((cy - r * Math.sin(a)) * scale);
+      let found = false;
+      for (let dx = -2; dx <= 2 && !found; dx += 1) for (let dy = -2; dy <= 2 && !found; dy += 1) found = teal(px + dx, py + dy);
+      if (found) hit += 1;
+    }
+    return { coverage: hit / n, r };
+  });
+}
+
+/** Pixels of the closed-loop teal (#0e5f5c) in the pole map's legend strip (above the plot). */
+async function legendTeal(page) {
+  return page.evaluate(() => {
+    const c = document.getElementById('pw-pole-map');
+    const scale = c.width / c.clientWidth;
+    const { data, width } = c.getContext('2d').getImageData(0, 0, c.width, Math.round(34 * scale));
+    let n = 0;
+    for (let i = 0; i < data.length; i += 4) {
+      if (Math.abs(data[i] - 14) + Math.abs(data[i + 1] - 95) + Math.abs(data[i + 2] - 92) < 40) n += 1;
+    }
+    return n;
+  });
+}
+
+/** Waits for the cycle that the last change started and returns its outcome. */
+async function settled(page) {
+  await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+  return page.getAttribute('#pw-status', 'data-outcome');
+}
+
+/** Loads demo `index` from the selector (as a user would) and waits for its design. */
+async function loadDemo(page, index) {
+  await page.selectOption('#pw-demo', String(index));
+  await page.evaluate(() => document.getElementById('pw-status').removeAttribute('data-outcome'));
+  await page.click('#pw-load-demo');
+  return settled(page);
 }
 
 const OPENINGS = [
@@ -194,6 +262,182 @@ describe('built page', () => {
           const shownErrors = await page.evaluate(() => [...document.querySelectorAll('.field-error')].filter((e) => !e.hidden).length);
           assert.equal(shownErrors, 0);
           await assertCanvasesDrawn(page, ['pw-pole-map']);
+          // A feasible design afterwards rebuilds every result block.
+          assert.equal(await design(page, { a: '0 1 0\n0 0 1\n-1 -5 -6', b: '0\n0\n1', poles: '-2±4j, -10' }), 'designed');
+          const k = await readGain(page);
+          [199, 55, 8].forEach((want, j) => assert.ok(Math.abs(k[0][j] - want) <= 1e-9 * want, JSON.stringify(k)));
+          assert.equal((await tableRows(page, 'pw-pole-table')).length, 3);
+          assert.equal((await tableRows(page, 'pw-state-table')).length, 3);
+          assert.deepEqual([...pageErrors, ...consoleErrors], []);
+          assert.deepEqual(requests, [url]);
+        });
+      });
+
+      test('the digital demo: observer, integral action, loop simulation, z-plane map', async () => {
+        await withPage(urlOf(), async ({ page, url, requests, consoleErrors, pageErrors }) => {
+          const titles = await page.evaluate(() => [...document.querySelectorAll('#pw-demo option')].map((o) => o.textContent));
+          const index = titles.findIndex((t) => /digital/.test(t));
+          assert.ok(index >= 2, JSON.stringify(titles));
+          assert.equal(await loadDemo(page, index), 'designed', await page.textContent('#pw-status'));
+          assert.match(await page.textContent('#pw-demo-description'), /^Illustrative/);
+          // The loop simulation is shown: plots drawn, metrics filled.
+          assert.equal(await page.isVisible('#pw-loop-section'), true);
+          await assertCanvasesDrawn(page, ['pw-pole-map', 'pw-loop-plot', 'pw-loop-input-plot', 'pw-estimation-plot', 'pw-state-plot', 'pw-input-plot']);
+          const metrics = await tableRows(page, 'pw-loop-table');
+          assert.equal(metrics.length, 1, JSON.stringify(metrics));
+          const [name, ref, rise, settle, over, err] = metrics[0];
+          assert.equal(name, 'head position (m)');
+          assert.match(ref, /^0\.01 m at t = 0\.05 s$/);
+          const seconds = (t) => Number(/^([0-9.e-]+) s$/.exec(t)?.[1]);
+          assert.ok(seconds(rise) > 0 && seconds(rise) < 0.55, `rise time ${rise}`);
+          assert.ok(seconds(settle) > seconds(rise) && seconds(settle) < 0.55, `settling ${settle}`);
+          assert.match(over, /^[0-9.]+ %$/);
+          assert.match(err, / m \(/);
+          const loopInputs = await tableRows(page, 'pw-loop-input-table');
+          assert.equal(loopInputs.length, 1);
+          assert.equal(loopInputs[0][2], '60 N');
+          assert.equal((await tableRows(page, 'pw-estimation-table')).length, 4);
+          assert.match(await page.textContent('#pw-loop-summary'), /reference step to 0\.01 m on head position at t = 0\.05 s; a load step of 5 N on motor force at t = 0\.6 s/);
+          // Observer gain L: states × outputs, finite, copyable.
+          const l = await page.evaluate(() => [...document.querySelectorAll('#pw-obs-gain tbody tr')].map((tr) => [...tr.querySelectorAll('td')].map((td) => Number(td.textContent))));
+          assert.equal(l.length, 4);
+          assert.ok(l.every((r) => r.length === 1 && Number.isFinite(r[0]) && r[0] !== 0), JSON.stringify(l));
+          assert.match(await page.textContent('#pw-obs-text'), /\nL\thead position \(m\)\n/);
+          assert.match(await page.textContent('#pw-obs-noise'), /‖K L‖₂ = /);
+          // The integral gain and the discrete plant.
+          assert.match(await page.textContent('#pw-tracking-gains'), /K_i/);
+          assert.match(await page.textContent('#pw-discrete-plant'), /Φ/);
+          assert.match(await page.textContent('#pw-sample-rate'), /times the closed-loop bandwidth/);
+          // z-plane poles in the results, with their s-plane equivalents.
+          const poles = await tableRows(page, 'pw-pole-table');
+          assert.equal(poles.length, 5);
+          for (const row of poles) {
+            const z = parseComplex(row[1]);
+            assert.ok(z && Math.hypot(z.re, z.im) < 1 && z.re > 0.9, `z-plane pole ${row[1]}`);
+            assert.match(row[3], /^\|z\| = [0-9.]+, s = /);
+          }
+          // The pole map is the z-plane with the unit circle.
+          const circle = await unitCircleCoverage(page);
+          assert.ok(circle && circle.coverage > 0.45, `unit circle drawn: ${JSON.stringify(circle)}`);
+          assert.ok((await legendTeal(page)) > 5, 'the legend shows the closed-loop marker in its colour');
+          await screenshot(page, `page-digital-${via.startsWith('file') ? 'file' : 'http'}.png`);
+          assert.deepEqual([...pageErrors, ...consoleErrors], []);
+          assert.deepEqual(requests, [url]);
+        });
+      });
+
+      test('switching on a sample time turns the pole map into the z-plane with the unit circle', async () => {
+        await withPage(urlOf(), async ({ page, url, requests, consoleErrors, pageErrors }) => {
+          assert.equal(await unitCircleCoverage(page), null, 'continuous: no unit circle');
+          const before = await tableRows(page, 'pw-pole-table');
+          assert.ok(before.every((r) => parseComplex(r[1]).re < 0), 'continuous poles in the left half-plane');
+          await page.fill('#pw-sample_time', '0.002');
+          await page.waitForFunction(() => document.getElementById('pw-pole-map').hasAttribute('data-unit-circle'));
+          assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+          const circle = await unitCircleCoverage(page);
+          assert.ok(circle.coverage > 0.45, JSON.stringify(circle));
+          const rows = await tableRows(page, 'pw-pole-table');
+          assert.equal(rows.length, 4);
+          for (const [requested, achieved, , character] of rows) {
+            const r = parseComplex(requested);
+            const z = parseComplex(achieved);
+            assert.ok(Math.hypot(z.re, z.im) < 1 && z.re > 0.9, `${achieved} is a z-plane pole`);
+            assert.ok(Math.hypot(z.re - r.re, z.im - r.im) < 1e-9, `${achieved} placed at ${requested}`);
+            assert.match(character, /s = −(12|20) [+−] (9|30)j/);
+          }
+          // The readout gives z and s = ln z / T.
+          await page.focus('#pw-pole-map');
+          const text = await page.textContent('#pw-pole-pick');
+          assert.match(text, /^Closed-loop pole 1 of 4: z = [0-9.]+ [+−] [0-9.]+j \(\|z\| = [0-9.]+\); s = ln z \/ T = −(12|20) [+−] (9|30)j \(damping ratio/, text);
+          // A digital design is simulated in the loop (without C there are no outputs to plot);
+          // the map can zoom to the poles.
+          assert.equal(await page.isVisible('#pw-loop-section'), true);
+          await assertCanvasesDrawn(page, ['pw-loop-input-plot']);
+          assert.equal(await page.isHidden('#pw-estimation'), true, 'no observer, no estimation error');
+          const wide = await canvasStats(page, 'pw-pole-map');
+          await page.check('#pw-pole-zoom');
+          const zoomed = await canvasStats(page, 'pw-pole-map');
+          assert.notDeepEqual(zoomed, wide);
+          assert.ok((await unitCircleCoverage(page)).r > circle.r * 3, 'the view is zoomed');
+          // Back to continuous: the half-plane again.
+          await page.uncheck('#pw-pole-zoom');
+          await page.fill('#pw-sample_time', '');
+          await page.waitForFunction(() => !document.getElementById('pw-pole-map').hasAttribute('data-unit-circle'));
+          assert.equal(await page.isHidden('#pw-loop-section'), true);
+          assert.deepEqual([...pageErrors, ...consoleErrors], []);
+          assert.deepEqual(requests, [url]);
+        });
+      });
+
+      test('an observer design shows L, labelled states × outputs with full precision', async () => {
+        await withPage(urlOf(), async ({ page, url, requests, consoleErrors, pageErrors }) => {
+          await page.fill('#pw-c', '0 0 1 0');
+          await page.fill('#pw-output_names', 'head position');
+          await page.selectOption('#pw-observer', 'speed_factor');
+          await page.waitForFunction(() => !document.getElementById('pw-observer_speed-field').hidden);
+          await page.fill('#pw-observer_speed', '3');
+          assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+          assert.equal(await page.isVisible('#pw-obs-result'), true);
+          const header = await page.evaluate(() => [...document.querySelectorAll('#pw-obs-gain th')].map((t) => t.textContent));
+          assert.deepEqual(header, ['L', 'head position', 'carriage position (m)', 'carriage velocity (m/s)', 'head position (m)', 'head velocity (m/s)']);
+          const text = await page.textContent('#pw-obs-text');
+          const cells = await page.evaluate(() => [...document.querySelectorAll('#pw-obs-gain td')].map((td) => td.textContent));
+          assert.equal(cells.length, 4);
+          for (const c of cells) {
+            assert.ok(Number.isFinite(Number(c)), c);
+            assert.ok(text.includes(`\t${c}\n`), `${c} in the copy text`);
+          }
+          assert.match(await page.textContent('#pw-obs-summary'), /3 times the controller poles/);
+          assert.equal((await tableRows(page, 'pw-obs-poles')).length, 4);
+          assert.match(await page.textContent('#pw-pole-legend'), /observer/);
+          // The keyboard reaches the observer poles after the four controller poles.
+          await page.focus('#pw-pole-map');
+          for (let i = 0; i < 4; i += 1) await page.keyboard.press('ArrowRight');
+          assert.match(await page.textContent('#pw-pole-pick'), /^Observer pole 1 of 4: −\d/);
+          // The estimation error is plotted (continuous loop with the observer).
+          await assertCanvasesDrawn(page, ['pw-estimation-plot']);
+          // Copy L.
+          await page.click('#pw-copy-observer');
+          await page.waitForFunction(() => document.getElementById('pw-copy-observer-status').textContent !== '');
+          const note = await page.textContent('#pw-copy-observer-status');
+          if (note !== 'Copied.') {
+            assert.match(note, /selected/);
+            assert.match(String(await page.evaluate(() => String(window.getSelection()))), /\nL\t/);
+          }
+          assert.deepEqual([...pageErrors, ...consoleErrors], []);
+          assert.deepEqual(requests, [url]);
+        });
+      });
+
+      test('a bad observer pole is reported beside its field and the typed text is kept', async () => {
+        await withPage(urlOf(), async ({ page, url, requests, consoleErrors, pageErrors }) => {
+          const titles = await page.evaluate(() => [...document.querySelectorAll('#pw-demo option')].map((o) => o.textContent));
+          assert.equal(await loadDemo(page, titles.findIndex((t) => /digital/.test(t))), 'designed');
+          const before = await readGain(page);
+          await page.selectOption('#pw-observer', 'poles');
+          await page.waitForFunction(() => !document.getElementById('pw-observer_poles-field').hidden);
+          const typed = '-80±120j, -60, x';
+          // Choosing "poles" asks for them at once; the typed text is then read after the debounce.
+          assert.match(await page.textContent('#pw-observer_poles-error'), /^required/);
+          await page.fill('#pw-observer_poles', typed);
+          await page.waitForFunction(() => /"x"/.test(document.getElementById('pw-observer_poles-error').textContent));
+          const message = await page.textContent('#pw-observer_poles-error');
+          assert.match(message, /"x"/, message);
+          assert.equal(await page.inputValue('#pw-observer_poles'), typed, 'the typed text is kept exactly');
+          assert.equal(await page.getAttribute('#pw-observer_poles', 'aria-invalid'), 'true');
+          const beside = await page.evaluate(() => document.getElementById('pw-observer_poles-error').closest('.field') === document.getElementById('pw-observer_poles').closest('.field'));
+          assert.ok(beside, 'the message is in the field\'s own block');
+          assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'invalid');
+          assert.deepEqual(await readGain(page), before, 'the last gain stays');
+          assert.equal(await page.evaluate(() => document.getElementById('pw-loop-section').classList.contains('is-stale')), true);
+          // Only that field is blamed; a wrong count is the same field's error.
+          assert.equal(await page.evaluate(() => [...document.querySelectorAll('.field-error')].filter((e) => !e.hidden).length), 1);
+          await page.fill('#pw-observer_poles', '-80±120j, -60');
+          await page.waitForFunction(() => /3 poles given but the plant has 4 states/.test(document.getElementById('pw-observer_poles-error').textContent));
+          await page.fill('#pw-observer_poles', '-80±120j, -60, -70');
+          assert.equal(await designNow(page), 'designed');
+          assert.equal(await page.isHidden('#pw-observer_poles-error'), true);
+          await screenshot(page, `page-observer-poles-${via.startsWith('file') ? 'file' : 'http'}.png`);
           assert.deepEqual([...pageErrors, ...consoleErrors], []);
           assert.deepEqual(requests, [url]);
         });
@@ -322,7 +566,7 @@ describe('built page', () => {
     });
   });
 
-  test('one design cycle for n = 10, m = 2: median time over 30 cycles', async () => {
+  test('one design cycle for n = 10, m = 2: median time over 30 cycles (same and changing input)', async () => {
     // A chain of five masses (springs between neighbours and to both walls, light
     // damping), a force on the first and on the last: 10 states, 2 inputs.
     const k = [4, 3, 5, 2, 4, 3];
@@ -354,36 +598,70 @@ describe('built page', () => {
       assert.equal(await design(page, fields), 'designed', await page.textContent('#pw-status'));
       assert.match(await page.textContent('#pw-status'), /^Designed: 10 states, 2 inputs/);
       await assertPolesPlaced(page, 1e-8);
-      const times = await page.evaluate(() => {
+      // Two runs of 35 cycles (the first 5 are warm-up), each cycle started synchronously by
+      // the button: "repeat" designs the same input again (unchanged results and pictures are
+      // left as they are); "changing" alternates the last pole between -3.5 and -3.6, so the
+      // gain, the tables and every canvas change each time. Each cycle reports its phases.
+      const run = (changing) => page.evaluate((alternate) => {
         const button = document.getElementById('pw-design');
         const status = document.getElementById('pw-status');
+        const poles = document.getElementById('pw-poles');
+        const p0 = poles.value;
+        const p1 = p0.replace('-3.5', '-3.6');
         const out = [];
+        const phases = [];
         for (let i = 0; i < 35; i += 1) {
+          if (alternate) poles.value = i % 2 ? p1 : p0;
           status.removeAttribute('data-cycle-ms');
-          button.click(); // synchronous: parse → analyse → place → simulate → draw
+          button.click(); // synchronous: read → evaluate (parse, analyse, place, simulate) → draw → results
           out.push(Number(status.dataset.cycleMs));
+          phases.push(status.dataset.cyclePhases || '');
         }
-        return out.slice(5); // after a warm-up of 5
-      });
-      assert.equal(times.length, 30);
-      assert.ok(times.every((t) => Number.isFinite(t) && t > 0), JSON.stringify(times));
-      const sorted = [...times].sort((x, y) => x - y);
-      const median = (sorted[14] + sorted[15]) / 2;
+        poles.value = p0;
+        return { times: out.slice(5), phases: phases.slice(5) };
+      }, changing);
+      const median = (values) => {
+        const v = [...values].sort((x, y) => x - y);
+        return v.length % 2 ? v[(v.length - 1) / 2] : (v[v.length / 2 - 1] + v[v.length / 2]) / 2;
+      };
+      const summarise = ({ times, phases }) => {
+        assert.equal(times.length, 30);
+        assert.ok(times.every((t) => Number.isFinite(t) && t > 0), JSON.stringify(times));
+        const sorted = [...times].sort((x, y) => x - y);
+        const byPhase = {};
+        for (const line of phases) {
+          for (const item of line.split(' ').filter(Boolean)) {
+            const [k, v] = item.split('=');
+            (byPhase[k] ||= []).push(Number(v));
+          }
+        }
+        const phaseMedians = Object.fromEntries(Object.entries(byPhase).map(([k, v]) => [k, median(v.concat(Array(times.length - v.length).fill(0)))]));
+        assert.ok('evaluate' in phaseMedians, JSON.stringify(phases.slice(0, 2)));
+        return { median_ms: median(times), min_ms: sorted[0], max_ms: sorted[sorted.length - 1], phase_median_ms: phaseMedians, all_ms: times };
+      };
+      const repeat = summarise(await run(false));
+      const changing = summarise(await run(true));
       const report = {
-        what: 'one full design cycle of the page (read form, parse, analyse, place, simulate, update results, draw 3 canvases), timed with performance.now() inside the page',
+        what: 'one full design cycle of the page (read form, evaluate: parse, analyse, place, simulate; draw the canvases; update the results), timed with performance.now() inside the page; phases in milliseconds (performance.now() is coarsened to 0.1 ms in headless Chromium)',
         plant: 'chain of 5 masses: n = 10 states, m = 2 inputs, actuator limits',
-        cycles: times.length,
+        cycles: 30,
         warm_up: 5,
-        median_ms: median,
-        min_ms: sorted[0],
-        max_ms: sorted[sorted.length - 1],
-        all_ms: times,
+        median_ms: repeat.median_ms,
+        min_ms: repeat.min_ms,
+        max_ms: repeat.max_ms,
+        all_ms: repeat.all_ms,
+        repeat,
+        changing,
         user_agent: await page.evaluate(() => navigator.userAgent),
         date: new Date().toISOString(),
       };
       fs.mkdirSync(artifactsDir, { recursive: true });
       fs.writeFileSync(path.join(artifactsDir, 'cycle-time.json'), `${JSON.stringify(report, null, 2)}\n`);
-      console.log(`design cycle, n = 10, m = 2: median ${median.toFixed(2)} ms over 30 cycles (min ${sorted[0].toFixed(2)}, max ${sorted[29].toFixed(2)})`);
+      console.log(`design cycle, n = 10, m = 2: median ${repeat.median_ms.toFixed(2)} ms over 30 cycles of the same input (min ${repeat.min_ms.toFixed(2)}, max ${repeat.max_ms.toFixed(2)}); ${changing.median_ms.toFixed(2)} ms with a changing input`);
+      console.log(`  phases, same input: ${JSON.stringify(repeat.phase_median_ms)}`);
+      console.log(`  phases, changing input: ${JSON.stringify(changing.phase_median_ms)}`);
+      // The changing run really redrew: its last design is the pole set it ended on.
+      assert.ok((changing.phase_median_ms['pw-state-plot'] ?? 0) > 0, 'the changing run repaints the state plot');
       await assertCanvasesDrawn(page);
       assert.deepEqual([...pageErrors, ...consoleErrors], []);
     });
@@ -442,6 +720,19 @@ describe('built page', () => {
           .map((el) => el.id),
       );
       assert.deepEqual(unlabelled, []);
+      // Every description a control points to exists (hints, sizes and error slots).
+      const dangling = await page.evaluate(() =>
+        [...document.querySelectorAll('[aria-describedby]')].flatMap((el) =>
+          el.getAttribute('aria-describedby').split(/\s+/).filter((id) => !document.getElementById(id)).map((id) => `${el.id} → ${id}`)),
+      );
+      assert.deepEqual(dangling, []);
+      // Every form field has its control and its error slot right beside it, in its own block.
+      const missing = await page.evaluate((keys) => keys.filter((k) => {
+        const control = document.getElementById(`pw-${k}`);
+        const error = document.getElementById(`pw-${k}-error`);
+        return !control || !error || control.closest('.field') !== error.closest('.field');
+      }), FORM_FIELDS);
+      assert.deepEqual(missing, []);
       const outcome = await design(page, {
         a: '0 1\n0 0',
         b: '0\n1',
