@@ -925,12 +925,16 @@ def _leaves(sig):
         yield sig
 
 
-def check(committed: Path) -> int:
+def check_fixtures(committed: Path, generate_into, fixtures) -> int:
+    """Regenerate ``fixtures`` (file names) with ``generate_into(dir)`` into a temporary
+    directory and compare them with the committed copies in ``committed``; print the
+    mismatches and a summary line; return the exit status (1 on any mismatch).
+    Shared by every fixture script of this folder."""
     cmp = Comparer()
     with tempfile.TemporaryDirectory() as tmp:
         tmp = Path(tmp)
-        generate(tmp)
-        for fname in FIXTURES:
+        generate_into(tmp)
+        for fname in fixtures:
             old_path = committed / fname
             if not old_path.exists():
                 cmp.fail(fname, "missing from the committed fixtures")
@@ -960,27 +964,36 @@ def check(committed: Path) -> int:
         print("MISMATCH", line)
     if len(cmp.mismatches) > 200:
         print(f"... and {len(cmp.mismatches) - 200} more")
-    print(f"fixtures: {len(FIXTURES)} files, {cmp.numbers} numbers compared, "
+    print(f"fixtures: {len(fixtures)} files, {cmp.numbers} numbers compared, "
           f"{len(cmp.mismatches)} mismatches")
     return 1 if cmp.mismatches else 0
 
 
-def main(argv=None) -> int:
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--out", type=Path, default=DEFAULT_OUT,
+def fixture_cli(description: str, default_out: Path, generate_into, fixtures, argv=None) -> int:
+    """The command line every fixture script shares: ``[--out DIR] [--check]``."""
+    ap = argparse.ArgumentParser(description=description)
+    ap.add_argument("--out", type=Path, default=default_out,
                     help="output directory (default: tests/fixtures)")
     ap.add_argument("--check", action="store_true",
                     help="regenerate into a temporary directory and compare with --out")
     args = ap.parse_args(argv)
     if args.check:
-        return check(args.out)
-    generate(args.out)
-    for fname in FIXTURES:
+        return check_fixtures(args.out, generate_into, fixtures)
+    generate_into(args.out)
+    for fname in fixtures:
         p = args.out / fname
         doc = json.loads(p.read_text(encoding="utf-8"))
         extra = f", {len(doc['skipped'])} skipped" if doc.get("skipped") else ""
         print(f"wrote {fname}: {len(doc['cases'])} cases{extra}, {p.stat().st_size} bytes")
     return 0
+
+
+def check(committed: Path) -> int:
+    return check_fixtures(committed, generate, FIXTURES)
+
+
+def main(argv=None) -> int:
+    return fixture_cli(__doc__.splitlines()[0], DEFAULT_OUT, generate, FIXTURES, argv)
 
 
 if __name__ == "__main__":

@@ -29,11 +29,9 @@ for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS",
              "BLIS_NUM_THREADS", "VECLIB_MAXIMUM_THREADS", "NUMEXPR_NUM_THREADS"):
     os.environ.setdefault(_var, "1")
 
-import argparse  # noqa: E402
 import json  # noqa: E402
 import math  # noqa: E402
 import sys  # noqa: E402
-import tempfile  # noqa: E402
 from pathlib import Path  # noqa: E402
 
 import numpy as np  # noqa: E402
@@ -49,7 +47,7 @@ if str(HERE) not in sys.path:
 
 # Shared serialisation and comparison helpers (same conventions and the same --check
 # tolerance as the other fixtures).
-from make_fixtures import Comparer, cvec, fnum, sort_complex, write_json  # noqa: E402
+from make_fixtures import check_fixtures, fixture_cli, cvec, fnum, sort_complex, write_json  # noqa: E402
 
 REPO_TESTS = HERE.parent
 DEFAULT_OUT = REPO_TESTS / "fixtures"
@@ -338,58 +336,11 @@ def generate(out: Path) -> None:
 
 
 def check(committed: Path) -> int:
-    cmp = Comparer()
-    with tempfile.TemporaryDirectory() as tmp:
-        tmp = Path(tmp)
-        generate(tmp)
-        old_path = committed / FNAME
-        if not old_path.exists():
-            cmp.fail(FNAME, "missing from the committed fixtures")
-        else:
-            old = json.loads(old_path.read_text(encoding="utf-8"))
-            new = json.loads((tmp / FNAME).read_text(encoding="utf-8"))
-            for k in old.keys() | new.keys():
-                if k == "cases":
-                    continue
-                if k not in old or k not in new:
-                    cmp.fail(f"{FNAME} header", f"field {k!r} only in one version")
-                    continue
-                cmp.compare(f"{FNAME} header.{k}", old[k], new[k])
-            oc = {c["name"]: c for c in old.get("cases", [])}
-            nc = {c["name"]: c for c in new.get("cases", [])}
-            if [c["name"] for c in old.get("cases", [])] != \
-                    [c["name"] for c in new.get("cases", [])]:
-                for name in oc.keys() - nc.keys():
-                    cmp.fail(f"{FNAME} case {name}", "only in the committed fixtures")
-                for name in nc.keys() - oc.keys():
-                    cmp.fail(f"{FNAME} case {name}", "only in the regenerated fixtures")
-                if oc.keys() == nc.keys():
-                    cmp.fail(FNAME, "cases are in a different order")
-            for name in oc.keys() & nc.keys():
-                cmp.compare(f"{FNAME} case {name}", oc[name], nc[name])
-    for line in cmp.mismatches[:200]:
-        print("MISMATCH", line)
-    if len(cmp.mismatches) > 200:
-        print(f"... and {len(cmp.mismatches) - 200} more")
-    print(f"fixtures: 1 files, {cmp.numbers} numbers compared, "
-          f"{len(cmp.mismatches)} mismatches")
-    return 1 if cmp.mismatches else 0
+    return check_fixtures(committed, generate, [FNAME])
 
 
 def main(argv=None) -> int:
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--out", type=Path, default=DEFAULT_OUT,
-                    help="output directory (default: tests/fixtures)")
-    ap.add_argument("--check", action="store_true",
-                    help="regenerate into a temporary directory and compare with --out")
-    args = ap.parse_args(argv)
-    if args.check:
-        return check(args.out)
-    generate(args.out)
-    p = args.out / FNAME
-    doc = json.loads(p.read_text(encoding="utf-8"))
-    print(f"wrote {FNAME}: {len(doc['cases'])} cases, {p.stat().st_size} bytes")
-    return 0
+    return fixture_cli(__doc__.splitlines()[0], DEFAULT_OUT, generate, [FNAME], argv)
 
 
 if __name__ == "__main__":
