@@ -2240,6 +2240,7 @@ pub fn pole_map_scene(result: &DesignResult) -> PoleMapScene {
         discrete: result.domain == "discrete",
         fit_poles: false,
         highlight: None,
+        ..PoleMapScene::default()
     }
 }
 
@@ -2281,6 +2282,7 @@ pub fn states_scene(result: &DesignResult, normalised: bool) -> TimePlotScene {
         events: Vec::new(),
         x_label: "time (s)".into(),
         y_label: if normalised { "state ÷ its peak |value|".into() } else { "state (own units)".into() },
+        pinned: Vec::new(),
     }
 }
 
@@ -2353,6 +2355,7 @@ pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
             Some(u) => format!("input ({u})"),
             None => "input (own units)".into(),
         },
+        pinned: Vec::new(),
     }
 }
 
@@ -2390,6 +2393,7 @@ pub fn loop_outputs_scene(result: &DesignResult, report: &Report) -> Option<Time
             Some(u) => format!("output ({u})"),
             None => "output (own units)".into(),
         },
+        pinned: Vec::new(),
     })
 }
 
@@ -2420,6 +2424,7 @@ pub fn loop_inputs_scene(result: &DesignResult, report: &Report) -> Option<TimeP
             Some(u) => format!("input ({u})"),
             None => "input (own units)".into(),
         },
+        pinned: Vec::new(),
     })
 }
 
@@ -2452,6 +2457,7 @@ pub fn estimation_scene(result: &DesignResult, report: &Report) -> Option<TimePl
         events: report.controller.as_ref().map(|c| c.events.clone()).unwrap_or_default(),
         x_label: "time (s)".into(),
         y_label: "(x − x̂) ÷ the state's peak |x|".into(),
+        pinned: Vec::new(),
     })
 }
 

@@ -744,6 +744,11 @@ impl Frame {
         [self.x.to_data(p[0]), self.y.to_data(p[1])]
     }
 
+    /// The visible data region `[x min, x max, y min, y max]` (for [`PoleMapScene::view`]).
+    pub fn view(&self) -> [f64; 4] {
+        [self.x.range.min, self.x.range.max, self.y.range.min, self.y.range.max]
+    }
+
     /// Aspect-preserving frame for a complex-plane (pole) map: one data unit is
     /// the same number of pixels on both axes; the visible region holds the
     /// origin, the real and imaginary axes, every finite point and (with
@@ -1038,6 +1043,26 @@ pub struct PoleMapScene {
     pub fit_poles: bool,
     /// A point to ring (the pole chosen by keyboard or pointer), if any.
     pub highlight: Option<[f64; 2]>,
+    /// The requested closed-loop poles that can be edited on the map (drawn as open
+    /// circles over the achieved poles), in the map's plane.
+    pub requested: Vec<[f64; 2]>,
+    /// Closed-loop poles of a pinned design, for comparison.
+    pub pinned: Vec<[f64; 2]>,
+    /// The admissible region of a specification, as boundary polylines in data units.
+    pub region: Option<RegionShape>,
+    /// A fixed view `[re min, re max, im min, im max]` (kept while a pole is dragged, so
+    /// that the map does not rescale under the pointer); `None` fits the view to the poles.
+    pub view: Option<[f64; 4]>,
+}
+
+/// The boundary of an admissible pole region, for drawing: each polyline is a list of
+/// `[re, im]` points in the map's plane (lines may run far outside the view; the painter
+/// clips them). The admissible side is described in `label`.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct RegionShape {
+    pub boundaries: Vec<Vec<[f64; 2]>>,
+    pub label: String,
 }
 
 /// Which list of a [`PoleMapScene`] a marker belongs to.
@@ -1048,6 +1073,10 @@ pub enum PoleSet {
     ClosedLoop,
     NotAssigned,
     Observer,
+    /// A requested pole that can be edited on the map.
+    Requested,
+    /// A closed-loop pole of the pinned design.
+    Pinned,
 }
 
 /// A picked marker.
@@ -1062,19 +1091,21 @@ pub struct PolePick {
 impl PoleMapScene {
     /// Field names, for front ends that must reject unknown keys themselves.
     pub const FIELDS: &'static [&'static str] =
-        &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight"];
+        &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view"];
 
-    /// Every finite marker in keyboard order: closed-loop poles, observer poles, then
-    /// requested poles that could not be assigned, then open-loop poles; within each set
-    /// by increasing real part, then decreasing imaginary part. `index` is the
-    /// position in the scene's own list.
+    /// Every finite marker in keyboard order: editable requested poles, closed-loop poles,
+    /// observer poles, requested poles that could not be assigned, open-loop poles, then the
+    /// pinned design's poles; within each set by increasing real part, then decreasing
+    /// imaginary part. `index` is the position in the scene's own list.
     pub fn markers(&self) -> Vec<PolePick> {
         let mut out = Vec::new();
         for (set, pts) in [
+            (PoleSet::Requested, &self.requested),
             (PoleSet::ClosedLoop, &self.closed_loop),
             (PoleSet::Observer, &self.observer),
             (PoleSet::NotAssigned, &self.not_assigned),
             (PoleSet::OpenLoop, &self.open_loop),
+            (PoleSet::Pinned, &self.pinned),
         ] {
             let mut picks: Vec<PolePick> = pts
                 .iter()
@@ -1094,17 +1125,28 @@ impl PoleMapScene {
     }
 
     /// The lists in drawing order (bottom first) with their set tag.
-    pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 4] {
+    pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 6] {
         [
+            (PoleSet::Pinned, &self.pinned),
             (PoleSet::OpenLoop, &self.open_loop),
             (PoleSet::NotAssigned, &self.not_assigned),
             (PoleSet::Observer, &self.observer),
             (PoleSet::ClosedLoop, &self.closed_loop),
+            (PoleSet::Requested, &self.requested),
         ]
     }
 
-    /// The frame the painter uses for a canvas of `outer` size.
+    /// The frame the painter uses for a canvas of `outer` size: the fixed [`view`](Self::view)
+    /// when set (with equal scale restored for this canvas), else fitted to every layer.
     pub fn frame(&self, outer: Rect) -> Frame {
+        if let Some([x0, x1, y0, y1]) = self.view.filter(|v| v.iter().all(|x| x.is_finite()) && v[1] > v[0] && v[3] > v[2]) {
+            let plot = outer.inset(Margins::STANDARD);
+            let (re, im) = (Range { min: x0, max: x1 }, Range { min: y0, max: y1 });
+            let upp = (re.span() / plot.width).max(im.span() / plot.height);
+            if upp.is_finite() && upp > 0.0 {
+                return Frame::new(outer, Margins::STANDARD, re.with_min_span(upp * plot.width), im.with_min_span(upp * plot.height));
+            }
+        }
         let all: Vec<[f64; 2]> = self
             .layers()
             .iter()
@@ -1205,6 +1247,20 @@ pub struct TimePlotScene {
     pub events: Vec<EventLine>,
     pub x_label: String,
     pub y_label: String,
+    /// Signals of a pinned design, each on its own time grid, drawn thin and dashed under
+    /// the current ones.
+    pub pinned: Vec<PinnedSeries>,
+}
+
+/// A signal of a pinned design with its own sample times.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct PinnedSeries {
+    pub name: String,
+    pub t: Vec<f64>,
+    pub values: Vec<f64>,
+    /// Palette slot of the current signal it corresponds to.
+    pub colour: Option<usize>,
 }
 
 /// Vertical padding of a time plot, as a fraction of the value span.
@@ -1213,7 +1269,7 @@ pub const TIME_PLOT_PADDING: f64 = 0.06;
 impl TimePlotScene {
     /// Field names, for front ends that must reject unknown keys themselves.
     pub const FIELDS: &'static [&'static str] =
-        &["t", "series", "limits", "band", "events", "x_label", "y_label"];
+        &["t", "series", "limits", "band", "events", "x_label", "y_label", "pinned"];
 
     /// Samples of series `i` paired with their times (`[t, y]`), truncated to
     /// the shorter of the two; non-finite samples are kept (they break lines).
@@ -1239,11 +1295,13 @@ impl TimePlotScene {
                 .filter(|p| p[0].is_finite())
                 .map(|p| p[1])
         });
+        let pinned = self.pinned.iter().flat_map(|p| p.t.iter().zip(&p.values).filter(|(t, _)| t.is_finite() && x.contains(**t)).map(|(_, v)| *v));
         let extra = self
             .limits
             .iter()
             .map(|l| l.value)
-            .chain(self.band.iter().flat_map(|b| [b.lower, b.upper]));
+            .chain(self.band.iter().flat_map(|b| [b.lower, b.upper]))
+            .chain(pinned);
         let y = Range::from_values(samples.chain(extra)).unwrap_or(Range {
             min: -1.0,
             max: 1.0,
