@@ -158,6 +158,9 @@ pub enum EditError {
     NoDrag,
     /// The frame has no usable data span (zero or not finite).
     UnusableFrame,
+    /// A real s-plane pole was moved to `z ≤ 0` on a z-plane map: no real `s` gives that
+    /// `z = e^{sT}`.
+    NoRealEquivalent { z: f64 },
 }
 
 impl fmt::Display for EditError {
@@ -198,6 +201,11 @@ impl fmt::Display for EditError {
             EditError::UnusableFrame => write!(
                 f,
                 "the pole map has no usable scale; resize or redraw it and try again"
+            ),
+            EditError::NoRealEquivalent { z } => write!(
+                f,
+                "a real s-plane pole maps to a positive real z = e^(sT); z = {z} has no real \
+                 s-plane equivalent, so the pole stays right of the origin"
             ),
         }
     }
@@ -765,6 +773,16 @@ impl EditHistory {
         self.drag_apply(&edit)
     }
 
+    /// [`EditHistory::drag_to_pixel`] for a list shown through `map` ([`drag_edit_mapped`]).
+    ///
+    /// # Errors
+    /// As [`EditHistory::drag_to`] and [`drag_edit_mapped`].
+    pub fn drag_to_pixel_mapped(&mut self, frame: &Frame, pointer: [f64; 2], map: PlaneMap) -> Result<Change, EditError> {
+        let entry = self.dragging().ok_or(EditError::NoDrag)?;
+        let edit = drag_edit_mapped(&self.current, entry, frame, pointer, &self.params, map)?;
+        self.drag_apply(&edit)
+    }
+
     /// Ends the drag: one undo step if the list differs from where the drag began
     /// ([`Change::Changed`]); nothing without a drag or movement.
     pub fn end_drag(&mut self) -> Change {
@@ -973,6 +991,123 @@ pub fn drag_edit(
         }
     };
     Ok(Edit::Move { entry, to })
+}
+
+// ---------------------------------------------------------------------------
+// A list in one plane, shown on a map in another
+// ---------------------------------------------------------------------------
+
+/// How the plane of the list being edited relates to the plane of the map it is shown on.
+///
+/// A digital design may be specified by s-plane poles while its map is the z-plane:
+/// the map then shows `z = e^{sT}` (the usual pole mapping of a sampled system, e.g.
+/// Franklin, Powell & Workman, *Digital Control of Dynamic Systems*, 3rd ed., 1998, §4.3;
+/// from memory), and an edit made on the map is brought back with `s = ln z / T` on the
+/// principal branch (`0 < Im s < π/T` for the upper member of a pair).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PlaneMap {
+    /// The list is in the map's own plane.
+    Same,
+    /// The list is in the s-plane; the map is the z-plane of sample time `sample_time` (s).
+    SampledFromS { sample_time: f64 },
+}
+
+impl PlaneMap {
+    /// A list pole's position on the map.
+    pub fn to_map(&self, pole: Complex64) -> Complex64 {
+        match *self {
+            PlaneMap::Same => pole,
+            PlaneMap::SampledFromS { sample_time } => (pole * sample_time).exp(),
+        }
+    }
+
+    /// The list position of map point `at`; `real` keeps a real pole real.
+    ///
+    /// # Errors
+    /// [`EditError::NotFinite`] (e.g. `z = 0`, or a sample time that is not positive),
+    /// [`EditError::NoRealEquivalent`] for a real pole at `z ≤ 0`.
+    pub fn from_map(&self, at: Complex64, real: bool) -> Result<Complex64, EditError> {
+        let out = match *self {
+            PlaneMap::Same => at,
+            PlaneMap::SampledFromS { sample_time } => {
+                if !(sample_time.is_finite() && sample_time > 0.0) {
+                    return Err(EditError::NotFinite);
+                }
+                if real {
+                    if !(at.re > 0.0) {
+                        return Err(EditError::NoRealEquivalent { z: at.re });
+                    }
+                    Complex64::new(at.re.ln() / sample_time, 0.0)
+                } else {
+                    at.ln() / sample_time
+                }
+            }
+        };
+        require_finite(out)?;
+        Ok(out)
+    }
+
+    /// `set` as it appears on the map.
+    ///
+    /// # Errors
+    /// [`EditError::PairOnRealAxis`] when a pair lands on the real axis of the map (an
+    /// s-plane pair at `Im s = π/T` aliases onto it), [`EditError::NotFinite`].
+    pub fn map_set(&self, set: &PoleSet) -> Result<PoleSet, EditError> {
+        if *self == PlaneMap::Same {
+            return Ok(set.clone());
+        }
+        let entries = set
+            .entries()
+            .iter()
+            .map(|e| match *e {
+                PoleEntry::Real { re } => PoleEntry::Real { re: self.to_map(Complex64::new(re, 0.0)).re },
+                PoleEntry::Pair { re, im } => {
+                    let z = self.to_map(Complex64::new(re, im));
+                    PoleEntry::Pair { re: z.re, im: z.im }
+                }
+            })
+            .collect();
+        PoleSet::from_entries(entries)
+    }
+
+    /// Brings a map edit back to the list's plane (a [`Edit::Move`]; other edits pass
+    /// through).
+    ///
+    /// # Errors
+    /// As [`PlaneMap::from_map`], and [`EditError::NoSuchEntry`].
+    pub fn edit_from_map(&self, set: &PoleSet, edit: Edit) -> Result<Edit, EditError> {
+        match edit {
+            Edit::Move { entry, to } if *self != PlaneMap::Same => {
+                let real = !set.existing(entry)?.is_pair();
+                Ok(Edit::Move { entry, to: self.from_map(to, real)? })
+            }
+            other => Ok(other),
+        }
+    }
+}
+
+/// [`drag_edit`] for a list shown through `map`: the pointer is read on the map and the
+/// move is brought back to the list's plane.
+///
+/// # Errors
+/// As [`drag_edit`] and [`PlaneMap::from_map`].
+pub fn drag_edit_mapped(set: &PoleSet, entry: usize, frame: &Frame, pointer: [f64; 2], params: &EditParams, map: PlaneMap) -> Result<Edit, EditError> {
+    let shown = map.map_set(set)?;
+    let edit = drag_edit(&shown, entry, frame, pointer, params)?;
+    map.edit_from_map(set, edit)
+}
+
+/// [`nudge`] for a list shown through `map`: the step is taken on the map (so the same
+/// keyboard step moves the marker the same number of pixels) and brought back.
+///
+/// # Errors
+/// As [`nudge`] and [`PlaneMap::from_map`].
+pub fn nudge_mapped(set: &PoleSet, entry: usize, direction: Direction, step: StepSize, frame: &Frame, params: &EditParams, map: PlaneMap) -> Result<NudgeOutcome, EditError> {
+    let shown = map.map_set(set)?;
+    match nudge(&shown, entry, direction, step, frame, params)? {
+        NudgeOutcome::Edit(edit) => Ok(NudgeOutcome::Edit(map.edit_from_map(set, edit)?)),
+        other => Ok(other),
+    }
 }
 
 // ---------------------------------------------------------------------------
@@ -2595,5 +2730,79 @@ mod tests {
             json.contains("\"slowest_settling_time\":{\"kind\":\"value\""),
             "{json}"
         );
+    }
+
+    // z = e^{sT} written out with Euler's formula, e^{(σ+jω)T} = e^{σT}(cos ωT + j sin ωT)
+    // (a textbook identity), independently of Complex64::exp.
+    fn euler(s: Complex64, t: f64) -> Complex64 {
+        let r = (s.re * t).exp();
+        Complex64::new(r * (s.im * t).cos(), r * (s.im * t).sin())
+    }
+
+    /// A z-plane view around the unit circle: data [-1.5, 1.5] × [-1.125, 1.125].
+    fn z_frame() -> Frame {
+        let m = Margins { left: 20.0, right: 20.0, top: 20.0, bottom: 20.0 };
+        Frame::new(Rect::sized(440.0, 340.0), m, Range::new(-1.5, 1.5), Range::new(-1.125, 1.125))
+    }
+
+    #[test]
+    fn plane_map_round_trips_and_matches_euler() {
+        let t = 0.01;
+        let map = PlaneMap::SampledFromS { sample_time: t };
+        for s in [c(-3.0, 0.0), c(-20.0, 45.0), c(-0.5, 300.0), c(4.0, 1.0)] {
+            let z = map.to_map(s);
+            let e = euler(s, t);
+            assert!((z - e).norm() <= 1e-14 * e.norm().max(1.0), "{s}: {z} vs {e}");
+            let back = map.from_map(z, s.im == 0.0).expect("invertible");
+            assert!((back - s).norm() <= 1e-10 * s.norm(), "{s} -> {z} -> {back}");
+        }
+        assert_eq!(PlaneMap::Same.to_map(c(-1.0, 2.0)), c(-1.0, 2.0));
+        assert!(matches!(map.from_map(c(-0.2, 0.0), true), Err(EditError::NoRealEquivalent { .. })));
+        assert!(matches!(map.from_map(c(0.0, 0.0), false), Err(EditError::NotFinite)));
+        assert!(PlaneMap::SampledFromS { sample_time: 0.0 }.from_map(c(0.5, 0.0), true).is_err());
+    }
+
+    #[test]
+    fn mapped_drag_puts_the_marker_under_the_pointer_on_the_z_map() {
+        let t = 0.02;
+        let map = PlaneMap::SampledFromS { sample_time: t };
+        let set = PoleSet::from_poles(&[c(-5.0, 0.0), c(-10.0, 20.0), c(-10.0, -20.0)]).expect("pairs");
+        let f = z_frame();
+        // Drag the pair's upper member to z = 0.6 + 0.3j, the real pole to z = 0.5.
+        let target = [0.6, 0.3];
+        let edit = drag_edit_mapped(&set, 1, &f, f.to_pixel(target), &EditParams::default(), map).expect("drag");
+        let moved = set.edited(&edit).expect("move");
+        let shown = map.to_map(moved.entry(1).expect("entry").upper());
+        assert!((shown.re - 0.6).abs() < 1e-9 && (shown.im - 0.3).abs() < 1e-9, "{shown}");
+        let edit = drag_edit_mapped(&moved, 0, &f, f.to_pixel([0.5, 0.2]), &EditParams::default(), map).expect("drag");
+        let moved = moved.edited(&edit).expect("move");
+        let real = moved.entry(0).expect("entry");
+        assert!(!real.is_pair());
+        assert!((real.re() - 0.5f64.ln() / t).abs() < 1e-9, "{}", real.re());
+        // Left of the origin a real pole has no s-plane equivalent: refused, nothing changes.
+        assert!(matches!(drag_edit_mapped(&moved, 0, &f, f.to_pixel([-0.3, 0.0]), &EditParams::default(), map), Err(EditError::NoRealEquivalent { .. })));
+    }
+
+    #[test]
+    fn mapped_nudge_steps_the_same_distance_on_the_map() {
+        let t = 0.02;
+        let map = PlaneMap::SampledFromS { sample_time: t };
+        let set = PoleSet::from_poles(&[c(-10.0, 20.0), c(-10.0, -20.0)]).expect("pairs");
+        let f = z_frame();
+        let before = map.to_map(set.entry(0).expect("entry").upper());
+        let NudgeOutcome::Edit(edit) = nudge_mapped(&set, 0, Direction::Right, StepSize::Normal, &f, &EditParams::default(), map).expect("nudge") else {
+            panic!("expected a move")
+        };
+        let after = map.to_map(set.edited(&edit).expect("move").entry(0).expect("entry").upper());
+        // 1 % of the larger span (3.0) to the right, imaginary part kept.
+        assert!((after.re - before.re - 0.03).abs() < 1e-12 && (after.im - before.im).abs() < 1e-12, "{before} -> {after}");
+        let mut h = EditHistory::new(set.clone(), EditParams::default());
+        h.begin_drag(0).expect("entry");
+        assert_eq!(h.drag_to_pixel_mapped(&f, f.to_pixel([0.7, 0.4]), map), Ok(Change::Changed));
+        assert_eq!(h.end_drag(), Change::Changed);
+        let z = map.to_map(h.current().entry(0).expect("entry").upper());
+        assert!((z - c(0.7, 0.4)).norm() < 1e-9, "{z}");
+        assert!(h.undo().is_some());
+        assert_eq!(h.current(), &set);
     }
 }
