@@ -73,10 +73,23 @@ const loadDemo = guarded(() => {
   designNow();
 });
 
-const POLE_KEYS = { ArrowRight: 1, ArrowDown: 1, ArrowLeft: -1, ArrowUp: -1 };
+// Keys on the pole map: N / P (PageDown / PageUp) choose a pole, Home / End the first / last;
+// the arrow keys move the chosen requested pole (Shift: larger steps); Delete removes it,
+// + adds a real pole; Ctrl+Z / Ctrl+Y (or Ctrl+Shift+Z) undo and redo; Escape ends a drag.
+const MOVE_KEYS = { ArrowRight: 'right', ArrowLeft: 'left', ArrowUp: 'up', ArrowDown: 'down' };
 const onPoleKey = guarded((event) => {
-  if (event.key in POLE_KEYS) step_pole(POLE_KEYS[event.key]);
-  else if (event.key === 'Home' || event.key === 'End') jump_pole(event.key === 'End');
+  const key = event.key;
+  const ctrl = event.ctrlKey || event.metaKey;
+  if (ctrl && (key === 'z' || key === 'Z')) undo_edit(event.shiftKey);
+  else if (ctrl && (key === 'y' || key === 'Y')) undo_edit(true);
+  else if (ctrl || event.altKey) return;
+  else if (key in MOVE_KEYS) move_pole(MOVE_KEYS[key], event.shiftKey);
+  else if (key === 'n' || key === 'N' || key === 'PageDown') step_pole(1);
+  else if (key === 'p' || key === 'P' || key === 'PageUp') step_pole(-1);
+  else if (key === 'Home' || key === 'End') jump_pole(key === 'End');
+  else if (key === 'Delete' || key === 'Backspace') remove_pole();
+  else if (key === '+' || key === 'Insert') add_pole('real');
+  else if (key === 'Escape') pole_pointer_up(true);
   else return;
   event.preventDefault();
 });
@@ -150,11 +163,61 @@ byId('pw-normalise').addEventListener('change', guarded((e) => set_state_scale(e
 byId('pw-pole-zoom').addEventListener('change', guarded((e) => set_pole_zoom(e.target.checked)));
 
 const poleMap = byId('pw-pole-map');
-poleMap.addEventListener('pointermove', guarded((e) => hover_pole(e.offsetX, e.offsetY)));
-poleMap.addEventListener('pointerleave', guarded(() => hover_pole(-1e6, -1e6)));
+// Dragging a requested pole: at most one redesign per animation frame, at the latest
+// pointer position (moves in between are coalesced).
+let dragging = false;
+let queued = null;
+const flushMove = guarded(() => {
+  const at = queued;
+  queued = null;
+  if (at) pole_pointer_move(at[0], at[1]);
+});
+poleMap.addEventListener('pointerdown', guarded((e) => {
+  if (e.button !== 0) return;
+  if (pole_pointer_down(e.offsetX, e.offsetY)) {
+    dragging = true;
+    poleMap.setPointerCapture(e.pointerId);
+    poleMap.classList.add('is-dragging');
+    poleMap.focus({ preventScroll: true });
+    e.preventDefault();
+  }
+}));
+poleMap.addEventListener('pointermove', guarded((e) => {
+  if (!dragging) {
+    hover_pole(e.offsetX, e.offsetY);
+    return;
+  }
+  if (!queued) requestAnimationFrame(flushMove);
+  queued = [e.offsetX, e.offsetY];
+}));
+const endDrag = (cancel) => guarded(() => {
+  if (!dragging) return;
+  if (!cancel) flushMove();
+  queued = null;
+  dragging = false;
+  poleMap.classList.remove('is-dragging');
+  pole_pointer_up(cancel);
+});
+poleMap.addEventListener('pointerup', endDrag(false));
+poleMap.addEventListener('pointercancel', endDrag(true));
+poleMap.addEventListener('lostpointercapture', endDrag(false));
+poleMap.addEventListener('pointerleave', guarded(() => {
+  if (!dragging) hover_pole(-1e6, -1e6);
+}));
+byId('pw-undo').addEventListener('click', guarded(() => undo_edit(false)));
+byId('pw-redo').addEventListener('click', guarded(() => undo_edit(true)));
+byId('pw-add-real').addEventListener('click', guarded(() => add_pole('real')));
+byId('pw-add-pair').addEventListener('click', guarded(() => add_pole('pair')));
+byId('pw-remove-pole').addEventListener('click', guarded(() => remove_pole()));
+byId('pw-adopt').addEventListener('click', guarded(() => adopt_poles()));
+byId('pw-pin').addEventListener('click', guarded(() => pin_design()));
+byId('pw-unpin').addEventListener('click', guarded(() => unpin_design()));
 poleMap.addEventListener('keydown', onPoleKey);
 poleMap.addEventListener('focus', guarded(() => step_pole(0)));
-poleMap.addEventListener('blur', guarded(() => clear_pole_focus()));
+// Leaving the map for its own toolbar (Remove, Undo…) keeps the chosen pole.
+poleMap.addEventListener('blur', guarded((e) => {
+  if (!(e.relatedTarget && e.relatedTarget.closest && e.relatedTarget.closest('.edit-bar'))) clear_pole_focus();
+}));
 
 // Canvas sizes are read only here, after layout (the design cycle never forces one).
 let resizePending = false;

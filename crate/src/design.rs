@@ -798,11 +798,68 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
     Ok((request, spec))
 }
 
+/// How Polewright is asked to choose the closed-loop poles when they are not listed.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PoleRequest {
+    /// A prototype pattern scaled to a target. The settling band, when it matters, is part
+    /// of the pattern (a Bessel pattern normalised to a unit settling time) and of the target.
+    Pattern { pattern: crate::patterns::Pattern, target: crate::patterns::ScaleTarget },
+    /// A time-response specification: the dominant pair at the corner of its region and the
+    /// other poles faster ([`crate::patterns::poles_from_specification`]).
+    Specification(crate::patterns::Specification),
+}
+
+/// Chooses `order` closed-loop poles (plant states, plus the integrators when their poles are
+/// not listed apart) as `request` asks: the poles, a plain description of how they were
+/// obtained and, for a specification, its admissible region. The design file and the page
+/// both go through here.
+///
+/// # Errors
+/// The [`crate::patterns::PatternError`] of the pattern or specification (an invalid number,
+/// an order the pattern lacks, a failed settling or frequency computation).
+pub fn choose_poles(request: &PoleRequest, order: usize) -> Result<PoleChoice, crate::patterns::PatternError> {
+    use crate::patterns::{poles_from_specification, scaled_prototype_poles, specification_region, DominantPairParams, Pattern, ResponseParams, ScaleTarget};
+    match request {
+        PoleRequest::Pattern { pattern, target } => {
+            let scaled = scaled_prototype_poles(*pattern, order, *target, &ResponseParams::default())?;
+            let method = match pattern {
+                Pattern::Bessel(_) => "bessel",
+                Pattern::Butterworth => "butterworth",
+                Pattern::Itae => "itae",
+                Pattern::Binomial => "binomial",
+            };
+            let description = match target {
+                ScaleTarget::SettlingTime { seconds, band } => format!(
+                    "{} pattern of order {order} ({:?}), scaled so that its own step response settles into ±{} % at {} s",
+                    pattern.name(),
+                    scaled.prototype.normalisation,
+                    fmt_num(band * 100.0),
+                    fmt_num(*seconds)
+                ),
+                ScaleTarget::Bandwidth { rad_per_s } => format!("{} pattern of order {order} ({:?}), scaled to a −3 dB bandwidth of {} rad/s", pattern.name(), scaled.prototype.normalisation, fmt_num(*rad_per_s)),
+            };
+            Ok(PoleChoice { method, description, poles: scaled.poles, region: None })
+        }
+        PoleRequest::Specification(spec) => {
+            let region = specification_region(spec)?;
+            let chosen = poles_from_specification(spec, order, &DominantPairParams::default())?;
+            let description = format!(
+                "dominant pair at ζ = {}, σ = {} 1/s from {} % overshoot and {} s settling (±{} %; second-order formulas, an approximation: confirm by simulation), the other {} pole(s) five times faster",
+                fmt_num(region.min_damping),
+                fmt_num(region.min_decay_rate),
+                fmt_num(spec.overshoot * 100.0),
+                fmt_num(spec.settling_time),
+                fmt_num(spec.settling_band * 100.0),
+                order.saturating_sub(2)
+            );
+            Ok(PoleChoice { method: "specification", description, poles: chosen.poles, region: Some(region) })
+        }
+    }
+}
+
+/// Reads `feedback.pattern` or `feedback.spec` into a [`PoleRequest`] and chooses the poles.
 fn pole_choice_from_value(fbm: &serde_json::Map<String, Value>, order: usize, default_band: f64) -> Result<PoleChoice, InputError> {
-    use crate::patterns::{
-        poles_from_specification, scaled_prototype_poles, specification_region, BesselNormalisation, DominantPairParams, Pattern, ResponseParams, ScaleTarget, SettlingRule,
-        Specification, SpeedRequirement,
-    };
+    use crate::patterns::{BesselNormalisation, Pattern, ScaleTarget, SettlingRule, Specification, SpeedRequirement};
     let band_of = |m: &serde_json::Map<String, Value>, field: &str| -> Result<f64, InputError> {
         match m.get("band") {
             None => Ok(default_band),
@@ -844,24 +901,7 @@ fn pole_choice_from_value(fbm: &serde_json::Map<String, Value>, order: usize, de
             (None, Some(w)) => ScaleTarget::Bandwidth { rad_per_s: positive(w, "feedback.pattern.bandwidth")? },
             _ => return Err(InputError::new("feedback.pattern", "give exactly one of \"settling_time\" (s) or \"bandwidth\" (rad/s) to scale the pattern")),
         };
-        let scaled = scaled_prototype_poles(pattern, order, target, &ResponseParams::default()).map_err(|e| InputError::new("feedback.pattern", e.to_string()))?;
-        let method = match pattern {
-            Pattern::Bessel(_) => "bessel",
-            Pattern::Butterworth => "butterworth",
-            Pattern::Itae => "itae",
-            Pattern::Binomial => "binomial",
-        };
-        let description = match target {
-            ScaleTarget::SettlingTime { seconds, band } => format!(
-                "{} pattern of order {order} ({:?}), scaled so that its own step response settles into ±{} % at {} s",
-                pattern.name(),
-                scaled.prototype.normalisation,
-                fmt_num(band * 100.0),
-                fmt_num(seconds)
-            ),
-            ScaleTarget::Bandwidth { rad_per_s } => format!("{} pattern of order {order} ({:?}), scaled to a −3 dB bandwidth of {} rad/s", pattern.name(), scaled.prototype.normalisation, fmt_num(rad_per_s)),
-        };
-        return Ok(PoleChoice { method, description, poles: scaled.poles, region: None });
+        return choose_poles(&PoleRequest::Pattern { pattern, target }, order).map_err(|e| InputError::new("feedback.pattern", e.to_string()));
     }
     let Some(sv) = fbm.get("spec") else {
         return Err(InputError::new("feedback", "give the poles, a pattern or a specification"));
@@ -877,18 +917,7 @@ fn pole_choice_from_value(fbm: &serde_json::Map<String, Value>, order: usize, de
         _ => return Err(InputError::new("feedback.spec", "give at most one of \"rise_time\" and \"bandwidth\"")),
     };
     let spec = Specification { overshoot, settling_time, settling_band: band, settling_rule: SettlingRule::EnvelopeBound, speed };
-    let region = specification_region(&spec).map_err(|e| InputError::new("feedback.spec", e.to_string()))?;
-    let chosen = poles_from_specification(&spec, order, &DominantPairParams::default()).map_err(|e| InputError::new("feedback.spec", e.to_string()))?;
-    let description = format!(
-        "dominant pair at ζ = {}, σ = {} 1/s from {} % overshoot and {} s settling (±{} %; second-order formulas, an approximation: confirm by simulation), the other {} pole(s) five times faster",
-        fmt_num(region.min_damping),
-        fmt_num(region.min_decay_rate),
-        fmt_num(overshoot * 100.0),
-        fmt_num(settling_time),
-        fmt_num(band * 100.0),
-        order.saturating_sub(2)
-    );
-    Ok(PoleChoice { method: "specification", description, poles: chosen.poles, region: Some(region) })
+    choose_poles(&PoleRequest::Specification(spec), order).map_err(|e| InputError::new("feedback.spec", e.to_string()))
 }
 
 /// Reads and validates the `plant` object.

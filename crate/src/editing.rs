@@ -773,13 +773,14 @@ impl EditHistory {
         self.drag_apply(&edit)
     }
 
-    /// [`EditHistory::drag_to_pixel`] for a list shown through `map` ([`drag_edit_mapped`]).
+    /// [`EditHistory::drag_to_pixel`] for a list shown through `map` ([`drag_edit_mapped`]),
+    /// the target rounded to [`MAP_EDIT_DIGITS`] significant digits ([`rounded_move`]).
     ///
     /// # Errors
     /// As [`EditHistory::drag_to`] and [`drag_edit_mapped`].
     pub fn drag_to_pixel_mapped(&mut self, frame: &Frame, pointer: [f64; 2], map: PlaneMap) -> Result<Change, EditError> {
         let entry = self.dragging().ok_or(EditError::NoDrag)?;
-        let edit = drag_edit_mapped(&self.current, entry, frame, pointer, &self.params, map)?;
+        let edit = rounded_move(drag_edit_mapped(&self.current, entry, frame, pointer, &self.params, map)?);
         self.drag_apply(&edit)
     }
 
@@ -1083,6 +1084,45 @@ impl PlaneMap {
             }
             other => Ok(other),
         }
+    }
+}
+
+/// Significant digits kept in a pole placed from the map ([`round_pole`]): five, a
+/// resolution of 1e-5 of the pole's magnitude, finer than a pixel on any map that shows it.
+pub const MAP_EDIT_DIGITS: i32 = 5;
+
+/// `z` with both parts rounded to a step of `10^(⌊log10 |z|⌋ − digits + 1)`, so that a pole
+/// placed with the pointer reads `-12.346±9.8765j` rather than sixteen digits of pixel noise.
+/// Zero and non-finite values are returned unchanged; a real part that rounds to zero stays
+/// a (signed) zero and an imaginary part is never rounded to zero when it was not (the step
+/// is then halved until it survives), so a pair stays a pair.
+pub fn round_pole(z: Complex64, digits: i32) -> Complex64 {
+    let size = z.norm();
+    if !(size.is_finite() && size > 0.0) {
+        return z;
+    }
+    let mut step = 10f64.powi(size.log10().floor() as i32 - digits.max(1) + 1);
+    let round = |x: f64, step: f64| if step > 0.0 && step.is_finite() { (x / step).round() * step } else { x };
+    let re = round(z.re, step);
+    let mut im = round(z.im, step);
+    while z.im != 0.0 && im == 0.0 && step > f64::MIN_POSITIVE {
+        step /= 10.0;
+        im = round(z.im, step);
+    }
+    let out = Complex64::new(re, if z.im != 0.0 && im == 0.0 { z.im } else { im });
+    if out.re.is_finite() && out.im.is_finite() {
+        out
+    } else {
+        z
+    }
+}
+
+/// A move with its target rounded by [`round_pole`] ([`MAP_EDIT_DIGITS`]); other edits pass
+/// through.
+pub fn rounded_move(edit: Edit) -> Edit {
+    match edit {
+        Edit::Move { entry, to } => Edit::Move { entry, to: round_pole(to, MAP_EDIT_DIGITS) },
+        other => other,
     }
 }
 
@@ -2800,9 +2840,30 @@ mod tests {
         h.begin_drag(0).expect("entry");
         assert_eq!(h.drag_to_pixel_mapped(&f, f.to_pixel([0.7, 0.4]), map), Ok(Change::Changed));
         assert_eq!(h.end_drag(), Change::Changed);
+        // The drag rounds the s-plane target to five significant digits (|s| ≈ 35, a step of
+        // 1e-3 1/s): on the map that is within T · 1e-3 of the pointer.
         let z = map.to_map(h.current().entry(0).expect("entry").upper());
-        assert!((z - c(0.7, 0.4)).norm() < 1e-9, "{z}");
+        assert!((z - c(0.7, 0.4)).norm() < t * 1e-3, "{z}");
         assert!(h.undo().is_some());
         assert_eq!(h.current(), &set);
+    }
+
+    #[test]
+    fn rounding_keeps_five_significant_digits_and_pairs_stay_pairs() {
+        let z = round_pole(c(-12.345678901, 9.87654321), MAP_EDIT_DIGITS);
+        // |z| ≈ 15.8: step 1e-3.
+        assert!((z.re - -12.346).abs() < 1e-12 && (z.im - 9.877).abs() < 1e-12, "{z}");
+        assert_eq!(crate::poles::format_complex(z), "-12.346+9.877j");
+        let tiny_im = round_pole(c(-100.0, 1e-9), MAP_EDIT_DIGITS);
+        assert!(tiny_im.im > 0.0, "{tiny_im}");
+        assert_eq!(round_pole(c(0.0, 0.0), 5), c(0.0, 0.0));
+        let real = round_pole(c(0.98765432, 0.0), 5);
+        assert!((real.re - 0.98765).abs() < 1e-15 && real.im == 0.0);
+        // The rounding moves a pole by at most half a step in each part.
+        for (re, im) in [(-3.3333333, 2.2222222), (-1234.5678, 0.5), (-0.000123456, 0.000654321)] {
+            let r = round_pole(c(re, im), 5);
+            let step = 10f64.powi(c(re, im).norm().log10().floor() as i32 - 4);
+            assert!((r.re - re).abs() <= 0.5 * step * (1.0 + 1e-9) && (r.im - im).abs() <= 0.5 * step * (1.0 + 1e-9), "{re} {im} -> {r}");
+        }
     }
 }

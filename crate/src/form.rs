@@ -24,7 +24,18 @@
 //! | `state_units`, `input_units` | no | units, likewise |
 //! | `c`, `d` | no | output and feedthrough matrices (the measurements) |
 //! | `output_names`, `output_units` | no | names and units of the outputs (rows of C) |
-//! | `poles` | yes | desired closed-loop poles, e.g. `-2, -1±2j` |
+//! | `poles` | with `list` | desired closed-loop poles, e.g. `-2, -1±2j` |
+//! | `pole_source` | no | `list` (blank), `pattern`, `specification` or `lqr`: how the poles are chosen |
+//! | `pattern_family` | no | `bessel` (blank), `butterworth`, `itae` or `binomial` (with `pattern`) |
+//! | `pattern_normalisation` | no | `unit_settling_time` (blank), `unit_group_delay` or `half_power_at_unit_frequency` (Bessel only) |
+//! | `pattern_settling_time` | with `pattern` | seconds: the pattern is scaled so that its own step response settles then |
+//! | `spec_overshoot` | with `specification` | largest overshoot in percent (`5` is 5 %), more than 0 and less than 100 |
+//! | `spec_settling_time` | with `specification` | settling time in seconds |
+//! | `spec_rise_time` | no | 10–90 % rise time in seconds (with `specification`) |
+//! | `settling_band` | no | `2` (blank), `1` or `5`: the settling band in percent, for the whole design |
+//! | `lqr_max_state` | with `lqr` | largest acceptable excursion per design state (plant, delay and integrator states) |
+//! | `lqr_max_input` | no | largest acceptable input per input (blank: the actuator limits) |
+//! | `search` | no | `true` for the fastest design within the actuator limits (a checkbox) |
 //! | `limits` | no | one actuator limit per input (positive), `none` for an unlimited input |
 //! | `initial_state` | no | one value per state (blank: 1 in the first state) |
 //! | `duration` | no | simulated time in seconds (blank: chosen from the slowest pole) |
@@ -49,6 +60,21 @@
 //! `observer` is `none`) are not read at all: see [`FormInput::is_active`]. With every
 //! version-2 field blank the design is exactly the version-1 one ([`design::run`]).
 //!
+//! # Choosing the poles
+//! `pole_source` says where the controller's poles come from: the `poles` list, a prototype
+//! pattern scaled to a settling time, a specification (overshoot and settling time, through
+//! its region's dominant pair) or LQR with Bryson's rule. Patterns and specifications go
+//! through [`design::choose_poles`], as the design file's `feedback.pattern` and
+//! `feedback.spec` do, with as many poles as the design file uses: the plant states, plus
+//! one per integrator when integral action is on and `integral_poles` is blank. With LQR the
+//! integrator poles come from the LQR too (`integral_poles` is not read) and `lqr_max_state`
+//! has one value per design state: the plant states, then one per input with a computation
+//! delay, then one per integrator. The `search` box scales the poles (from any source but
+//! LQR) by the largest common factor that keeps every input within its limit, in the free
+//! response from the initial state and, with tracking, in the reference step; it works on
+//! continuous designs only (as in the design file). The report's
+//! [`PoleChoiceReport`] shows how the poles were chosen, with text to copy into `poles`.
+//!
 //! Every number shown with full precision uses the shortest text that reads back to the
 //! same `f64` ([`format_complex`]); other figures use [`fmt_num`] (4 decimals).
 
@@ -60,10 +86,9 @@ use crate::analysis::{controllability_report, AnalysisParams, ModalReport, ModeV
 use crate::controller::{AntiWindup, ObserverForm};
 use crate::design::{self, fmt_num, ControllerSpec, DesignError, DesignRequest, DesignResult, Implementation, ObserverPoles, ObserverSpec, Pair, Plane, ScenarioSpec, StructureResult, TrackingResult, TrackingSpec};
 use crate::linalg::eigen::try_eigenvalues;
-use crate::metrics::DEFAULT_BAND;
 use crate::parse::{parse_matrix, parse_names, parse_vector, MatrixParseError};
 use crate::plant::{Field, Plant, PlantError, PlantSpec};
-use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, Series, TimePlotScene};
+use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, RegionShape, Series, TimePlotScene};
 use crate::poles::{format_complex, format_pole_list, parse_poles, sort_for_display};
 
 /// Largest plant the page designs (placement costs `O(n⁴)`; the page must stay responsive).
@@ -90,6 +115,17 @@ pub struct FormInput {
     pub output_names: String,
     pub output_units: String,
     pub poles: String,
+    pub pole_source: String,
+    pub pattern_family: String,
+    pub pattern_normalisation: String,
+    pub pattern_settling_time: String,
+    pub spec_overshoot: String,
+    pub spec_settling_time: String,
+    pub spec_rise_time: String,
+    pub settling_band: String,
+    pub lqr_max_state: String,
+    pub lqr_max_input: String,
+    pub search: String,
     pub limits: String,
     pub initial_state: String,
     pub duration: String,
@@ -116,7 +152,12 @@ pub struct FormInput {
 
 /// The choice fields (a select or a checkbox on the page) and their allowed values
 /// (the first is what a blank field means).
-pub const CHOICES: [(&str, &[&str]); 6] = [
+pub const CHOICES: [(&str, &[&str]); 11] = [
+    ("pole_source", &["list", "pattern", "specification", "lqr"]),
+    ("pattern_family", &["bessel", "butterworth", "itae", "binomial"]),
+    ("pattern_normalisation", &["unit_settling_time", "unit_group_delay", "half_power_at_unit_frequency"]),
+    ("settling_band", &["2", "1", "5"]),
+    ("search", &["false", "true"]),
     ("observer", &["none", "poles", "speed_factor"]),
     ("observer_form", &["predictor", "current"]),
     ("tracking", &["none", "feedforward", "integral"]),
@@ -127,7 +168,7 @@ pub const CHOICES: [(&str, &[&str]); 6] = [
 
 impl FormInput {
     /// The field keys, in page order.
-    pub const FIELDS: [&'static str; 33] = [
+    pub const FIELDS: [&'static str; 44] = [
         "a",
         "b",
         "state_names",
@@ -139,6 +180,17 @@ impl FormInput {
         "output_names",
         "output_units",
         "poles",
+        "pole_source",
+        "pattern_family",
+        "pattern_normalisation",
+        "pattern_settling_time",
+        "spec_overshoot",
+        "spec_settling_time",
+        "spec_rise_time",
+        "settling_band",
+        "lqr_max_state",
+        "lqr_max_input",
+        "search",
         "limits",
         "initial_state",
         "duration",
@@ -176,6 +228,17 @@ impl FormInput {
             "output_names" => &self.output_names,
             "output_units" => &self.output_units,
             "poles" => &self.poles,
+            "pole_source" => &self.pole_source,
+            "pattern_family" => &self.pattern_family,
+            "pattern_normalisation" => &self.pattern_normalisation,
+            "pattern_settling_time" => &self.pattern_settling_time,
+            "spec_overshoot" => &self.spec_overshoot,
+            "spec_settling_time" => &self.spec_settling_time,
+            "spec_rise_time" => &self.spec_rise_time,
+            "settling_band" => &self.settling_band,
+            "lqr_max_state" => &self.lqr_max_state,
+            "lqr_max_input" => &self.lqr_max_input,
+            "search" => &self.search,
             "limits" => &self.limits,
             "initial_state" => &self.initial_state,
             "duration" => &self.duration,
@@ -221,6 +284,17 @@ impl FormInput {
             "output_names" => &mut self.output_names,
             "output_units" => &mut self.output_units,
             "poles" => &mut self.poles,
+            "pole_source" => &mut self.pole_source,
+            "pattern_family" => &mut self.pattern_family,
+            "pattern_normalisation" => &mut self.pattern_normalisation,
+            "pattern_settling_time" => &mut self.pattern_settling_time,
+            "spec_overshoot" => &mut self.spec_overshoot,
+            "spec_settling_time" => &mut self.spec_settling_time,
+            "spec_rise_time" => &mut self.spec_rise_time,
+            "settling_band" => &mut self.settling_band,
+            "lqr_max_state" => &mut self.lqr_max_state,
+            "lqr_max_input" => &mut self.lqr_max_input,
+            "search" => &mut self.search,
             "limits" => &mut self.limits,
             "initial_state" => &mut self.initial_state,
             "duration" => &mut self.duration,
@@ -257,8 +331,8 @@ impl FormInput {
         match text.as_str() {
             "" => allowed.first().map_or(String::new(), |v| v.to_string()),
             // A checkbox may also arrive as on/off, yes/no or 1/0.
-            "on" | "yes" | "1" if key == "computation_delay" => "true".into(),
-            "off" | "no" | "0" if key == "computation_delay" => "false".into(),
+            "on" | "yes" | "1" if matches!(key, "computation_delay" | "search") => "true".into(),
+            "off" | "no" | "0" if matches!(key, "computation_delay" | "search") => "false".into(),
             _ => text,
         }
     }
@@ -268,12 +342,20 @@ impl FormInput {
     pub fn is_active(&self, key: &str) -> bool {
         let observer = self.choice("observer");
         let tracking = self.choice("tracking");
+        let source = self.choice("pole_source");
         match key {
+            "poles" => source == "list",
+            "pattern_family" | "pattern_settling_time" => source == "pattern",
+            "pattern_normalisation" => source == "pattern" && self.choice("pattern_family") == "bessel",
+            "spec_overshoot" | "spec_settling_time" | "spec_rise_time" => source == "specification",
+            "lqr_max_state" | "lqr_max_input" => source == "lqr",
             "observer_poles" => observer == "poles",
             "observer_speed" => observer == "speed_factor",
             "observer_form" => observer != "none",
             "tracked_outputs" | "reference" | "reference_time" => tracking != "none",
-            "integral_poles" | "anti_windup" => tracking == "integral",
+            // With LQR the integrator poles come from the LQR as well.
+            "integral_poles" => tracking == "integral" && source != "lqr",
+            "anti_windup" => tracking == "integral",
             "anti_windup_time" => tracking == "integral" && self.choice("anti_windup") == "back_calculation",
             "delay_poles" => self.choice("computation_delay") == "true",
             k => FormInput::FIELDS.contains(&k),
@@ -308,6 +390,8 @@ pub struct ListSizes {
     pub output_names: Option<String>,
     pub output_units: Option<String>,
     pub poles: Option<String>,
+    pub lqr_max_state: Option<String>,
+    pub lqr_max_input: Option<String>,
     pub limits: Option<String>,
     pub initial_state: Option<String>,
     pub observer_poles: Option<String>,
@@ -370,6 +454,8 @@ impl FormOutcome {
             "output_names" => s.output_names.as_deref(),
             "output_units" => s.output_units.as_deref(),
             "poles" => s.poles.as_deref(),
+            "lqr_max_state" => s.lqr_max_state.as_deref(),
+            "lqr_max_input" => s.lqr_max_input.as_deref(),
             "limits" => s.limits.as_deref(),
             "initial_state" => s.initial_state.as_deref(),
             "observer_poles" => s.observer_poles.as_deref(),
@@ -534,6 +620,87 @@ pub struct ControllerReport {
     pub events: Vec<EventLine>,
 }
 
+/// How the controller's poles were chosen, when the user did not simply list them (or the
+/// search scaled them): ready-to-show texts.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct PoleChoiceReport {
+    /// E.g. "Bessel pattern", "Specification (dominant pair)", "LQR (Bryson's rule)".
+    pub method: String,
+    /// How the poles were obtained, in a sentence or two.
+    pub description: String,
+    /// The poles the choice produced (after the search, when it ran), full precision, in the
+    /// plane of the `poles` field: text that [`parse_poles`] reads back exactly, to copy into
+    /// `poles` with the pole source set to `list` ("adopt").
+    pub suggested_poles: String,
+    /// What `suggested_poles` holds and how to adopt it.
+    pub suggested_note: String,
+    /// The admissible region of a specification.
+    pub region: Option<RegionReport>,
+    /// The LQR design, when the poles came from LQR weights.
+    pub lqr: Option<LqrReport>,
+    /// The search for the fastest design within the actuator limits, when it ran.
+    pub search: Option<SearchReport>,
+}
+
+/// The region of the s-plane a specification asks for, in words.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct RegionReport {
+    /// The smallest damping ratio ζ and the overshoot it stands for.
+    pub damping: String,
+    /// The smallest decay rate σ (and, for a digital design, the circle it maps to).
+    pub decay_rate: String,
+    /// The smallest natural frequency ωn, when a rise time was given.
+    pub natural_frequency: Option<String>,
+    /// That the bounds are second-order approximations, to be confirmed by simulation.
+    pub note: String,
+    /// The achieved closed-loop poles outside the region, one entry per broken boundary
+    /// (damping, decay or natural frequency); for a digital design judged through
+    /// `s = ln z / T`.
+    pub outside_region: Vec<String>,
+}
+
+/// The LQR design behind the poles.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct LqrReport {
+    /// The state weight Q in words.
+    pub q: String,
+    /// The input weight R in words.
+    pub r: String,
+    /// The normalised residual of the Riccati equation in a sentence.
+    pub residual: String,
+    /// The Riccati solution X (design states × design states).
+    pub riccati_solution: MatrixTable,
+    /// The LQR gain (inputs × design states).
+    pub gain: MatrixTable,
+    /// The LQR closed-loop poles (the plane of the design: z for a digital one), full precision.
+    pub closed_loop_poles: String,
+    /// Whether the gain K used is this LQR gain (one input) or only shares its poles.
+    pub gain_note: String,
+    /// The guaranteed margins of full-state LQR and where they hold (continuous designs only).
+    pub margins: Option<String>,
+}
+
+/// The search for the fastest design within the actuator limits.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct SearchReport {
+    /// The common factor the poles were multiplied by, in a sentence.
+    pub speed_factor: String,
+    /// The situation and the input that set the factor.
+    pub limiting: String,
+    /// Peak input over its limit at the factor found.
+    pub peak_ratio: String,
+    /// Per situation, its description and the slowest state's settling time.
+    pub settling_times: Vec<String>,
+    /// Whether the peak input grew steadily with the factor over the searched range.
+    pub monotonic: bool,
+    /// That, in a sentence (a warning when it did not hold, or when the range ran out).
+    pub monotonicity: String,
+    /// How many trial designs the search evaluated.
+    pub evaluations: usize,
+    /// What the search did not consider (for example a reference step it could not judge).
+    pub notes: Vec<String>,
+}
+
 /// All the text the page shows for a design.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Report {
@@ -553,6 +720,8 @@ pub struct Report {
     pub simulation: String,
     /// Observer, tracking, digital implementation and loop simulation (`None` for a plain gain).
     pub controller: Option<ControllerReport>,
+    /// How the poles were chosen (`None` when they were listed and not searched).
+    pub pole_choice: Option<PoleChoiceReport>,
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -701,6 +870,18 @@ fn design_field_key(path: &str) -> Option<&'static str> {
     Some(match path {
         "feedback.poles" => "poles",
         "feedback.plane" => "plane",
+        "feedback" => "pole_source",
+        "feedback.pattern" | "feedback.pattern.family" | "feedback.pattern.bandwidth" => "pattern_family",
+        "feedback.pattern.normalisation" => "pattern_normalisation",
+        "feedback.pattern.settling_time" => "pattern_settling_time",
+        "feedback.pattern.band" | "feedback.spec.band" | "simulation.band" => "settling_band",
+        "feedback.spec" | "feedback.spec.bandwidth" => "pole_source",
+        "feedback.spec.overshoot" => "spec_overshoot",
+        "feedback.spec.settling_time" => "spec_settling_time",
+        "feedback.spec.rise_time" => "spec_rise_time",
+        "feedback.lqr" | "feedback.lqr.q" | "feedback.lqr.bryson" | "feedback.lqr.bryson.max_state" => "lqr_max_state",
+        "feedback.lqr.r" | "feedback.lqr.bryson.max_input" => "lqr_max_input",
+        "search" | "search.fastest_within_limits" | "search.situations" => "search",
         "actuators.limit" => "limits",
         "simulation.initial_state" => "initial_state",
         "simulation.duration" => "duration",
@@ -1067,6 +1248,388 @@ fn read_controller(form: &FormInput, plant: Option<&Plant>, c: &mut Collector, s
     spec
 }
 
+/// The settling band of `settling_band` as a fraction (blank: 2 %, the engine's default
+/// band), or `None` after an error.
+fn read_band(form: &FormInput, c: &mut Collector) -> Option<f64> {
+    match form.choice("settling_band").as_str() {
+        "2" => Some(0.02),
+        "1" => Some(0.01),
+        "5" => Some(0.05),
+        other => {
+            c.push("settling_band", format!("\"{other}\" is not a choice; choose 2 (±2 %, the usual band), 1 or 5 (percent of the final value)"));
+            None
+        }
+    }
+}
+
+/// What the other fields already gave, for reading the pole source.
+struct Known<'a> {
+    /// The `poles` list (when the source is `list` and it read).
+    listed: Option<&'a Vec<Complex64>>,
+    limits: Option<&'a Vec<Option<f64>>>,
+    initial_state: Option<&'a Option<Vec<f64>>>,
+    band: Option<f64>,
+}
+
+/// The pole source, once read.
+struct PoleSetup {
+    /// The poles of the request: the list or the pattern's poles (empty for LQR).
+    poles: Vec<Complex64>,
+    /// The LQR input bounds are the actuator limits (`lqr_max_input` blank).
+    lqr_inputs_from_limits: bool,
+    /// What the search could not take into account.
+    search_notes: Vec<String>,
+}
+
+/// `count` of plant states, delay states and integrators, in words.
+fn design_states_text(n: usize, delay: usize, integrators: usize) -> String {
+    let mut parts = vec![plural(n, "plant state", "plant states")];
+    if delay > 0 {
+        parts.push(plural(delay, "delay state", "delay states"));
+    }
+    if integrators > 0 {
+        parts.push(plural(integrators, "integrator", "integrators"));
+    }
+    parts.join(" + ")
+}
+
+/// Checks Bryson bounds: positive, with a finite, positive weight `1/value²`.
+fn bryson_bounds_ok(c: &mut Collector, key: &'static str, values: &[f64], what: &str) -> bool {
+    for (i, v) in values.iter().enumerate() {
+        let w = 1.0 / (v * v);
+        let problem = if !(v.is_finite() && *v > 0.0) {
+            Some(format!("must be a positive number (the largest acceptable {what})"))
+        } else if !w.is_finite() {
+            Some("is too small: its weight 1 / value² overflows".to_string())
+        } else if w <= 0.0 {
+            Some("is too large: its weight 1 / value² is zero".to_string())
+        } else {
+            None
+        };
+        if let Some(p) = problem {
+            c.push(key, format!("entry {}: {} {p}; give the largest acceptable {what}, for example 0.1", i + 1, full(*v)));
+            return false;
+        }
+    }
+    true
+}
+
+/// The field a pattern or specification error belongs to.
+fn pattern_error_field(e: &crate::patterns::PatternError, pattern: bool) -> &'static str {
+    use crate::patterns::PatternError;
+    let main = if pattern { "pattern_family" } else { "pole_source" };
+    match e {
+        PatternError::InvalidValue { quantity, .. } => match *quantity {
+            "the overshoot" => "spec_overshoot",
+            "the settling time" if pattern => "pattern_settling_time",
+            "the settling time" => "spec_settling_time",
+            "the rise time" => "spec_rise_time",
+            "the settling band" => "settling_band",
+            _ => main,
+        },
+        PatternError::NotSettled { .. } if pattern => "pattern_settling_time",
+        _ => main,
+    }
+}
+
+/// Reads the pole source (`pole_source` and its fields) and the `search` box into `spec`.
+fn read_pole_source(form: &FormInput, plant: Option<&Plant>, spec: &mut ControllerSpec, known: Known<'_>, c: &mut Collector, sizes: &mut ListSizes) -> Option<PoleSetup> {
+    use crate::patterns::{BesselNormalisation, Pattern, ScaleTarget, SettlingRule, Specification, SpeedRequirement};
+    let source = form.choice("pole_source");
+    let n = plant.map(|p| p.states());
+    let m = plant.map(|p| p.inputs());
+    let (integrators, integrators_apart) = match &spec.tracking {
+        TrackingSpec::Integral { outputs, integral_poles } => (outputs.len(), !integral_poles.is_empty()),
+        _ => (0, false),
+    };
+    // The tracking fields decide the number of poles: without them the count is unknown.
+    let tracking_read = !(c.has("tracking") || c.has("tracked_outputs") || c.has("integral_poles"));
+    // As in the design file: plant states, plus the integrators whose poles are not listed apart.
+    let order = n.map(|n| n + if integrators_apart { 0 } else { integrators });
+    let mut setup = PoleSetup { poles: Vec::new(), lqr_inputs_from_limits: false, search_notes: Vec::new() };
+    let mut ok = true;
+    let mut request: Option<design::PoleRequest> = None;
+    if matches!(source.as_str(), "pattern" | "specification") && form.choice("plane") == "z" {
+        c.push("plane", "a pattern or a specification gives s-plane poles (mapped by z = e^(sT) for a digital controller): choose the s-plane, or list z-plane poles yourself");
+        ok = false;
+    }
+    match source.as_str() {
+        "list" => match known.listed {
+            Some(p) => setup.poles = p.clone(),
+            None => ok = false,
+        },
+        "pattern" => {
+            let family = form.choice("pattern_family");
+            let pattern = match family.as_str() {
+                "bessel" => match (form.choice("pattern_normalisation").as_str(), known.band) {
+                    ("unit_settling_time", Some(band)) => Some(Pattern::Bessel(BesselNormalisation::UnitSettlingTime { band })),
+                    ("unit_settling_time", None) => None,
+                    ("unit_group_delay", _) => Some(Pattern::Bessel(BesselNormalisation::UnitDcGroupDelay)),
+                    ("half_power_at_unit_frequency", _) => Some(Pattern::Bessel(BesselNormalisation::HalfPowerAtUnitFrequency)),
+                    (other, _) => {
+                        c.push("pattern_normalisation", format!("\"{other}\" is not a choice; choose unit settling time, unit group delay or half power at unit frequency"));
+                        None
+                    }
+                },
+                "butterworth" => Some(Pattern::Butterworth),
+                "itae" => Some(Pattern::Itae),
+                "binomial" => Some(Pattern::Binomial),
+                other => {
+                    c.push("pattern_family", format!("\"{other}\" is not a choice; choose Bessel, Butterworth, ITAE or binomial"));
+                    None
+                }
+            };
+            let seconds = if is_blank(&form.pattern_settling_time) {
+                c.push("pattern_settling_time", "required for a pattern: the settling time in seconds that the pattern is scaled to, for example 0.5");
+                None
+            } else {
+                match positive_number(&form.pattern_settling_time, "the settling time in seconds", "0.5") {
+                    Ok(t) => Some(t),
+                    Err(e) => {
+                        c.push("pattern_settling_time", e);
+                        None
+                    }
+                }
+            };
+            match (pattern, seconds, known.band) {
+                (Some(pattern), Some(seconds), Some(band)) => request = Some(design::PoleRequest::Pattern { pattern, target: ScaleTarget::SettlingTime { seconds, band } }),
+                _ => ok = false,
+            }
+        }
+        "specification" => {
+            let overshoot = if is_blank(&form.spec_overshoot) {
+                c.push("spec_overshoot", "required for a specification: the largest overshoot in percent, for example 5");
+                None
+            } else {
+                match one_number(&form.spec_overshoot, "largest overshoot in percent") {
+                    Ok(v) if v > 0.0 && v < 100.0 => Some(v / 100.0),
+                    Ok(0.0) => {
+                        c.push("spec_overshoot", "0 % cannot be asked of a dominant pair (it would need a damping ratio of 1 or more); give a small overshoot such as 1, or choose the binomial pattern for a response without overshoot");
+                        None
+                    }
+                    Ok(v) => {
+                        c.push("spec_overshoot", format!("{} is not an overshoot; give the largest overshoot in percent, more than 0 and less than 100 (for example 5 for 5 %)", full(v)));
+                        None
+                    }
+                    Err(e) => {
+                        c.push("spec_overshoot", e);
+                        None
+                    }
+                }
+            };
+            let settling = if is_blank(&form.spec_settling_time) {
+                c.push("spec_settling_time", "required for a specification: the settling time in seconds, for example 2");
+                None
+            } else {
+                match positive_number(&form.spec_settling_time, "the settling time in seconds", "2") {
+                    Ok(t) => Some(t),
+                    Err(e) => {
+                        c.push("spec_settling_time", e);
+                        None
+                    }
+                }
+            };
+            let rise = if is_blank(&form.spec_rise_time) {
+                Some(None)
+            } else {
+                match positive_number(&form.spec_rise_time, "the 10–90 % rise time in seconds", "0.5") {
+                    Ok(t) => Some(Some(SpeedRequirement::RiseTime { seconds: t })),
+                    Err(e) => {
+                        c.push("spec_rise_time", e);
+                        None
+                    }
+                }
+            };
+            match (overshoot, settling, rise, known.band) {
+                (Some(overshoot), Some(settling_time), Some(speed), Some(band)) => {
+                    request = Some(design::PoleRequest::Specification(Specification { overshoot, settling_time, settling_band: band, settling_rule: SettlingRule::EnvelopeBound, speed }))
+                }
+                _ => ok = false,
+            }
+        }
+        "lqr" => {
+            let delay = if spec.implementation.as_ref().is_some_and(|i| i.computation_delay) { m.unwrap_or(0) } else { 0 };
+            let max_state = if is_blank(&form.lqr_max_state) {
+                c.push("lqr_max_state", "required for LQR: the largest acceptable excursion of each design state (plant states, then delay states and integrators), for example 0.1, 1");
+                None
+            } else {
+                match parse_vector(&form.lqr_max_state) {
+                    Ok(v) => {
+                        sizes.lqr_max_state = Some(plural(v.len(), "value", "values"));
+                        match n {
+                            Some(n) if tracking_read && v.len() != n + delay + integrators => {
+                                c.push(
+                                    "lqr_max_state",
+                                    format!(
+                                        "{} given but the design has {} ({}); give one largest acceptable excursion per state, in that order",
+                                        plural(v.len(), "value", "values"),
+                                        plural(n + delay + integrators, "state", "states"),
+                                        design_states_text(n, delay, integrators)
+                                    ),
+                                );
+                                None
+                            }
+                            _ if bryson_bounds_ok(c, "lqr_max_state", &v, "excursion of that state") => Some(v),
+                            _ => None,
+                        }
+                    }
+                    Err(e) => {
+                        c.push("lqr_max_state", e.to_string());
+                        None
+                    }
+                }
+            };
+            let max_input = if is_blank(&form.lqr_max_input) {
+                match (known.limits, plant) {
+                    (Some(l), Some(p)) if l.is_empty() => {
+                        c.push("lqr_max_input", format!("blank means the actuator limits, but none are given: give the largest acceptable value of each input here ({}), or enter the actuator limits", plural(p.inputs(), "value", "values")));
+                        None
+                    }
+                    (Some(l), Some(p)) => match l.iter().position(|x| x.is_none()) {
+                        Some(i) => {
+                            c.push(
+                                "lqr_max_input",
+                                format!(
+                                    "blank means the actuator limits, but input {} ({}) has no limit: give the largest acceptable value of each input here, or a limit for every input",
+                                    i + 1,
+                                    p.input_names().get(i).map_or("", |s| s.as_str())
+                                ),
+                            );
+                            None
+                        }
+                        None => {
+                            setup.lqr_inputs_from_limits = true;
+                            Some(l.iter().flatten().copied().collect::<Vec<f64>>())
+                        }
+                    },
+                    _ => None,
+                }
+            } else {
+                match parse_vector(&form.lqr_max_input) {
+                    Ok(v) => {
+                        sizes.lqr_max_input = Some(plural(v.len(), "value", "values"));
+                        match m {
+                            Some(m) if v.len() != m => {
+                                c.push("lqr_max_input", format!("{} given but the plant has {}; give one largest acceptable value per input, or leave blank to use the actuator limits", plural(v.len(), "value", "values"), plural(m, "input", "inputs")));
+                                None
+                            }
+                            _ if bryson_bounds_ok(c, "lqr_max_input", &v, "value of that input") => Some(v),
+                            _ => None,
+                        }
+                    }
+                    Err(e) => {
+                        c.push("lqr_max_input", e.to_string());
+                        None
+                    }
+                }
+            };
+            match (max_state, max_input) {
+                (Some(max_state), Some(max_input)) => spec.lqr = Some(design::LqrWeights::Bryson { max_state, max_input }),
+                _ => ok = false,
+            }
+        }
+        other => {
+            c.push("pole_source", format!("\"{other}\" is not a choice; choose list, pattern, specification or LQR"));
+            ok = false;
+        }
+    }
+    if let (Some(req), Some(order), true, true) = (request, order, ok, tracking_read) {
+        let pattern = matches!(req, design::PoleRequest::Pattern { .. });
+        match design::choose_poles(&req, order) {
+            Ok(choice) => {
+                setup.poles = choice.poles.clone();
+                spec.pole_choice = Some(choice);
+            }
+            Err(e) => {
+                let needs = format!(
+                    "this design needs {} ({})",
+                    plural(order, "pole", "poles"),
+                    design_states_text(n.unwrap_or(0), 0, if integrators_apart { 0 } else { integrators })
+                );
+                let advice = match (&e, pattern) {
+                    (crate::patterns::PatternError::UnsupportedOrder { .. }, true) => format!("; {needs}: choose another pattern, or list the poles"),
+                    (crate::patterns::PatternError::UnsupportedOrder { .. }, false) => format!("; {needs}: a specification places a dominant pair, so it needs at least 2 poles; choose a pattern, or list the poles"),
+                    _ => String::new(),
+                };
+                c.push(pattern_error_field(&e, pattern), format!("{e}{advice}"));
+                ok = false;
+            }
+        }
+    }
+
+    // The search for the fastest design within the actuator limits.
+    match form.choice("search").as_str() {
+        "false" => {}
+        "true" => {
+            let mut can = true;
+            if !is_blank(&form.sample_time) {
+                c.push("search", "the search works on continuous designs: clear the sample time, search, copy the poles it finds into the pole list, then give the sample time again; or clear this box");
+                can = false;
+            } else if source == "lqr" {
+                c.push("search", "the search speeds up a pole pattern, but LQR chooses its poles from the weights: change the largest excursions instead, or copy the LQR poles into the pole list and search those; or clear this box");
+                can = false;
+            } else if integrators > 0 && !integrators_apart {
+                c.push("search", "the search scales the plant's poles only: with integral action, give the integrator poles in their own field (integrator poles), or clear this box");
+                can = false;
+            }
+            match known.limits {
+                Some(l) if l.iter().all(|x| x.is_none()) => {
+                    c.push("search", "the search looks for the fastest design the actuator limits allow, so it needs limits: give a limit for at least one input under actuator limits, or clear this box");
+                    can = false;
+                }
+                Some(_) => {}
+                None => can = false,
+            }
+            if let (true, Some(p), Some(Some(x0))) = (can, plant, known.initial_state.map(|x| x.clone().or_else(|| plant.map(|p| (0..p.states()).map(|i| if i == 0 { 1.0 } else { 0.0 }).collect())))) {
+                let mut situations = vec![crate::search::Situation::InitialState(x0)];
+                if let TrackingSpec::Feedforward { outputs } | TrackingSpec::Integral { outputs, .. } = &spec.tracking {
+                    let steps = if spec.scenario.reference.is_empty() { vec![1.0; outputs.len()] } else { spec.scenario.reference.clone() };
+                    match p.c() {
+                        Some(cm) if cm.nrows() == p.inputs() => {
+                            let mut r = vec![0.0; cm.nrows()];
+                            for (j, &o) in outputs.iter().enumerate() {
+                                if let (Some(slot), Some(v)) = (r.get_mut(o), steps.get(j)) {
+                                    *slot = *v;
+                                }
+                            }
+                            situations.push(crate::search::Situation::ReferenceStep(r));
+                        }
+                        Some(cm) => setup.search_notes.push(format!(
+                            "The search judged the free response only: its reference step is followed with feedforward on every row of C, which needs as many outputs as inputs (C has {}, the plant {}).",
+                            plural(cm.nrows(), "row", "rows"),
+                            plural(p.inputs(), "input", "inputs")
+                        )),
+                        None => {}
+                    }
+                    if matches!(spec.tracking, TrackingSpec::Integral { .. }) {
+                        setup.search_notes.push("The search judges the state feedback of the plant alone (and the reference step with feedforward), not the integrators: check the loop simulation for the inputs with integral action.".into());
+                    }
+                }
+                spec.search = Some(situations);
+            }
+            if !can {
+                ok = false;
+            }
+        }
+        other => {
+            c.push("search", format!("\"{other}\" is not a choice; tick the box (true) or leave it clear (false)"));
+            ok = false;
+        }
+    }
+    ok.then_some(setup)
+}
+
+/// The s-plane closed-loop poles of a digital LQR design with a chosen simulation length, for
+/// [`check_loop_length`]: the same design run over a few samples, without observer or steps.
+fn lqr_poles_for_length(req: &DesignRequest, spec: &ControllerSpec, sample_time: f64) -> Option<Vec<Complex64>> {
+    let mut quick_req = req.clone();
+    quick_req.duration = Some(4.0 * sample_time);
+    let quick_spec = ControllerSpec { observer: None, scenario: ScenarioSpec::default(), search: None, ..spec.clone() };
+    let result = design::run_with(&quick_req, &quick_spec).ok()?;
+    let poles = result.lqr.as_ref()?.closed_loop_poles.iter().filter_map(|p| z_to_s(c64(p), sample_time)).collect();
+    Some(poles)
+}
+
 /// Most samples a digital simulation may take (the engine allocates every sample of every
 /// signal: 50 000 samples of a 10-state loop are about 10 MB and a tenth of a second).
 pub const MAX_LOOP_SAMPLES: f64 = 50_000.0;
@@ -1075,7 +1638,8 @@ pub const MAX_LOOP_SAMPLES: f64 = 50_000.0;
 /// after the end of the simulated time; the error goes to the field that sets the length. The
 /// horizon is the engine's rule (7 / slowest decay rate of the controller and observer poles,
 /// doubled with limits; the loop adds the step times and doubles again with a load step).
-fn check_loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Collector) {
+/// `lqr_poles`: the s-plane poles of an LQR design (its poles are not in the request).
+fn check_loop_length(req: &DesignRequest, spec: &ControllerSpec, lqr_poles: Option<&[Complex64]>, c: &mut Collector) {
     let sc = &spec.scenario;
     let events = sc.reference_time.max(if sc.disturbance.is_empty() { 0.0 } else { sc.disturbance_time });
     if let Some(d) = req.duration {
@@ -1094,7 +1658,10 @@ fn check_loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Collect
             Plane::S => p.to_vec(),
         }
     };
-    let controller = to_s(&req.poles);
+    let controller = match lqr_poles {
+        Some(p) => p.to_vec(),
+        None => to_s(&req.poles),
+    };
     let decay = |p: &[Complex64]| p.iter().map(|z| -z.re).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
     let mut slowest = decay(&controller);
     match spec.observer.as_ref().map(|o| &o.poles) {
@@ -1220,7 +1787,9 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
         }
     }
 
-    let poles = if is_blank(&form.poles) {
+    let poles = if !form.is_active("poles") {
+        Some(Vec::new())
+    } else if is_blank(&form.poles) {
         c.push("poles", "required: list the desired closed-loop poles, one per state, separated by commas or spaces, for example -2, -3, -1±2j");
         None
     } else {
@@ -1263,6 +1832,7 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
             }
         }
     };
+    let band = read_band(form, &mut c);
     let duration = if is_blank(&form.duration) {
         Some(None)
     } else {
@@ -1334,8 +1904,11 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
         }
     }
 
-    // Observer, tracking, digital implementation, loop scenario.
-    let spec = read_controller(form, plant.as_ref(), &mut c, &mut sizes);
+    // Observer, tracking, digital implementation, loop scenario; then the pole source.
+    let mut spec = read_controller(form, plant.as_ref(), &mut c, &mut sizes);
+    let known = Known { listed: poles.as_ref(), limits: limits.as_ref(), initial_state: initial_state.as_ref(), band };
+    let setup = read_pole_source(form, plant.as_ref(), &mut spec, known, &mut c, &mut sizes);
+    let source = form.choice("pole_source");
 
     let mut outcome = FormOutcome {
         status: FormStatus::Invalid,
@@ -1348,19 +1921,23 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
         report: None,
     };
 
-    let ready = match (plant, poles, limits, initial_state, duration) {
-        (Some(p), Some(poles), Some(limits), Some(x0), Some(d)) if c.errors.is_empty() => Some(DesignRequest {
+    let ready = match (plant, &setup, limits, initial_state, duration, band) {
+        (Some(p), Some(setup), Some(limits), Some(x0), Some(d), Some(band)) if c.errors.is_empty() => Some(DesignRequest {
             plant: p,
-            poles,
+            poles: setup.poles.clone(),
             limits,
             initial_state: x0,
             duration: d,
-            band: DEFAULT_BAND,
+            band,
         }),
         _ => None,
     };
     if let Some(req) = &ready {
-        check_loop_length(req, &spec, &mut c);
+        let lqr_poles = match (&spec.lqr, spec.sample_time(), req.duration) {
+            (Some(_), Some(t), None) => lqr_poles_for_length(req, &spec, t),
+            _ => None,
+        };
+        check_loop_length(req, &spec, lqr_poles.as_deref(), &mut c);
     }
     let ready = ready.filter(|_| c.errors.is_empty());
     if let Some(req) = ready {
@@ -1368,11 +1945,24 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
         match run {
             Ok(result) => {
                 outcome.status = FormStatus::Designed;
-                let context = ReportContext::from_request(&req, &spec);
+                let mut context = ReportContext::from_request(&req, &spec);
+                if let Some(setup) = &setup {
+                    context.lqr_inputs_from_limits = setup.lqr_inputs_from_limits;
+                    context.search_notes = setup.search_notes.clone();
+                }
                 outcome.report = Some(report_with(&result, &context));
                 outcome.design = Some(result);
             }
             Err(DesignError::Input(e)) => match design_field_key(&e.field) {
+                // The poles of a pattern or an LQR design are not typed in the pole list.
+                Some("poles") if source != "list" => {
+                    let (field, advice) = match source.as_str() {
+                        "pattern" => ("pattern_family", "choose another pattern, or list the poles yourself"),
+                        "lqr" => ("lqr_max_state", "change the largest excursions, or list the poles yourself"),
+                        _ => ("pole_source", "change the specification, or list the poles yourself"),
+                    };
+                    c.push(field, format!("the chosen poles cannot be placed ({}); {advice}", e.message));
+                }
                 Some(field) => c.push(field, e.message),
                 None => {
                     outcome.status = FormStatus::Infeasible;
@@ -1381,7 +1971,16 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
             },
             Err(DesignError::Infeasible { message }) => {
                 outcome.status = FormStatus::Infeasible;
-                outcome.design_error = Some(format!("The design is not possible: {message}."));
+                let situations = ReportContext::from_request(&req, &spec).search_situations;
+                let searched = if situations.is_empty() {
+                    String::new()
+                } else {
+                    format!(
+                        " (The search's situations: {}.)",
+                        situations.iter().enumerate().map(|(i, s)| format!("{} = {s}", i + 1)).collect::<Vec<_>>().join("; ")
+                    )
+                };
+                outcome.design_error = Some(format!("The design is not possible: {message}.{searched}"));
                 outcome.analysis = open_loop_analysis(&req.plant);
             }
         }
@@ -1850,6 +2449,14 @@ pub struct ReportContext {
     pub seed: u64,
     pub z_plane: bool,
     pub delay_poles: Vec<Complex64>,
+    /// Bryson's-rule bounds `(max_state, max_input)` of an LQR design.
+    pub lqr_bounds: Option<(Vec<f64>, Vec<f64>)>,
+    /// The LQR input bounds are the actuator limits.
+    pub lqr_inputs_from_limits: bool,
+    /// The search's situations, described ("the free response from x₀ = …").
+    pub search_situations: Vec<String>,
+    /// What the search could not take into account.
+    pub search_notes: Vec<String>,
 }
 
 impl ReportContext {
@@ -1868,6 +2475,24 @@ impl ReportContext {
             seed: spec.scenario.seed,
             z_plane: spec.plane == Plane::Z,
             delay_poles: spec.implementation.as_ref().filter(|i| i.computation_delay).map(|i| i.delay_poles.clone()).unwrap_or_default(),
+            lqr_bounds: match &spec.lqr {
+                Some(design::LqrWeights::Bryson { max_state, max_input }) => Some((max_state.clone(), max_input.clone())),
+                _ => None,
+            },
+            lqr_inputs_from_limits: false,
+            search_situations: spec
+                .search
+                .as_ref()
+                .map(|list| {
+                    list.iter()
+                        .map(|s| match s {
+                            crate::search::Situation::InitialState(x) => format!("the free response from x₀ = {}", vector_text(x)),
+                            crate::search::Situation::ReferenceStep(r) => format!("the reference step r = {} (followed with feedforward)", vector_text(r)),
+                        })
+                        .collect()
+                })
+                .unwrap_or_default(),
+            search_notes: Vec::new(),
         }
     }
 }
@@ -1885,6 +2510,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
     let discrete = result.domain == "discrete";
     let mut warnings: Vec<String> = result.warnings.iter().map(|w| w.message.clone()).collect();
     let controller = controller_report(result, context, &mut warnings);
+    let pole_choice = pole_choice_report(result, context, &mut warnings);
     Report {
         law: "u = −K x".into(),
         gain: gain_table(result),
@@ -1898,6 +2524,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
         inputs,
         simulation,
         controller,
+        pole_choice,
     }
 }
 
@@ -2227,19 +2854,401 @@ fn controller_report(result: &DesignResult, context: &ReportContext, warnings: &
 }
 
 // ---------------------------------------------------------------------------------------------
+// How the poles were chosen.
+
+/// Poles as text that [`parse_poles`] reads back to exactly the same values in the same order:
+/// full precision ([`format_complex`]), an exact conjugate pair that follows each other written
+/// once as `re±imj`.
+pub fn exact_pole_text(poles: &[Complex64]) -> String {
+    let mut parts = Vec::with_capacity(poles.len());
+    let mut i = 0;
+    while let Some(z) = poles.get(i) {
+        match poles.get(i + 1) {
+            Some(w) if z.im > 0.0 && *w == z.conj() => {
+                parts.push(format_pole_list(&[*z, *w]));
+                i += 2;
+            }
+            _ => {
+                parts.push(format_complex(*z));
+                i += 1;
+            }
+        }
+    }
+    parts.join(", ")
+}
+
+/// The region of a result, with its dominant pair at the corner (as the specification gives it).
+fn region_of(r: &design::RegionResult) -> crate::patterns::Region {
+    let zeta = r.min_damping;
+    let corner = if zeta > 0.0 { r.min_decay_rate / zeta } else { 0.0 };
+    let wn = r.natural_frequency.map_or(corner, |w| w.max(corner));
+    let re = -zeta * wn;
+    let im = wn * (1.0 - zeta * zeta).max(0.0).sqrt();
+    crate::patterns::Region { min_damping: zeta, min_decay_rate: r.min_decay_rate, natural_frequency: r.natural_frequency, dominant_pair: [Complex64::new(re, im), Complex64::new(re, -im)] }
+}
+
+/// "5 % overshoot, 2 s settling at ±2 %": the specification behind a region, as far as the
+/// result tells it. The overshoot follows from ζ exactly; the settling time from σ with the
+/// design's band, and only when the description confirms that band.
+fn specification_words(result: &DesignResult, region: &crate::patterns::Region) -> String {
+    let zeta = region.min_damping;
+    let mut parts = Vec::new();
+    if let Ok(mp) = crate::patterns::overshoot_from_damping(zeta) {
+        parts.push(format!("{} % overshoot", fmt_num(mp * 100.0)));
+    }
+    let band = result.simulation.band;
+    let ts = -(band * (1.0 - zeta * zeta).sqrt()).ln() / region.min_decay_rate;
+    let described = result.pole_choice.as_ref().is_some_and(|c| c.description.contains(&format!("{} s settling (±{} %", fmt_num(ts), fmt_num(band * 100.0))));
+    if ts.is_finite() && described {
+        parts.push(format!("{} s settling at ±{} %", fmt_num(ts), fmt_num(band * 100.0)));
+    }
+    parts.join(", ")
+}
+
+fn violation_text(v: &crate::patterns::RegionViolation, region: &crate::patterns::Region, sample_time: Option<f64>) -> String {
+    use crate::patterns::ViolationKind;
+    let pole = match sample_time {
+        Some(t) => match z_to_s(v.pole, t) {
+            Some(s) => format!("z = {} (s = ln z / T = {})", short_pole(v.pole), short_pole(s)),
+            None => format!("z = {}", short_pole(v.pole)),
+        },
+        None => short_pole(v.pole),
+    };
+    match v.kind {
+        ViolationKind::TooSlow { decay_rate } => format!("{pole}: decay rate {} 1/s, below σ = {} 1/s (outside the decay boundary)", fmt_num(decay_rate), fmt_num(region.min_decay_rate)),
+        ViolationKind::TooLittleDamping { damping } => format!("{pole}: damping ratio {}, below ζ = {} (outside the damping boundary)", fmt_num(damping), fmt_num(region.min_damping)),
+        ViolationKind::TooLowNaturalFrequency { natural_frequency } => format!(
+            "{pole}: natural frequency {} rad/s, below ωn = {} rad/s (outside the natural-frequency boundary)",
+            fmt_num(natural_frequency),
+            region.natural_frequency.map_or_else(String::new, fmt_num)
+        ),
+    }
+}
+
+/// The achieved closed-loop poles of `result` outside `region` (digital: through `s = ln z / T`).
+fn region_violations_of(result: &DesignResult, region: &crate::patterns::Region) -> Vec<crate::patterns::RegionViolation> {
+    let achieved: Vec<Complex64> = result.feedback.achieved_poles.iter().map(c64).collect();
+    match (result.domain, result.sample_time) {
+        ("discrete", Some(t)) => crate::patterns::discrete_region_violations(&achieved, region, t).unwrap_or_default(),
+        _ => crate::patterns::region_violations(&achieved, region),
+    }
+}
+
+fn region_report(result: &DesignResult, r: &design::RegionResult, warnings: &mut Vec<String>) -> RegionReport {
+    let region = region_of(r);
+    let t = match (result.domain, result.sample_time) {
+        ("discrete", Some(t)) => Some(t),
+        _ => None,
+    };
+    let overshoot = crate::patterns::overshoot_from_damping(region.min_damping).map(|mp| format!(" (a pure pair with this damping overshoots by {} %)", fmt_num(mp * 100.0))).unwrap_or_default();
+    let damping = format!("Damping ratio ζ ≥ {}{overshoot}: every pole within ±{}° of the negative real axis.", fmt_num(region.min_damping), fmt_num(region.min_damping.clamp(-1.0, 1.0).acos().to_degrees()));
+    let circle = match t.and_then(|t| crate::patterns::discrete_decay_radius(&region, t).ok()) {
+        Some(radius) => format!("; in the z-plane, |z| ≤ e^(−σT) = {}", fmt_num(radius)),
+        None => String::new(),
+    };
+    let decay_rate = format!("Decay rate σ ≥ {} 1/s: every pole at Re s ≤ −{}{circle}.", fmt_num(region.min_decay_rate), fmt_num(region.min_decay_rate));
+    let natural_frequency = region.natural_frequency.map(|w| format!("Natural frequency ωn ≥ {} rad/s (from the rise time): every pole at |s| ≥ {}.", fmt_num(w), fmt_num(w)));
+    let note = "These bounds come from the formulas of a pure second-order pair (no zeros, no other poles); for this closed loop they are approximations: confirm the response by simulation.".to_string();
+    let violations = region_violations_of(result, &region);
+    let outside_region: Vec<String> = violations.iter().map(|v| violation_text(v, &region, t)).collect();
+    if !violations.is_empty() {
+        let mut poles: Vec<usize> = violations.iter().map(|v| v.index).collect();
+        poles.dedup();
+        let slowed = result.search.as_ref().is_some_and(|s| s.speed_factor < 1.0);
+        warnings.push(format!(
+            "{} outside the region of the specification ({}): the response may not meet the specification{}. See how the poles were chosen.",
+            plural(poles.len(), "closed-loop pole lies", "closed-loop poles lie"),
+            specification_words(result, &region),
+            if slowed { "; the search slowed the poles down to keep the inputs within their limits" } else { "" }
+        ));
+    }
+    RegionReport { damping, decay_rate, natural_frequency, note, outside_region }
+}
+
+/// Labels of the design states: plant states, then the delay states, then the integrators.
+fn design_state_labels(result: &DesignResult, count: usize) -> Vec<String> {
+    let mut labels = state_labels(result);
+    if result.feedback.delay_gain.is_some() {
+        labels.extend(result.plant.input_names.iter().map(|n| format!("previous {n}")));
+    }
+    if let Some(TrackingResult::Integral { outputs, .. }) = &result.tracking {
+        labels.extend(outputs.iter().map(|o| format!("∫ error of {o}")));
+    }
+    if labels.len() == count {
+        labels
+    } else {
+        (1..=count).map(|i| format!("x{i}")).collect()
+    }
+}
+
+/// `diag(a, b, …)` of a diagonal matrix, or `None`.
+fn diagonal_text(m: &[Vec<f64>]) -> Option<String> {
+    let diagonal = m.iter().enumerate().all(|(i, row)| row.iter().enumerate().all(|(j, v)| i == j || *v == 0.0));
+    if !diagonal {
+        return None;
+    }
+    Some(format!("diag({})", m.iter().enumerate().map(|(i, row)| row.get(i).map_or_else(String::new, |v| fmt_num(*v))).collect::<Vec<_>>().join(", ")))
+}
+
+fn lqr_report(result: &DesignResult, l: &design::LqrResult, context: &ReportContext) -> LqrReport {
+    let size = l.riccati_solution.len();
+    let labels = design_state_labels(result, size);
+    let inputs = input_labels(result);
+    let discrete = result.domain == "discrete";
+    let short_list = |v: &[f64]| format!("[{}]", v.iter().map(|x| fmt_num(*x)).collect::<Vec<_>>().join(", "));
+    let (q, r) = match &context.lqr_bounds {
+        Some((xs, us)) => (
+            format!(
+                "Q = diag(1/x_max²) = {} with the largest acceptable excursions x_max = {} of the design states (Bryson's rule: each term of the cost is 1 at its bound).",
+                diagonal_text(&l.q).unwrap_or_default(),
+                short_list(xs)
+            ),
+            format!(
+                "R = diag(1/u_max²) = {} with the largest acceptable inputs u_max = {}{}.",
+                diagonal_text(&l.r).unwrap_or_default(),
+                short_list(us),
+                if context.lqr_inputs_from_limits { " (the actuator limits)" } else { "" }
+            ),
+        ),
+        None => (
+            diagonal_text(&l.q).map_or_else(|| format!("Q as given ({size} × {size})."), |d| format!("Q = {d}.")),
+            diagonal_text(&l.r).map_or_else(|| format!("R as given ({} × {}).", l.r.len(), l.r.len()), |d| format!("R = {d}.")),
+        ),
+    };
+    let residual = format!(
+        "Normalised residual of the {} Riccati equation: {} (0 would be exact; values near 1e-15 are at rounding level).",
+        if discrete { "discrete" } else { "continuous" },
+        fmt_num(l.residual)
+    );
+    let riccati_solution = matrix_table(
+        "X",
+        "Riccati solution X: one row and one column per design state",
+        "Riccati solution X; one row and one column per design state",
+        labels.clone(),
+        labels.clone(),
+        &l.riccati_solution,
+    );
+    let gain = matrix_table("K_lqr", "LQR gain: one row per input, one column per design state", "u = -K_lqr x; one row per input, one column per design state", inputs, labels, &l.gain);
+    let mut poles: Vec<Complex64> = l.closed_loop_poles.iter().map(c64).collect();
+    sort_for_display(&mut poles);
+    let gain_note = if result.plant.inputs == 1 {
+        "With one input only one gain places these poles, so the gain K used is this LQR gain.".to_string()
+    } else {
+        "With several inputs many gains place these poles: the gain K used places the LQR poles with well-conditioned eigenvectors and is in general not this LQR gain, so the LQR's optimality belongs to this gain, not to K.".to_string()
+    };
+    let margins = (!discrete).then(|| {
+        let mut text = "Full-state LQR has guaranteed margins: at least 60° of phase margin and a gain margin from −6 dB to infinity in each input loop (Safonov & Athans, IEEE Trans. Automatic Control 22(2), 1977; for a diagonal R, as with Bryson's rule). This holds only for the full-state loop u = −K_lqr x with the whole state measured: not with an observer, and not for a digital implementation.".to_string();
+        if result.plant.inputs > 1 {
+            text.push_str(" With several inputs it belongs to the LQR gain shown here, not to the placed gain K.");
+        }
+        if result.observer.is_some() {
+            text.push_str(" This design uses an observer, so the guarantee does not apply to it.");
+        }
+        text
+    });
+    LqrReport { q, r, residual, riccati_solution, gain, closed_loop_poles: format_pole_list(&poles), gain_note, margins }
+}
+
+fn search_report(result: &DesignResult, s: &design::SearchSummary, context: &ReportContext) -> SearchReport {
+    let situation = |k: usize| context.search_situations.get(k).cloned().unwrap_or_else(|| format!("situation {}", k + 1));
+    let band = fmt_num(result.simulation.band * 100.0);
+    let settling_times = s
+        .settling_time
+        .iter()
+        .enumerate()
+        .map(|(k, t)| match t {
+            Some(t) => format!("{}: the slowest state settles (±{band} %) in {} s", situation(k), fmt_num(*t)),
+            None => format!("{}: not settled (±{band} %) within the simulated time", situation(k)),
+        })
+        .collect();
+    let top = s.samples.last().map_or(s.speed_factor, |x| x[0]);
+    let bottom = s.samples.first().map_or(s.speed_factor, |x| x[0]);
+    let monotonicity = if s.limited_by_range {
+        format!("Warning: the inputs stay within their limits even at the largest factor tried ({}): the actuators do not limit this design; measurement noise, model accuracy and sampling do.", fmt_num(s.speed_factor))
+    } else if s.monotonic {
+        format!("The peak input grew steadily with the factor over the range checked ({} to {}), so the factor found is the only crossing of the limit there.", fmt_num(bottom), fmt_num(top))
+    } else {
+        format!("Warning: the peak input did not grow steadily with the factor over the range checked ({} to {}): the factor found is one crossing of the limit, not necessarily the only one.", fmt_num(bottom), fmt_num(top))
+    };
+    SearchReport {
+        speed_factor: format!("Speed factor {}: every pole multiplied by it.", fmt_num(s.speed_factor)),
+        limiting: format!("Set by {}, on input {}.", situation(s.limiting_situation.saturating_sub(1)), s.limiting_input),
+        peak_ratio: format!("Peak input at the factor found: {} % of its limit.", fmt_num(100.0 * s.peak_ratio)),
+        settling_times,
+        monotonic: s.monotonic,
+        monotonicity,
+        evaluations: s.evaluations,
+        notes: context.search_notes.clone(),
+    }
+}
+
+/// How the poles were chosen: `None` when they were listed and not searched.
+fn pole_choice_report(result: &DesignResult, context: &ReportContext, warnings: &mut Vec<String>) -> Option<PoleChoiceReport> {
+    let choice = result.pole_choice.as_ref();
+    let lqr = result.lqr.as_ref();
+    let search = result.search.as_ref();
+    if choice.is_none() && lqr.is_none() && search.is_none() {
+        return None;
+    }
+    let method = match (choice, lqr) {
+        (Some(c), _) => match c.method {
+            "bessel" => "Bessel pattern".to_string(),
+            "butterworth" => "Butterworth pattern".to_string(),
+            "itae" => "ITAE pattern".to_string(),
+            "binomial" => "Binomial pattern".to_string(),
+            "specification" => "Specification (dominant pair)".to_string(),
+            other => other.to_string(),
+        },
+        (None, Some(_)) if context.lqr_bounds.is_some() => "LQR (Bryson's rule)".to_string(),
+        (None, Some(_)) => "LQR (weights Q and R)".to_string(),
+        (None, None) => "Listed poles, sped up by the search".to_string(),
+    };
+    let mut description = match (choice, lqr) {
+        (Some(c), _) => {
+            let mut chars = c.description.chars();
+            let first: String = chars.next().map(|f| f.to_uppercase().collect()).unwrap_or_default();
+            format!("{first}{}.", chars.as_str())
+        }
+        (None, Some(_)) => format!(
+            "The closed-loop poles of the LQR design: the state feedback that minimises the {} of xᵀ Q x + uᵀ R u over the design states, with the weights below.",
+            if result.domain == "discrete" { "sum over the samples" } else { "integral over time" }
+        ),
+        (None, None) => "The listed poles, used as the shape of the design.".to_string(),
+    };
+    if let Some(s) = search {
+        description.push_str(&format!(" The search then multiplied every pole by {}: the fastest design within the actuator limits.", fmt_num(s.speed_factor)));
+    }
+
+    let sample_time = result.sample_time.filter(|_| result.domain == "discrete");
+    let (poles, suggested_note): (Vec<Complex64>, String) = match (search, choice, lqr) {
+        (Some(s), _, _) => (
+            s.suggested_poles.iter().map(c64).collect(),
+            format!(
+                "{} (s-plane): the poles after the search. To adopt them, choose the pole list, paste them there and clear the search box: the design stays the same.",
+                plural(s.suggested_poles.len(), "pole", "poles")
+            ),
+        ),
+        (None, Some(c), _) => (
+            c.suggested_poles.iter().map(c64).collect(),
+            format!("{} (s-plane). To adopt them, choose the pole list and paste them there: the design stays the same.", plural(c.suggested_poles.len(), "pole", "poles")),
+        ),
+        (None, None, Some(l)) => {
+            let z: Vec<Complex64> = l.closed_loop_poles.iter().map(c64).collect();
+            let delay = if result.feedback.delay_gain.is_some() {
+                format!(" The list also holds the {} of the computation-delay states, which the pole list does not take: give those as delay poles.", plural(result.plant.inputs, "pole", "poles"))
+            } else {
+                String::new()
+            };
+            match sample_time {
+                None => (z.clone(), format!("{} (s-plane). To adopt them, choose the pole list and paste them there: the design stays the same.{delay}", plural(z.len(), "pole", "poles"))),
+                Some(_) if context.z_plane => (z.clone(), format!("{} (z-plane, the pole plane chosen). To adopt them, choose the pole list and paste them there.{delay}", plural(z.len(), "pole", "poles"))),
+                Some(t) => {
+                    let s: Option<Vec<Complex64>> = z.iter().map(|p| z_to_s(*p, t)).collect();
+                    match s {
+                        Some(s) => (s.clone(), format!("{} (s-plane: s = ln z / T of the LQR's z-plane poles, which z = e^(sT) gives back to rounding). To adopt them, choose the pole list and paste them there.{delay}", plural(s.len(), "pole", "poles"))),
+                        None => (z.clone(), format!("{} (z-plane: a pole at z = 0 has no s-plane equivalent). To adopt them, choose the z-plane and the pole list, and paste them there.{delay}", plural(z.len(), "pole", "poles"))),
+                    }
+                }
+            }
+        }
+        (None, None, None) => (Vec::new(), String::new()),
+    };
+    Some(PoleChoiceReport {
+        method,
+        description,
+        suggested_poles: exact_pole_text(&poles),
+        suggested_note,
+        region: choice.and_then(|c| c.region.as_ref()).map(|r| region_report(result, r, warnings)),
+        lqr: lqr.map(|l| lqr_report(result, l, context)),
+        search: search.map(|s| search_report(result, s, context)),
+    })
+}
+
+// ---------------------------------------------------------------------------------------------
 // Plot scenes.
+
+/// Points on a polyline of the region boundary in the z-plane.
+const REGION_CIRCLE_POINTS: usize = 96;
+
+/// The boundary of a specification's region in the map's plane, when the design has one.
+///
+/// Continuous: the decay line `Re s = −σ` and the damping rays from the origin at `acos ζ` from
+/// the negative real axis (one polyline, upper end → origin → lower end), both `length` long,
+/// and the half circle `|s| = ωn` left of the imaginary axis when a rise time set `ωn`.
+/// Discrete (sample time `T`): the circle `|z| = e^{−σT}`, the damping spiral
+/// ([`crate::patterns::discrete_damping_boundary`], both halves, one polyline) and the image
+/// `z = e^{sT}` of that half circle (where `|Im s| ≤ π/T`).
+pub fn region_shape(result: &DesignResult, length: f64) -> Option<RegionShape> {
+    use std::f64::consts::PI;
+    let r = result.pole_choice.as_ref()?.region.as_ref()?;
+    let region = region_of(r);
+    let zeta = region.min_damping;
+    let sigma = region.min_decay_rate;
+    if !(zeta > 0.0 && zeta < 1.0 && sigma.is_finite() && length.is_finite()) {
+        return None;
+    }
+    let sin = (1.0 - zeta * zeta).sqrt();
+    let half_circle = |w: f64| -> Vec<Complex64> {
+        (0..=REGION_CIRCLE_POINTS).map(|k| Complex64::from_polar(w, PI / 2.0 + PI * k as f64 / REGION_CIRCLE_POINTS as f64)).collect()
+    };
+    let pairs = |points: &[Complex64]| -> Vec<[f64; 2]> { points.iter().map(|z| [z.re, z.im]).collect() };
+    let words = specification_words(result, &region);
+    let from = if words.is_empty() { String::new() } else { format!(" (from {words})") };
+    let speed = region.natural_frequency.map(|w| format!(" and |s| ≥ {}", fmt_num(w))).unwrap_or_default();
+    match (result.domain, result.sample_time) {
+        ("discrete", Some(t)) => {
+            let radius = crate::patterns::discrete_decay_radius(&region, t).ok()?;
+            let circle: Vec<Complex64> = (0..=REGION_CIRCLE_POINTS).map(|k| Complex64::from_polar(radius, 2.0 * PI * k as f64 / REGION_CIRCLE_POINTS as f64)).collect();
+            let upper = crate::patterns::discrete_damping_boundary(&region, t, REGION_CIRCLE_POINTS / 2 + 1).ok()?;
+            let spiral: Vec<Complex64> = upper.iter().rev().map(|z| z.conj()).chain(upper.iter().skip(1).copied()).collect();
+            let mut boundaries = vec![pairs(&circle), pairs(&spiral)];
+            if let Some(w) = region.natural_frequency {
+                let arc: Vec<Complex64> = half_circle(w).into_iter().filter(|s| s.im.abs() * t <= PI).map(|s| (s * t).exp()).collect();
+                if arc.len() >= 2 {
+                    boundaries.push(pairs(&arc));
+                }
+            }
+            Some(RegionShape {
+                boundaries,
+                label: format!("admissible (s = ln z / T): ζ ≥ {} and |z| ≤ {} (Re s ≤ −{}){speed}{from}", fmt_num(zeta), fmt_num(radius), fmt_num(sigma)),
+            })
+        }
+        _ => {
+            let decay = vec![[-sigma, -length], [-sigma, length]];
+            let rays = vec![[-zeta * length, sin * length], [0.0, 0.0], [-zeta * length, -sin * length]];
+            let mut boundaries = vec![decay, rays];
+            if let Some(w) = region.natural_frequency {
+                boundaries.push(pairs(&half_circle(w)));
+            }
+            Some(RegionShape { boundaries, label: format!("admissible: ζ ≥ {} and Re s ≤ −{}{speed}{from}", fmt_num(zeta), fmt_num(sigma)) })
+        }
+    }
+}
 
 /// Pole map: open-loop poles, achieved closed-loop poles, observer poles, and requested
 /// poles that could not be assigned; a digital design's map is the z-plane with the unit circle.
+/// With a specification, the boundary of its region ([`region_shape`]), its lines 10 times
+/// the largest pole magnitude long (at least 10).
 pub fn pole_map_scene(result: &DesignResult) -> PoleMapScene {
+    let observer = result.observer.as_ref().map(|o| o.achieved_poles.clone()).unwrap_or_default();
+    let largest = result
+        .open_loop_poles
+        .iter()
+        .chain(&result.feedback.achieved_poles)
+        .chain(&result.feedback.not_assigned)
+        .chain(&observer)
+        .map(|p| p[0].hypot(p[1]))
+        .filter(|r| r.is_finite())
+        .fold(0.0f64, f64::max);
     PoleMapScene {
         open_loop: result.open_loop_poles.clone(),
         closed_loop: result.feedback.achieved_poles.clone(),
         not_assigned: result.feedback.not_assigned.clone(),
-        observer: result.observer.as_ref().map(|o| o.achieved_poles.clone()).unwrap_or_default(),
+        observer,
         discrete: result.domain == "discrete",
         fit_poles: false,
         highlight: None,
+        region: region_shape(result, (10.0 * largest).max(10.0)),
         ..PoleMapScene::default()
     }
 }
@@ -3183,6 +4192,91 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn pole_choice_fields_follow_the_poles_and_are_switched_on_by_their_source() {
+        let at = |k: &str| FormInput::FIELDS.iter().position(|f| *f == k).unwrap();
+        let keys = ["poles", "pole_source", "pattern_family", "pattern_normalisation", "pattern_settling_time", "spec_overshoot", "spec_settling_time", "spec_rise_time", "settling_band", "lqr_max_state", "lqr_max_input", "search"];
+        for w in keys.windows(2) {
+            assert_eq!(at(w[1]), at(w[0]) + 1, "{w:?}");
+        }
+        for (k, values) in CHOICES {
+            assert!(FormInput::FIELDS.contains(&k), "{k}");
+            let mut f = FormInput::default();
+            f.set(k, "");
+            assert_eq!(f.choice(k), values[0], "blank is the first choice of {k}");
+        }
+        let mut f = FormInput::default();
+        assert!(f.is_active("poles") && f.is_active("settling_band") && f.is_active("search"));
+        assert!(!f.is_active("pattern_family") && !f.is_active("spec_overshoot") && !f.is_active("lqr_max_state"));
+        f.pole_source = "pattern".into();
+        assert!(!f.is_active("poles") && f.is_active("pattern_family") && f.is_active("pattern_settling_time") && f.is_active("pattern_normalisation"));
+        f.pattern_family = "itae".into();
+        assert!(!f.is_active("pattern_normalisation"));
+        f.pole_source = "specification".into();
+        assert!(f.is_active("spec_overshoot") && f.is_active("spec_rise_time") && !f.is_active("pattern_family"));
+        f.pole_source = "lqr".into();
+        f.tracking = "integral".into();
+        assert!(f.is_active("lqr_max_state") && f.is_active("lqr_max_input") && !f.is_active("integral_poles") && !f.is_active("poles"));
+        f.search = "on".into();
+        assert_eq!(f.choice("search"), "true");
+        f.settling_band = "1".into();
+        assert_eq!(f.choice("settling_band"), "1", "a band of 1 % is not a ticked box");
+    }
+
+    #[test]
+    fn exact_pole_text_reads_back_to_the_same_values_in_the_same_order() {
+        let third = 1.0 / 3.0;
+        let poles = [
+            Complex64::new(-third, 2.0 * third),
+            Complex64::new(-third, -2.0 * third),
+            Complex64::new(-1e-7, 0.0),
+            // Not exact conjugates: written one by one.
+            Complex64::new(-2.0, 0.1 + 1e-15),
+            Complex64::new(-2.0, -0.1),
+            Complex64::new(0.0, 5.0),
+            Complex64::new(0.0, -5.0),
+        ];
+        let text = exact_pole_text(&poles);
+        assert_eq!(parse_poles(&text).unwrap(), poles, "{text}");
+        assert!(text.starts_with("-0.3333333333333333±0.6666666666666666j"), "{text}");
+    }
+
+    #[test]
+    fn a_slow_digital_lqr_design_is_refused_before_it_is_simulated() {
+        // Q = 1e-4 I, R = 1e4 on a double integrator: poles near 0.01 rad/s, so the simulation
+        // chosen from them would run about 1000 s, a million samples at 1 kHz.
+        let mut f = form("0 1\n0 0", "0\n1", "");
+        f.pole_source = "lqr".into();
+        f.lqr_max_state = "100, 100".into();
+        f.lqr_max_input = "0.01".into();
+        f.sample_time = "0.001".into();
+        let msg = only_error(&evaluate_form(&f), "sample_time");
+        assert!(msg.contains("samples"), "{msg}");
+        f.lqr_max_state = "1, 1".into();
+        f.lqr_max_input = "1".into();
+        assert_eq!(evaluate_form(&f).status, FormStatus::Designed);
+    }
+
+    #[test]
+    fn the_search_says_when_it_could_not_judge_the_reference_step() {
+        let mut f = form("0 1\n0 0", "0\n1", "-1±1j");
+        f.limits = "8".into();
+        f.search = "true".into();
+        f.c = "1 0\n0 1".into();
+        f.tracking = "feedforward".into();
+        f.tracked_outputs = "1".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+        let sr = out.report.unwrap().pole_choice.unwrap().search.unwrap();
+        assert_eq!(sr.settling_times.len(), 1);
+        assert!(sr.notes.iter().any(|n| n.contains("free response only") && n.contains("2 rows")), "{sr:?}");
+        // Too tight a limit: the message says which situation is which.
+        f.limits = "1e-9".into();
+        let out = evaluate_form(&f);
+        assert_eq!(out.status, FormStatus::Infeasible);
+        assert!(out.design_error.unwrap().contains("1 = the free response from x₀ = [1, 0]"));
     }
 
     #[test]

@@ -47,6 +47,7 @@ use wasm_bindgen::JsCast;
 use web_sys::{CanvasRenderingContext2d, Document, Element, HtmlCanvasElement, HtmlInputElement, HtmlSelectElement, HtmlTextAreaElement, Path2d};
 
 use crate::design::{fmt_num, DesignResult};
+use crate::editing::{self, Change, Direction, Edit, EditHistory, EditParams, Member, NudgeOutcome, PlaneMap, StepSize};
 use crate::form::{self, evaluate_form, ControllerReport, FieldError, FormInput, FormOutcome, FormStatus, MatrixTable, OpenLoopAnalysis, Report, StructureReport};
 use crate::plot::{common_ticks, flow_legend, Frame, Simplifier, Rect, Ticks, LEGEND_ROW_PX, LEGEND_SWATCH_PX};
 pub use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, PolePick, PoleSet, Series, TimePlotScene};
@@ -76,6 +77,12 @@ mod colour {
     pub const BAND_TEXT: &str = "#8a5a0c";
     /// Ring around the pole chosen by keyboard.
     pub const FOCUS: &str = "#2c3a45";
+    /// Open circles on the requested poles that can be dragged.
+    pub const REQUESTED: &str = "#0e5f5c";
+    /// The pinned design's poles and signals (plum).
+    pub const PINNED: &str = "#8b4a6e";
+    /// Boundary of a specification's admissible region (dark amber).
+    pub const REGION: &str = "#8a5a0c";
     /// Signal colours, in order.
     pub const SERIES: [&str; 6] = [
         "#0e5f5c", "#c07a0c", "#3f4f86", "#8b4a6e", "#5f7a2a", "#56636e",
@@ -293,13 +300,16 @@ mod ids {
     pub const ESTIMATION: &str = "pw-estimation";
     pub const ESTIMATION_PLOT: &str = "pw-estimation-plot";
     pub const ESTIMATION_TABLE: &str = "pw-estimation-table";
+    pub const COMPARE: &str = "pw-compare";
+    pub const COMPARE_LABEL: &str = "pw-compare-label";
+    pub const COMPARE_TABLE: &str = "pw-compare-table";
     /// Sections marked stale when the input is invalid.
     pub const OUTPUT_SECTIONS: [&str; 4] = ["pw-results", "pw-pole-section", "pw-loop-section", "pw-response-section"];
     /// Every canvas, in painting order.
     pub const CANVASES: [&str; 6] = [POLE_MAP, LOOP_PLOT, LOOP_INPUT_PLOT, ESTIMATION_PLOT, STATE_PLOT, INPUT_PLOT];
 }
 
-const POLE_HINT: &str = "Point at a pole, or focus the map (Tab) and use the arrow keys, to read a pole's value.";
+const POLE_HINT: &str = "Point at a pole, or focus the map (Tab) and press N / P, to read a pole's value.";
 
 #[derive(Clone, Copy, PartialEq, Eq)]
 enum Shown {
@@ -344,6 +354,36 @@ struct PageState {
     tables: Vec<TableView>,
     feedback: Vec<(&'static str, Feedback)>,
     last_input: FormInput,
+    /// The pole list being edited from the map (kept in step with the poles field).
+    history: Option<EditHistory>,
+    /// The editable markers as drawn, in the order of `pole_scene.requested`.
+    requested_markers: Vec<editing::PoleMarker>,
+    /// How the list's plane relates to the map's.
+    plane_map: PlaneMap,
+    /// The requested pole chosen by keyboard or pointer (entry, member), kept across edits.
+    focus_requested: Option<(usize, Member)>,
+    /// A pointer drag in progress.
+    drag: Option<DragView>,
+    /// The design pinned for comparison.
+    pinned: Option<Pinned>,
+    /// Why the last edit from the map did nothing (shown under the map).
+    edit_message: Option<String>,
+}
+
+/// A drag in progress: the frame the map had when it began (kept, so that the view does not
+/// rescale under the pointer) and the measured update times (ms) of its moves.
+struct DragView {
+    frame: Frame,
+    samples: Vec<f64>,
+}
+
+/// A design kept for comparison.
+struct Pinned {
+    design: DesignResult,
+    report: Report,
+    summary: editing::DesignSummary,
+    /// The poles field when it was pinned (or the pole choice).
+    label: String,
 }
 
 thread_local! {
@@ -361,6 +401,13 @@ thread_local! {
         tables: Vec::new(),
         feedback: Vec::new(),
         last_input: FormInput::default(),
+        history: None,
+        requested_markers: Vec::new(),
+        plane_map: PlaneMap::Same,
+        focus_requested: None,
+        drag: None,
+        pinned: None,
+        edit_message: None,
     });
     /// Named durations of the last cycle's phases (milliseconds).
     static PHASES: RefCell<Vec<(&'static str, f64)>> = const { RefCell::new(Vec::new()) };
@@ -684,6 +731,14 @@ pub fn load_demo(index: usize) -> Result<(), JsValue> {
     if let Some(sel) = doc.get_element_by_id(ids::DEMO_SELECT).and_then(|e| e.dyn_into::<HtmlSelectElement>().ok()) {
         sel.set_value(&index.to_string());
     }
+    // A new plant starts a new edit history (undoing into another plant's poles makes no sense).
+    with_page(|page| {
+        page.history = None;
+        page.focus_requested = None;
+        page.focus = None;
+        page.edit_message = None;
+        Ok(())
+    })?;
     set_text(&doc, ids::DEMO_DESCRIPTION, d.description)
 }
 
@@ -739,6 +794,17 @@ fn field_label(key: &str) -> &'static str {
         "output_names" => "output names",
         "output_units" => "output units",
         "poles" => "desired poles",
+        "pole_source" => "pole choice",
+        "pattern_family" => "pattern",
+        "pattern_normalisation" => "Bessel normalisation",
+        "pattern_settling_time" => "pattern settling time",
+        "spec_overshoot" => "overshoot",
+        "spec_settling_time" => "settling time",
+        "spec_rise_time" => "rise time",
+        "settling_band" => "settling band",
+        "lqr_max_state" => "state excursions",
+        "lqr_max_input" => "input excursions",
+        "search" => "fastest-design search",
         "limits" => "actuator limits",
         "initial_state" => "initial state",
         "duration" => "simulated time",
@@ -1133,14 +1199,35 @@ fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
         Some([x, y, r]) => map.set_attribute("data-unit-circle", &format!("{x:.2} {y:.2} {r:.2}"))?,
         None => map.remove_attribute("data-unit-circle")?,
     }
+    // Where the editable markers are (CSS pixels), for tests and assistive scripts.
+    let frame = page.pole_scene.frame(rect);
+    let requested: Vec<String> = page.pole_scene.requested.iter().map(|p| frame.to_pixel(*p)).map(|q| format!("{:.2},{:.2}", q[0], q[1])).collect();
+    let requested = requested.join(" ");
+    if map.get_attribute("data-requested-px").as_deref() != Some(requested.as_str()) {
+        map.set_attribute("data-requested-px", &requested)?;
+    }
+    let pinned_count = page.pole_scene.pinned.len().to_string();
+    if map.get_attribute("data-pinned-poles").as_deref() != Some(pinned_count.as_str()) {
+        map.set_attribute("data-pinned-poles", &pinned_count)?;
+    }
     page.paint(ids::POLE_MAP, Picture::Poles(page.pole_scene.clone()))?;
+    let pinned = page.pinned.as_ref().filter(|p| p.design.domain == page.design.as_ref().map_or("", |d| d.domain));
+    let overlay = |mut scene: TimePlotScene, pin: Option<TimePlotScene>| {
+        if let Some(p) = pin {
+            scene.pinned = as_pinned(&p);
+        }
+        scene
+    };
     let (states, inputs, loop_pictures) = match (&page.shown, &page.design, &page.report) {
         (Shown::Design, Some(d), Some(r)) => (
-            Picture::Time(form::states_scene(d, page.normalised)),
-            Picture::Time(form::inputs_scene(d)),
+            Picture::Time(overlay(form::states_scene(d, page.normalised), pinned.map(|p| form::states_scene(&p.design, page.normalised)))),
+            Picture::Time(overlay(form::inputs_scene(d), pinned.map(|p| form::inputs_scene(&p.design)))),
             d.closed_loop.as_ref().map(|_| {
                 (
-                    time_or_message(form::loop_outputs_scene(d, r), "No outputs to show: enter the output matrix C in Measurement."),
+                    time_or_message(
+                        form::loop_outputs_scene(d, r).map(|s| overlay(s, pinned.and_then(|p| form::loop_outputs_scene(&p.design, &p.report)))),
+                        "No outputs to show: enter the output matrix C in Measurement.",
+                    ),
                     time_or_message(form::loop_inputs_scene(d, r), "No inputs to show."),
                     form::estimation_scene(d, r).map(Picture::Time),
                 )
@@ -1194,6 +1281,7 @@ pub fn update_page() -> Result<JsValue, JsValue> {
     phase("evaluate", t_eval - t_read);
     let status = outcome.status;
     let status_text = with_page(|page| {
+        sync_history(page, &input);
         show_field_feedback(&doc, page, &input, &outcome)?;
         phase("feedback", now_ms() - t_eval);
         let text = match status {
@@ -1206,9 +1294,7 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                 let discrete = design.domain == "discrete";
                 let mut scene = form::pole_map_scene(&design);
                 scene.fit_poles = page.fit_poles;
-                let markers = scene.markers();
-                page.focus = page.focus.filter(|i| *i < markers.len());
-                scene.highlight = page.focus.and_then(|i| markers.get(i)).map(|p| [p.re, p.im]);
+                page.plane_map = plane_map_for(&input, &design);
                 page.pole_scene = scene;
                 let text = format!(
                     "Designed: {} state{}, {} input{}; {} warning{}.",
@@ -1226,6 +1312,7 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                 page.report = Some(report);
                 page.analysis = None;
                 page.shown = Shown::Design;
+                edit_layers(page, &input);
                 // Canvases first: text drawn on a canvas after the page changed would make
                 // the browser recompute the page's styles there and then.
                 paint_all(page)?;
@@ -1237,7 +1324,9 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                 }
                 note(&doc, None, "note")?;
                 mark_stale(&doc, false)?;
+                render_compare(&doc, page)?;
                 refresh_readout(page)?;
+                refresh_edit_controls(page)?;
                 phase("results", now_ms() - t0);
                 text
             }
@@ -1249,9 +1338,14 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                 };
                 if page.shown == Shown::Nothing {
                     paint_all(page)?;
+                } else {
+                    // The edited list (e.g. one pole too many after an add) stays visible.
+                    edit_layers(page, &input);
+                    paint_all(page)?;
                 }
                 note(&doc, Some(&text), "note is-stale-note")?;
                 mark_stale(&doc, page.shown != Shown::Nothing)?;
+                refresh_edit_controls(page)?;
                 format!("Not updated: {} field{} to fix ({list}).", outcome.errors.len(), if outcome.errors.len() == 1 { "" } else { "s" })
             }
             FormStatus::Infeasible => {
@@ -1259,6 +1353,8 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                 page.pole_scene = outcome.analysis.as_ref().map(form::open_loop_scene).unwrap_or_default();
                 page.pole_scene.fit_poles = page.fit_poles;
                 page.focus = None;
+                page.focus_requested = None;
+                page.requested_markers.clear();
                 page.design = None;
                 page.report = None;
                 page.analysis = outcome.analysis.take();
@@ -1269,7 +1365,9 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                 page.tables.clear();
                 note(&doc, Some(&message), "note is-infeasible")?;
                 mark_stale(&doc, false)?;
+                set_hidden_id(&doc, ids::COMPARE, true)?;
                 refresh_readout(page)?;
+                refresh_edit_controls(page)?;
                 "Design not possible with this plant: see Results.".to_string()
             }
         };
@@ -1378,6 +1476,8 @@ fn set_name(set: PoleSet) -> &'static str {
         PoleSet::OpenLoop => "Open-loop pole",
         PoleSet::NotAssigned => "Requested pole that could not be assigned",
         PoleSet::Observer => "Observer pole",
+        PoleSet::Requested => "Requested pole",
+        PoleSet::Pinned => "Pinned design's closed-loop pole",
     }
 }
 
@@ -1386,8 +1486,13 @@ fn set_name(set: PoleSet) -> &'static str {
 fn readout(scene: &PoleMapScene, pick: &PolePick, sample_time: Option<f64>) -> String {
     let same: Vec<PolePick> = scene.markers().into_iter().filter(|p| p.set == pick.set).collect();
     let k = same.iter().position(|p| p.index == pick.index).map_or(1, |k| k + 1);
-    let z = Complex64::new(pick.re, pick.im);
     let head = format!("{} {k} of {}", set_name(pick.set), same.len());
+    let tail = if pick.set == PoleSet::Requested { " Drag it, or move it with the arrow keys (Shift: larger steps); Delete removes it." } else { "" };
+    format!("{}{tail}", readout_value(scene, pick, sample_time, &head))
+}
+
+fn readout_value(scene: &PoleMapScene, pick: &PolePick, sample_time: Option<f64>, head: &str) -> String {
+    let z = Complex64::new(pick.re, pick.im);
     match (scene.discrete, sample_time) {
         (true, Some(t)) => match form::z_to_s(z, t) {
             Some(s) => {
@@ -1441,6 +1546,7 @@ pub fn step_pole(delta: i32) -> Result<(), JsValue> {
             Some(i) => (i as i64 + i64::from(delta)).rem_euclid(len),
         } as usize;
         page.focus = Some(next);
+        note_focus(page);
         page.pole_scene.highlight = markers.get(next).map(|p| [p.re, p.im]);
         page.paint(ids::POLE_MAP, Picture::Poles(page.pole_scene.clone()))?;
         refresh_readout(page)
@@ -1462,6 +1568,7 @@ pub fn jump_pole(last: bool) -> Result<(), JsValue> {
 pub fn clear_pole_focus() -> Result<(), JsValue> {
     with_page(|page| {
         page.focus = None;
+        page.focus_requested = None;
         if page.pole_scene.highlight.take().is_some() {
             page.paint(ids::POLE_MAP, Picture::Poles(page.pole_scene.clone()))?;
         }
@@ -1481,6 +1588,474 @@ pub fn hover_pole(x: f64, y: f64) -> Result<(), JsValue> {
             None => refresh_readout(page),
         }
     })
+}
+
+// ---------------------------------------------------------------------------
+// Editing poles on the map, undo/redo, pin and compare
+// ---------------------------------------------------------------------------
+
+/// The poles field is the list edited from the map: when the poles are listed (not chosen
+/// by a pattern, a specification or LQR) and not rescaled by the fastest-design search.
+fn list_is_editable(input: &FormInput) -> bool {
+    matches!(input.choice("pole_source").as_str(), "" | "list") && input.choice("search") != "true"
+}
+
+/// A digital design given by s-plane poles is shown on the z-plane map.
+fn plane_map_for(input: &FormInput, design: &DesignResult) -> PlaneMap {
+    match (design.domain == "discrete", design.sample_time, input.choice("plane").as_str()) {
+        (true, Some(t), "s") => PlaneMap::SampledFromS { sample_time: t },
+        _ => PlaneMap::Same,
+    }
+}
+
+/// Keeps the edit history in step with the poles field: text typed there becomes one undo
+/// step (nothing is recorded while a drag is under way: the drag writes the field itself).
+fn sync_history(page: &mut PageState, input: &FormInput) {
+    if !list_is_editable(input) {
+        return;
+    }
+    let Ok(poles) = crate::poles::parse_poles(&input.poles) else { return };
+    let Ok(set) = editing::PoleSet::from_poles(&poles) else { return };
+    match page.history.as_mut() {
+        None => page.history = Some(EditHistory::new(set, EditParams::default())),
+        Some(h) if h.dragging().is_none() && *h.current() != set => {
+            // A refused replacement (not possible for a list from_poles accepted) changes nothing.
+            let _ = h.apply(&Edit::Replace(poles));
+        }
+        Some(_) => {}
+    }
+}
+
+/// Fills the map's editable layer (the requested poles, through the plane map), the pinned
+/// design's poles and the drag's fixed view, and puts the keyboard ring back on the chosen
+/// requested pole.
+fn edit_layers(page: &mut PageState, input: &FormInput) {
+    page.requested_markers.clear();
+    page.pole_scene.requested.clear();
+    if list_is_editable(input) {
+        if let Some(shown) = page.history.as_ref().and_then(|h| page.plane_map.map_set(h.current()).ok()) {
+            page.requested_markers = shown.markers();
+            page.pole_scene.requested = page.requested_markers.iter().map(|m| m.point).collect();
+        }
+    }
+    let discrete = page.pole_scene.discrete;
+    page.pole_scene.pinned = match &page.pinned {
+        Some(p) if (p.design.domain == "discrete") == discrete => p.design.feedback.achieved_poles.clone(),
+        _ => Vec::new(),
+    };
+    page.pole_scene.view = page.drag.as_ref().map(|d| d.frame.view());
+    refocus(page);
+}
+
+/// Recomputes the keyboard position (an index into the scene's markers) and the ring.
+fn refocus(page: &mut PageState) {
+    let markers = page.pole_scene.markers();
+    if let Some(chosen) = page.focus_requested {
+        match page.requested_markers.iter().position(|m| (m.entry, m.member) == chosen) {
+            Some(k) => page.focus = markers.iter().position(|p| p.set == PoleSet::Requested && p.index == k),
+            None => {
+                page.focus_requested = None;
+                page.focus = None;
+            }
+        }
+    }
+    page.focus = page.focus.filter(|i| *i < markers.len());
+    page.pole_scene.highlight = page.focus.and_then(|i| markers.get(i)).map(|p| [p.re, p.im]);
+}
+
+/// Remembers which requested pole the keyboard position is on (if it is one).
+fn note_focus(page: &mut PageState) {
+    let markers = page.pole_scene.markers();
+    page.focus_requested = page
+        .focus
+        .and_then(|i| markers.get(i))
+        .filter(|p| p.set == PoleSet::Requested)
+        .and_then(|p| page.requested_markers.get(p.index))
+        .map(|m| (m.entry, m.member));
+}
+
+/// Writes a new pole list into the poles field and runs the design cycle.
+fn commit_poles(text: &str) -> Result<(), JsValue> {
+    let doc = document()?;
+    set_control_value(&doc, "poles", text)?;
+    update_page().map(|_| ())
+}
+
+fn show_edit_message(page: &mut PageState, message: Option<String>) -> Result<(), JsValue> {
+    page.edit_message = message;
+    refresh_edit_controls(page)
+}
+
+/// Enables the undo, redo, add, remove and unpin buttons to match the state, and writes
+/// the editing note under the map.
+fn refresh_edit_controls(page: &PageState) -> Result<(), JsValue> {
+    let doc = document()?;
+    let editable = page.history.is_some() && page.last_input_editable();
+    let set_disabled = |id: &str, disabled: bool, title: &str| -> Result<(), JsValue> {
+        if let Some(el) = doc.get_element_by_id(id) {
+            if el.has_attribute("disabled") != disabled {
+                el.toggle_attribute_with_force("disabled", disabled)?;
+            }
+            if el.get_attribute("title").as_deref() != Some(title) {
+                el.set_attribute("title", title)?;
+            }
+        }
+        Ok(())
+    };
+    let (undo, redo) = page.history.as_ref().map_or((0, 0), |h| (h.undo_steps(), h.redo_steps()));
+    set_disabled("pw-undo", undo == 0 || !editable, &format!("Undo the last pole edit ({undo} step{} to undo; Ctrl+Z on the map)", if undo == 1 { "" } else { "s" }))?;
+    set_disabled("pw-redo", redo == 0 || !editable, &format!("Redo ({redo} step{} to redo; Ctrl+Y on the map)", if redo == 1 { "" } else { "s" }))?;
+    set_disabled("pw-add-real", !editable, "Add one real pole to the list (also + on the map)")?;
+    set_disabled("pw-add-pair", !editable, "Add a complex-conjugate pair to the list")?;
+    set_disabled("pw-remove-pole", !editable || page.focus_requested.is_none(), "Remove the chosen requested pole, or its pair (also Delete on the map)")?;
+    set_disabled("pw-unpin", page.pinned.is_none(), "Stop comparing with the pinned design")?;
+    set_disabled("pw-pin", page.design.is_none(), "Keep this design to compare the next ones with it")?;
+    let text = match (&page.edit_message, editable) {
+        (Some(m), _) => m.clone(),
+        (None, true) => "Drag a ringed requested pole (its conjugate follows; a real pole stays on the real axis), or focus the map and choose one with N / P, move it with the arrow keys (Shift: larger steps), Delete removes it, + adds a real pole. The design follows live.".to_string(),
+        (None, false) => "The poles are chosen for you (pattern, specification, LQR or the fastest-design search): press “Use these poles” under Pole choice to copy them into the list and edit them here.".to_string(),
+    };
+    if let Some(el) = doc.get_element_by_id("pw-edit-note") {
+        if el.text_content().as_deref() != Some(text.as_str()) {
+            el.set_text_content(Some(&text));
+        }
+    }
+    Ok(())
+}
+
+impl PageState {
+    fn last_input_editable(&self) -> bool {
+        list_is_editable(&self.last_input)
+    }
+}
+
+/// Pointer pressed on the pole map at CSS pixel (`x`, `y`): starts dragging the requested
+/// pole under it. Returns whether a drag began (the page then captures the pointer).
+#[wasm_bindgen]
+pub fn pole_pointer_down(x: f64, y: f64) -> Result<bool, JsValue> {
+    with_page(|page| {
+        if page.requested_markers.is_empty() || !page.last_input_editable() {
+            return Ok(false);
+        }
+        let rect = page.canvas_rect(ids::POLE_MAP)?;
+        let frame = page.pole_scene.frame(rect);
+        let pixels: Vec<[f64; 2]> = page.pole_scene.requested.iter().map(|p| frame.to_pixel(*p)).collect();
+        let radius = page.history.as_ref().map_or(crate::plot::HIT_RADIUS_PX, |h| h.params().hit_radius_px) + 3.0;
+        let Some(k) = crate::plot::hit_test([x, y], &pixels, radius) else { return Ok(false) };
+        let Some(marker) = page.requested_markers.get(k).copied() else { return Ok(false) };
+        let Some(history) = page.history.as_mut() else { return Ok(false) };
+        history.begin_drag(marker.entry).map_err(|e| js_err("drag", e))?;
+        page.drag = Some(DragView { frame, samples: Vec::new() });
+        page.pole_scene.view = Some(frame.view());
+        page.focus_requested = Some((marker.entry, marker.member));
+        page.edit_message = None;
+        refocus(page);
+        page.paint(ids::POLE_MAP, Picture::Poles(page.pole_scene.clone()))?;
+        refresh_readout(page)?;
+        Ok(true)
+    })
+}
+
+/// Pointer moved over the pole map: during a drag, moves the pole there and redesigns
+/// (the update's duration is recorded); otherwise reads out the pole under the pointer.
+#[wasm_bindgen]
+pub fn pole_pointer_move(x: f64, y: f64) -> Result<(), JsValue> {
+    let start = now_ms();
+    let moved = with_page(|page| {
+        let Some(frame) = page.drag.as_ref().map(|d| d.frame) else { return Ok(None) };
+        let map = page.plane_map;
+        let Some(history) = page.history.as_mut() else { return Ok(None) };
+        match history.drag_to_pixel_mapped(&frame, [x, y], map) {
+            Ok(Change::Changed) => Ok(Some(history.current().text())),
+            Ok(Change::Unchanged) => Ok(Some(String::new())),
+            Err(e) => {
+                show_edit_message(page, Some(format!("The pole stays where it was: {e}.")))?;
+                Ok(Some(String::new()))
+            }
+        }
+    })?;
+    match moved {
+        None => hover_pole(x, y),
+        Some(text) if text.is_empty() => Ok(()),
+        Some(text) => {
+            commit_poles(&text)?;
+            let ms = now_ms() - start;
+            with_page(|page| {
+                if let Some(d) = page.drag.as_mut() {
+                    d.samples.push(ms);
+                }
+                Ok(())
+            })?;
+            let doc = document()?;
+            by_id(&doc, ids::POLE_MAP)?.set_attribute("data-drag-last-ms", &format!("{ms}"))
+        }
+    }
+}
+
+/// The median of `samples` (`None` when empty).
+fn median(samples: &[f64]) -> Option<f64> {
+    let mut v: Vec<f64> = samples.iter().copied().filter(|x| x.is_finite()).collect();
+    if v.is_empty() {
+        return None;
+    }
+    v.sort_by(f64::total_cmp);
+    let m = v.len() / 2;
+    Some(if v.len() % 2 == 1 { v[m] } else { (v[m - 1] + v[m]) / 2.0 })
+}
+
+/// Pointer released (`cancel = false`) or the drag abandoned (`cancel = true`, e.g. Escape):
+/// ends the drag as one undo step (or puts the pole back), refits the view, and records the
+/// drag's median update time in the map's `data-drag-median-ms` (`data-drag-updates` moves).
+#[wasm_bindgen]
+pub fn pole_pointer_up(cancel: bool) -> Result<(), JsValue> {
+    let (restore, samples) = with_page(|page| {
+        let Some(drag) = page.drag.take() else { return Ok((None, Vec::new())) };
+        let restore = page.history.as_mut().and_then(|h| {
+            if cancel {
+                (h.cancel_drag() == Change::Changed).then(|| h.current().text())
+            } else {
+                h.end_drag();
+                None
+            }
+        });
+        Ok((restore, drag.samples))
+    })?;
+    let doc = document()?;
+    let map = by_id(&doc, ids::POLE_MAP)?;
+    if let Some(m) = median(&samples) {
+        map.set_attribute("data-drag-median-ms", &format!("{m}"))?;
+        map.set_attribute("data-drag-updates", &samples.len().to_string())?;
+    }
+    match restore {
+        Some(text) => commit_poles(&text),
+        None => with_page(|page| {
+            page.pole_scene.view = None;
+            paint_all(page)?;
+            refresh_edit_controls(page)
+        }),
+    }
+}
+
+/// Arrow key on the pole map: moves the chosen requested pole (`direction` = `left`,
+/// `right`, `up`, `down`; `large` for the larger step) and redesigns.
+#[wasm_bindgen]
+pub fn move_pole(direction: &str, large: bool) -> Result<(), JsValue> {
+    let dir = match direction {
+        "left" => Direction::Left,
+        "right" => Direction::Right,
+        "up" => Direction::Up,
+        "down" => Direction::Down,
+        other => return Err(js_err("move_pole", format!("no direction called {other}"))),
+    };
+    let text = with_page(|page| {
+        let Some((entry, member)) = page.focus_requested.filter(|_| page.last_input_editable()) else {
+            show_edit_message(page, Some("Choose a requested pole first (N / P on the map, or click one): only the ringed requested poles can be moved.".into()))?;
+            return Ok(None);
+        };
+        let rect = page.canvas_rect(ids::POLE_MAP)?;
+        let frame = page.pole_scene.frame(rect);
+        let map = page.plane_map;
+        let Some(history) = page.history.as_mut() else { return Ok(None) };
+        let step = if large { StepSize::Large } else { StepSize::Normal };
+        let outcome = editing::nudge_mapped(history.current(), entry, dir.for_member(member), step, &frame, &EditParams::default(), map);
+        match outcome {
+            Ok(NudgeOutcome::Edit(edit)) => match history.apply(&editing::rounded_move(edit)) {
+                Ok(Change::Changed) => {
+                    page.edit_message = None;
+                    Ok(Some(history.current().text()))
+                }
+                Ok(Change::Unchanged) => Ok(None),
+                Err(e) => {
+                    show_edit_message(page, Some(format!("The pole stays where it was: {e}.")))?;
+                    Ok(None)
+                }
+            },
+            Ok(NudgeOutcome::NoChange(reason)) => {
+                show_edit_message(page, Some(format!("{reason}.")))?;
+                Ok(None)
+            }
+            Err(e) => {
+                show_edit_message(page, Some(format!("The pole stays where it was: {e}.")))?;
+                Ok(None)
+            }
+        }
+    })?;
+    match text {
+        Some(t) => commit_poles(&t),
+        None => Ok(()),
+    }
+}
+
+/// A new pole for the list: a little faster than the fastest real part (s-plane), or a
+/// little closer to the origin than the fastest pole (z-plane list).
+fn new_pole(set: &editing::PoleSet, z_plane: bool, pair: bool) -> num_complex::Complex64 {
+    let poles = set.poles();
+    if z_plane {
+        let r = poles.iter().map(|p| p.norm()).fold(f64::INFINITY, f64::min);
+        let r = if r.is_finite() && r > 0.0 { 0.8 * r.min(0.95) } else { 0.5 };
+        return if pair { Complex64::new(r * 0.8, r * 0.6) } else { Complex64::new(r, 0.0) };
+    }
+    let fastest = poles.iter().map(|p| p.re).fold(f64::INFINITY, f64::min);
+    let re = if fastest.is_finite() && fastest < 0.0 { 1.25 * fastest } else { -1.0 };
+    if pair {
+        Complex64::new(re, 0.75 * re.abs())
+    } else {
+        Complex64::new(re, 0.0)
+    }
+}
+
+fn edit_list(edit: impl FnOnce(&PageState) -> Option<Edit>) -> Result<(), JsValue> {
+    let text = with_page(|page| {
+        if !page.last_input_editable() {
+            show_edit_message(page, Some("The poles are chosen for you: press “Use these poles” under Pole choice first.".into()))?;
+            return Ok(None);
+        }
+        let Some(e) = edit(page) else { return Ok(None) };
+        let added = matches!(e, Edit::Add(_));
+        let Some(history) = page.history.as_mut() else { return Ok(None) };
+        match history.apply(&e) {
+            Ok(Change::Changed) => {
+                let text = history.current().text();
+                let last = history.current().entry_count().saturating_sub(1);
+                let first_member = history.current().entry(last).map(|e| if e.is_pair() { Member::Upper } else { Member::Real });
+                page.focus_requested = if added { first_member.map(|m| (last, m)) } else { None };
+                page.edit_message = None;
+                Ok(Some(text))
+            }
+            Ok(Change::Unchanged) => Ok(None),
+            Err(err) => {
+                show_edit_message(page, Some(format!("Not changed: {err}.")))?;
+                Ok(None)
+            }
+        }
+    })?;
+    match text {
+        Some(t) => commit_poles(&t),
+        None => Ok(()),
+    }
+}
+
+/// Adds a pole to the list (`kind` = `real` or `pair`; the pair adds two poles).
+#[wasm_bindgen]
+pub fn add_pole(kind: &str) -> Result<(), JsValue> {
+    let pair = match kind {
+        "real" => false,
+        "pair" => true,
+        other => return Err(js_err("add_pole", format!("no kind of pole called {other}"))),
+    };
+    edit_list(|page| {
+        let z_plane = page.last_input.choice("plane") == "z";
+        page.history.as_ref().map(|h| Edit::Add(new_pole(h.current(), z_plane, pair)))
+    })
+}
+
+/// Removes the chosen requested pole (a pair as a whole).
+#[wasm_bindgen]
+pub fn remove_pole() -> Result<(), JsValue> {
+    let chosen = with_page(|page| Ok(page.focus_requested))?;
+    match chosen {
+        Some((entry, _)) => edit_list(|_| Some(Edit::Remove { entry })),
+        None => with_page(|page| show_edit_message(page, Some("Choose a requested pole first (N / P on the map, or click one).".into()))),
+    }
+}
+
+/// Undo (`redo = false`) or redo the last pole edit.
+#[wasm_bindgen]
+pub fn undo_edit(redo: bool) -> Result<(), JsValue> {
+    let text = with_page(|page| {
+        if !page.last_input_editable() {
+            return Ok(None);
+        }
+        let Some(history) = page.history.as_mut() else { return Ok(None) };
+        let done = if redo { history.redo().is_some() } else { history.undo().is_some() };
+        page.edit_message = if done { None } else { Some(format!("Nothing to {}.", if redo { "redo" } else { "undo" })) };
+        let text = done.then(|| history.current().text());
+        refresh_edit_controls(page)?;
+        Ok(text)
+    })?;
+    match text {
+        Some(t) => commit_poles(&t),
+        None => Ok(()),
+    }
+}
+
+/// Pins the current design for comparison (replacing an earlier pin).
+#[wasm_bindgen]
+pub fn pin_design() -> Result<(), JsValue> {
+    with_page(|page| {
+        let (Some(design), Some(report)) = (&page.design, &page.report) else {
+            return show_edit_message(page, Some("There is no design to pin yet.".into()));
+        };
+        let label = if page.last_input_editable() { page.last_input.poles.trim().replace('\n', " ") } else { format_pairs(&design.feedback.requested_poles) };
+        page.pinned = Some(Pinned { design: design.clone(), report: report.clone(), summary: editing::DesignSummary::from_result(design), label });
+        page.rendered.retain(|(k, _)| *k != ids::COMPARE);
+        let doc = document()?;
+        render_compare(&doc, page)?;
+        let input = page.last_input.clone();
+        edit_layers(page, &input);
+        paint_all(page)?;
+        refresh_edit_controls(page)
+    })
+}
+
+/// Stops comparing with the pinned design.
+#[wasm_bindgen]
+pub fn unpin_design() -> Result<(), JsValue> {
+    with_page(|page| {
+        page.pinned = None;
+        let doc = document()?;
+        render_compare(&doc, page)?;
+        let input = page.last_input.clone();
+        edit_layers(page, &input);
+        paint_all(page)?;
+        refresh_edit_controls(page)
+    })
+}
+
+fn format_pairs(poles: &[[f64; 2]]) -> String {
+    let z: Vec<Complex64> = poles.iter().map(|p| Complex64::new(p[0], p[1])).collect();
+    crate::poles::format_pole_list(&z)
+}
+
+/// The pinned-versus-current table (hidden without a pin).
+fn render_compare(doc: &Document, page: &mut PageState) -> Result<(), JsValue> {
+    let section = by_id(doc, ids::COMPARE)?;
+    let (Some(pin), Some(design)) = (&page.pinned, &page.design) else {
+        set_hidden(&section, true)?;
+        return Ok(());
+    };
+    let current = editing::DesignSummary::from_result(design);
+    let rows: Vec<Vec<String>> = editing::compare(&pin.summary, &current)
+        .into_iter()
+        .map(|r| {
+            let better = match r.better {
+                editing::Which::Pinned => "pinned",
+                editing::Which::Current => "current",
+                editing::Which::Same => "same",
+                editing::Which::Undecided => "—",
+            };
+            vec![r.figure, r.pinned_text, r.current_text, better.to_string()]
+        })
+        .collect();
+    let label = pin.label.clone();
+    let key = hash_of(&(&rows, &label));
+    set_hidden(&section, false)?;
+    if page.unchanged(ids::COMPARE, key) {
+        return Ok(());
+    }
+    set_text(doc, ids::COMPARE_LABEL, &format!("Pinned design: poles {label}. Lower is better for every figure."))?;
+    let head = strings(&["figure", "pinned", "current", "better"]);
+    page.show_table(doc, ids::COMPARE_TABLE, Some("pw-compare-rows"), "Pinned design against the current one", &head, &rows, true, 1)
+}
+
+/// A time plot's series as the pinned overlay of another plot.
+fn as_pinned(scene: &TimePlotScene) -> Vec<crate::plot::PinnedSeries> {
+    scene
+        .series
+        .iter()
+        .enumerate()
+        .map(|(i, ser)| crate::plot::PinnedSeries { name: format!("{} (pinned)", ser.name), t: scene.t.clone(), values: ser.values.clone(), colour: Some(ser.colour.unwrap_or(i)) })
+        .collect()
 }
 
 // ---------------------------------------------------------------------------
@@ -1812,6 +2387,34 @@ fn marker_style(set: PoleSet) -> MarkerStyle {
             width: 1.75,
             stroke: colour::OBSERVER,
         },
+        PoleSet::Requested => MarkerStyle {
+            half: 8.5,
+            width: 1.5,
+            stroke: colour::REQUESTED,
+        },
+        PoleSet::Pinned => MarkerStyle {
+            half: 6.0,
+            width: 2.0,
+            stroke: colour::PINNED,
+        },
+    }
+}
+
+/// An upright plus sign (the pinned design's poles: distinct from the × of the current one).
+fn plus(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &'static str) {
+    s.set_stroke(stroke);
+    s.ctx.set_line_width(width);
+    s.ctx.set_line_cap("round");
+    s.segments(&[([c[0] - half, c[1]], [c[0] + half, c[1]]), ([c[0], c[1] - half], [c[0], c[1] + half])]);
+    s.ctx.set_line_cap("butt");
+}
+
+fn ring(s: &Surface, c: [f64; 2], radius: f64, width: f64, stroke: &'static str) {
+    s.set_stroke(stroke);
+    s.ctx.set_line_width(width);
+    s.ctx.begin_path();
+    if s.ctx.arc(c[0], c[1], radius, 0.0, std::f64::consts::TAU).is_ok() {
+        s.ctx.stroke();
     }
 }
 
@@ -1820,6 +2423,8 @@ fn marker(s: &Surface, set: PoleSet, c: [f64; 2]) {
     match set {
         PoleSet::NotAssigned => diamond(s, c, st.half, st.width, st.stroke),
         PoleSet::Observer => boxed_cross(s, c, st.half, st.width, st.stroke),
+        PoleSet::Requested => ring(s, c, st.half, st.width, st.stroke),
+        PoleSet::Pinned => plus(s, c, st.half, st.width, st.stroke),
         _ => cross(s, c, st.half, st.width, st.stroke),
     }
 }
@@ -1830,6 +2435,8 @@ fn set_label(set: PoleSet) -> &'static str {
         PoleSet::NotAssigned => "not assignable",
         PoleSet::ClosedLoop => "closed loop",
         PoleSet::Observer => "observer",
+        PoleSet::Requested => "requested (drag)",
+        PoleSet::Pinned => "pinned design",
     }
 }
 
@@ -1878,6 +2485,22 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
         s.ctx.stroke();
         s.dash(&[])?;
     }
+    if let Some(region) = &scene.region {
+        s.set_stroke(colour::REGION);
+        s.ctx.set_line_width(1.5);
+        s.dash(&[8.0, 3.0, 2.0, 3.0])?;
+        for line in &region.boundaries {
+            let pts: Vec<[f64; 2]> = line.iter().filter(|q| q[0].is_finite() && q[1].is_finite()).map(|q| f.to_pixel(*q)).map(|q| [bounded(q[0]), bounded(q[1])]).collect();
+            let mut d = String::new();
+            for (k, q) in pts.iter().enumerate() {
+                push_point(&mut d, if k == 0 { 'M' } else { 'L' }, *q);
+            }
+            if pts.len() >= 2 {
+                s.stroke_path(&d);
+            }
+        }
+        s.dash(&[])?;
+    }
     for (set, points) in scene.layers() {
         for pt in points
             .iter()
@@ -1913,6 +2536,16 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
         s.ctx.stroke_rect(c[0] - 6.0, c[1] - 6.0, 12.0, 12.0);
     };
     let mut entries: Vec<(&str, Swatch)> = vec![(region, Box::new(fill_swatch))];
+    if scene.region.is_some() {
+        entries.push((
+            "admissible boundary",
+            Box::new(|s: &Surface, c: [f64; 2]| {
+                s.set_stroke(colour::REGION);
+                s.ctx.set_line_width(1.5);
+                s.line([c[0] - 7.0, c[1]], [c[0] + 7.0, c[1]]);
+            }),
+        ));
+    }
     for (set, points) in scene.layers() {
         if !points.is_empty() {
             entries.push((
@@ -1989,6 +2622,29 @@ fn series_path(scene: &TimePlotScene, f: &Frame, i: usize) -> String {
     d
 }
 
+/// The path of a pinned signal in pixels (its own time grid).
+fn pinned_path(ser: &crate::plot::PinnedSeries, f: &Frame) -> String {
+    let mut d = String::new();
+    let mut run: Option<Simplifier> = None;
+    let flush = |run: &mut Option<Simplifier>, d: &mut String| {
+        if let Some(s) = run.take() {
+            for (k, q) in s.finish().iter().enumerate() {
+                push_point(d, if k == 0 { 'M' } else { 'L' }, *q);
+            }
+        }
+    };
+    for (&t, &y) in ser.t.iter().zip(&ser.values) {
+        if t.is_finite() && y.is_finite() && f.x.range.contains(t) {
+            let q = f.to_pixel([t, y]);
+            run.get_or_insert_with(|| Simplifier::new(SIMPLIFY_TOLERANCE_PX)).push([q[0].clamp(-1e6, 1e6), q[1].clamp(-1e6, 1e6)]);
+        } else {
+            flush(&mut run, &mut d);
+        }
+    }
+    flush(&mut run, &mut d);
+    d
+}
+
 /// How far (CSS pixels) a simplified line may stray from the samples it stands for.
 const SIMPLIFY_TOLERANCE_PX: f64 = 0.2;
 
@@ -2046,6 +2702,21 @@ fn paint_time_plot(s: &Surface, scene: &TimePlotScene) -> Result<(), JsValue> {
         s.dash(&[])?;
     }
 
+    if !scene.pinned.is_empty() {
+        s.ctx.set_line_width(1.25);
+        s.ctx.set_global_alpha(0.6);
+        s.dash(&[4.0, 3.0])?;
+        for ser in &scene.pinned {
+            let c = ser.colour.unwrap_or(0) % colour::SERIES.len();
+            s.set_stroke(colour::SERIES[c]);
+            let d = pinned_path(ser, &f);
+            if !d.is_empty() {
+                s.stroke_path(&d);
+            }
+        }
+        s.dash(&[])?;
+        s.ctx.set_global_alpha(1.0);
+    }
     s.ctx.set_line_width(1.75);
     s.ctx.set_line_join("round");
     for i in 0..scene.series.len() {
@@ -2112,6 +2783,10 @@ fn paint_time_plot(s: &Surface, scene: &TimePlotScene) -> Result<(), JsValue> {
         s.dash(&[])?;
         s.set_fill(colour::TEXT);
         s.text(&ser.name, x + LEGEND_SWATCH_PX - 4.0, y, "left", "middle")?;
+    }
+    if !scene.pinned.is_empty() {
+        s.set_fill(colour::PINNED);
+        s.text("faint dashed: the pinned design", p.x + 6.0, p.bottom() - 6.0, "left", "bottom")?;
     }
     Ok(())
 }

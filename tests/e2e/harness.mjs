@@ -184,7 +184,9 @@ export async function screenshot(page, name) {
 export const FORM_FIELDS = [
   'a', 'b', 'state_names', 'state_units', 'input_names', 'input_units',
   'c', 'd', 'output_names', 'output_units',
-  'poles', 'limits', 'initial_state', 'duration',
+  'poles', 'pole_source', 'pattern_family', 'pattern_normalisation', 'pattern_settling_time',
+  'spec_overshoot', 'spec_settling_time', 'spec_rise_time', 'settling_band', 'lqr_max_state', 'lqr_max_input', 'search',
+  'limits', 'initial_state', 'duration',
   'observer', 'observer_poles', 'observer_speed', 'observer_form',
   'tracking', 'tracked_outputs', 'integral_poles', 'anti_windup', 'anti_windup_time',
   'sample_time', 'computation_delay', 'delay_poles', 'plane',
@@ -194,7 +196,8 @@ export const FORM_FIELDS = [
 /** The choice fields (selects and the checkbox) and their "not used" value. */
 export const CHOICE_DEFAULTS = {
   observer: 'none', observer_form: 'predictor', tracking: 'none', anti_windup: 'none', plane: 's',
-  computation_delay: false,
+  pole_source: 'list', pattern_family: 'bessel', pattern_normalisation: 'unit_settling_time', settling_band: '2',
+  computation_delay: false, search: false,
 };
 
 /**
@@ -275,4 +278,36 @@ export function parseComplex(text) {
   m = new RegExp(`^(${num})([+-]${unsigned})j$`, 'i').exec(t);
   if (m) return { re: Number(m[1]), im: Number(m[2]) };
   return null;
+}
+
+/**
+ * Form fields of a chain of five masses (springs between neighbours and to both walls, light
+ * damping), a force on the first and on the last: 10 states, 2 inputs (an invented test plant).
+ */
+export function massChainFields() {
+  const k = [4, 3, 5, 2, 4, 3];
+  const m = [1, 2, 1.5, 1, 2];
+  const c = 0.2;
+  const n = 10;
+  const A = Array.from({ length: n }, () => Array(n).fill(0));
+  const B = Array.from({ length: n }, () => [0, 0]);
+  for (let i = 0; i < 5; i += 1) {
+    const p = 2 * i;
+    const v = p + 1;
+    A[p][v] = 1;
+    A[v][p] = -(k[i] + k[i + 1]) / m[i];
+    A[v][v] = -c / m[i];
+    if (i > 0) A[v][p - 2] = k[i] / m[i];
+    if (i < 4) A[v][p + 2] = k[i + 1] / m[i];
+  }
+  B[1][0] = 1 / m[0];
+  B[9][1] = 1 / m[4];
+  return {
+    a: A.map((r) => r.join(' ')).join('\n'),
+    b: B.map((r) => r.join(' ')).join('\n'),
+    input_names: 'left force, right force',
+    input_units: 'N, N',
+    poles: '-1±1j, -1.5±1.2j, -2±0.8j, -2.5±1.5j, -3, -3.5',
+    limits: '40, 40',
+  };
 }

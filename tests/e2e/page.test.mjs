@@ -18,6 +18,7 @@ import {
   designNow,
   distDir,
   FORM_FIELDS,
+  massChainFields,
   pageFileUrl,
   pagePath,
   parseComplex,
@@ -392,7 +393,8 @@ describe('built page', () => {
           assert.match(await page.textContent('#pw-pole-legend'), /observer/);
           // The keyboard reaches the observer poles after the four controller poles.
           await page.focus('#pw-pole-map');
-          for (let i = 0; i < 4; i += 1) await page.keyboard.press('ArrowRight');
+          // N steps through the requested and closed-loop poles to the observer's.
+          for (let i = 0; i < 20 && !/^Observer/.test(await page.textContent('#pw-pole-pick')); i += 1) await page.keyboard.press('n');
           assert.match(await page.textContent('#pw-pole-pick'), /^Observer pole 1 of 4: −\d/);
           // The estimation error is plotted (continuous loop with the observer).
           await assertCanvasesDrawn(page, ['pw-estimation-plot']);
@@ -443,7 +445,7 @@ describe('built page', () => {
         });
       });
 
-      test('keyboard only: tab to the poles, type, the design updates; the pole map reads out by arrow keys', async () => {
+      test('keyboard only: tab to the poles, type, the design updates; the pole map reads out by N / P', async () => {
         await withPage(urlOf(), async ({ page, url, requests, consoleErrors, pageErrors }) => {
           const before = await readGain(page);
           let reached = false;
@@ -461,7 +463,7 @@ describe('built page', () => {
           const rows = await assertPolesPlaced(page);
           assert.deepEqual(rows.map((r) => r[0]).sort(), ['-10+8j', '-10-8j', '-15+20j', '-15-20j'].sort());
 
-          // On to the pole map; arrow keys step through the poles.
+          // On to the pole map; N / P (PageDown / PageUp) step through the poles.
           reached = false;
           for (let i = 0; i < 60 && !reached; i += 1) {
             await page.keyboard.press('Tab');
@@ -469,15 +471,17 @@ describe('built page', () => {
           }
           assert.ok(reached, 'Tab reaches the pole map');
           const first = await page.textContent('#pw-pole-pick');
-          assert.match(first, /^Closed-loop pole 1 of 4: −15 [+−] 20j \(damping ratio 0\.6, natural frequency 25 rad\/s\)\.$/, first);
-          await page.keyboard.press('ArrowRight');
+          assert.match(first, /^Requested pole 1 of 4: −15 [+−] 20j \(damping ratio 0\.6, natural frequency 25 rad\/s\)\. /, first);
+          await page.keyboard.press('n');
           const second = await page.textContent('#pw-pole-pick');
-          assert.match(second, /^Closed-loop pole 2 of 4: −15 [+−] 20j/);
+          assert.match(second, /^Requested pole 2 of 4: −15 [+−] 20j/);
           assert.notEqual(second, first);
+          for (let i = 0; i < 3; i += 1) await page.keyboard.press('n');
+          assert.match(await page.textContent('#pw-pole-pick'), /^Closed-loop pole 1 of 4: −15 [+−] 20j \(damping ratio 0\.6, natural frequency 25 rad\/s\)\.$/);
           await page.keyboard.press('End');
           assert.match(await page.textContent('#pw-pole-pick'), /^Open-loop pole 4 of 4: /);
-          await page.keyboard.press('ArrowRight');
-          assert.match(await page.textContent('#pw-pole-pick'), /^Closed-loop pole 1 of 4: /, 'wraps around');
+          await page.keyboard.press('PageDown');
+          assert.match(await page.textContent('#pw-pole-pick'), /^Requested pole 1 of 4: /, 'wraps around');
           await page.keyboard.press('Tab');
           assert.match(await page.textContent('#pw-pole-pick'), /^Point at a pole/);
           assert.deepEqual([...pageErrors, ...consoleErrors], []);
@@ -567,33 +571,7 @@ describe('built page', () => {
   });
 
   test('one design cycle for n = 10, m = 2: median time over 30 cycles (same and changing input)', async () => {
-    // A chain of five masses (springs between neighbours and to both walls, light
-    // damping), a force on the first and on the last: 10 states, 2 inputs.
-    const k = [4, 3, 5, 2, 4, 3];
-    const m = [1, 2, 1.5, 1, 2];
-    const c = 0.2;
-    const n = 10;
-    const A = Array.from({ length: n }, () => Array(n).fill(0));
-    const B = Array.from({ length: n }, () => [0, 0]);
-    for (let i = 0; i < 5; i += 1) {
-      const p = 2 * i;
-      const v = p + 1;
-      A[p][v] = 1;
-      A[v][p] = -(k[i] + k[i + 1]) / m[i];
-      A[v][v] = -c / m[i];
-      if (i > 0) A[v][p - 2] = k[i] / m[i];
-      if (i < 4) A[v][p + 2] = k[i + 1] / m[i];
-    }
-    B[1][0] = 1 / m[0];
-    B[9][1] = 1 / m[4];
-    const fields = {
-      a: A.map((r) => r.join(' ')).join('\n'),
-      b: B.map((r) => r.join(' ')).join('\n'),
-      input_names: 'left force, right force',
-      input_units: 'N, N',
-      poles: '-1±1j, -1.5±1.2j, -2±0.8j, -2.5±1.5j, -3, -3.5',
-      limits: '40, 40',
-    };
+    const fields = massChainFields();
     await withPage(pageFileUrl, async ({ page, consoleErrors, pageErrors }) => {
       assert.equal(await design(page, fields), 'designed', await page.textContent('#pw-status'));
       assert.match(await page.textContent('#pw-status'), /^Designed: 10 states, 2 inputs/);

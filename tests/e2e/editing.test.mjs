@@ -1,0 +1,234 @@
+// End-to-end checks of choosing and editing poles on the built page: dragging requested
+// poles on the pole map (the conjugate follows, a real pole stays real), keyboard moves,
+// add / remove, undo / redo, pinning a design and comparing against it, the pole-choice
+// sections (pattern, specification with its region, LQR, fastest design within the
+// limits), and the measured update time of a drag for n = 10, m = 2.
+// Run: node --test tests/e2e/   (after scripts/build-page)
+
+import assert from 'node:assert/strict';
+import fs from 'node:fs';
+import path from 'node:path';
+import { after, before, describe, test } from 'node:test';
+import {
+  artifactsDir,
+  closeBrowser,
+  design,
+  designNow,
+  massChainFields,
+  pageFileUrl,
+  parseComplex,
+  readGain,
+  requireBuiltPage,
+  screenshot,
+  setFields,
+  tableRows,
+  withPage,
+} from './harness.mjs';
+
+before(() => requireBuiltPage());
+after(async () => closeBrowser());
+
+/** The editable (requested) markers' positions on the pole map, in page pixels. */
+async function requestedPoints(page) {
+  const box = await page.locator('#pw-pole-map').boundingBox();
+  const attr = await page.getAttribute('#pw-pole-map', 'data-requested-px');
+  if (!attr) return [];
+  return attr.split(' ').map((p) => p.split(',').map(Number)).map(([x, y]) => [box.x + x, box.y + y]);
+}
+
+const nextFrame = (page) => page.evaluate(() => new Promise((r) => requestAnimationFrame(() => r())));
+
+/** Drags from `from` by (`dx`, `dy`) pixels in `steps` moves, one animation frame each. */
+async function drag(page, from, dx, dy, steps = 10) {
+  await page.mouse.move(from[0], from[1]);
+  await page.mouse.down();
+  for (let i = 1; i <= steps; i += 1) {
+    await page.mouse.move(from[0] + (dx * i) / steps, from[1] + (dy * i) / steps);
+    await nextFrame(page);
+  }
+  await page.mouse.up();
+  await nextFrame(page);
+}
+
+/** The poles field split into its items (a pair stays one item, as typed). */
+async function poleItems(page) {
+  return (await page.inputValue('#pw-poles')).split(',').map((s) => s.trim()).filter(Boolean);
+}
+
+/** Requested and achieved poles of the result table as complex numbers. */
+async function placedPoles(page) {
+  const rows = await tableRows(page, 'pw-pole-table');
+  return rows.map((r) => ({ requested: parseComplex(r[0]), achieved: parseComplex(r[1]) }));
+}
+
+function assertPlaced(poles, tol = 1e-8) {
+  for (const { requested, achieved } of poles) {
+    const scale = Math.max(1, Math.hypot(requested.re, requested.im));
+    assert.ok(Math.hypot(requested.re - achieved.re, requested.im - achieved.im) <= tol * scale, JSON.stringify({ requested, achieved }));
+  }
+}
+
+const noErrors = ({ pageErrors, consoleErrors }) => assert.deepEqual([...pageErrors, ...consoleErrors], []);
+
+describe('editing poles on the map', () => {
+  test('dragging a pair moves both members; undo and redo restore the lists exactly', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page, url, requests } = ctx;
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      const original = await page.inputValue('#pw-poles');
+      assert.equal(original, '-12±9j, -20±30j');
+      const gain0 = await readGain(page);
+      const points = await requestedPoints(page);
+      assert.equal(points.length, 4, 'one ring per requested pole');
+      // Entry order: -12+9j, -12-9j, -20+30j, -20-30j. Drag the upper member of the first
+      // pair 30 px left and 25 px up.
+      await drag(page, points[0], -30, -25);
+      const items = await poleItems(page);
+      assert.equal(items.length, 2, `still two pairs: ${items}`);
+      assert.match(items[0], /±/, 'the conjugate follows: still written as a pair');
+      assert.equal(items[1], '-20±30j', 'the other pair is untouched');
+      const moved = parseComplex(items[0].replace('±', '+'));
+      assert.ok(moved.re < -12 && moved.im > 9, JSON.stringify(moved));
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      const table = await placedPoles(page);
+      assertPlaced(table);
+      assert.ok(table.some((p) => Math.abs(p.requested.re - moved.re) < 1e-9 && Math.abs(p.requested.im + moved.im) < 1e-9), 'the lower member sits at the conjugate');
+      assert.notDeepEqual(await readGain(page), gain0, 'the gain followed the drag');
+      const draggedText = await page.inputValue('#pw-poles');
+      assert.ok(Number(await page.getAttribute('#pw-pole-map', 'data-drag-updates')) >= 1);
+      // The lower member drags the same pair (mirrored).
+      const after1 = await requestedPoints(page);
+      await drag(page, after1[1], 0, 20);
+      const items2 = await poleItems(page);
+      const moved2 = parseComplex(items2[0].replace('±', '+'));
+      assert.ok(moved2.im > moved.im, `dragging the lower member down widens the pair: ${items2[0]}`);
+      // Undo twice returns to the demo's list; redo twice to the second drag.
+      await page.click('#pw-undo');
+      assert.equal(await page.inputValue('#pw-poles'), draggedText);
+      await page.click('#pw-undo');
+      assert.equal(await page.inputValue('#pw-poles'), original);
+      assert.deepEqual(await readGain(page), gain0, 'undo restores the gain exactly');
+      assert.equal(await page.isDisabled('#pw-undo'), true);
+      await page.click('#pw-redo');
+      await page.click('#pw-redo');
+      assert.deepEqual(await poleItems(page), items2);
+      assert.equal(await page.isDisabled('#pw-redo'), true);
+      await screenshot(page, 'page-after-drag.png');
+      noErrors(ctx);
+      assert.deepEqual(requests, [url]);
+    });
+  });
+
+  test('a real pole stays on the real axis; keyboard moves, add and remove, Ctrl+Z', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      const titles = await page.evaluate(() => [...document.querySelectorAll('#pw-demo option')].map((o) => o.textContent));
+      await page.selectOption('#pw-demo', String(titles.findIndex((t) => /heated plate/.test(t))));
+      await page.click('#pw-load-demo');
+      await page.waitForFunction(() => document.getElementById('pw-status').dataset.outcome === 'designed' && document.getElementById('pw-poles').value.startsWith('-0.02,'));
+      const before = await poleItems(page);
+      assert.deepEqual(before, ['-0.02', '-0.025', '-0.06±0.02j']);
+      const points = await requestedPoints(page);
+      // Drag the first real pole up and to the left: it may only slide along the axis.
+      await drag(page, points[0], -15, -40);
+      const items = await poleItems(page);
+      assert.equal(items.length, 3);
+      assert.doesNotMatch(items[0], /j/, `a real pole stays real: ${items[0]}`);
+      assert.ok(Number(items[0]) < -0.02, items[0]);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      assertPlaced(await placedPoles(page));
+
+      // Keyboard: the map takes focus on the first requested pole (fastest first).
+      await page.focus('#pw-pole-map');
+      assert.match(await page.textContent('#pw-pole-pick'), /^Requested pole 1 of 4: /);
+      await page.keyboard.press('n');
+      await page.keyboard.press('n');
+      const pick = await page.textContent('#pw-pole-pick');
+      assert.match(pick, /^Requested pole 3 of 4: /, pick);
+      const beforeKey = await page.inputValue('#pw-poles');
+      await page.keyboard.press('Shift+ArrowLeft');
+      const afterKey = await page.inputValue('#pw-poles');
+      assert.notEqual(afterKey, beforeKey, 'Shift+Left moves the chosen pole');
+      await page.keyboard.press('ArrowUp');
+      await page.keyboard.press('ControlOrMeta+z');
+      assert.equal(await page.inputValue('#pw-poles'), afterKey, 'Ctrl+Z undoes one key press');
+      await page.keyboard.press('ControlOrMeta+z');
+      assert.equal(await page.inputValue('#pw-poles'), beforeKey);
+      await page.keyboard.press('ControlOrMeta+y');
+      assert.equal(await page.inputValue('#pw-poles'), afterKey);
+
+      // Add a real pole: one too many for the plant, said beside the field; then remove it.
+      await page.click('#pw-add-real');
+      assert.equal((await poleItems(page)).length, 4);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'invalid');
+      assert.match(await page.textContent('#pw-poles-error'), /5 poles/);
+      assert.equal((await requestedPoints(page)).length, 5, 'the added pole is on the map');
+      assert.equal(await page.isDisabled('#pw-remove-pole'), false, 'the new pole is chosen');
+      await page.click('#pw-remove-pole');
+      assert.equal(await page.inputValue('#pw-poles'), afterKey);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      noErrors(ctx);
+    });
+  });
+
+  test('pin a design, change it, compare side by side; unpin', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      assert.equal(await page.isHidden('#pw-compare'), true);
+      await page.click('#pw-pin');
+      assert.equal(await page.isVisible('#pw-compare'), true);
+      assert.equal(await page.getAttribute('#pw-pole-map', 'data-pinned-poles'), '4');
+      await page.fill('#pw-poles', '-24±18j, -40±60j');
+      assert.equal(await designNow(page), 'designed');
+      const rows = await tableRows(page, 'pw-compare-table');
+      const figures = rows.map((r) => r[0]);
+      for (const f of ['slowest settling time (s)', 'largest overshoot (%)', 'gain norm ‖K‖', 'eigenvector condition κ']) {
+        assert.ok(figures.some((x) => x.startsWith(f.split(' ')[0])), `${f} in ${figures}`);
+      }
+      const settle = rows.find((r) => r[0].startsWith('slowest settling'));
+      assert.ok(Number(settle[2]) < Number(settle[1]), `twice as fast settles sooner: ${settle}`);
+      assert.equal(settle[3], 'current');
+      assert.match(await page.textContent('#pw-compare-label'), /-12±9j, -20±30j/);
+      await screenshot(page, 'page-compare.png');
+      await page.click('#pw-unpin');
+      assert.equal(await page.isHidden('#pw-compare'), true);
+      assert.equal(await page.getAttribute('#pw-pole-map', 'data-pinned-poles'), '0');
+      noErrors(ctx);
+    });
+  });
+});
+
+describe('drag update time', () => {
+  test('dragging a pole for n = 10, m = 2: median update over 60 moves', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      assert.equal(await design(page, massChainFields()), 'designed', await page.textContent('#pw-status'));
+      const points = await requestedPoints(page);
+      assert.equal(points.length, 10);
+      // Warm-up drag, then the measured one: a pair's upper member, 60 moves of 1.5 px.
+      await drag(page, points[0], -10, 5, 10);
+      const start = (await requestedPoints(page))[0];
+      await drag(page, start, -60, -45, 60);
+      const updates = Number(await page.getAttribute('#pw-pole-map', 'data-drag-updates'));
+      const median = Number(await page.getAttribute('#pw-pole-map', 'data-drag-median-ms'));
+      assert.ok(updates >= 30, `${updates} redesigns during 60 moves`);
+      assert.ok(Number.isFinite(median) && median > 0, String(median));
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      assertPlaced(await placedPoles(page), 1e-7);
+      const report = {
+        what: 'one drag update of the pole map (move the pole, write the poles field, full design cycle: parse, analyse, place, simulate, draw, results), timed with performance.now() inside the page; median over the moves of one drag',
+        plant: 'chain of 5 masses: n = 10 states, m = 2 inputs, actuator limits',
+        moves: 60,
+        updates,
+        median_ms: median,
+        target_ms: 8,
+        user_agent: await page.evaluate(() => navigator.userAgent),
+        date: new Date().toISOString(),
+      };
+      fs.mkdirSync(artifactsDir, { recursive: true });
+      fs.writeFileSync(path.join(artifactsDir, 'drag-time.json'), `${JSON.stringify(report, null, 2)}\n`);
+      console.log(`drag update, n = 10, m = 2: median ${median.toFixed(2)} ms over ${updates} updates`);
+      noErrors(ctx);
+    });
+  });
+});
