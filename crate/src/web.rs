@@ -301,6 +301,10 @@ mod ids {
     pub const ESTIMATION_PLOT: &str = "pw-estimation-plot";
     pub const ESTIMATION_TABLE: &str = "pw-estimation-table";
     pub const COMPARE: &str = "pw-compare";
+    pub const POLE_CHOICE: &str = "pw-pole-choice";
+    pub const CHOICE_SUMMARY: &str = "pw-choice-summary";
+    pub const CHOICE_POLES: &str = "pw-choice-poles";
+    pub const CHOICE_DETAILS: &str = "pw-choice-details";
     pub const COMPARE_LABEL: &str = "pw-compare-label";
     pub const COMPARE_TABLE: &str = "pw-compare-table";
     /// Sections marked stale when the input is invalid.
@@ -885,6 +889,9 @@ fn pole_table(doc: &Document, caption: &str, poles: &[form::PoleRow]) -> Result<
 
 /// Builds the result blocks whose content changed since they were last built.
 fn render_report(doc: &Document, page: &mut PageState, r: &Report, discrete: bool) -> Result<(), JsValue> {
+    if !page.unchanged(ids::POLE_CHOICE, hash_of(&r.pole_choice)) {
+        render_pole_choice(doc, r.pole_choice.as_ref())?;
+    }
     // Gain.
     if !page.unchanged(ids::GAIN_TABLE, hash_of(&r.gain)) {
         page.show_matrix(doc, ids::GAIN_TABLE, Some("pw-gain"), &r.gain)?;
@@ -953,6 +960,78 @@ fn render_report(doc: &Document, page: &mut PageState, r: &Report, discrete: boo
         }
     }
     render_controller(doc, page, r.controller.as_ref())
+}
+
+/// The pole-choice block: how the poles were chosen, the suggestion to adopt, and the
+/// region, LQR and search details.
+fn render_pole_choice(doc: &Document, c: Option<&form::PoleChoiceReport>) -> Result<(), JsValue> {
+    let Some(c) = c else {
+        return set_hidden_id(doc, ids::POLE_CHOICE, true);
+    };
+    set_hidden_id(doc, ids::POLE_CHOICE, false)?;
+    set_text(doc, ids::CHOICE_SUMMARY, &format!("{}: {}", c.method, c.description))?;
+    set_text(doc, ids::CHOICE_POLES, &c.suggested_poles)?;
+    set_text(doc, "pw-adopt-status", "")?;
+    let mut parts: Vec<Element> = vec![make_class(doc, "p", Some(&c.suggested_note), "fine-print")?];
+    if let Some(r) = &c.region {
+        let mut lines = vec![r.damping.clone(), r.decay_rate.clone()];
+        lines.extend(r.natural_frequency.iter().cloned());
+        let list = make_class(doc, "ul", None, "facts")?;
+        for l in &lines {
+            list.append_child(&make(doc, "li", Some(l))?.into())?;
+        }
+        let head = make(doc, "h4", Some("Admissible region (dashed on the pole map)"))?;
+        parts.extend([head, list, make_class(doc, "p", Some(&r.note), "fine-print")?]);
+        let outside = if r.outside_region.is_empty() {
+            make_class(doc, "p", Some("Every achieved closed-loop pole is inside the region."), "summary")?
+        } else {
+            let ul = make_class(doc, "ul", None, "warnings")?;
+            for o in &r.outside_region {
+                ul.append_child(&make(doc, "li", Some(o))?.into())?;
+            }
+            ul
+        };
+        outside.set_id("pw-choice-outside");
+        parts.push(outside);
+    }
+    if let Some(l) = &c.lqr {
+        parts.push(make(doc, "h4", Some("LQR design"))?);
+        let list = make_class(doc, "ul", None, "facts")?;
+        for line in [&l.q, &l.r, &l.residual, &l.gain_note] {
+            list.append_child(&make(doc, "li", Some(line))?.into())?;
+        }
+        list.set_id("pw-lqr-facts");
+        parts.push(list);
+        let x = matrix_element(doc, &l.riccati_solution)?;
+        x.set_id("pw-lqr-x");
+        let wrap = make_class(doc, "div", None, "table-wrap")?;
+        wrap.append_child(&x)?;
+        parts.push(wrap);
+        let k = matrix_element(doc, &l.gain)?;
+        k.set_id("pw-lqr-gain");
+        let wrap = make_class(doc, "div", None, "table-wrap")?;
+        wrap.append_child(&k)?;
+        parts.push(wrap);
+        parts.push(make_class(doc, "p", Some(&format!("LQR closed-loop poles: {}", l.closed_loop_poles)), "fine-print")?);
+        if let Some(m) = &l.margins {
+            parts.push(make_class(doc, "p", Some(m), "fine-print")?);
+        }
+    }
+    if let Some(sr) = &c.search {
+        parts.push(make(doc, "h4", Some("Fastest design within the actuator limits"))?);
+        let list = make_class(doc, "ul", None, "facts")?;
+        let mut lines = vec![sr.speed_factor.clone(), sr.limiting.clone(), sr.peak_ratio.clone()];
+        lines.extend(sr.settling_times.iter().cloned());
+        lines.push(sr.monotonicity.clone());
+        lines.push(format!("{} trial designs were simulated.", sr.evaluations));
+        lines.extend(sr.notes.iter().cloned());
+        for line in &lines {
+            list.append_child(&make(doc, "li", Some(line))?.into())?;
+        }
+        list.set_id("pw-search-facts");
+        parts.push(list);
+    }
+    fill(doc, ids::CHOICE_DETAILS, &parts)
 }
 
 fn set_text_or_hide(doc: &Document, id: &str, text: Option<&str>) -> Result<(), JsValue> {
@@ -1070,6 +1149,7 @@ fn render_infeasible(doc: &Document, message: &str, analysis: Option<&OpenLoopAn
     obs.set_text_content(None);
     set_hidden(&obs, true)?;
     set_text(doc, ids::ROBUSTNESS, "")?;
+    set_hidden_id(doc, ids::POLE_CHOICE, true)?;
     fill(doc, ids::WARNINGS, &[make(doc, "li", Some(message))?])?;
     fill(doc, ids::STATE_TABLE, &[])?;
     fill(doc, ids::INPUT_TABLE, &[])?;
@@ -1093,7 +1173,7 @@ fn pole_map_label(scene: &PoleMapScene) -> String {
     parts.push(format!("{} open-loop poles", scene.open_loop.len()));
     let plane = if scene.discrete { "Pole map in the z-plane with the unit circle" } else { "Pole map in the complex plane" };
     format!(
-        "{plane}: {}. Focus it and use the arrow keys to read each pole; the pole tables in Results list them all.",
+        "{plane}: {}. Focus it and press N / P to read each pole, the arrow keys to move a requested one; the pole tables in Results list them all.",
         parts.join(", ")
     )
 }
@@ -1103,7 +1183,17 @@ fn pole_legend(scene: &PoleMapScene) -> String {
     if !scene.observer.is_empty() {
         text.push_str("; ⊠ observer (× in a square, slate blue)");
     }
-    text.push_str("; ◇ a requested pole that could not be assigned (amber). ");
+    text.push_str("; ◇ a requested pole that could not be assigned (amber)");
+    if !scene.requested.is_empty() {
+        text.push_str("; ○ a requested pole you can drag (teal ring)");
+    }
+    if !scene.pinned.is_empty() {
+        text.push_str("; + the pinned design's poles (plum)");
+    }
+    text.push_str(". ");
+    if let Some(r) = &scene.region {
+        text.push_str(&format!("Dash-dot (dark amber): the boundary of the specification's region, {}. ", r.label));
+    }
     text.push_str(if scene.discrete {
         "Shaded: the stable region inside the unit circle, |z| < 1 (dashed)."
     } else {
@@ -1192,7 +1282,11 @@ fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
     let label = pole_map_label(&page.pole_scene);
     if map.get_attribute("aria-label").as_deref() != Some(label.as_str()) {
         map.set_attribute("aria-label", &label)?;
-        set_text(&doc, ids::POLE_LEGEND, &pole_legend(&page.pole_scene))?;
+    }
+    let legend_text = pole_legend(&page.pole_scene);
+    let legend_el = by_id(&doc, ids::POLE_LEGEND)?;
+    if legend_el.text_content().as_deref() != Some(legend_text.as_str()) {
+        legend_el.set_text_content(Some(&legend_text));
     }
     let rect = page.canvas_rect(ids::POLE_MAP)?;
     match page.pole_scene.unit_circle(rect) {
@@ -1977,6 +2071,23 @@ pub fn undo_edit(redo: bool) -> Result<(), JsValue> {
         Some(t) => commit_poles(&t),
         None => Ok(()),
     }
+}
+
+/// "Use these poles": copies the suggested poles (pattern, specification, LQR, or the
+/// search's result) into the poles field, switches the pole choice to the list and the
+/// search off, and redesigns. The design is the same; the poles can now be edited.
+#[wasm_bindgen]
+pub fn adopt_poles() -> Result<(), JsValue> {
+    let text = with_page(|page| Ok(page.report.as_ref().and_then(|r| r.pole_choice.as_ref()).map(|c| c.suggested_poles.clone())))?;
+    let doc = document()?;
+    let Some(text) = text.filter(|t| !t.trim().is_empty()) else {
+        return set_text(&doc, "pw-adopt-status", "There are no suggested poles to use.");
+    };
+    set_control_value(&doc, "pole_source", "list")?;
+    set_control_value(&doc, "search", "")?;
+    set_control_value(&doc, "poles", &text)?;
+    update_page()?;
+    set_text(&doc, "pw-adopt-status", "Copied into the pole list: edit them there or on the pole map.")
 }
 
 /// Pins the current design for comparison (replacing an earlier pin).
