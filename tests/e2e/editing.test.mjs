@@ -238,3 +238,78 @@ describe('drag update time', () => {
     });
   });
 });
+
+describe('choosing the poles from the form', () => {
+  test('specification: region drawn, poles suggested and adopted without changing the design', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page, url, requests } = ctx;
+      await page.selectOption('#pw-pole_source', 'specification');
+      await page.waitForFunction(() => !document.getElementById('pw-spec_overshoot-field').hidden);
+      assert.equal(await page.isHidden('#pw-poles-field'), true, 'the list is not read');
+      await page.fill('#pw-spec_overshoot', '5');
+      await page.fill('#pw-spec_settling_time', '0.5');
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      assert.equal(await page.isVisible('#pw-pole-choice'), true);
+      const summary = await page.textContent('#pw-choice-summary');
+      assert.match(summary, /^Specification/);
+      // Second-order formula (e.g. Franklin, Powell & Emami-Naeini, Feedback Control of Dynamic
+      // Systems; from memory): ζ = −ln(Mp) / √(π² + ln²(Mp)) = 0.6901 for Mp = 5 %.
+      const zeta = -Math.log(0.05) / Math.sqrt(Math.PI ** 2 + Math.log(0.05) ** 2);
+      assert.ok((await page.textContent('#pw-choice-details')).includes(zeta.toFixed(4)), `ζ = ${zeta.toFixed(4)} shown`);
+      assert.match(await page.textContent('#pw-pole-legend'), /region/);
+      assert.equal(await page.getAttribute('#pw-pole-map', 'data-requested-px'), '', 'nothing to drag before adopting');
+      const suggested = await page.textContent('#pw-choice-poles');
+      const gain = await readGain(page);
+      await page.click('#pw-adopt');
+      await page.waitForFunction(() => document.getElementById('pw-pole_source').value === 'list');
+      assert.equal(await page.inputValue('#pw-poles'), suggested);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      assert.deepEqual(await readGain(page), gain, 'adopting keeps the design exactly');
+      assert.equal((await requestedPoints(page)).length, 4, 'the adopted poles can be dragged');
+      assert.equal(await page.isHidden('#pw-pole-choice'), true);
+      noErrors(ctx);
+      assert.deepEqual(requests, [url]);
+    });
+  });
+
+  test('Bessel pattern and the fastest design within the limits', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      await page.selectOption('#pw-pole_source', 'pattern');
+      await page.fill('#pw-pattern_settling_time', '0.4');
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      assert.match(await page.textContent('#pw-choice-summary'), /^Bessel pattern/);
+      assert.equal((await page.textContent('#pw-choice-poles')).split(',').length, 2, 'two pairs for four states');
+      assertPlaced(await placedPoles(page));
+      await page.check('#pw-search');
+      await page.waitForFunction(() => /Speed factor/.test(document.getElementById('pw-choice-details').textContent));
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      const facts = await page.textContent('#pw-search-facts');
+      const ratio = Number(/Peak input at the factor found: ([0-9.]+) %/.exec(facts)[1]);
+      assert.ok(ratio <= 100 && ratio > 90, `the limiting input ends close to, and within, its limit: ${ratio} %`);
+      // The simulated free response agrees: its peak input is within the 60 N limit.
+      const inputs = await tableRows(page, 'pw-input-table');
+      assert.ok(Number(inputs[0][1].split(' ')[0]) <= 60 * (1 + 1e-6), JSON.stringify(inputs[0]));
+      noErrors(ctx);
+    });
+  });
+
+  test('LQR by Bryson weights: the double integrator gives K = [1, √3]', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      // Q = I, R = 1 on ẍ = u: K = [1, √3], closed-loop poles −√3/2 ± j/2 (the classic closed
+      // form, e.g. Anderson & Moore, Optimal Control: Linear Quadratic Methods, 1990; from memory).
+      await setFields(page, { a: '0 1\n0 0', b: '0\n1', pole_source: 'lqr', lqr_max_state: '1, 1', lqr_max_input: '1' });
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      const [k] = await readGain(page);
+      assert.ok(Math.abs(k[0] - 1) < 1e-12 && Math.abs(k[1] - Math.sqrt(3)) < 1e-12, JSON.stringify(k));
+      const facts = await page.textContent('#pw-lqr-facts');
+      assert.match(facts, /Normalised residual/);
+      assert.equal(await page.isVisible('#pw-lqr-x'), true);
+      const poles = (await placedPoles(page)).map((p) => p.achieved);
+      for (const p of poles) assert.ok(Math.abs(p.re + Math.sqrt(3) / 2) < 1e-12 && Math.abs(Math.abs(p.im) - 0.5) < 1e-12, JSON.stringify(p));
+      assert.match(await page.textContent('#pw-choice-details'), /60°/, 'the guaranteed margins are stated');
+      noErrors(ctx);
+    });
+  });
+});
