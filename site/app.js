@@ -214,9 +214,15 @@ byId('pw-pin').addEventListener('click', guarded(() => pin_design()));
 byId('pw-unpin').addEventListener('click', guarded(() => unpin_design()));
 poleMap.addEventListener('keydown', onPoleKey);
 poleMap.addEventListener('focus', guarded(() => step_pole(0)));
-// Leaving the map for its own toolbar (Remove, Undo…) keeps the chosen pole.
+// Leaving the map for its own toolbar (Remove, Undo…) keeps the chosen pole; leaving both
+// drops it.
+const editBar = document.querySelector('.edit-bar');
+const leavesEditing = (e) => !(e.relatedTarget && (e.relatedTarget === poleMap || editBar.contains(e.relatedTarget)));
 poleMap.addEventListener('blur', guarded((e) => {
-  if (!(e.relatedTarget && e.relatedTarget.closest && e.relatedTarget.closest('.edit-bar'))) clear_pole_focus();
+  if (leavesEditing(e)) clear_pole_focus();
+}));
+editBar.addEventListener('focusout', guarded((e) => {
+  if (leavesEditing(e)) clear_pole_focus();
 }));
 
 // Canvas sizes are read only here, after layout (the design cycle never forces one).

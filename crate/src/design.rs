@@ -791,6 +791,12 @@ pub fn parse_design_full(text: &str) -> Result<(DesignRequest, ControllerSpec), 
             _ => 0,
         };
         let order = request.plant.states() + integrators;
+        if spec.plane == Plane::Z && (fbm.contains_key("pattern") || fbm.contains_key("spec")) {
+            return Err(InputError::new(
+                "feedback.plane",
+                "a pattern or a specification gives s-plane poles: use \"plane\": \"s\" (the default; a digital design maps them with z = e^(sT)), or list z-plane poles in \"poles\"",
+            ));
+        }
         let choice = pole_choice_from_value(fbm, order, request.band)?;
         request.poles = choice.poles.clone();
         spec.pole_choice = Some(choice);

@@ -206,6 +206,15 @@ fn poles_from_a_pattern_or_a_specification() {
         Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback"),
         other => panic!("{other:?}"),
     }
+    // A pattern gives s-plane poles: asking for z-plane targets with one is refused, not
+    // silently read as z-plane poles.
+    let digital = r#""implementation": {"sample_time": 0.01}"#;
+    match design(&format!(r#"{plant}, {digital}, "feedback": {{"plane": "z", "pattern": {{"family": "bessel", "settling_time": 2.0}}}}"#)) {
+        Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback.plane"),
+        other => panic!("{other:?}"),
+    }
+    let ok = design(&format!(r#"{plant}, {digital}, "feedback": {{"pattern": {{"family": "bessel", "settling_time": 2.0}}}}"#)).unwrap();
+    assert_eq!(ok.domain, "discrete");
 }
 
 #[test]

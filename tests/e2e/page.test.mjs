@@ -349,7 +349,11 @@ describe('built page', () => {
           // The readout gives z and s = ln z / T.
           await page.focus('#pw-pole-map');
           const text = await page.textContent('#pw-pole-pick');
-          assert.match(text, /^Closed-loop pole 1 of 4: z = [0-9.]+ [+−] [0-9.]+j \(\|z\| = [0-9.]+\); s = ln z \/ T = −(12|20) [+−] (9|30)j \(damping ratio/, text);
+          // The requested poles (s-plane list) are shown on the z-plane map through z = e^{sT}.
+          assert.match(text, /^Requested pole 1 of 4: z = [0-9.]+ [+−] [0-9.]+j \(\|z\| = [0-9.]+\); s = ln z \/ T = −(12|20) [+−] (9|30)j \(damping ratio/, text);
+          for (let i = 0; i < 4; i += 1) await page.keyboard.press('n');
+          const closed = await page.textContent('#pw-pole-pick');
+          assert.match(closed, /^Closed-loop pole 1 of 4: z = [0-9.]+ [+−] [0-9.]+j \(\|z\| = [0-9.]+\); s = ln z \/ T = −(12|20) [+−] (9|30)j \(damping ratio/, closed);
           // A digital design is simulated in the loop (without C there are no outputs to plot);
           // the map can zoom to the poles.
           assert.equal(await page.isVisible('#pw-loop-section'), true);
@@ -482,7 +486,15 @@ describe('built page', () => {
           assert.match(await page.textContent('#pw-pole-pick'), /^Open-loop pole 4 of 4: /);
           await page.keyboard.press('PageDown');
           assert.match(await page.textContent('#pw-pole-pick'), /^Requested pole 1 of 4: /, 'wraps around');
-          await page.keyboard.press('Tab');
+          // Tab leads to the map's editing toolbar (the chosen pole stays chosen for Remove),
+          // and on out of it: then the ring and the read-out go.
+          let inBar = true;
+          for (let i = 0; i < 12 && inBar; i += 1) {
+            await page.keyboard.press('Tab');
+            inBar = await page.evaluate(() => Boolean(document.activeElement && document.activeElement.closest('.edit-bar')));
+            if (i === 0) assert.ok(inBar, 'the toolbar follows the map');
+            if (inBar) assert.match(await page.textContent('#pw-pole-pick'), /^Requested pole 1 of 4: /);
+          }
           assert.match(await page.textContent('#pw-pole-pick'), /^Point at a pole/);
           assert.deepEqual([...pageErrors, ...consoleErrors], []);
           assert.deepEqual(requests, [url]);
