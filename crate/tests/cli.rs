@@ -99,3 +99,33 @@ fn hostile_inputs_never_crash() {
         }
     }
 }
+
+#[test]
+fn compare_two_designs_side_by_side() {
+    // Pinned: the textbook design (Ogata, Modern Control Engineering; from memory), whose gain
+    // K = [199, 55, 8] has the 2-norm √(199² + 55² + 8²) = 206.616… . Current: the same plant
+    // with every pole twice as fast, from standard input.
+    let pinned = example("third-order-textbook.json");
+    let text = std::fs::read_to_string(&pinned).expect("example");
+    let mut faster: serde_json::Value = serde_json::from_str(&text).expect("json");
+    assert_eq!(faster["feedback"]["poles"], serde_json::json!(["-2±4j", -10]));
+    faster["feedback"]["poles"] = serde_json::json!(["-4±8j", -20]);
+    let (code, out, err) = polewright(&["compare", &pinned, "-"], Some(&faster.to_string()));
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).expect("comparison JSON");
+    assert_eq!(v["format"], "polewright.comparison");
+    let rows = v["rows"].as_array().expect("rows");
+    let row = |name: &str| rows.iter().find(|r| r["figure"].as_str().is_some_and(|f| f.starts_with(name))).unwrap_or_else(|| panic!("{name} in {out}"));
+    let norm = row("gain norm")["pinned"]["value"].as_f64().expect("value");
+    let want = (199.0f64 * 199.0 + 55.0 * 55.0 + 8.0 * 8.0).sqrt();
+    assert!((norm - want).abs() < 1e-9 * want, "{norm} vs {want}");
+    assert_eq!(row("gain norm")["better"], "pinned", "faster poles cost gain");
+    assert_eq!(row("slowest settling time")["better"], "current", "and settle sooner");
+    // Errors say which file.
+    let (code, _, err) = polewright(&["compare", &pinned, "-"], Some("{}"));
+    assert_eq!(code, 2);
+    assert!(err.contains("-: invalid input"), "{err}");
+    let (code, _, err) = polewright(&["compare", &pinned], None);
+    assert_eq!(code, 2);
+    assert!(err.contains("two design files"), "{err}");
+}

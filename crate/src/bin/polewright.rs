@@ -12,6 +12,11 @@ closed-loop response. Convention: u = -K x.
 USAGE:
     polewright design FILE.json     design from a file and write the result JSON to stdout
     polewright design -             read the design file from standard input
+    polewright compare PINNED.json CURRENT.json
+                                    design both files and write, as JSON, their key figures
+                                    side by side (settling time, overshoot, peak inputs
+                                    against limits, gain norm, eigenvector condition, pole
+                                    error; tracked outputs) with which is better
     polewright serve [FILE] [--port N]
                                     serve the page (default dist/polewright.html) on
                                     http://127.0.0.1:N/ (default port 8765) until stopped
@@ -77,9 +82,57 @@ fn run(args: &[String]) -> ExitCode {
         }
         Some("design") => design_command(&args[1..]),
         Some("serve") => serve_command(&args[1..]),
+        Some("compare") => compare_command(&args[1..]),
         Some(other) => {
             eprintln!("polewright: unknown command \"{other}\"; try `polewright --help`");
             ExitCode::from(2)
+        }
+    }
+}
+
+/// The text of a design file, or of standard input for `-`.
+fn read_source(source: &str) -> Result<String, ExitCode> {
+    if source == "-" {
+        let mut s = String::new();
+        std::io::stdin().read_to_string(&mut s).map_err(|e| {
+            eprintln!("polewright: cannot read standard input: {e}");
+            ExitCode::from(2)
+        })?;
+        Ok(s)
+    } else {
+        std::fs::read_to_string(source).map_err(|e| {
+            eprintln!("polewright: cannot read {source}: {e}");
+            ExitCode::from(2)
+        })
+    }
+}
+
+/// Runs one design file; a failure is reported (prefixed with `what`) as its exit code.
+fn run_design(text: &str, what: &str) -> Result<design::DesignResult, ExitCode> {
+    design::run_text(text).map_err(|e| match e {
+        DesignError::Input(e) => {
+            eprintln!("polewright: {what}invalid input: {e}");
+            ExitCode::from(2)
+        }
+        DesignError::Infeasible { message } => {
+            eprintln!("polewright: {what}the design cannot be done as asked: {message}");
+            ExitCode::from(1)
+        }
+    })
+}
+
+fn write_json<T: serde::Serialize>(value: &T) -> ExitCode {
+    match serde_json::to_string_pretty(value) {
+        Ok(json) => {
+            let mut out = std::io::stdout().lock();
+            if writeln!(out, "{json}").is_err() {
+                return ExitCode::from(1);
+            }
+            ExitCode::SUCCESS
+        }
+        Err(e) => {
+            eprintln!("polewright: cannot write the result: {e}");
+            ExitCode::from(1)
         }
     }
 }
@@ -89,45 +142,43 @@ fn design_command(args: &[String]) -> ExitCode {
         eprintln!("polewright: `design` takes one argument, a design file or - for standard input");
         return ExitCode::from(2);
     };
-    let text = if source == "-" {
-        let mut s = String::new();
-        if let Err(e) = std::io::stdin().read_to_string(&mut s) {
-            eprintln!("polewright: cannot read standard input: {e}");
-            return ExitCode::from(2);
-        }
-        s
-    } else {
-        match std::fs::read_to_string(source) {
-            Ok(s) => s,
-            Err(e) => {
-                eprintln!("polewright: cannot read {source}: {e}");
-                return ExitCode::from(2);
-            }
-        }
-    };
-    match design::run_text(&text) {
-        Ok(result) => match serde_json::to_string_pretty(&result) {
-            Ok(json) => {
-                let mut out = std::io::stdout().lock();
-                if writeln!(out, "{json}").is_err() {
-                    return ExitCode::from(1);
-                }
-                ExitCode::SUCCESS
-            }
-            Err(e) => {
-                eprintln!("polewright: cannot write the result: {e}");
-                ExitCode::from(1)
-            }
-        },
-        Err(DesignError::Input(e)) => {
-            eprintln!("polewright: invalid input: {e}");
-            ExitCode::from(2)
-        }
-        Err(DesignError::Infeasible { message }) => {
-            eprintln!("polewright: the design cannot be done as asked: {message}");
-            ExitCode::from(1)
-        }
+    match read_source(source).and_then(|text| run_design(&text, "")) {
+        Ok(result) => write_json(&result),
+        Err(code) => code,
     }
+}
+
+/// `{"format": "polewright.comparison", "version": 1, "pinned": file, "current": file,
+/// "rows": [{figure, pinned, current, pinned_text, current_text, better}]}`.
+#[derive(serde::Serialize)]
+struct Comparison<'a> {
+    format: &'static str,
+    version: u32,
+    pinned: &'a str,
+    current: &'a str,
+    rows: Vec<polewright::editing::ComparisonRow>,
+}
+
+fn compare_command(args: &[String]) -> ExitCode {
+    let [pinned, current] = args else {
+        eprintln!("polewright: `compare` takes two design files: the pinned one, then the current one");
+        return ExitCode::from(2);
+    };
+    if pinned == "-" && current == "-" {
+        eprintln!("polewright: only one of the two files can be standard input (-)");
+        return ExitCode::from(2);
+    }
+    let run = |source: &str, what: &str| read_source(source).and_then(|t| run_design(&t, what));
+    let a = match run(pinned, &format!("{pinned}: ")) {
+        Ok(r) => r,
+        Err(code) => return code,
+    };
+    let b = match run(current, &format!("{current}: ")) {
+        Ok(r) => r,
+        Err(code) => return code,
+    };
+    let rows = polewright::editing::compare(&(&a).into(), &(&b).into());
+    write_json(&Comparison { format: "polewright.comparison", version: 1, pinned, current, rows })
 }
 
 /// A minimal static server for the one-file page, bound to the loopback address only.
