@@ -2653,7 +2653,7 @@ fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
             Box::new(|s: &Surface, c: [f64; 2]| {
                 s.set_stroke(colour::REGION);
                 s.ctx.set_line_width(1.5);
-                s.line([c[0] - 7.0, c[1]], [c[0] + 7.0, c[1]]);
+                s.segments(&[([c[0] - 8.0, c[1]], [c[0] - 2.0, c[1]]), ([c[0] + 1.0, c[1]], [c[0] + 3.0, c[1]]), ([c[0] + 6.0, c[1]], [c[0] + 8.0, c[1]])]);
             }),
         ));
     }

@@ -257,6 +257,7 @@ describe('choosing the poles from the form', () => {
       const zeta = -Math.log(0.05) / Math.sqrt(Math.PI ** 2 + Math.log(0.05) ** 2);
       assert.ok((await page.textContent('#pw-choice-details')).includes(zeta.toFixed(4)), `ζ = ${zeta.toFixed(4)} shown`);
       assert.match(await page.textContent('#pw-pole-legend'), /region/);
+      await page.locator('#pw-pole-section').screenshot({ path: path.join(artifactsDir, 'pole-map-specification.png') });
       assert.equal(await page.getAttribute('#pw-pole-map', 'data-requested-px'), '', 'nothing to drag before adopting');
       const suggested = await page.textContent('#pw-choice-poles');
       const gain = await readGain(page);
@@ -269,6 +270,33 @@ describe('choosing the poles from the form', () => {
       assert.equal(await page.isHidden('#pw-pole-choice'), true);
       noErrors(ctx);
       assert.deepEqual(requests, [url]);
+    });
+  });
+
+  test('a digital design from a specification: the region is drawn in the z-plane', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      const titles = await page.evaluate(() => [...document.querySelectorAll('#pw-demo option')].map((o) => o.textContent));
+      await page.selectOption('#pw-demo', String(titles.findIndex((t) => /digital/.test(t))));
+      await page.click('#pw-load-demo');
+      await page.waitForFunction(() => document.getElementById('pw-status').dataset.outcome === 'designed' && document.getElementById('pw-sample_time').value !== '');
+      await page.selectOption('#pw-pole_source', 'specification');
+      await page.fill('#pw-spec_overshoot', '5');
+      await page.fill('#pw-spec_settling_time', '0.3');
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      const legend = await page.textContent('#pw-pole-legend');
+      // σ from the settling envelope, σ = −ln(0.02 √(1 − ζ²)) / Ts (the bound the region uses),
+      // and its image |z| = e^(−σT) with T = 1 ms.
+      const zeta = -Math.log(0.05) / Math.sqrt(Math.PI ** 2 + Math.log(0.05) ** 2);
+      const sigma = -Math.log(0.02 * Math.sqrt(1 - zeta * zeta)) / 0.3;
+      assert.match(legend, /\|z\| ≤ /, legend);
+      const radius = Number(/\|z\| ≤ ([0-9.]+)/.exec(legend)[1]);
+      const decay = Number(/Re s ≤ −([0-9.]+)/.exec(legend)[1]);
+      assert.ok(Math.abs(radius - Math.exp(-sigma * 0.001)) < 1e-4, `${radius} vs ${Math.exp(-sigma * 0.001)}`);
+      assert.ok(Math.abs(decay - sigma) < 1e-3, `${decay} vs ${sigma}`);
+      await page.check('#pw-pole-zoom');
+      await page.locator('#pw-pole-section').screenshot({ path: path.join(artifactsDir, 'pole-map-specification-z.png') });
+      noErrors(ctx);
     });
   });
 
