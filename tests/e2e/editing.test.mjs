@@ -221,6 +221,26 @@ describe('drag update time', () => {
       assert.ok(Number.isFinite(median) && median > 0, String(median));
       assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
       assertPlaced(await placedPoles(page), 1e-7);
+      // The same with the whole loop simulated: the belt-axis demo with a head-position
+      // measurement, an observer, integral action and a reference step (continuous controller).
+      await page.selectOption('#pw-demo', '0');
+      await page.click('#pw-load-demo');
+      await page.waitForFunction(() => document.getElementById('pw-status').dataset.outcome === 'designed' && document.getElementById('pw-a').value.startsWith('0 1 0 0'));
+      await page.fill('#pw-c', '0 0 1 0');
+      await page.selectOption('#pw-observer', 'speed_factor');
+      await page.selectOption('#pw-tracking', 'integral');
+      await page.fill('#pw-integral_poles', '-10');
+      await page.fill('#pw-reference', '0.01');
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      assert.equal(await page.isVisible('#pw-loop-section'), true);
+      const belt = (await requestedPoints(page))[0];
+      await drag(page, belt, -8, 4, 10);
+      await drag(page, (await requestedPoints(page))[0], -40, -30, 60);
+      const loopUpdates = Number(await page.getAttribute('#pw-pole-map', 'data-drag-updates'));
+      const loopMedian = Number(await page.getAttribute('#pw-pole-map', 'data-drag-median-ms'));
+      assert.ok(loopUpdates >= 30 && Number.isFinite(loopMedian) && loopMedian > 0, `${loopUpdates} ${loopMedian}`);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      console.log(`drag update, belt axis with observer, integral action and the loop simulated: median ${loopMedian.toFixed(2)} ms over ${loopUpdates} updates`);
       const report = {
         what: 'one drag update of the pole map (move the pole, write the poles field, full design cycle: parse, analyse, place, simulate, draw, results), timed with performance.now() inside the page; median over the moves of one drag',
         plant: 'chain of 5 masses: n = 10 states, m = 2 inputs, actuator limits',
@@ -228,6 +248,7 @@ describe('drag update time', () => {
         updates,
         median_ms: median,
         target_ms: 8,
+        with_loop: { plant: 'belt-axis demo (4 states) with C = head position, observer (speed factor), integral action, reference step: continuous loop simulated', updates: loopUpdates, median_ms: loopMedian },
         user_agent: await page.evaluate(() => navigator.userAgent),
         date: new Date().toISOString(),
       };
