@@ -1775,6 +1775,11 @@ fn commit_poles(text: &str) -> Result<(), JsValue> {
     update_page().map(|_| ())
 }
 
+/// [`commit_poles`] when an edit produced a new list.
+fn commit_changed(text: Option<String>) -> Result<(), JsValue> {
+    text.map_or(Ok(()), |t| commit_poles(&t))
+}
+
 fn show_edit_message(page: &mut PageState, message: Option<String>) -> Result<(), JsValue> {
     page.edit_message = message;
     refresh_edit_controls(page)
@@ -1974,10 +1979,7 @@ pub fn move_pole(direction: &str, large: bool) -> Result<(), JsValue> {
             }
         }
     })?;
-    match text {
-        Some(t) => commit_poles(&t),
-        None => Ok(()),
-    }
+    commit_changed(text)
 }
 
 /// A new pole for the list: a little faster than the fastest real part (s-plane), or a
@@ -2023,10 +2025,7 @@ fn edit_list(edit: impl FnOnce(&PageState) -> Option<Edit>) -> Result<(), JsValu
             }
         }
     })?;
-    match text {
-        Some(t) => commit_poles(&t),
-        None => Ok(()),
-    }
+    commit_changed(text)
 }
 
 /// Adds a pole to the list (`kind` = `real` or `pair`; the pair adds two poles).
@@ -2067,10 +2066,7 @@ pub fn undo_edit(redo: bool) -> Result<(), JsValue> {
         refresh_edit_controls(page)?;
         Ok(text)
     })?;
-    match text {
-        Some(t) => commit_poles(&t),
-        None => Ok(()),
-    }
+    commit_changed(text)
 }
 
 /// "Use these poles": copies the suggested poles (pattern, specification, LQR, or the
