@@ -30,6 +30,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import blas_env  # noqa: F401  (before numpy: one thread, a fixed OpenBLAS kernel set)
 import numpy as np
 from scipy.integrate import solve_ivp
 

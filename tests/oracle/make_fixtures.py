@@ -17,11 +17,9 @@ single thread before numpy is imported to keep reductions in a fixed order.
 
 from __future__ import annotations
 
-import os
+import os  # noqa: F401
 
-for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS",
-             "BLIS_NUM_THREADS", "VECLIB_MAXIMUM_THREADS", "NUMEXPR_NUM_THREADS"):
-    os.environ.setdefault(_var, "1")
+import blas_env  # noqa: E402,F401  (before numpy: one thread, a fixed OpenBLAS kernel set)
 
 import argparse  # noqa: E402
 import json  # noqa: E402
