@@ -1450,7 +1450,15 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
             })?;
             dpoles = design.closed_loop_poles.clone();
             base_poles = match t {
-                Some(ts) => dpoles.iter().map(|z| map_to_continuous(*z, ts)).collect(),
+                Some(ts) => {
+                    // LQR puts the computation-delay states' poles at (or within rounding of)
+                    // z = 0: deadbeat, gone after one sample. Their s = ln z / T (about −34 000
+                    // 1/s at 1 kHz for z = 1e-15) says nothing about the loop's bandwidth and
+                    // must not drive the sample-rate advice or an observer speed factor.
+                    let live: Vec<Complex64> = dpoles.iter().filter(|z| z.norm() > 1e-9).copied().collect();
+                    let kept = if live.len() >= n { live } else { dpoles.clone() };
+                    kept.iter().map(|z| map_to_continuous(*z, ts)).collect()
+                }
                 None => dpoles.clone(),
             };
             Some(design)

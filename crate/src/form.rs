@@ -2122,6 +2122,21 @@ pub fn z_pole_character(z: Complex64, t: f64) -> String {
 }
 
 /// The character of a pole of `result`: s-plane, or z-plane read through `s = ln z / T`.
+/// A pole's placement error for the pole tables, on the same rule as the design's
+/// `max_pole_error` ([`crate::place::pole_error_floor`]): relative in the s-plane (absolute
+/// for a pole requested at 0); in the z-plane relative to `max(|z|, 1)`, i.e. the distance
+/// itself for every pole inside the unit circle (a delay or deadbeat pole at `z = 0` included).
+fn pole_error_text(result: &DesignResult, requested: Complex64, achieved: Complex64) -> String {
+    let d = (achieved - requested).norm();
+    if result.domain == "discrete" {
+        fmt_num(d / requested.norm().max(1.0))
+    } else if requested.norm() > 0.0 {
+        fmt_num(d / requested.norm())
+    } else {
+        format!("{} (absolute)", fmt_num(d))
+    }
+}
+
 fn character_in(result: &DesignResult, z: Complex64) -> String {
     match (result.domain, result.sample_time) {
         ("discrete", Some(t)) => z_pole_character(z, t),
@@ -2195,14 +2210,7 @@ pub fn pole_rows(result: &DesignResult) -> Vec<PoleRow> {
     for (i, t) in targets.iter().enumerate() {
         let z = matched.get(i).copied().flatten().and_then(|j| achieved.get(j)).copied();
         let is_fixed = i >= assigned.len();
-        let error = z.map(|z| {
-            let d = (z - t).norm();
-            if t.norm() > 0.0 {
-                fmt_num(d / t.norm())
-            } else {
-                format!("{} (absolute)", fmt_num(d))
-            }
-        });
+        let error = z.map(|z| pole_error_text(result, *t, z));
         rows.push(PoleRow {
             requested: if is_fixed { String::new() } else { format_complex(*t) },
             achieved: z.map(format_complex).unwrap_or_default(),
@@ -2549,16 +2557,7 @@ fn matched_pole_rows(result: &DesignResult, requested: &[Pair], achieved: &[Pair
             PoleRow {
                 requested: format_complex(*t),
                 achieved: z.map(format_complex).unwrap_or_default(),
-                error: z
-                    .map(|z| {
-                        let d = (z - t).norm();
-                        if t.norm() > 0.0 {
-                            fmt_num(d / t.norm())
-                        } else {
-                            format!("{} (absolute)", fmt_num(d))
-                        }
-                    })
-                    .unwrap_or_default(),
+                error: z.map(|z| pole_error_text(result, *t, z)).unwrap_or_default(),
                 character: z.map(|z| character_in(result, z)).unwrap_or_default(),
                 note: String::new(),
             }

@@ -233,7 +233,7 @@ pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex6
             return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
         }
         let core = assign(a, b, poles, params)?;
-        return finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new());
+        return finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new(), params.domain);
     }
     // Uncontrollable: the fixed modes must be strictly stable.
     let au = st.a.view((nc, nc), (n - nc, n - nc)).into_owned();
@@ -266,7 +266,7 @@ pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex6
     // K in the original coordinates: K = [K_c 0] Tᵀ.
     let gain = gain_t * st.transform.transpose();
     let core = Core { gain, iterations, converged, condition: cond, abs_det: det, rank };
-    finish(a, b, core, assigned, dropped, fixed)
+    finish(a, b, core, assigned, dropped, fixed, params.domain)
 }
 
 struct Core {
@@ -285,12 +285,13 @@ fn finish(
     mut assigned: Vec<Complex64>,
     mut not_assigned: Vec<Complex64>,
     mut fixed: Vec<Complex64>,
+    domain: Domain,
 ) -> Result<Placement, PlacementError> {
     let closed = a - b * &core.gain;
     let achieved = try_eigenvalues(&closed)?;
     let mut target: Vec<Complex64> = assigned.iter().chain(fixed.iter()).cloned().collect();
     sort_eigenvalues(&mut target);
-    let max_pole_error = max_matching_error(&target, &achieved, a.norm());
+    let max_pole_error = matching_error_with_floor(&target, &achieved, pole_error_floor(domain, a.norm()));
     let gain_norm = try_norm2(&core.gain, SvdParams::default())?;
     sort_eigenvalues(&mut assigned);
     sort_eigenvalues(&mut not_assigned);
@@ -312,8 +313,31 @@ fn finish(
 }
 
 /// Largest relative error over a greedy one-to-one matching of `requested` to `achieved`
-/// (closest pairs first). A requested pole at 0 is compared in absolute terms scaled by `scale`.
+/// (closest pairs first): `|r − z| / max(|r|, √ε · scale)`. A requested pole at (or within
+/// rounding of) 0 — a deadbeat or computation-delay pole in the z-plane — is thus compared with
+/// `√ε` of the matrix scale, not with itself (for z-plane poles see [`pole_error_floor`]):
+/// eigenvalues are only determined to about
+/// `κ · ε · ‖A‖` in absolute terms (Bauer–Fike; e.g. Golub & Van Loan, *Matrix Computations*,
+/// 4th ed., 2013, §7.2; from memory), so a relative error against a pole of size `1e-15` would
+/// report rounding noise as a failure. (Until this release the floor was `ε · scale`, which
+/// flagged every delay pole at `z = 0` as misplaced by a factor of hundreds.)
 pub fn max_matching_error(requested: &[Complex64], achieved: &[Complex64], scale: f64) -> f64 {
+    matching_error_with_floor(requested, achieved, pole_error_floor(Domain::Continuous, scale))
+}
+
+/// The smallest denominator of a pole's relative error ([`matching_error_with_floor`]):
+/// `√ε · scale` in the s-plane; 1 in the z-plane, where the unit circle is the natural scale
+/// (a z-plane pole's distance from where it should be is what changes the response, and
+/// poles at `z = 0` — deadbeat or computation-delay poles — are common).
+pub fn pole_error_floor(domain: Domain, scale: f64) -> f64 {
+    match domain {
+        Domain::Continuous => (scale * f64::EPSILON.sqrt()).max(f64::MIN_POSITIVE),
+        Domain::Discrete => 1.0,
+    }
+}
+
+/// [`max_matching_error`] with an explicit floor: `|r − z| / max(|r|, floor)`.
+pub fn matching_error_with_floor(requested: &[Complex64], achieved: &[Complex64], floor: f64) -> f64 {
     let mut pairs: Vec<(f64, usize, usize)> = Vec::with_capacity(requested.len() * achieved.len());
     for (i, r) in requested.iter().enumerate() {
         for (j, z) in achieved.iter().enumerate() {
@@ -324,7 +348,6 @@ pub fn max_matching_error(requested: &[Complex64], achieved: &[Complex64], scale
     let mut used_r = vec![false; requested.len()];
     let mut used_a = vec![false; achieved.len()];
     let mut worst: f64 = 0.0;
-    let floor = (scale * f64::EPSILON).max(f64::MIN_POSITIVE);
     let mut matched = 0;
     for (d, i, j) in pairs {
         if used_r[i] || used_a[j] {

@@ -901,7 +901,7 @@ fn render_report(doc: &Document, page: &mut PageState, r: &Report, discrete: boo
     // Poles.
     if !page.unchanged(ids::POLE_TABLE, hash_of(&(&r.poles, &r.open_loop, discrete))) {
         let caption = if discrete {
-            "Closed-loop poles in the z-plane: requested and achieved (the eigenvalues of Φ − Γ K), with their equivalent s = ln z / T"
+            "Closed-loop poles in the z-plane: requested and achieved (the eigenvalues of Φ − Γ K), with their equivalent s = ln z / T; errors relative to max(|z|, 1), the unit circle being the z-plane's scale"
         } else {
             "Closed-loop poles: requested and achieved (the eigenvalues of A − B K)"
         };

@@ -250,3 +250,31 @@ fn lqr_as_a_way_of_choosing_poles() {
     // Integral action: the output settles into the 2 % band and keeps closing in on the reference.
     assert!(l.tracked[0].settling_time.is_some() && l.tracked[0].steady_state_error.abs() < 0.02, "{:?}, duration {}", l.tracked[0], l.duration);
 }
+
+#[test]
+fn delay_poles_at_the_origin_are_not_reported_as_misplaced() {
+    // A digital belt axis (illustrative) with a computation delay: the delay state's pole is
+    // requested at z = 0 (the default), where a relative error is meaningless. Eigenvalues are
+    // only determined to about κ · ε · ‖A‖ (Bauer–Fike; Golub & Van Loan, Matrix Computations,
+    // 4th ed., 2013, §7.2; from memory), so the achieved pole is within rounding of 0 and the
+    // design must say the placement is accurate.
+    let plant = r#""plant": {"a": [[0, 1, 0, 0], [-375, -2.291666666666667, 375, 0.625], [0, 0, 0, 1], [1500, 2.5, -1500, -2.5]],
+                  "b": [[0], [0.4166666666666667], [0], [0]]},
+        "implementation": {"sample_time": 0.001, "computation_delay": true},
+        "actuators": {"limit": [60]}"#;
+    let r = design(&format!(r#"{plant}, "feedback": {{"poles": ["-12±9j", "-20±30j"]}}"#)).unwrap();
+    let at_origin = r.feedback.achieved_poles.iter().map(|p| p[0].hypot(p[1])).fold(f64::INFINITY, f64::min);
+    assert!(at_origin < 1e-9, "{at_origin}");
+    assert!(r.feedback.max_pole_error < 1e-9, "{}", r.feedback.max_pole_error);
+    assert!(!r.warnings.iter().any(|w| w.code == "placement-inaccurate"), "{:?}", r.warnings);
+    // LQR by Bryson weights on the same pair also puts the delay pole at the origin; the
+    // sample-rate advice must come from the plant's poles, not from s = ln(1e-15) / T.
+    let lqr = design(&format!(
+        r#"{plant}, "feedback": {{"lqr": {{"bryson": {{"max_state": [0.01, 0.5, 0.01, 0.5, 60], "max_input": [60]}}}}}}"#
+    ))
+    .unwrap();
+    assert!(!lqr.warnings.iter().any(|w| w.code == "placement-inaccurate" || w.code == "sample-rate-too-slow"), "{:?}", lqr.warnings);
+    let advice = lqr.sample_rate.as_ref().expect("digital design has advice");
+    // The slowest-to-fastest plant-pole bandwidth stays far below the 1 kHz sample rate.
+    assert!(advice.bandwidth < 1000.0, "{}", advice.bandwidth);
+}
