@@ -89,7 +89,7 @@ use crate::linalg::eigen::try_eigenvalues;
 use crate::parse::{parse_matrix, parse_names, parse_vector, MatrixParseError};
 use crate::plant::{Field, Plant, PlantError, PlantSpec};
 use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, RegionShape, Series, TimePlotScene};
-use crate::poles::{format_complex, format_pole_list, parse_poles, sort_for_display};
+use crate::poles::{check_conjugate_pairs, format_complex, format_pole_list, parse_poles, sort_for_display};
 
 /// Largest plant the page designs (placement costs `O(n⁴)`; the page must stay responsive).
 pub const MAX_STATES: usize = 50;
@@ -634,6 +634,11 @@ pub struct PoleChoiceReport {
     pub suggested_poles: String,
     /// What `suggested_poles` holds and how to adopt it.
     pub suggested_note: String,
+    /// The plane of `suggested_poles`: `"s"` or `"z"` (the `plane` field to adopt them with).
+    pub suggested_plane: String,
+    /// With a computation delay under LQR: the delay states' poles (z-plane, full precision),
+    /// for the `delay_poles` field; `None` otherwise.
+    pub suggested_delay_poles: Option<String>,
     /// The admissible region of a specification.
     pub region: Option<RegionReport>,
     /// The LQR design, when the poles came from LQR weights.
@@ -3119,44 +3124,62 @@ fn pole_choice_report(result: &DesignResult, context: &ReportContext, warnings: 
     }
 
     let sample_time = result.sample_time.filter(|_| result.domain == "discrete");
-    let (poles, suggested_note): (Vec<Complex64>, String) = match (search, choice, lqr) {
+    let mut suggested_delay_poles = None;
+    let adopt = "To adopt them, press “Use these poles”: the design stays the same (with several inputs: the same poles, with the robust placement's gain).";
+    let (poles, suggested_note, suggested_plane): (Vec<Complex64>, String, &str) = match (search, choice, lqr) {
         (Some(s), _, _) => (
             s.suggested_poles.iter().map(c64).collect(),
-            format!(
-                "{} (s-plane): the poles after the search. To adopt them, choose the pole list, paste them there and clear the search box: the design stays the same.",
-                plural(s.suggested_poles.len(), "pole", "poles")
-            ),
+            format!("{} (s-plane): the poles after the search, which adopting them switches off. {adopt}", plural(s.suggested_poles.len(), "pole", "poles")),
+            "s",
         ),
-        (None, Some(c), _) => (
-            c.suggested_poles.iter().map(c64).collect(),
-            format!("{} (s-plane). To adopt them, choose the pole list and paste them there: the design stays the same.", plural(c.suggested_poles.len(), "pole", "poles")),
-        ),
+        (None, Some(c), _) => (c.suggested_poles.iter().map(c64).collect(), format!("{} (s-plane). {adopt}", plural(c.suggested_poles.len(), "pole", "poles")), "s"),
         (None, None, Some(l)) => {
-            let z: Vec<Complex64> = l.closed_loop_poles.iter().map(c64).collect();
-            let delay = if result.feedback.delay_gain.is_some() {
-                format!(" The list also holds the {} of the computation-delay states, which the pole list does not take: give those as delay poles.", plural(result.plant.inputs, "pole", "poles"))
-            } else {
-                String::new()
-            };
+            let mut z: Vec<Complex64> = l.closed_loop_poles.iter().map(c64).collect();
+            // With a computation delay the LQR also placed the delay states' poles, which the
+            // pole list does not take: the m poles nearest the origin (LQR puts them at or near
+            // z = 0, deadbeat) go to the delay poles instead.
+            let mut delay = String::new();
+            if result.feedback.delay_gain.is_some() && sample_time.is_some() {
+                let m = result.plant.inputs.min(z.len());
+                let mut order: Vec<usize> = (0..z.len()).collect();
+                order.sort_by(|&i, &j| z[i].norm().total_cmp(&z[j].norm()));
+                let chosen: Vec<usize> = order.into_iter().take(m).collect();
+                let mut fast: Vec<Complex64> = chosen.iter().map(|&i| z[i]).collect();
+                // A real delay pole is written as a real number (the LQR's complex rounding dropped).
+                for p in fast.iter_mut() {
+                    if p.im.abs() <= 1e-12 {
+                        p.im = 0.0;
+                    }
+                }
+                if check_conjugate_pairs(&fast).is_ok() {
+                    z = (0..z.len()).filter(|i| !chosen.contains(i)).map(|i| z[i]).collect();
+                    suggested_delay_poles = Some(exact_pole_text(&fast));
+                    delay = format!(" The {} nearest the origin, {}, go to the delay poles of the computation-delay states.", plural(m, "pole", "poles"), exact_pole_text(&fast));
+                } else {
+                    delay = format!(" The list also holds the {} of the computation-delay states, which the pole list does not take: give those as delay poles.", plural(m, "pole", "poles"));
+                }
+            }
             match sample_time {
-                None => (z.clone(), format!("{} (s-plane). To adopt them, choose the pole list and paste them there: the design stays the same.{delay}", plural(z.len(), "pole", "poles"))),
-                Some(_) if context.z_plane => (z.clone(), format!("{} (z-plane, the pole plane chosen). To adopt them, choose the pole list and paste them there.{delay}", plural(z.len(), "pole", "poles"))),
+                None => (z.clone(), format!("{} (s-plane). {adopt}{delay}", plural(z.len(), "pole", "poles")), "s"),
+                Some(_) if context.z_plane => (z.clone(), format!("{} (z-plane, the pole plane chosen). {adopt}{delay}", plural(z.len(), "pole", "poles")), "z"),
                 Some(t) => {
                     let s: Option<Vec<Complex64>> = z.iter().map(|p| z_to_s(*p, t)).collect();
                     match s {
-                        Some(s) => (s.clone(), format!("{} (s-plane: s = ln z / T of the LQR's z-plane poles, which z = e^(sT) gives back to rounding). To adopt them, choose the pole list and paste them there.{delay}", plural(s.len(), "pole", "poles"))),
-                        None => (z.clone(), format!("{} (z-plane: a pole at z = 0 has no s-plane equivalent). To adopt them, choose the z-plane and the pole list, and paste them there.{delay}", plural(z.len(), "pole", "poles"))),
+                        Some(s) => (s.clone(), format!("{} (s-plane: s = ln z / T of the LQR's z-plane poles, which z = e^(sT) gives back to rounding). {adopt}{delay}", plural(s.len(), "pole", "poles")), "s"),
+                        None => (z.clone(), format!("{} (z-plane: a pole at z = 0 has no s-plane equivalent, so the pole plane becomes z). {adopt}{delay}", plural(z.len(), "pole", "poles")), "z"),
                     }
                 }
             }
         }
-        (None, None, None) => (Vec::new(), String::new()),
+        (None, None, None) => (Vec::new(), String::new(), "s"),
     };
     Some(PoleChoiceReport {
         method,
         description,
         suggested_poles: exact_pole_text(&poles),
         suggested_note,
+        suggested_plane: suggested_plane.to_string(),
+        suggested_delay_poles,
         region: choice.and_then(|c| c.region.as_ref()).map(|r| region_report(result, r, warnings)),
         lqr: lqr.map(|l| lqr_report(result, l, context)),
         search: search.map(|s| search_report(result, s, context)),

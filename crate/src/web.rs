@@ -2074,14 +2074,18 @@ pub fn undo_edit(redo: bool) -> Result<(), JsValue> {
 /// search off, and redesigns. The design is the same; the poles can now be edited.
 #[wasm_bindgen]
 pub fn adopt_poles() -> Result<(), JsValue> {
-    let text = with_page(|page| Ok(page.report.as_ref().and_then(|r| r.pole_choice.as_ref()).map(|c| c.suggested_poles.clone())))?;
+    let choice = with_page(|page| Ok(page.report.as_ref().and_then(|r| r.pole_choice.clone())))?;
     let doc = document()?;
-    let Some(text) = text.filter(|t| !t.trim().is_empty()) else {
+    let Some(c) = choice.filter(|c| !c.suggested_poles.trim().is_empty()) else {
         return set_text(&doc, "pw-adopt-status", "There are no suggested poles to use.");
     };
     set_control_value(&doc, "pole_source", "list")?;
     set_control_value(&doc, "search", "")?;
-    set_control_value(&doc, "poles", &text)?;
+    set_control_value(&doc, "plane", &c.suggested_plane)?;
+    if let Some(d) = &c.suggested_delay_poles {
+        set_control_value(&doc, "delay_poles", d)?;
+    }
+    set_control_value(&doc, "poles", &c.suggested_poles)?;
     update_page()?;
     set_text(&doc, "pw-adopt-status", "Copied into the pole list: edit them there or on the pole map.")
 }

@@ -316,6 +316,44 @@ fn suggested_poles_read_back_exactly_and_adopting_them_keeps_the_design() {
 }
 
 #[test]
+fn adopting_a_digital_lqr_design_with_a_computation_delay_keeps_it() {
+    // The LQR of the delay-augmented pair also places the delay state's pole (near z = 0).
+    // Adopting must put that pole among the delay poles, the others (as s = ln z / T) in the
+    // list and the plane the suggestion is in, and give the identical single-input design
+    // (single-input placement is unique, so the same poles mean the same gain; the reference
+    // is the design-file path with the LQR weights).
+    let mut f = textbook();
+    f.sample_time = "0.05".into();
+    f.computation_delay = "true".into();
+    f.pole_source = "lqr".into();
+    f.lqr_max_state = "1, 1, 1, 2".into();
+    f.lqr_max_input = "2".into();
+    let out = designed(&f);
+    let d = out.design.as_ref().unwrap();
+    let pc = out.report.as_ref().unwrap().pole_choice.clone().expect("pole choice");
+    let delay = pc.suggested_delay_poles.clone().expect("the delay pole is split off");
+    assert_eq!(parse_poles(&delay).unwrap().len(), 1);
+    assert_eq!(parse_poles(&pc.suggested_poles).unwrap().len(), 3);
+    let mut adopted = f.clone();
+    adopted.pole_source = "list".into();
+    adopted.plane = pc.suggested_plane.clone();
+    adopted.delay_poles = delay;
+    adopted.poles = pc.suggested_poles.clone();
+    let again = designed(&adopted);
+    let a = again.design.as_ref().unwrap();
+    // The same closed loop to rounding (the list goes through s = ln z / T and back).
+    let scale = d.feedback.gain[0].iter().fold(0.0f64, |m, x| m.max(x.abs()));
+    for (x, y) in a.feedback.gain[0].iter().zip(&d.feedback.gain[0]) {
+        assert!((x - y).abs() <= 1e-8 * scale, "{:?} vs {:?}", a.feedback.gain, d.feedback.gain);
+    }
+    // And the file path agrees with the form's LQR design.
+    let reference = file(&format!(
+        r#"{TEXTBOOK_FILE}, "implementation": {{"sample_time": 0.05, "computation_delay": true}}, "feedback": {{"lqr": {{"bryson": {{"max_state": [1, 1, 1, 2], "max_input": [2]}}}}}}"#
+    ));
+    same_design(d, &reference);
+}
+
+#[test]
 fn region_boundaries_satisfy_the_region_formulas() {
     let lm = 0.05f64.ln();
     let zeta = -lm / (std::f64::consts::PI.powi(2) + lm * lm).sqrt();
