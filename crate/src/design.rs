@@ -1176,6 +1176,9 @@ pub struct FeedbackResult {
     pub max_pole_error: f64,
     /// `κ₂(X)`; `null` in JSON when infinite.
     pub eigenvector_condition: f64,
+    /// `κ₂(D⁻¹ X)` in balanced coordinates (independent of the state units; what the
+    /// `fragile-design` warning judges); `null` when infinite.
+    pub balanced_eigenvector_condition: f64,
     pub eigenvector_determinant: f64,
     pub gain_norm: f64,
     pub iterations: usize,
@@ -1568,11 +1571,13 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
             ));
         }
     }
-    if !(placement.eigenvector_condition <= wp.fragile_condition) {
+    // Judged in balanced coordinates, so that the units of the states do not decide it.
+    if !(placement.balanced_eigenvector_condition <= wp.fragile_condition) {
         warnings.push(Warning::new(
             "fragile-design",
             format!(
-                "The closed-loop eigenvector condition number is {} (above {}): small errors in the plant model or the gain can move the poles far from where they were placed. Spread clustered poles apart or move them closer to the open-loop poles.",
+                "The closed-loop eigenvector condition number is {} in balanced coordinates ({} as the states are scaled; above {}): small errors in the plant model or the gain can move the poles far from where they were placed. Spread clustered poles apart or move them closer to the open-loop poles.",
+                fmt_num(placement.balanced_eigenvector_condition),
                 fmt_num(placement.eigenvector_condition),
                 fmt_num(wp.fragile_condition)
             ),
@@ -1992,6 +1997,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
             achieved_poles: placement.achieved_poles.iter().map(|z| pair(*z)).collect(),
             max_pole_error: placement.max_pole_error,
             eigenvector_condition: placement.eigenvector_condition,
+            balanced_eigenvector_condition: placement.balanced_eigenvector_condition,
             eigenvector_determinant: placement.abs_det_x,
             gain_norm: placement.gain_norm,
             iterations: placement.iterations,

@@ -2348,8 +2348,12 @@ fn structure_result_text(r: &StructureResult, kind: Kind, discrete: bool) -> Str
 
 fn robustness_text(result: &DesignResult) -> String {
     let f = &result.feedback;
-    let k = f.eigenvector_condition;
-    let cond = if k.is_finite() { fmt_num(k) } else { "infinite".into() };
+    // The verdict is judged in balanced coordinates (independent of the state units), as the
+    // fragile-design warning is; the condition as the states are scaled is shown beside it.
+    let k = f.balanced_eigenvector_condition;
+    let raw = f.eigenvector_condition;
+    let fmt_cond = |k: f64| if k.is_finite() { fmt_num(k) } else { "infinite".into() };
+    let cond = fmt_cond(k);
     let verdict = if !k.is_finite() {
         "the closed-loop eigenvectors are dependent: the placement is extremely sensitive to model errors"
     } else if k <= 100.0 {
@@ -2359,7 +2363,11 @@ fn robustness_text(result: &DesignResult) -> String {
     } else {
         "fragile: small model errors can move the poles far from where they were placed"
     };
-    format!("Eigenvector condition number κ₂(X) = {cond} (1 is ideal): {verdict}. Gain size ‖K‖₂ = {}.", fmt_num(f.gain_norm))
+    format!(
+        "Eigenvector condition number κ₂ = {cond} in balanced coordinates ({} as the states are scaled; 1 is ideal): {verdict}. Gain size ‖K‖₂ = {}.",
+        fmt_cond(raw),
+        fmt_num(f.gain_norm)
+    )
 }
 
 fn vector_text(v: &[f64]) -> String {

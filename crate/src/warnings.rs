@@ -4,7 +4,7 @@
 //! |---|---|
 //! | `requested-pole-unstable` | a requested pole has a positive real part |
 //! | `requested-pole-on-axis` | a requested pole lies on the imaginary axis (within the analysis tolerance) |
-//! | `fragile-design` | `κ₂(X)` above [`WarningParams::fragile_condition`] (default 1e4): small model errors move the poles far |
+//! | `fragile-design` | `κ₂(D⁻¹X)` in balanced coordinates (independent of the state units) above [`WarningParams::fragile_condition`] (default 1e4): small model errors move the poles far |
 //! | `fast-pole` | a requested pole more than [`WarningParams::fast_pole_ratio`] (default 20) times faster than the plant's own dynamics (`‖A‖₂`): expect large gains and noise amplification |
 //! | `input-over-limit` | the commanded input from the initial state exceeds its actuator limit |
 //! | `weakly-controllable` | an open-loop mode with a PBH margin below the weak threshold (default 1e-6) |

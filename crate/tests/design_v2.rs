@@ -278,3 +278,73 @@ fn delay_poles_at_the_origin_are_not_reported_as_misplaced() {
     // The slowest-to-fastest plant-pole bandwidth stays far below the 1 kHz sample rate.
     assert!(advice.bandwidth < 1000.0, "{}", advice.bandwidth);
 }
+
+#[test]
+fn fragile_design_is_judged_independently_of_the_state_units() {
+    // The same digital belt axis (illustrative) with a computation delay, in metres and newtons,
+    // then with the force in units 4096 times smaller (u' = 4096 u, B' = B / 4096: the delay
+    // state, the previous input, changes units with it) and with the carriage position in units
+    // 4096 times smaller (A' = S A S⁻¹, B' = S B, S = diag(4096, 1, 1, 1)). The closed loop is
+    // the same system in other coordinates, so a judgement of its fragility must agree; κ₂(X)
+    // itself changes with the units. Parlett–Reinsch balancing works in powers of two, so a
+    // power-of-two change of units is one it can undo (Parlett & Reinsch, Numer. Math. 13, 1969;
+    // from memory).
+    let a = [[0.0, 1.0, 0.0, 0.0], [-375.0, -2.291666666666667, 375.0, 0.625], [0.0, 0.0, 0.0, 1.0], [1500.0, 2.5, -1500.0, -2.5]];
+    let b = [0.0, 0.4166666666666667, 0.0, 0.0];
+    let run = |s0: f64, input_unit: f64| {
+        let s = [s0, 1.0, 1.0, 1.0];
+        let rows: Vec<String> = (0..4).map(|i| format!("[{}]", (0..4).map(|j| format!("{:?}", a[i][j] * s[i] / s[j])).collect::<Vec<_>>().join(", "))).collect();
+        let bcol: Vec<String> = (0..4).map(|i| format!("[{:?}]", b[i] * s[i] / input_unit)).collect();
+        design(&format!(
+            r#""plant": {{"a": [{}], "b": [{}]}}, "implementation": {{"sample_time": 0.001, "computation_delay": true}}, "feedback": {{"poles": ["-12±9j", "-20±30j"]}}"#,
+            rows.join(", "),
+            bcol.join(", ")
+        ))
+        .unwrap()
+    };
+    let base = run(1.0, 1.0);
+    let raw = base.feedback.eigenvector_condition;
+    let bal = base.feedback.balanced_eigenvector_condition;
+    // κ₂(X) against numpy.linalg.eig of the same closed loop [[Φ, Γ], [−K, −K_u]] with unit
+    // columns (numpy 2.4.6, computed once for this test): 24589.0955.
+    assert!((raw - 24589.0955).abs() < 1e-3, "{raw}");
+    for (label, r) in [("force in 1/4096 N", run(1.0, 4096.0)), ("position in 1/4096 m", run(4096.0, 1.0))] {
+        let (raw2, bal2) = (r.feedback.eigenvector_condition, r.feedback.balanced_eigenvector_condition);
+        println!("{label}: κ₂(X) {raw:.1} → {raw2:.1}; balanced {bal:.2} → {bal2:.2}");
+        assert!((bal / bal2).max(bal2 / bal) < 1.01, "{label}: the balanced condition does not depend on the units: {bal} vs {bal2}");
+        assert!(!r.warnings.iter().any(|w| w.code == "fragile-design"), "{label}: {:?}", r.warnings);
+    }
+    let force = run(1.0, 4096.0).feedback.eigenvector_condition;
+    assert!(force / raw > 10.0, "κ₂(X) does depend on them: {raw} vs {force}");
+    // Of the same order as LAPACK's balancing (scipy.linalg.matrix_balance, then numpy.linalg.eig:
+    // 180 for this loop, computed once); balancing is not unique and LAPACK's variant differs.
+    assert!(bal > 20.0 && bal < 1e3, "{bal}");
+    assert!(!base.warnings.iter().any(|w| w.code == "fragile-design"), "{:?}", base.warnings);
+}
+
+#[test]
+fn a_truly_fragile_design_is_still_flagged() {
+    // Eight integrators in a chain, one input at the end, poles clustered at −1.0 … −1.7: the
+    // closed loop is a companion matrix whose eigenvectors are the Vandermonde columns
+    // [1, λ, …, λ⁷]ᵀ (a textbook property of companion matrices, common practice), notoriously
+    // ill conditioned for close nodes (W. Gautschi, "How (un)stable are Vandermonde systems?",
+    // 1990; from memory). No change of units rescues it.
+    let n = 8;
+    let rows: Vec<String> = (0..n).map(|i| format!("[{}]", (0..n).map(|j| if j == i + 1 { "1" } else { "0" }).collect::<Vec<_>>().join(", "))).collect();
+    let b: Vec<String> = (0..n).map(|i| if i == n - 1 { "[1]".to_string() } else { "[0]".to_string() }).collect();
+    let poles: Vec<String> = (0..n).map(|k| format!("{}", -1.0 - 0.1 * k as f64)).collect();
+    let r = design(&format!(r#""plant": {{"a": [{}], "b": [{}]}}, "feedback": {{"poles": [{}]}}"#, rows.join(", "), b.join(", "), poles.join(", "))).unwrap();
+    // κ₂ of the unit-column Vandermonde matrix of the poles, from its closed form.
+    let lambda: Vec<f64> = (0..n).map(|k| -1.0 - 0.1 * k as f64).collect();
+    let mut v = nalgebra::DMatrix::from_fn(n, n, |i, j| lambda[j].powi(i as i32));
+    for mut col in v.column_iter_mut() {
+        let norm = col.norm();
+        col /= norm;
+    }
+    let s = v.singular_values();
+    let kappa = s.max() / s.min();
+    let raw = r.feedback.eigenvector_condition;
+    assert!((raw - kappa).abs() < 1e-4 * kappa, "{raw} vs the Vandermonde closed form {kappa}");
+    assert!(r.feedback.balanced_eigenvector_condition > 1e4, "{}", r.feedback.balanced_eigenvector_condition);
+    assert!(r.warnings.iter().any(|w| w.code == "fragile-design"), "{:?}", r.warnings);
+}

@@ -135,6 +135,23 @@ pub fn sort_eigenvalues(values: &mut [Complex64]) {
 
 /// Parlett–Reinsch balancing with radix 2, in place.
 fn balance(a: &mut DMatrix<f64>, max_sweeps: usize) {
+    balance_tracking(a, max_sweeps, None);
+}
+
+/// The diagonal of the Parlett–Reinsch balancing similarity (radix 2, powers of two only, so
+/// exact): `d` such that `D⁻¹ A D`, `D = diag(d)`, has each off-diagonal row and column sum of
+/// comparable size (B. N. Parlett & C. Reinsch, "Balancing a matrix for calculation of
+/// eigenvalues and eigenvectors", Numer. Math. 13, 1969; from memory). At most `max_sweeps`
+/// sweeps of `O(n²)`; a zero row or column is left unscaled. Used to judge eigenvector
+/// conditioning independently of the units the states are measured in.
+pub fn balancing_scale(a: &DMatrix<f64>, max_sweeps: usize) -> nalgebra::DVector<f64> {
+    let mut m = a.clone();
+    let mut d = nalgebra::DVector::from_element(a.nrows(), 1.0);
+    balance_tracking(&mut m, max_sweeps, Some(&mut d));
+    d
+}
+
+fn balance_tracking(a: &mut DMatrix<f64>, max_sweeps: usize, mut scale: Option<&mut nalgebra::DVector<f64>>) {
     const RADIX: f64 = 2.0;
     let n = a.nrows();
     for _ in 0..max_sweeps {
@@ -175,6 +192,9 @@ fn balance(a: &mut DMatrix<f64>, max_sweeps: usize) {
                 }
                 for j in 0..n {
                     a[(j, i)] *= f;
+                }
+                if let Some(d) = scale.as_deref_mut() {
+                    d[i] *= f;
                 }
             }
         }
@@ -483,5 +503,25 @@ mod tests {
             assert!((det.re - lu_det).abs() < 1e-9 * lu_det.abs().max(1.0), "n={n} {det} {lu_det}");
             assert!(det.im.abs() < 1e-9 * lu_det.abs().max(1.0));
         }
+    }
+
+    #[test]
+    fn balancing_scale_equalises_a_badly_scaled_matrix() {
+        // A = S B S⁻¹ with B well scaled and S = diag(1, 1e4, 1e-3): balancing must undo most of
+        // S. Check: D⁻¹ A D has row and column off-diagonal sums within a factor 2 (radix 2,
+        // the Parlett–Reinsch stopping rule) of each other, and is far better scaled than A.
+        let b = DMatrix::from_row_slice(3, 3, &[1.0, 2.0, -1.0, 0.5, -3.0, 1.5, 2.0, 1.0, -2.0]);
+        let s = [1.0, 1e4, 1e-3];
+        let a = DMatrix::from_fn(3, 3, |i, j| b[(i, j)] * s[i] / s[j]);
+        let d = balancing_scale(&a, 100);
+        let bal = DMatrix::from_fn(3, 3, |i, j| a[(i, j)] * d[j] / d[i]);
+        for i in 0..3 {
+            let r: f64 = (0..3).filter(|&j| j != i).map(|j| bal[(i, j)].abs()).sum();
+            let c: f64 = (0..3).filter(|&j| j != i).map(|j| bal[(j, i)].abs()).sum();
+            assert!(r / c < 4.0 && c / r < 4.0, "row {r} col {c}");
+        }
+        let spread = |m: &DMatrix<f64>| m.iter().filter(|x| **x != 0.0).map(|x| x.abs()).fold(0.0f64, f64::max) / m.iter().filter(|x| **x != 0.0).map(|x| x.abs()).fold(f64::INFINITY, f64::min);
+        assert!(spread(&bal) < 100.0 && spread(&a) > 1e6, "{} {}", spread(&bal), spread(&a));
+        assert!(d.iter().all(|x| x.log2().fract() == 0.0), "powers of two: {d:?}");
     }
 }
