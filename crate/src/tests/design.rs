@@ -1,0 +1,65 @@
+//! Unit tests of [`crate::design`]: a child module of it (`use super::*` sees its private
+//! items), kept in its own file so that test-only code (with its `unwrap`s and `expect`s)
+//! stands apart from the code that runs.
+
+use super::*;
+
+const TEXTBOOK: &str = r#"{"format": "polewright.design", "version": 1,
+        "plant": {"a": [[0,1,0],[0,0,1],[-1,-5,-6]], "b": [0,0,1]},
+        "feedback": {"poles": ["-2±4j", -10]}}"#;
+
+#[test]
+fn textbook_design_file_runs() {
+    // Ogata, Modern Control Engineering, pole-placement example (from memory): K = [199, 55, 8].
+    let r = run_text(TEXTBOOK).unwrap();
+    let k = &r.feedback.gain[0];
+    for (got, want) in k.iter().zip([199.0, 55.0, 8.0]) {
+        assert!((got - want).abs() < 1e-9 * want);
+    }
+    assert_eq!(r.convention, "u = -K x");
+    assert!(r.controllability.complete && r.controllability.stabilizable);
+    assert!(r.simulation.settling_time.iter().all(|s| s.is_some()));
+    let json = serde_json::to_string(&r).unwrap();
+    assert!(json.contains("\"format\":\"polewright.result\""));
+}
+
+#[test]
+fn input_errors_name_the_field() {
+    let bad = TEXTBOOK.replace("[[0,1,0],[0,0,1],[-1,-5,-6]]", "[[0,1,0],[0,0],[-1,-5,-6]]");
+    let e = parse_design(&bad).unwrap_err();
+    assert_eq!(e.field, "plant.a");
+    assert!(e.message.contains("row 2"), "{e}");
+    let bad = TEXTBOOK.replace("\"feedback\"", "\"feedbak\"");
+    assert_eq!(parse_design(&bad).unwrap_err().field, "feedbak");
+    let bad = TEXTBOOK.replace("\"-2±4j\"", "\"-2+4j\"");
+    let e = parse_design(&bad).unwrap_err();
+    assert_eq!(e.field, "feedback.poles");
+    assert!(e.message.contains("-2-4j"), "{e}");
+    let bad = TEXTBOOK.replace("\"b\": [0,0,1]", "\"b\": [0,0,1,2]");
+    assert_eq!(parse_design(&bad).unwrap_err().field, "plant.b");
+    let e = parse_design("{").unwrap_err();
+    assert_eq!(e.field, "(file)");
+}
+
+#[test]
+fn unstable_uncontrollable_is_infeasible() {
+    let text = r#"{"format": "polewright.design", "version": 1,
+            "plant": {"a": [[1,0],[0,-1]], "b": [[0],[1]]}, "feedback": {"poles": [-1, -2]}}"#;
+    match run_text(text) {
+        Err(DesignError::Infeasible { message }) => assert!(message.contains("mode at 1"), "{message}"),
+        other => panic!("{other:?}"),
+    }
+}
+
+#[test]
+fn limits_produce_saturation_warning() {
+    let text = r#"{"format": "polewright.design", "version": 1,
+            "plant": {"a": "0 1\n0 0", "b": "0\n1", "input_names": ["force"]},
+            "feedback": {"poles": "-5, -6"}, "actuators": {"limit": [1]},
+            "simulation": {"initial_state": [1, 0]}}"#;
+    let r = run_text(text).unwrap();
+    assert!(r.warnings.iter().any(|w| w.code == "input-over-limit"), "{:?}", r.warnings);
+    assert!(r.simulation.peak_input[0] > 1.0);
+    assert!(r.simulation.inputs[0].iter().all(|u| u.abs() <= 1.0 + 1e-12));
+    assert!(r.simulation.first_saturation[0] == Some(0.0));
+}

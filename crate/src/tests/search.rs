@@ -1,0 +1,33 @@
+//! Unit tests of [`crate::search`]: a child module of it (`use super::*` sees its private
+//! items), kept in its own file so that test-only code (with its `unwrap`s and `expect`s)
+//! stands apart from the code that runs.
+
+use super::*;
+
+#[test]
+fn double_integrator_from_an_offset() {
+    // x'' = u from x = (1, 0) with poles α(−1 ± j): K = [2α², 2α]; the peak |u| is at t = 0,
+    // |u(0)| = 2α² (the velocity starts at zero and the command only falls afterwards for this
+    // damping) — checkable by hand: the limit 8 gives α = 2.
+    let a = DMatrix::from_row_slice(2, 2, &[0.0, 1.0, 0.0, 0.0]);
+    let b = DMatrix::from_row_slice(2, 1, &[0.0, 1.0]);
+    let pattern = [Complex64::new(-1.0, 1.0), Complex64::new(-1.0, -1.0)];
+    let r = fastest_within_limits(&a, &b, None, &pattern, &[8.0], &[Situation::InitialState(vec![1.0, 0.0])], SearchParams::default()).unwrap();
+    assert!((r.speed_factor - 2.0).abs() < 2e-3 * 2.0, "{}", r.speed_factor);
+    assert!(r.monotonic);
+    assert_eq!((r.limiting_situation, r.limiting_input), (0, 0));
+    assert!(r.peak_ratio <= 1.0);
+}
+
+#[test]
+fn too_tight_limits_and_bad_sizes() {
+    let a = DMatrix::from_row_slice(2, 2, &[0.0, 1.0, 0.0, 0.0]);
+    let b = DMatrix::from_row_slice(2, 1, &[0.0, 1.0]);
+    let pattern = [Complex64::new(-1.0, 1.0), Complex64::new(-1.0, -1.0)];
+    let e = fastest_within_limits(&a, &b, None, &pattern, &[1e-9], &[Situation::InitialState(vec![1.0, 0.0])], SearchParams::default()).unwrap_err();
+    assert!(matches!(e, SearchError::LimitsExceededAtSlowest { .. }));
+    let e = fastest_within_limits(&a, &b, None, &pattern, &[1.0], &[Situation::InitialState(vec![1.0])], SearchParams::default()).unwrap_err();
+    assert!(matches!(e, SearchError::Size { .. }));
+    let e = fastest_within_limits(&a, &b, None, &pattern, &[1.0], &[Situation::ReferenceStep(vec![1.0])], SearchParams::default()).unwrap_err();
+    assert_eq!(e, SearchError::NeedsOutputs);
+}
