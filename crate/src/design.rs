@@ -156,6 +156,11 @@ pub enum TrackingSpec {
 /// The loop scenario of the full-controller simulation.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct ScenarioSpec {
+    /// Most samples a digital simulation (free response or loop) may take; more is refused as
+    /// an input error of `simulation.duration` (when given) or `implementation.sample_time`
+    /// before anything is simulated. `None`: only the loop simulator's own limit. The page sets
+    /// it; design files do not.
+    pub max_samples: Option<f64>,
     pub reference: Vec<f64>,
     pub reference_time: f64,
     pub disturbance: Vec<f64>,
@@ -1651,6 +1656,23 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
     }
     let slowest = all_s.iter().map(|z| -z.re).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
     let auto_horizon = if slowest.is_finite() { 7.0 / slowest } else { 10.0 } * if limits.iter().any(|l| l.is_some()) { 2.0 } else { 1.0 };
+    // A digital simulation longer than the caller allows is refused before it is run.
+    let check_samples = |duration: f64| -> Result<(), DesignError> {
+        match (t, spec.scenario.max_samples) {
+            (Some(ts), Some(cap)) if !(duration / ts <= cap) => Err(DesignError::Input(InputError::new(
+                if req.duration.is_some() { "simulation.duration" } else { "implementation.sample_time" },
+                format!(
+                    "the simulation would run {} s{} at a sample time of {} s, that is {:.0} samples, but at most {} are simulated here: sample less often, give a shorter simulated time, or make the poles faster",
+                    fmt_num(duration),
+                    if req.duration.is_some() { "" } else { " (chosen from the slowest pole)" },
+                    fmt_num(ts),
+                    (duration / ts).ceil(),
+                    cap
+                ),
+            ))),
+            _ => Ok(()),
+        }
+    };
     let resp = match t {
         None => {
             let sim = SimulationSpec { initial_state: DVector::from_vec(x0.clone()), duration: req.duration, limits: req.limits.clone() };
@@ -1669,6 +1691,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
                 sample_time: t,
             };
             let duration = req.duration.unwrap_or(auto_horizon);
+            check_samples(duration)?;
             let sc = crate::loop_sim::LoopScenario {
                 x0: DVector::from_vec(x0.clone()),
                 xhat0: None,
@@ -1826,6 +1849,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         let x0_loop = if tracking_on && req.initial_state.is_none() { vec![0.0; n] } else { x0.clone() };
         let events = spec.scenario.reference_time.max(if spec.scenario.disturbance.is_empty() { 0.0 } else { spec.scenario.disturbance_time });
         let duration = req.duration.unwrap_or(events + auto_horizon * if spec.scenario.disturbance.is_empty() { 1.0 } else { 2.0 });
+        check_samples(duration)?;
         let noise = if spec.scenario.noise_std.iter().any(|s| *s > 0.0) {
             crate::loop_sim::Noise::Gaussian { std: spec.scenario.noise_std.clone(), seed: spec.scenario.seed }
         } else {

@@ -1249,6 +1249,11 @@ fn read_controller(form: &FormInput, plant: Option<&Plant>, c: &mut Collector, s
             Err(_) => c.push("seed", format!("\"{}\" is not a whole number from 0 up; the seed picks the noise sequence (the same seed gives the same noise)", form.seed.trim())),
         }
     }
+    // The page's cap on a digital simulation, also enforced by the engine (for LQR, whose
+    // poles and so whose simulated time are known only there).
+    if spec.implementation.is_some() {
+        sc.max_samples = Some(MAX_LOOP_SAMPLES);
+    }
     spec.scenario = sc;
     spec
 }
@@ -1624,17 +1629,6 @@ fn read_pole_source(form: &FormInput, plant: Option<&Plant>, spec: &mut Controll
     ok.then_some(setup)
 }
 
-/// The s-plane closed-loop poles of a digital LQR design with a chosen simulation length, for
-/// [`check_loop_length`]: the same design run over a few samples, without observer or steps.
-fn lqr_poles_for_length(req: &DesignRequest, spec: &ControllerSpec, sample_time: f64) -> Option<Vec<Complex64>> {
-    let mut quick_req = req.clone();
-    quick_req.duration = Some(4.0 * sample_time);
-    let quick_spec = ControllerSpec { observer: None, scenario: ScenarioSpec::default(), search: None, ..spec.clone() };
-    let result = design::run_with(&quick_req, &quick_spec).ok()?;
-    let poles = result.lqr.as_ref()?.closed_loop_poles.iter().filter_map(|p| z_to_s(c64(p), sample_time)).collect();
-    Some(poles)
-}
-
 /// Most samples a digital simulation may take (the engine allocates every sample of every
 /// signal: 50 000 samples of a 10-state loop are about 10 MB and a tenth of a second).
 pub const MAX_LOOP_SAMPLES: f64 = 50_000.0;
@@ -1643,8 +1637,9 @@ pub const MAX_LOOP_SAMPLES: f64 = 50_000.0;
 /// after the end of the simulated time; the error goes to the field that sets the length. The
 /// horizon is the engine's rule (7 / slowest decay rate of the controller and observer poles,
 /// doubled with limits; the loop adds the step times and doubles again with a load step).
-/// `lqr_poles`: the s-plane poles of an LQR design (its poles are not in the request).
-fn check_loop_length(req: &DesignRequest, spec: &ControllerSpec, lqr_poles: Option<&[Complex64]>, c: &mut Collector) {
+/// An LQR design's poles are known only once its Riccati equation is solved: with a chosen
+/// length the engine applies the same cap ([`ScenarioSpec::max_samples`]) before simulating.
+fn check_loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Collector) {
     let sc = &spec.scenario;
     let events = sc.reference_time.max(if sc.disturbance.is_empty() { 0.0 } else { sc.disturbance_time });
     if let Some(d) = req.duration {
@@ -1663,10 +1658,10 @@ fn check_loop_length(req: &DesignRequest, spec: &ControllerSpec, lqr_poles: Opti
             Plane::S => p.to_vec(),
         }
     };
-    let controller = match lqr_poles {
-        Some(p) => p.to_vec(),
-        None => to_s(&req.poles),
-    };
+    if spec.lqr.is_some() && req.duration.is_none() {
+        return;
+    }
+    let controller = to_s(&req.poles);
     let decay = |p: &[Complex64]| p.iter().map(|z| -z.re).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
     let mut slowest = decay(&controller);
     match spec.observer.as_ref().map(|o| &o.poles) {
@@ -1938,11 +1933,7 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
         _ => None,
     };
     if let Some(req) = &ready {
-        let lqr_poles = match (&spec.lqr, spec.sample_time(), req.duration) {
-            (Some(_), Some(t), None) => lqr_poles_for_length(req, &spec, t),
-            _ => None,
-        };
-        check_loop_length(req, &spec, lqr_poles.as_deref(), &mut c);
+        check_loop_length(req, &spec, &mut c);
     }
     let ready = ready.filter(|_| c.errors.is_empty());
     if let Some(req) = ready {

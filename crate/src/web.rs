@@ -381,13 +381,34 @@ struct DragView {
     samples: Vec<f64>,
 }
 
-/// A design kept for comparison.
+/// A design kept for comparison: what the comparison table and the overlays need, computed
+/// once when it is pinned (the overlays are drawn on every cycle, a drag's included).
 struct Pinned {
-    design: DesignResult,
-    report: Report,
+    /// `"continuous"` or `"discrete"`: overlays are drawn only on a design of the same domain.
+    domain: &'static str,
+    /// Its achieved closed-loop poles (the plum + on the map).
+    poles: Vec<[f64; 2]>,
+    /// Its state signals, as computed (`[0]`) and each divided by its peak (`[1]`).
+    states: [Vec<crate::plot::PinnedSeries>; 2],
+    inputs: Vec<crate::plot::PinnedSeries>,
+    loop_outputs: Vec<crate::plot::PinnedSeries>,
     summary: editing::DesignSummary,
     /// The poles field when it was pinned (or the pole choice).
     label: String,
+}
+
+impl Pinned {
+    fn new(design: &DesignResult, report: &Report, label: String) -> Pinned {
+        Pinned {
+            domain: design.domain,
+            poles: design.feedback.achieved_poles.clone(),
+            states: [as_pinned(&form::states_scene(design, false)), as_pinned(&form::states_scene(design, true))],
+            inputs: as_pinned(&form::inputs_scene(design)),
+            loop_outputs: form::loop_outputs_scene(design, report).map(|s| as_pinned(&s)).unwrap_or_default(),
+            summary: editing::DesignSummary::from_result(design),
+            label,
+        }
+    }
 }
 
 thread_local! {
@@ -1305,21 +1326,22 @@ fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
         map.set_attribute("data-pinned-poles", &pinned_count)?;
     }
     page.paint(ids::POLE_MAP, Picture::Poles(page.pole_scene.clone()))?;
-    let pinned = page.pinned.as_ref().filter(|p| p.design.domain == page.design.as_ref().map_or("", |d| d.domain));
-    let overlay = |mut scene: TimePlotScene, pin: Option<TimePlotScene>| {
+    let pinned = page.pinned.as_ref().filter(|p| Some(p.domain) == page.design.as_ref().map(|d| d.domain));
+    let overlay = |mut scene: TimePlotScene, pin: Option<&Vec<crate::plot::PinnedSeries>>| {
         if let Some(p) = pin {
-            scene.pinned = as_pinned(&p);
+            scene.pinned = p.clone();
         }
         scene
     };
+    let normalised = usize::from(page.normalised);
     let (states, inputs, loop_pictures) = match (&page.shown, &page.design, &page.report) {
         (Shown::Design, Some(d), Some(r)) => (
-            Picture::Time(overlay(form::states_scene(d, page.normalised), pinned.map(|p| form::states_scene(&p.design, page.normalised)))),
-            Picture::Time(overlay(form::inputs_scene(d), pinned.map(|p| form::inputs_scene(&p.design)))),
+            Picture::Time(overlay(form::states_scene(d, page.normalised), pinned.and_then(|p| p.states.get(normalised)))),
+            Picture::Time(overlay(form::inputs_scene(d), pinned.map(|p| &p.inputs))),
             d.closed_loop.as_ref().map(|_| {
                 (
                     time_or_message(
-                        form::loop_outputs_scene(d, r).map(|s| overlay(s, pinned.and_then(|p| form::loop_outputs_scene(&p.design, &p.report)))),
+                        form::loop_outputs_scene(d, r).map(|s| overlay(s, pinned.map(|p| &p.loop_outputs))),
                         "No outputs to show: enter the output matrix C in Measurement.",
                     ),
                     time_or_message(form::loop_inputs_scene(d, r), "No inputs to show."),
@@ -1691,7 +1713,7 @@ pub fn hover_pole(x: f64, y: f64) -> Result<(), JsValue> {
 /// The poles field is the list edited from the map: when the poles are listed (not chosen
 /// by a pattern, a specification or LQR) and not rescaled by the fastest-design search.
 fn list_is_editable(input: &FormInput) -> bool {
-    matches!(input.choice("pole_source").as_str(), "" | "list") && input.choice("search") != "true"
+    input.choice("pole_source") == "list" && input.choice("search") != "true"
 }
 
 /// A digital design given by s-plane poles is shown on the z-plane map.
@@ -1734,7 +1756,7 @@ fn edit_layers(page: &mut PageState, input: &FormInput) {
     }
     let discrete = page.pole_scene.discrete;
     page.pole_scene.pinned = match &page.pinned {
-        Some(p) if (p.design.domain == "discrete") == discrete => p.design.feedback.achieved_poles.clone(),
+        Some(p) if (p.domain == "discrete") == discrete => p.poles.clone(),
         _ => Vec::new(),
     };
     page.pole_scene.view = page.drag.as_ref().map(|d| d.frame.view());
@@ -2098,7 +2120,7 @@ pub fn pin_design() -> Result<(), JsValue> {
             return show_edit_message(page, Some("There is no design to pin yet.".into()));
         };
         let label = if page.last_input_editable() { page.last_input.poles.trim().replace('\n', " ") } else { format_pairs(&design.feedback.requested_poles) };
-        page.pinned = Some(Pinned { design: design.clone(), report: report.clone(), summary: editing::DesignSummary::from_result(design), label });
+        page.pinned = Some(Pinned::new(design, report, label));
         page.rendered.retain(|(k, _)| *k != ids::COMPARE);
         let doc = document()?;
         render_compare(&doc, page)?;
@@ -2711,30 +2733,21 @@ fn paint_message(s: &Surface, text: &str) -> Result<(), JsValue> {
 
 /// The path of series `i` in pixels: finite runs, each simplified to what the pixels show.
 fn series_path(scene: &TimePlotScene, f: &Frame, i: usize) -> String {
-    let mut d = String::new();
-    let Some(ser) = scene.series.get(i) else { return d };
-    let mut run: Option<Simplifier> = None;
-    let flush = |run: &mut Option<Simplifier>, d: &mut String| {
-        if let Some(s) = run.take() {
-            for (k, q) in s.finish().iter().enumerate() {
-                push_point(d, if k == 0 { 'M' } else { 'L' }, *q);
-            }
-        }
-    };
-    for (&t, &y) in scene.t.iter().zip(&ser.values) {
-        if t.is_finite() && y.is_finite() {
-            let q = f.to_pixel([t, y]);
-            run.get_or_insert_with(|| Simplifier::new(SIMPLIFY_TOLERANCE_PX)).push([q[0].clamp(-1e6, 1e6), q[1].clamp(-1e6, 1e6)]);
-        } else {
-            flush(&mut run, &mut d);
-        }
+    match scene.series.get(i) {
+        Some(ser) => polyline_path(scene.t.iter().copied().zip(ser.values.iter().copied()), f),
+        None => String::new(),
     }
-    flush(&mut run, &mut d);
-    d
 }
 
-/// The path of a pinned signal in pixels (its own time grid).
+/// The path of a pinned signal in pixels (its own time grid, cut to the plot's time range).
 fn pinned_path(ser: &crate::plot::PinnedSeries, f: &Frame) -> String {
+    let shown = ser.t.iter().copied().zip(ser.values.iter().copied()).map(|(t, y)| if f.x.range.contains(t) { (t, y) } else { (t, f64::NAN) });
+    polyline_path(shown, f)
+}
+
+/// `(t, y)` samples as an SVG-style path in pixels: a non-finite sample breaks the line, and
+/// each finite run is simplified to what its pixels show ([`Simplifier`]).
+fn polyline_path(samples: impl Iterator<Item = (f64, f64)>, f: &Frame) -> String {
     let mut d = String::new();
     let mut run: Option<Simplifier> = None;
     let flush = |run: &mut Option<Simplifier>, d: &mut String| {
@@ -2744,8 +2757,8 @@ fn pinned_path(ser: &crate::plot::PinnedSeries, f: &Frame) -> String {
             }
         }
     };
-    for (&t, &y) in ser.t.iter().zip(&ser.values) {
-        if t.is_finite() && y.is_finite() && f.x.range.contains(t) {
+    for (t, y) in samples {
+        if t.is_finite() && y.is_finite() {
             let q = f.to_pixel([t, y]);
             run.get_or_insert_with(|| Simplifier::new(SIMPLIFY_TOLERANCE_PX)).push([q[0].clamp(-1e6, 1e6), q[1].clamp(-1e6, 1e6)]);
         } else {
