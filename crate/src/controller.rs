@@ -146,12 +146,13 @@ pub fn discretise(a: &DMatrix<f64>, b: &DMatrix<f64>, t: f64) -> Result<Discrete
 
 /// Maps continuous poles to the z-plane: `z = e^{sT}`.
 pub fn map_to_discrete(poles: &[Complex64], t: f64) -> Vec<Complex64> {
-    poles.iter().map(|s| (s * t).exp()).map(|z| if z.im.abs() <= 1e-15 * z.norm() { Complex64::new(z.re, 0.0) } else { z }).collect()
+    crate::plane::z_from_s_all(poles, t)
 }
 
-/// The equivalent continuous pole of a z-plane pole: `s = ln(z) / T` (principal branch).
+/// The equivalent continuous pole of a z-plane pole: `s = ln(z) / T` (principal branch;
+/// `z = 0` gives `Re s = −∞`: [`crate::plane`]).
 pub fn map_to_continuous(z: Complex64, t: f64) -> Complex64 {
-    z.ln() / t
+    crate::plane::s_from_z_or_infinite(z, t)
 }
 
 /// Observer gain and what it achieves.

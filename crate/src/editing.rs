@@ -1018,7 +1018,7 @@ impl PlaneMap {
     pub fn to_map(&self, pole: Complex64) -> Complex64 {
         match *self {
             PlaneMap::Same => pole,
-            PlaneMap::SampledFromS { sample_time } => (pole * sample_time).exp(),
+            PlaneMap::SampledFromS { sample_time } => crate::plane::z_from_s(pole, sample_time),
         }
     }
 
@@ -1040,7 +1040,7 @@ impl PlaneMap {
                     }
                     Complex64::new(at.re.ln() / sample_time, 0.0)
                 } else {
-                    at.ln() / sample_time
+                    crate::plane::s_from_z(at, sample_time).ok_or(EditError::NotFinite)?
                 }
             }
         };

@@ -17,6 +17,7 @@ pub mod metrics;
 pub mod parse;
 pub mod patterns;
 pub mod place;
+pub mod plane;
 pub mod plant;
 pub mod plot;
 pub mod poles;

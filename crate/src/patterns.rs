@@ -548,10 +548,7 @@ pub fn discrete_poles(poles: &[Complex64], sample_time: f64) -> Result<Vec<Compl
 /// The continuous pole `s = ln z / T` (principal logarithm, `|Im s| ≤ π/T`) of a
 /// discrete pole; `z = 0` gives `Re s = −∞`.
 pub fn continuous_equivalent(z: Complex64, sample_time: f64) -> Complex64 {
-    if z == Complex64::new(0.0, 0.0) {
-        return Complex64::new(f64::NEG_INFINITY, 0.0);
-    }
-    z.ln() / sample_time
+    crate::plane::s_from_z_or_infinite(z, sample_time)
 }
 
 /// Every constraint of `region` broken by each discrete pole `z` (sample time `T`):
@@ -756,6 +753,18 @@ pub enum Normalisation {
     UnitSettlingTime { band: f64 },
     /// Constant coefficient 1, `ω₀ = 1` (ITAE, binomial; Bessel on request).
     UnitNaturalFrequency,
+}
+
+impl Normalisation {
+    /// The normalisation in words (for reports).
+    pub fn words(&self) -> String {
+        match self {
+            Normalisation::UnitDcGroupDelay => "normalised to a group delay of 1 s at DC".into(),
+            Normalisation::HalfPowerAtUnitFrequency => "normalised to half power at 1 rad/s".into(),
+            Normalisation::UnitSettlingTime { band } => format!("normalised to settle into ±{} % at 1 s", crate::design::fmt_num(band * 100.0)),
+            Normalisation::UnitNaturalFrequency => "normalised to a natural frequency of 1 rad/s".into(),
+        }
+    }
 }
 
 /// A normalised prototype pattern.

@@ -60,41 +60,36 @@ pub enum PlantError {
     Count { field: Field, expected: usize, found: usize },
 }
 
+impl PlantError {
+    /// The field the error belongs to.
+    pub fn field(&self) -> Field {
+        match self {
+            PlantError::Empty { field } | PlantError::Rows { field, .. } | PlantError::Columns { field, .. } | PlantError::NotFinite { field, .. } | PlantError::Count { field, .. } => *field,
+            PlantError::NotSquare { .. } => Field::A,
+            PlantError::ZeroInput => Field::B,
+            PlantError::FeedthroughWithoutOutput => Field::D,
+        }
+    }
+
+    /// The message without the field's name.
+    pub fn message(&self) -> String {
+        let s = |n: usize| if n == 1 { "" } else { "s" };
+        match self {
+            PlantError::Empty { .. } => "the matrix is empty; enter at least one number".into(),
+            PlantError::NotSquare { rows, columns } => format!("A must be square (states × states) but it is {rows}×{columns}; give as many columns as rows"),
+            PlantError::Rows { expected, found, reason, .. } => format!("has {found} row{} but needs {expected} ({reason})", s(*found)),
+            PlantError::Columns { expected, found, reason, .. } => format!("has {found} column{} but needs {expected} ({reason})", s(*found)),
+            PlantError::NotFinite { row, column, .. } => format!("entry at row {}, column {} is not a finite number", row + 1, column + 1),
+            PlantError::ZeroInput => "B is all zero, so no input acts on the plant; enter the input matrix".into(),
+            PlantError::FeedthroughWithoutOutput => "D was given without C; give C (outputs × states) or leave D out".into(),
+            PlantError::Count { expected, found, .. } => format!("{found} given but the plant has {expected}; give one per entry or leave the list empty"),
+        }
+    }
+}
+
 impl std::fmt::Display for PlantError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            PlantError::Empty { field } => write!(f, "{}: the matrix is empty; enter at least one number", field.key()),
-            PlantError::NotSquare { rows, columns } => write!(
-                f,
-                "a: A must be square (states × states) but it is {rows}×{columns}; give as many columns as rows"
-            ),
-            PlantError::Rows { field, expected, found, reason } => write!(
-                f,
-                "{}: has {found} row{} but needs {expected} ({reason})",
-                field.key(),
-                if *found == 1 { "" } else { "s" }
-            ),
-            PlantError::Columns { field, expected, found, reason } => write!(
-                f,
-                "{}: has {found} column{} but needs {expected} ({reason})",
-                field.key(),
-                if *found == 1 { "" } else { "s" }
-            ),
-            PlantError::NotFinite { field, row, column } => write!(
-                f,
-                "{}: entry at row {}, column {} is not a finite number",
-                field.key(),
-                row + 1,
-                column + 1
-            ),
-            PlantError::ZeroInput => write!(f, "b: B is all zero, so no input acts on the plant; enter the input matrix"),
-            PlantError::FeedthroughWithoutOutput => write!(f, "d: D was given without C; give C (outputs × states) or leave D out"),
-            PlantError::Count { field, expected, found } => write!(
-                f,
-                "{}: {found} given but the plant has {expected}; give one per entry or leave the list empty",
-                field.key()
-            ),
-        }
+        write!(f, "{}: {}", self.field().key(), self.message())
     }
 }
 

@@ -29,6 +29,7 @@
 //! overflows is an error.
 
 use nalgebra::{DMatrix, DVector};
+use num_complex::Complex64;
 
 use crate::linalg::eigen::{try_eigenvalues, EigenError};
 use crate::linalg::expm::{try_expm, try_zero_order_hold, ExpmError};
@@ -146,20 +147,10 @@ pub fn closed_loop_response(
     let closed = a - b * k;
     let poles = try_eigenvalues(&closed).map_err(SimulationError::Eigen)?;
     let speed = poles.iter().map(|z| z.norm()).fold(0.0, f64::max);
-    let slowest_decay = poles.iter().map(|z| -z.re).fold(f64::INFINITY, f64::min);
     let any_limit = limits.iter().any(|l| l.is_some());
     let (duration, chosen) = match spec.duration {
         Some(d) => (d, false),
-        None => {
-            let base = if slowest_decay > 0.0 && slowest_decay.is_finite() {
-                7.0 / slowest_decay
-            } else if speed > 0.0 {
-                5.0 / speed
-            } else {
-                10.0
-            };
-            (if any_limit { 2.0 * base } else { base }, true)
-        }
+        None => (default_horizon(&poles, any_limit), true),
     };
     let wanted = if speed > 0.0 { (duration * speed / params.max_step_times_speed).ceil() } else { params.min_steps as f64 };
     let steps = (wanted.max(params.min_steps as f64).min(params.max_steps as f64)) as usize;
@@ -212,3 +203,24 @@ pub fn closed_loop_response(
 #[cfg(test)]
 #[path = "tests/simulate.rs"]
 mod tests;
+
+/// The simulated time when none is given (the one rule for every simulation and for the checks
+/// that size them): `7 / σ` for the slowest decay rate `σ` of the (s-plane) poles, about seven
+/// time constants, enough to settle into ±0.1 % (common practice); `5 / max|λ|` when no pole
+/// decays, 10 s when all are at the origin; doubled when an actuator limit may slow the response.
+pub fn default_horizon(poles: &[Complex64], limited: bool) -> f64 {
+    let slowest_decay = poles.iter().map(|z| -z.re).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
+    let speed = poles.iter().map(|z| z.norm()).filter(|v| v.is_finite()).fold(0.0, f64::max);
+    let base = if slowest_decay.is_finite() {
+        7.0 / slowest_decay
+    } else if speed > 0.0 {
+        5.0 / speed
+    } else {
+        10.0
+    };
+    if limited {
+        2.0 * base
+    } else {
+        base
+    }
+}

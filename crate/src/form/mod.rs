@@ -78,18 +78,15 @@
 //! Every number shown with full precision uses the shortest text that reads back to the
 //! same `f64` ([`format_complex`]); other figures use [`fmt_num`] (4 decimals).
 
-use nalgebra::DMatrix;
 use num_complex::Complex64;
 use serde::{Deserialize, Serialize};
 
 use crate::analysis::{controllability_report, AnalysisParams, ModalReport, ModeVerdict};
-use crate::controller::{AntiWindup, ObserverForm};
-use crate::design::{self, fmt_num, ControllerSpec, DesignError, DesignRequest, DesignResult, Implementation, ObserverPoles, ObserverSpec, Pair, Plane, ScenarioSpec, StructureResult, TrackingResult, TrackingSpec};
+use crate::design::{self, fmt_num, ControllerSpec, DesignError, DesignRequest, DesignResult, ObserverPoles, Pair, Plane, StructureResult, TrackingResult};
 use crate::linalg::eigen::try_eigenvalues;
-use crate::parse::{parse_matrix, parse_names, parse_vector, MatrixParseError};
-use crate::plant::{Field, Plant, PlantError, PlantSpec};
+use crate::plant::Plant;
 use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, RegionShape, Series, TimePlotScene};
-use crate::poles::{check_conjugate_pairs, format_complex, format_pole_list, parse_poles, sort_for_display};
+use crate::poles::{check_conjugate_pairs, format_complex, format_pole_list, sort_for_display};
 
 /// Largest plant the page designs (placement costs `O(n⁴)`; the page must stay responsive).
 pub const MAX_STATES: usize = 50;
@@ -98,12 +95,18 @@ pub const MAX_STATES: usize = 50;
 pub const OBSERVER_SPEED_RULE: (f64, f64) = (2.0, 6.0);
 
 /// Observer speed factor used when the field is blank.
-pub const DEFAULT_OBSERVER_SPEED: f64 = 4.0;
+pub use crate::design::check::DEFAULT_OBSERVER_SPEED;
+
+pub mod adapter;
+pub use adapter::{form_from_spec, form_key, spec_from_form, FORM_KEYS};
 
 /// The form's fields, as typed. Every field may be omitted (it is then blank).
 #[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(default, deny_unknown_fields)]
 pub struct FormInput {
+    /// The design's title and notes (saved in the document; no effect on the numbers).
+    pub title: String,
+    pub notes: String,
     pub a: String,
     pub b: String,
     pub state_names: String,
@@ -168,7 +171,9 @@ pub const CHOICES: [(&str, &[&str]); 11] = [
 
 impl FormInput {
     /// The field keys, in page order.
-    pub const FIELDS: [&'static str; 44] = [
+    pub const FIELDS: [&'static str; 46] = [
+        "title",
+        "notes",
         "a",
         "b",
         "state_names",
@@ -217,6 +222,8 @@ impl FormInput {
 
     fn slot(&self, key: &str) -> Option<&String> {
         Some(match key {
+            "title" => &self.title,
+            "notes" => &self.notes,
             "a" => &self.a,
             "b" => &self.b,
             "state_names" => &self.state_names,
@@ -273,6 +280,8 @@ impl FormInput {
     /// Sets field `key`; returns false for an unknown key.
     pub fn set(&mut self, key: &str, text: impl Into<String>) -> bool {
         let slot = match key {
+            "title" => &mut self.title,
+            "notes" => &mut self.notes,
             "a" => &mut self.a,
             "b" => &mut self.b,
             "state_names" => &mut self.state_names,
@@ -730,1267 +739,140 @@ pub struct Report {
 }
 
 // ---------------------------------------------------------------------------------------------
-// Reading the fields.
-
-fn dims(m: &DMatrix<f64>) -> String {
-    format!("{} × {}", m.nrows(), m.ncols())
-}
+// Evaluating the form: the adapter, the one rulebook, the run.
 
 fn plural(count: usize, one: &str, many: &str) -> String {
     format!("{count} {}", if count == 1 { one } else { many })
 }
 
-fn is_blank(text: &str) -> bool {
-    text.trim_start_matches('\u{feff}').trim().is_empty()
-}
+/// Most samples a digital simulation may take (the rule is the design layer's, at both doors).
+pub use crate::design::check::MAX_LOOP_SAMPLES;
 
-/// Reads an optional matrix: blank is `None`.
-fn optional_matrix(text: &str) -> Result<Option<DMatrix<f64>>, MatrixParseError> {
-    if is_blank(text) {
-        return Ok(None);
-    }
-    parse_matrix(text).map(Some)
-}
-
-struct Collector {
-    errors: Vec<FieldError>,
-}
-
-impl Collector {
-    fn push(&mut self, field: &'static str, message: impl Into<String>) {
-        if !self.errors.iter().any(|e| e.field == field) {
-            self.errors.push(FieldError { field, message: message.into() });
-        }
-    }
-    fn has(&self, field: &str) -> bool {
-        self.errors.iter().any(|e| e.field == field)
-    }
-}
-
-/// Reads the limits list: numbers (positive) or `none`, separated by commas, spaces or new lines.
-fn parse_limits(text: &str) -> Result<Vec<Option<f64>>, String> {
-    let body = text.trim_start_matches('\u{feff}').trim();
-    if body.starts_with('[') {
-        let vals = parse_vector(body).map_err(|e| e.to_string())?;
-        return vals.into_iter().enumerate().map(|(i, v)| positive_limit(i + 1, v, &format_complex(Complex64::new(v, 0.0)))).collect();
-    }
-    let mut out = Vec::new();
-    for (i, token) in body.split(|c: char| c == ',' || c.is_whitespace()).filter(|t| !t.is_empty()).enumerate() {
-        let k = i + 1;
-        if token.eq_ignore_ascii_case("none") {
-            out.push(None);
-            continue;
-        }
-        let value = match parse_matrix(token) {
-            Ok(m) if m.len() == 1 => m.iter().next().copied(),
-            _ => None,
+impl ListSizes {
+    /// Sets the live size shown beside field `key`; false for a field without one.
+    fn set(&mut self, key: &str, text: String) -> bool {
+        let slot = match key {
+            "state_names" => &mut self.state_names,
+            "state_units" => &mut self.state_units,
+            "input_names" => &mut self.input_names,
+            "input_units" => &mut self.input_units,
+            "output_names" => &mut self.output_names,
+            "output_units" => &mut self.output_units,
+            "poles" => &mut self.poles,
+            "lqr_max_state" => &mut self.lqr_max_state,
+            "lqr_max_input" => &mut self.lqr_max_input,
+            "limits" => &mut self.limits,
+            "initial_state" => &mut self.initial_state,
+            "observer_poles" => &mut self.observer_poles,
+            "tracked_outputs" => &mut self.tracked_outputs,
+            "integral_poles" => &mut self.integral_poles,
+            "delay_poles" => &mut self.delay_poles,
+            "reference" => &mut self.reference,
+            "disturbance" => &mut self.disturbance,
+            "noise_std" => &mut self.noise_std,
+            _ => return false,
         };
-        match value {
-            Some(v) => out.push(positive_limit(k, v, token)?),
-            None => {
-                return Err(format!(
-                    "entry {k}: {token:?} is not a number; give a positive limit such as 60 (in the input's unit), or none for an input without a limit"
-                ))
-            }
-        }
-    }
-    Ok(out)
-}
-
-fn positive_limit(k: usize, v: f64, token: &str) -> Result<Option<f64>, String> {
-    if v > 0.0 && v.is_finite() {
-        Ok(Some(v))
-    } else {
-        Err(format!("entry {k}: {token} must be a positive number (a limit is the largest magnitude the input can reach); write none for an input without a limit"))
+        *slot = Some(text);
+        true
     }
 }
 
-fn parse_duration(text: &str) -> Result<f64, String> {
-    let vals = parse_vector(text).map_err(|e| e.to_string())?;
-    match vals.as_slice() {
-        [d] if *d > 0.0 => Ok(*d),
-        [d] => Err(format!("{} must be a positive number of seconds", format_complex(Complex64::new(*d, 0.0)))),
-        _ => Err(format!("{} numbers given; give one duration in seconds, or leave blank to have it chosen", vals.len())),
-    }
-}
-
-/// Field key of a plant field.
-fn plant_field_key(field: Field) -> &'static str {
-    match field {
-        Field::A => "a",
-        Field::B => "b",
-        Field::C => "c",
-        Field::D => "d",
-        Field::StateNames => "state_names",
-        Field::InputNames => "input_names",
-        Field::StateUnits => "state_units",
-        Field::InputUnits => "input_units",
-        Field::OutputNames => "output_names",
-        Field::OutputUnits => "output_units",
-    }
-}
-
-/// The field a plant error belongs to, and its message without the `key: ` prefix.
-fn attribute_plant_error(e: &PlantError) -> (&'static str, String) {
-    let field = match e {
-        PlantError::Empty { field }
-        | PlantError::Rows { field, .. }
-        | PlantError::Columns { field, .. }
-        | PlantError::NotFinite { field, .. }
-        | PlantError::Count { field, .. } => plant_field_key(*field),
-        PlantError::NotSquare { .. } => "a",
-        PlantError::ZeroInput => "b",
-        PlantError::FeedthroughWithoutOutput => "d",
-    };
-    let message = match e {
-        PlantError::Count { field, expected, found } => {
-            let (one, many, of_one, of_many) = match field {
-                Field::OutputNames => ("name", "names", "output", "outputs"),
-                Field::OutputUnits => ("unit", "units", "output", "outputs"),
-                Field::StateNames => ("name", "names", "state", "states"),
-                Field::StateUnits => ("unit", "units", "state", "states"),
-                Field::InputNames => ("name", "names", "input", "inputs"),
-                Field::InputUnits => ("unit", "units", "input", "inputs"),
-                _ => ("entry", "entries", "entry", "entries"),
-            };
-            format!(
-                "{} given but the plant has {}; give one per {of_one} or leave this blank",
-                plural(*found, one, many),
-                plural(*expected, of_one, of_many)
-            )
-        }
-        other => {
-            let full = other.to_string();
-            match full.split_once(": ") {
-                Some((key, rest)) if key == field => rest.to_string(),
-                _ => full,
-            }
-        }
-    };
-    (field, message)
-}
-
-/// Maps a design-file field path to a form field key.
-fn design_field_key(path: &str) -> Option<&'static str> {
-    Some(match path {
-        "feedback.poles" => "poles",
-        "feedback.plane" => "plane",
-        "feedback" => "pole_source",
-        "feedback.pattern" | "feedback.pattern.family" | "feedback.pattern.bandwidth" => "pattern_family",
-        "feedback.pattern.normalisation" => "pattern_normalisation",
-        "feedback.pattern.settling_time" => "pattern_settling_time",
-        "feedback.pattern.band" | "feedback.spec.band" | "simulation.band" => "settling_band",
-        "feedback.spec" | "feedback.spec.bandwidth" => "pole_source",
-        "feedback.spec.overshoot" => "spec_overshoot",
-        "feedback.spec.settling_time" => "spec_settling_time",
-        "feedback.spec.rise_time" => "spec_rise_time",
-        "feedback.lqr" | "feedback.lqr.q" | "feedback.lqr.bryson" | "feedback.lqr.bryson.max_state" => "lqr_max_state",
-        "feedback.lqr.r" | "feedback.lqr.bryson.max_input" => "lqr_max_input",
-        "search" | "search.fastest_within_limits" | "search.situations" => "search",
-        "actuators.limit" => "limits",
-        "simulation.initial_state" => "initial_state",
-        "simulation.duration" => "duration",
-        "simulation.reference" => "reference",
-        "simulation.reference_time" => "reference_time",
-        "simulation.disturbance" => "disturbance",
-        "simulation.disturbance_time" => "disturbance_time",
-        "simulation.noise_std" => "noise_std",
-        "simulation.seed" => "seed",
-        "observer" => "observer",
-        "observer.poles" => "observer_poles",
-        "observer.speed_factor" => "observer_speed",
-        "observer.form" => "observer_form",
-        "tracking" | "tracking.mode" => "tracking",
-        "tracking.outputs" => "tracked_outputs",
-        "tracking.integral_poles" => "integral_poles",
-        "anti_windup" | "anti_windup.mode" => "anti_windup",
-        "anti_windup.time_constant" => "anti_windup_time",
-        "implementation" | "implementation.sample_time" => "sample_time",
-        "implementation.computation_delay" => "computation_delay",
-        "implementation.delay_poles" => "delay_poles",
-        p => match p.strip_prefix("plant.") {
-            Some(k) => FormInput::FIELDS.iter().copied().find(|f| *f == k)?,
-            None => return None,
-        },
-    })
-}
-
-/// One number (a sample time, a step time, a factor).
-fn one_number(text: &str, what: &str) -> Result<f64, String> {
-    let vals = parse_vector(text).map_err(|e| e.to_string())?;
-    match vals.as_slice() {
-        [v] => Ok(*v),
-        _ => Err(format!("{} numbers given; give one {what}", vals.len())),
-    }
-}
-
-fn positive_number(text: &str, what: &str, example: &str) -> Result<f64, String> {
-    let v = one_number(text, what)?;
-    if v > 0.0 {
-        Ok(v)
-    } else {
-        Err(format!("{} must be a positive number ({what}), for example {example}", full(v)))
-    }
-}
-
-fn non_negative_number(text: &str, what: &str) -> Result<f64, String> {
-    let v = one_number(text, what)?;
-    if v >= 0.0 {
-        Ok(v)
-    } else {
-        Err(format!("{} must be zero or positive ({what})", full(v)))
-    }
-}
-
-/// The tracked outputs: names (as in the output names) or numbers (1 = first row of C).
-fn parse_outputs(text: &str, names: &[String]) -> Result<Vec<usize>, String> {
-    let p = names.len();
-    let mut out = Vec::new();
-    for (i, token) in parse_names(text).iter().enumerate() {
-        let idx = match names.iter().position(|n| n == token) {
-            Some(j) => j,
-            None => match token.parse::<usize>() {
-                Ok(k) if (1..=p).contains(&k) => k - 1,
-                _ => {
-                    return Err(format!(
-                        "entry {}: no output is named \"{token}\"; the outputs are {} (or give their numbers, 1 to {p})",
-                        i + 1,
-                        names.join(", ")
-                    ))
-                }
-            },
+impl Dimensions {
+    fn set(&mut self, key: &str, text: String) -> bool {
+        let slot = match key {
+            "a" => &mut self.a,
+            "b" => &mut self.b,
+            "c" => &mut self.c,
+            "d" => &mut self.d,
+            _ => return false,
         };
-        if out.contains(&idx) {
-            return Err(format!("entry {}: output {} ({}) is listed twice", i + 1, idx + 1, names.get(idx).map_or("", |s| s.as_str())));
-        }
-        out.push(idx);
-    }
-    if out.is_empty() {
-        return Err("no outputs listed; name the outputs to track, or leave blank to track all of them".into());
-    }
-    Ok(out)
-}
-
-/// Reads a pole-list field into `sizes`; a parse error goes to the field.
-fn pole_field(c: &mut Collector, key: &'static str, text: &str, size: &mut Option<String>) -> Option<Vec<Complex64>> {
-    match parse_poles(text) {
-        Ok(p) => {
-            *size = Some(plural(p.len(), "pole", "poles"));
-            Some(p)
-        }
-        Err(e) => {
-            c.push(key, e.to_string());
-            None
-        }
+        *slot = Some(text);
+        true
     }
 }
 
-/// A vector field with one value per item (`count`, when known), `what` naming the items.
-fn counted_vector(c: &mut Collector, key: &'static str, text: &str, count: Option<(usize, &str, &str)>, size: &mut Option<String>) -> Option<Vec<f64>> {
-    match parse_vector(text) {
-        Ok(v) => {
-            *size = Some(plural(v.len(), "value", "values"));
-            if let Some((n, one, many)) = count {
-                if v.len() != n {
-                    c.push(key, format!("{} given but there {} {}; give one per {one}", plural(v.len(), "value", "values"), if n == 1 { "is" } else { "are" }, plural(n, one, many)));
-                    return None;
-                }
-            }
-            Some(v)
-        }
-        Err(e) => {
-            c.push(key, e.to_string());
-            None
-        }
-    }
+/// Page capacity (not a design rule: the CLI designs larger plants): at most [`MAX_STATES`].
+fn page_capacity(form: &FormInput) -> Option<FieldError> {
+    let rows = crate::parse::parse_matrix(&form.a).ok()?.nrows();
+    (rows > MAX_STATES).then(|| FieldError { field: "a", message: format!("A has {rows} states; this page designs plants of up to {MAX_STATES} states (the command-line tool designs larger ones)") })
 }
 
-/// What the controller fields ask for, read and checked field by field.
-fn read_controller(form: &FormInput, plant: Option<&Plant>, c: &mut Collector, sizes: &mut ListSizes) -> ControllerSpec {
-    let mut spec = ControllerSpec::default();
-    let active = |k: &str| form.is_active(k) && !is_blank(form.get(k).unwrap_or(""));
-    let n = plant.map(|p| p.states());
-    let m = plant.map(|p| p.inputs());
-    // C blank is known without a plant; C given but unreadable is C's own error.
-    let has_c = if is_blank(&form.c) { Some(false) } else { plant.map(|p| p.c().is_some()) };
-    let p_out = plant.map(|p| p.outputs());
-
-    // Digital implementation.
-    let sample_time = if is_blank(&form.sample_time) {
-        None
-    } else {
-        match positive_number(&form.sample_time, "the controller's sample time in seconds", "0.001 for 1 kHz") {
-            Ok(t) => Some(t),
-            Err(e) => {
-                c.push("sample_time", e);
-                None
-            }
-        }
-    };
-    let sample_time_given = !is_blank(&form.sample_time);
-    let delay = match form.choice("computation_delay").as_str() {
-        "true" => true,
-        "false" => false,
-        other => {
-            c.push("computation_delay", format!("\"{other}\" is not a choice; tick the box (true) or leave it clear (false)"));
-            false
-        }
-    };
-    if delay && !sample_time_given {
-        c.push("computation_delay", "a computation delay is a digital effect (the input is applied one sample late): give a sample time, or clear this box");
-    }
-    let delay_poles = if delay && active("delay_poles") {
-        let p = pole_field(c, "delay_poles", &form.delay_poles, &mut sizes.delay_poles);
-        if let (Some(p), Some(m)) = (&p, m) {
-            if p.len() != m {
-                c.push("delay_poles", format!("{} given but the plant has {}; give one z-plane pole per input (0 is usual), or leave blank for 0", plural(p.len(), "pole", "poles"), plural(m, "input", "inputs")));
-            }
-        }
-        p
-    } else {
-        None
-    };
-    if let (Some(t), true) = (sample_time, !c.has("sample_time")) {
-        spec.implementation = Some(Implementation {
-            sample_time: t,
-            computation_delay: delay,
-            delay_poles: delay_poles.unwrap_or_else(|| vec![Complex64::new(0.0, 0.0); m.unwrap_or(0)]),
-        });
-    }
-    match form.choice("plane").as_str() {
-        "s" => {}
-        "z" if sample_time_given => spec.plane = Plane::Z,
-        "z" => c.push("plane", "z-plane poles belong to a digital controller: give a sample time, or choose the s-plane"),
-        other => c.push("plane", format!("\"{other}\" is not a choice; choose s (continuous targets) or z (discrete targets)")),
-    }
-
-    // Observer.
-    let observer = form.choice("observer");
-    if observer != "none" {
-        if has_c == Some(false) {
-            c.push("observer", "an observer estimates the state from the measurements: enter the output matrix C in Measurement, or choose no observer");
-        }
-        let poles = match observer.as_str() {
-            "poles" => {
-                if is_blank(&form.observer_poles) {
-                    c.push("observer_poles", "required with this choice: list one observer pole per state, or choose a speed factor instead");
-                    None
-                } else {
-                    let p = pole_field(c, "observer_poles", &form.observer_poles, &mut sizes.observer_poles);
-                    if let (Some(p), Some(n)) = (&p, n) {
-                        if p.len() != n {
-                            c.push("observer_poles", format!("{} given but the plant has {}; give one observer pole per state", plural(p.len(), "pole", "poles"), plural(n, "state", "states")));
-                        }
-                    }
-                    p.map(ObserverPoles::Given)
-                }
-            }
-            "speed_factor" => {
-                if is_blank(&form.observer_speed) {
-                    Some(ObserverPoles::SpeedFactor(DEFAULT_OBSERVER_SPEED))
-                } else {
-                    match positive_number(&form.observer_speed, "how many times faster than the controller poles", "4") {
-                        Ok(f) => Some(ObserverPoles::SpeedFactor(f)),
-                        Err(e) => {
-                            c.push("observer_speed", e);
-                            None
-                        }
-                    }
-                }
-            }
-            other => {
-                c.push("observer", format!("\"{other}\" is not a choice; choose none, poles or speed factor"));
-                None
-            }
-        };
-        let form_kind = match form.choice("observer_form").as_str() {
-            "predictor" => Some(ObserverForm::Predictor),
-            "current" if sample_time_given => Some(ObserverForm::Current),
-            "current" => {
-                c.push("observer_form", "the current-estimator form corrects with the measurement of the same sample, so it needs a digital controller: give a sample time, or choose the predictor form");
-                None
-            }
-            other => {
-                c.push("observer_form", format!("\"{other}\" is not a choice; choose predictor or current"));
-                None
-            }
-        };
-        if let (Some(poles), Some(form_kind)) = (poles, form_kind) {
-            spec.observer = Some(ObserverSpec { poles, form: form_kind });
-        }
-    }
-
-    // Tracking.
-    let tracking = form.choice("tracking");
-    let mut tracked: Option<usize> = None;
-    if tracking != "none" {
-        if has_c == Some(false) {
-            c.push("tracking", "tracking follows a reference on the outputs: enter the output matrix C in Measurement, or choose no tracking");
-        }
-        if !matches!(tracking.as_str(), "feedforward" | "integral") {
-            c.push("tracking", format!("\"{tracking}\" is not a choice; choose none, feedforward or integral action"));
-        }
-        let outputs = match plant {
-            Some(pl) if pl.c().is_some() => {
-                if is_blank(&form.tracked_outputs) {
-                    Some((0..pl.outputs()).collect::<Vec<usize>>())
-                } else {
-                    match parse_outputs(&form.tracked_outputs, pl.output_names()) {
-                        Ok(o) => {
-                            sizes.tracked_outputs = Some(plural(o.len(), "output", "outputs"));
-                            Some(o)
-                        }
-                        Err(e) => {
-                            c.push("tracked_outputs", e);
-                            None
-                        }
-                    }
-                }
-            }
-            _ => None,
-        };
-        if let (Some(o), Some(m)) = (&outputs, m) {
-            tracked = Some(o.len());
-            if tracking == "feedforward" && o.len() != m {
-                c.push(
-                    "tracked_outputs",
-                    format!(
-                        "feedforward tracking needs exactly as many tracked outputs as inputs: {} tracked, {}; {}",
-                        plural(o.len(), "output", "outputs"),
-                        plural(m, "input", "inputs"),
-                        if o.len() > m { "list fewer outputs" } else { "list more outputs, or use integral action" }
-                    ),
-                );
-            }
-            if tracking == "integral" && o.len() > m {
-                c.push("tracked_outputs", format!("integral action can hold at most as many outputs as there are inputs: {} tracked, {}; list fewer outputs", plural(o.len(), "output", "outputs"), plural(m, "input", "inputs")));
-            }
-        }
-        let integral_poles = if tracking == "integral" && active("integral_poles") {
-            let p = pole_field(c, "integral_poles", &form.integral_poles, &mut sizes.integral_poles);
-            if let (Some(p), Some(q)) = (&p, tracked) {
-                if p.len() != q {
-                    c.push("integral_poles", format!("{} given but {} tracked; give one pole per integrator, or leave blank and list them with the desired poles", plural(p.len(), "pole", "poles"), plural(q, "output is", "outputs are")));
-                }
-            }
-            p
-        } else {
-            Some(Vec::new())
-        };
-        match (tracking.as_str(), outputs, integral_poles) {
-            ("feedforward", Some(outputs), _) => spec.tracking = TrackingSpec::Feedforward { outputs },
-            ("integral", Some(outputs), Some(integral_poles)) => spec.tracking = TrackingSpec::Integral { outputs, integral_poles },
-            _ => {}
-        }
-        if tracking == "integral" {
-            match form.choice("anti_windup").as_str() {
-                "none" => {}
-                "clamp" => spec.anti_windup = AntiWindup::Clamp,
-                "back_calculation" => {
-                    if is_blank(&form.anti_windup_time) {
-                        c.push("anti_windup_time", "required for back-calculation: the tracking time constant in seconds (a fraction of the integrator's time constant is usual)");
-                    } else {
-                        match positive_number(&form.anti_windup_time, "the tracking time constant in seconds", "0.05") {
-                            Ok(tt) => spec.anti_windup = AntiWindup::BackCalculation { time_constant: tt },
-                            Err(e) => c.push("anti_windup_time", e),
-                        }
-                    }
-                }
-                other => c.push("anti_windup", format!("\"{other}\" is not a choice; choose none, clamp or back-calculation")),
-            }
-        }
-    }
-
-    // Loop scenario.
-    let mut sc = ScenarioSpec::default();
-    if active("reference") {
-        if let Some(r) = counted_vector(c, "reference", &form.reference, tracked.map(|q| (q, "tracked output", "tracked outputs")), &mut sizes.reference) {
-            sc.reference = r;
-        }
-    }
-    if active("reference_time") {
-        match non_negative_number(&form.reference_time, "the time of the reference step in seconds") {
-            Ok(t) => sc.reference_time = t,
-            Err(e) => c.push("reference_time", e),
-        }
-    }
-    let loop_runs = observer != "none" || tracking != "none" || sample_time_given;
-    if active("disturbance") {
-        if let Some(w) = counted_vector(c, "disturbance", &form.disturbance, m.map(|m| (m, "input", "inputs")), &mut sizes.disturbance) {
-            if loop_runs {
-                sc.disturbance = w;
-            } else {
-                c.push("disturbance", "the load step is simulated in the loop, which runs with an observer, tracking or a sample time; choose one of those, or leave this blank");
-            }
-        }
-    }
-    if active("disturbance_time") {
-        match non_negative_number(&form.disturbance_time, "the time of the load step in seconds") {
-            Ok(t) => sc.disturbance_time = t,
-            Err(e) => c.push("disturbance_time", e),
-        }
-    }
-    if active("noise_std") {
-        if has_c == Some(false) {
-            c.push("noise_std", "noise is added to the measured outputs: enter the output matrix C in Measurement, or leave this blank");
-        } else if let Some(ns) = counted_vector(c, "noise_std", &form.noise_std, p_out.map(|p| (p, "output", "outputs")), &mut sizes.noise_std) {
-            if ns.iter().any(|v| *v < 0.0) {
-                c.push("noise_std", "a standard deviation cannot be negative; give zero or a positive number per output");
-            } else if !sample_time_given {
-                c.push("noise_std", "measurement noise is simulated only with a digital controller (one noise sample per controller sample): give a sample time, or leave this blank");
-            } else {
-                sc.noise_std = ns;
-            }
-        }
-    }
-    if active("seed") {
-        match form.seed.trim().parse::<u64>() {
-            Ok(v) => sc.seed = v,
-            Err(_) => c.push("seed", format!("\"{}\" is not a whole number from 0 up; the seed picks the noise sequence (the same seed gives the same noise)", form.seed.trim())),
-        }
-    }
-    // The page's cap on a digital simulation, also enforced by the engine (for LQR, whose
-    // poles and so whose simulated time are known only there).
-    if spec.implementation.is_some() {
-        sc.max_samples = Some(MAX_LOOP_SAMPLES);
-    }
-    spec.scenario = sc;
-    spec
-}
-
-/// The settling band of `settling_band` as a fraction (blank: 2 %, the engine's default
-/// band), or `None` after an error.
-fn read_band(form: &FormInput, c: &mut Collector) -> Option<f64> {
-    match form.choice("settling_band").as_str() {
-        "2" => Some(0.02),
-        "1" => Some(0.01),
-        "5" => Some(0.05),
-        other => {
-            c.push("settling_band", format!("\"{other}\" is not a choice; choose 2 (±2 %, the usual band), 1 or 5 (percent of the final value)"));
-            None
-        }
-    }
-}
-
-/// What the other fields already gave, for reading the pole source.
-struct Known<'a> {
-    /// The `poles` list (when the source is `list` and it read).
-    listed: Option<&'a Vec<Complex64>>,
-    limits: Option<&'a Vec<Option<f64>>>,
-    initial_state: Option<&'a Option<Vec<f64>>>,
-    band: Option<f64>,
-}
-
-/// The pole source, once read.
-struct PoleSetup {
-    /// The poles of the request: the list or the pattern's poles (empty for LQR).
-    poles: Vec<Complex64>,
-    /// The LQR input bounds are the actuator limits (`lqr_max_input` blank).
-    lqr_inputs_from_limits: bool,
-    /// What the search could not take into account.
-    search_notes: Vec<String>,
-}
-
-/// `count` of plant states, delay states and integrators, in words.
-fn design_states_text(n: usize, delay: usize, integrators: usize) -> String {
-    let mut parts = vec![plural(n, "plant state", "plant states")];
-    if delay > 0 {
-        parts.push(plural(delay, "delay state", "delay states"));
-    }
-    if integrators > 0 {
-        parts.push(plural(integrators, "integrator", "integrators"));
-    }
-    parts.join(" + ")
-}
-
-/// Checks Bryson bounds: positive, with a finite, positive weight `1/value²`.
-fn bryson_bounds_ok(c: &mut Collector, key: &'static str, values: &[f64], what: &str) -> bool {
-    for (i, v) in values.iter().enumerate() {
-        let w = 1.0 / (v * v);
-        let problem = if !(v.is_finite() && *v > 0.0) {
-            Some(format!("must be a positive number (the largest acceptable {what})"))
-        } else if !w.is_finite() {
-            Some("is too small: its weight 1 / value² overflows".to_string())
-        } else if w <= 0.0 {
-            Some("is too large: its weight 1 / value² is zero".to_string())
-        } else {
-            None
-        };
-        if let Some(p) = problem {
-            c.push(key, format!("entry {}: {} {p}; give the largest acceptable {what}, for example 0.1", i + 1, full(*v)));
-            return false;
-        }
-    }
-    true
-}
-
-/// The field a pattern or specification error belongs to.
-fn pattern_error_field(e: &crate::patterns::PatternError, pattern: bool) -> &'static str {
-    use crate::patterns::PatternError;
-    let main = if pattern { "pattern_family" } else { "pole_source" };
-    match e {
-        PatternError::InvalidValue { quantity, .. } => match *quantity {
-            "the overshoot" => "spec_overshoot",
-            "the settling time" if pattern => "pattern_settling_time",
-            "the settling time" => "spec_settling_time",
-            "the rise time" => "spec_rise_time",
-            "the settling band" => "settling_band",
-            _ => main,
-        },
-        PatternError::NotSettled { .. } if pattern => "pattern_settling_time",
-        _ => main,
-    }
-}
-
-/// Reads the pole source (`pole_source` and its fields) and the `search` box into `spec`.
-fn read_pole_source(form: &FormInput, plant: Option<&Plant>, spec: &mut ControllerSpec, known: Known<'_>, c: &mut Collector, sizes: &mut ListSizes) -> Option<PoleSetup> {
-    use crate::patterns::{BesselNormalisation, Pattern, ScaleTarget, SettlingRule, Specification, SpeedRequirement};
-    let source = form.choice("pole_source");
-    let n = plant.map(|p| p.states());
-    let m = plant.map(|p| p.inputs());
-    let (integrators, integrators_apart) = match &spec.tracking {
-        TrackingSpec::Integral { outputs, integral_poles } => (outputs.len(), !integral_poles.is_empty()),
-        _ => (0, false),
-    };
-    // The tracking fields decide the number of poles: without them the count is unknown.
-    let tracking_read = !(c.has("tracking") || c.has("tracked_outputs") || c.has("integral_poles"));
-    // As in the design file: plant states, plus the integrators whose poles are not listed apart.
-    let order = n.map(|n| n + if integrators_apart { 0 } else { integrators });
-    let mut setup = PoleSetup { poles: Vec::new(), lqr_inputs_from_limits: false, search_notes: Vec::new() };
-    let mut ok = true;
-    let mut request: Option<design::PoleRequest> = None;
-    if matches!(source.as_str(), "pattern" | "specification") && form.choice("plane") == "z" {
-        c.push("plane", "a pattern or a specification gives s-plane poles (mapped by z = e^(sT) for a digital controller): choose the s-plane, or list z-plane poles yourself");
-        ok = false;
-    }
-    match source.as_str() {
-        "list" => match known.listed {
-            Some(p) => setup.poles = p.clone(),
-            None => ok = false,
-        },
-        "pattern" => {
-            let family = form.choice("pattern_family");
-            let pattern = match family.as_str() {
-                "bessel" => match (form.choice("pattern_normalisation").as_str(), known.band) {
-                    ("unit_settling_time", Some(band)) => Some(Pattern::Bessel(BesselNormalisation::UnitSettlingTime { band })),
-                    ("unit_settling_time", None) => None,
-                    ("unit_group_delay", _) => Some(Pattern::Bessel(BesselNormalisation::UnitDcGroupDelay)),
-                    ("half_power_at_unit_frequency", _) => Some(Pattern::Bessel(BesselNormalisation::HalfPowerAtUnitFrequency)),
-                    (other, _) => {
-                        c.push("pattern_normalisation", format!("\"{other}\" is not a choice; choose unit settling time, unit group delay or half power at unit frequency"));
-                        None
-                    }
-                },
-                "butterworth" => Some(Pattern::Butterworth),
-                "itae" => Some(Pattern::Itae),
-                "binomial" => Some(Pattern::Binomial),
-                other => {
-                    c.push("pattern_family", format!("\"{other}\" is not a choice; choose Bessel, Butterworth, ITAE or binomial"));
-                    None
-                }
-            };
-            let seconds = if is_blank(&form.pattern_settling_time) {
-                c.push("pattern_settling_time", "required for a pattern: the settling time in seconds that the pattern is scaled to, for example 0.5");
-                None
-            } else {
-                match positive_number(&form.pattern_settling_time, "the settling time in seconds", "0.5") {
-                    Ok(t) => Some(t),
-                    Err(e) => {
-                        c.push("pattern_settling_time", e);
-                        None
-                    }
-                }
-            };
-            match (pattern, seconds, known.band) {
-                (Some(pattern), Some(seconds), Some(band)) => request = Some(design::PoleRequest::Pattern { pattern, target: ScaleTarget::SettlingTime { seconds, band } }),
-                _ => ok = false,
-            }
-        }
-        "specification" => {
-            let overshoot = if is_blank(&form.spec_overshoot) {
-                c.push("spec_overshoot", "required for a specification: the largest overshoot in percent, for example 5");
-                None
-            } else {
-                match one_number(&form.spec_overshoot, "largest overshoot in percent") {
-                    Ok(v) if v > 0.0 && v < 100.0 => Some(v / 100.0),
-                    Ok(0.0) => {
-                        c.push("spec_overshoot", "0 % cannot be asked of a dominant pair (it would need a damping ratio of 1 or more); give a small overshoot such as 1, or choose the binomial pattern for a response without overshoot");
-                        None
-                    }
-                    Ok(v) => {
-                        c.push("spec_overshoot", format!("{} is not an overshoot; give the largest overshoot in percent, more than 0 and less than 100 (for example 5 for 5 %)", full(v)));
-                        None
-                    }
-                    Err(e) => {
-                        c.push("spec_overshoot", e);
-                        None
-                    }
-                }
-            };
-            let settling = if is_blank(&form.spec_settling_time) {
-                c.push("spec_settling_time", "required for a specification: the settling time in seconds, for example 2");
-                None
-            } else {
-                match positive_number(&form.spec_settling_time, "the settling time in seconds", "2") {
-                    Ok(t) => Some(t),
-                    Err(e) => {
-                        c.push("spec_settling_time", e);
-                        None
-                    }
-                }
-            };
-            let rise = if is_blank(&form.spec_rise_time) {
-                Some(None)
-            } else {
-                match positive_number(&form.spec_rise_time, "the 10–90 % rise time in seconds", "0.5") {
-                    Ok(t) => Some(Some(SpeedRequirement::RiseTime { seconds: t })),
-                    Err(e) => {
-                        c.push("spec_rise_time", e);
-                        None
-                    }
-                }
-            };
-            match (overshoot, settling, rise, known.band) {
-                (Some(overshoot), Some(settling_time), Some(speed), Some(band)) => {
-                    request = Some(design::PoleRequest::Specification(Specification { overshoot, settling_time, settling_band: band, settling_rule: SettlingRule::EnvelopeBound, speed }))
-                }
-                _ => ok = false,
-            }
-        }
-        "lqr" => {
-            let delay = if spec.implementation.as_ref().is_some_and(|i| i.computation_delay) { m.unwrap_or(0) } else { 0 };
-            let max_state = if is_blank(&form.lqr_max_state) {
-                c.push("lqr_max_state", "required for LQR: the largest acceptable excursion of each design state (plant states, then delay states and integrators), for example 0.1, 1");
-                None
-            } else {
-                match parse_vector(&form.lqr_max_state) {
-                    Ok(v) => {
-                        sizes.lqr_max_state = Some(plural(v.len(), "value", "values"));
-                        match n {
-                            Some(n) if tracking_read && v.len() != n + delay + integrators => {
-                                c.push(
-                                    "lqr_max_state",
-                                    format!(
-                                        "{} given but the design has {} ({}); give one largest acceptable excursion per state, in that order",
-                                        plural(v.len(), "value", "values"),
-                                        plural(n + delay + integrators, "state", "states"),
-                                        design_states_text(n, delay, integrators)
-                                    ),
-                                );
-                                None
-                            }
-                            _ if bryson_bounds_ok(c, "lqr_max_state", &v, "excursion of that state") => Some(v),
-                            _ => None,
-                        }
-                    }
-                    Err(e) => {
-                        c.push("lqr_max_state", e.to_string());
-                        None
-                    }
-                }
-            };
-            let max_input = if is_blank(&form.lqr_max_input) {
-                match (known.limits, plant) {
-                    (Some(l), Some(p)) if l.is_empty() => {
-                        c.push("lqr_max_input", format!("blank means the actuator limits, but none are given: give the largest acceptable value of each input here ({}), or enter the actuator limits", plural(p.inputs(), "value", "values")));
-                        None
-                    }
-                    (Some(l), Some(p)) => match l.iter().position(|x| x.is_none()) {
-                        Some(i) => {
-                            c.push(
-                                "lqr_max_input",
-                                format!(
-                                    "blank means the actuator limits, but input {} ({}) has no limit: give the largest acceptable value of each input here, or a limit for every input",
-                                    i + 1,
-                                    p.input_names().get(i).map_or("", |s| s.as_str())
-                                ),
-                            );
-                            None
-                        }
-                        None => {
-                            setup.lqr_inputs_from_limits = true;
-                            Some(l.iter().flatten().copied().collect::<Vec<f64>>())
-                        }
-                    },
-                    _ => None,
-                }
-            } else {
-                match parse_vector(&form.lqr_max_input) {
-                    Ok(v) => {
-                        sizes.lqr_max_input = Some(plural(v.len(), "value", "values"));
-                        match m {
-                            Some(m) if v.len() != m => {
-                                c.push("lqr_max_input", format!("{} given but the plant has {}; give one largest acceptable value per input, or leave blank to use the actuator limits", plural(v.len(), "value", "values"), plural(m, "input", "inputs")));
-                                None
-                            }
-                            _ if bryson_bounds_ok(c, "lqr_max_input", &v, "value of that input") => Some(v),
-                            _ => None,
-                        }
-                    }
-                    Err(e) => {
-                        c.push("lqr_max_input", e.to_string());
-                        None
-                    }
-                }
-            };
-            match (max_state, max_input) {
-                (Some(max_state), Some(max_input)) => spec.lqr = Some(design::LqrWeights::Bryson { max_state, max_input }),
-                _ => ok = false,
-            }
-        }
-        other => {
-            c.push("pole_source", format!("\"{other}\" is not a choice; choose list, pattern, specification or LQR"));
-            ok = false;
-        }
-    }
-    if let (Some(req), Some(order), true, true) = (request, order, ok, tracking_read) {
-        let pattern = matches!(req, design::PoleRequest::Pattern { .. });
-        match design::choose_poles(&req, order) {
-            Ok(choice) => {
-                setup.poles = choice.poles.clone();
-                spec.pole_choice = Some(choice);
-            }
-            Err(e) => {
-                let needs = format!(
-                    "this design needs {} ({})",
-                    plural(order, "pole", "poles"),
-                    design_states_text(n.unwrap_or(0), 0, if integrators_apart { 0 } else { integrators })
-                );
-                let advice = match (&e, pattern) {
-                    (crate::patterns::PatternError::UnsupportedOrder { .. }, true) => format!("; {needs}: choose another pattern, or list the poles"),
-                    (crate::patterns::PatternError::UnsupportedOrder { .. }, false) => format!("; {needs}: a specification places a dominant pair, so it needs at least 2 poles; choose a pattern, or list the poles"),
-                    _ => String::new(),
-                };
-                c.push(pattern_error_field(&e, pattern), format!("{e}{advice}"));
-                ok = false;
-            }
-        }
-    }
-
-    // The search for the fastest design within the actuator limits.
-    match form.choice("search").as_str() {
-        "false" => {}
-        "true" => {
-            let mut can = true;
-            if !is_blank(&form.sample_time) {
-                c.push("search", "the search works on continuous designs: clear the sample time, search, copy the poles it finds into the pole list, then give the sample time again; or clear this box");
-                can = false;
-            } else if source == "lqr" {
-                c.push("search", "the search speeds up a pole pattern, but LQR chooses its poles from the weights: change the largest excursions instead, or copy the LQR poles into the pole list and search those; or clear this box");
-                can = false;
-            } else if integrators > 0 && !integrators_apart {
-                c.push("search", "the search scales the plant's poles only: with integral action, give the integrator poles in their own field (integrator poles), or clear this box");
-                can = false;
-            }
-            match known.limits {
-                Some(l) if l.iter().all(|x| x.is_none()) => {
-                    c.push("search", "the search looks for the fastest design the actuator limits allow, so it needs limits: give a limit for at least one input under actuator limits, or clear this box");
-                    can = false;
-                }
-                Some(_) => {}
-                None => can = false,
-            }
-            if let (true, Some(p), Some(Some(x0))) = (can, plant, known.initial_state.map(|x| x.clone().or_else(|| plant.map(|p| (0..p.states()).map(|i| if i == 0 { 1.0 } else { 0.0 }).collect())))) {
-                let mut situations = vec![crate::search::Situation::InitialState(x0)];
-                if let TrackingSpec::Feedforward { outputs } | TrackingSpec::Integral { outputs, .. } = &spec.tracking {
-                    let steps = if spec.scenario.reference.is_empty() { vec![1.0; outputs.len()] } else { spec.scenario.reference.clone() };
-                    match p.c() {
-                        Some(cm) if cm.nrows() == p.inputs() => {
-                            let mut r = vec![0.0; cm.nrows()];
-                            for (j, &o) in outputs.iter().enumerate() {
-                                if let (Some(slot), Some(v)) = (r.get_mut(o), steps.get(j)) {
-                                    *slot = *v;
-                                }
-                            }
-                            situations.push(crate::search::Situation::ReferenceStep(r));
-                        }
-                        Some(cm) => setup.search_notes.push(format!(
-                            "The search judged the free response only: its reference step is followed with feedforward on every row of C, which needs as many outputs as inputs (C has {}, the plant {}).",
-                            plural(cm.nrows(), "row", "rows"),
-                            plural(p.inputs(), "input", "inputs")
-                        )),
-                        None => {}
-                    }
-                    if matches!(spec.tracking, TrackingSpec::Integral { .. }) {
-                        setup.search_notes.push("The search judges the state feedback of the plant alone (and the reference step with feedforward), not the integrators: check the loop simulation for the inputs with integral action.".into());
-                    }
-                }
-                spec.search = Some(situations);
-            }
-            if !can {
-                ok = false;
-            }
-        }
-        other => {
-            c.push("search", format!("\"{other}\" is not a choice; tick the box (true) or leave it clear (false)"));
-            ok = false;
-        }
-    }
-    ok.then_some(setup)
-}
-
-/// Most samples a digital simulation may take (the engine allocates every sample of every
-/// signal: 50 000 samples of a 10-state loop are about 10 MB and a tenth of a second).
-pub const MAX_LOOP_SAMPLES: f64 = 50_000.0;
-
-/// Refuses a digital simulation longer than [`MAX_LOOP_SAMPLES`] samples, and steps that come
-/// after the end of the simulated time; the error goes to the field that sets the length. The
-/// horizon is the engine's rule (7 / slowest decay rate of the controller and observer poles,
-/// doubled with limits; the loop adds the step times and doubles again with a load step).
-/// An LQR design's poles are known only once its Riccati equation is solved: with a chosen
-/// length the engine applies the same cap ([`ScenarioSpec::max_samples`]) before simulating.
-fn check_loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Collector) {
-    let sc = &spec.scenario;
-    let events = sc.reference_time.max(if sc.disturbance.is_empty() { 0.0 } else { sc.disturbance_time });
-    if let Some(d) = req.duration {
-        let tracking = !matches!(spec.tracking, TrackingSpec::None);
-        if tracking && sc.reference_time > d {
-            c.push("reference_time", format!("the reference step at {} s comes after the end of the simulated time ({} s); make it earlier, or simulate longer", fmt_num(sc.reference_time), fmt_num(d)));
-        }
-        if !sc.disturbance.is_empty() && sc.disturbance_time > d {
-            c.push("disturbance_time", format!("the load step at {} s comes after the end of the simulated time ({} s); make it earlier, or simulate longer", fmt_num(sc.disturbance_time), fmt_num(d)));
-        }
-    }
-    let Some(t) = spec.sample_time() else { return };
-    let to_s = |p: &[Complex64]| -> Vec<Complex64> {
-        match spec.plane {
-            Plane::Z => p.iter().filter_map(|z| z_to_s(*z, t)).collect(),
-            Plane::S => p.to_vec(),
-        }
-    };
-    if spec.lqr.is_some() && req.duration.is_none() {
-        return;
-    }
-    let controller = to_s(&req.poles);
-    let decay = |p: &[Complex64]| p.iter().map(|z| -z.re).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
-    let mut slowest = decay(&controller);
-    match spec.observer.as_ref().map(|o| &o.poles) {
-        Some(ObserverPoles::Given(p)) => slowest = slowest.min(decay(&to_s(p))),
-        // The observer poles are the fastest controller poles times the factor: no slower than this.
-        Some(ObserverPoles::SpeedFactor(f)) => slowest = slowest.min(slowest * f),
-        None => {}
-    }
-    let limited = req.limits.iter().any(|l| l.is_some());
-    let horizon = if slowest.is_finite() && slowest > 0.0 { 7.0 / slowest } else { 10.0 } * if limited { 2.0 } else { 1.0 };
-    let samples = |d: f64| d / t;
-    let too_many = |d: f64| !(samples(d) <= MAX_LOOP_SAMPLES);
-    let advice = format!("the page simulates at most {} samples", MAX_LOOP_SAMPLES as u64);
-    if let Some(d) = req.duration {
-        if too_many(d) {
-            c.push("duration", format!("{} s at a sample time of {} s is {:.0} samples, but {advice}: simulate a shorter time, or sample less often", fmt_num(d), fmt_num(t), samples(d).ceil()));
-        }
-        return;
-    }
-    // A digital design always simulates the loop, after the free response.
-    let loop_length = events + horizon * if sc.disturbance.is_empty() { 1.0 } else { 2.0 };
-    if too_many(horizon.max(loop_length)) {
-        let field = if too_many(events) {
-            if sc.reference_time >= sc.disturbance_time || sc.disturbance.is_empty() { "reference_time" } else { "disturbance_time" }
-        } else {
-            "sample_time"
-        };
-        c.push(
-            field,
-            format!(
-                "the simulation would run {} s (chosen from the slowest pole{}) at a sample time of {} s, that is {:.0} samples, but {advice}: sample less often, give a shorter simulated time, or make the poles faster",
-                fmt_num(loop_length.max(horizon)),
-                if events > 0.0 { " after the steps" } else { "" },
-                fmt_num(t),
-                samples(loop_length.max(horizon)).ceil()
-            ),
-        );
-    }
+/// An input error as a field error of the form (errors of paths the page does not show go to
+/// the nearest section's control).
+fn field_error(e: &crate::design::InputError) -> FieldError {
+    FieldError { field: adapter::form_key(e.field).unwrap_or("a"), message: e.message.clone() }
 }
 
 /// Evaluates the form: see the [module documentation](self).
 pub fn evaluate_form(form: &FormInput) -> FormOutcome {
-    let mut c = Collector { errors: Vec::new() };
-    let mut dimensions = Dimensions::default();
-    let mut sizes = ListSizes::default();
-
-    // Matrices.
-    let a = if is_blank(&form.a) {
-        c.push("a", "required: enter the state matrix A (states × states), one row per line, entries separated by spaces, tabs or commas");
-        None
-    } else {
-        match parse_matrix(&form.a) {
-            Ok(m) => {
-                dimensions.a = Some(dims(&m));
-                Some(m)
-            }
-            Err(e) => {
-                c.push("a", e.to_string());
-                None
-            }
-        }
-    };
-    let n_hint = a.as_ref().map(|m| m.nrows());
-    let b = if is_blank(&form.b) {
-        c.push("b", "required: enter the input matrix B (states × inputs), one row per line");
-        None
-    } else {
-        match parse_matrix(&form.b) {
-            Ok(m) => {
-                // One line of n numbers (n > 1) can only mean a column: B needs n rows.
-                let column = m.nrows() == 1 && m.ncols() > 1 && n_hint == Some(m.ncols());
-                let m = if column { m.transpose() } else { m };
-                dimensions.b = Some(if column { format!("{} (one line read as a column)", dims(&m)) } else { dims(&m) });
-                Some(m)
-            }
-            Err(e) => {
-                c.push("b", e.to_string());
-                None
-            }
-        }
-    };
-    let cm = match optional_matrix(&form.c) {
-        Ok(m) => {
-            dimensions.c = m.as_ref().map(dims);
-            m
-        }
-        Err(e) => {
-            c.push("c", e.to_string());
-            None
-        }
-    };
-    let dm = match optional_matrix(&form.d) {
-        Ok(m) => {
-            dimensions.d = m.as_ref().map(dims);
-            m
-        }
-        Err(e) => {
-            c.push("d", e.to_string());
-            None
-        }
-    };
-
-    // Lists.
-    let state_names = parse_names(&form.state_names);
-    let state_units = parse_names(&form.state_units);
-    let input_names = parse_names(&form.input_names);
-    let input_units = parse_names(&form.input_units);
-    let output_names = parse_names(&form.output_names);
-    let output_units = parse_names(&form.output_units);
-    let count = |v: &Vec<String>, one: &str, many: &str| if v.is_empty() { None } else { Some(plural(v.len(), one, many)) };
-    sizes.state_names = count(&state_names, "name", "names");
-    sizes.state_units = count(&state_units, "unit", "units");
-    sizes.input_names = count(&input_names, "name", "names");
-    sizes.input_units = count(&input_units, "unit", "units");
-    sizes.output_names = count(&output_names, "name", "names");
-    sizes.output_units = count(&output_units, "unit", "units");
-    if cm.is_none() && !c.has("c") {
-        if !output_names.is_empty() {
-            c.push("output_names", "output names need outputs: enter the output matrix C, or leave this blank");
-        }
-        if !output_units.is_empty() {
-            c.push("output_units", "output units need outputs: enter the output matrix C, or leave this blank");
-        }
-    }
-
-    let poles = if !form.is_active("poles") {
-        Some(Vec::new())
-    } else if is_blank(&form.poles) {
-        c.push("poles", "required: list the desired closed-loop poles, one per state, separated by commas or spaces, for example -2, -3, -1±2j");
-        None
-    } else {
-        match parse_poles(&form.poles) {
-            Ok(p) => {
-                sizes.poles = Some(plural(p.len(), "pole", "poles"));
-                Some(p)
-            }
-            Err(e) => {
-                c.push("poles", e.to_string());
-                None
-            }
-        }
-    };
-    let limits = if is_blank(&form.limits) {
-        Some(Vec::new())
-    } else {
-        match parse_limits(&form.limits) {
-            Ok(l) => {
-                sizes.limits = Some(plural(l.len(), "limit", "limits"));
-                Some(l)
-            }
-            Err(e) => {
-                c.push("limits", e);
-                None
-            }
-        }
-    };
-    let initial_state = if is_blank(&form.initial_state) {
-        Some(None)
-    } else {
-        match parse_vector(&form.initial_state) {
-            Ok(v) => {
-                sizes.initial_state = Some(plural(v.len(), "value", "values"));
-                Some(Some(v))
-            }
-            Err(e) => {
-                c.push("initial_state", e.to_string());
-                None
-            }
-        }
-    };
-    let band = read_band(form, &mut c);
-    let duration = if is_blank(&form.duration) {
-        Some(None)
-    } else {
-        match parse_duration(&form.duration) {
-            Ok(d) => Some(Some(d)),
-            Err(e) => {
-                c.push("duration", e);
-                None
-            }
-        }
-    };
-
-    if let Some(a) = &a {
-        if a.nrows() > MAX_STATES && a.nrows() == a.ncols() {
-            c.push("a", format!("A has {} states; this page designs plants of up to {MAX_STATES} states", a.nrows()));
-        }
-    }
-
-    // The plant, once A and B (and C, D) read.
-    let mut plant = None;
-    if let (Some(a), Some(b), false, false, false) = (&a, &b, c.has("a"), c.has("c"), c.has("d")) {
-        let spec = PlantSpec {
-            a: a.clone(),
-            b: b.clone(),
-            c: cm.clone(),
-            d: dm.clone(),
-            state_names,
-            input_names,
-            output_names: if cm.is_some() { output_names } else { Vec::new() },
-            state_units,
-            input_units,
-            output_units: if cm.is_some() { output_units } else { Vec::new() },
-        };
-        match Plant::new(spec) {
-            Ok(p) => plant = Some(p),
-            Err(e) => {
-                let (field, message) = attribute_plant_error(&e);
-                c.push(field, message);
-            }
-        }
-    }
-
-    // Lengths that depend on the plant.
-    if let Some(p) = &plant {
-        let (n, m) = (p.states(), p.inputs());
-        if let Some(l) = &limits {
-            if !l.is_empty() && l.len() != m {
-                c.push(
-                    "limits",
-                    format!(
-                        "{} given but the plant has {}; give one limit per input in the order of the columns of B (write none for an input without a limit), or leave blank",
-                        plural(l.len(), "limit", "limits"),
-                        plural(m, "input", "inputs")
-                    ),
-                );
-            }
-        }
-        if let Some(Some(x)) = &initial_state {
-            if x.len() != n {
-                c.push(
-                    "initial_state",
-                    format!(
-                        "{} given but the plant has {}; give one value per state, or leave blank to start from 1 in the first state",
-                        plural(x.len(), "value", "values"),
-                        plural(n, "state", "states")
-                    ),
-                );
-            }
-        }
-    }
-
-    // Observer, tracking, digital implementation, loop scenario; then the pole source.
-    let mut spec = read_controller(form, plant.as_ref(), &mut c, &mut sizes);
-    let known = Known { listed: poles.as_ref(), limits: limits.as_ref(), initial_state: initial_state.as_ref(), band };
-    let setup = read_pole_source(form, plant.as_ref(), &mut spec, known, &mut c, &mut sizes);
-    let source = form.choice("pole_source");
-
     let mut outcome = FormOutcome {
         status: FormStatus::Invalid,
         errors: Vec::new(),
-        dimensions,
-        sizes,
+        dimensions: Dimensions::default(),
+        sizes: ListSizes::default(),
         design: None,
         design_error: None,
         analysis: None,
         report: None,
     };
-
-    let ready = match (plant, &setup, limits, initial_state, duration, band) {
-        (Some(p), Some(setup), Some(limits), Some(x0), Some(d), Some(band)) if c.errors.is_empty() => Some(DesignRequest {
-            plant: p,
-            poles: setup.poles.clone(),
-            limits,
-            initial_state: x0,
-            duration: d,
-            band,
-        }),
-        _ => None,
+    let spec = match adapter::spec_from_form(form) {
+        Ok(spec) => spec,
+        Err(errors) => {
+            outcome.errors = errors;
+            return outcome;
+        }
     };
-    if let Some(req) = &ready {
-        check_loop_length(req, &spec, &mut c);
+    let checked = crate::design::check(&spec);
+    for (path, text) in &checked.sizes {
+        if let Some(key) = adapter::form_key(*path) {
+            let _ = outcome.dimensions.set(key, text.clone()) || outcome.sizes.set(key, text.clone());
+        }
     }
-    let ready = ready.filter(|_| c.errors.is_empty());
-    if let Some(req) = ready {
-        let run = if spec.is_plain() { design::run(&req) } else { design::run_with(&req, &spec) };
-        match run {
+    let mut errors: Vec<FieldError> = Vec::new();
+    let push = |errors: &mut Vec<FieldError>, e: FieldError| {
+        if !errors.iter().any(|x| x.field == e.field) {
+            errors.push(e);
+        }
+    };
+    if let Some(e) = page_capacity(form) {
+        push(&mut errors, e);
+    }
+    for e in &checked.errors {
+        push(&mut errors, field_error(e));
+    }
+    if let (Some(design), true) = (&checked.design, errors.is_empty()) {
+        match crate::design::run_checked(design) {
             Ok(result) => {
                 outcome.status = FormStatus::Designed;
-                let mut context = ReportContext::from_request(&req, &spec);
-                if let Some(setup) = &setup {
-                    context.lqr_inputs_from_limits = setup.lqr_inputs_from_limits;
-                    context.search_notes = setup.search_notes.clone();
-                }
+                let mut context = ReportContext::from_request(&design.request, &design.controller);
+                context.lqr_inputs_from_limits = design.lqr_inputs_from_limits;
+                context.search_notes = design.search_notes.clone();
                 outcome.report = Some(report_with(&result, &context));
                 outcome.design = Some(result);
             }
-            Err(DesignError::Input(e)) => match design_field_key(&e.field) {
-                // The poles of a pattern or an LQR design are not typed in the pole list.
-                Some("poles") if source != "list" => {
-                    let (field, advice) = match source.as_str() {
-                        "pattern" => ("pattern_family", "choose another pattern, or list the poles yourself"),
-                        "lqr" => ("lqr_max_state", "change the largest excursions, or list the poles yourself"),
-                        _ => ("pole_source", "change the specification, or list the poles yourself"),
-                    };
-                    c.push(field, format!("the chosen poles cannot be placed ({}); {advice}", e.message));
-                }
-                Some(field) => c.push(field, e.message),
-                None => {
-                    outcome.status = FormStatus::Infeasible;
-                    outcome.design_error = Some(e.to_string());
-                }
-            },
+            Err(DesignError::Input(e)) => push(&mut errors, field_error(&e)),
             Err(DesignError::Infeasible { message }) => {
                 outcome.status = FormStatus::Infeasible;
-                let situations = ReportContext::from_request(&req, &spec).search_situations;
+                let situations = ReportContext::from_request(&design.request, &design.controller).search_situations;
                 let searched = if situations.is_empty() {
                     String::new()
                 } else {
-                    format!(
-                        " (The search's situations: {}.)",
-                        situations.iter().enumerate().map(|(i, s)| format!("{} = {s}", i + 1)).collect::<Vec<_>>().join("; ")
-                    )
+                    format!(" (The search's situations: {}.)", situations.iter().enumerate().map(|(i, s)| format!("{} = {s}", i + 1)).collect::<Vec<_>>().join("; "))
                 };
                 outcome.design_error = Some(format!("The design is not possible: {message}.{searched}"));
-                outcome.analysis = open_loop_analysis(&req.plant);
+                outcome.analysis = open_loop_analysis(&design.request.plant);
             }
         }
     }
     // Errors in page order.
-    c.errors.sort_by_key(|e| FormInput::FIELDS.iter().position(|f| *f == e.field).unwrap_or(usize::MAX));
-    outcome.errors = c.errors;
+    errors.sort_by_key(|e| FormInput::FIELDS.iter().position(|f| *f == e.field).unwrap_or(usize::MAX));
+    outcome.errors = errors;
     if !outcome.errors.is_empty() {
         outcome.status = FormStatus::Invalid;
     }
     outcome
 }
 
-/// Open-loop poles and controllability of a plant (for an infeasible design).
 pub fn open_loop_analysis(plant: &Plant) -> Option<OpenLoopAnalysis> {
     let mut poles = try_eigenvalues(plant.a()).ok()?;
     sort_for_display(&mut poles);
@@ -2093,12 +975,7 @@ fn output_label(result: &DesignResult, units: &[String], name: &str) -> String {
 /// `s = ln z / T`, the continuous-time equivalent of a z-plane pole (`None` for `z = 0`,
 /// a non-finite `z` or a sample time that is not positive).
 pub fn z_to_s(z: Complex64, t: f64) -> Option<Complex64> {
-    if !(z.re.is_finite() && z.im.is_finite() && t > 0.0 && t.is_finite()) || z.norm() == 0.0 {
-        return None;
-    }
-    let s = z.ln() / t;
-    // A real z has a real equivalent (or, for negative z, a pole at the Nyquist frequency).
-    Some(if z.im == 0.0 && z.re > 0.0 { Complex64::new(s.re, 0.0) } else { s })
+    crate::plane::s_from_z(z, t)
 }
 
 /// The character of a z-plane pole, read through its equivalent `s = ln z / T`.
@@ -3095,12 +1972,11 @@ fn pole_choice_report(result: &DesignResult, context: &ReportContext, warnings: 
     }
     let method = match (choice, lqr) {
         (Some(c), _) => match c.method {
-            "bessel" => "Bessel pattern".to_string(),
-            "butterworth" => "Butterworth pattern".to_string(),
-            "itae" => "ITAE pattern".to_string(),
-            "binomial" => "Binomial pattern".to_string(),
-            "specification" => "Specification (dominant pair)".to_string(),
-            other => other.to_string(),
+            design::PoleChoiceMethod::Bessel => "Bessel pattern".to_string(),
+            design::PoleChoiceMethod::Butterworth => "Butterworth pattern".to_string(),
+            design::PoleChoiceMethod::Itae => "ITAE pattern".to_string(),
+            design::PoleChoiceMethod::Binomial => "Binomial pattern".to_string(),
+            design::PoleChoiceMethod::Specification => "Specification (dominant pair)".to_string(),
         },
         (None, Some(_)) if context.lqr_bounds.is_some() => "LQR (Bryson's rule)".to_string(),
         (None, Some(_)) => "LQR (weights Q and R)".to_string(),
@@ -3492,5 +2368,5 @@ pub fn estimation_scene(result: &DesignResult, report: &Report) -> Option<TimePl
 }
 
 #[cfg(test)]
-#[path = "tests/form.rs"]
+#[path = "../tests/form.rs"]
 mod tests;

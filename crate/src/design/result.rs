@@ -1,0 +1,313 @@
+//! The design result (`polewright.result`).
+
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+use serde::Serialize;
+
+use super::PoleChoiceMethod;
+use crate::analysis::{ModalReport, ModeVerdict};
+use crate::warnings::Warning;
+
+// ---------------------------------------------------------------------------------------------
+pub type Pair = [f64; 2];
+
+pub(crate) fn pair(z: Complex64) -> Pair {
+    [z.re, if z.im == 0.0 { 0.0 } else { z.im }]
+}
+
+pub(crate) fn rows(m: &DMatrix<f64>) -> Vec<Vec<f64>> {
+    (0..m.nrows()).map(|i| m.row(i).iter().cloned().collect()).collect()
+}
+
+/// The design result (`polewright.result`, version 1).
+#[derive(Debug, Clone, Serialize)]
+pub struct DesignResult {
+    pub format: &'static str,
+    pub version: u64,
+    /// Always `"u = -K x"`.
+    pub convention: &'static str,
+    pub plant: PlantSummary,
+    pub open_loop_poles: Vec<Pair>,
+    pub feedback: FeedbackResult,
+    pub controllability: StructureResult,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub observability: Option<StructureResult>,
+    pub simulation: SimulationResult,
+    pub warnings: Vec<Warning>,
+    /// `"continuous"` or `"discrete"` (version 2).
+    pub domain: &'static str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sample_time: Option<f64>,
+    /// The zero-order-hold model the digital design used.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub discrete_plant: Option<DiscretePlantResult>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub observer: Option<ObserverResult>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tracking: Option<TrackingResult>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sample_rate: Option<SampleRateResult>,
+    /// The whole controller simulated in the loop.
+    #[serde(rename = "loop", skip_serializing_if = "Option::is_none")]
+    pub closed_loop: Option<LoopResult>,
+    /// The fastest design the actuators allow (when asked for).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub search: Option<SearchSummary>,
+    /// Poles chosen from a pattern or a specification.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub pole_choice: Option<PoleChoiceResult>,
+    /// LQR as a way of choosing poles.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lqr: Option<LqrResult>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct LqrResult {
+    /// The Riccati solution `X` of the design pair.
+    pub riccati_solution: Vec<Vec<f64>>,
+    /// Its normalised residual.
+    pub residual: f64,
+    /// The LQR gain itself (inputs × design states). With one input it equals the placed gain;
+    /// with several, the placed gain has the same poles but robust eigenvectors instead.
+    pub gain: Vec<Vec<f64>>,
+    pub closed_loop_poles: Vec<Pair>,
+    pub q: Vec<Vec<f64>>,
+    pub r: Vec<Vec<f64>>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct PoleChoiceResult {
+    pub method: PoleChoiceMethod,
+    pub description: String,
+    pub suggested_poles: Vec<Pair>,
+    /// From a specification: `{min_damping, min_decay_rate, natural_frequency}`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub region: Option<RegionResult>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct RegionResult {
+    pub min_damping: f64,
+    pub min_decay_rate: f64,
+    pub natural_frequency: Option<f64>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SearchSummary {
+    /// The pattern (`feedback.poles`) was multiplied by this factor.
+    pub speed_factor: f64,
+    pub suggested_poles: Vec<Pair>,
+    /// 1-based, as in the design file.
+    pub limiting_situation: usize,
+    pub limiting_input: String,
+    /// Peak command / limit at the result (≤ 1).
+    pub peak_ratio: f64,
+    /// Per situation, the slowest state's settling time (null: not settled).
+    pub settling_time: Vec<Option<f64>>,
+    pub monotonic: bool,
+    /// `[factor, peak ratio]` samples of the monotonicity check.
+    pub samples: Vec<[f64; 2]>,
+    pub limited_by_range: bool,
+    pub evaluations: usize,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct DiscretePlantResult {
+    pub a: Vec<Vec<f64>>,
+    pub b: Vec<Vec<f64>>,
+    pub sample_time: f64,
+    pub method: &'static str,
+    pub computation_delay: bool,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ObserverResult {
+    /// `L`, states × outputs (predictor form, or the continuous observer).
+    pub gain: Vec<Vec<f64>>,
+    /// `L_c = Φ⁻¹ L` for the current-estimator form.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub current_gain: Option<Vec<Vec<f64>>>,
+    pub form: &'static str,
+    pub requested_poles: Vec<Pair>,
+    /// Eigenvalues of `A − L C` (or `Φ − L C`), recomputed.
+    pub achieved_poles: Vec<Pair>,
+    pub max_pole_error: f64,
+    pub eigenvector_condition: f64,
+    pub gain_norm: f64,
+    /// `‖K L‖₂`: how strongly measurement noise reaches the control input through the observer.
+    pub noise_to_input_gain: f64,
+    pub detectable: bool,
+}
+
+#[derive(Debug, Clone, Serialize)]
+#[serde(tag = "mode", rename_all = "snake_case")]
+pub enum TrackingResult {
+    Feedforward { outputs: Vec<String>, nx: Vec<Vec<f64>>, nu: Vec<Vec<f64>> },
+    Integral { outputs: Vec<String>, state_gain: Vec<Vec<f64>>, integral_gain: Vec<Vec<f64>>, anti_windup: &'static str, time_constant: Option<f64> },
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SampleRateResult {
+    pub bandwidth: f64,
+    pub samples_per_bandwidth: f64,
+    pub verdict: &'static str,
+    pub message: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct OutputLoopMetrics {
+    pub name: String,
+    pub reference: f64,
+    pub rise_time: Option<f64>,
+    pub settling_time: Option<f64>,
+    pub overshoot: f64,
+    pub steady_state_error: f64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct InputLoopMetrics {
+    pub name: String,
+    pub peak_command: f64,
+    pub limit: Option<f64>,
+    pub time_saturated: f64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct LoopResult {
+    pub sample_time: Option<f64>,
+    pub observer_form: Option<&'static str>,
+    pub duration: f64,
+    pub diverged: bool,
+    pub time: Vec<f64>,
+    pub outputs: Vec<Vec<f64>>,
+    pub measured: Vec<Vec<f64>>,
+    pub reference: Vec<Vec<f64>>,
+    pub states: Vec<Vec<f64>>,
+    pub estimates: Vec<Vec<f64>>,
+    pub inputs: Vec<Vec<f64>>,
+    pub commanded: Vec<Vec<f64>>,
+    pub tracked: Vec<OutputLoopMetrics>,
+    pub input_metrics: Vec<InputLoopMetrics>,
+    /// Eigenvalues of the linear closed loop with observer (when computed).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub loop_poles: Option<Vec<Pair>>,
+    /// Largest distance between those and the union of controller and observer poles
+    /// (separation principle), relative.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub separation_error: Option<f64>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct PlantSummary {
+    pub states: usize,
+    pub inputs: usize,
+    pub outputs: usize,
+    pub state_names: Vec<String>,
+    pub input_names: Vec<String>,
+    pub output_names: Vec<String>,
+    pub state_units: Vec<String>,
+    pub input_units: Vec<String>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct FeedbackResult {
+    /// `K`, inputs × states.
+    pub gain: Vec<Vec<f64>>,
+    pub requested_poles: Vec<Pair>,
+    pub achieved_poles: Vec<Pair>,
+    pub max_pole_error: f64,
+    /// `κ₂(X)`; `null` in JSON when infinite.
+    pub eigenvector_condition: f64,
+    /// `κ₂(D⁻¹ X)` in balanced coordinates (independent of the state units; what the
+    /// `fragile-design` warning judges); `null` when infinite.
+    pub balanced_eigenvector_condition: f64,
+    pub eigenvector_determinant: f64,
+    pub gain_norm: f64,
+    pub iterations: usize,
+    pub converged: bool,
+    pub input_rank: usize,
+    pub not_assigned: Vec<Pair>,
+    pub fixed_modes: Vec<Pair>,
+    /// `K_u` (inputs × inputs) on the previous input, with a computation delay.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub delay_gain: Option<Vec<Vec<f64>>>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ModeResult {
+    pub pole: Pair,
+    pub margin: f64,
+    /// Controllable (or observable, in the observability report).
+    pub controllable: bool,
+    /// `"yes"`, `"weak"` or `"no"`.
+    pub verdict: &'static str,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct StructureResult {
+    /// Dimension of the controllable (observable) subspace.
+    pub rank: usize,
+    pub states: usize,
+    /// Controllable (observable) — every mode reachable (visible).
+    pub complete: bool,
+    /// Stabilisable (detectable).
+    pub stabilizable: bool,
+    pub modes: Vec<ModeResult>,
+    pub uncontrollable_modes: Vec<Pair>,
+    pub tolerance: f64,
+    pub relative_tolerance: f64,
+    pub consistent: bool,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SimulationResult {
+    pub initial_state: Vec<f64>,
+    pub initial_state_chosen: bool,
+    pub duration: f64,
+    pub duration_chosen: bool,
+    pub step: f64,
+    pub band: f64,
+    pub diverged: bool,
+    /// Sample times of the series below (at most about 1000 points, decimated from the fine grid).
+    pub time: Vec<f64>,
+    pub states: Vec<Vec<f64>>,
+    /// Applied (saturated) inputs.
+    pub inputs: Vec<Vec<f64>>,
+    /// Per state, `null` when not settled within the horizon.
+    pub settling_time: Vec<Option<f64>>,
+    /// Per state, fraction of the initial value; `null` for states starting at zero.
+    pub overshoot: Vec<Option<f64>>,
+    pub peak_state: Vec<f64>,
+    /// Per input, peak of the commanded `|−K x|`.
+    pub peak_input: Vec<f64>,
+    pub input_limit: Vec<Option<f64>>,
+    pub first_saturation: Vec<Option<f64>>,
+    pub time_saturated: Vec<f64>,
+}
+
+pub(crate) fn structure(r: &ModalReport) -> StructureResult {
+    StructureResult {
+        rank: r.rank,
+        states: r.states,
+        complete: r.is_complete(),
+        stabilizable: r.stable_hidden_modes,
+        modes: r
+            .modes
+            .iter()
+            .map(|m| ModeResult {
+                pole: pair(m.pole),
+                margin: m.margin,
+                controllable: m.verdict != ModeVerdict::No,
+                verdict: match m.verdict {
+                    ModeVerdict::Yes => "yes",
+                    ModeVerdict::Weak => "weak",
+                    ModeVerdict::No => "no",
+                },
+            })
+            .collect(),
+        uncontrollable_modes: r.hidden_modes.iter().map(|z| pair(*z)).collect(),
+        tolerance: r.tolerance,
+        relative_tolerance: r.relative_tolerance,
+        consistent: r.consistent,
+    }
+}
