@@ -26,7 +26,7 @@ fn textbook_observer_example() {
     assert!(sep < 1e-6, "separation error {sep}");
     // Exactly repeated observer poles: a clear refusal naming the field and the reason.
     match design(&format!(r#"{TEXTBOOK_OBSERVER_PLANT}, "feedback": {{"poles": ["-1.8±2.4j"]}}, "observer": {{"poles": [-8, -8]}}"#)) {
-        Err(DesignError::Input(e)) => assert!(e.field == "observer.poles" && e.message.contains("rank"), "{e}"),
+        Err(DesignError::Input(e)) => assert!(e.field.dotted() == "observer.poles" && e.message.contains("rank"), "{e}"),
         other => panic!("{other:?}"),
     }
 }
@@ -46,18 +46,18 @@ fn tracking_errors_say_why() {
     // Wrong pole count for integral action names the integrators.
     let plant = r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]], "c": [[1, 0]]}"#;
     match design(&format!(r#"{plant}, "feedback": {{"poles": [-1, -2]}}, "tracking": {{"mode": "integral"}}"#)) {
-        Err(DesignError::Input(e)) => assert!(e.field == "feedback.poles" && e.message.contains("integrators"), "{e}"),
+        Err(DesignError::Input(e)) => assert!(e.field.dotted() == "feedback.poles" && e.message.contains("integrators"), "{e}"),
         other => panic!("{other:?}"),
     }
     // Noise needs a digital controller.
     match design(&format!(r#"{plant}, "feedback": {{"poles": [-1, -2]}}, "observer": {{"speed_factor": 3}}, "simulation": {{"noise_std": [0.01]}}"#)) {
-        Err(DesignError::Input(e)) => assert_eq!(e.field, "simulation.noise_std"),
+        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "simulation.noise_std"),
         other => panic!("{other:?}"),
     }
     // Version-2 keys in a version-1 file.
     let v1 = r#"{"format": "polewright.design", "version": 1, "plant": {"a": [[0]], "b": [[1]], "c": [[1]]}, "feedback": {"poles": [-1]}, "observer": {"speed_factor": 3}}"#;
     match run_text(v1) {
-        Err(DesignError::Input(e)) => assert!(e.field == "observer" && e.message.contains("version"), "{e}"),
+        Err(DesignError::Input(e)) => assert!(e.field.dotted() == "observer" && e.message.contains("version"), "{e}"),
         other => panic!("{other:?}"),
     }
 }
@@ -170,7 +170,7 @@ fn fastest_design_within_the_actuator_limits() {
     assert!(r.simulation.peak_input[0] <= 8.0 * (1.0 + 1e-9));
     // Errors: no limits; a digital design.
     match design(r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}, "feedback": {"poles": ["-1±1j"]}, "search": {"fastest_within_limits": true, "situations": [{"initial_state": [1, 0]}]}"#) {
-        Err(DesignError::Input(e)) => assert_eq!(e.field, "search"),
+        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "search"),
         other => panic!("{other:?}"),
     }
 }
@@ -182,7 +182,7 @@ fn poles_from_a_pattern_or_a_specification() {
     let plant = r#""plant": {"a": [[0, 1, 0], [0, 0, 1], [-1, -5, -6]], "b": [[0], [0], [1]]}"#;
     let r = design(&format!(r#"{plant}, "feedback": {{"pattern": {{"family": "bessel", "settling_time": 2.0}}}}"#)).unwrap();
     let pc = r.pole_choice.as_ref().expect("pole choice");
-    assert_eq!(pc.method, "bessel");
+    assert_eq!(pc.method, polewright::design::PoleChoiceMethod::Bessel);
     assert_eq!(pc.suggested_poles.len(), 3);
     // Product of the poles = −(constant term) × k³ and sum = −6 k for θ₃ scaled by k: their ratio
     // fixes k, and both must agree.
@@ -199,18 +199,19 @@ fn poles_from_a_pattern_or_a_specification() {
     assert!(!r.warnings.iter().any(|w| w.code == "pole-outside-region"), "{:?}", r.warnings);
     // Errors name the field.
     match design(&format!(r#"{plant}, "feedback": {{"pattern": {{"family": "bessel"}}}}"#)) {
-        Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback.pattern"),
+        // The missing scale is named precisely (was the whole pattern before version 3).
+        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "feedback.pattern.settling_time"),
         other => panic!("{other:?}"),
     }
     match design(&format!(r#"{plant}, "feedback": {{"poles": [-1, -2, -3], "spec": {{"overshoot": 0.05, "settling_time": 1}}}}"#)) {
-        Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback"),
+        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "feedback"),
         other => panic!("{other:?}"),
     }
     // A pattern gives s-plane poles: asking for z-plane targets with one is refused, not
     // silently read as z-plane poles.
     let digital = r#""implementation": {"sample_time": 0.01}"#;
     match design(&format!(r#"{plant}, {digital}, "feedback": {{"plane": "z", "pattern": {{"family": "bessel", "settling_time": 2.0}}}}"#)) {
-        Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback.plane"),
+        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "feedback.plane"),
         other => panic!("{other:?}"),
     }
     let ok = design(&format!(r#"{plant}, {digital}, "feedback": {{"pattern": {{"family": "bessel", "settling_time": 2.0}}}}"#)).unwrap();
@@ -236,7 +237,7 @@ fn lqr_as_a_way_of_choosing_poles() {
     assert!((l.q[0][0] - 4.0).abs() < 1e-15 && (l.q[1][1] - 0.25).abs() < 1e-15 && (l.r[0][0] - 1.0 / 16.0).abs() < 1e-15);
     // Wrong sizes name the field.
     match design(&format!(r#"{plant}, "feedback": {{"lqr": {{"q": [[1]], "r": [[1]]}}}}"#)) {
-        Err(DesignError::Input(e)) => assert_eq!(e.field, "feedback.lqr.q"),
+        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "feedback.lqr.q"),
         other => panic!("{other:?}"),
     }
     // Digital LQR with integral action runs on the augmented discrete pair.

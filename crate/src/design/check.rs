@@ -253,7 +253,7 @@ fn outputs(v: &OutputList, names: &[String]) -> Option<Result<Vec<usize>, String
                 OutputRef::Name(s) => format!("\"{s}\""),
                 OutputRef::Number(k) => k.to_string(),
             };
-            return Some(Err(format!("entry {}: no output is {shown}; the outputs are {} (or give their numbers, 1 to {p})", i + 1, names.join(", "))));
+            return Some(Err(format!("entry {}: no output is named {shown}; the outputs are {} (or give their numbers, 1 to {p})", i + 1, names.join(", "))));
         };
         if out.contains(&idx) {
             return Some(Err(format!("entry {}: output {} ({}) is listed twice", i + 1, idx + 1, names.get(idx).map_or("", |s| s.as_str()))));

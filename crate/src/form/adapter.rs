@@ -104,7 +104,7 @@ pub fn spec_from_form(form: &FormInput) -> Result<DesignSpec, Vec<FieldError>> {
     let mut errors = Vec::new();
     let mut choice = |key: &'static str, allowed: &[&str]| -> String {
         let v = form.choice(key);
-        if !allowed.contains(&v.as_str()) {
+        if form.is_active(key) && !allowed.contains(&v.as_str()) {
             errors.push(FieldError { field: key, message: format!("\"{v}\" is not a choice; choose one of: {}", allowed.join(", ")) });
         }
         v

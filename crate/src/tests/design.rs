@@ -3,6 +3,16 @@
 //! stands apart from the code that runs.
 
 use super::*;
+use crate::design::check::check_text;
+use crate::design::{DesignError, FieldPath, InputError};
+
+fn parse_design(text: &str) -> Result<(), InputError> {
+    match check_text(text) {
+        Ok(_) => Ok(()),
+        Err(DesignError::Input(e)) => Err(e),
+        Err(other) => panic!("{other:?}"),
+    }
+}
 
 const TEXTBOOK: &str = r#"{"format": "polewright.design", "version": 1,
         "plant": {"a": [[0,1,0],[0,0,1],[-1,-5,-6]], "b": [0,0,1]},
@@ -27,18 +37,20 @@ fn textbook_design_file_runs() {
 fn input_errors_name_the_field() {
     let bad = TEXTBOOK.replace("[[0,1,0],[0,0,1],[-1,-5,-6]]", "[[0,1,0],[0,0],[-1,-5,-6]]");
     let e = parse_design(&bad).unwrap_err();
-    assert_eq!(e.field, "plant.a");
+    assert_eq!(e.field, FieldPath::PlantA);
     assert!(e.message.contains("row 2"), "{e}");
     let bad = TEXTBOOK.replace("\"feedback\"", "\"feedbak\"");
-    assert_eq!(parse_design(&bad).unwrap_err().field, "feedbak");
+    let e = parse_design(&bad).unwrap_err();
+    assert_eq!(e.field, FieldPath::Document);
+    assert!(e.message.contains("feedbak"), "{e}");
     let bad = TEXTBOOK.replace("\"-2±4j\"", "\"-2+4j\"");
     let e = parse_design(&bad).unwrap_err();
-    assert_eq!(e.field, "feedback.poles");
+    assert_eq!(e.field, FieldPath::FeedbackPoles);
     assert!(e.message.contains("-2-4j"), "{e}");
     let bad = TEXTBOOK.replace("\"b\": [0,0,1]", "\"b\": [0,0,1,2]");
-    assert_eq!(parse_design(&bad).unwrap_err().field, "plant.b");
+    assert_eq!(parse_design(&bad).unwrap_err().field, FieldPath::PlantB);
     let e = parse_design("{").unwrap_err();
-    assert_eq!(e.field, "(file)");
+    assert_eq!(e.field, FieldPath::Document);
 }
 
 #[test]

@@ -3,6 +3,7 @@
 //! stands apart from the code that runs.
 
 use super::*;
+use crate::poles::parse_poles;
 
 fn form(a: &str, b: &str, poles: &str) -> FormInput {
     FormInput { a: a.into(), b: b.into(), poles: poles.into(), ..Default::default() }

@@ -249,7 +249,7 @@ fn spec_request(s: &SpecDoc, band: Option<f64>, c: &mut Checker) -> Option<PoleR
             None
         }
         Some(Ok(v)) => {
-            c.push(P::SpecOvershoot, format!("{} % is not an overshoot; give more than 0 % and less than 100 % (5 % for example)", fmt_num(v * 100.0)));
+            c.push(P::SpecOvershoot, format!("{} % is not an overshoot; give the largest overshoot in percent of the step, more than 0 and less than 100 (5 % for example)", fmt_num(v * 100.0)));
             None
         }
         Some(Err(e)) => {
