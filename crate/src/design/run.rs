@@ -692,6 +692,10 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         None
     };
 
+    warnings.extend(observer_speed_warning(spec));
+    if let Some(l) = &closed_loop {
+        warnings.extend(loop_warnings(l, req.band));
+    }
     let search_summary = search.as_ref().map(|r| SearchSummary {
         speed_factor: r.speed_factor,
         suggested_poles: r.poles.iter().map(|z| pair(*z)).collect(),
@@ -723,8 +727,23 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
             Some(ts) => placement.achieved_poles.iter().map(|z| map_to_continuous(*z, ts)).collect(),
             None => placement.achieved_poles.clone(),
         };
-        for v in crate::patterns::region_violations(&achieved_s, region) {
-            warnings.push(Warning::new("pole-outside-region", format!("Closed-loop pole {}: {v}.", format_complex(v.pole))));
+        let violations = crate::patterns::region_violations(&achieved_s, region);
+        let mut outside: Vec<usize> = violations.iter().map(|v| v.index).collect();
+        outside.dedup();
+        if !outside.is_empty() {
+            let slowed = search.as_ref().is_some_and(|r| r.speed_factor < 1.0);
+            let each: Vec<String> = violations.iter().map(|v| format!("{}: {v}", format_complex(v.pole))).collect();
+            warnings.push(Warning::new(
+                "pole-outside-region",
+                format!(
+                    "{} outside the region of the specification (ζ ≥ {}, σ ≥ {} 1/s): the response may not meet the specification{}. {}.",
+                    super::check::plural(outside.len(), "closed-loop pole lies", "closed-loop poles lie"),
+                    fmt_num(region.min_damping),
+                    fmt_num(region.min_decay_rate),
+                    if slowed { "; the search slowed the poles down to keep the inputs within their limits" } else { "" },
+                    each.join("; ")
+                ),
+            ));
         }
     }
     if let Some(c) = &spec.pole_choice {
@@ -787,6 +806,46 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         pole_choice,
         lqr: lqr_result,
     })
+}
+
+/// The usual observer speed factor (common practice): 2–6 times the controller poles.
+pub const OBSERVER_SPEED_RULE: (f64, f64) = (2.0, 6.0);
+
+/// A speed factor outside [`OBSERVER_SPEED_RULE`].
+fn observer_speed_warning(spec: &ControllerSpec) -> Option<Warning> {
+    let Some(ObserverPoles::SpeedFactor(f)) = spec.observer.as_ref().map(|o| &o.poles) else { return None };
+    let (lo, hi) = OBSERVER_SPEED_RULE;
+    if *f < lo {
+        Some(Warning::new("observer-slow", format!("The observer poles are only {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): with a slow observer the estimation error shapes the response.", fmt_num(*f))))
+    } else if *f > hi {
+        Some(Warning::new("observer-fast", format!("The observer poles are {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): a much faster observer passes more measurement noise to the inputs.", fmt_num(*f))))
+    } else {
+        None
+    }
+}
+
+/// What the whole-loop simulation shows: divergence, outputs that do not settle, a failed
+/// separation check.
+fn loop_warnings(l: &LoopResult, band: f64) -> Vec<Warning> {
+    let mut out = Vec::new();
+    for tm in l.tracked.iter().filter(|tm| tm.settling_time.is_none() && !l.diverged) {
+        out.push(Warning::new(
+            "loop-not-settled",
+            format!(
+                "In the loop simulation, {} does not settle within ±{} % of its reference step before the simulation ends ({} s) or the load step comes: lengthen the simulated time, or make the controller faster.",
+                tm.name,
+                fmt_num(band * 100.0),
+                fmt_num(l.duration)
+            ),
+        ));
+    }
+    if l.diverged {
+        out.push(Warning::new("loop-diverged", "The loop simulation (the whole controller with the plant) grew without bound and was stopped: this controller does not stabilise the plant as simulated."));
+    }
+    if let Some(e) = l.separation_error.filter(|e| !(*e <= 1e-6)) {
+        out.push(Warning::new("separation-failed", format!("The eigenvalues of the loop with observer differ from the controller and observer poles by up to {} (relative): the separation check failed; treat the design with care.", fmt_num(e))));
+    }
+    out
 }
 
 /// Reads, checks and runs a design file (what the CLI does).

@@ -92,7 +92,7 @@ use crate::poles::{check_conjugate_pairs, format_complex, format_pole_list, sort
 pub const MAX_STATES: usize = 50;
 
 /// The usual observer speed factor range (common practice): 2–6 times the controller poles.
-pub const OBSERVER_SPEED_RULE: (f64, f64) = (2.0, 6.0);
+pub use crate::design::run::OBSERVER_SPEED_RULE;
 
 /// Observer speed factor used when the field is blank.
 pub use crate::design::check::DEFAULT_OBSERVER_SPEED;
@@ -1397,9 +1397,9 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
     sort_for_display(&mut open);
     let (states, inputs, simulation) = response_rows(result);
     let discrete = result.domain == "discrete";
-    let mut warnings: Vec<String> = result.warnings.iter().map(|w| w.message.clone()).collect();
-    let controller = controller_report(result, context, &mut warnings);
-    let pole_choice = pole_choice_report(result, context, &mut warnings);
+    let warnings: Vec<String> = result.warnings.iter().map(|w| w.message.clone()).collect();
+    let controller = controller_report(result, context);
+    let pole_choice = pole_choice_report(result, context);
     Report {
         law: "u = −K x".into(),
         gain: gain_table(result),
@@ -1495,7 +1495,7 @@ fn law_lines(result: &DesignResult) -> Vec<String> {
     lines
 }
 
-fn controller_report(result: &DesignResult, context: &ReportContext, warnings: &mut Vec<String>) -> Option<ControllerReport> {
+fn controller_report(result: &DesignResult, context: &ReportContext) -> Option<ControllerReport> {
     let v2 = result.sample_time.is_some() || result.observer.is_some() || result.tracking.is_some() || result.closed_loop.is_some();
     if !v2 {
         return None;
@@ -1594,14 +1594,6 @@ fn controller_report(result: &DesignResult, context: &ReportContext, warnings: &
             fmt_num(o.noise_to_input_gain),
             fmt_num(o.noise_to_input_gain)
         );
-        if let Some(f) = context.speed_factor {
-            let (lo, hi) = OBSERVER_SPEED_RULE;
-            if f < lo {
-                warnings.push(format!("The observer poles are only {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): with a slow observer the estimation error shapes the response.", fmt_num(f)));
-            } else if f > hi {
-                warnings.push(format!("The observer poles are {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): a much faster observer passes more measurement noise to the inputs.", fmt_num(f)));
-            }
-        }
         ObserverReport { gain, current_gain, poles: matched_pole_rows(result, &o.requested_poles, &o.achieved_poles), summary, noise }
     });
 
@@ -1628,14 +1620,6 @@ fn controller_report(result: &DesignResult, context: &ReportContext, warnings: &
                     with_unit(fmt_num(tm.steady_state_error), u.as_ref())
                 },
             });
-            if tm.settling_time.is_none() && !l.diverged {
-                warnings.push(format!(
-                    "In the loop simulation, {} does not settle within ±{} % of its reference step before the simulation ends ({} s) or the load step comes: lengthen the simulated time, or make the controller faster.",
-                    tm.name,
-                    fmt_num(band * 100.0),
-                    fmt_num(l.duration)
-                ));
-            }
         }
         for (i, im) in l.input_metrics.iter().enumerate() {
             let u = p.input_units.get(i);
@@ -1705,14 +1689,6 @@ fn controller_report(result: &DesignResult, context: &ReportContext, warnings: &
             parts.join("; "),
             if result.simulation.input_limit.iter().any(|x| x.is_some()) { "; inputs clipped at their limits" } else { "" }
         ));
-        if l.diverged {
-            warnings.push("The loop simulation (the whole controller with the plant) grew without bound and was stopped: this controller does not stabilise the plant as simulated.".into());
-        }
-        if let Some(e) = l.separation_error {
-            if !(e <= 1e-6) {
-                warnings.push(format!("The eigenvalues of the loop with observer differ from the controller and observer poles by up to {} (relative): the separation check failed; treat the design with care.", fmt_num(e)));
-            }
-        }
     }
     Some(ControllerReport {
         law: law_lines(result),
@@ -1814,7 +1790,7 @@ fn region_violations_of(result: &DesignResult, region: &crate::patterns::Region)
     }
 }
 
-fn region_report(result: &DesignResult, r: &design::RegionResult, warnings: &mut Vec<String>) -> RegionReport {
+fn region_report(result: &DesignResult, r: &design::RegionResult) -> RegionReport {
     let region = region_of(r);
     let t = match (result.domain, result.sample_time) {
         ("discrete", Some(t)) => Some(t),
@@ -1831,17 +1807,6 @@ fn region_report(result: &DesignResult, r: &design::RegionResult, warnings: &mut
     let note = "These bounds come from the formulas of a pure second-order pair (no zeros, no other poles); for this closed loop they are approximations: confirm the response by simulation.".to_string();
     let violations = region_violations_of(result, &region);
     let outside_region: Vec<String> = violations.iter().map(|v| violation_text(v, &region, t)).collect();
-    if !violations.is_empty() {
-        let mut poles: Vec<usize> = violations.iter().map(|v| v.index).collect();
-        poles.dedup();
-        let slowed = result.search.as_ref().is_some_and(|s| s.speed_factor < 1.0);
-        warnings.push(format!(
-            "{} outside the region of the specification ({}): the response may not meet the specification{}. See how the poles were chosen.",
-            plural(poles.len(), "closed-loop pole lies", "closed-loop poles lie"),
-            specification_words(result, &region),
-            if slowed { "; the search slowed the poles down to keep the inputs within their limits" } else { "" }
-        ));
-    }
     RegionReport { damping, decay_rate, natural_frequency, note, outside_region }
 }
 
@@ -1963,7 +1928,7 @@ fn search_report(result: &DesignResult, s: &design::SearchSummary, context: &Rep
 }
 
 /// How the poles were chosen: `None` when they were listed and not searched.
-fn pole_choice_report(result: &DesignResult, context: &ReportContext, warnings: &mut Vec<String>) -> Option<PoleChoiceReport> {
+fn pole_choice_report(result: &DesignResult, context: &ReportContext) -> Option<PoleChoiceReport> {
     let choice = result.pole_choice.as_ref();
     let lqr = result.lqr.as_ref();
     let search = result.search.as_ref();
@@ -2055,7 +2020,7 @@ fn pole_choice_report(result: &DesignResult, context: &ReportContext, warnings: 
         suggested_note,
         suggested_plane: suggested_plane.to_string(),
         suggested_delay_poles,
-        region: choice.and_then(|c| c.region.as_ref()).map(|r| region_report(result, r, warnings)),
+        region: choice.and_then(|c| c.region.as_ref()).map(|r| region_report(result, r)),
         lqr: lqr.map(|l| lqr_report(result, l, context)),
         search: search.map(|s| search_report(result, s, context)),
     })
