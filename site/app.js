@@ -61,6 +61,7 @@ let pending = 0;
 const designNow = guarded(() => {
   clearTimeout(pending);
   if (ready) update_page();
+  rememberNow();
 });
 const designSoon = () => {
   if (!ready) return;
@@ -71,6 +72,9 @@ const designSoon = () => {
 const loadDemo = guarded(() => {
   load_demo(Number(byId('pw-demo').value));
   designNow();
+});
+const undoLoad = guarded(() => {
+  if (undo_load()) designNow();
 });
 
 // Keys on the pole map: N / P (PageDown / PageUp) choose a pole, Home / End the first / last;
@@ -127,13 +131,73 @@ const copyText = guarded((button) => {
   }
 });
 
+// The design document: save (download), open (picker or drop), remember in this browser,
+// undo a load or open, and ask before leaving with unsaved changes. Rust checks and converts;
+// this only moves text between the page and the browser.
+const STORE_ON = 'polewright.remember';
+const STORE_FORM = 'polewright.form';
+let savedText = null; // the document as last saved, opened or first shown
+const storage = () => {
+  try {
+    return window.localStorage;
+  } catch (err) {
+    return null; // storage refused (some browsers for file:// pages): remembering is off
+  }
+};
+const remembering = () => byId('pw-remember').checked;
+function rememberNow() {
+  const store = storage();
+  if (!store || !remembering()) return;
+  try {
+    store.setItem(STORE_ON, '1');
+    store.setItem(STORE_FORM, form_state());
+  } catch (err) {
+    byId('pw-file-status').textContent = `This browser did not store the design (${err.message}).`;
+  }
+}
+const markSaved = guarded(() => {
+  savedText = document_text();
+});
+const saveDesign = guarded(() => {
+  const text = document_text();
+  const title = byId('pw-title').value.trim().replace(/[^A-Za-z0-9._ -]+/g, '').replace(/\s+/g, '-') || 'design';
+  const link = document.createElement('a');
+  link.href = `data:application/json;charset=utf-8,${encodeURIComponent(text)}`;
+  link.download = `${title}.json`;
+  document.body.appendChild(link);
+  link.click();
+  link.remove();
+  savedText = text;
+  byId('pw-file-status').textContent = `Saved as ${link.download} (in the browser's download folder).`;
+});
+const openText = guarded((text, name) => {
+  const problem = open_document(text, name);
+  if (!problem) {
+    designNow();
+    markSaved();
+  }
+});
+function openFile(file) {
+  if (!file) return;
+  file.text().then((text) => openText(text, file.name), (err) => {
+    byId('pw-file-status').textContent = `${file.name} could not be read: ${err.message}`;
+  });
+}
+
 async function boot() {
   try {
     initSync({ module: await wasmBytes() });
     ready = true;
     byId('pw-version').textContent = version();
     init_page();
+    const store = storage();
+    if (store && store.getItem(STORE_ON) === '1') {
+      byId('pw-remember').checked = true;
+      const saved = store.getItem(STORE_FORM);
+      if (saved && restore_form_state(saved)) byId('pw-file-status').textContent = 'The remembered design was restored.';
+    }
     update_page();
+    markSaved();
   } catch (err) {
     showError(`Polewright could not start: ${err && err.message ? err.message : String(err)}`);
   }
@@ -156,6 +220,53 @@ form.addEventListener('change', (e) => {
 });
 byId('pw-demo').addEventListener('change', guarded((e) => show_demo_description(Number(e.target.value))));
 byId('pw-load-demo').addEventListener('click', loadDemo);
+byId('pw-undo-load').addEventListener('click', undoLoad);
+byId('pw-save').addEventListener('click', saveDesign);
+byId('pw-open-file').addEventListener('change', (e) => {
+  openFile(e.target.files[0]);
+  e.target.value = '';
+});
+document.addEventListener('dragover', (e) => {
+  if (e.dataTransfer && [...e.dataTransfer.types].includes('Files')) {
+    e.preventDefault();
+    document.body.classList.add('is-dropping');
+  }
+});
+document.addEventListener('dragleave', () => document.body.classList.remove('is-dropping'));
+document.addEventListener('drop', (e) => {
+  document.body.classList.remove('is-dropping');
+  if (e.dataTransfer && e.dataTransfer.files.length) {
+    e.preventDefault();
+    openFile(e.dataTransfer.files[0]);
+  }
+});
+byId('pw-remember').addEventListener('change', (e) => {
+  const store = storage();
+  if (!store) {
+    e.target.checked = false;
+    byId('pw-file-status').textContent = 'This browser does not allow storage for this page: nothing is remembered.';
+    return;
+  }
+  if (e.target.checked) {
+    rememberNow();
+  } else {
+    store.removeItem(STORE_ON);
+    store.removeItem(STORE_FORM);
+  }
+});
+window.addEventListener('beforeunload', (e) => {
+  if (!ready || savedText === null) return;
+  let now = null;
+  try {
+    now = document_text();
+  } catch (err) {
+    return;
+  }
+  if (now !== savedText) {
+    e.preventDefault();
+    e.returnValue = '';
+  }
+});
 for (const button of document.querySelectorAll('button[data-copy]')) {
   button.addEventListener('click', () => copyText(button));
 }

@@ -358,6 +358,8 @@ struct PageState {
     tables: Vec<TableView>,
     feedback: Vec<(&'static str, Feedback)>,
     last_input: FormInput,
+    /// The forms before each demo load or file open (newest last), for *Undo load or open*.
+    form_undo: Vec<FormInput>,
     /// The pole list being edited from the map (kept in step with the poles field).
     history: Option<EditHistory>,
     /// The editable markers as drawn, in the order of `pole_scene.requested`.
@@ -426,6 +428,7 @@ thread_local! {
         tables: Vec::new(),
         feedback: Vec::new(),
         last_input: FormInput::default(),
+        form_undo: Vec::new(),
         history: None,
         requested_markers: Vec::new(),
         plane_map: PlaneMap::Same,
@@ -715,6 +718,10 @@ fn fit_rows(t: &HtmlTextAreaElement) {
     }
 }
 
+#[path = "web_document.rs"]
+mod document;
+pub use document::*;
+
 fn read_form(doc: &Document) -> Result<FormInput, JsValue> {
     let mut form = FormInput::default();
     for key in FormInput::FIELDS {
@@ -750,6 +757,7 @@ pub fn show_demo_description(index: usize) -> Result<(), JsValue> {
 pub fn load_demo(index: usize) -> Result<(), JsValue> {
     let doc = document()?;
     let d = crate::demos::demo(index).ok_or_else(|| js_err("demo", format!("there is no demo {index}")))?;
+    document::remember_form(&doc)?;
     for key in FormInput::FIELDS {
         set_control_value(&doc, key, d.form.get(key).unwrap_or(""))?;
     }

@@ -1,0 +1,124 @@
+//! The page's design document: save, open (picker or drop), remember in this browser, and undo
+//! of a demo load or a file open. The document is the one of [`crate::design::spec`]; the form
+//! adapter ([`crate::form::adapter`]) turns it into the controls and back. The browser side
+//! (download, file reading, storage, the leave-page prompt) is a few lines in `site/app.js`.
+
+use wasm_bindgen::prelude::*;
+use web_sys::Document;
+
+use super::{document, js_err, read_form, set_control_value, set_text, with_page};
+use crate::design::{read_design, write_design};
+use crate::form::{form_from_spec, spec_from_form, FormInput};
+
+const FILE_STATUS: &str = "pw-file-status";
+const UNDO_LOAD: &str = "pw-undo-load";
+/// Most forms kept for *Undo load or open*.
+const MAX_FORM_UNDO: usize = 20;
+
+/// Keeps the current form so that the next load or open can be undone (the very first demo
+/// load, into an empty page, is not kept).
+pub(super) fn remember_form(doc: &Document) -> Result<(), JsValue> {
+    let current = read_form(doc)?;
+    if current == FormInput::default() || current.a.trim().is_empty() && current.b.trim().is_empty() {
+        return Ok(());
+    }
+    let depth = with_page(|page| {
+        page.form_undo.push(current);
+        if page.form_undo.len() > MAX_FORM_UNDO {
+            page.form_undo.remove(0);
+        }
+        Ok(page.form_undo.len())
+    })?;
+    set_undo_button(doc, depth)
+}
+
+fn set_undo_button(doc: &Document, depth: usize) -> Result<(), JsValue> {
+    if let Some(b) = doc.get_element_by_id(UNDO_LOAD) {
+        if depth == 0 {
+            b.set_attribute("disabled", "")?;
+        } else {
+            b.remove_attribute("disabled")?;
+        }
+    }
+    Ok(())
+}
+
+fn write_form(doc: &Document, form: &FormInput) -> Result<(), JsValue> {
+    for key in FormInput::FIELDS {
+        set_control_value(doc, key, form.get(key).unwrap_or(""))?;
+    }
+    // A new document starts a new pole-edit history.
+    with_page(|page| {
+        page.history = None;
+        page.focus_requested = None;
+        page.focus = None;
+        page.edit_message = None;
+        Ok(())
+    })
+}
+
+/// The current design document as the text *Save design* downloads (pretty JSON, the CLI's
+/// format). What was typed is kept as typed, including fields that do not read yet.
+///
+/// # Errors
+/// A message when a choice control holds a value that is not one of its choices.
+#[wasm_bindgen]
+pub fn document_text() -> Result<String, JsValue> {
+    let doc = document()?;
+    let form = read_form(&doc)?;
+    let spec = spec_from_form(&form).map_err(|errors| js_err("save", errors.iter().map(|e| format!("{}: {}", e.field, e.message)).collect::<Vec<_>>().join("; ")))?;
+    write_design(&spec).map_err(|e| js_err("save", e))
+}
+
+/// Opens a design file's text: everything is checked first; on any problem the page is left
+/// as it was and the message (naming the field) is returned. An empty string means opened.
+#[wasm_bindgen]
+pub fn open_document(text: &str, file_name: &str) -> Result<String, JsValue> {
+    let doc = document()?;
+    let shown = file_name.chars().take(80).collect::<String>();
+    let form = match read_design(text).map_err(|e| e.to_string()).and_then(|spec| form_from_spec(&spec)) {
+        Ok(form) => form,
+        Err(message) => {
+            let m = format!("{shown} was not opened (the design on the page is unchanged): {message}");
+            set_text(&doc, FILE_STATUS, &m)?;
+            return Ok(m);
+        }
+    };
+    remember_form(&doc)?;
+    write_form(&doc, &form)?;
+    set_text(&doc, FILE_STATUS, &format!("Opened {shown}."))?;
+    Ok(String::new())
+}
+
+/// Undoes the last demo load or file open; false when there is nothing to undo.
+#[wasm_bindgen]
+pub fn undo_load() -> Result<bool, JsValue> {
+    let doc = document()?;
+    let (previous, depth) = with_page(|page| Ok((page.form_undo.pop(), page.form_undo.len())))?;
+    set_undo_button(&doc, depth)?;
+    match previous {
+        Some(form) => {
+            write_form(&doc, &form)?;
+            set_text(&doc, FILE_STATUS, "The design before the last load or open is back.")?;
+            Ok(true)
+        }
+        None => Ok(false),
+    }
+}
+
+/// Every form field as JSON (what *Remember this design* stores: the document and the text of
+/// sections that are switched off, so a reload restores the page exactly).
+#[wasm_bindgen]
+pub fn form_state() -> Result<String, JsValue> {
+    let form = read_form(&document()?)?;
+    serde_json::to_string(&form).map_err(|e| js_err("remember", e))
+}
+
+/// Restores [`form_state`] text; a stored state that does not read (another version, a damaged
+/// entry) is ignored and false is returned, leaving the page as it is.
+#[wasm_bindgen]
+pub fn restore_form_state(text: &str) -> Result<bool, JsValue> {
+    let Ok(form) = serde_json::from_str::<FormInput>(text) else { return Ok(false) };
+    write_form(&document()?, &form)?;
+    Ok(true)
+}
