@@ -1,0 +1,131 @@
+// End-to-end checks of the design document on the built page, from file:// and from
+// http://127.0.0.1: Save design downloads the document, Open design (picker) restores every
+// field, a bad file changes nothing, Remember this design restores after a reload (and stores
+// nothing when off), leaving with unsaved changes asks first, and a demo load is undone.
+// Run: node --test tests/e2e/   (after scripts/build-page)
+
+import assert from 'node:assert/strict';
+import fs from 'node:fs';
+import { after, before, describe, test } from 'node:test';
+import { closeBrowser, distDir, FORM_FIELDS, pageFileUrl, requireBuiltPage, startStaticServer, withPage } from './harness.mjs';
+
+before(() => requireBuiltPage());
+after(async () => closeBrowser());
+
+const ALL_FIELDS = ['title', 'notes', ...FORM_FIELDS];
+
+/** Every form control's value (checkboxes as "true"/""). */
+async function fieldValues(page) {
+  return page.evaluate((keys) => Object.fromEntries(keys.map((k) => {
+    const el = document.getElementById(`pw-${k}`);
+    return [k, el.type === 'checkbox' ? (el.checked ? 'true' : '') : el.value];
+  })), ALL_FIELDS);
+}
+
+async function waitDesigned(page) {
+  await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+}
+
+async function saveDownload(page) {
+  const [download] = await Promise.all([page.waitForEvent('download'), page.click('#pw-save')]);
+  return fs.readFileSync(await download.path(), 'utf8');
+}
+
+async function checkSaveOpen(url) {
+  await withPage(url, async ({ page, requests }) => {
+    await waitDesigned(page);
+    await page.fill('#pw-title', 'Illustrative carriage, review copy');
+    await page.fill('#pw-notes', 'Invented data.\nSecond line.');
+    await page.fill('#pw-limits', '');
+    const before = await fieldValues(page);
+    const text = await saveDownload(page);
+    const doc = JSON.parse(text);
+    assert.equal(doc.format, 'polewright.design');
+    assert.equal(doc.version, 3);
+    assert.equal(doc.title, 'Illustrative carriage, review copy');
+    // Another design replaces it; opening the saved file brings every field back.
+    await page.selectOption('#pw-demo', '1');
+    await page.click('#pw-load-demo');
+    assert.notDeepEqual(await fieldValues(page), before);
+    await page.setInputFiles('#pw-open-file', { name: 'saved.json', mimeType: 'application/json', buffer: Buffer.from(text) });
+    await page.waitForFunction(() => document.getElementById('pw-file-status').textContent.startsWith('Opened'));
+    assert.deepEqual(await fieldValues(page), before);
+    // A truncated file is refused with the reason, and the page keeps its design.
+    await page.setInputFiles('#pw-open-file', { name: 'bad.json', mimeType: 'application/json', buffer: Buffer.from(text.slice(0, 40)) });
+    await page.waitForFunction(() => document.getElementById('pw-file-status').textContent.includes('was not opened'));
+    assert.deepEqual(await fieldValues(page), before);
+    // A newer version is refused by name.
+    await page.setInputFiles('#pw-open-file', { name: 'new.json', mimeType: 'application/json', buffer: Buffer.from(text.replace('"version": 3', '"version": 7')) });
+    await page.waitForFunction(() => document.getElementById('pw-file-status').textContent.includes('version 7 is newer'));
+    assert.deepEqual(await fieldValues(page), before);
+    // Nothing left the page: every request is the page itself or a data:/blob: URL.
+    const base = url.split('#')[0];
+    assert.deepEqual(requests.filter((r) => r !== base && !r.startsWith('data:') && !r.startsWith('blob:')), []);
+  });
+}
+
+describe('design document', () => {
+  test('save, open and a refused bad file, from file://', async () => checkSaveOpen(pageFileUrl));
+
+  test('save, open and a refused bad file, from http://127.0.0.1', async () => {
+    const server = await startStaticServer(distDir);
+    try {
+      await checkSaveOpen(`${server.origin}/polewright.html`);
+    } finally {
+      await server.close();
+    }
+  });
+
+  test('remembering on restores after a reload; off stores nothing', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      await waitDesigned(page);
+      assert.equal(await page.evaluate(() => localStorage.length), 0, 'nothing stored before opting in');
+      await page.fill('#pw-title', 'Remembered design');
+      await page.fill('#pw-poles', '-4, -5, -6, -7');
+      await page.check('#pw-remember');
+      await page.click('#pw-design');
+      await waitDesigned(page);
+      const before = await fieldValues(page);
+      await page.reload();
+      await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+      assert.deepEqual(await fieldValues(page), before);
+      assert.equal(await page.isChecked('#pw-remember'), true);
+      await page.uncheck('#pw-remember');
+      assert.equal(await page.evaluate(() => localStorage.length), 0, 'turning it off removes what was stored');
+      await page.reload();
+      await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+      assert.notEqual((await fieldValues(page)).title, 'Remembered design');
+      assert.equal(await page.evaluate(() => localStorage.length), 0);
+    });
+  });
+
+  test('leaving with unsaved changes asks first', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      await waitDesigned(page);
+      await page.click('#pw-title');
+      await page.keyboard.type('edited');
+      const dialogs = [];
+      page.on('dialog', (d) => {
+        dialogs.push(d.type());
+        d.dismiss();
+      });
+      await page.close({ runBeforeUnload: true });
+      await new Promise((r) => setTimeout(r, 500));
+      assert.deepEqual(dialogs, ['beforeunload']);
+    });
+  });
+
+  test('a demonstration load is undone', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      await waitDesigned(page);
+      await page.fill('#pw-poles', '-3, -4, -5, -6');
+      const before = await fieldValues(page);
+      await page.selectOption('#pw-demo', '1');
+      await page.click('#pw-load-demo');
+      assert.notDeepEqual(await fieldValues(page), before);
+      await page.click('#pw-undo-load');
+      assert.deepEqual(await fieldValues(page), before);
+      assert.equal(await page.isDisabled('#pw-undo-load'), true);
+    });
+  });
+});
