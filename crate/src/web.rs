@@ -765,13 +765,7 @@ pub fn load_demo(index: usize) -> Result<(), JsValue> {
         sel.set_value(&index.to_string());
     }
     // A new plant starts a new edit history (undoing into another plant's poles makes no sense).
-    with_page(|page| {
-        page.history = None;
-        page.focus_requested = None;
-        page.focus = None;
-        page.edit_message = None;
-        Ok(())
-    })?;
+    document::reset_edit_history()?;
     set_text(&doc, ids::DEMO_DESCRIPTION, d.description)
 }
 

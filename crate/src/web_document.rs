@@ -47,7 +47,11 @@ fn write_form(doc: &Document, form: &FormInput) -> Result<(), JsValue> {
     for key in FormInput::FIELDS {
         set_control_value(doc, key, form.get(key).unwrap_or(""))?;
     }
-    // A new document starts a new pole-edit history.
+    reset_edit_history()
+}
+
+/// A new document (demo, opened file, undone load) starts a new pole-edit history.
+pub(super) fn reset_edit_history() -> Result<(), JsValue> {
     with_page(|page| {
         page.history = None;
         page.focus_requested = None;
