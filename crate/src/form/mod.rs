@@ -2253,19 +2253,25 @@ pub fn loop_outputs_scene(result: &DesignResult, report: &Report) -> Option<Time
         let i = p.output_names.iter().position(|n| *n == tm.name).unwrap_or(j);
         series.push(Series { name: format!("reference for {}", p.output_names.get(i).map_or("", |s| s.as_str())), values: r.clone(), colour: Some(i), dash: Some(1) });
     }
-    Some(TimePlotScene {
+    Some(loop_scene(l, report, series, Vec::new(), "output", shared))
+}
+
+/// A plot of the loop simulation: its time axis, the reference and load steps marked, and one
+/// y label (`quantity (unit)` with a shared unit, else "own units").
+fn loop_scene(l: &design::LoopResult, report: &Report, series: Vec<Series>, limits: Vec<LimitLine>, quantity: &str, shared: Option<String>) -> TimePlotScene {
+    TimePlotScene {
         t: l.time.clone(),
         series,
-        limits: Vec::new(),
+        limits,
         band: None,
         events: report.controller.as_ref().map(|c| c.events.clone()).unwrap_or_default(),
         x_label: "time (s)".into(),
         y_label: match shared {
-            Some(u) => format!("output ({u})"),
-            None => "output (own units)".into(),
+            Some(u) => format!("{quantity} ({u})"),
+            None => format!("{quantity} (own units)"),
         },
         pinned: Vec::new(),
-    })
+    }
 }
 
 /// The loop's applied inputs (solid) and the commands before clipping (dashed, same colour),
@@ -2284,19 +2290,7 @@ pub fn loop_inputs_scene(result: &DesignResult, report: &Report) -> Option<TimeP
     };
     let mut series: Vec<Series> = l.inputs.iter().enumerate().map(|(i, v)| Series { name: format!("{} applied", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(0) }).collect();
     series.extend(l.commanded.iter().enumerate().map(|(i, v)| Series { name: format!("{} commanded", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(1) }));
-    Some(TimePlotScene {
-        t: l.time.clone(),
-        series,
-        limits: limit_lines(result),
-        band: None,
-        events: report.controller.as_ref().map(|c| c.events.clone()).unwrap_or_default(),
-        x_label: "time (s)".into(),
-        y_label: match shared {
-            Some(u) => format!("input ({u})"),
-            None => "input (own units)".into(),
-        },
-        pinned: Vec::new(),
-    })
+    Some(loop_scene(l, report, series, limit_lines(result), "input", shared))
 }
 
 /// The estimation error `x − x̂` of each state in the loop, divided by that state's peak

@@ -34,6 +34,17 @@ pub(super) fn controller(spec: &DesignSpec, plant: Option<&Plant>, c: &mut Check
     out
 }
 
+/// A pole list that read (`r`), with its live size; when `expected` is known and differs, the
+/// error `mismatch(given, expected)` goes to `path`. The list is kept even then, as before.
+fn counted_poles(c: &mut Checker, path: P, r: Result<Vec<Complex64>, String>, expected: Option<usize>, mismatch: impl Fn(usize, usize) -> String) -> Option<Vec<Complex64>> {
+    let p = c.take(path, r)?;
+    c.size(path, plural(p.len(), "pole", "poles"));
+    if let Some(e) = expected.filter(|e| *e != p.len()) {
+        c.push(path, mismatch(p.len(), e));
+    }
+    Some(p)
+}
+
 /// The digital implementation; true when the controller is digital (a sample time was given,
 /// even one that did not read).
 fn implementation(spec: &DesignSpec, m: Option<usize>, out: &mut ControllerSpec, c: &mut Checker) -> bool {
@@ -61,16 +72,9 @@ fn implementation(spec: &DesignSpec, m: Option<usize>, out: &mut ControllerSpec,
         }
         Some(p) => match poles(p) {
             None => Some(Vec::new()),
-            Some(r) => {
-                let p = c.take(P::DelayPoles, r);
-                if let Some(p) = &p {
-                    c.size(P::DelayPoles, plural(p.len(), "pole", "poles"));
-                    if let Some(m) = m.filter(|m| *m != p.len()) {
-                        c.push(P::DelayPoles, format!("{} given but the plant has {}; give one z-plane pole per input (0 is usual), or leave this out for 0", plural(p.len(), "pole", "poles"), plural(m, "input", "inputs")));
-                    }
-                }
-                p
-            }
+            Some(r) => counted_poles(c, P::DelayPoles, r, m, |k, m| {
+                format!("{} given but the plant has {}; give one z-plane pole per input (0 is usual), or leave this out for 0", plural(k, "pole", "poles"), plural(m, "input", "inputs"))
+            }),
         },
         None => Some(Vec::new()),
     };
@@ -96,16 +100,8 @@ fn observer(spec: &DesignSpec, n: Option<usize>, has_c: Option<bool>, digital: b
                 c.push(P::ObserverPoles, "required with this choice: list one observer pole per state, or choose a speed factor instead");
                 None
             }
-            Some(r) => {
-                let p = c.take(P::ObserverPoles, r);
-                if let Some(p) = &p {
-                    c.size(P::ObserverPoles, plural(p.len(), "pole", "poles"));
-                    if let Some(n) = n.filter(|n| *n != p.len()) {
-                        c.push(P::ObserverPoles, format!("{} given but the plant has {}; give one observer pole per state", plural(p.len(), "pole", "poles"), plural(n, "state", "states")));
-                    }
-                }
-                p.map(ObserverPoles::Given)
-            }
+            Some(r) => counted_poles(c, P::ObserverPoles, r, n, |k, n| format!("{} given but the plant has {}; give one observer pole per state", plural(k, "pole", "poles"), plural(n, "state", "states")))
+                .map(ObserverPoles::Given),
         },
         (None, Some(f)) => match positive(f, "how many times faster than the controller poles", "4") {
             None => Some(ObserverPoles::SpeedFactor(DEFAULT_OBSERVER_SPEED)),
@@ -168,16 +164,9 @@ fn tracking(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, out: 
         }
         let integral_poles = match t.integral_poles.as_ref().filter(|_| mode == TrackingMode::Integral).and_then(poles) {
             None => Some(Vec::new()),
-            Some(r) => {
-                let p = c.take(P::IntegralPoles, r);
-                if let Some(p) = &p {
-                    c.size(P::IntegralPoles, plural(p.len(), "pole", "poles"));
-                    if let Some(q) = tracked.filter(|q| *q != p.len()) {
-                        c.push(P::IntegralPoles, format!("{} given but {} tracked; give one pole per integrator, or leave this out and list them with the controller poles", plural(p.len(), "pole", "poles"), plural(q, "output is", "outputs are")));
-                    }
-                }
-                p
-            }
+            Some(r) => counted_poles(c, P::IntegralPoles, r, tracked, |k, q| {
+                format!("{} given but {} tracked; give one pole per integrator, or leave this out and list them with the controller poles", plural(k, "pole", "poles"), plural(q, "output is", "outputs are"))
+            }),
         };
         if t.integral_poles.is_some() && mode != TrackingMode::Integral {
             c.push(P::IntegralPoles, "integrator poles belong to integral action: leave them out, or use integral action");
