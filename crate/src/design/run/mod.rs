@@ -1,0 +1,247 @@
+//! The design run: gains, observer, tracking and integral action, the simulations and the
+//! warnings, for a checked design ([`crate::design::check`]).
+
+use num_complex::Complex64;
+
+mod gains;
+mod pair;
+mod setup;
+mod simulation;
+mod warnings;
+
+use super::check::{check_text, CheckedDesign, PoleSource};
+use super::{RESULT_FORMAT, RESULT_VERSION};
+use super::result::*;
+use super::{ControllerSpec, DesignError, DesignRequest, FieldPath as P, InputError, LqrWeights, TrackingSpec};
+use crate::plant::Plant;
+
+/// Runs a plain state-feedback design (no controller sections).
+///
+/// # Errors
+/// See [`DesignError`].
+pub fn run(req: &DesignRequest) -> Result<DesignResult, DesignError> {
+    run_with(req, &ControllerSpec::default())
+}
+
+/// Keeps conjugate pairs together while taking the `count` fastest poles (a leftover single slot
+/// takes the real part of the next pair).
+fn fastest_poles(poles: &[Complex64], count: usize) -> Vec<Complex64> {
+    let mut units: Vec<Complex64> = poles.iter().filter(|z| z.im >= 0.0).cloned().collect();
+    units.sort_by(|x, y| y.norm().total_cmp(&x.norm()));
+    let mut out = Vec::new();
+    for z in units {
+        if out.len() >= count {
+            break;
+        }
+        if z.im > 0.0 && out.len() + 2 <= count {
+            out.push(z);
+            out.push(z.conj());
+        } else if z.im > 0.0 {
+            out.push(Complex64::new(z.re, 0.0));
+        } else {
+            out.push(z);
+        }
+    }
+    out
+}
+
+/// Runs a design with the version-2 controller features: digital implementation, observer,
+/// tracking, integral action with anti-windup, and the whole-loop simulation. The stages:
+/// `setup` (the plant in the design domain), `pair` (the design pair and its poles), `gains`
+/// (analysis, gains, observer, feedforward), `simulation` (free response and loop) and
+/// `warnings`; this function only puts the result together.
+///
+/// # Errors
+/// See [`DesignError`].
+pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResult, DesignError> {
+    let s = setup::Setup::new(req, spec)?;
+    let dp = pair::design_pair(&s)?;
+    let analysis = gains::analysis(&s)?;
+    let g = gains::gains(&s, &dp)?;
+    let advice = s.t.map(|t| crate::controller::sample_rate_advice(&s.to_s(&dp.base_poles), t));
+    let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
+    let mut warnings = warnings::requested_pole_warnings(&s, &dp, anorm);
+    warnings.extend(warnings::placement_warnings(&s, &g, &analysis));
+    let h = simulation::horizon(&s, &dp, &g);
+    let simulation = simulation::free_response(&s, &g, &h, &mut warnings)?;
+    warnings.extend(warnings::controller_warnings(&g, advice.as_ref()));
+    let closed_loop = simulation::whole_loop(&s, &g, &h, &mut warnings)?;
+    warnings.extend(warnings::observer_speed_warning(spec));
+    if let Some(l) = &closed_loop {
+        warnings.extend(warnings::loop_warnings(l, req.band));
+    }
+    warnings.extend(warnings::choice_warnings(&s, &dp, &g));
+    let t = s.t;
+    Ok(DesignResult {
+        format: RESULT_FORMAT,
+        version: RESULT_VERSION,
+        convention: "u = -K x",
+        plant: plant_summary(s.plant),
+        open_loop_poles: analysis.open_loop.iter().map(|z| pair(*z)).collect(),
+        feedback: feedback_result(&dp, &g),
+        controllability: structure(&analysis.ctrb),
+        observability: analysis.obsv.as_ref().map(structure),
+        simulation,
+        warnings,
+        domain: if t.is_some() { "discrete" } else { "continuous" },
+        sample_time: t,
+        discrete_plant: match (&spec.implementation, t) {
+            (Some(imp), Some(ts)) => Some(DiscretePlantResult { a: rows(&s.ad), b: rows(&s.bd), sample_time: ts, method: "zoh", computation_delay: imp.computation_delay }),
+            _ => None,
+        },
+        observer: observer_result(&s, &g, &analysis),
+        tracking: tracking_result(&s, &g),
+        sample_rate: advice.map(|a| SampleRateResult { bandwidth: a.bandwidth, samples_per_bandwidth: a.samples_per_bandwidth, verdict: a.verdict, message: a.message }),
+        closed_loop,
+        search: dp.search.as_ref().map(|r| search_summary(s.plant, r)),
+        pole_choice: spec.pole_choice.as_ref().map(|c| PoleChoiceResult {
+            method: c.method,
+            description: c.description.clone(),
+            suggested_poles: c.poles.iter().map(|z| pair(*z)).collect(),
+            region: c.region.as_ref().map(|r| RegionResult { min_damping: r.min_damping, min_decay_rate: r.min_decay_rate, natural_frequency: r.natural_frequency }),
+        }),
+        lqr: dp.lqr.as_ref().map(|d| lqr_result(spec, d)),
+    })
+}
+
+fn plant_summary(plant: &Plant) -> PlantSummary {
+    PlantSummary {
+        states: plant.states(),
+        inputs: plant.inputs(),
+        outputs: plant.outputs(),
+        state_names: plant.state_names().to_vec(),
+        input_names: plant.input_names().to_vec(),
+        output_names: plant.output_names().to_vec(),
+        state_units: plant.state_units().to_vec(),
+        input_units: plant.input_units().to_vec(),
+    }
+}
+
+fn feedback_result(dp: &pair::DesignPair, g: &gains::Gains) -> FeedbackResult {
+    let p = &g.placement;
+    FeedbackResult {
+        gain: rows(&g.k_x),
+        requested_poles: dp.dpoles.iter().map(|z| pair(*z)).collect(),
+        achieved_poles: p.achieved_poles.iter().map(|z| pair(*z)).collect(),
+        max_pole_error: p.max_pole_error,
+        eigenvector_condition: p.eigenvector_condition,
+        balanced_eigenvector_condition: p.balanced_eigenvector_condition,
+        eigenvector_determinant: p.abs_det_x,
+        gain_norm: p.gain_norm,
+        iterations: p.iterations,
+        converged: p.converged,
+        input_rank: p.input_rank,
+        not_assigned: p.not_assigned.iter().map(|z| pair(*z)).collect(),
+        fixed_modes: p.fixed_modes.iter().map(|z| pair(*z)).collect(),
+        delay_gain: g.k_u.as_ref().map(rows),
+    }
+}
+
+fn observer_result(s: &setup::Setup, g: &gains::Gains, an: &gains::Analysis) -> Option<ObserverResult> {
+    g.observer.as_ref().map(|(od, op, form)| ObserverResult {
+        gain: rows(&od.gain),
+        current_gain: od.current_gain.as_ref().map(rows),
+        form: if s.t.is_some() { form.key() } else { "continuous" },
+        requested_poles: op.iter().map(|z| pair(*z)).collect(),
+        achieved_poles: od.placement.achieved_poles.iter().map(|z| pair(*z)).collect(),
+        max_pole_error: od.placement.max_pole_error,
+        eigenvector_condition: od.placement.eigenvector_condition,
+        gain_norm: od.gain_norm,
+        noise_to_input_gain: crate::linalg::svd::try_norm2(&(&g.k_x * &od.gain), crate::linalg::svd::SvdParams::default()).unwrap_or(f64::NAN),
+        detectable: an.obsv.as_ref().is_some_and(|o| o.stable_hidden_modes),
+    })
+}
+
+fn tracking_result(s: &setup::Setup, g: &gains::Gains) -> Option<TrackingResult> {
+    let names_of = |idx: &[usize]| idx.iter().map(|&i| s.plant.output_names()[i].clone()).collect::<Vec<_>>();
+    match (&s.spec.tracking, &g.feedforward, &g.k_i) {
+        (TrackingSpec::Feedforward { outputs }, Some((nx, nu)), _) => Some(TrackingResult::Feedforward { outputs: names_of(outputs), nx: rows(nx), nu: rows(nu) }),
+        (TrackingSpec::Integral { outputs, .. }, _, Some(ki)) => Some(TrackingResult::Integral {
+            outputs: names_of(outputs),
+            state_gain: rows(&g.k_x),
+            integral_gain: rows(ki),
+            anti_windup: s.spec.anti_windup.key(),
+            time_constant: match s.spec.anti_windup {
+                crate::controller::AntiWindup::BackCalculation { time_constant } => Some(time_constant),
+                _ => None,
+            },
+        }),
+        _ => None,
+    }
+}
+
+fn search_summary(plant: &Plant, r: &crate::search::SearchResult) -> SearchSummary {
+    SearchSummary {
+        speed_factor: r.speed_factor,
+        suggested_poles: r.poles.iter().map(|z| pair(*z)).collect(),
+        limiting_situation: r.limiting_situation + 1,
+        limiting_input: plant.input_names()[r.limiting_input].clone(),
+        peak_ratio: r.peak_ratio,
+        settling_time: r.settling_time.clone(),
+        monotonic: r.monotonic,
+        samples: r.samples.iter().map(|(f, v)| [*f, *v]).collect(),
+        limited_by_range: r.limited_by_range,
+        evaluations: r.evaluations,
+    }
+}
+
+fn lqr_result(spec: &ControllerSpec, d: &crate::riccati::LqrDesign) -> LqrResult {
+    let (qw, rw) = match &spec.lqr {
+        Some(LqrWeights::Matrices { q, r }) => (rows(q), rows(r)),
+        Some(LqrWeights::Bryson { max_state, max_input }) => crate::riccati::bryson_weights(max_state, max_input).map(|(q, r)| (rows(&q), rows(&r))).unwrap_or_default(),
+        None => (Vec::new(), Vec::new()),
+    };
+    LqrResult { riccati_solution: rows(&d.riccati_solution), residual: d.residual, gain: rows(&d.gain), closed_loop_poles: d.closed_loop_poles.iter().map(|z| pair(*z)).collect(), q: qw, r: rw }
+}
+
+pub use warnings::OBSERVER_SPEED_RULE;
+
+/// Reads, checks and runs a design file (what the CLI does).
+///
+/// # Errors
+/// See [`DesignError`]: the first input error in document order, or why the design cannot be
+/// done.
+pub fn run_text(text: &str) -> Result<DesignResult, DesignError> {
+    run_checked(&check_text(text)?)
+}
+
+/// Runs a checked design. A placement error about the poles of a pattern, a specification or
+/// an LQR design (which the user did not type as a list) is reported at the field that chose
+/// them.
+///
+/// # Errors
+/// See [`DesignError`].
+pub fn run_checked(design: &CheckedDesign) -> Result<DesignResult, DesignError> {
+    let spec = &design.controller;
+    let run = if spec.is_plain() { run(&design.request) } else { run_with(&design.request, spec) };
+    run.map_err(|e| match e {
+        DesignError::Input(e) if e.field == P::FeedbackPoles && design.source != PoleSource::List => {
+            let (field, advice) = match design.source {
+                PoleSource::Pattern => (P::Pattern, "choose another pattern, or list the poles yourself"),
+                PoleSource::Lqr => (P::LqrMaxState, "change the weights, or list the poles yourself"),
+                _ => (P::Spec, "change the specification, or list the poles yourself"),
+            };
+            DesignError::Input(InputError::new(field, format!("the chosen poles cannot be placed ({}); {advice}", e.message)))
+        }
+        other => other,
+    })
+}
+
+/// A short human number: 4 significant figures, scientific when large or small.
+pub fn fmt_num(x: f64) -> String {
+    if !x.is_finite() {
+        return if x.is_nan() { "NaN".into() } else if x > 0.0 { "∞".into() } else { "−∞".into() };
+    }
+    let ax = x.abs();
+    if ax != 0.0 && !(1e-3..1e5).contains(&ax) {
+        format!("{x:.3e}")
+    } else {
+        let s = format!("{x:.4}");
+        let s = s.trim_end_matches('0').trim_end_matches('.').to_string();
+        if s == "-0" { "0".into() } else { s }
+    }
+}
+
+#[cfg(test)]
+#[path = "../../tests/design.rs"]
+mod tests;

@@ -1,0 +1,159 @@
+//! The second stage: the design pair (plant, then the computation-delay states, then the
+//! integrators) and its poles: listed, found by the search, or those of the LQR closed loop.
+
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+
+use super::setup::{infeasible, Setup};
+use crate::controller::{delay_augmented, integral_augmented, map_to_continuous};
+use crate::design::{DesignError, FieldPath as P, InputError, LqrWeights};
+use crate::riccati::{LqrDesign, RiccatiError};
+use crate::search::SearchResult;
+
+/// The design pair and its requested poles.
+pub(super) struct DesignPair {
+    pub da: DMatrix<f64>,
+    pub db: DMatrix<f64>,
+    /// States of plant and delay (the integrators follow).
+    pub nd: usize,
+    /// Requested poles in the design domain, one per design state.
+    pub dpoles: Vec<Complex64>,
+    /// The controller's poles in the plane they were given (after the search, or the LQR's).
+    pub base_poles: Vec<Complex64>,
+    pub search: Option<SearchResult>,
+    pub lqr: Option<LqrDesign>,
+}
+
+/// Builds the pair; see the module documentation.
+pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
+    let spec = s.spec;
+    if spec.lqr.is_some() && spec.search.is_some() {
+        return Err(DesignError::Input(InputError::new(P::Search, "the search scales a pole pattern; with LQR weights, scale the weights instead (or list the LQR poles as feedback.poles and search)")));
+    }
+    let search = match (&spec.search, s.t) {
+        (Some(situations), None) => {
+            let limits: Vec<f64> = s.req.limits.iter().map(|l| l.unwrap_or(f64::INFINITY)).collect();
+            let params = crate::search::SearchParams { band: s.req.band, ..Default::default() };
+            Some(crate::search::fastest_within_limits(s.plant.a(), s.plant.b(), s.plant.c(), &s.req.poles, &limits, situations, params).map_err(|e| infeasible(&e))?)
+        }
+        _ => None,
+    };
+    let base_poles: Vec<Complex64> = search.as_ref().map_or_else(|| s.req.poles.clone(), |r| r.poles.clone());
+    let mut pair = DesignPair { da: s.ad.clone(), db: s.bd.clone(), nd: s.n, dpoles: s.to_design(&base_poles), base_poles, search, lqr: None };
+    if let (true, Some(imp)) = (s.delay, &spec.implementation) {
+        let (pa, pb) = delay_augmented(&pair.da, &pair.db);
+        pair.da = pa;
+        pair.db = pb;
+        pair.dpoles.extend(imp.delay_poles.iter().cloned());
+    }
+    pair.nd = pair.da.nrows();
+    if let Some(ip) = s.integral_poles {
+        add_integrators(s, &mut pair)?;
+        pair.dpoles.extend(s.to_design(ip));
+    }
+    if let Some(w) = &spec.lqr {
+        let design = lqr(s, &pair, w)?;
+        pair.dpoles = design.closed_loop_poles.clone();
+        pair.base_poles = match s.t {
+            Some(ts) => {
+                // LQR puts the computation-delay states' poles at (or within rounding of)
+                // z = 0: deadbeat, gone after one sample. Their s = ln z / T (about −34 000
+                // 1/s at 1 kHz for z = 1e-15) says nothing about the loop's bandwidth and
+                // must not drive the sample-rate advice or an observer speed factor.
+                let live: Vec<Complex64> = pair.dpoles.iter().filter(|z| z.norm() > 1e-9).copied().collect();
+                let kept = if live.len() >= s.n { live } else { pair.dpoles.clone() };
+                kept.iter().map(|z| map_to_continuous(*z, ts)).collect()
+            }
+            None => pair.dpoles.clone(),
+        };
+        pair.lqr = Some(design);
+    }
+    check_pole_count(s, &pair)?;
+    Ok(pair)
+}
+
+/// Appends the integrators of the tracked outputs; refuses a pair they make uncontrollable.
+fn add_integrators(s: &Setup, pair: &mut DesignPair) -> Result<(), DesignError> {
+    let (q, n, nd) = (s.q(), s.n, pair.nd);
+    let mut ct_d = DMatrix::<f64>::zeros(q, nd);
+    ct_d.view_mut((0, 0), (q, n)).copy_from(&s.ct);
+    let (ia, ib) = integral_augmented(&pair.da, &pair.db, &ct_d, &s.dt, s.t);
+    let aug = crate::analysis::controllability_report(&ia, &ib, s.ap).map_err(|e| infeasible(&e))?;
+    if !aug.is_complete() {
+        return Err(DesignError::Infeasible {
+            message: crate::controller::ControllerError::IntegralNotControllable {
+                message: format!(
+                    "the plant augmented with {q} integrator(s) is not controllable (rank {} of {}): the tracked outputs have a zero at {} or there are more tracked outputs than independent inputs; track fewer outputs or use feedforward",
+                    aug.rank,
+                    aug.states,
+                    if s.t.is_some() { "z = 1" } else { "s = 0" }
+                ),
+            }
+            .to_string(),
+        });
+    }
+    pair.da = ia;
+    pair.db = ib;
+    Ok(())
+}
+
+/// The LQR design of the pair with the weights as given.
+fn lqr(s: &Setup, pair: &DesignPair, w: &LqrWeights) -> Result<LqrDesign, DesignError> {
+    let (da, m) = (&pair.da, s.m);
+    let input = |path: P, message: String| DesignError::Input(InputError::new(path, message));
+    let (qw, rw) = match w {
+        LqrWeights::Matrices { q, r } => (q.clone(), r.clone()),
+        LqrWeights::Bryson { max_state, max_input } => {
+            if max_state.len() != da.nrows() {
+                return Err(input(P::LqrMaxState, format!("{} values given but the design has {} states (plant, delay and integrator states)", max_state.len(), da.nrows())));
+            }
+            if max_input.len() != m {
+                return Err(input(P::LqrMaxInput, format!("{} values given but the plant has {m} inputs", max_input.len())));
+            }
+            crate::riccati::bryson_weights(max_state, max_input).map_err(|e| input(P::LqrBryson, e.to_string()))?
+        }
+    };
+    let k = da.nrows();
+    if qw.shape() != (k, k) {
+        return Err(input(P::LqrQ, format!("Q is {}×{} but the design has {k} states (plant, delay and integrator states): give a {k}×{k} matrix", qw.nrows(), qw.ncols())));
+    }
+    if rw.shape() != (m, m) {
+        return Err(input(P::LqrR, format!("R is {}×{} but the plant has {m} inputs: give a {m}×{m} matrix", rw.nrows(), rw.ncols())));
+    }
+    let design = match s.t {
+        Some(_) => crate::riccati::discrete_lqr_gain(da, &pair.db, &qw, &rw),
+        None => crate::riccati::lqr_gain(da, &pair.db, &qw, &rw),
+    };
+    design.map_err(|e| match e {
+        RiccatiError::NotStabilizable { .. }
+        | RiccatiError::NotDetectable { .. }
+        | RiccatiError::NoConvergence { .. }
+        | RiccatiError::InaccurateSolution { .. }
+        | RiccatiError::NotStabilizing { .. }
+        | RiccatiError::SingularMatrix { .. }
+        | RiccatiError::Eigen(_)
+        | RiccatiError::Svd(_)
+        | RiccatiError::NotStable => infeasible(&e),
+        other => input(P::Lqr, other.to_string()),
+    })
+}
+
+/// One requested pole per design state.
+fn check_pole_count(s: &Setup, pair: &DesignPair) -> Result<(), DesignError> {
+    let (n, states, given) = (s.n, pair.da.nrows(), pair.dpoles.len());
+    if given == states {
+        return Ok(());
+    }
+    let extra = states - n;
+    let message = if extra > 0 {
+        format!(
+            "{given} poles given but the design has {states} states ({n} plant states + {extra} for {}); give {} poles{}",
+            if s.integral_poles.is_some() && s.delay { "delay and integrators" } else if s.delay { "the computation delay" } else { "the integrators" },
+            states - (given - s.req.poles.len()),
+            if s.integral_poles.is_some() { ", or list the integrator poles in tracking.integral_poles" } else { "" }
+        )
+    } else {
+        format!("{given} poles given but the plant has {n} states; give exactly {n} poles")
+    };
+    Err(DesignError::Input(InputError::new(P::FeedbackPoles, message)))
+}
