@@ -1504,28 +1504,8 @@ fn controller_report(result: &DesignResult, context: &ReportContext) -> Option<C
     let inputs = input_labels(result);
     let states = state_labels(result);
     let outputs: Vec<String> = p.output_names.iter().enumerate().map(|(i, n)| label(n, context.output_units.get(i))).collect();
-    let t = result.sample_time;
 
-    let domain = match (t, &result.discrete_plant) {
-        (Some(t), Some(dp)) => format!(
-            "Digital controller: sample time T = {} s ({} Hz). The design uses the exact zero-order-hold model of the plant, Φ = e^(A T) and Γ = ∫₀ᵀ e^(A s) ds B, and {}{}.",
-            fmt_num(t),
-            fmt_num(1.0 / t),
-            if context.z_plane { "the desired poles as given in the z-plane" } else { "the desired poles mapped to the z-plane by z = e^(s T)" },
-            if dp.computation_delay {
-                format!(
-                    "; with a one-sample computation delay the model also carries the previous input, whose pole{} placed at z = {}",
-                    if p.inputs == 1 { " is" } else { "s are" },
-                    if context.delay_poles.is_empty() { "0".to_string() } else { format_pole_list(&context.delay_poles) }
-                )
-            } else {
-                String::new()
-            }
-        ),
-        (Some(t), None) => format!("Digital controller: sample time T = {} s ({} Hz); the plant matrices are already discrete.", fmt_num(t), fmt_num(1.0 / t)),
-        (None, _) => "Continuous controller: the equations above run in continuous time.".into(),
-    };
-
+    let domain = domain_text(result, context);
     let delay_gain = result.feedback.delay_gain.as_ref().map(|ku| {
         matrix_table(
             "K_u",
@@ -1566,7 +1546,57 @@ fn controller_report(result: &DesignResult, context: &ReportContext) -> Option<C
         None => Vec::new(),
     };
 
-    let observer = result.observer.as_ref().map(|o| {
+    let observer = observer_report(result, context, &states, &outputs);
+    let LoopParts { summary: loop_summary, outputs: loop_outputs, inputs: loop_inputs, estimation, events } = loop_parts(result, context);
+    Some(ControllerReport {
+        law: law_lines(result),
+        domain,
+        sample_rate: result.sample_rate.as_ref().map(|a| a.message.clone()),
+        delay_gain,
+        tracking,
+        tracking_note,
+        discrete_plant,
+        observer,
+        loop_summary,
+        loop_outputs,
+        loop_inputs,
+        estimation,
+        settling_band: format!("±{} %", fmt_num(result.simulation.band * 100.0)),
+        output_units: context.output_units.clone(),
+        events,
+    })
+}
+
+
+/// How the controller runs: continuous, or digital with its sample time and delay.
+fn domain_text(result: &DesignResult, context: &ReportContext) -> String {
+    let (p, t) = (&result.plant, result.sample_time);
+    match (t, &result.discrete_plant) {
+        (Some(t), Some(dp)) => format!(
+            "Digital controller: sample time T = {} s ({} Hz). The design uses the exact zero-order-hold model of the plant, Φ = e^(A T) and Γ = ∫₀ᵀ e^(A s) ds B, and {}{}.",
+            fmt_num(t),
+            fmt_num(1.0 / t),
+            if context.z_plane { "the desired poles as given in the z-plane" } else { "the desired poles mapped to the z-plane by z = e^(s T)" },
+            if dp.computation_delay {
+                format!(
+                    "; with a one-sample computation delay the model also carries the previous input, whose pole{} placed at z = {}",
+                    if p.inputs == 1 { " is" } else { "s are" },
+                    if context.delay_poles.is_empty() { "0".to_string() } else { format_pole_list(&context.delay_poles) }
+                )
+            } else {
+                String::new()
+            }
+        ),
+        (Some(t), None) => format!("Digital controller: sample time T = {} s ({} Hz); the plant matrices are already discrete.", fmt_num(t), fmt_num(1.0 / t)),
+        (None, _) => "Continuous controller: the equations above run in continuous time.".into(),
+    }
+}
+
+/// The observer's gain tables, poles and summary.
+fn observer_report(result: &DesignResult, context: &ReportContext, states: &[String], outputs: &[String]) -> Option<ObserverReport> {
+    let t = result.sample_time;
+    let (states, outputs) = (states.to_vec(), outputs.to_vec());
+    result.observer.as_ref().map(|o| {
         let (heading, caption) = match (t.is_some(), o.form) {
             (false, _) => ("observer x̂′ = A x̂ + B u + L (y - C x̂ - D u); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
             (true, "current") => ("predictor gain L (the current estimator uses L_c = Φ⁻¹ L); L has one row per state and one column per output", "Observer gain L (predictor form; the current form uses L_c below): one row per state, one column per output"),
@@ -1595,13 +1625,23 @@ fn controller_report(result: &DesignResult, context: &ReportContext) -> Option<C
             fmt_num(o.noise_to_input_gain)
         );
         ObserverReport { gain, current_gain, poles: matched_pole_rows(result, &o.requested_poles, &o.achieved_poles), summary, noise }
-    });
+    })
+}
 
-    let mut loop_summary = None;
-    let mut loop_outputs = Vec::new();
-    let mut loop_inputs = Vec::new();
-    let mut estimation = Vec::new();
-    let mut events = Vec::new();
+/// The loop simulation in words and rows.
+#[derive(Default)]
+struct LoopParts {
+    summary: Option<String>,
+    outputs: Vec<LoopOutputRow>,
+    inputs: Vec<LoopInputRow>,
+    estimation: Vec<EstimationRow>,
+    events: Vec<EventLine>,
+}
+
+fn loop_parts(result: &DesignResult, context: &ReportContext) -> LoopParts {
+    let p = &result.plant;
+    let mut parts_out = LoopParts::default();
+    let LoopParts { summary: loop_summary, outputs: loop_outputs, inputs: loop_inputs, estimation, events } = &mut parts_out;
     if let Some(l) = &result.closed_loop {
         let band = result.simulation.band;
         let unit_of = |name: &str| result.plant.output_names.iter().position(|n| n == name).and_then(|i| context.output_units.get(i)).cloned();
@@ -1683,30 +1723,14 @@ fn controller_report(result: &DesignResult, context: &ReportContext) -> Option<C
             ),
             _ => String::new(),
         };
-        loop_summary = Some(format!(
+        *loop_summary = Some(format!(
             "The whole controller in the loop with the plant ({timing}) over {} s: {}{}.{start}{separation}",
             fmt_num(l.duration),
             parts.join("; "),
             if result.simulation.input_limit.iter().any(|x| x.is_some()) { "; inputs clipped at their limits" } else { "" }
         ));
     }
-    Some(ControllerReport {
-        law: law_lines(result),
-        domain,
-        sample_rate: result.sample_rate.as_ref().map(|a| a.message.clone()),
-        delay_gain,
-        tracking,
-        tracking_note,
-        discrete_plant,
-        observer,
-        loop_summary,
-        loop_outputs,
-        loop_inputs,
-        estimation,
-        settling_band: format!("±{} %", fmt_num(result.simulation.band * 100.0)),
-        output_units: context.output_units.clone(),
-        events,
-    })
+    parts_out
 }
 
 // ---------------------------------------------------------------------------------------------
