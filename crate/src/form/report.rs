@@ -1,0 +1,1108 @@
+//! The report: the texts and tables the page shows for a design (gain, poles, structure,
+//! responses, controller), read from the result and the request's context.
+
+use super::*;
+
+// ---------------------------------------------------------------------------------------------
+// Presentation.
+
+/// A labelled matrix (a gain, Φ, Γ, …) as a table and as copyable text.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct MatrixTable {
+    /// Its symbol, shown in the table's corner cell (`K`, `L`, `Φ`, …).
+    pub symbol: String,
+    /// What it is, in one sentence (the table's caption).
+    pub caption: String,
+    pub row_labels: Vec<String>,
+    pub column_labels: Vec<String>,
+    /// Entries with full precision (shortest text that reads back exactly).
+    pub entries: Vec<Vec<String>>,
+    /// Tab-separated text with the labels, for copying into a spreadsheet or a file.
+    pub text: String,
+}
+
+/// The gain as a labelled table and as copyable text (`K`: one row per input, one column per state).
+pub type GainTable = MatrixTable;
+
+/// One row of the pole table.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct PoleRow {
+    /// Requested pole (full precision), or empty for a fixed mode.
+    pub requested: String,
+    /// Achieved closed-loop pole (full precision), or empty when not assigned.
+    pub achieved: String,
+    /// Relative error `|achieved − requested| / |requested|`, or empty.
+    pub error: String,
+    /// Damping ratio and natural frequency of the achieved pole, or its time constant.
+    pub character: String,
+    /// Remark: empty, or why the pole is special.
+    pub note: String,
+}
+
+/// One open-loop mode in a controllability (observability) report.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct ModeRow {
+    pub pole: String,
+    pub margin: String,
+    pub verdict: String,
+}
+
+/// A controllability (or observability) report in sentences and rows.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct StructureReport {
+    pub summary: String,
+    pub tolerance: String,
+    pub modes: Vec<ModeRow>,
+}
+
+/// One state's response figures.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct StateRow {
+    pub name: String,
+    pub initial: String,
+    pub peak: String,
+    pub settling: String,
+    pub overshoot: String,
+}
+
+/// One input's response figures.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct InputRow {
+    pub name: String,
+    pub peak: String,
+    pub limit: String,
+    pub verdict: String,
+}
+
+/// One tracked output's figures in the loop simulation.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct LoopOutputRow {
+    pub name: String,
+    pub reference: String,
+    pub rise_time: String,
+    pub settling_time: String,
+    pub overshoot: String,
+    pub steady_state_error: String,
+}
+
+/// One input's figures in the loop simulation.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct LoopInputRow {
+    pub name: String,
+    pub peak: String,
+    pub limit: String,
+    pub saturated: String,
+}
+
+/// One state's estimation error in the loop simulation.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct EstimationRow {
+    pub name: String,
+    pub peak: String,
+    pub last: String,
+}
+
+/// The observer: its gain, poles and what it does to measurement noise.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct ObserverReport {
+    /// `L`, one row per state, one column per output.
+    pub gain: MatrixTable,
+    /// `L_c` of the current-estimator form.
+    pub current_gain: Option<MatrixTable>,
+    pub poles: Vec<PoleRow>,
+    /// Form, conditioning and gain size in a sentence.
+    pub summary: String,
+    /// The noise-to-input gain ‖K L‖₂ in a sentence.
+    pub noise: String,
+}
+
+/// The parts beyond a plain gain (design file version 2), when any was asked for.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ControllerReport {
+    /// The control law, one equation per line.
+    pub law: Vec<String>,
+    /// Continuous or digital, and how the plant was converted.
+    pub domain: String,
+    /// The sample-rate advice sentence (digital designs).
+    pub sample_rate: Option<String>,
+    /// `K_u` on the previous input (computation delay).
+    pub delay_gain: Option<MatrixTable>,
+    /// `N_x`, `N_u` (feedforward) or `K_i` (integral action).
+    pub tracking: Vec<MatrixTable>,
+    pub tracking_note: Option<String>,
+    /// `Φ` and `Γ` of the zero-order-hold model (digital implementation of a continuous plant).
+    pub discrete_plant: Vec<MatrixTable>,
+    pub observer: Option<ObserverReport>,
+    /// The whole-loop simulation: what was simulated.
+    pub loop_summary: Option<String>,
+    pub loop_outputs: Vec<LoopOutputRow>,
+    pub loop_inputs: Vec<LoopInputRow>,
+    pub estimation: Vec<EstimationRow>,
+    /// The settling band of the step figures, e.g. `±2 %`.
+    pub settling_band: String,
+    /// Output units (rows of C), for the plots' labels.
+    pub output_units: Vec<String>,
+    /// Reference and load step times, drawn on the loop plots.
+    pub events: Vec<EventLine>,
+}
+
+/// How the controller's poles were chosen, when the user did not simply list them (or the
+/// search scaled them): ready-to-show texts.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct PoleChoiceReport {
+    /// E.g. "Bessel pattern", "Specification (dominant pair)", "LQR (Bryson's rule)".
+    pub method: String,
+    /// How the poles were obtained, in a sentence or two.
+    pub description: String,
+    /// The poles the choice produced (after the search, when it ran), full precision, in the
+    /// plane of the `poles` field: text that [`parse_poles`] reads back exactly, to copy into
+    /// `poles` with the pole source set to `list` ("adopt").
+    pub suggested_poles: String,
+    /// What `suggested_poles` holds and how to adopt it.
+    pub suggested_note: String,
+    /// The plane of `suggested_poles`: `"s"` or `"z"` (the `plane` field to adopt them with).
+    pub suggested_plane: String,
+    /// With a computation delay under LQR: the delay states' poles (z-plane, full precision),
+    /// for the `delay_poles` field; `None` otherwise.
+    pub suggested_delay_poles: Option<String>,
+    /// The admissible region of a specification.
+    pub region: Option<RegionReport>,
+    /// The LQR design, when the poles came from LQR weights.
+    pub lqr: Option<LqrReport>,
+    /// The search for the fastest design within the actuator limits, when it ran.
+    pub search: Option<SearchReport>,
+}
+
+/// The region of the s-plane a specification asks for, in words.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct RegionReport {
+    /// The smallest damping ratio ζ and the overshoot it stands for.
+    pub damping: String,
+    /// The smallest decay rate σ (and, for a digital design, the circle it maps to).
+    pub decay_rate: String,
+    /// The smallest natural frequency ωn, when a rise time was given.
+    pub natural_frequency: Option<String>,
+    /// That the bounds are second-order approximations, to be confirmed by simulation.
+    pub note: String,
+    /// The achieved closed-loop poles outside the region, one entry per broken boundary
+    /// (damping, decay or natural frequency); for a digital design judged through
+    /// `s = ln z / T`.
+    pub outside_region: Vec<String>,
+}
+
+/// The LQR design behind the poles.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct LqrReport {
+    /// The state weight Q in words.
+    pub q: String,
+    /// The input weight R in words.
+    pub r: String,
+    /// The normalised residual of the Riccati equation in a sentence.
+    pub residual: String,
+    /// The Riccati solution X (design states × design states).
+    pub riccati_solution: MatrixTable,
+    /// The LQR gain (inputs × design states).
+    pub gain: MatrixTable,
+    /// The LQR closed-loop poles (the plane of the design: z for a digital one), full precision.
+    pub closed_loop_poles: String,
+    /// Whether the gain K used is this LQR gain (one input) or only shares its poles.
+    pub gain_note: String,
+    /// The guaranteed margins of full-state LQR and where they hold (continuous designs only).
+    pub margins: Option<String>,
+}
+
+/// The search for the fastest design within the actuator limits.
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+pub struct SearchReport {
+    /// The common factor the poles were multiplied by, in a sentence.
+    pub speed_factor: String,
+    /// The situation and the input that set the factor.
+    pub limiting: String,
+    /// Peak input over its limit at the factor found.
+    pub peak_ratio: String,
+    /// Per situation, its description and the slowest state's settling time.
+    pub settling_times: Vec<String>,
+    /// Whether the peak input grew steadily with the factor over the searched range.
+    pub monotonic: bool,
+    /// That, in a sentence (a warning when it did not hold, or when the range ran out).
+    pub monotonicity: String,
+    /// How many trial designs the search evaluated.
+    pub evaluations: usize,
+    /// What the search did not consider (for example a reference step it could not judge).
+    pub notes: Vec<String>,
+}
+
+/// All the text the page shows for a design.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Report {
+    /// Always `"u = −K x"`.
+    pub law: String,
+    pub gain: GainTable,
+    pub poles: Vec<PoleRow>,
+    pub open_loop: String,
+    pub controllability: StructureReport,
+    pub observability: Option<StructureReport>,
+    /// The eigenvector condition number and what it means.
+    pub robustness: String,
+    pub warnings: Vec<String>,
+    pub states: Vec<StateRow>,
+    pub inputs: Vec<InputRow>,
+    /// How the response was simulated.
+    pub simulation: String,
+    /// Observer, tracking, digital implementation and loop simulation (`None` for a plain gain).
+    pub controller: Option<ControllerReport>,
+    /// How the poles were chosen (`None` when they were listed and not searched).
+    pub pole_choice: Option<PoleChoiceReport>,
+}
+
+
+// ---------------------------------------------------------------------------------------------
+// Texts.
+
+pub(crate) fn c64(p: &Pair) -> Complex64 {
+    Complex64::new(p[0], p[1])
+}
+
+/// Full-precision real number (shortest text that reads back exactly).
+pub fn full(x: f64) -> String {
+    format_complex(Complex64::new(x, 0.0))
+}
+
+/// `name (unit)`, or `name` without a unit.
+pub fn label(name: &str, unit: Option<&String>) -> String {
+    match unit.map(|u| u.trim()).filter(|u| !u.is_empty()) {
+        Some(u) => format!("{name} ({u})"),
+        None => name.to_string(),
+    }
+}
+
+/// A concise pole: 4 decimals (or scientific) per part, typographic minus signs,
+/// e.g. `−12 + 9j`.
+pub fn short_pole(z: Complex64) -> String {
+    let minus = |s: String| s.replace('-', "\u{2212}");
+    if z.im == 0.0 {
+        return minus(fmt_num(z.re));
+    }
+    let sign = if z.im < 0.0 { "\u{2212}" } else { "+" };
+    if z.re == 0.0 {
+        return format!("{}{}j", if z.im < 0.0 { "\u{2212}" } else { "" }, fmt_num(z.im.abs()));
+    }
+    format!("{} {sign} {}j", minus(fmt_num(z.re)), fmt_num(z.im.abs()))
+}
+
+/// Damping ratio and natural frequency of a complex pole, or the time constant of a real one.
+pub fn pole_character(z: Complex64) -> String {
+    if !(z.re.is_finite() && z.im.is_finite()) {
+        return String::new();
+    }
+    if z.im != 0.0 {
+        let w = z.norm();
+        let zeta = -z.re / w;
+        format!("damping ratio {}, natural frequency {} rad/s", fmt_num(zeta), fmt_num(w))
+    } else if z.re < 0.0 {
+        format!("time constant {} s", fmt_num(-1.0 / z.re))
+    } else if z.re == 0.0 {
+        "integrator (does not decay)".into()
+    } else {
+        format!("unstable: grows by e every {} s", fmt_num(1.0 / z.re))
+    }
+}
+
+/// A labelled matrix with full-precision entries and its copyable text (`heading` is the
+/// text's first line).
+pub fn matrix_table(symbol: &str, caption: &str, heading: &str, row_labels: Vec<String>, column_labels: Vec<String>, rows: &[Vec<f64>]) -> MatrixTable {
+    let entries: Vec<Vec<String>> = rows.iter().map(|row| row.iter().map(|v| full(*v)).collect()).collect();
+    let clean = |s: &str| s.replace(['\t', '\n', '\r'], " ");
+    let mut text = format!("{heading}\n{symbol}");
+    for l in &column_labels {
+        text.push('\t');
+        text.push_str(&clean(l));
+    }
+    text.push('\n');
+    for (i, row) in entries.iter().enumerate() {
+        text.push_str(&clean(row_labels.get(i).map_or("", |s| s.as_str())));
+        for v in row {
+            text.push('\t');
+            text.push_str(v);
+        }
+        text.push('\n');
+    }
+    MatrixTable { symbol: symbol.into(), caption: caption.into(), row_labels, column_labels, entries, text }
+}
+
+pub(crate) fn state_labels(result: &DesignResult) -> Vec<String> {
+    let p = &result.plant;
+    p.state_names.iter().enumerate().map(|(j, n)| label(n, p.state_units.get(j))).collect()
+}
+
+pub(crate) fn input_labels(result: &DesignResult) -> Vec<String> {
+    let p = &result.plant;
+    p.input_names.iter().enumerate().map(|(i, n)| label(n, p.input_units.get(i))).collect()
+}
+
+pub(crate) fn output_label(result: &DesignResult, units: &[String], name: &str) -> String {
+    let unit = result.plant.output_names.iter().position(|n| n == name).and_then(|i| units.get(i));
+    label(name, unit)
+}
+
+/// `s = ln z / T`, the continuous-time equivalent of a z-plane pole (`None` for `z = 0`,
+/// a non-finite `z` or a sample time that is not positive).
+pub fn z_to_s(z: Complex64, t: f64) -> Option<Complex64> {
+    crate::plane::s_from_z(z, t)
+}
+
+/// The character of a z-plane pole, read through its equivalent `s = ln z / T`.
+pub fn z_pole_character(z: Complex64, t: f64) -> String {
+    match z_to_s(z, t) {
+        Some(s) => {
+            let c = pole_character(s);
+            if c.is_empty() {
+                format!("|z| = {}, s = {}", fmt_num(z.norm()), short_pole(s))
+            } else {
+                format!("|z| = {}, s = {}: {c}", fmt_num(z.norm()), short_pole(s))
+            }
+        }
+        None if z.norm() == 0.0 => "at z = 0: gone after one sample (s = −∞)".into(),
+        None => String::new(),
+    }
+}
+
+/// The character of a pole of `result`: s-plane, or z-plane read through `s = ln z / T`.
+/// A pole's placement error for the pole tables, on the same rule as the design's
+/// `max_pole_error` ([`crate::place::pole_error_floor`]): relative in the s-plane (absolute
+/// for a pole requested at 0); in the z-plane relative to `max(|z|, 1)`, i.e. the distance
+/// itself for every pole inside the unit circle (a delay or deadbeat pole at `z = 0` included).
+pub(crate) fn pole_error_text(result: &DesignResult, requested: Complex64, achieved: Complex64) -> String {
+    let d = (achieved - requested).norm();
+    if result.domain == "discrete" {
+        fmt_num(d / requested.norm().max(1.0))
+    } else if requested.norm() > 0.0 {
+        fmt_num(d / requested.norm())
+    } else {
+        format!("{} (absolute)", fmt_num(d))
+    }
+}
+
+pub(crate) fn character_in(result: &DesignResult, z: Complex64) -> String {
+    match (result.domain, result.sample_time) {
+        ("discrete", Some(t)) => z_pole_character(z, t),
+        _ => pole_character(z),
+    }
+}
+
+/// The gain as a labelled table and tab-separated text, full precision.
+pub fn gain_table(result: &DesignResult) -> GainTable {
+    matrix_table(
+        "K",
+        "Gain K: one row per input, one column per state",
+        "u = -K x; K has one row per input and one column per state",
+        input_labels(result),
+        state_labels(result),
+        &result.feedback.gain,
+    )
+}
+
+/// Pairs each target with the nearest unused candidate, closest pairs first (as the
+/// engine's pole-error measure does). Returns, per target, the index of its candidate.
+pub(crate) fn match_nearest(targets: &[Complex64], candidates: &[Complex64]) -> Vec<Option<usize>> {
+    let mut pairs: Vec<(f64, usize, usize)> = Vec::with_capacity(targets.len() * candidates.len());
+    for (i, t) in targets.iter().enumerate() {
+        for (j, z) in candidates.iter().enumerate() {
+            pairs.push(((t - z).norm(), i, j));
+        }
+    }
+    pairs.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let mut out = vec![None; targets.len()];
+    let mut used = vec![false; candidates.len()];
+    for (_, i, j) in pairs {
+        let free_target = out.get(i).is_some_and(|o| o.is_none());
+        let free_candidate = used.get(j).is_some_and(|u| !u);
+        if free_target && free_candidate {
+            if let Some(o) = out.get_mut(i) {
+                *o = Some(j);
+            }
+            if let Some(u) = used.get_mut(j) {
+                *u = true;
+            }
+        }
+    }
+    out
+}
+
+/// Removes one copy of each of `remove` from `from` (exact match).
+pub(crate) fn without(from: &[Complex64], remove: &[Complex64]) -> Vec<Complex64> {
+    let mut rest = from.to_vec();
+    for z in remove {
+        if let Some(i) = rest.iter().position(|r| r == z) {
+            rest.remove(i);
+        }
+    }
+    rest
+}
+
+/// Requested versus achieved poles, one row per closed-loop pole.
+pub fn pole_rows(result: &DesignResult) -> Vec<PoleRow> {
+    let f = &result.feedback;
+    let mut requested: Vec<Complex64> = f.requested_poles.iter().map(c64).collect();
+    sort_for_display(&mut requested);
+    let not_assigned: Vec<Complex64> = f.not_assigned.iter().map(c64).collect();
+    let fixed: Vec<Complex64> = f.fixed_modes.iter().map(c64).collect();
+    let achieved: Vec<Complex64> = f.achieved_poles.iter().map(c64).collect();
+    let assigned = without(&requested, &not_assigned);
+    // Targets: the assigned poles, then the fixed modes (they stay where they are).
+    let targets: Vec<Complex64> = assigned.iter().chain(fixed.iter()).copied().collect();
+    let matched = match_nearest(&targets, &achieved);
+    let mut rows = Vec::new();
+    for (i, t) in targets.iter().enumerate() {
+        let z = matched.get(i).copied().flatten().and_then(|j| achieved.get(j)).copied();
+        let is_fixed = i >= assigned.len();
+        let error = z.map(|z| pole_error_text(result, *t, z));
+        rows.push(PoleRow {
+            requested: if is_fixed { String::new() } else { format_complex(*t) },
+            achieved: z.map(format_complex).unwrap_or_default(),
+            error: error.unwrap_or_default(),
+            character: z.map(|z| character_in(result, z)).unwrap_or_default(),
+            note: if is_fixed { "uncontrollable mode: feedback cannot move it; it stays where it is".into() } else { String::new() },
+        });
+    }
+    for z in &not_assigned {
+        rows.push(PoleRow {
+            requested: format_complex(*z),
+            achieved: String::new(),
+            error: String::new(),
+            character: String::new(),
+            note: "not assigned: an uncontrollable mode takes its place".into(),
+        });
+    }
+    rows
+}
+
+#[derive(Clone, Copy)]
+pub(crate) enum Kind {
+    Controllability,
+    Observability,
+}
+
+pub(crate) struct ModeLike {
+    pole: Complex64,
+    margin: f64,
+    verdict: ModeVerdict,
+}
+
+/// What [`structure_text`] describes: the analysis results in one place.
+pub(crate) struct Structure<'a> {
+    /// z-plane modes: stable means |z| < 1.
+    discrete: bool,
+    rank: usize,
+    states: usize,
+    hidden: &'a [Complex64],
+    modes: &'a [ModeLike],
+    tolerance: f64,
+    relative: f64,
+    consistent: bool,
+}
+
+pub(crate) fn structure_text(kind: Kind, st: Structure<'_>) -> StructureReport {
+    let Structure { discrete, rank, states, hidden, modes, tolerance, relative, consistent } = st;
+    let stable = |z: &Complex64| if discrete { z.norm() < 1.0 } else { z.re < 0.0 };
+    let (word, weak, matrix, can) = match kind {
+        Kind::Controllability => ("controllable", "weakly controllable", "[A − λI, B]", "feedback"),
+        Kind::Observability => ("observable", "weakly observable", "[A − λI; C]", "the outputs"),
+    };
+    let stable_hidden = hidden.iter().all(stable);
+    let mut summary = if rank == states {
+        match kind {
+            Kind::Controllability => format!("Controllable: every one of the {states} modes can be moved by feedback."),
+            Kind::Observability => format!("Observable: every one of the {states} modes is seen in the outputs."),
+        }
+    } else {
+        let list = format_pole_list(hidden);
+        let count = plural(states - rank, "mode", "modes");
+        match (kind, stable_hidden) {
+            (Kind::Controllability, true) => format!(
+                "Not controllable, but stabilisable: {count} ({list}) cannot be moved by feedback; they are stable and stay where they are. Controllable part: {rank} of {states} states."
+            ),
+            (Kind::Controllability, false) => format!(
+                "Not stabilisable: {count} ({list}) cannot be moved by feedback and not all of them are stable, so no state feedback can stabilise this plant. Controllable part: {rank} of {states} states."
+            ),
+            (Kind::Observability, true) => format!("Not observable, but detectable: {count} ({list}) are not seen in the outputs; they are stable. Observable part: {rank} of {states} states."),
+            (Kind::Observability, false) => format!("Not detectable: {count} ({list}) are not seen in the outputs and not all of them are stable. Observable part: {rank} of {states} states."),
+        }
+    };
+    if !consistent {
+        summary.push_str(" The two tests used (staircase and per-mode margins) disagree: the plant is on the borderline; treat these verdicts with care.");
+    }
+    let norm = match kind {
+        Kind::Controllability => "‖[A B]‖₂",
+        Kind::Observability => "‖[A; C]‖₂",
+    };
+    let tolerance = format!(
+        "Tolerance used: singular values at or below {} ({} × {norm}) count as zero. A mode's margin is the smallest singular value of {matrix} divided by {norm}: 0 means {can} cannot reach it; margins below {} are called weak.",
+        fmt_num(tolerance),
+        fmt_num(relative),
+        fmt_num(AnalysisParams::default().weak_margin)
+    );
+    let modes = modes
+        .iter()
+        .map(|m| ModeRow {
+            pole: format_complex(m.pole),
+            margin: fmt_num(m.margin),
+            verdict: match m.verdict {
+                ModeVerdict::Yes => word.to_string(),
+                ModeVerdict::Weak => format!("{weak}: moving it needs large inputs"),
+                ModeVerdict::No if stable(&m.pole) => format!("not {word}; stable, so it stays where it is"),
+                ModeVerdict::No => format!("not {word} and not stable"),
+            },
+        })
+        .collect();
+    StructureReport { summary, tolerance, modes }
+}
+
+pub(crate) fn modal_report_text(r: &ModalReport, kind: Kind) -> StructureReport {
+    let modes: Vec<ModeLike> = r.modes.iter().map(|m| ModeLike { pole: m.pole, margin: m.margin, verdict: m.verdict }).collect();
+    structure_text(
+        kind,
+        Structure { discrete: false, rank: r.rank, states: r.states, hidden: &r.hidden_modes, modes: &modes, tolerance: r.tolerance, relative: r.relative_tolerance, consistent: r.consistent },
+    )
+}
+
+pub(crate) fn structure_result_text(r: &StructureResult, kind: Kind, discrete: bool) -> StructureReport {
+    let modes: Vec<ModeLike> = r
+        .modes
+        .iter()
+        .map(|m| ModeLike {
+            pole: c64(&m.pole),
+            margin: m.margin,
+            verdict: match m.verdict {
+                "yes" => ModeVerdict::Yes,
+                "weak" => ModeVerdict::Weak,
+                _ => ModeVerdict::No,
+            },
+        })
+        .collect();
+    let hidden: Vec<Complex64> = r.uncontrollable_modes.iter().map(c64).collect();
+    structure_text(
+        kind,
+        Structure { discrete, rank: r.rank, states: r.states, hidden: &hidden, modes: &modes, tolerance: r.tolerance, relative: r.relative_tolerance, consistent: r.consistent },
+    )
+}
+
+pub(crate) fn robustness_text(result: &DesignResult) -> String {
+    let f = &result.feedback;
+    // The verdict is judged in balanced coordinates (independent of the state units), as the
+    // fragile-design warning is; the condition as the states are scaled is shown beside it.
+    let k = f.balanced_eigenvector_condition;
+    let raw = f.eigenvector_condition;
+    let fmt_cond = |k: f64| if k.is_finite() { fmt_num(k) } else { "infinite".into() };
+    let cond = fmt_cond(k);
+    let verdict = if !k.is_finite() {
+        "the closed-loop eigenvectors are dependent: the placement is extremely sensitive to model errors"
+    } else if k <= 100.0 {
+        "well conditioned: the placed poles are insensitive to small errors in the model or the gain"
+    } else if k <= 1e4 {
+        "moderate: small model errors move the poles somewhat; check the design against the real plant's uncertainty"
+    } else {
+        "fragile: small model errors can move the poles far from where they were placed"
+    };
+    format!(
+        "Eigenvector condition number κ₂ = {cond} in balanced coordinates ({} as the states are scaled; 1 is ideal): {verdict}. Gain size ‖K‖₂ = {}.",
+        fmt_cond(raw),
+        fmt_num(f.gain_norm)
+    )
+}
+
+pub(crate) fn vector_text(v: &[f64]) -> String {
+    format!("[{}]", v.iter().map(|x| full(*x)).collect::<Vec<_>>().join(", "))
+}
+
+pub(crate) fn response_rows(result: &DesignResult) -> (Vec<StateRow>, Vec<InputRow>, String) {
+    let p = &result.plant;
+    let s = &result.simulation;
+    let unit = |units: &Vec<String>, i: usize| units.get(i).map(|u| u.trim().to_string()).filter(|u| !u.is_empty());
+    let with_unit = |v: String, u: &Option<String>| match u {
+        Some(u) => format!("{v} {u}"),
+        None => v,
+    };
+    let states = p
+        .state_names
+        .iter()
+        .enumerate()
+        .map(|(i, name)| {
+            let u = unit(&p.state_units, i);
+            StateRow {
+                name: label(name, u.as_ref()),
+                initial: s.initial_state.get(i).map(|v| with_unit(fmt_num(*v), &u)).unwrap_or_default(),
+                peak: s.peak_state.get(i).map(|v| with_unit(fmt_num(*v), &u)).unwrap_or_default(),
+                settling: match s.settling_time.get(i).copied().flatten() {
+                    Some(t) => format!("{} s", fmt_num(t)),
+                    None if s.diverged => "diverged".into(),
+                    None => format!("not settled within {} s", fmt_num(s.duration)),
+                },
+                overshoot: match s.overshoot.get(i).copied().flatten() {
+                    Some(o) => format!("{} %", fmt_num(o * 100.0)),
+                    None => "— (starts at 0)".into(),
+                },
+            }
+        })
+        .collect();
+    let inputs = p
+        .input_names
+        .iter()
+        .enumerate()
+        .map(|(i, name)| {
+            let u = unit(&p.input_units, i);
+            let peak = s.peak_input.get(i).copied().unwrap_or(0.0);
+            let limit = s.input_limit.get(i).copied().flatten();
+            let verdict = match limit {
+                None => "no limit given".to_string(),
+                Some(l) if peak <= l => format!("within the limit (peak is {} % of it)", fmt_num(100.0 * peak / l)),
+                Some(l) => {
+                    let from = s.first_saturation.get(i).copied().flatten().map_or_else(|| "?".to_string(), fmt_num);
+                    let total = s.time_saturated.get(i).copied().unwrap_or(0.0);
+                    format!("over the limit by {} %: saturated from t = {from} s, {} s in all", fmt_num(100.0 * (peak / l - 1.0)), fmt_num(total))
+                }
+            };
+            InputRow {
+                name: label(name, u.as_ref()),
+                peak: with_unit(fmt_num(peak), &u),
+                limit: limit.map_or_else(|| "none".to_string(), |l| with_unit(fmt_num(l), &u)),
+                verdict,
+            }
+        })
+        .collect();
+    let start = if s.initial_state_chosen {
+        format!("x₀ = {} (none given: 1 in the first state)", vector_text(&s.initial_state))
+    } else {
+        format!("x₀ = {}", vector_text(&s.initial_state))
+    };
+    let horizon = if s.duration_chosen {
+        format!("{} s (chosen from the slowest closed-loop pole)", fmt_num(s.duration))
+    } else {
+        format!("{} s", fmt_num(s.duration))
+    };
+    let limits = if s.input_limit.iter().any(|l| l.is_some()) { "; inputs clipped at their limits" } else { "" };
+    let summary = if result.domain == "discrete" {
+        format!(
+            "Free response of the sampled state feedback u[k] = −K x[k] (the state measured exactly, no reference) from {start} over {horizon}, sample time {} s{limits}. Settling: within ±{} % of each state's peak deviation from zero, for good.",
+            fmt_num(s.step),
+            fmt_num(s.band * 100.0)
+        )
+    } else {
+        format!(
+            "Free response of the closed loop u = −K x from {start} over {horizon}, time step {} s{limits}. Settling: within ±{} % of each state's peak deviation from zero, for good.",
+            fmt_num(s.step),
+            fmt_num(s.band * 100.0)
+        )
+    };
+    (states, inputs, summary)
+}
+
+/// What the form knew beyond the result, for the report: the loop scenario as asked and the
+/// output units (the result carries the names only).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ReportContext {
+    pub output_units: Vec<String>,
+    /// The observer speed factor, when the observer poles were chosen by one.
+    pub speed_factor: Option<f64>,
+    pub reference_time: f64,
+    pub disturbance: Vec<f64>,
+    pub disturbance_time: f64,
+    pub noise_std: Vec<f64>,
+    pub seed: u64,
+    pub z_plane: bool,
+    pub delay_poles: Vec<Complex64>,
+    /// Bryson's-rule bounds `(max_state, max_input)` of an LQR design.
+    pub lqr_bounds: Option<(Vec<f64>, Vec<f64>)>,
+    /// The LQR input bounds are the actuator limits.
+    pub lqr_inputs_from_limits: bool,
+    /// The search's situations, described ("the free response from x₀ = …").
+    pub search_situations: Vec<String>,
+    /// What the search could not take into account.
+    pub search_notes: Vec<String>,
+}
+
+impl ReportContext {
+    /// The context of a form's request.
+    pub fn from_request(req: &DesignRequest, spec: &ControllerSpec) -> ReportContext {
+        ReportContext {
+            output_units: req.plant.output_units().to_vec(),
+            speed_factor: match spec.observer.as_ref().map(|o| &o.poles) {
+                Some(ObserverPoles::SpeedFactor(f)) => Some(*f),
+                _ => None,
+            },
+            reference_time: spec.scenario.reference_time,
+            disturbance: spec.scenario.disturbance.clone(),
+            disturbance_time: spec.scenario.disturbance_time,
+            noise_std: spec.scenario.noise_std.clone(),
+            seed: spec.scenario.seed,
+            z_plane: spec.plane == Plane::Z,
+            delay_poles: spec.implementation.as_ref().filter(|i| i.computation_delay).map(|i| i.delay_poles.clone()).unwrap_or_default(),
+            lqr_bounds: match &spec.lqr {
+                Some(design::LqrWeights::Bryson { max_state, max_input }) => Some((max_state.clone(), max_input.clone())),
+                _ => None,
+            },
+            lqr_inputs_from_limits: false,
+            search_situations: spec
+                .search
+                .as_ref()
+                .map(|list| {
+                    list.iter()
+                        .map(|s| match s {
+                            crate::search::Situation::InitialState(x) => format!("the free response from x₀ = {}", vector_text(x)),
+                            crate::search::Situation::ReferenceStep(r) => format!("the reference step r = {} (followed with feedforward)", vector_text(r)),
+                        })
+                        .collect()
+                })
+                .unwrap_or_default(),
+            search_notes: Vec::new(),
+        }
+    }
+}
+
+/// Everything the page shows for a design (without the form's context).
+pub fn report(result: &DesignResult) -> Report {
+    report_with(result, &ReportContext::default())
+}
+
+/// Everything the page shows for a design.
+pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
+    let mut open: Vec<Complex64> = result.open_loop_poles.iter().map(c64).collect();
+    sort_for_display(&mut open);
+    let (states, inputs, simulation) = response_rows(result);
+    let discrete = result.domain == "discrete";
+    let warnings: Vec<String> = result.warnings.iter().map(|w| w.message.clone()).collect();
+    let controller = controller_report(result, context);
+    let pole_choice = pole_choice_report(result, context);
+    Report {
+        law: "u = −K x".into(),
+        gain: gain_table(result),
+        poles: pole_rows(result),
+        open_loop: format_pole_list(&open),
+        controllability: structure_result_text(&result.controllability, Kind::Controllability, discrete),
+        observability: result.observability.as_ref().map(|o| structure_result_text(o, Kind::Observability, discrete)),
+        robustness: robustness_text(result),
+        warnings,
+        states,
+        inputs,
+        simulation,
+        controller,
+        pole_choice,
+    }
+}
+
+/// `value unit`, or the value alone.
+pub(crate) fn with_unit(v: String, unit: Option<&String>) -> String {
+    match unit.map(|u| u.trim()).filter(|u| !u.is_empty()) {
+        Some(u) => format!("{v} {u}"),
+        None => v,
+    }
+}
+
+/// Requested versus achieved poles of any placement (no fixed modes), matched nearest first.
+pub(crate) fn matched_pole_rows(result: &DesignResult, requested: &[Pair], achieved: &[Pair]) -> Vec<PoleRow> {
+    let mut req: Vec<Complex64> = requested.iter().map(c64).collect();
+    sort_for_display(&mut req);
+    let ach: Vec<Complex64> = achieved.iter().map(c64).collect();
+    let matched = match_nearest(&req, &ach);
+    req.iter()
+        .enumerate()
+        .map(|(i, t)| {
+            let z = matched.get(i).copied().flatten().and_then(|j| ach.get(j)).copied();
+            PoleRow {
+                requested: format_complex(*t),
+                achieved: z.map(format_complex).unwrap_or_default(),
+                error: z.map(|z| pole_error_text(result, *t, z)).unwrap_or_default(),
+                character: z.map(|z| character_in(result, z)).unwrap_or_default(),
+                note: String::new(),
+            }
+        })
+        .collect()
+}
+
+/// The control law, one equation per line.
+pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
+    let digital = result.sample_time.is_some();
+    let delay = result.feedback.delay_gain.is_some();
+    let observer = result.observer.as_ref();
+    let current = observer.is_some_and(|o| o.form == "current");
+    let x = match (observer.is_some(), current, digital) {
+        (false, _, true) => "x[k]",
+        (false, _, false) => "x",
+        (true, true, _) => "x̄[k]",
+        (true, false, true) => "x̂[k]",
+        (true, false, false) => "x̂",
+    };
+    let k = if digital { "[k]" } else { "" };
+    let mut lines = Vec::new();
+    let delay_term = |ff: bool| if delay { if ff { " − K_u (u[k−1] − N_u r)" } else { " − K_u u[k−1]" } } else { "" };
+    match &result.tracking {
+        Some(TrackingResult::Feedforward { .. }) => lines.push(format!("u{k} = N_u r − K ({x} − N_x r){}", delay_term(true))),
+        Some(TrackingResult::Integral { .. }) => lines.push(format!("u{k} = −K {x} − K_i z{k}{}", delay_term(false))),
+        None => lines.push(format!("u{k} = −K {x}{}", delay_term(false))),
+    }
+    let applied = if delay { "u[k−1]" } else { "u[k]" };
+    if let Some(o) = observer {
+        if !digital {
+            lines.push("x̂′ = A x̂ + B u + L (y − C x̂ − D u)".into());
+        } else if o.form == "current" {
+            lines.push("x̄[k] = x̂[k] + L_c (y[k] − C x̂[k] − D u_held), the estimate corrected with the measurement of the same sample".into());
+            lines.push(format!("x̂[k+1] = Φ x̄[k] + Γ {applied}"));
+        } else {
+            lines.push(format!("x̂[k+1] = Φ x̂[k] + Γ {applied} + L (y[k] − C x̂[k] − D u_held)"));
+        }
+    }
+    if observer.is_some() && digital {
+        lines.push("u_held: the input being applied when y[k] is measured".into());
+    }
+    if let Some(TrackingResult::Integral { anti_windup, time_constant, .. }) = &result.tracking {
+        lines.push(if digital { "z[k+1] = z[k] + T (r − y[k]) for each tracked output".into() } else { "z′ = r − y for each tracked output".into() });
+        match (*anti_windup, time_constant) {
+            ("clamp", _) => lines.push("anti-windup: the integrators hold while any input is clipped (conditional integration)".into()),
+            ("back_calculation", Some(tt)) => lines.push(format!("anti-windup: back-calculation, the integrators also driven by −K_i⁺ (u_applied − u_commanded) / T_t with T_t = {} s", fmt_num(*tt))),
+            _ => lines.push("no anti-windup: the integrators keep integrating while an input is clipped".into()),
+        }
+    }
+    if result.simulation.input_limit.iter().any(|l| l.is_some()) {
+        lines.push("applied input: the command clipped to each input's limit".into());
+    }
+    lines
+}
+
+pub(crate) fn controller_report(result: &DesignResult, context: &ReportContext) -> Option<ControllerReport> {
+    let v2 = result.sample_time.is_some() || result.observer.is_some() || result.tracking.is_some() || result.closed_loop.is_some();
+    if !v2 {
+        return None;
+    }
+    let p = &result.plant;
+    let inputs = input_labels(result);
+    let states = state_labels(result);
+    let outputs: Vec<String> = p.output_names.iter().enumerate().map(|(i, n)| label(n, context.output_units.get(i))).collect();
+
+    let domain = domain_text(result, context);
+    let delay_gain = result.feedback.delay_gain.as_ref().map(|ku| {
+        matrix_table(
+            "K_u",
+            "K_u: gain on the previous input (computation delay): one row per input, one column per previous input",
+            "u[k] = -K x[k] - K_u u[k-1]; K_u has one row per input and one column per previous input",
+            inputs.clone(),
+            p.input_names.iter().map(|n| format!("previous {n}")).collect(),
+            ku,
+        )
+    });
+
+    let (tracking, tracking_note) = match &result.tracking {
+        Some(TrackingResult::Feedforward { outputs: names, nx, nu }) => {
+            let cols: Vec<String> = names.iter().map(|n| output_label(result, &context.output_units, n)).collect();
+            (
+                vec![
+                    matrix_table("N_x", "N_x: the steady state per unit of reference (one row per state, one column per tracked output)", "N_x: steady state per unit reference; one row per state, one column per tracked output", states.clone(), cols.clone(), nx),
+                    matrix_table("N_u", "N_u: the steady input per unit of reference (one row per input, one column per tracked output)", "N_u: steady input per unit reference; one row per input, one column per tracked output", inputs.clone(), cols, nu),
+                ],
+                Some(format!("Feedforward from the steady-state equations [A B; C D] [N_x; N_u] = [0; I] (digital: [Φ − I, Γ; C, D]): the reference sets the target state N_x r and the input N_u r; K acts on the difference. Tracked: {}.", names.join(", "))),
+            )
+        }
+        Some(TrackingResult::Integral { outputs: names, integral_gain, .. }) => {
+            let cols: Vec<String> = names.iter().map(|n| format!("∫ error of {}", output_label(result, &context.output_units, n))).collect();
+            (
+                vec![matrix_table("K_i", "K_i: integral gain, one row per input, one column per integrator (tracked output)", "u = -K x - K_i z; K_i has one row per input and one column per integrator", inputs.clone(), cols, integral_gain)],
+                Some(format!("Integral action: one integrator z of r − y per tracked output ({}); the state gain K_x of u = −K_x x − K_i z is the gain K above. Placed with the plant: the desired poles and the integrator poles together.", names.join(", "))),
+            )
+        }
+        None => (Vec::new(), None),
+    };
+
+    let discrete_plant = match &result.discrete_plant {
+        Some(dp) => vec![
+            matrix_table("Φ", "Φ = e^(A T): the plant's state transition over one sample (one row and one column per state)", "Φ = e^(A T); one row and one column per state", states.clone(), states.clone(), &dp.a),
+            matrix_table("Γ", "Γ = ∫₀ᵀ e^(A s) ds B: the effect of an input held over one sample (one row per state, one column per input)", "Γ = (integral of e^(A s) ds over one sample) B; one row per state, one column per input", states.clone(), inputs.clone(), &dp.b),
+        ],
+        None => Vec::new(),
+    };
+
+    let observer = observer_report(result, context, &states, &outputs);
+    let LoopParts { summary: loop_summary, outputs: loop_outputs, inputs: loop_inputs, estimation, events } = loop_parts(result, context);
+    Some(ControllerReport {
+        law: law_lines(result),
+        domain,
+        sample_rate: result.sample_rate.as_ref().map(|a| a.message.clone()),
+        delay_gain,
+        tracking,
+        tracking_note,
+        discrete_plant,
+        observer,
+        loop_summary,
+        loop_outputs,
+        loop_inputs,
+        estimation,
+        settling_band: format!("±{} %", fmt_num(result.simulation.band * 100.0)),
+        output_units: context.output_units.clone(),
+        events,
+    })
+}
+
+
+/// How the controller runs: continuous, or digital with its sample time and delay.
+pub(crate) fn domain_text(result: &DesignResult, context: &ReportContext) -> String {
+    let (p, t) = (&result.plant, result.sample_time);
+    match (t, &result.discrete_plant) {
+        (Some(t), Some(dp)) => format!(
+            "Digital controller: sample time T = {} s ({} Hz). The design uses the exact zero-order-hold model of the plant, Φ = e^(A T) and Γ = ∫₀ᵀ e^(A s) ds B, and {}{}.",
+            fmt_num(t),
+            fmt_num(1.0 / t),
+            if context.z_plane { "the desired poles as given in the z-plane" } else { "the desired poles mapped to the z-plane by z = e^(s T)" },
+            if dp.computation_delay {
+                format!(
+                    "; with a one-sample computation delay the model also carries the previous input, whose pole{} placed at z = {}",
+                    if p.inputs == 1 { " is" } else { "s are" },
+                    if context.delay_poles.is_empty() { "0".to_string() } else { format_pole_list(&context.delay_poles) }
+                )
+            } else {
+                String::new()
+            }
+        ),
+        (Some(t), None) => format!("Digital controller: sample time T = {} s ({} Hz); the plant matrices are already discrete.", fmt_num(t), fmt_num(1.0 / t)),
+        (None, _) => "Continuous controller: the equations above run in continuous time.".into(),
+    }
+}
+
+/// The observer's gain tables, poles and summary.
+pub(crate) fn observer_report(result: &DesignResult, context: &ReportContext, states: &[String], outputs: &[String]) -> Option<ObserverReport> {
+    let t = result.sample_time;
+    let (states, outputs) = (states.to_vec(), outputs.to_vec());
+    result.observer.as_ref().map(|o| {
+        let (heading, caption) = match (t.is_some(), o.form) {
+            (false, _) => ("observer x̂′ = A x̂ + B u + L (y - C x̂ - D u); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
+            (true, "current") => ("predictor gain L (the current estimator uses L_c = Φ⁻¹ L); L has one row per state and one column per output", "Observer gain L (predictor form; the current form uses L_c below): one row per state, one column per output"),
+            _ => ("observer x̂[k+1] = Φ x̂[k] + Γ u[k] + L (y[k] - C x̂[k] - D u[k]); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
+        };
+        let gain = matrix_table("L", caption, heading, states.clone(), outputs.clone(), &o.gain);
+        let current_gain = o.current_gain.as_ref().map(|lc| {
+            matrix_table("L_c", "Current-estimator gain L_c = Φ⁻¹ L: one row per state, one column per output", "current estimator x̄[k] = x̂[k] + L_c (y[k] - C x̂[k] - D u[k]); L_c has one row per state and one column per output", states.clone(), outputs.clone(), lc)
+        });
+        let cond = if o.eigenvector_condition.is_finite() { fmt_num(o.eigenvector_condition) } else { "infinite".into() };
+        let form = match o.form {
+            "predictor" => "Predictor form (the estimate for the next sample uses this sample's measurement, so the input never waits for the computation).",
+            "current" => "Current-estimator form (the estimate is corrected with the measurement of the same sample before the input is computed).",
+            _ => "Continuous observer.",
+        };
+        let speed = context.speed_factor.map(|f| format!(" Observer poles: {} times the controller poles (s-plane).", fmt_num(f))).unwrap_or_default();
+        let summary = format!(
+            "{form}{speed} Achieved to within {} (relative); eigenvector condition number {cond}; gain size ‖L‖₂ = {}.{}",
+            fmt_num(o.max_pole_error),
+            fmt_num(o.gain_norm),
+            if o.detectable { "" } else { " The plant is not detectable from these outputs: some modes cannot be estimated." }
+        );
+        let noise = format!(
+            "Noise-to-input gain ‖K L‖₂ = {}: a measurement error e moves the inputs by up to {} × |e| (worst direction) through the observer. A faster observer (larger L) passes more measurement noise to the actuators.",
+            fmt_num(o.noise_to_input_gain),
+            fmt_num(o.noise_to_input_gain)
+        );
+        ObserverReport { gain, current_gain, poles: matched_pole_rows(result, &o.requested_poles, &o.achieved_poles), summary, noise }
+    })
+}
+
+/// The loop simulation in words and rows.
+#[derive(Default)]
+pub(crate) struct LoopParts {
+    summary: Option<String>,
+    outputs: Vec<LoopOutputRow>,
+    inputs: Vec<LoopInputRow>,
+    estimation: Vec<EstimationRow>,
+    events: Vec<EventLine>,
+}
+
+pub(crate) fn loop_parts(result: &DesignResult, context: &ReportContext) -> LoopParts {
+    let p = &result.plant;
+    let mut parts_out = LoopParts::default();
+    let LoopParts { summary: loop_summary, outputs: loop_outputs, inputs: loop_inputs, estimation, events } = &mut parts_out;
+    if let Some(l) = &result.closed_loop {
+        let band = result.simulation.band;
+        let unit_of = |name: &str| result.plant.output_names.iter().position(|n| n == name).and_then(|i| context.output_units.get(i)).cloned();
+        for tm in &l.tracked {
+            let u = unit_of(&tm.name);
+            let step = tm.reference;
+            loop_outputs.push(LoopOutputRow {
+                name: label(&tm.name, u.as_ref()),
+                reference: format!("{} at t = {} s", with_unit(fmt_num(step), u.as_ref()), fmt_num(context.reference_time)),
+                rise_time: tm.rise_time.map_or_else(|| "not reached".to_string(), |v| format!("{} s", fmt_num(v))),
+                settling_time: tm.settling_time.map_or_else(|| format!("not settled within ±{} %", fmt_num(band * 100.0)), |v| format!("{} s", fmt_num(v))),
+                overshoot: format!("{} %", fmt_num(tm.overshoot * 100.0)),
+                steady_state_error: if step != 0.0 {
+                    format!("{} ({} % of the step)", with_unit(fmt_num(tm.steady_state_error), u.as_ref()), fmt_num(100.0 * tm.steady_state_error / step))
+                } else {
+                    with_unit(fmt_num(tm.steady_state_error), u.as_ref())
+                },
+            });
+        }
+        for (i, im) in l.input_metrics.iter().enumerate() {
+            let u = p.input_units.get(i);
+            loop_inputs.push(LoopInputRow {
+                name: label(&im.name, u),
+                peak: with_unit(fmt_num(im.peak_command), u),
+                limit: im.limit.map_or_else(|| "none".to_string(), |v| with_unit(fmt_num(v), u)),
+                saturated: match im.limit {
+                    None => "no limit given".into(),
+                    Some(lim) if im.peak_command <= lim => format!("never (peak is {} % of the limit)", fmt_num(100.0 * im.peak_command / lim)),
+                    Some(_) => format!("{} s in all", fmt_num(im.time_saturated)),
+                },
+            });
+        }
+        if result.observer.is_some() {
+            for (i, (x, xh)) in l.states.iter().zip(&l.estimates).enumerate() {
+                let u = p.state_units.get(i);
+                let err: Vec<f64> = x.iter().zip(xh).map(|(a, b)| a - b).collect();
+                let peak = err.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+                let last = err.last().copied().unwrap_or(0.0).abs();
+                estimation.push(EstimationRow {
+                    name: p.state_names.get(i).map(|n| label(n, u)).unwrap_or_default(),
+                    peak: with_unit(fmt_num(peak), u),
+                    last: with_unit(fmt_num(last), u),
+                });
+            }
+        }
+        let mut parts = Vec::new();
+        for tm in &l.tracked {
+            parts.push(format!("a reference step to {} on {} at t = {} s", with_unit(fmt_num(tm.reference), unit_of(&tm.name).as_ref()), tm.name, fmt_num(context.reference_time)));
+        }
+        if !l.tracked.is_empty() {
+            events.push(EventLine { time: context.reference_time, label: "reference step".into() });
+        }
+        if context.disturbance.iter().any(|w| *w != 0.0) {
+            let loads: Vec<String> = context
+                .disturbance
+                .iter()
+                .enumerate()
+                .filter(|(_, w)| **w != 0.0)
+                .map(|(i, w)| format!("{} on {}", with_unit(fmt_num(*w), p.input_units.get(i)), p.input_names.get(i).map_or("", |s| s.as_str())))
+                .collect();
+            parts.push(format!("a load step of {} at t = {} s", loads.join(" and "), fmt_num(context.disturbance_time)));
+            events.push(EventLine { time: context.disturbance_time, label: "load step".into() });
+        }
+        if context.noise_std.iter().any(|v| *v > 0.0) {
+            parts.push(format!("measurement noise of standard deviation {} (seed {})", context.noise_std.iter().map(|v| fmt_num(*v)).collect::<Vec<_>>().join(", "), context.seed));
+        }
+        if parts.is_empty() {
+            parts.push(format!("the free response from x₀ = {}", vector_text(&result.simulation.initial_state)));
+        }
+        let timing = match l.sample_time {
+            Some(t) => format!("sampled every {} s", fmt_num(t)),
+            None => "continuous".into(),
+        };
+        let start = if result.observer.is_some() { " The observer starts from x̂ = 0." } else { "" };
+        let separation = match l.separation_error {
+            Some(e) if e.is_finite() => format!(
+                " Separation check: the eigenvalues of the loop with observer are the controller and observer poles to within {} (relative).",
+                fmt_num(e)
+            ),
+            _ => String::new(),
+        };
+        *loop_summary = Some(format!(
+            "The whole controller in the loop with the plant ({timing}) over {} s: {}{}.{start}{separation}",
+            fmt_num(l.duration),
+            parts.join("; "),
+            if result.simulation.input_limit.iter().any(|x| x.is_some()) { "; inputs clipped at their limits" } else { "" }
+        ));
+    }
+    parts_out
+}
+
