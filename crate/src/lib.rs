@@ -9,6 +9,7 @@ pub mod analysis;
 pub mod controller;
 pub mod demos;
 pub mod design;
+pub mod draw;
 pub mod editing;
 pub mod form;
 pub mod linalg;

@@ -49,50 +49,12 @@ use web_sys::{CanvasRenderingContext2d, Document, Element, HtmlCanvasElement, Ht
 use crate::design::{fmt_num, DesignResult};
 use crate::editing::{self, Change, Direction, Edit, EditHistory, EditParams, Member, NudgeOutcome, PlaneMap, StepSize};
 use crate::form::{self, evaluate_form, ControllerReport, FieldError, FormInput, FormOutcome, FormStatus, MatrixTable, OpenLoopAnalysis, Report, StructureReport};
-use crate::plot::{common_ticks, flow_legend, Frame, Simplifier, Rect, Ticks, LEGEND_ROW_PX, LEGEND_SWATCH_PX};
+use crate::draw::{self, Align, Baseline, Cap, DrawOp, TextMeasure};
+use crate::plot::{Frame, Rect};
 pub use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, PolePick, PoleSet, Series, TimePlotScene};
 
 /// Id of the page element that receives internal-error messages.
 pub const ERROR_ELEMENT_ID: &str = "pw-error";
-
-/// Palette (kept in step with site/style.css).
-mod colour {
-    pub const BACKGROUND: &str = "#ffffff";
-    pub const PLOT_EDGE: &str = "#9aa5ae";
-    pub const GRID: &str = "#e4e8eb";
-    pub const AXIS: &str = "#56636e";
-    pub const TEXT: &str = "#2c3a45";
-    pub const MUTED_TEXT: &str = "#5f6d78";
-    pub const STABLE_FILL: &str = "rgba(17, 110, 106, 0.09)";
-    pub const STABLE_EDGE: &str = "rgba(17, 110, 106, 0.55)";
-    pub const OPEN_LOOP: &str = "#7b8794";
-    pub const CLOSED_LOOP: &str = "#0e5f5c";
-    pub const NOT_ASSIGNED: &str = "#c07a0c";
-    /// Observer poles (the slate blue of the signal palette).
-    pub const OBSERVER: &str = "#3f4f86";
-    /// Reference and load step markers on the time plots.
-    pub const EVENT: &str = "#7b8794";
-    pub const LIMIT: &str = "#9c3d2e";
-    pub const BAND_FILL: &str = "rgba(192, 122, 12, 0.13)";
-    pub const BAND_TEXT: &str = "#8a5a0c";
-    /// Ring around the pole chosen by keyboard.
-    pub const FOCUS: &str = "#2c3a45";
-    /// Open circles on the requested poles that can be dragged.
-    pub const REQUESTED: &str = "#0e5f5c";
-    /// The pinned design's poles and signals (plum).
-    pub const PINNED: &str = "#8b4a6e";
-    /// Boundary of a specification's admissible region (dark amber).
-    pub const REGION: &str = "#8a5a0c";
-    /// Signal colours, in order.
-    pub const SERIES: [&str; 6] = [
-        "#0e5f5c", "#c07a0c", "#3f4f86", "#8b4a6e", "#5f7a2a", "#56636e",
-    ];
-}
-
-const FONT: &str = "12px system-ui, -apple-system, \"Segoe UI\", Roboto, sans-serif";
-const TITLE_FONT: &str = "600 12px system-ui, -apple-system, \"Segoe UI\", Roboto, sans-serif";
-const X_TICK_SPACING_PX: f64 = 70.0;
-const Y_TICK_SPACING_PX: f64 = 42.0;
 
 /// Runs once when the module is instantiated (`initSync` calls it).
 #[wasm_bindgen(start)]
@@ -179,8 +141,8 @@ pub fn parse_time_plot_scene(value: &JsValue) -> Result<TimePlotScene, JsValue> 
 #[wasm_bindgen]
 pub fn draw_pole_map(canvas_id: &str, scene: JsValue) -> Result<(), JsValue> {
     let scene = parse_pole_map_scene(&scene)?;
-    let surface = Surface::prepare(canvas_id)?;
-    paint_pole_map(&surface, &scene)
+    let rect = css_rect(&find_canvas(canvas_id)?);
+    paint_picture(canvas_id, rect, pixel_ratio(), &Picture::Poles(scene))
 }
 
 /// The pole-map marker under a pointer at CSS pixel offset (`x`, `y`) inside
@@ -204,8 +166,8 @@ pub fn pick_pole(canvas_id: &str, scene: JsValue, x: f64, y: f64) -> Result<JsVa
 #[wasm_bindgen]
 pub fn draw_time_plot(canvas_id: &str, scene: JsValue) -> Result<(), JsValue> {
     let scene = parse_time_plot_scene(&scene)?;
-    let surface = Surface::prepare(canvas_id)?;
-    paint_time_plot(&surface, &scene)
+    let rect = css_rect(&find_canvas(canvas_id)?);
+    paint_picture(canvas_id, rect, pixel_ratio(), &Picture::Time(scene))
 }
 
 // ---------------------------------------------------------------------------
@@ -1268,26 +1230,13 @@ impl PageState {
         }
         state.painted = None;
         let t0 = now_ms();
-        let surface = Surface::prepare_sized(id, rect, dpr)?;
-        let result = match &picture {
-            Picture::Poles(scene) => paint_pole_map(&surface, scene),
-            Picture::Time(scene) => paint_time_plot(&surface, scene),
-            Picture::Message(text) => paint_message(&surface, text),
-        };
+        let result = paint_picture(id, rect, dpr, &picture);
         phase(id, now_ms() - t0);
-        match result {
-            Ok(()) => {
-                if let Ok(state) = self.canvas(id) {
-                    state.painted = Some((rect, dpr, picture));
-                }
-                Ok(())
-            }
-            Err(e) => {
-                // Leave the bitmap to be reset next time (its context state is unknown).
-                surface.canvas.set_width(0);
-                Err(e)
-            }
+        result?;
+        if let Ok(state) = self.canvas(id) {
+            state.painted = Some((rect, dpr, picture));
         }
+        Ok(())
     }
 }
 
@@ -2194,19 +2143,13 @@ fn as_pinned(scene: &TimePlotScene) -> Vec<crate::plot::PinnedSeries> {
 }
 
 // ---------------------------------------------------------------------------
-// Canvas plumbing
+// Canvas: the display lists of crate::draw, replayed
 // ---------------------------------------------------------------------------
 
 fn find_canvas(canvas_id: &str) -> Result<HtmlCanvasElement, JsValue> {
-    let document = web_sys::window()
-        .and_then(|w| w.document())
-        .ok_or_else(|| JsValue::from_str("no document"))?;
-    let element = document
-        .get_element_by_id(canvas_id)
-        .ok_or_else(|| js_err("no element with id", canvas_id))?;
-    element
-        .dyn_into::<HtmlCanvasElement>()
-        .map_err(|_| js_err("not a canvas", canvas_id))
+    let document = web_sys::window().and_then(|w| w.document()).ok_or_else(|| JsValue::from_str("no document"))?;
+    let element = document.get_element_by_id(canvas_id).ok_or_else(|| js_err("no element with id", canvas_id))?;
+    element.dyn_into::<HtmlCanvasElement>().map_err(|_| js_err("not a canvas", canvas_id))
 }
 
 /// The canvas's CSS box (falls back to its bitmap size before layout). Reading it forces
@@ -2220,699 +2163,128 @@ fn css_rect(canvas: &HtmlCanvasElement) -> Rect {
     }
 }
 
-/// A canvas sized for the device pixel ratio, drawing in CSS pixels.
-struct Surface {
-    canvas: HtmlCanvasElement,
-    ctx: CanvasRenderingContext2d,
-    rect: Rect,
-    /// The font, fill and stroke last set (each setter parses its text: skip repeats).
+/// The browser's own text widths, for laying out a display list.
+struct CanvasText<'a> {
+    ctx: &'a CanvasRenderingContext2d,
     font: std::cell::Cell<&'static str>,
-    fill: std::cell::Cell<&'static str>,
-    stroke: std::cell::Cell<&'static str>,
-    align: std::cell::Cell<&'static str>,
-    baseline: std::cell::Cell<&'static str>,
 }
 
-impl Surface {
-    /// Sized from the canvas's own CSS box (for the stand-alone drawing functions).
-    fn prepare(canvas_id: &str) -> Result<Surface, JsValue> {
-        let canvas = find_canvas(canvas_id)?;
-        let rect = css_rect(&canvas);
-        Surface::prepare_sized(canvas_id, rect, pixel_ratio())
-    }
-
-    /// A cleared surface of CSS size `rect`. The bitmap is resized only when its size
-    /// changes (resizing reallocates it); otherwise the drawing state is reset by hand.
-    fn prepare_sized(canvas_id: &str, rect: Rect, dpr: f64) -> Result<Surface, JsValue> {
-        let canvas = find_canvas(canvas_id)?;
-        let w = (rect.width * dpr).round().clamp(1.0, 16384.0) as u32;
-        let h = (rect.height * dpr).round().clamp(1.0, 16384.0) as u32;
-        let resized = canvas.width() != w || canvas.height() != h;
-        if resized {
-            canvas.set_width(w);
-            canvas.set_height(h);
-        }
-        let ctx = canvas
-            .get_context("2d")?
-            .ok_or_else(|| js_err("no 2d context", canvas_id))?
-            .dyn_into::<CanvasRenderingContext2d>()
-            .map_err(|_| js_err("no 2d context", canvas_id))?;
-        ctx.set_transform(dpr, 0.0, 0.0, dpr, 0.0, 0.0)?;
-        if !resized {
-            ctx.set_line_dash(&js_sys::Array::new())?;
-            ctx.set_line_cap("butt");
-            ctx.set_line_join("miter");
-            ctx.set_global_alpha(1.0);
-        }
-        ctx.set_fill_style_str(colour::BACKGROUND);
-        ctx.fill_rect(0.0, 0.0, rect.width, rect.height);
-        Ok(Surface { canvas, ctx, rect, font: std::cell::Cell::new(""), fill: std::cell::Cell::new(colour::BACKGROUND), stroke: std::cell::Cell::new(""), align: std::cell::Cell::new(""), baseline: std::cell::Cell::new("") })
-    }
-
-
-    fn set_font(&self, font: &'static str) {
+impl TextMeasure for CanvasText<'_> {
+    fn width(&self, font: &'static str, text: &str) -> f64 {
         if self.font.get() != font {
             self.ctx.set_font(font);
             self.font.set(font);
         }
-    }
-
-    fn set_fill(&self, style: &'static str) {
-        if self.fill.get() != style {
-            self.ctx.set_fill_style_str(style);
-            self.fill.set(style);
-        }
-    }
-
-    fn set_stroke(&self, style: &'static str) {
-        if self.stroke.get() != style {
-            self.ctx.set_stroke_style_str(style);
-            self.stroke.set(style);
-        }
-    }
-
-    fn line(&self, a: [f64; 2], b: [f64; 2]) {
-        self.ctx.begin_path();
-        self.ctx.move_to(a[0], a[1]);
-        self.ctx.line_to(b[0], b[1]);
-        self.ctx.stroke();
-    }
-
-    /// Many separate segments stroked as one path.
-    fn segments(&self, segs: &[([f64; 2], [f64; 2])]) {
-        if segs.is_empty() {
-            return;
-        }
-        let mut d = String::with_capacity(segs.len() * 24);
-        for (a, b) in segs {
-            push_point(&mut d, 'M', *a);
-            push_point(&mut d, 'L', *b);
-        }
-        self.stroke_path(&d);
-    }
-
-    /// Strokes an SVG path string in one call (falls back to nothing on a bad string).
-    fn stroke_path(&self, d: &str) {
-        if let Ok(path) = Path2d::new_with_path_string(d) {
-            self.ctx.stroke_with_path(&path);
-        }
-    }
-
-    fn dash(&self, pattern: &[f64]) -> Result<(), JsValue> {
-        let arr = js_sys::Array::new();
-        for v in pattern {
-            arr.push(&JsValue::from_f64(*v));
-        }
-        self.ctx.set_line_dash(&arr)
-    }
-
-    fn text(&self, s: &str, x: f64, y: f64, align: &'static str, baseline: &'static str) -> Result<(), JsValue> {
-        if self.align.get() != align {
-            self.ctx.set_text_align(align);
-            self.align.set(align);
-        }
-        if self.baseline.get() != baseline {
-            self.ctx.set_text_baseline(baseline);
-            self.baseline.set(baseline);
-        }
-        self.ctx.fill_text(s, x, y)
-    }
-
-    fn text_width(&self, s: &str) -> f64 {
-        self.ctx
-            .measure_text(s)
-            .map(|m| m.width())
-            .unwrap_or(7.0 * s.chars().count() as f64)
-    }
-
-    /// Ends a [`Surface::clip_to`]: the context's saved state comes back, so the cached
-    /// font and styles are forgotten (the next setter applies its value again).
-    fn restore(&self) {
-        self.ctx.restore();
-        for cell in [&self.font, &self.fill, &self.stroke, &self.align, &self.baseline] {
-            cell.set("");
-        }
-    }
-
-    fn clip_to(&self, r: Rect) {
-        self.ctx.save();
-        self.ctx.begin_path();
-        self.ctx.rect(r.x, r.y, r.width, r.height);
-        self.ctx.clip();
+        self.ctx.measure_text(text).map(|m| m.width()).unwrap_or(7.0 * text.chars().count() as f64)
     }
 }
 
-/// Appends `Mx y` (or `Lx y`) to an SVG path, each coordinate rounded to a hundredth of a
-/// CSS pixel and written as digits directly (float formatting is slow in the size-tuned build).
-fn push_point(d: &mut String, command: char, p: [f64; 2]) {
-    d.push(command);
-    push_hundredths(d, p[0]);
-    d.push(' ');
-    push_hundredths(d, p[1]);
+/// Canvas `canvas_id` sized for CSS size `rect` at `dpr`, drawing in CSS pixels. The bitmap
+/// is resized only when its size changes (resizing reallocates it); otherwise the drawing
+/// state is reset by hand.
+fn prepare_canvas(canvas_id: &str, rect: Rect, dpr: f64) -> Result<(HtmlCanvasElement, CanvasRenderingContext2d), JsValue> {
+    let canvas = find_canvas(canvas_id)?;
+    let w = (rect.width * dpr).round().clamp(1.0, 16384.0) as u32;
+    let h = (rect.height * dpr).round().clamp(1.0, 16384.0) as u32;
+    let resized = canvas.width() != w || canvas.height() != h;
+    if resized {
+        canvas.set_width(w);
+        canvas.set_height(h);
+    }
+    let ctx = canvas
+        .get_context("2d")?
+        .ok_or_else(|| js_err("no 2d context", canvas_id))?
+        .dyn_into::<CanvasRenderingContext2d>()
+        .map_err(|_| js_err("no 2d context", canvas_id))?;
+    ctx.set_transform(dpr, 0.0, 0.0, dpr, 0.0, 0.0)?;
+    if !resized {
+        ctx.set_line_dash(&js_sys::Array::new())?;
+        ctx.set_line_join("miter");
+        ctx.set_global_alpha(1.0);
+    }
+    ctx.set_line_cap("butt");
+    Ok((canvas, ctx))
 }
 
-fn push_hundredths(d: &mut String, v: f64) {
-    use std::fmt::Write;
-    // Bounded: callers clamp to ±1e6 pixels, so the count of hundredths fits an i64.
-    let c = (v.clamp(-1e9, 1e9) * 100.0).round() as i64;
-    if c < 0 {
-        d.push('-');
-    }
-    let c = c.unsigned_abs();
-    // Writing to a String cannot fail.
-    let _ = write!(d, "{}", c / 100);
-    let frac = (c % 100) as u8;
-    d.push('.');
-    d.push(char::from(b'0' + frac / 10));
-    d.push(char::from(b'0' + frac % 10));
-}
-
-/// Typographic minus for labels.
-fn pretty(label: &str) -> String {
-    label.replace('-', "\u{2212}")
-}
-
-/// Ticks chosen independently for each axis.
-fn own_ticks(f: &Frame) -> (Ticks, Ticks) {
-    (f.x.ticks(X_TICK_SPACING_PX), f.y.ticks(Y_TICK_SPACING_PX))
-}
-
-/// Grid lines, plot edge and tick labels.
-fn paint_grid(s: &Surface, f: &Frame, (xt, yt): (Ticks, Ticks)) -> Result<(), JsValue> {
-    let p = f.plot;
-    s.set_stroke(colour::GRID);
-    s.ctx.set_line_width(1.0);
-    let mut segs = Vec::with_capacity(xt.ticks.len() + yt.ticks.len());
-    for t in &xt.ticks {
-        let x = snap(f.x.to_pixel(t.value));
-        segs.push(([x, p.y], [x, p.bottom()]));
-    }
-    for t in &yt.ticks {
-        let y = snap(f.y.to_pixel(t.value));
-        segs.push(([p.x, y], [p.right(), y]));
-    }
-    s.segments(&segs);
-    s.set_stroke(colour::PLOT_EDGE);
-    s.ctx
-        .stroke_rect(snap(p.x), snap(p.y), p.width.round(), p.height.round());
-
-    s.set_font(FONT);
-    s.set_fill(colour::MUTED_TEXT);
-    for t in &xt.ticks {
-        s.text(&pretty(&t.label), f.x.to_pixel(t.value), p.bottom() + 5.0, "center", "top")?;
-    }
-    for t in &yt.ticks {
-        s.text(&pretty(&t.label), p.x - 6.0, f.y.to_pixel(t.value), "right", "middle")?;
+/// Replays a display list on a canvas context.
+fn replay(ctx: &CanvasRenderingContext2d, ops: &[DrawOp]) -> Result<(), JsValue> {
+    let align = |a: Align| match a {
+        Align::Left => "left",
+        Align::Center => "center",
+        Align::Right => "right",
+    };
+    let baseline = |b: Baseline| match b {
+        Baseline::Top => "top",
+        Baseline::Middle => "middle",
+        Baseline::Bottom => "bottom",
+    };
+    for op in ops {
+        match op {
+            DrawOp::Clear { width, height } => {
+                ctx.set_fill_style_str(draw::colour::BACKGROUND);
+                ctx.fill_rect(0.0, 0.0, *width, *height);
+            }
+            DrawOp::Save => ctx.save(),
+            DrawOp::ClipRect(r) => {
+                ctx.begin_path();
+                ctx.rect(r.x, r.y, r.width, r.height);
+                ctx.clip();
+            }
+            DrawOp::Restore => ctx.restore(),
+            DrawOp::Font(f) => ctx.set_font(f),
+            DrawOp::Fill(c) => ctx.set_fill_style_str(c),
+            DrawOp::Stroke(c) => ctx.set_stroke_style_str(c),
+            DrawOp::LineWidth(w) => ctx.set_line_width(*w),
+            DrawOp::Dash(pattern) => {
+                let arr = js_sys::Array::new();
+                for v in pattern {
+                    arr.push(&JsValue::from_f64(*v));
+                }
+                ctx.set_line_dash(&arr)?;
+            }
+            DrawOp::LineCap(Cap::Butt) => ctx.set_line_cap("butt"),
+            DrawOp::LineCap(Cap::Round) => ctx.set_line_cap("round"),
+            DrawOp::RoundJoin => ctx.set_line_join("round"),
+            DrawOp::Alpha(a) => ctx.set_global_alpha(*a),
+            DrawOp::FillRect(r) => ctx.fill_rect(r.x, r.y, r.width, r.height),
+            DrawOp::StrokeRect(r) => ctx.stroke_rect(r.x, r.y, r.width, r.height),
+            DrawOp::StrokePath(d) => {
+                if let Ok(path) = Path2d::new_with_path_string(d) {
+                    ctx.stroke_with_path(&path);
+                }
+            }
+            DrawOp::FillCircle { centre, radius } | DrawOp::StrokeCircle { centre, radius } => {
+                ctx.begin_path();
+                ctx.arc(centre[0], centre[1], *radius, 0.0, std::f64::consts::TAU)?;
+                if matches!(op, DrawOp::FillCircle { .. }) {
+                    ctx.fill();
+                } else {
+                    ctx.stroke();
+                }
+            }
+            DrawOp::Text { text, at, align: a, baseline: b } => {
+                ctx.set_text_align(align(*a));
+                ctx.set_text_baseline(baseline(*b));
+                ctx.fill_text(text, at[0], at[1])?;
+            }
+        }
     }
     Ok(())
 }
 
-/// Align a 1-px line to the pixel grid.
-fn snap(v: f64) -> f64 {
-    v.round() + 0.5
-}
-
-fn axis_titles(s: &Surface, f: &Frame, x_title: &str, y_title: &str) -> Result<(), JsValue> {
-    s.set_font(TITLE_FONT);
-    s.set_fill(colour::TEXT);
-    let p = f.plot;
-    s.text(x_title, p.x + p.width / 2.0, p.bottom() + 22.0, "center", "top")?;
-    s.text(y_title, 8.0, p.y - 8.0, "left", "bottom")
-}
-
-/// Paints a legend swatch centred on a point.
-type Swatch<'a> = Box<dyn Fn(&Surface, [f64; 2]) + 'a>;
-
-/// Legend entries (label, swatch), right-aligned in the top margin.
-fn legend(s: &Surface, f: &Frame, entries: &[(&str, Swatch)]) -> Result<(), JsValue> {
-    s.set_font(FONT);
-    let y = f.plot.y - 12.0;
-    let mut x = f.plot.right();
-    for (label, swatch) in entries.iter().rev() {
-        let w = s.text_width(label);
-        s.set_fill(colour::TEXT);
-        s.text(label, x, y, "right", "middle")?;
-        x -= w + 14.0;
-        swatch(s, [x, y]);
-        x -= 18.0;
-    }
-    Ok(())
-}
-
-fn cross(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &'static str) {
-    s.set_stroke(stroke);
-    s.ctx.set_line_width(width);
-    s.ctx.set_line_cap("round");
-    s.ctx.begin_path();
-    s.ctx.move_to(c[0] - half, c[1] - half);
-    s.ctx.line_to(c[0] + half, c[1] + half);
-    s.ctx.move_to(c[0] - half, c[1] + half);
-    s.ctx.line_to(c[0] + half, c[1] - half);
-    s.ctx.stroke();
-    s.ctx.set_line_cap("butt");
-}
-
-/// A hollow diamond: requested poles that could not be assigned (a different shape,
-/// not only a different colour, so that it reads in grey print too).
-fn diamond(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &'static str) {
-    s.set_stroke(stroke);
-    s.ctx.set_line_width(width);
-    s.ctx.begin_path();
-    s.ctx.move_to(c[0], c[1] - half);
-    s.ctx.line_to(c[0] + half, c[1]);
-    s.ctx.line_to(c[0], c[1] + half);
-    s.ctx.line_to(c[0] - half, c[1]);
-    s.ctx.close_path();
-    s.ctx.stroke();
-}
-
-/// An observer pole: a cross (a pole) inside a square frame, so that it differs from a
-/// controller pole by shape as well as by colour.
-fn boxed_cross(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &'static str) {
-    cross(s, c, half * 0.62, width, stroke);
-    s.ctx.set_line_width(width * 0.6);
-    s.ctx.stroke_rect(c[0] - half, c[1] - half, 2.0 * half, 2.0 * half);
-}
-
-struct MarkerStyle {
-    half: f64,
-    width: f64,
-    stroke: &'static str,
-}
-
-fn marker_style(set: PoleSet) -> MarkerStyle {
-    match set {
-        PoleSet::OpenLoop => MarkerStyle {
-            half: 4.5,
-            width: 1.5,
-            stroke: colour::OPEN_LOOP,
-        },
-        PoleSet::NotAssigned => MarkerStyle {
-            half: 7.0,
-            width: 2.0,
-            stroke: colour::NOT_ASSIGNED,
-        },
-        PoleSet::ClosedLoop => MarkerStyle {
-            half: 5.5,
-            width: 2.25,
-            stroke: colour::CLOSED_LOOP,
-        },
-        PoleSet::Observer => MarkerStyle {
-            half: 6.0,
-            width: 1.75,
-            stroke: colour::OBSERVER,
-        },
-        PoleSet::Requested => MarkerStyle {
-            half: 8.5,
-            width: 1.5,
-            stroke: colour::REQUESTED,
-        },
-        PoleSet::Pinned => MarkerStyle {
-            half: 6.0,
-            width: 2.0,
-            stroke: colour::PINNED,
-        },
-    }
-}
-
-/// An upright plus sign (the pinned design's poles: distinct from the × of the current one).
-fn plus(s: &Surface, c: [f64; 2], half: f64, width: f64, stroke: &'static str) {
-    s.set_stroke(stroke);
-    s.ctx.set_line_width(width);
-    s.ctx.set_line_cap("round");
-    s.segments(&[([c[0] - half, c[1]], [c[0] + half, c[1]]), ([c[0], c[1] - half], [c[0], c[1] + half])]);
-    s.ctx.set_line_cap("butt");
-}
-
-fn ring(s: &Surface, c: [f64; 2], radius: f64, width: f64, stroke: &'static str) {
-    s.set_stroke(stroke);
-    s.ctx.set_line_width(width);
-    s.ctx.begin_path();
-    if s.ctx.arc(c[0], c[1], radius, 0.0, std::f64::consts::TAU).is_ok() {
-        s.ctx.stroke();
-    }
-}
-
-fn marker(s: &Surface, set: PoleSet, c: [f64; 2]) {
-    let st = marker_style(set);
-    match set {
-        PoleSet::NotAssigned => diamond(s, c, st.half, st.width, st.stroke),
-        PoleSet::Observer => boxed_cross(s, c, st.half, st.width, st.stroke),
-        PoleSet::Requested => ring(s, c, st.half, st.width, st.stroke),
-        PoleSet::Pinned => plus(s, c, st.half, st.width, st.stroke),
-        _ => cross(s, c, st.half, st.width, st.stroke),
-    }
-}
-
-fn set_label(set: PoleSet) -> &'static str {
-    match set {
-        PoleSet::OpenLoop => "open loop",
-        PoleSet::NotAssigned => "not assignable",
-        PoleSet::ClosedLoop => "closed loop",
-        PoleSet::Observer => "observer",
-        PoleSet::Requested => "requested (drag)",
-        PoleSet::Pinned => "pinned design",
-    }
-}
-
-fn paint_pole_map(s: &Surface, scene: &PoleMapScene) -> Result<(), JsValue> {
-    let f = scene.frame(s.rect);
-    let p = f.plot;
-    let origin = f.to_pixel([0.0, 0.0]);
-    let radius = f.x.scale().abs();
-    // Keep coordinates bounded for the canvas; the clip hides the rest.
-    let bounded = |v: f64| v.clamp(-1e6, 1e6);
-
-    // Stable region first, under the grid.
-    s.clip_to(p);
-    s.set_fill(colour::STABLE_FILL);
-    if scene.discrete {
-        if radius.is_finite() && radius < 1e7 {
-            s.ctx.begin_path();
-            s.ctx.arc(bounded(origin[0]), bounded(origin[1]), radius, 0.0, std::f64::consts::TAU)?;
-            s.ctx.fill();
-        }
-    } else {
-        let right = origin[0].clamp(p.x, p.right());
-        s.ctx.fill_rect(p.x, p.y, right - p.x, p.height);
-    }
-    s.restore();
-
-    // Equal scale: one step on both axes keeps the grid square.
-    paint_grid(
-        s,
-        &f,
-        common_ticks(&f, X_TICK_SPACING_PX, Y_TICK_SPACING_PX),
-    )?;
-
-    s.clip_to(p);
-    // Real and imaginary axes.
-    s.set_stroke(colour::AXIS);
-    s.ctx.set_line_width(1.0);
-    let (ox, oy) = (snap(bounded(origin[0])), snap(bounded(origin[1])));
-    s.segments(&[([p.x, oy], [p.right(), oy]), ([ox, p.y], [ox, p.bottom()])]);
-    if scene.discrete && radius.is_finite() && radius < 1e7 {
-        s.set_stroke(colour::STABLE_EDGE);
-        s.ctx.set_line_width(1.5);
-        s.dash(&[5.0, 4.0])?;
-        s.ctx.begin_path();
-        s.ctx.arc(bounded(origin[0]), bounded(origin[1]), radius, 0.0, std::f64::consts::TAU)?;
-        s.ctx.stroke();
-        s.dash(&[])?;
-    }
-    if let Some(region) = &scene.region {
-        s.set_stroke(colour::REGION);
-        s.ctx.set_line_width(1.5);
-        s.dash(&[8.0, 3.0, 2.0, 3.0])?;
-        for line in &region.boundaries {
-            let pts: Vec<[f64; 2]> = line.iter().filter(|q| q[0].is_finite() && q[1].is_finite()).map(|q| f.to_pixel(*q)).map(|q| [bounded(q[0]), bounded(q[1])]).collect();
-            let mut d = String::new();
-            for (k, q) in pts.iter().enumerate() {
-                push_point(&mut d, if k == 0 { 'M' } else { 'L' }, *q);
-            }
-            if pts.len() >= 2 {
-                s.stroke_path(&d);
-            }
-        }
-        s.dash(&[])?;
-    }
-    for (set, points) in scene.layers() {
-        for pt in points
-            .iter()
-            .filter(|q| q[0].is_finite() && q[1].is_finite())
-        {
-            let q = f.to_pixel(*pt);
-            marker(s, set, [bounded(q[0]), bounded(q[1])]);
-        }
-    }
-    if let Some(h) = scene.highlight.filter(|h| h[0].is_finite() && h[1].is_finite()) {
-        let c = f.to_pixel(h);
-        s.set_stroke(colour::FOCUS);
-        s.ctx.set_line_width(2.0);
-        s.ctx.begin_path();
-        s.ctx.arc(bounded(c[0]), bounded(c[1]), 11.0, 0.0, std::f64::consts::TAU)?;
-        s.ctx.stroke();
-    }
-    s.restore();
-
-    let var = if scene.discrete { "z" } else { "s" };
-    axis_titles(s, &f, &format!("Re {var}"), &format!("Im {var}"))?;
-
-    let region = if scene.discrete {
-        "stable: |z| < 1"
-    } else {
-        "stable region"
+/// Builds `picture`'s display list (text measured by the canvas) and replays it.
+fn paint_picture(canvas_id: &str, rect: Rect, dpr: f64, picture: &Picture) -> Result<(), JsValue> {
+    let (canvas, ctx) = prepare_canvas(canvas_id, rect, dpr)?;
+    let measure = CanvasText { ctx: &ctx, font: std::cell::Cell::new("") };
+    let ops = match picture {
+        Picture::Poles(scene) => draw::pole_map(scene, rect, &measure),
+        Picture::Time(scene) => draw::time_plot(scene, rect, &measure),
+        Picture::Message(text) => draw::message(text, rect, &measure),
     };
-    let fill_swatch = |s: &Surface, c: [f64; 2]| {
-        s.set_fill(colour::STABLE_FILL);
-        s.ctx.fill_rect(c[0] - 6.0, c[1] - 6.0, 12.0, 12.0);
-        s.set_stroke(colour::STABLE_EDGE);
-        s.ctx.set_line_width(1.0);
-        s.ctx.stroke_rect(c[0] - 6.0, c[1] - 6.0, 12.0, 12.0);
-    };
-    let mut entries: Vec<(&str, Swatch)> = vec![(region, Box::new(fill_swatch))];
-    if scene.region.is_some() {
-        entries.push((
-            "admissible boundary",
-            Box::new(|s: &Surface, c: [f64; 2]| {
-                s.set_stroke(colour::REGION);
-                s.ctx.set_line_width(1.5);
-                s.segments(&[([c[0] - 8.0, c[1]], [c[0] - 2.0, c[1]]), ([c[0] + 1.0, c[1]], [c[0] + 3.0, c[1]]), ([c[0] + 6.0, c[1]], [c[0] + 8.0, c[1]])]);
-            }),
-        ));
+    let done = replay(&ctx, &ops);
+    if done.is_err() {
+        // Leave the bitmap to be reset next time (its context state is unknown).
+        canvas.set_width(0);
     }
-    for (set, points) in scene.layers() {
-        if !points.is_empty() {
-            entries.push((
-                set_label(set),
-                Box::new(move |s: &Surface, c: [f64; 2]| marker(s, set, c)),
-            ));
-        }
-    }
-    legend(s, &f, &entries)?;
-
-    let hidden = scene
-        .layers()
-        .iter()
-        .flat_map(|(_, pts)| pts.iter())
-        .filter(|q| !(q[0].is_finite() && q[1].is_finite()))
-        .count();
-    if hidden > 0 {
-        s.set_fill(colour::LIMIT);
-        s.text(
-            &format!("{hidden} non-finite pole(s) not shown"),
-            p.x + 6.0,
-            p.bottom() - 6.0,
-            "left",
-            "bottom",
-        )?;
-    }
-    Ok(())
-}
-
-/// Dash patterns by slot: solid, dashed, dotted, dash-dot.
-const DASHES: [&[f64]; 4] = [&[], &[7.0, 3.5], &[2.0, 3.0], &[9.0, 3.0, 2.0, 3.0]];
-
-/// Colour and dash of series `i`: its own slots, or by position (solid for the first
-/// colour cycle, then dashed, dotted…).
-fn series_style(scene: &TimePlotScene, i: usize) -> (&'static str, &'static [f64]) {
-    let ser = scene.series.get(i);
-    let c = ser.and_then(|s| s.colour).unwrap_or(i) % colour::SERIES.len();
-    let d = ser.and_then(|s| s.dash).unwrap_or(i / colour::SERIES.len()) % DASHES.len();
-    (colour::SERIES[c], DASHES[d])
-}
-
-/// A blank plot area with a centred message (no data to show).
-fn paint_message(s: &Surface, text: &str) -> Result<(), JsValue> {
-    let p = s.rect.inset(crate::plot::Margins::STANDARD);
-    s.set_stroke(colour::PLOT_EDGE);
-    s.ctx.set_line_width(1.0);
-    s.ctx.stroke_rect(snap(p.x), snap(p.y), p.width.round(), p.height.round());
-    s.set_font(TITLE_FONT);
-    s.set_fill(colour::MUTED_TEXT);
-    s.text(text, p.x + p.width / 2.0, p.y + p.height / 2.0, "center", "middle")
-}
-
-/// The path of series `i` in pixels: finite runs, each simplified to what the pixels show.
-fn series_path(scene: &TimePlotScene, f: &Frame, i: usize) -> String {
-    match scene.series.get(i) {
-        Some(ser) => polyline_path(scene.t.iter().copied().zip(ser.values.iter().copied()), f),
-        None => String::new(),
-    }
-}
-
-/// The path of a pinned signal in pixels (its own time grid, cut to the plot's time range).
-fn pinned_path(ser: &crate::plot::PinnedSeries, f: &Frame) -> String {
-    let shown = ser.t.iter().copied().zip(ser.values.iter().copied()).map(|(t, y)| if f.x.range.contains(t) { (t, y) } else { (t, f64::NAN) });
-    polyline_path(shown, f)
-}
-
-/// `(t, y)` samples as an SVG-style path in pixels: a non-finite sample breaks the line, and
-/// each finite run is simplified to what its pixels show ([`Simplifier`]).
-fn polyline_path(samples: impl Iterator<Item = (f64, f64)>, f: &Frame) -> String {
-    let mut d = String::new();
-    let mut run: Option<Simplifier> = None;
-    let flush = |run: &mut Option<Simplifier>, d: &mut String| {
-        if let Some(s) = run.take() {
-            for (k, q) in s.finish().iter().enumerate() {
-                push_point(d, if k == 0 { 'M' } else { 'L' }, *q);
-            }
-        }
-    };
-    for (t, y) in samples {
-        if t.is_finite() && y.is_finite() {
-            let q = f.to_pixel([t, y]);
-            run.get_or_insert_with(|| Simplifier::new(SIMPLIFY_TOLERANCE_PX)).push([q[0].clamp(-1e6, 1e6), q[1].clamp(-1e6, 1e6)]);
-        } else {
-            flush(&mut run, &mut d);
-        }
-    }
-    flush(&mut run, &mut d);
-    d
-}
-
-/// How far (CSS pixels) a simplified line may stray from the samples it stands for.
-const SIMPLIFY_TOLERANCE_PX: f64 = 0.2;
-
-fn paint_time_plot(s: &Surface, scene: &TimePlotScene) -> Result<(), JsValue> {
-    // Legend rows first: they set the top margin.
-    s.set_font(TITLE_FONT);
-    let title_width = s.text_width(&scene.y_label);
-    s.set_font(FONT);
-    let base = scene.frame(s.rect);
-    let left = 8.0 + title_width + 16.0;
-    let available = (base.plot.right() - left).max(LEGEND_SWATCH_PX + 40.0);
-    let widths: Vec<f64> = scene.series.iter().map(|ser| s.text_width(&ser.name)).collect();
-    let flow = flow_legend(&widths, available);
-    let rows = flow.iter().map(|(r, _)| r + 1).max().unwrap_or(1);
-    let f = scene.frame_with_legend_rows(s.rect, rows);
-    let p = f.plot;
-
-    if let Some(b) = &scene.band {
-        if b.lower.is_finite() && b.upper.is_finite() {
-            let (y0, y1) = (
-                f.y.to_pixel(b.lower.max(b.upper)),
-                f.y.to_pixel(b.lower.min(b.upper)),
-            );
-            s.clip_to(p);
-            s.set_fill(colour::BAND_FILL);
-            s.ctx.fill_rect(p.x, y0, p.width, (y1 - y0).max(1.0));
-            s.restore();
-        }
-    }
-
-    paint_grid(s, &f, own_ticks(&f))?;
-
-    s.clip_to(p);
-    if f.y.range.contains(0.0) {
-        s.set_stroke(colour::AXIS);
-        s.ctx.set_line_width(1.0);
-        let y = snap(f.y.to_pixel(0.0));
-        s.line([p.x, y], [p.right(), y]);
-    }
-    let events: Vec<&crate::plot::EventLine> = scene.events.iter().filter(|e| e.time.is_finite() && f.x.range.contains(e.time)).collect();
-    if !events.is_empty() {
-        s.set_stroke(colour::EVENT);
-        s.ctx.set_line_width(1.0);
-        s.dash(&[2.0, 3.0])?;
-        let segs: Vec<([f64; 2], [f64; 2])> = events.iter().map(|e| snap(f.x.to_pixel(e.time))).map(|x| ([x, p.y], [x, p.bottom()])).collect();
-        s.segments(&segs);
-        s.dash(&[])?;
-    }
-    let limits: Vec<([f64; 2], [f64; 2])> = scene.limits.iter().filter(|l| l.value.is_finite()).map(|l| f.y.to_pixel(l.value).clamp(-1e6, 1e6)).map(|y| ([p.x, y], [p.right(), y])).collect();
-    if !limits.is_empty() {
-        s.set_stroke(colour::LIMIT);
-        s.ctx.set_line_width(1.25);
-        s.dash(&[6.0, 4.0])?;
-        s.segments(&limits);
-        s.dash(&[])?;
-    }
-
-    if !scene.pinned.is_empty() {
-        s.ctx.set_line_width(1.25);
-        s.ctx.set_global_alpha(0.6);
-        s.dash(&[4.0, 3.0])?;
-        for ser in &scene.pinned {
-            let c = ser.colour.unwrap_or(0) % colour::SERIES.len();
-            s.set_stroke(colour::SERIES[c]);
-            let d = pinned_path(ser, &f);
-            if !d.is_empty() {
-                s.stroke_path(&d);
-            }
-        }
-        s.dash(&[])?;
-        s.ctx.set_global_alpha(1.0);
-    }
-    s.ctx.set_line_width(1.75);
-    s.ctx.set_line_join("round");
-    for i in 0..scene.series.len() {
-        let (stroke, dash) = series_style(scene, i);
-        s.set_stroke(stroke);
-        s.dash(dash)?;
-        let d = series_path(scene, &f, i);
-        if !d.is_empty() {
-            s.stroke_path(&d);
-        }
-    }
-    s.dash(&[])?;
-    s.restore();
-
-    // Labels for limits, events and band, inside the plot.
-    s.set_font(FONT);
-    for l in scene
-        .limits
-        .iter()
-        .filter(|l| l.value.is_finite() && !l.label.is_empty())
-    {
-        s.set_fill(colour::LIMIT);
-        let y = f.y.to_pixel(l.value);
-        if y >= p.y && y <= p.bottom() {
-            s.text(&l.label, p.right() - 6.0, y - 3.0, "right", "bottom")?;
-        }
-    }
-    s.set_fill(colour::MUTED_TEXT);
-    for (k, e) in events.iter().enumerate().filter(|(_, e)| !e.label.is_empty()) {
-        let x = f.x.to_pixel(e.time);
-        // Stagger the labels of neighbouring events.
-        s.text(&e.label, x + 4.0, p.y + 4.0 + 14.0 * (k % 2) as f64, "left", "top")?;
-    }
-    if let Some(b) = scene
-        .band
-        .as_ref()
-        .filter(|b| !b.label.is_empty() && b.upper.is_finite())
-    {
-        s.set_fill(colour::BAND_TEXT);
-        let y = f.y.to_pixel(b.upper.max(b.lower));
-        if y >= p.y && y <= p.bottom() {
-            s.text(&b.label, p.x + 6.0, y - 3.0, "left", "bottom")?;
-        }
-    }
-
-    let x_title = if scene.x_label.is_empty() {
-        "t"
-    } else {
-        scene.x_label.as_str()
-    };
-    axis_titles(s, &f, x_title, &scene.y_label)?;
-
-    // Legend: swatch (colour and dash of the line) and name, flowed into rows.
-    s.set_font(FONT);
-    for (i, ser) in scene.series.iter().enumerate() {
-        let Some((row, x)) = flow.get(i).copied() else { continue };
-        let y = 18.0 + row as f64 * LEGEND_ROW_PX;
-        let x = left + x;
-        let (stroke, dash) = series_style(scene, i);
-        s.set_stroke(stroke);
-        s.ctx.set_line_width(2.0);
-        s.dash(dash)?;
-        s.line([x + 4.0, y], [x + 22.0, y]);
-        s.dash(&[])?;
-        s.set_fill(colour::TEXT);
-        s.text(&ser.name, x + LEGEND_SWATCH_PX - 4.0, y, "left", "middle")?;
-    }
-    if !scene.pinned.is_empty() {
-        s.set_fill(colour::PINNED);
-        s.text("faint dashed: the pinned design", p.x + 6.0, p.bottom() - 6.0, "left", "bottom")?;
-    }
-    Ok(())
+    done
 }
