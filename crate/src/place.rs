@@ -571,7 +571,7 @@ fn assign_inner(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params:
     let mut gain = gain_direct;
     if let Some(mt) = xt_lu.solve(&xl.transpose()) {
         let m_real = mt.transpose().map(|z| z.re);
-        let gain_m = (&left).map(|z| z.re) * (a - m_real);
+        let gain_m = left.map(|z| z.re) * (a - m_real);
         if gain_m.iter().all(|v| v.is_finite()) {
             let err_direct = try_eigenvalues(&(a - b * &gain)).map(|e| max_matching_error(&ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
             let err_m = try_eigenvalues(&(a - b * &gain_m)).map(|e| max_matching_error(&ordered, &e, a.norm())).unwrap_or(f64::INFINITY);

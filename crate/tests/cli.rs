@@ -1,4 +1,5 @@
 //! The `polewright` command line, driven as a user would: files, standard input, exit codes.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 use std::io::Write;
 use std::process::{Command, Stdio};

@@ -4,6 +4,7 @@
 //! The reference for every design is the design-file path (`design::run_text`, tested on its
 //! own in design_v2.rs and patterns_reference.rs) given the same inputs; closed forms and
 //! published formulas are named beside the other checks.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 use num_complex::Complex64;
 use polewright::design::{run_text, DesignResult};

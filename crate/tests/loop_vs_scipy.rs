@@ -3,6 +3,7 @@
 //! digital loops, and an independent plain Python loop for saturated, delayed and noisy ones.
 //! The gains are injected from the fixture (computed there with scipy.signal.place_poles), so
 //! this compares the simulation alone, independent of placement.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 mod common;
 

@@ -19,6 +19,7 @@
 //!   has dimension rank B);
 //! - faster poles cost more control effort (common practice; asserted only for a stated
 //!   majority of plants, since it is not a theorem for every plant).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 // `!(error <= tolerance)` is deliberate throughout: a NaN must count as a failure.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]

@@ -27,6 +27,7 @@
 //! 4. **Stability**: every closed-loop pole strictly stable (`Re λ < 0`, `|λ| < 1`), recomputed
 //!    here with `try_eigenvalues` from the returned gain.
 //! 5. **Errors**: the error cases give the named variant (unstabilisable mode identified).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 // `!(error <= tolerance)` is deliberate throughout: a NaN must count as a failure.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]

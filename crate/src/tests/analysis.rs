@@ -1,6 +1,7 @@
 //! Unit tests of [`crate::analysis`]: a child module of it (`use super::*` sees its private
 //! items), kept in its own file so that test-only code (with its `unwrap`s and `expect`s)
 //! stands apart from the code that runs.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 use super::*;
 

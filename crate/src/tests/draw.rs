@@ -2,6 +2,7 @@
 //! compared with the scene's own frame ([`crate::plot`], tested against its formulas in
 //! `tests/plot.rs`); what is checked here is that every pole, signal, limit and label of a
 //! scene reaches the list, in the right place, with finite, bounded coordinates.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 use super::*;
 use crate::plot::{Band, EventLine, LimitLine, Series};

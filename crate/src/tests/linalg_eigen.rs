@@ -1,6 +1,7 @@
 //! Unit tests of [`crate::linalg::eigen`]: a child module of it (`use super::*` sees its private
 //! items), kept in its own file so that test-only code (with its `unwrap`s and `expect`s)
 //! stands apart from the code that runs.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 use super::*;
 
@@ -49,7 +50,7 @@ fn companion_matrices_converge() {
         for (i, z) in v.iter().enumerate() {
             let exact = roots[roots.len() - 1 - i];
             // Wilkinson-type polynomials are ill-conditioned: the error grows with k.
-            assert!((z.re - exact).abs() < 1e-6 * 10f64.powi(k as i32 - 5).max(1.0), "k={k} {z} vs {exact}");
+            assert!((z.re - exact).abs() < 1e-6 * 10f64.powi(k - 5).max(1.0), "k={k} {z} vs {exact}");
             assert!(z.im.abs() < 1e-3, "k={k}");
         }
     }

@@ -1,6 +1,7 @@
 //! Unit tests of [`crate::place`]: a child module of it (`use super::*` sees its private
 //! items), kept in its own file so that test-only code (with its `unwrap`s and `expect`s)
 //! stands apart from the code that runs.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 use super::*;
 
@@ -16,8 +17,8 @@ fn third_order_textbook_example() {
     let b = DMatrix::from_row_slice(3, 1, &[0.0, 0.0, 1.0]);
     let p = state_feedback_gain(&a, &b, &[c(-2.0, 4.0), c(-2.0, -4.0), c(-10.0, 0.0)], PlacementParams::default()).unwrap();
     let expected = [199.0, 55.0, 8.0];
-    for j in 0..3 {
-        assert!((p.gain[(0, j)] - expected[j]).abs() < 1e-10 * expected[j], "{}", p.gain);
+    for (j, want) in expected.iter().enumerate() {
+        assert!((p.gain[(0, j)] - want).abs() < 1e-10 * want, "{}", p.gain);
     }
     assert!(p.max_pole_error < 1e-12);
     assert_eq!(p.iterations, 0);

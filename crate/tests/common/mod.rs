@@ -1,4 +1,5 @@
 //! Helpers shared by the integration tests: reading the committed scipy/numpy fixtures.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 #![allow(dead_code)]
 
 use nalgebra::DMatrix;
