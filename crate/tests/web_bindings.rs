@@ -1,7 +1,7 @@
 //! Browser tests of the wasm bindings (wasm32 only), run by
 //! `wasm-bindgen-test-runner` in headless Chromium: see scripts/test-browser.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
-#![cfg(target_arch = "wasm32")]
+#![cfg(all(target_arch = "wasm32", feature = "test-exports"))]
 
 use polewright::web;
 use wasm_bindgen::{JsCast, JsValue};
