@@ -673,58 +673,8 @@ fn show_field_feedback(doc: &Document, page: &mut PageState, input: &FormInput, 
     Ok(())
 }
 
-fn field_label(key: &str) -> &'static str {
-    match key {
-        "a" => "A",
-        "b" => "B",
-        "c" => "C",
-        "d" => "D",
-        "state_names" => "state names",
-        "input_names" => "input names",
-        "state_units" => "state units",
-        "input_units" => "input units",
-        "output_names" => "output names",
-        "output_units" => "output units",
-        "poles" => "desired poles",
-        "pole_source" => "pole choice",
-        "pattern_family" => "pattern",
-        "pattern_normalisation" => "Bessel normalisation",
-        "pattern_settling_time" => "pattern settling time",
-        "spec_overshoot" => "overshoot",
-        "spec_settling_time" => "settling time",
-        "spec_rise_time" => "rise time",
-        "settling_band" => "settling band",
-        "lqr_max_state" => "state excursions",
-        "lqr_max_input" => "input excursions",
-        "search" => "fastest-design search",
-        "limits" => "actuator limits",
-        "initial_state" => "initial state",
-        "duration" => "simulated time",
-        "observer" => "observer",
-        "observer_poles" => "observer poles",
-        "observer_speed" => "observer speed factor",
-        "observer_form" => "observer form",
-        "tracking" => "tracking",
-        "tracked_outputs" => "tracked outputs",
-        "integral_poles" => "integrator poles",
-        "anti_windup" => "anti-windup",
-        "anti_windup_time" => "anti-windup time constant",
-        "sample_time" => "sample time",
-        "computation_delay" => "computation delay",
-        "delay_poles" => "delay poles",
-        "plane" => "pole plane",
-        "reference" => "reference",
-        "reference_time" => "reference step time",
-        "disturbance" => "load disturbance",
-        "disturbance_time" => "load step time",
-        "noise_std" => "measurement noise",
-        "seed" => "noise seed",
-        _ => "a field",
-    }
-}
-
 fn error_list(errors: &[FieldError]) -> String {
-    errors.iter().map(|e| field_label(e.field)).collect::<Vec<_>>().join(", ")
+    errors.iter().map(|e| FormInput::label(e.field)).collect::<Vec<_>>().join(", ")
 }
 
 fn mark_stale(doc: &Document, stale: bool) -> Result<(), JsValue> {

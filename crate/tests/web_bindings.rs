@@ -213,8 +213,8 @@ fn a_design_crosses_the_boundary_and_back_intact() {
         .filter_map(|c| c.parse().ok())
         .collect();
     assert_eq!(row, k);
-    assert_eq!(get(&out, "dimensions.a").as_string().as_deref(), Some("3 × 3"));
-    assert!(get(&out, "dimensions.c").is_null(), "blank optional matrices have null dimensions");
+    assert_eq!(get(&out, "sizes.a").as_string().as_deref(), Some("3 × 3"));
+    assert!(get(&out, "sizes.c").is_undefined(), "blank optional matrices have no size");
     assert!(get(&out, "design_error").is_null());
     let series = array(&get(&out, "design.simulation.states"));
     assert_eq!(series.len(), 3);
@@ -233,8 +233,8 @@ fn bad_input_comes_back_as_field_errors_not_a_panic() {
     let a_msg = get(&errors[0], "message").as_string().unwrap_or_default();
     assert!(a_msg.contains("row 2, column 3") && a_msg.contains("\"x\""), "{a_msg}");
     assert!(get(&out, "design").is_null());
-    assert!(get(&out, "dimensions.a").is_null());
-    assert_eq!(get(&out, "dimensions.b").as_string().as_deref(), Some("4 × 1"));
+    assert!(get(&out, "sizes.a").is_undefined());
+    assert_eq!(get(&out, "sizes.b").as_string().as_deref(), Some("4 × 1"));
 
     // A shape error from the plant check lands on B, not on A.
     let out = web::evaluate(js(r#"{"a": "0 1\n0 0", "b": "0\n1\n2", "poles": "-1 -2"}"#)).expect("runs");

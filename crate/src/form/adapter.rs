@@ -102,24 +102,25 @@ fn opt(text: &str) -> Option<String> {
 /// One [`FieldError`] per choice field whose value is not one of its choices.
 pub fn spec_from_form(form: &FormInput) -> Result<DesignSpec, Vec<FieldError>> {
     let mut errors = Vec::new();
-    let mut choice = |key: &'static str, allowed: &[&str]| -> String {
+    let mut choice = |key: &'static str| -> String {
         let v = form.choice(key);
+        let allowed = FormInput::choices(key).unwrap_or(&[]);
         if form.is_active(key) && !allowed.contains(&v.as_str()) {
             errors.push(FieldError { field: key, message: format!("\"{v}\" is not a choice; choose one of: {}", allowed.join(", ")) });
         }
         v
     };
-    let source = choice("pole_source", &["list", "pattern", "specification", "lqr"]);
-    let plane = choice("plane", &["s", "z"]);
-    let band = choice("settling_band", &["2", "1", "5"]);
-    let observer = choice("observer", &["none", "poles", "speed_factor"]);
-    let observer_form = choice("observer_form", &["predictor", "current"]);
-    let tracking = choice("tracking", &["none", "feedforward", "integral"]);
-    let anti_windup = choice("anti_windup", &["none", "clamp", "back_calculation"]);
-    let delay = choice("computation_delay", &["false", "true"]) == "true";
-    let search = choice("search", &["false", "true"]) == "true";
-    let family = choice("pattern_family", &["bessel", "butterworth", "itae", "binomial"]);
-    let normalisation = choice("pattern_normalisation", &["unit_settling_time", "unit_group_delay", "half_power_at_unit_frequency"]);
+    let source = choice("pole_source");
+    let plane = choice("plane");
+    let band = choice("settling_band");
+    let observer = choice("observer");
+    let observer_form = choice("observer_form");
+    let tracking = choice("tracking");
+    let anti_windup = choice("anti_windup");
+    let delay = choice("computation_delay") == "true";
+    let search = choice("search") == "true";
+    let family = choice("pattern_family");
+    let normalisation = choice("pattern_normalisation");
     let text = |k: &str| form.get(k).unwrap_or("").to_string();
     let scalar = |k: &str| opt(&text(k)).map(Scalar::Text);
     let numbers = |k: &str| opt(&text(k)).map(NumberList::Text);

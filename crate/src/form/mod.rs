@@ -79,7 +79,7 @@
 //! same `f64` ([`format_complex`]); other figures use [`fmt_num`] (4 decimals).
 
 use num_complex::Complex64;
-use serde::{Deserialize, Serialize};
+use serde::Serialize;
 
 use crate::analysis::{controllability_report, AnalysisParams, ModalReport, ModeVerdict};
 use crate::design::{self, fmt_num, ControllerSpec, DesignError, DesignRequest, DesignResult, ObserverPoles, Pair, Plane, StructureResult, TrackingResult};
@@ -98,6 +98,7 @@ pub use crate::design::run::OBSERVER_SPEED_RULE;
 pub use crate::design::check::DEFAULT_OBSERVER_SPEED;
 
 pub mod adapter;
+mod fields;
 mod choice_report;
 mod report;
 mod scenes;
@@ -106,243 +107,14 @@ pub use choice_report::*;
 pub use report::*;
 pub use scenes::*;
 
-/// The form's fields, as typed. Every field may be omitted (it is then blank).
-#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
-#[serde(default, deny_unknown_fields)]
-pub struct FormInput {
-    /// The design's title and notes (saved in the document; no effect on the numbers).
-    pub title: String,
-    pub notes: String,
-    pub a: String,
-    pub b: String,
-    pub state_names: String,
-    pub state_units: String,
-    pub input_names: String,
-    pub input_units: String,
-    pub c: String,
-    pub d: String,
-    pub output_names: String,
-    pub output_units: String,
-    pub poles: String,
-    pub pole_source: String,
-    pub pattern_family: String,
-    pub pattern_normalisation: String,
-    pub pattern_settling_time: String,
-    pub spec_overshoot: String,
-    pub spec_settling_time: String,
-    pub spec_rise_time: String,
-    pub settling_band: String,
-    pub lqr_max_state: String,
-    pub lqr_max_input: String,
-    pub search: String,
-    pub limits: String,
-    pub initial_state: String,
-    pub duration: String,
-    pub observer: String,
-    pub observer_poles: String,
-    pub observer_speed: String,
-    pub observer_form: String,
-    pub tracking: String,
-    pub tracked_outputs: String,
-    pub integral_poles: String,
-    pub anti_windup: String,
-    pub anti_windup_time: String,
-    pub sample_time: String,
-    pub computation_delay: String,
-    pub delay_poles: String,
-    pub plane: String,
-    pub reference: String,
-    pub reference_time: String,
-    pub disturbance: String,
-    pub disturbance_time: String,
-    pub noise_std: String,
-    pub seed: String,
-}
-
-/// The choice fields (a select or a checkbox on the page) and their allowed values
-/// (the first is what a blank field means).
-pub const CHOICES: [(&str, &[&str]); 11] = [
-    ("pole_source", &["list", "pattern", "specification", "lqr"]),
-    ("pattern_family", &["bessel", "butterworth", "itae", "binomial"]),
-    ("pattern_normalisation", &["unit_settling_time", "unit_group_delay", "half_power_at_unit_frequency"]),
-    ("settling_band", &["2", "1", "5"]),
-    ("search", &["false", "true"]),
-    ("observer", &["none", "poles", "speed_factor"]),
-    ("observer_form", &["predictor", "current"]),
-    ("tracking", &["none", "feedforward", "integral"]),
-    ("anti_windup", &["none", "clamp", "back_calculation"]),
-    ("computation_delay", &["false", "true"]),
-    ("plane", &["s", "z"]),
-];
+pub use fields::FormInput;
 
 impl FormInput {
-    /// The field keys, in page order.
-    pub const FIELDS: [&'static str; 46] = [
-        "title",
-        "notes",
-        "a",
-        "b",
-        "state_names",
-        "state_units",
-        "input_names",
-        "input_units",
-        "c",
-        "d",
-        "output_names",
-        "output_units",
-        "poles",
-        "pole_source",
-        "pattern_family",
-        "pattern_normalisation",
-        "pattern_settling_time",
-        "spec_overshoot",
-        "spec_settling_time",
-        "spec_rise_time",
-        "settling_band",
-        "lqr_max_state",
-        "lqr_max_input",
-        "search",
-        "limits",
-        "initial_state",
-        "duration",
-        "observer",
-        "observer_poles",
-        "observer_speed",
-        "observer_form",
-        "tracking",
-        "tracked_outputs",
-        "integral_poles",
-        "anti_windup",
-        "anti_windup_time",
-        "sample_time",
-        "computation_delay",
-        "delay_poles",
-        "plane",
-        "reference",
-        "reference_time",
-        "disturbance",
-        "disturbance_time",
-        "noise_std",
-        "seed",
-    ];
-
-    fn slot(&self, key: &str) -> Option<&String> {
-        Some(match key {
-            "title" => &self.title,
-            "notes" => &self.notes,
-            "a" => &self.a,
-            "b" => &self.b,
-            "state_names" => &self.state_names,
-            "state_units" => &self.state_units,
-            "input_names" => &self.input_names,
-            "input_units" => &self.input_units,
-            "c" => &self.c,
-            "d" => &self.d,
-            "output_names" => &self.output_names,
-            "output_units" => &self.output_units,
-            "poles" => &self.poles,
-            "pole_source" => &self.pole_source,
-            "pattern_family" => &self.pattern_family,
-            "pattern_normalisation" => &self.pattern_normalisation,
-            "pattern_settling_time" => &self.pattern_settling_time,
-            "spec_overshoot" => &self.spec_overshoot,
-            "spec_settling_time" => &self.spec_settling_time,
-            "spec_rise_time" => &self.spec_rise_time,
-            "settling_band" => &self.settling_band,
-            "lqr_max_state" => &self.lqr_max_state,
-            "lqr_max_input" => &self.lqr_max_input,
-            "search" => &self.search,
-            "limits" => &self.limits,
-            "initial_state" => &self.initial_state,
-            "duration" => &self.duration,
-            "observer" => &self.observer,
-            "observer_poles" => &self.observer_poles,
-            "observer_speed" => &self.observer_speed,
-            "observer_form" => &self.observer_form,
-            "tracking" => &self.tracking,
-            "tracked_outputs" => &self.tracked_outputs,
-            "integral_poles" => &self.integral_poles,
-            "anti_windup" => &self.anti_windup,
-            "anti_windup_time" => &self.anti_windup_time,
-            "sample_time" => &self.sample_time,
-            "computation_delay" => &self.computation_delay,
-            "delay_poles" => &self.delay_poles,
-            "plane" => &self.plane,
-            "reference" => &self.reference,
-            "reference_time" => &self.reference_time,
-            "disturbance" => &self.disturbance,
-            "disturbance_time" => &self.disturbance_time,
-            "noise_std" => &self.noise_std,
-            "seed" => &self.seed,
-            _ => return None,
-        })
-    }
-
-    /// The text of field `key` (`None` for an unknown key).
-    pub fn get(&self, key: &str) -> Option<&str> {
-        self.slot(key).map(|s| s.as_str())
-    }
-
-    /// Sets field `key`; returns false for an unknown key.
-    pub fn set(&mut self, key: &str, text: impl Into<String>) -> bool {
-        let slot = match key {
-            "title" => &mut self.title,
-            "notes" => &mut self.notes,
-            "a" => &mut self.a,
-            "b" => &mut self.b,
-            "state_names" => &mut self.state_names,
-            "state_units" => &mut self.state_units,
-            "input_names" => &mut self.input_names,
-            "input_units" => &mut self.input_units,
-            "c" => &mut self.c,
-            "d" => &mut self.d,
-            "output_names" => &mut self.output_names,
-            "output_units" => &mut self.output_units,
-            "poles" => &mut self.poles,
-            "pole_source" => &mut self.pole_source,
-            "pattern_family" => &mut self.pattern_family,
-            "pattern_normalisation" => &mut self.pattern_normalisation,
-            "pattern_settling_time" => &mut self.pattern_settling_time,
-            "spec_overshoot" => &mut self.spec_overshoot,
-            "spec_settling_time" => &mut self.spec_settling_time,
-            "spec_rise_time" => &mut self.spec_rise_time,
-            "settling_band" => &mut self.settling_band,
-            "lqr_max_state" => &mut self.lqr_max_state,
-            "lqr_max_input" => &mut self.lqr_max_input,
-            "search" => &mut self.search,
-            "limits" => &mut self.limits,
-            "initial_state" => &mut self.initial_state,
-            "duration" => &mut self.duration,
-            "observer" => &mut self.observer,
-            "observer_poles" => &mut self.observer_poles,
-            "observer_speed" => &mut self.observer_speed,
-            "observer_form" => &mut self.observer_form,
-            "tracking" => &mut self.tracking,
-            "tracked_outputs" => &mut self.tracked_outputs,
-            "integral_poles" => &mut self.integral_poles,
-            "anti_windup" => &mut self.anti_windup,
-            "anti_windup_time" => &mut self.anti_windup_time,
-            "sample_time" => &mut self.sample_time,
-            "computation_delay" => &mut self.computation_delay,
-            "delay_poles" => &mut self.delay_poles,
-            "plane" => &mut self.plane,
-            "reference" => &mut self.reference,
-            "reference_time" => &mut self.reference_time,
-            "disturbance" => &mut self.disturbance,
-            "disturbance_time" => &mut self.disturbance_time,
-            "noise_std" => &mut self.noise_std,
-            "seed" => &mut self.seed,
-            _ => return false,
-        };
-        *slot = text.into();
-        true
-    }
-
     /// The value of a choice field, normalised (blank → its first value; unknown text is
     /// returned trimmed and lower-cased so that the evaluation can name it in an error).
     pub fn choice(&self, key: &str) -> String {
         let text = self.get(key).unwrap_or("").trim().to_ascii_lowercase().replace(['-', ' '], "_");
-        let allowed = CHOICES.iter().find(|(k, _)| *k == key).map(|(_, v)| *v).unwrap_or(&[]);
+        let allowed = FormInput::choices(key).unwrap_or(&[]);
         match text.as_str() {
             "" => allowed.first().map_or(String::new(), |v| v.to_string()),
             // A checkbox may also arrive as on/off, yes/no or 1/0.
@@ -386,38 +158,6 @@ pub struct FieldError {
     pub message: String,
 }
 
-/// Live size of each matrix field: `"3 × 3"`, or `None` when blank or unreadable.
-#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize)]
-pub struct Dimensions {
-    pub a: Option<String>,
-    pub b: Option<String>,
-    pub c: Option<String>,
-    pub d: Option<String>,
-}
-
-/// Live size of each list field (`"4 names"`, `"3 poles"`), or `None` when blank or unreadable.
-#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize)]
-pub struct ListSizes {
-    pub state_names: Option<String>,
-    pub state_units: Option<String>,
-    pub input_names: Option<String>,
-    pub input_units: Option<String>,
-    pub output_names: Option<String>,
-    pub output_units: Option<String>,
-    pub poles: Option<String>,
-    pub lqr_max_state: Option<String>,
-    pub lqr_max_input: Option<String>,
-    pub limits: Option<String>,
-    pub initial_state: Option<String>,
-    pub observer_poles: Option<String>,
-    pub tracked_outputs: Option<String>,
-    pub integral_poles: Option<String>,
-    pub delay_poles: Option<String>,
-    pub reference: Option<String>,
-    pub disturbance: Option<String>,
-    pub noise_std: Option<String>,
-}
-
 /// How the evaluation ended.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -436,8 +176,9 @@ pub struct FormOutcome {
     pub status: FormStatus,
     /// One entry per wrong field (at most one per field), in page order.
     pub errors: Vec<FieldError>,
-    pub dimensions: Dimensions,
-    pub sizes: ListSizes,
+    /// Live size shown beside a field, by key: matrices `"3 × 3"`, lists `"4 poles"` (absent
+    /// when blank or unreadable).
+    pub sizes: std::collections::BTreeMap<&'static str, String>,
     /// The design, when [`FormStatus::Designed`].
     pub design: Option<DesignResult>,
     /// Why the design is not possible, when [`FormStatus::Infeasible`].
@@ -456,32 +197,7 @@ impl FormOutcome {
 
     /// The live size shown beside field `key` (`"3 × 3"`, `"4 poles"`), if any.
     pub fn size_for(&self, key: &str) -> Option<&str> {
-        let (d, s) = (&self.dimensions, &self.sizes);
-        match key {
-            "a" => d.a.as_deref(),
-            "b" => d.b.as_deref(),
-            "c" => d.c.as_deref(),
-            "d" => d.d.as_deref(),
-            "state_names" => s.state_names.as_deref(),
-            "state_units" => s.state_units.as_deref(),
-            "input_names" => s.input_names.as_deref(),
-            "input_units" => s.input_units.as_deref(),
-            "output_names" => s.output_names.as_deref(),
-            "output_units" => s.output_units.as_deref(),
-            "poles" => s.poles.as_deref(),
-            "lqr_max_state" => s.lqr_max_state.as_deref(),
-            "lqr_max_input" => s.lqr_max_input.as_deref(),
-            "limits" => s.limits.as_deref(),
-            "initial_state" => s.initial_state.as_deref(),
-            "observer_poles" => s.observer_poles.as_deref(),
-            "tracked_outputs" => s.tracked_outputs.as_deref(),
-            "integral_poles" => s.integral_poles.as_deref(),
-            "delay_poles" => s.delay_poles.as_deref(),
-            "reference" => s.reference.as_deref(),
-            "disturbance" => s.disturbance.as_deref(),
-            "noise_std" => s.noise_std.as_deref(),
-            _ => None,
-        }
+        self.sizes.get(key).map(String::as_str)
     }
 }
 
@@ -502,49 +218,6 @@ fn plural(count: usize, one: &str, many: &str) -> String {
 /// Most samples a digital simulation may take (the rule is the design layer's, at both doors).
 pub use crate::design::check::MAX_LOOP_SAMPLES;
 
-impl ListSizes {
-    /// Sets the live size shown beside field `key`; false for a field without one.
-    fn set(&mut self, key: &str, text: String) -> bool {
-        let slot = match key {
-            "state_names" => &mut self.state_names,
-            "state_units" => &mut self.state_units,
-            "input_names" => &mut self.input_names,
-            "input_units" => &mut self.input_units,
-            "output_names" => &mut self.output_names,
-            "output_units" => &mut self.output_units,
-            "poles" => &mut self.poles,
-            "lqr_max_state" => &mut self.lqr_max_state,
-            "lqr_max_input" => &mut self.lqr_max_input,
-            "limits" => &mut self.limits,
-            "initial_state" => &mut self.initial_state,
-            "observer_poles" => &mut self.observer_poles,
-            "tracked_outputs" => &mut self.tracked_outputs,
-            "integral_poles" => &mut self.integral_poles,
-            "delay_poles" => &mut self.delay_poles,
-            "reference" => &mut self.reference,
-            "disturbance" => &mut self.disturbance,
-            "noise_std" => &mut self.noise_std,
-            _ => return false,
-        };
-        *slot = Some(text);
-        true
-    }
-}
-
-impl Dimensions {
-    fn set(&mut self, key: &str, text: String) -> bool {
-        let slot = match key {
-            "a" => &mut self.a,
-            "b" => &mut self.b,
-            "c" => &mut self.c,
-            "d" => &mut self.d,
-            _ => return false,
-        };
-        *slot = Some(text);
-        true
-    }
-}
-
 /// Page capacity (not a design rule: the CLI designs larger plants): at most [`MAX_STATES`].
 fn page_capacity(form: &FormInput) -> Option<FieldError> {
     let rows = crate::parse::parse_matrix(&form.a).ok()?.nrows();
@@ -562,8 +235,7 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
     let mut outcome = FormOutcome {
         status: FormStatus::Invalid,
         errors: Vec::new(),
-        dimensions: Dimensions::default(),
-        sizes: ListSizes::default(),
+        sizes: std::collections::BTreeMap::new(),
         design: None,
         design_error: None,
         analysis: None,
@@ -579,7 +251,7 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
     let checked = crate::design::check(&spec);
     for (path, text) in &checked.sizes {
         if let Some(key) = adapter::form_key(*path) {
-            let _ = outcome.dimensions.set(key, text.clone()) || outcome.sizes.set(key, text.clone());
+            outcome.sizes.insert(key, text.clone());
         }
     }
     let mut errors: Vec<FieldError> = Vec::new();
