@@ -48,7 +48,8 @@ use crate::linalg::svd::{try_norm2, try_singular_values, try_svd, SvdError, SvdP
 
 /// Whether the model is a differential (`x' = A x + B u`) or a difference
 /// (`x[k+1] = A x[k] + B u[k]`) equation: it decides what a stable mode is.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Domain {
     /// Stable: `Re λ < 0`.
     #[default]

@@ -83,12 +83,22 @@ pub enum ControllerError {
     SingularTracking { smallest_singular_value: f64 },
     /// The augmented (integral) plant is not controllable.
     IntegralNotControllable { message: String },
-    /// The observer cannot be designed (undetectable plant, pole count, …).
-    Observer { message: String },
+    /// The observer cannot be designed: `cause` says whether the requested poles or the plant
+    /// is to blame.
+    Observer { message: String, cause: ObserverFailure },
     Placement(PlacementError),
     Expm(ExpmError),
     /// The sample time is not a positive number.
     BadSampleTime { value: f64 },
+}
+
+/// Why an observer cannot be designed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ObserverFailure {
+    /// The requested poles (count, pairing, multiplicity beyond the number of outputs).
+    Poles,
+    /// The plant and its measurements (an undetectable mode, a numerical failure).
+    Plant,
 }
 
 impl std::fmt::Display for ControllerError {
@@ -103,7 +113,7 @@ impl std::fmt::Display for ControllerError {
                 "the steady-state equations [A B; C D] are singular (smallest singular value {smallest_singular_value:.3e} relative): the plant has a zero at s = 0 (z = 1 when digital), so these outputs cannot be held at a constant reference by a constant input"
             ),
             ControllerError::IntegralNotControllable { message } => write!(f, "integral action cannot be designed: {message}"),
-            ControllerError::Observer { message } => write!(f, "the observer cannot be designed: {message}"),
+            ControllerError::Observer { message, .. } => write!(f, "the observer cannot be designed: {message}"),
             ControllerError::Placement(e) => write!(f, "{e}"),
             ControllerError::Expm(e) => write!(f, "{e}"),
             ControllerError::BadSampleTime { value } => write!(f, "the sample time {value} must be a positive number of seconds"),
@@ -173,8 +183,12 @@ pub struct ObserverDesign {
 /// [`ControllerError::Observer`] with the reason (e.g. an undetectable unstable mode).
 pub fn observer_gain(a: &DMatrix<f64>, c: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<ObserverDesign, ControllerError> {
     let dual = state_feedback_gain(&a.transpose(), &c.transpose(), poles, params).map_err(|e| {
+        let cause = match e {
+            PlacementError::PoleCount { .. } | PlacementError::InvalidPoles { .. } | PlacementError::RepeatedBeyondRank { .. } => ObserverFailure::Poles,
+            _ => ObserverFailure::Plant,
+        };
         let text = e.to_string().replace("uncontrollable (no input reaches it)", "unobservable (no output sees it)").replace("change the actuators (B)", "add a measurement (C)");
-        ControllerError::Observer { message: text }
+        ControllerError::Observer { message: text, cause }
     })?;
     let gain = dual.gain.transpose();
     let gain_norm = dual.gain_norm;
@@ -211,7 +225,7 @@ pub fn feedforward_gains(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d
     big.view_mut((0, n), (n, m)).copy_from(b);
     big.view_mut((n, 0), (q, n)).copy_from(c);
     big.view_mut((n, n), (q, m)).copy_from(d);
-    let s = try_singular_values(&big, SvdParams::default()).map_err(|e| ControllerError::Observer { message: e.to_string() })?;
+    let s = try_singular_values(&big, SvdParams::default()).map_err(|e| ControllerError::Observer { message: e.to_string(), cause: ObserverFailure::Plant })?;
     let smax = s.iter().cloned().fold(0.0, f64::max);
     let smin = s.iter().cloned().fold(f64::INFINITY, f64::min);
     if !(smin > 1e-10 * smax) {
@@ -270,9 +284,17 @@ pub fn delay_augmented(phi: &DMatrix<f64>, gamma: &DMatrix<f64>) -> (DMatrix<f64
 pub struct SampleRateAdvice {
     pub bandwidth: f64,
     pub samples_per_bandwidth: f64,
-    /// `"too-slow"` (< 10), `"adequate"` (10–30), `"fast"` (> 30).
-    pub verdict: &'static str,
+    pub verdict: SampleRateVerdict,
     pub message: String,
+}
+
+/// Samples per closed-loop bandwidth period: fewer than 10, 10–30, more than 30.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum SampleRateVerdict {
+    TooSlow,
+    Adequate,
+    Fast,
 }
 
 /// See [`SampleRateAdvice`].
@@ -280,11 +302,11 @@ pub fn sample_rate_advice(continuous_poles: &[Complex64], t: f64) -> SampleRateA
     let wb = continuous_poles.iter().map(|z| z.norm()).fold(0.0, f64::max);
     let ratio = if wb > 0.0 { 2.0 * std::f64::consts::PI / (t * wb) } else { f64::INFINITY };
     let (verdict, message) = if ratio < 10.0 {
-        ("too-slow", format!("The sample rate is only {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s); rules of thumb ask for 10–30 times. Sample faster or slow the poles down: the digital loop will behave worse than designed."))
+        (SampleRateVerdict::TooSlow, format!("The sample rate is only {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s); rules of thumb ask for 10–30 times. Sample faster or slow the poles down: the digital loop will behave worse than designed."))
     } else if ratio <= 30.0 {
-        ("adequate", format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s), within the usual 10–30."))
+        (SampleRateVerdict::Adequate, format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s), within the usual 10–30."))
     } else {
-        ("fast", format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s): more than enough (beyond about 30, numerical precision of the controller coefficients starts to matter more than sampling)."))
+        (SampleRateVerdict::Fast, format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s): more than enough (beyond about 30, numerical precision of the controller coefficients starts to matter more than sampling)."))
     };
     SampleRateAdvice { bandwidth: wb, samples_per_bandwidth: ratio, verdict, message }
 }

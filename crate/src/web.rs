@@ -246,8 +246,8 @@ struct DragView {
 /// A design kept for comparison: what the comparison table and the overlays need, computed
 /// once when it is pinned (the overlays are drawn on every cycle, a drag's included).
 struct Pinned {
-    /// `"continuous"` or `"discrete"`: overlays are drawn only on a design of the same domain.
-    domain: &'static str,
+    /// Overlays are drawn only on a design of the same domain.
+    domain: crate::analysis::Domain,
     /// Its achieved closed-loop poles (the plum + on the map).
     poles: Vec<[f64; 2]>,
     /// Its state signals, as computed (`[0]`) and each divided by its peak (`[1]`).
@@ -1211,7 +1211,7 @@ pub fn update_page() -> Result<JsValue, JsValue> {
                     // invariant: evaluate_form sets both with FormStatus::Designed; treat otherwise as an internal error.
                     _ => return Err(JsValue::from_str("internal error: a design without its report")),
                 };
-                let discrete = design.domain == "discrete";
+                let discrete = design.domain == crate::analysis::Domain::Discrete;
                 let mut scene = form::pole_map_scene(&design);
                 scene.fit_poles = page.fit_poles;
                 page.plane_map = plane_map_for(&input, &design);
@@ -1505,7 +1505,7 @@ fn list_is_editable(input: &FormInput) -> bool {
 
 /// A digital design given by s-plane poles is shown on the z-plane map.
 fn plane_map_for(input: &FormInput, design: &DesignResult) -> PlaneMap {
-    match (design.domain == "discrete", design.sample_time, input.choice("plane").as_str()) {
+    match (design.domain == crate::analysis::Domain::Discrete, design.sample_time, input.choice("plane").as_str()) {
         (true, Some(t), "s") => PlaneMap::SampledFromS { sample_time: t },
         _ => PlaneMap::Same,
     }
@@ -1543,7 +1543,7 @@ fn edit_layers(page: &mut PageState, input: &FormInput) {
     }
     let discrete = page.pole_scene.discrete;
     page.pole_scene.pinned = match &page.pinned {
-        Some(p) if (p.domain == "discrete") == discrete => p.poles.clone(),
+        Some(p) if (p.domain == crate::analysis::Domain::Discrete) == discrete => p.poles.clone(),
         _ => Vec::new(),
     };
     page.pole_scene.view = page.drag.as_ref().map(|d| d.frame.view());

@@ -89,7 +89,8 @@ fn digital_design_maps_poles_and_tracks_the_continuous_response() {
     let cont = design(&format!("{plant}, {poles}, {sim}")).unwrap();
     let t = 0.01;
     let dig = design(&format!(r#"{plant}, {poles}, "implementation": {{"sample_time": {t}}}, {sim}"#)).unwrap();
-    assert_eq!(dig.domain, "discrete");
+    assert_eq!(dig.domain, polewright::analysis::Domain::Discrete);
+    assert_eq!(serde_json::to_value(dig.domain).unwrap(), "discrete", "serialised by name");
     for z in &dig.feedback.achieved_poles {
         let zc = num_complex::Complex64::new(z[0], z[1]);
         let expected = (num_complex::Complex64::new(-3.0, 2.0f64.copysign(z[1])) * t).exp();
@@ -108,7 +109,7 @@ fn digital_design_maps_poles_and_tracks_the_continuous_response() {
         worst = worst.max((xi - xcont).abs());
     }
     assert!(worst < 0.03, "digital vs continuous: {worst}");
-    assert!(dig.sample_rate.as_ref().is_some_and(|s| s.verdict == "fast" || s.verdict == "adequate"));
+    assert!(dig.sample_rate.as_ref().is_some_and(|s| matches!(s.verdict, polewright::controller::SampleRateVerdict::Fast | polewright::controller::SampleRateVerdict::Adequate)));
 }
 
 #[test]
@@ -216,7 +217,7 @@ fn poles_from_a_pattern_or_a_specification() {
         other => panic!("{other:?}"),
     }
     let ok = design(&format!(r#"{plant}, {digital}, "feedback": {{"pattern": {{"family": "bessel", "settling_time": 2.0}}}}"#)).unwrap();
-    assert_eq!(ok.domain, "discrete");
+    assert_eq!(ok.domain, polewright::analysis::Domain::Discrete);
 }
 
 #[test]

@@ -34,8 +34,8 @@ pub struct DesignResult {
     pub observability: Option<StructureResult>,
     pub simulation: SimulationResult,
     pub warnings: Vec<Warning>,
-    /// `"continuous"` or `"discrete"` (version 2).
-    pub domain: &'static str,
+    /// Continuous or discrete, serialised as `"continuous"` / `"discrete"` (version 2).
+    pub domain: crate::analysis::Domain,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub sample_time: Option<f64>,
     /// The zero-order-hold model the digital design used.
@@ -150,7 +150,7 @@ pub enum TrackingResult {
 pub struct SampleRateResult {
     pub bandwidth: f64,
     pub samples_per_bandwidth: f64,
-    pub verdict: &'static str,
+    pub verdict: crate::controller::SampleRateVerdict,
     pub message: String,
 }
 

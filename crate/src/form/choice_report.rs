@@ -79,7 +79,7 @@ pub(crate) fn violation_text(v: &crate::patterns::RegionViolation, region: &crat
 pub(crate) fn region_violations_of(result: &DesignResult, region: &crate::patterns::Region) -> Vec<crate::patterns::RegionViolation> {
     let achieved: Vec<Complex64> = result.feedback.achieved_poles.iter().map(c64).collect();
     match (result.domain, result.sample_time) {
-        ("discrete", Some(t)) => crate::patterns::discrete_region_violations(&achieved, region, t).unwrap_or_default(),
+        (crate::analysis::Domain::Discrete, Some(t)) => crate::patterns::discrete_region_violations(&achieved, region, t).unwrap_or_default(),
         _ => crate::patterns::region_violations(&achieved, region),
     }
 }
@@ -87,7 +87,7 @@ pub(crate) fn region_violations_of(result: &DesignResult, region: &crate::patter
 pub(crate) fn region_report(result: &DesignResult, r: &design::RegionResult) -> RegionReport {
     let region = region_of(r);
     let t = match (result.domain, result.sample_time) {
-        ("discrete", Some(t)) => Some(t),
+        (crate::analysis::Domain::Discrete, Some(t)) => Some(t),
         _ => None,
     };
     let overshoot = crate::patterns::overshoot_from_damping(region.min_damping).map(|mp| format!(" (a pure pair with this damping overshoots by {} %)", fmt_num(mp * 100.0))).unwrap_or_default();
@@ -133,7 +133,7 @@ pub(crate) fn lqr_report(result: &DesignResult, l: &design::LqrResult, context: 
     let size = l.riccati_solution.len();
     let labels = design_state_labels(result, size);
     let inputs = input_labels(result);
-    let discrete = result.domain == "discrete";
+    let discrete = result.domain == crate::analysis::Domain::Discrete;
     let short_list = |v: &[f64]| format!("[{}]", v.iter().map(|x| fmt_num(*x)).collect::<Vec<_>>().join(", "));
     let (q, r) = match &context.lqr_bounds {
         Some((xs, us)) => (
@@ -249,7 +249,7 @@ pub(crate) fn pole_choice_report(result: &DesignResult, context: &ReportContext)
         }
         (None, Some(_)) => format!(
             "The closed-loop poles of the LQR design: the state feedback that minimises the {} of xᵀ Q x + uᵀ R u over the design states, with the weights below.",
-            if result.domain == "discrete" { "sum over the samples" } else { "integral over time" }
+            if result.domain == crate::analysis::Domain::Discrete { "sum over the samples" } else { "integral over time" }
         ),
         (None, None) => "The listed poles, used as the shape of the design.".to_string(),
     };
@@ -257,7 +257,7 @@ pub(crate) fn pole_choice_report(result: &DesignResult, context: &ReportContext)
         description.push_str(&format!(" The search then multiplied every pole by {}: the fastest design within the actuator limits.", fmt_num(s.speed_factor)));
     }
 
-    let sample_time = result.sample_time.filter(|_| result.domain == "discrete");
+    let sample_time = result.sample_time.filter(|_| result.domain == crate::analysis::Domain::Discrete);
     let mut suggested_delay_poles = None;
     let adopt = "To adopt them, press “Use these poles”: the design stays the same (with several inputs: the same poles, with the robust placement's gain).";
     let (poles, suggested_note, suggested_plane): (Vec<Complex64>, String, &str) = match (search, choice, lqr) {

@@ -374,7 +374,7 @@ pub fn z_pole_character(z: Complex64, t: f64) -> String {
 /// itself for every pole inside the unit circle (a delay or deadbeat pole at `z = 0` included).
 pub(crate) fn pole_error_text(result: &DesignResult, requested: Complex64, achieved: Complex64) -> String {
     let d = (achieved - requested).norm();
-    if result.domain == "discrete" {
+    if result.domain == crate::analysis::Domain::Discrete {
         fmt_num(d / requested.norm().max(1.0))
     } else if requested.norm() > 0.0 {
         fmt_num(d / requested.norm())
@@ -385,7 +385,7 @@ pub(crate) fn pole_error_text(result: &DesignResult, requested: Complex64, achie
 
 pub(crate) fn character_in(result: &DesignResult, z: Complex64) -> String {
     match (result.domain, result.sample_time) {
-        ("discrete", Some(t)) => z_pole_character(z, t),
+        (crate::analysis::Domain::Discrete, Some(t)) => z_pole_character(z, t),
         _ => pole_character(z),
     }
 }
@@ -681,7 +681,7 @@ pub(crate) fn response_rows(result: &DesignResult) -> (Vec<StateRow>, Vec<InputR
         format!("{} s", fmt_num(s.duration))
     };
     let limits = if s.input_limit.iter().any(|l| l.is_some()) { "; inputs clipped at their limits" } else { "" };
-    let summary = if result.domain == "discrete" {
+    let summary = if result.domain == crate::analysis::Domain::Discrete {
         format!(
             "Free response of the sampled state feedback u[k] = −K x[k] (the state measured exactly, no reference) from {start} over {horizon}, sample time {} s{limits}. Settling: within ±{} % of each state's peak deviation from zero, for good.",
             fmt_num(s.step),
@@ -769,7 +769,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
     let mut open: Vec<Complex64> = result.open_loop_poles.iter().map(c64).collect();
     sort_for_display(&mut open);
     let (states, inputs, simulation) = response_rows(result);
-    let discrete = result.domain == "discrete";
+    let discrete = result.domain == crate::analysis::Domain::Discrete;
     let warnings: Vec<String> = result.warnings.iter().map(|w| w.message.clone()).collect();
     let controller = controller_report(result, context);
     let pole_choice = pole_choice_report(result, context);

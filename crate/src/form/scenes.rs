@@ -35,7 +35,7 @@ pub fn region_shape(result: &DesignResult, length: f64) -> Option<RegionShape> {
     let from = if words.is_empty() { String::new() } else { format!(" (from {words})") };
     let speed = region.natural_frequency.map(|w| format!(" and |s| ≥ {}", fmt_num(w))).unwrap_or_default();
     match (result.domain, result.sample_time) {
-        ("discrete", Some(t)) => {
+        (crate::analysis::Domain::Discrete, Some(t)) => {
             let radius = crate::patterns::discrete_decay_radius(&region, t).ok()?;
             let circle: Vec<Complex64> = (0..=REGION_CIRCLE_POINTS).map(|k| Complex64::from_polar(radius, 2.0 * PI * k as f64 / REGION_CIRCLE_POINTS as f64)).collect();
             let upper = crate::patterns::discrete_damping_boundary(&region, t, REGION_CIRCLE_POINTS / 2 + 1).ok()?;
@@ -84,7 +84,7 @@ pub fn pole_map_scene(result: &DesignResult) -> PoleMapScene {
         closed_loop: result.feedback.achieved_poles.clone(),
         not_assigned: result.feedback.not_assigned.clone(),
         observer,
-        discrete: result.domain == "discrete",
+        discrete: result.domain == crate::analysis::Domain::Discrete,
         fit_poles: false,
         highlight: None,
         region: region_shape(result, (10.0 * largest).max(10.0)),

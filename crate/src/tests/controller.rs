@@ -43,7 +43,7 @@ fn mapping_round_trip_and_advice() {
     for (si, zi) in s.iter().zip(&z) {
         assert!((map_to_continuous(*zi, 0.01) - si).norm() < 1e-12);
     }
-    assert_eq!(sample_rate_advice(&s, 1.0).verdict, "too-slow");
-    assert_eq!(sample_rate_advice(&s, 0.05).verdict, "adequate");
-    assert_eq!(sample_rate_advice(&s, 0.001).verdict, "fast");
+    assert_eq!(sample_rate_advice(&s, 1.0).verdict, SampleRateVerdict::TooSlow);
+    assert_eq!(sample_rate_advice(&s, 0.05).verdict, SampleRateVerdict::Adequate);
+    assert_eq!(sample_rate_advice(&s, 0.001).verdict, SampleRateVerdict::Fast);
 }

@@ -16,7 +16,7 @@ fn every_demo_designs_a_stable_closed_loop() {
         assert!(out.errors.is_empty(), "{}: {:?}", d.title, out.errors);
         assert_eq!(out.status, FormStatus::Designed, "{}: {:?}", d.title, out.design_error);
         let r = out.design.as_ref().unwrap();
-        let stable = |p: &[f64; 2]| if r.domain == "discrete" { p[0].hypot(p[1]) < 1.0 } else { p[0] < 0.0 };
+        let stable = |p: &[f64; 2]| if r.domain == crate::analysis::Domain::Discrete { p[0].hypot(p[1]) < 1.0 } else { p[0] < 0.0 };
         assert!(r.feedback.achieved_poles.iter().all(stable), "{}: {:?}", d.title, r.feedback.achieved_poles);
         assert!(r.feedback.max_pole_error < 1e-8, "{}: {}", d.title, r.feedback.max_pole_error);
         assert!(r.controllability.complete, "{}", d.title);
@@ -59,7 +59,7 @@ fn the_digital_demo_is_the_digital_example_file() {
     assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
     let d = out.design.as_ref().unwrap();
     assert_eq!(from_file.feedback.gain, d.feedback.gain);
-    assert_eq!(d.domain, "discrete");
+    assert_eq!(d.domain, crate::analysis::Domain::Discrete);
     assert_eq!(d.sample_time, Some(0.001));
     let (fo, o) = (from_file.observer.as_ref().unwrap(), d.observer.as_ref().unwrap());
     assert_eq!(fo.gain, o.gain);

@@ -349,7 +349,7 @@ fn blank_version_2_fields_give_the_version_1_design() {
     let out = evaluate_form(&f);
     assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
     let d = out.design.as_ref().unwrap();
-    assert_eq!(d.domain, "continuous");
+    assert_eq!(d.domain, crate::analysis::Domain::Continuous);
     assert!(d.closed_loop.is_none() && d.observer.is_none() && d.tracking.is_none() && d.sample_time.is_none());
     assert!(out.report.as_ref().unwrap().controller.is_none());
     // Exactly what the version-1 run gives for the same request.
@@ -390,7 +390,7 @@ fn a_bad_sample_time_is_the_sample_time_field_error() {
     let out = evaluate_form(&f);
     assert_eq!(out.status, FormStatus::Designed, "{:?}", out.errors);
     let d = out.design.unwrap();
-    assert_eq!(d.domain, "discrete");
+    assert_eq!(d.domain, crate::analysis::Domain::Discrete);
     assert!(d.closed_loop.is_some(), "a digital design is simulated in the loop");
     assert!(d.feedback.achieved_poles.iter().all(|p| p[0].hypot(p[1]) < 1.0));
 }

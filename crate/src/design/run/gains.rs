@@ -7,7 +7,7 @@ use num_complex::Complex64;
 use super::pair::DesignPair;
 use super::setup::{infeasible, Setup};
 use crate::analysis::{controllability_report, observability_report, ModalReport};
-use crate::controller::{feedforward_gains, map_to_discrete, observer_gain, ControllerError, ObserverDesign, ObserverForm};
+use crate::controller::{feedforward_gains, map_to_discrete, observer_gain, ControllerError, ObserverDesign, ObserverFailure, ObserverForm};
 use crate::design::{DesignError, FieldPath as P, InputError, ObserverPoles};
 use crate::linalg::eigen::try_eigenvalues;
 use crate::place::{state_feedback_gain, Placement, PlacementError};
@@ -81,7 +81,7 @@ fn observer(s: &Setup, pair: &DesignPair) -> Result<Option<Observer>, DesignErro
         }
     };
     let mut od = observer_gain(&s.ad, c, &poles, s.pp).map_err(|e| match e {
-        ControllerError::Observer { message } if message.contains("poles") && !message.contains("unobservable") => DesignError::Input(InputError::new(P::ObserverPoles, message)),
+        ControllerError::Observer { message, cause: ObserverFailure::Poles } => DesignError::Input(InputError::new(P::ObserverPoles, message)),
         other => infeasible(&other),
     })?;
     if os.form == ObserverForm::Current {

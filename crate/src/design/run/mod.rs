@@ -83,7 +83,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         observability: analysis.obsv.as_ref().map(structure),
         simulation,
         warnings,
-        domain: if t.is_some() { "discrete" } else { "continuous" },
+        domain: s.domain,
         sample_time: t,
         discrete_plant: match (&spec.implementation, t) {
             (Some(imp), Some(ts)) => Some(DiscretePlantResult { a: rows(&s.ad), b: rows(&s.bd), sample_time: ts, method: "zoh", computation_delay: imp.computation_delay }),

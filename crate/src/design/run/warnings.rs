@@ -111,7 +111,7 @@ pub(super) fn placement_warnings(s: &Setup, g: &Gains, an: &Analysis) -> Vec<War
 pub(super) fn controller_warnings(g: &Gains, advice: Option<&SampleRateAdvice>) -> Vec<Warning> {
     let wp = WarningParams::default();
     let mut out = Vec::new();
-    if let Some(a) = advice.filter(|a| a.verdict == "too-slow") {
+    if let Some(a) = advice.filter(|a| a.verdict == crate::controller::SampleRateVerdict::TooSlow) {
         out.push(Warning::new("sample-rate-too-slow", a.message.clone()));
     }
     if let Some((od, _, _)) = &g.observer {
