@@ -73,9 +73,12 @@ const loadDemo = guarded(() => {
   load_demo(Number(byId('pw-demo').value));
   designNow();
 });
-const undoLoad = guarded(() => {
-  if (undo_load()) designNow();
+const undoForm = (redo) => guarded(() => {
+  if (undo_form(redo)) designNow();
 });
+// Ctrl+Z / Ctrl+Y outside a text field undo and redo form changes (inside one, the browser's
+// own undo edits the text; on the pole map, its own keys undo pole edits).
+const isTextField = (el) => el && (el.tagName === 'TEXTAREA' || (el.tagName === 'INPUT' && el.type !== 'checkbox' && el.type !== 'file'));
 
 // Keys on the pole map: N / P (PageDown / PageUp) choose a pole, Home / End the first / last;
 // the arrow keys move the chosen requested pole (Shift: larger steps); Delete removes it,
@@ -220,7 +223,16 @@ form.addEventListener('change', (e) => {
 });
 byId('pw-demo').addEventListener('change', guarded((e) => show_demo_description(Number(e.target.value))));
 byId('pw-load-demo').addEventListener('click', loadDemo);
-byId('pw-undo-load').addEventListener('click', undoLoad);
+byId('pw-form-undo').addEventListener('click', undoForm(false));
+byId('pw-form-redo').addEventListener('click', undoForm(true));
+document.addEventListener('keydown', (e) => {
+  const ctrl = e.ctrlKey || e.metaKey;
+  if (!ctrl || isTextField(e.target) || e.target === poleMap) return;
+  if (e.key === 'z' || e.key === 'Z') undoForm(e.shiftKey)();
+  else if (e.key === 'y' || e.key === 'Y') undoForm(true)();
+  else return;
+  e.preventDefault();
+});
 byId('pw-save').addEventListener('click', saveDesign);
 byId('pw-open-file').addEventListener('change', (e) => {
   openFile(e.target.files[0]);

@@ -218,8 +218,8 @@ struct PageState {
     tables: Vec<TableView>,
     feedback: Vec<(&'static str, Feedback)>,
     last_input: FormInput,
-    /// The forms before each demo load or file open (newest last), for *Undo load or open*.
-    form_undo: Vec<FormInput>,
+    /// Every form change, for the page's Undo and Redo.
+    form_history: form::history::FormHistory,
     /// The pole list being edited from the map (kept in step with the poles field).
     history: Option<EditHistory>,
     /// The editable markers as drawn, in the order of `pole_scene.requested`.
@@ -288,7 +288,7 @@ thread_local! {
         tables: Vec::new(),
         feedback: Vec::new(),
         last_input: FormInput::default(),
-        form_undo: Vec::new(),
+        form_history: form::history::FormHistory::default(),
         history: None,
         requested_markers: Vec::new(),
         plane_map: PlaneMap::Same,
@@ -622,7 +622,7 @@ pub fn show_demo_description(index: usize) -> Result<(), JsValue> {
 pub fn load_demo(index: usize) -> Result<(), JsValue> {
     let doc = document()?;
     let d = crate::demos::demo(index).ok_or_else(|| js_err("demo", format!("there is no demo {index}")))?;
-    document::remember_form(&doc)?;
+    document::note_form(&doc)?;
     for key in FormInput::FIELDS {
         set_control_value(&doc, key, d.form.get(key).unwrap_or(""))?;
     }
@@ -1201,6 +1201,7 @@ pub fn update_page() -> Result<JsValue, JsValue> {
     phase("evaluate", t_eval - t_read);
     let status = outcome.status;
     let status_text = with_page(|page| {
+        page.form_history.note(&input);
         sync_history(page, &input);
         show_field_feedback(&doc, page, &input, &outcome)?;
         phase("feedback", now_ms() - t_eval);
@@ -1307,6 +1308,7 @@ pub fn update_page() -> Result<JsValue, JsValue> {
     if status_el.class_list().contains("is-error") != (status != FormStatus::Designed) {
         status_el.class_list().toggle_with_force("is-error", status != FormStatus::Designed)?;
     }
+    document::refresh_buttons(&doc)?;
     to_js(&CycleSummary { status, cycle_ms, errors: outcome.errors }, "cycle summary")
 }
 

@@ -1,5 +1,5 @@
 //! The page's design document: save, open (picker or drop), remember in this browser, and undo
-//! of a demo load or a file open. The document is the one of [`crate::design::spec`]; the form
+//! and redo of every form change ([`crate::form::history`]). The document is the one of [`crate::design::spec`]; the form
 //! adapter ([`crate::form::adapter`]) turns it into the controls and back. The browser side
 //! (download, file reading, storage, the leave-page prompt) is a few lines in `site/app.js`.
 
@@ -11,33 +11,30 @@ use crate::design::{read_design, write_design};
 use crate::form::{form_from_spec, spec_from_form, FormInput};
 
 const FILE_STATUS: &str = "pw-file-status";
-const UNDO_LOAD: &str = "pw-undo-load";
-/// Most forms kept for *Undo load or open*.
-const MAX_FORM_UNDO: usize = 20;
+const UNDO: &str = "pw-form-undo";
+const REDO: &str = "pw-form-redo";
 
-/// Keeps the current form so that the next load or open can be undone (the very first demo
-/// load, into an empty page, is not kept).
-pub(super) fn remember_form(doc: &Document) -> Result<(), JsValue> {
+/// Notes the form as it stands (before a load or an open replaces it, so that typing not yet
+/// designed is a step of its own), and updates the Undo and Redo buttons.
+pub(super) fn note_form(doc: &Document) -> Result<(), JsValue> {
     let current = read_form(doc)?;
-    if current == FormInput::default() || current.a.trim().is_empty() && current.b.trim().is_empty() {
-        return Ok(());
-    }
-    let depth = with_page(|page| {
-        page.form_undo.push(current);
-        if page.form_undo.len() > MAX_FORM_UNDO {
-            page.form_undo.remove(0);
-        }
-        Ok(page.form_undo.len())
+    with_page(|page| {
+        page.form_history.note(&current);
+        Ok(())
     })?;
-    set_undo_button(doc, depth)
+    refresh_buttons(doc)
 }
 
-fn set_undo_button(doc: &Document, depth: usize) -> Result<(), JsValue> {
-    if let Some(b) = doc.get_element_by_id(UNDO_LOAD) {
-        if depth == 0 {
-            b.set_attribute("disabled", "")?;
-        } else {
-            b.remove_attribute("disabled")?;
+/// Enables Undo and Redo as the history allows.
+pub(super) fn refresh_buttons(doc: &Document) -> Result<(), JsValue> {
+    let (undo, redo) = with_page(|page| Ok((page.form_history.can_undo(), page.form_history.can_redo())))?;
+    for (id, on) in [(UNDO, undo), (REDO, redo)] {
+        if let Some(b) = doc.get_element_by_id(id).filter(|b| b.has_attribute("disabled") == on) {
+            if on {
+                b.remove_attribute("disabled")?;
+            } else {
+                b.set_attribute("disabled", "")?;
+            }
         }
     }
     Ok(())
@@ -88,26 +85,24 @@ pub fn open_document(text: &str, file_name: &str) -> Result<String, JsValue> {
             return Ok(m);
         }
     };
-    remember_form(&doc)?;
+    note_form(&doc)?;
     write_form(&doc, &form)?;
     set_text(&doc, FILE_STATUS, &format!("Opened {shown}."))?;
     Ok(String::new())
 }
 
-/// Undoes the last demo load or file open; false when there is nothing to undo.
+/// Undoes (or, with `redo`, redoes) the last form change: a typed pause, a choice, a pole
+/// edit, a demo load or a file open. False when there is nothing to undo (redo).
 #[wasm_bindgen]
-pub fn undo_load() -> Result<bool, JsValue> {
+pub fn undo_form(redo: bool) -> Result<bool, JsValue> {
     let doc = document()?;
-    let (previous, depth) = with_page(|page| Ok((page.form_undo.pop(), page.form_undo.len())))?;
-    set_undo_button(&doc, depth)?;
-    match previous {
-        Some(form) => {
-            write_form(&doc, &form)?;
-            set_text(&doc, FILE_STATUS, "The design before the last load or open is back.")?;
-            Ok(true)
-        }
-        None => Ok(false),
-    }
+    note_form(&doc)?;
+    let target = with_page(|page| Ok(if redo { page.form_history.redo().cloned() } else { page.form_history.undo().cloned() }))?;
+    let Some(form) = target else { return Ok(false) };
+    write_form(&doc, &form)?;
+    set_text(&doc, FILE_STATUS, if redo { "Redone." } else { "Undone: the form is as it was before the last change." })?;
+    refresh_buttons(&doc)?;
+    Ok(true)
 }
 
 /// Every form field as JSON (what *Remember this design* stores: the document and the text of

@@ -1,7 +1,7 @@
 // End-to-end checks of the design document on the built page, from file:// and from
 // http://127.0.0.1: Save design downloads the document, Open design (picker) restores every
 // field, a bad file changes nothing, Remember this design restores after a reload (and stores
-// nothing when off), leaving with unsaved changes asks first, and a demo load is undone.
+// nothing when off), leaving with unsaved changes asks first, and undo/redo cover every form change.
 // Run: node --test tests/e2e/   (after scripts/build-page)
 
 import assert from 'node:assert/strict';
@@ -115,17 +115,32 @@ describe('design document', () => {
     });
   });
 
-  test('a demonstration load is undone', async () => {
+  test('undo and redo cover every form change: a demonstration load, a choice, typed text', async () => {
     await withPage(pageFileUrl, async ({ page }) => {
       await waitDesigned(page);
       await page.fill('#pw-poles', '-3, -4, -5, -6');
-      const before = await fieldValues(page);
+      const typed = await fieldValues(page);
       await page.selectOption('#pw-demo', '1');
       await page.click('#pw-load-demo');
-      assert.notDeepEqual(await fieldValues(page), before);
-      await page.click('#pw-undo-load');
-      assert.deepEqual(await fieldValues(page), before);
-      assert.equal(await page.isDisabled('#pw-undo-load'), true);
+      await waitDesigned(page);
+      const loaded = await fieldValues(page);
+      assert.notDeepEqual(loaded, typed);
+      await page.selectOption('#pw-tracking', 'feedforward');
+      await page.waitForFunction(() => !document.getElementById('pw-form-undo').disabled);
+      const chosen = await fieldValues(page);
+      await page.click('#pw-form-undo');
+      assert.deepEqual(await fieldValues(page), loaded, 'the choice is undone');
+      await page.click('#pw-form-undo');
+      assert.deepEqual(await fieldValues(page), typed, 'the demo load is undone, the typed poles are back');
+      await page.click('#pw-form-redo');
+      assert.deepEqual(await fieldValues(page), loaded);
+      await page.click('#pw-form-redo');
+      assert.deepEqual(await fieldValues(page), chosen);
+      assert.equal(await page.isDisabled('#pw-form-redo'), true);
+      // Ctrl+Z outside a text field undoes too.
+      await page.focus('#pw-tracking');
+      await page.keyboard.press('Control+z');
+      assert.deepEqual(await fieldValues(page), loaded);
     });
   });
 });

@@ -99,6 +99,7 @@ pub use crate::design::check::DEFAULT_OBSERVER_SPEED;
 
 pub mod adapter;
 mod fields;
+pub mod history;
 mod choice_report;
 mod report;
 mod scenes;
