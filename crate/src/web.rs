@@ -257,10 +257,12 @@ struct Pinned {
     summary: editing::DesignSummary,
     /// The poles field when it was pinned (or the pole choice).
     label: String,
+    /// The form that gave it (kept when the page remembers its state).
+    form: FormInput,
 }
 
 impl Pinned {
-    fn new(design: &DesignResult, report: &Report, label: String) -> Pinned {
+    fn new(design: &DesignResult, report: &Report, label: String, form: FormInput) -> Pinned {
         Pinned {
             domain: design.domain,
             poles: design.feedback.achieved_poles.clone(),
@@ -269,6 +271,7 @@ impl Pinned {
             loop_outputs: form::loop_outputs_scene(design, report).map(|s| as_pinned(&s)).unwrap_or_default(),
             summary: editing::DesignSummary::from_result(design),
             label,
+            form,
         }
     }
 }
@@ -1909,7 +1912,7 @@ pub fn pin_design() -> Result<(), JsValue> {
             return show_edit_message(page, Some("There is no design to pin yet.".into()));
         };
         let label = if page.last_input_editable() { page.last_input.poles.trim().replace('\n', " ") } else { format_pairs(&design.feedback.requested_poles) };
-        page.pinned = Some(Pinned::new(design, report, label));
+        page.pinned = Some(Pinned::new(design, report, label, page.last_input.clone()));
         page.rendered.retain(|(k, _)| *k != ids::COMPARE);
         let doc = document()?;
         render_compare(&doc, page)?;

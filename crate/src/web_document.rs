@@ -105,19 +105,46 @@ pub fn undo_form(redo: bool) -> Result<bool, JsValue> {
     Ok(true)
 }
 
-/// Every form field as JSON (what *Remember this design* stores: the document and the text of
-/// sections that are switched off, so a reload restores the page exactly).
+/// What *Remember this design* keeps: every form field (the document and the text of sections
+/// that are switched off) and the form of the pinned design, so a reload restores both.
+#[derive(serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+struct PageMemory {
+    form: FormInput,
+    #[serde(default)]
+    pinned: Option<FormInput>,
+}
+
+/// The page's state as JSON text for the browser's storage.
 #[wasm_bindgen]
 pub fn form_state() -> Result<String, JsValue> {
     let form = read_form(&document()?)?;
-    serde_json::to_string(&form).map_err(|e| js_err("remember", e))
+    let pinned = with_page(|page| Ok(page.pinned.as_ref().map(|p| p.form.clone())))?;
+    serde_json::to_string(&PageMemory { form, pinned }).map_err(|e| js_err("remember", e))
 }
 
-/// Restores [`form_state`] text; a stored state that does not read (another version, a damaged
-/// entry) is ignored and false is returned, leaving the page as it is.
+/// Restores [`form_state`] text: the form, and the pinned design (designed again from its
+/// form). A stored state that does not read (another version, a damaged entry) is ignored and
+/// false is returned, leaving the page as it is.
 #[wasm_bindgen]
 pub fn restore_form_state(text: &str) -> Result<bool, JsValue> {
-    let Ok(form) = serde_json::from_str::<FormInput>(text) else { return Ok(false) };
-    write_form(&document()?, &form)?;
+    let Ok(memory) = serde_json::from_str::<PageMemory>(text) else { return Ok(false) };
+    write_form(&document()?, &memory.form)?;
+    if let Some(pinned_form) = memory.pinned {
+        let outcome = crate::form::evaluate_form(&pinned_form);
+        if let (Some(design), Some(report)) = (&outcome.design, &outcome.report) {
+            let label = if pinned_form.pole_source.trim().is_empty() || pinned_form.choice("pole_source") == "list" {
+                pinned_form.poles.trim().replace('\n', " ")
+            } else {
+                super::format_pairs(&design.feedback.requested_poles)
+            };
+            let pinned = super::Pinned::new(design, report, label, pinned_form.clone());
+            with_page(|page| {
+                page.pinned = Some(pinned);
+                page.rendered.retain(|(k, _)| *k != super::ids::COMPARE);
+                Ok(())
+            })?;
+        }
+    }
     Ok(true)
 }

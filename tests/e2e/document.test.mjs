@@ -76,11 +76,15 @@ describe('design document', () => {
     }
   });
 
-  test('remembering on restores after a reload; off stores nothing', async () => {
+  test('remembering on restores the form and the pinned design after a reload; off stores nothing', async () => {
     await withPage(pageFileUrl, async ({ page }) => {
       await waitDesigned(page);
       assert.equal(await page.evaluate(() => localStorage.length), 0, 'nothing stored before opting in');
       await page.fill('#pw-title', 'Remembered design');
+      // A pinned design (the demo as loaded), then an edited current one.
+      await page.click('#pw-pin');
+      const pinnedPoles = await page.getAttribute('#pw-pole-map', 'data-pinned-poles');
+      assert.notEqual(pinnedPoles, '0');
       await page.fill('#pw-poles', '-4, -5, -6, -7');
       await page.check('#pw-remember');
       await page.click('#pw-design');
@@ -90,6 +94,8 @@ describe('design document', () => {
       await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
       assert.deepEqual(await fieldValues(page), before);
       assert.equal(await page.isChecked('#pw-remember'), true);
+      assert.equal(await page.getAttribute('#pw-pole-map', 'data-pinned-poles'), pinnedPoles, 'the pinned design is restored too');
+      assert.equal(await page.isVisible('#pw-compare'), true, 'with its comparison table');
       await page.uncheck('#pw-remember');
       assert.equal(await page.evaluate(() => localStorage.length), 0, 'turning it off removes what was stored');
       await page.reload();
