@@ -130,8 +130,8 @@ def assemble(index_html: str, css: str, app_js: str, glue_js: str, wasm: bytes) 
 def main(argv: list[str]) -> int:
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--site", type=Path, default=ROOT / "site")
-    p.add_argument("--glue", type=Path, default=ROOT / "target/web-pkg/polewright.js")
-    p.add_argument("--wasm", type=Path, default=ROOT / "target/web-pkg/polewright_bg.wasm")
+    p.add_argument("--glue", type=Path, default=ROOT / "target/web-pkg/polewright_web.js")
+    p.add_argument("--wasm", type=Path, default=ROOT / "target/web-pkg/polewright_web_bg.wasm")
     p.add_argument("--out", type=Path, default=ROOT / "dist/polewright.html")
     args = p.parse_args(argv)
     try:

@@ -5,7 +5,7 @@
 // `update_page`, … below are the glue's own functions. The wasm bytes come from
 // the base64 data block #pw-wasm in the same page: nothing is ever fetched.
 // The inliner wraps this file in a block, so its names cannot clash with the
-// glue's. Rust (crate/src/web.rs) reads the form, designs, and builds every
+// glue's. Rust (crate/web/src/lib.rs) reads the form, designs, and builds every
 // result element and canvas; this file only forwards events to it.
 
 const byId = (id) => document.getElementById(id);

@@ -1,34 +1,18 @@
 //! Polewright: state-feedback design for linear(ised) plants `x' = A x + B u`.
 //!
-//! Convention everywhere: the control law is `u = -K x`; closed-loop matrix `A - B K`.
+//! This package is the command-line tool; its library is a facade over the layers, for the
+//! tool and its integration tests:
 //!
-//! The numerical modules know nothing of the browser or the command line; the
-//! `web` module (wasm32 only) and the `polewright` binary are thin front ends.
+//! | crate | layer |
+//! |---|---|
+//! | `polewright-core` | numerical core (no designs, no pages) |
+//! | `polewright-design` | the design document, its rulebook, the run and its result |
+//! | `polewright-page` | the page model: form adapter, report, scenes, display lists, editing |
+//! | `polewright-web` | the browser front end (wasm32 only) |
+//!
+//! Imports point down only; Cargo enforces it.
 
-// `!(a <= b)` is the project's NaN-safe comparison: a NaN fails every test it stands in.
-#![allow(clippy::neg_cmp_op_on_partial_ord)]
-
-pub mod analysis;
-pub mod controller;
-pub mod demos;
-pub mod design;
-pub mod draw;
-pub mod editing;
-pub mod form;
-pub mod linalg;
-pub mod loop_sim;
-pub mod metrics;
-pub mod parse;
-pub mod patterns;
-pub mod place;
-pub mod plane;
-pub mod plant;
-pub mod plot;
-pub mod poles;
-pub mod riccati;
-pub mod search;
-pub mod simulate;
-pub mod warnings;
-
-#[cfg(target_arch = "wasm32")]
-pub mod web;
+pub use polewright_core::*;
+pub use polewright_design as design;
+pub use polewright_design::warnings;
+pub use polewright_page::{demos, draw, editing, form, plot};

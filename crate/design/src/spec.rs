@@ -7,7 +7,7 @@
 //! a pole list such as `-2, -1±2j`) and plain JSON (lists of rows, lists of numbers, `[re, im]`
 //! pairs), so that the page can save exactly what was typed and a script can write plain JSON.
 //! What the numbers mean, and every rule between fields, is checked once, in
-//! [`crate::design::check`].
+//! [`crate::check`].
 //!
 //! # Versions
 //! Version 1 knew `plant`, `feedback.poles`, `actuators` and `simulation`; version 2 added the
@@ -626,7 +626,7 @@ struct Header {
 const VERSION_2_SECTIONS: [&str; 5] = ["implementation", "observer", "tracking", "anti_windup", "search"];
 
 /// Reads a design document from its JSON text: syntax, keys and types only (the rules between
-/// fields are [`crate::design::check`]'s). Older versions are read with their meaning kept.
+/// fields are [`crate::check`]'s). Older versions are read with their meaning kept.
 ///
 /// # Errors
 /// An [`InputError`] naming the path: text over [`MAX_DESIGN_BYTES`], not JSON, a missing or

@@ -5,7 +5,7 @@ use num_complex::Complex64;
 
 use crate::analysis::{AnalysisParams, Domain};
 use crate::controller::{discretise, map_to_continuous, map_to_discrete};
-use crate::design::{ControllerSpec, DesignError, DesignRequest, Plane, TrackingSpec};
+use crate::{ControllerSpec, DesignError, DesignRequest, Plane, TrackingSpec};
 use crate::place::PlacementParams;
 use crate::plant::Plant;
 

@@ -35,6 +35,10 @@
 //! Inputs are plain JS objects deserialised with serde-wasm-bindgen into the
 //! scene structs of [`crate::plot`] ([`PoleMapScene`], [`TimePlotScene`]);
 //! every field may be omitted; unknown top-level keys are rejected.
+#![cfg(target_arch = "wasm32")]
+
+// The page model and the layers below it, named `crate::form`, `crate::design`… as elsewhere.
+use polewright_page::*;
 
 use std::cell::RefCell;
 use std::hash::{Hash, Hasher};

@@ -3,8 +3,8 @@
 use nalgebra::DMatrix;
 
 use super::{blank, limits, matrix, names, plural, positive, band_fraction, vector, Basics, Checker};
-use crate::design::spec::{DesignSpec, MatrixValue};
-use crate::design::FieldPath as P;
+use crate::spec::{DesignSpec, MatrixValue};
+use crate::FieldPath as P;
 use crate::plant::{Field, Plant, PlantError, PlantSpec};
 
 fn dims(m: &DMatrix<f64>) -> String {

@@ -7,8 +7,8 @@ use super::pair::DesignPair;
 use super::setup::Setup;
 use crate::analysis::{Domain, ModeVerdict};
 use crate::controller::SampleRateAdvice;
-use crate::design::result::LoopResult;
-use crate::design::{fmt_num, ControllerSpec, ObserverPoles, PoleChoiceMethod};
+use crate::result::LoopResult;
+use crate::{fmt_num, ControllerSpec, ObserverPoles, PoleChoiceMethod};
 use crate::poles::format_complex;
 use crate::warnings::{Warning, WarningParams};
 
@@ -178,7 +178,7 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
                 "pole-outside-region",
                 format!(
                     "{} outside the region of the specification (ζ ≥ {}, σ ≥ {} 1/s): the response may not meet the specification{}. {}.",
-                    crate::design::check::plural(outside.len(), "closed-loop pole lies", "closed-loop poles lie"),
+                    crate::check::plural(outside.len(), "closed-loop pole lies", "closed-loop poles lie"),
                     fmt_num(region.min_damping),
                     fmt_num(region.min_decay_rate),
                     if slowed { "; the search slowed the poles down to keep the inputs within their limits" } else { "" },

@@ -755,18 +755,6 @@ pub enum Normalisation {
     UnitNaturalFrequency,
 }
 
-impl Normalisation {
-    /// The normalisation in words (for reports).
-    pub fn words(&self) -> String {
-        match self {
-            Normalisation::UnitDcGroupDelay => "normalised to a group delay of 1 s at DC".into(),
-            Normalisation::HalfPowerAtUnitFrequency => "normalised to half power at 1 rad/s".into(),
-            Normalisation::UnitSettlingTime { band } => format!("normalised to settle into ±{} % at 1 s", crate::design::fmt_num(band * 100.0)),
-            Normalisation::UnitNaturalFrequency => "normalised to a natural frequency of 1 rad/s".into(),
-        }
-    }
-}
-
 /// A normalised prototype pattern.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Prototype {

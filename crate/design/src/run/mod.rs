@@ -1,5 +1,5 @@
 //! The design run: gains, observer, tracking and integral action, the simulations and the
-//! warnings, for a checked design ([`crate::design::check`]).
+//! warnings, for a checked design ([`crate::check`]).
 
 use num_complex::Complex64;
 
@@ -243,5 +243,5 @@ pub fn fmt_num(x: f64) -> String {
 }
 
 #[cfg(test)]
-#[path = "../../tests/design.rs"]
+#[path = "../tests/design.rs"]
 mod tests;

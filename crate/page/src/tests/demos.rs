@@ -33,7 +33,7 @@ fn every_demo_designs_a_stable_closed_loop() {
 
 #[test]
 fn the_belt_axis_is_the_example_file() {
-    let text = include_str!("../../../examples/belt-axis.json");
+    let text = include_str!("../../../../examples/belt-axis.json");
     let from_file = crate::design::run_text(text).unwrap();
     let out = evaluate_form(&belt_axis().form);
     let from_form = out.design.unwrap();
@@ -53,7 +53,7 @@ fn the_second_demo_has_two_inputs() {
 
 #[test]
 fn the_digital_demo_is_the_digital_example_file() {
-    let text = include_str!("../../../examples/belt-axis-digital.json");
+    let text = include_str!("../../../../examples/belt-axis-digital.json");
     let from_file = crate::design::run_text(text).unwrap();
     let out = evaluate_form(&belt_axis_digital().form);
     assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);

@@ -8,7 +8,7 @@ use super::pair::DesignPair;
 use super::setup::{infeasible, Setup};
 use crate::analysis::{controllability_report, observability_report, ModalReport};
 use crate::controller::{feedforward_gains, map_to_discrete, observer_gain, ControllerError, ObserverDesign, ObserverFailure, ObserverForm};
-use crate::design::{DesignError, FieldPath as P, InputError, ObserverPoles};
+use crate::{DesignError, FieldPath as P, InputError, ObserverPoles};
 use crate::linalg::eigen::try_eigenvalues;
 use crate::place::{state_feedback_gain, Placement, PlacementError};
 
@@ -62,7 +62,7 @@ pub(super) fn gains(s: &Setup, pair: &DesignPair) -> Result<Gains, DesignError> 
     let k_i = s.integral_poles.map(|_| placement.gain.columns(pair.nd, s.q()).into_owned());
     let observer = observer(s, pair)?;
     let feedforward = match &s.spec.tracking {
-        crate::design::TrackingSpec::Feedforward { .. } => Some(feedforward_gains(&s.ad, &s.bd, &s.ct, &s.dt, s.t.is_some()).map_err(|e| infeasible(&e))?),
+        crate::TrackingSpec::Feedforward { .. } => Some(feedforward_gains(&s.ad, &s.bd, &s.ct, &s.dt, s.t.is_some()).map_err(|e| infeasible(&e))?),
         _ => None,
     };
     Ok(Gains { placement, k_x, k_u, k_i, observer, feedforward })

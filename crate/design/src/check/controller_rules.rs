@@ -5,8 +5,8 @@ use num_complex::Complex64;
 
 use super::{non_negative, outputs, plural, poles, positive, vector, Checker, DEFAULT_OBSERVER_SPEED, MAX_LOOP_SAMPLES};
 use crate::controller::{AntiWindup, ObserverForm};
-use crate::design::spec::{AntiWindupMode, DesignSpec, ObserverFormChoice, PlaneChoice, TrackingMode, Whole};
-use crate::design::{fmt_num, ControllerSpec, DesignRequest, FieldPath as P, Implementation, ObserverPoles, ObserverSpec, Plane, ScenarioSpec, TrackingSpec};
+use crate::spec::{AntiWindupMode, DesignSpec, ObserverFormChoice, PlaneChoice, TrackingMode, Whole};
+use crate::{fmt_num, ControllerSpec, DesignRequest, FieldPath as P, Implementation, ObserverPoles, ObserverSpec, Plane, ScenarioSpec, TrackingSpec};
 use crate::plant::Plant;
 use crate::plane::s_from_z;
 
@@ -196,7 +196,7 @@ fn tracking(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, out: 
 }
 
 /// A list with one value per item (`count`, when known).
-fn counted(c: &mut Checker, path: P, list: Option<&crate::design::spec::NumberList>, count: Option<(usize, &str, &str)>) -> Option<Vec<f64>> {
+fn counted(c: &mut Checker, path: P, list: Option<&crate::spec::NumberList>, count: Option<(usize, &str, &str)>) -> Option<Vec<f64>> {
     let v = c.take(path, list.and_then(vector)?)?;
     c.size(path, plural(v.len(), "value", "values"));
     if let Some((n, one, many)) = count.filter(|(n, _, _)| *n != v.len()) {

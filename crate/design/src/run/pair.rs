@@ -6,7 +6,7 @@ use num_complex::Complex64;
 
 use super::setup::{infeasible, Setup};
 use crate::controller::{delay_augmented, integral_augmented, map_to_continuous};
-use crate::design::{DesignError, FieldPath as P, InputError, LqrWeights};
+use crate::{DesignError, FieldPath as P, InputError, LqrWeights};
 use crate::riccati::{LqrDesign, RiccatiError};
 use crate::search::SearchResult;
 

@@ -4,8 +4,8 @@
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
 use super::*;
-use crate::design::check::check_text;
-use crate::design::{DesignError, FieldPath, InputError};
+use crate::check::check_text;
+use crate::{DesignError, FieldPath, InputError};
 
 fn parse_design(text: &str) -> Result<(), InputError> {
     match check_text(text) {

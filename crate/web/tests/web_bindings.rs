@@ -3,7 +3,7 @@
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 #![cfg(all(target_arch = "wasm32", feature = "test-exports"))]
 
-use polewright::web;
+use polewright_web as web;
 use wasm_bindgen::{JsCast, JsValue};
 use wasm_bindgen_test::*;
 
@@ -138,7 +138,7 @@ fn pick_pole_finds_the_marker_under_the_pointer() {
     add_canvas("wbt-pick", 400, 300);
     let scene = r#"{"closed_loop": [[-2, 1]], "open_loop": [[1, 0]]}"#;
     let parsed = web::parse_pole_map_scene(&js(scene)).expect("scene");
-    let frame = parsed.frame(polewright::plot::Rect::sized(400.0, 300.0));
+    let frame = parsed.frame(polewright_page::plot::Rect::sized(400.0, 300.0));
     let at = frame.to_pixel([-2.0, 1.0]);
     let pick = web::pick_pole("wbt-pick", js(scene), at[0] + 1.0, at[1]).expect("pick ran");
     let pick: web::PolePick = serde_wasm_bindgen::from_value(pick).expect("a pick");
@@ -194,7 +194,7 @@ fn a_design_crosses_the_boundary_and_back_intact() {
     }
     assert_eq!(k.len(), 3);
     // The same numbers as the native evaluation of the same form.
-    let native = polewright::form::evaluate_form(&polewright::form::FormInput {
+    let native = polewright_page::form::evaluate_form(&polewright_page::form::FormInput {
         a: "0 1 0\n0 0 1\n-1 -5 -6".into(),
         b: "0 0 1".into(),
         poles: "-2±4j, -10".into(),
@@ -284,8 +284,8 @@ fn a_version_2_design_crosses_the_boundary_intact() {
     assert_eq!(get(&out, "design.domain").as_string().as_deref(), Some("discrete"));
     assert_eq!(get(&out, "design.sample_time").as_f64(), Some(0.001));
 
-    let native_form = polewright::demos::demo(index).expect("native demo").form;
-    let native = polewright::form::evaluate_form(&native_form);
+    let native_form = polewright_page::demos::demo(index).expect("native demo").form;
+    let native = polewright_page::form::evaluate_form(&native_form);
     let nd = native.design.as_ref().expect("native design");
     let rows = |path: &str| -> Vec<Vec<f64>> {
         array(&get(&out, path)).iter().map(|r| array(r).iter().filter_map(|v| v.as_f64()).collect()).collect()

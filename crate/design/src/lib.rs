@@ -24,6 +24,11 @@ pub mod path;
 pub mod result;
 pub mod run;
 pub mod spec;
+pub mod warnings;
+
+/// The numerical core, re-exported so that `crate::analysis` and the like name it here as in
+/// every layer above.
+pub use polewright_core::*;
 
 pub use check::{check, check_text, choose_poles, CheckReport, CheckedDesign, PoleRequest};
 pub use path::FieldPath;

@@ -10,8 +10,8 @@ use super::gains::Gains;
 use super::pair::DesignPair;
 use super::setup::{infeasible, output_matrices, Setup};
 use crate::controller::ObserverForm;
-use crate::design::result::{pair as pole_pair, InputLoopMetrics, LoopResult, OutputLoopMetrics, SimulationResult};
-use crate::design::{fmt_num, ControllerSpec, DesignError, FieldPath as P, InputError, TrackingSpec};
+use crate::result::{pair as pole_pair, InputLoopMetrics, LoopResult, OutputLoopMetrics, SimulationResult};
+use crate::{fmt_num, ControllerSpec, DesignError, FieldPath as P, InputError, TrackingSpec};
 use crate::linalg::eigen::try_eigenvalues;
 use crate::loop_sim::{LoopController, LoopError, LoopResponse, LoopScenario, Noise, TrackingLaw};
 use crate::metrics;
@@ -265,7 +265,7 @@ fn input_metrics(s: &Setup, lr: &LoopResponse, h: &Horizon, warnings: &mut Vec<W
 
 /// Separation principle: eigenvalues of the linear loop with observer (no integrator, no
 /// delay) against the union of controller and observer poles.
-fn separation(s: &Setup, g: &Gains) -> (Option<Vec<crate::design::Pair>>, Option<f64>) {
+fn separation(s: &Setup, g: &Gains) -> (Option<Vec<crate::Pair>>, Option<f64>) {
     let n = s.n;
     let plain = g.k_u.is_none() && g.k_i.is_none();
     let (Some((od, _, form)), true, Some(c)) = (&g.observer, plain, s.plant.c()) else { return (None, None) };

@@ -4,15 +4,21 @@
 use num_complex::Complex64;
 
 use super::{band_fraction, plural, poles, positive, scalar, vector, Basics, Checker, PoleSetup, PoleSource};
-use crate::design::spec::{BesselChoice, BrysonDoc, DesignSpec, FeedbackDoc, LqrDoc, PatternDoc, PatternFamily, PlaneChoice, SpecDoc};
-use crate::design::{fmt_num, ControllerSpec, FieldPath as P, LqrWeights, PoleChoice, PoleChoiceMethod, TrackingSpec};
+use crate::spec::{BesselChoice, BrysonDoc, DesignSpec, FeedbackDoc, LqrDoc, PatternDoc, PatternFamily, PlaneChoice, SpecDoc};
+use crate::{fmt_num, ControllerSpec, FieldPath as P, LqrWeights, PoleChoice, PoleChoiceMethod, TrackingSpec};
 use crate::patterns::{BesselNormalisation, Pattern, PatternError, ScaleTarget, SettlingRule, Specification, SpeedRequirement};
 use crate::plant::Plant;
 use crate::search::Situation;
 
-/// The normalisation of a pattern in words.
+/// The normalisation of a pattern in words (for reports).
 fn normalisation_words(n: &crate::patterns::Normalisation) -> String {
-    n.words()
+    use crate::patterns::Normalisation;
+    match n {
+        Normalisation::UnitDcGroupDelay => "normalised to a group delay of 1 s at DC".into(),
+        Normalisation::HalfPowerAtUnitFrequency => "normalised to half power at 1 rad/s".into(),
+        Normalisation::UnitSettlingTime { band } => format!("normalised to settle into ±{} % at 1 s", fmt_num(band * 100.0)),
+        Normalisation::UnitNaturalFrequency => "normalised to a natural frequency of 1 rad/s".into(),
+    }
 }
 
 /// How Polewright is asked to choose the closed-loop poles when they are not listed.
@@ -193,7 +199,7 @@ fn listed(fb: &FeedbackDoc, c: &mut Checker) -> Option<Vec<Complex64>> {
     }
 }
 
-fn required_positive(c: &mut Checker, path: P, v: Option<&crate::design::spec::Scalar>, what: &str, example: &str, missing: &str) -> Option<f64> {
+fn required_positive(c: &mut Checker, path: P, v: Option<&crate::spec::Scalar>, what: &str, example: &str, missing: &str) -> Option<f64> {
     match v.and_then(|v| positive(v, what, example)) {
         None => {
             c.push(path, missing.to_string());
@@ -203,7 +209,7 @@ fn required_positive(c: &mut Checker, path: P, v: Option<&crate::design::spec::S
     }
 }
 
-fn band_of(c: &mut Checker, path: P, v: Option<&crate::design::spec::Scalar>, default: Option<f64>) -> Option<f64> {
+fn band_of(c: &mut Checker, path: P, v: Option<&crate::spec::Scalar>, default: Option<f64>) -> Option<f64> {
     match v.and_then(band_fraction) {
         None => default,
         Some(r) => c.take(path, r),
@@ -428,7 +434,7 @@ fn search(spec: &DesignSpec, plant: Option<&Plant>, source: PoleSource, known: &
     }
 }
 
-fn given_situations(list: &[crate::design::spec::SituationDoc], p: &Plant, c: &mut Checker) -> Option<Vec<Situation>> {
+fn given_situations(list: &[crate::spec::SituationDoc], p: &Plant, c: &mut Checker) -> Option<Vec<Situation>> {
     if list.is_empty() {
         c.push(P::SearchSituations, "empty; list at least one situation, or leave this out to judge the free response and the reference step");
         return None;
