@@ -17,7 +17,7 @@ polynomials, closed-form step responses (partial fractions with numpy, or
 scipy.special.gammainc for the repeated poles of the binomial pattern) with
 scipy.optimize.brentq for settling and rise instants and half-power frequencies,
 and scipy.integrate.quad for the ITAE cost.  Nothing is random.  The Rust module
-(crate/core/src/patterns.rs) uses none of these methods: it simulates a cascade
+(crate/core/src/patterns/) uses none of these methods: it simulates a cascade
 realisation with the matrix exponential and bisects, so agreement is a real check.
 """
 

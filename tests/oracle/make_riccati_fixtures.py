@@ -25,7 +25,7 @@ Contents:
 * invalid or unsolvable problems with the error a solver must report.
 
 For every solvable case the script stores scipy's X, the normalised residual of scipy's X
-(the same formula as crate/core/src/riccati.rs), scipy's gain, the closed-loop eigenvalues and a
+(the same formula as crate/core/src/riccati/), scipy's gain, the closed-loop eigenvalues and a
 first-order condition estimate of X (defined in the header's ``conventions``).
 
 Only the standard library, numpy and scipy are used.  Every random quantity comes from
@@ -96,7 +96,7 @@ def care_residual(a, b, q, r, x):
     XGX is evaluated as P R^-1 P' with P = XB, never through an explicitly formed G: the
     rounding error of G, multiplied by X on both sides, would otherwise set a floor of about
     eps ||X||^2 ||G|| that can exceed the true residual of an ill-conditioned solution by
-    orders of magnitude (crate/core/src/riccati.rs uses the equivalent (X B L^-T)(X B L^-T)').
+    orders of magnitude (crate/core/src/riccati/ uses the equivalent (X B L^-T)(X B L^-T)').
     """
     atx = a.T @ x
     p = x @ b

@@ -428,24 +428,30 @@ fn rows_of_vec(v: &DVector<f64>, rows: &[usize]) -> DVector<f64> {
     DVector::from_iterator(rows.len(), rows.iter().map(|&i| v[i]))
 }
 
-fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario) -> Result<LoopResponse, LoopError> {
-    let n = a.nrows();
-    let m = b.ncols();
-    let p = c.nrows();
-    let q = ctrl.tracked_outputs.len();
+/// The continuous loop as one stacked model `s' = F0 s + Gr r + Gw w + Gu u` with the control
+/// law `u = H s + J r`; `s` holds the plant state, then the estimate, then the integrators.
+struct Stacked {
+    f0: DMatrix<f64>,
+    gr: DMatrix<f64>,
+    gw: DMatrix<f64>,
+    gu: DMatrix<f64>,
+    h: DMatrix<f64>,
+    j: DMatrix<f64>,
+    /// Offsets of the estimate (the plant state when there is no observer) and the integrators.
+    est: usize,
+    oz: usize,
+    /// Integrator states (0 without integral action).
+    qi: usize,
+}
+
+fn stacked(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController) -> Stacked {
+    let (n, m, q) = (a.nrows(), b.ncols(), ctrl.tracked_outputs.len());
     let has_obs = ctrl.observer.is_some();
-    let (ki, aw) = match &ctrl.tracking {
-        TrackingLaw::Integral { ki, anti_windup } => (Some(ki.clone()), *anti_windup),
-        _ => (None, AntiWindup::None),
-    };
-    let qi = if ki.is_some() { q } else { 0 };
+    let qi = if matches!(ctrl.tracking, TrackingLaw::Integral { .. }) { q } else { 0 };
     let ns = n + if has_obs { n } else { 0 } + qi;
-    let ox = 0;
-    let oh = n;
-    let oz = n + if has_obs { n } else { 0 };
+    let (ox, oh, oz) = (0, n, n + if has_obs { n } else { 0 });
     let ct = rows_of(c, &ctrl.tracked_outputs);
     let dt = rows_of(d, &ctrl.tracked_outputs);
-    // Open-loop stacked model s' = F0 s + Gr r + Gw w + Gu u.
     let mut f0 = DMatrix::<f64>::zeros(ns, ns);
     let mut gr = DMatrix::<f64>::zeros(ns, q);
     let mut gw = DMatrix::<f64>::zeros(ns, m);
@@ -466,7 +472,6 @@ fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<
             gr[(oz + i, i)] = 1.0;
         }
     }
-    // Control law u = H s + J r.
     let mut h = DMatrix::<f64>::zeros(m, ns);
     let mut j = DMatrix::<f64>::zeros(m, q);
     let est = if has_obs { oh } else { ox };
@@ -476,19 +481,22 @@ fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<
         TrackingLaw::Feedforward { nx, nu } => j.copy_from(&(nu + &ctrl.k * nx)),
         TrackingLaw::Integral { ki, .. } => h.view_mut((0, oz), (m, q)).copy_from(&(-ki)),
     }
-    let limits: Vec<Option<f64>> = if sc.limits.is_empty() { vec![None; m] } else { sc.limits.clone() };
-    // Fine step: 1/20 of the fastest closed-loop time constant, 1 / max |λ(F_cl)| (common
-    // practice for a simulation step). The spectral radius, not ‖F_cl‖: an observer's L C block
-    // can make the norm hundreds of times larger than any eigenvalue (seen: 75 151 against 144
-    // for the belt axis with an observer), which only shrank the step, never changed an
-    // unsaturated result (its transitions are exact), and cost 200 000 steps. Should the
-    // eigenvalues not converge, the norm is the (safe) fallback.
-    let fcl = &f0 + &gu * &h;
-    let speed = crate::linalg::eigen::try_eigenvalues(&fcl)
+    Stacked { f0, gr, gw, gu, h, j, est, oz, qi }
+}
+
+/// The fine step: 1/20 of the fastest closed-loop time constant, 1 / max |λ(F_cl)| (common
+/// practice for a simulation step), at most 1/2000 of the duration and 200 000 steps. The
+/// spectral radius, not ‖F_cl‖: an observer's L C block can make the norm hundreds of times
+/// larger than any eigenvalue (seen: 75 151 against 144 for the belt axis with an observer),
+/// which only shrank the step, never changed an unsaturated result (its transitions are
+/// exact), and cost 200 000 steps. Should the eigenvalues not converge, the norm is the (safe)
+/// fallback. Returns (step, number of steps).
+fn fine_step(fcl: &DMatrix<f64>, sc: &LoopScenario) -> (f64, usize) {
+    let speed = crate::linalg::eigen::try_eigenvalues(fcl)
         .ok()
         .map(|v| v.iter().map(|z| z.norm()).fold(0.0, f64::max))
         .filter(|r| r.is_finite() && *r > 0.0)
-        .or_else(|| crate::linalg::svd::try_norm2(&fcl, crate::linalg::svd::SvdParams::default()).ok())
+        .or_else(|| crate::linalg::svd::try_norm2(fcl, crate::linalg::svd::SvdParams::default()).ok())
         .unwrap_or(1.0)
         .max(1e-12);
     let hstep = match sc.continuous_step {
@@ -496,115 +504,134 @@ fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<
         _ => (sc.duration / 2000.0).min(0.05 / speed),
     };
     let steps = ((sc.duration / hstep).round() as usize).clamp(1, 200_000);
-    let hstep = sc.duration / steps as f64;
+    (sc.duration / steps as f64, steps)
+}
+
+/// The held-input (saturated) mode `s' = F_sat s + G_sat [r; w; u]`: `u` is an external held
+/// input and the integrators follow the anti-windup rule.
+fn saturated_mode(st: &Stacked, ctrl: &LoopController) -> (DMatrix<f64>, DMatrix<f64>) {
+    let (ns, q, m) = (st.f0.nrows(), st.gr.ncols(), st.gu.ncols());
+    let exo = q + m;
+    let mut fsat = st.f0.clone();
+    let mut gsat = DMatrix::<f64>::zeros(ns, exo + m);
+    gsat.view_mut((0, 0), (ns, q)).copy_from(&st.gr);
+    gsat.view_mut((0, q), (ns, m)).copy_from(&st.gw);
+    gsat.view_mut((0, exo), (ns, m)).copy_from(&st.gu);
+    let TrackingLaw::Integral { ki, anti_windup } = &ctrl.tracking else { return (fsat, gsat) };
+    let oz = st.oz;
+    match anti_windup {
+        AntiWindup::None => {}
+        AntiWindup::Clamp => {
+            for i in 0..q {
+                fsat.row_mut(oz + i).fill(0.0);
+                gsat.row_mut(oz + i).fill(0.0);
+            }
+        }
+        AntiWindup::BackCalculation { time_constant } => {
+            // z' += −K_i⁺ (u_sat − H s − J r) / T_t.
+            let kp = small_pseudo_inverse(ki) / *time_constant;
+            let add_s = &kp * &st.h;
+            let add_r = &kp * &st.j;
+            for i in 0..q {
+                for col in 0..ns {
+                    fsat[(oz + i, col)] += add_s[(i, col)];
+                }
+                for col in 0..q {
+                    gsat[(oz + i, col)] += add_r[(i, col)];
+                }
+                for col in 0..m {
+                    gsat[(oz + i, exo + col)] -= kp[(i, col)];
+                }
+            }
+        }
+    }
+    (fsat, gsat)
+}
+
+/// Exact transitions of one step (and of a fine sub-step) in both modes.
+struct Transitions {
+    ecl: DMatrix<f64>,
+    bcl: DMatrix<f64>,
+    esat: DMatrix<f64>,
+    bsat: DMatrix<f64>,
+}
+
+impl Transitions {
+    fn new(fcl: &DMatrix<f64>, gcl: &DMatrix<f64>, fsat: &DMatrix<f64>, gsat: &DMatrix<f64>, h: f64) -> Result<Self, LoopError> {
+        let (ecl, bcl) = block_transition(fcl, gcl, h)?;
+        let (esat, bsat) = block_transition(fsat, gsat, h)?;
+        Ok(Transitions { ecl, bcl, esat, bsat })
+    }
+
+    /// One step from `s` with exogenous `v = [r; w]`: the closed loop, or the held saturated
+    /// input when an input is clipped at the start of the step.
+    fn advance(&self, st: &Stacked, limits: &[Option<f64>], s: &DVector<f64>, v: &DVector<f64>, r: &DVector<f64>) -> DVector<f64> {
+        let (u, clipped) = clip(&(&st.h * s + &st.j * r), limits);
+        if clipped {
+            let exo = v.len();
+            let mut vs = DVector::<f64>::zeros(exo + u.len());
+            vs.rows_mut(0, exo).copy_from(v);
+            vs.rows_mut(exo, u.len()).copy_from(&u);
+            &self.esat * s + &self.bsat * vs
+        } else {
+            &self.ecl * s + &self.bcl * v
+        }
+    }
+}
+
+fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario) -> Result<LoopResponse, LoopError> {
+    let (n, m, p, q) = (a.nrows(), b.ncols(), c.nrows(), ctrl.tracked_outputs.len());
+    let st = stacked(a, b, c, d, ctrl);
+    let ns = st.f0.nrows();
+    let limits: Vec<Option<f64>> = if sc.limits.is_empty() { vec![None; m] } else { sc.limits.clone() };
+    let fcl = &st.f0 + &st.gu * &st.h;
+    let (hstep, steps) = fine_step(&fcl, sc);
     // Exact transitions with held exogenous inputs: closed (unsaturated) and held-input (saturated).
     let exo = q + m;
-    let gcl = {
-        let mut g = DMatrix::<f64>::zeros(ns, exo);
-        g.view_mut((0, 0), (ns, q)).copy_from(&(&gr + &gu * &j));
-        g.view_mut((0, q), (ns, m)).copy_from(&gw);
-        g
-    };
-    let (ecl, bcl) = block_transition(&fcl, &gcl, hstep)?;
-    // Held-input mode: u is an external held input; the integrator follows its anti-windup rule.
-    let mut fsat = f0.clone();
-    let mut gsat = DMatrix::<f64>::zeros(ns, exo + m);
-    gsat.view_mut((0, 0), (ns, q)).copy_from(&gr);
-    gsat.view_mut((0, q), (ns, m)).copy_from(&gw);
-    gsat.view_mut((0, exo), (ns, m)).copy_from(&gu);
-    if let Some(kiv) = &ki {
-        match aw {
-            AntiWindup::None => {}
-            AntiWindup::Clamp => {
-                for i in 0..q {
-                    for col in 0..ns {
-                        fsat[(oz + i, col)] = 0.0;
-                    }
-                    for col in 0..(exo + m) {
-                        gsat[(oz + i, col)] = 0.0;
-                    }
-                }
-            }
-            AntiWindup::BackCalculation { time_constant } => {
-                // z' += −K_i⁺ (u_sat − H s − J r) / T_t.
-                let kp = small_pseudo_inverse(kiv) / time_constant;
-                let add_s = &kp * &h;
-                let add_r = &kp * &j;
-                for i in 0..q {
-                    for col in 0..ns {
-                        fsat[(oz + i, col)] += add_s[(i, col)];
-                    }
-                    for col in 0..q {
-                        gsat[(oz + i, col)] += add_r[(i, col)];
-                    }
-                    for col in 0..m {
-                        gsat[(oz + i, exo + col)] -= kp[(i, col)];
-                    }
-                }
-            }
-        }
-    }
-    let (esat, bsat) = block_transition(&fsat, &gsat, hstep)?;
-    // The same transitions over a fraction of the step, for the steps in which an input
-    // enters or leaves saturation: the switch is then resolved to h / SWITCH_SUBSTEPS.
-    let hfine = hstep / SWITCH_SUBSTEPS as f64;
-    let (ecl_f, bcl_f) = block_transition(&fcl, &gcl, hfine)?;
-    let (esat_f, bsat_f) = block_transition(&fsat, &gsat, hfine)?;
-    let advance = |s: &DVector<f64>, v: &DVector<f64>, r: &DVector<f64>, fine: bool| -> DVector<f64> {
-        let u_cmd = &h * s + &j * r;
-        let (u, clipped) = clip(&u_cmd, &limits);
-        let (e_cl, b_cl, e_sat, b_sat) = if fine { (&ecl_f, &bcl_f, &esat_f, &bsat_f) } else { (&ecl, &bcl, &esat, &bsat) };
-        if clipped {
-            let mut vs = DVector::<f64>::zeros(exo + m);
-            vs.rows_mut(0, exo).copy_from(v);
-            vs.rows_mut(exo, m).copy_from(&u);
-            e_sat * s + b_sat * vs
-        } else {
-            e_cl * s + b_cl * v
-        }
-    };
+    let mut gcl = DMatrix::<f64>::zeros(ns, exo);
+    gcl.view_mut((0, 0), (ns, q)).copy_from(&(&st.gr + &st.gu * &st.j));
+    gcl.view_mut((0, q), (ns, m)).copy_from(&st.gw);
+    let (fsat, gsat) = saturated_mode(&st, ctrl);
+    let coarse = Transitions::new(&fcl, &gcl, &fsat, &gsat, hstep)?;
+    // The same over a fraction of the step, for the steps in which an input enters or leaves
+    // saturation: the switch is then resolved to h / SWITCH_SUBSTEPS.
+    let fine = Transitions::new(&fcl, &gcl, &fsat, &gsat, hstep / SWITCH_SUBSTEPS as f64)?;
     let mut s = DVector::<f64>::zeros(ns);
-    s.rows_mut(ox, n).copy_from(&sc.x0);
-    if has_obs {
-        if let Some(xh) = &sc.xhat0 {
-            s.rows_mut(oh, n).copy_from(xh);
-        }
+    s.rows_mut(0, n).copy_from(&sc.x0);
+    if let (true, Some(xh)) = (ctrl.observer.is_some(), &sc.xhat0) {
+        s.rows_mut(n, n).copy_from(xh);
     }
-    let mut out = LoopResponse::new(n, m, p, q, qi, steps + 1);
+    let mut out = LoopResponse::new(n, m, p, q, st.qi, steps + 1);
     let eps = 1e-9 * hstep;
     let bound = 1e100 * (1.0 + sc.x0.norm());
     for k in 0..=steps {
         let tk = k as f64 * hstep;
         let r = step_value(&sc.reference, q, tk, sc.reference_time, eps);
         let w = step_value(&sc.disturbance, m, tk, sc.disturbance_time, eps);
-        let u_cmd = &h * &s + &j * &r;
+        let u_cmd = &st.h * &s + &st.j * &r;
         let (u, clipped) = clip(&u_cmd, &limits);
-        let x = s.rows(ox, n).into_owned();
+        let x = s.rows(0, n).into_owned();
         let y = c * &x + d * &u;
         out.time.push(tk);
         push(&mut out.outputs, &y);
         push(&mut out.measured, &y);
         push(&mut out.reference, &r);
         push(&mut out.states, &x);
-        push(&mut out.estimates, &s.rows(est, n).into_owned());
+        push(&mut out.estimates, &s.rows(st.est, n).into_owned());
         push(&mut out.inputs, &u);
         push(&mut out.commanded, &u_cmd);
-        push(&mut out.integrator, &s.rows(oz, qi).into_owned());
+        push(&mut out.integrator, &s.rows(st.oz, st.qi).into_owned());
         if k == steps {
             break;
         }
         let mut v = DVector::<f64>::zeros(exo);
         v.rows_mut(0, q).copy_from(&r);
         v.rows_mut(q, m).copy_from(&w);
-        let next = advance(&s, &v, &r, false);
+        let next = coarse.advance(&st, &limits, &s, &v, &r);
         // An input entered or left saturation during the step: redo it in fine sub-steps.
-        let (_, clipped_next) = clip(&(&h * &next + &j * &r), &limits);
+        let (_, clipped_next) = clip(&(&st.h * &next + &st.j * &r), &limits);
         s = if clipped_next != clipped {
-            let mut sub = s.clone();
-            for _ in 0..SWITCH_SUBSTEPS {
-                sub = advance(&sub, &v, &r, true);
-            }
-            sub
+            (0..SWITCH_SUBSTEPS).fold(s.clone(), |sub, _| fine.advance(&st, &limits, &sub, &v, &r))
         } else {
             next
         };
