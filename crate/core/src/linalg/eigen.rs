@@ -204,6 +204,13 @@ fn balance_tracking(a: &mut DMatrix<f64>, max_sweeps: usize, mut scale: Option<&
     }
 }
 
+/// `a!(h, i, j)`: element (i, j) of `h` with the 1-based indices of the classical formulation.
+macro_rules! a {
+    ($h:ident, $i:expr, $j:expr) => {
+        $h[($i - 1, $j - 1)]
+    };
+}
+
 /// Francis double-shift QR on an upper Hessenberg matrix (EISPACK `hqr`).
 fn hessenberg_qr(mut h: DMatrix<f64>, max_its: usize) -> Result<Vec<Complex64>, EigenError> {
     let n = h.nrows();
@@ -215,32 +222,14 @@ fn hessenberg_qr(mut h: DMatrix<f64>, max_its: usize) -> Result<Vec<Complex64>, 
             anorm += h[(i, j)].abs();
         }
     }
-    // 1-based indices below follow the classical formulation; `a(i, j)` maps to h[(i-1, j-1)].
-    macro_rules! a {
-        ($i:expr, $j:expr) => {
-            h[($i - 1, $j - 1)]
-        };
-    }
     let mut nn = n;
     let mut t = 0.0;
     let mut total_its = 0usize;
     while nn >= 1 {
         let mut its = 0usize;
         loop {
-            // Look for a single small subdiagonal element.
-            let mut l = nn;
-            while l >= 2 {
-                let mut s = a!(l - 1, l - 1).abs() + a!(l, l).abs();
-                if s == 0.0 {
-                    s = anorm;
-                }
-                if a!(l, l - 1).abs() <= f64::EPSILON * s {
-                    a!(l, l - 1) = 0.0;
-                    break;
-                }
-                l -= 1;
-            }
-            let mut x = a!(nn, nn);
+            let l = small_subdiagonal(&mut h, nn, anorm);
+            let mut x = a!(h, nn, nn);
             if l == nn {
                 // One root found.
                 wr[nn - 1] = x + t;
@@ -248,29 +237,15 @@ fn hessenberg_qr(mut h: DMatrix<f64>, max_its: usize) -> Result<Vec<Complex64>, 
                 nn -= 1;
                 break;
             }
-            let mut y = a!(nn - 1, nn - 1);
-            let mut w = a!(nn, nn - 1) * a!(nn - 1, nn);
+            let mut y = a!(h, nn - 1, nn - 1);
+            let mut w = a!(h, nn, nn - 1) * a!(h, nn - 1, nn);
             if l == nn - 1 {
                 // Two roots found.
-                let p = 0.5 * (y - x);
-                let q = p * p + w;
-                let mut z = q.abs().sqrt();
-                x += t;
-                if q >= 0.0 {
-                    z = p + z.copysign(p);
-                    wr[nn - 2] = x + z;
-                    wr[nn - 1] = x + z;
-                    if z != 0.0 {
-                        wr[nn - 1] = x - w / z;
-                    }
-                    wi[nn - 2] = 0.0;
-                    wi[nn - 1] = 0.0;
-                } else {
-                    wr[nn - 2] = x + p;
-                    wr[nn - 1] = x + p;
-                    wi[nn - 2] = z;
-                    wi[nn - 1] = -z;
-                }
+                let (re, im) = pair_roots(x + t, y - x, w);
+                wr[nn - 2] = re[0];
+                wr[nn - 1] = re[1];
+                wi[nn - 2] = im[0];
+                wi[nn - 1] = im[1];
                 nn -= 2;
                 break;
             }
@@ -282,109 +257,152 @@ fn hessenberg_qr(mut h: DMatrix<f64>, max_its: usize) -> Result<Vec<Complex64>, 
                 // Exceptional shift.
                 t += x;
                 for i in 1..=nn {
-                    a!(i, i) -= x;
+                    a!(h, i, i) -= x;
                 }
-                let s = a!(nn, nn - 1).abs() + a!(nn - 1, nn - 2).abs();
+                let s = a!(h, nn, nn - 1).abs() + a!(h, nn - 1, nn - 2).abs();
                 x = 0.75 * s;
                 y = x;
                 w = -0.4375 * s * s;
             }
             its += 1;
             total_its += 1;
-            // Look for two consecutive small subdiagonal elements.
-            let mut m = nn - 2;
-            let (mut p, mut q, mut r);
-            loop {
-                let z = a!(m, m);
-                let r0 = x - z;
-                let s0 = y - z;
-                p = (r0 * s0 - w) / a!(m + 1, m) + a!(m, m + 1);
-                q = a!(m + 1, m + 1) - z - r0 - s0;
-                r = a!(m + 2, m + 1);
-                let s = p.abs() + q.abs() + r.abs();
-                p /= s;
-                q /= s;
-                r /= s;
-                if m == l {
-                    break;
-                }
-                let u = a!(m, m - 1).abs() * (q.abs() + r.abs());
-                let v = p.abs() * (a!(m - 1, m - 1).abs() + z.abs() + a!(m + 1, m + 1).abs());
-                if u <= f64::EPSILON * v {
-                    break;
-                }
-                m -= 1;
-            }
-            for i in (m + 2)..=nn {
-                a!(i, i - 2) = 0.0;
-                if i != m + 2 {
-                    a!(i, i - 3) = 0.0;
-                }
-            }
-            // Double QR step on rows l..nn and columns m..nn.
-            let mut k = m;
-            while k < nn {
-                if k != m {
-                    p = a!(k, k - 1);
-                    q = a!(k + 1, k - 1);
-                    r = if k != nn - 1 { a!(k + 2, k - 1) } else { 0.0 };
-                    x = p.abs() + q.abs() + r.abs();
-                    if x != 0.0 {
-                        p /= x;
-                        q /= x;
-                        r /= x;
-                    }
-                }
-                let s = (p * p + q * q + r * r).sqrt().copysign(p);
-                if s != 0.0 {
-                    if k == m {
-                        if l != m {
-                            a!(k, k - 1) = -a!(k, k - 1);
-                        }
-                    } else {
-                        a!(k, k - 1) = -s * x;
-                    }
-                    p += s;
-                    x = p / s;
-                    y = q / s;
-                    let z = r / s;
-                    q /= p;
-                    r /= p;
-                    for j in k..=nn {
-                        let mut pp = a!(k, j) + q * a!(k + 1, j);
-                        if k != nn - 1 {
-                            pp += r * a!(k + 2, j);
-                            a!(k + 2, j) -= pp * z;
-                        }
-                        a!(k + 1, j) -= pp * y;
-                        a!(k, j) -= pp * x;
-                    }
-                    let mmin = if nn < k + 3 { nn } else { k + 3 };
-                    for i in l..=mmin {
-                        let mut pp = x * a!(i, k) + y * a!(i, k + 1);
-                        if k != nn - 1 {
-                            pp += z * a!(i, k + 2);
-                            a!(i, k + 2) -= pp * r;
-                        }
-                        a!(i, k + 1) -= pp * q;
-                        a!(i, k) -= pp;
-                    }
-                }
-                k += 1;
-            }
+            let (m, start) = double_shift_start(&mut h, l, nn, [x, y, w]);
+            double_qr_step(&mut h, l, m, nn, start);
             if !h.iter().all(|v| v.is_finite()) {
                 return Err(EigenError::NoConvergence { found: n - nn, size: n, iterations: total_its });
             }
         }
     }
     let mut values: Vec<Complex64> = wr.iter().zip(&wi).map(|(&re, &im)| Complex64::new(re, im)).collect();
-    // Make complex pairs exact conjugates (they are by construction; this guards the sort).
     for v in values.iter_mut() {
         if v.im == 0.0 {
             v.im = 0.0; // normalise -0.0
         }
     }
     Ok(values)
+}
+
+/// The last row `l ≤ nn` (1-based) below which the active block splits: the first small
+/// subdiagonal element found going up from row `nn`, set to zero (`l = 1` when none is).
+fn small_subdiagonal(h: &mut DMatrix<f64>, nn: usize, anorm: f64) -> usize {
+    let mut l = nn;
+    while l >= 2 {
+        let mut s = a!(h, l - 1, l - 1).abs() + a!(h, l, l).abs();
+        if s == 0.0 {
+            s = anorm;
+        }
+        if a!(h, l, l - 1).abs() <= f64::EPSILON * s {
+            a!(h, l, l - 1) = 0.0;
+            break;
+        }
+        l -= 1;
+    }
+    l
+}
+
+/// The two roots of a deflated 2×2 block with shifted corner `x` (shift included), `y − x`
+/// and the product `w` of its off-diagonal elements: `([re₁, re₂], [im₁, im₂])`.
+fn pair_roots(x: f64, y_minus_x: f64, w: f64) -> ([f64; 2], [f64; 2]) {
+    let p = 0.5 * y_minus_x;
+    let q = p * p + w;
+    let z = q.abs().sqrt();
+    if q >= 0.0 {
+        let z = p + z.copysign(p);
+        let second = if z != 0.0 { x - w / z } else { x + z };
+        ([x + z, second], [0.0, 0.0])
+    } else {
+        ([x + p, x + p], [z, -z])
+    }
+}
+
+/// Where the double-shift step starts: the row `m` (from `nn − 2` up to `l`) below two
+/// consecutive small subdiagonal elements, and the first column `[p, q, r]` of the shifted
+/// product for shifts from `[x, y, w]`, scaled to unit sum of magnitudes.
+fn double_shift_start(h: &mut DMatrix<f64>, l: usize, nn: usize, [x, y, w]: [f64; 3]) -> (usize, [f64; 3]) {
+    let mut m = nn - 2;
+    let (mut p, mut q, mut r);
+    loop {
+        let z = a!(h, m, m);
+        let r0 = x - z;
+        let s0 = y - z;
+        p = (r0 * s0 - w) / a!(h, m + 1, m) + a!(h, m, m + 1);
+        q = a!(h, m + 1, m + 1) - z - r0 - s0;
+        r = a!(h, m + 2, m + 1);
+        let s = p.abs() + q.abs() + r.abs();
+        p /= s;
+        q /= s;
+        r /= s;
+        if m == l {
+            break;
+        }
+        let u = a!(h, m, m - 1).abs() * (q.abs() + r.abs());
+        let v = p.abs() * (a!(h, m - 1, m - 1).abs() + z.abs() + a!(h, m + 1, m + 1).abs());
+        if u <= f64::EPSILON * v {
+            break;
+        }
+        m -= 1;
+    }
+    for i in (m + 2)..=nn {
+        a!(h, i, i - 2) = 0.0;
+        if i != m + 2 {
+            a!(h, i, i - 3) = 0.0;
+        }
+    }
+    (m, [p, q, r])
+}
+
+/// One Francis double-shift QR step on rows `l..nn` and columns `m..nn` (1-based), chasing the
+/// bulge with 3×3 Householder reflections from the starting column `[p, q, r]`.
+fn double_qr_step(h: &mut DMatrix<f64>, l: usize, m: usize, nn: usize, [mut p, mut q, mut r]: [f64; 3]) {
+    let mut x = 0.0;
+    let mut k = m;
+    while k < nn {
+        if k != m {
+            p = a!(h, k, k - 1);
+            q = a!(h, k + 1, k - 1);
+            r = if k != nn - 1 { a!(h, k + 2, k - 1) } else { 0.0 };
+            x = p.abs() + q.abs() + r.abs();
+            if x != 0.0 {
+                p /= x;
+                q /= x;
+                r /= x;
+            }
+        }
+        let s = (p * p + q * q + r * r).sqrt().copysign(p);
+        if s != 0.0 {
+            if k == m {
+                if l != m {
+                    a!(h, k, k - 1) = -a!(h, k, k - 1);
+                }
+            } else {
+                a!(h, k, k - 1) = -s * x;
+            }
+            p += s;
+            let (xs, ys, zs) = (p / s, q / s, r / s);
+            q /= p;
+            r /= p;
+            for j in k..=nn {
+                let mut pp = a!(h, k, j) + q * a!(h, k + 1, j);
+                if k != nn - 1 {
+                    pp += r * a!(h, k + 2, j);
+                    a!(h, k + 2, j) -= pp * zs;
+                }
+                a!(h, k + 1, j) -= pp * ys;
+                a!(h, k, j) -= pp * xs;
+            }
+            let mmin = if nn < k + 3 { nn } else { k + 3 };
+            for i in l..=mmin {
+                let mut pp = xs * a!(h, i, k) + ys * a!(h, i, k + 1);
+                if k != nn - 1 {
+                    pp += zs * a!(h, i, k + 2);
+                    a!(h, i, k + 2) -= pp * r;
+                }
+                a!(h, i, k + 1) -= pp * q;
+                a!(h, i, k) -= pp;
+            }
+        }
+        k += 1;
+    }
 }
 
 #[cfg(test)]
