@@ -276,7 +276,8 @@ pub(crate) fn render_controller(doc: &Document, page: &mut PageState, c: Option<
         }
         return Ok(());
     };
-    let key = hash_of(&(&c.law, &c.domain, &c.sample_rate, &c.delay_gain, &c.tracking, &c.tracking_note, &c.discrete_plant, &c.observer));
+    // The whole report is the key of both blocks: a field added to it can never be missed.
+    let key = hash_of(c);
     if !page.unchanged(ids::CONTROLLER, key) {
         set_hidden_id(doc, ids::CONTROLLER, false)?;
         set_text(doc, ids::CONTROLLER_DOMAIN, &c.domain)?;
@@ -308,7 +309,6 @@ pub(crate) fn render_controller(doc: &Document, page: &mut PageState, c: Option<
             None => set_hidden_id(doc, ids::OBSERVER, true)?,
         }
     }
-    let key = hash_of(&(&c.loop_summary, &c.loop_outputs, &c.loop_inputs, &c.estimation));
     if !page.unchanged(ids::LOOP_SECTION, key) {
         set_hidden_id(doc, ids::LOOP_SECTION, c.loop_summary.is_none())?;
         set_text(doc, ids::LOOP_SUMMARY, c.loop_summary.as_deref().unwrap_or(""))?;

@@ -116,8 +116,9 @@ pub struct ObserverReport {
     pub noise: String,
 }
 
-/// The parts beyond a plain gain (design file version 2), when any was asked for.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// The parts beyond a plain gain (design file version 2), when any was asked for. `Hash`
+/// fingerprints the whole report: the page redraws its blocks when anything in it changed.
+#[derive(Debug, Clone, PartialEq, Hash, Serialize)]
 pub struct ControllerReport {
     /// The control law, one equation per line.
     pub law: Vec<String>,

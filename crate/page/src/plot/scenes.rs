@@ -206,6 +206,14 @@ pub struct EventLine {
     pub label: String,
 }
 
+/// By the time's bits (so that reports holding events can be fingerprinted whole).
+impl std::hash::Hash for EventLine {
+    fn hash<H: std::hash::Hasher>(&self, state: &mut H) {
+        self.time.to_bits().hash(state);
+        self.label.hash(state);
+    }
+}
+
 /// A horizontal limit line (e.g. an actuator limit).
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(default, deny_unknown_fields)]
