@@ -36,7 +36,7 @@ fn exit_class(r: &Result<design::DesignResult, DesignError>) -> i32 {
 }
 
 fn warning_codes(r: &design::DesignResult) -> Vec<&'static str> {
-    r.warnings.iter().map(|w| w.code).collect()
+    r.warnings.iter().map(|w| w.code.as_str()).collect()
 }
 
 /// The file door and the form door of one document agree exactly.

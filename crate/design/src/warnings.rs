@@ -1,21 +1,39 @@
-//! Design warnings: a stable code for scripts and a plain sentence for people.
+//! Design warnings: one enum of every warning the run can raise, each with a stable code for
+//! scripts, a severity and a plain sentence for people. The page and the CLI show exactly these.
 //!
-//! | code | when |
-//! |---|---|
-//! | `requested-pole-unstable` | a requested pole has a positive real part |
-//! | `requested-pole-on-axis` | a requested pole lies on the imaginary axis (within the analysis tolerance) |
-//! | `fragile-design` | `κ₂(D⁻¹X)` in balanced coordinates (independent of the state units) above [`WarningParams::fragile_condition`] (default 1e4): small model errors move the poles far |
-//! | `fast-pole` | a requested pole more than [`WarningParams::fast_pole_ratio`] (default 20) times faster than the plant's own dynamics (`‖A‖₂`): expect large gains and noise amplification |
-//! | `input-over-limit` | the commanded input from the initial state exceeds its actuator limit |
-//! | `weakly-controllable` | an open-loop mode with a PBH margin below the weak threshold (default 1e-6) |
-//! | `weakly-observable` | the same for observability |
-//! | `uncontrollable-modes` | the plant is stabilisable but not controllable: fixed modes stay put |
-//! | `dependent-inputs` | `B` has dependent columns (rank < inputs) |
-//! | `placement-inaccurate` | achieved poles differ from the request by more than 1e-6 (relative) |
-//! | `not-settled` | a state has not settled within the simulated horizon |
-//! | `simulation-diverged` | the simulated state grew without bound |
-//! | `analysis-inconsistent` | the staircase and PBH tests disagree (borderline controllability) |
-//! | `not-converged` | the eigenvector optimisation stopped at its sweep limit |
+//! | code | severity | when |
+//! |---|---|---|
+//! | `requested-pole-unstable` | danger | a requested pole is unstable (right half-plane, or outside the unit circle) |
+//! | `requested-pole-on-axis` | caution | a requested pole is marginal (imaginary axis, or unit circle, within the analysis tolerance) |
+//! | `fast-pole` | caution | a requested pole more than [`WarningParams::fast_pole_ratio`] (default 20) times faster than the plant's own dynamics (`‖A‖₂`): expect large gains and noise amplification |
+//! | `fragile-design` | caution | `κ₂(D⁻¹X)` in balanced coordinates (independent of the state units) above [`WarningParams::fragile_condition`] (default 1e4): small model errors move the poles far |
+//! | `placement-inaccurate` | danger | achieved poles differ from the request by more than 1e-6 (relative) |
+//! | `not-converged` | note | the eigenvector optimisation stopped at its sweep limit |
+//! | `dependent-inputs` | note | `B` has dependent columns (rank < inputs) |
+//! | `uncontrollable-modes` | caution | the plant is stabilisable but not controllable: fixed modes stay put |
+//! | `weakly-controllable` | caution | an open-loop mode with a PBH margin below the weak threshold (default 1e-6) |
+//! | `weakly-observable` | caution | the same for observability |
+//! | `analysis-inconsistent` | caution | the staircase and PBH tests disagree (borderline controllability) |
+//! | `input-over-limit` | caution | the commanded input from the initial state exceeds its actuator limit |
+//! | `not-settled` | caution | a state has not settled within the simulated horizon |
+//! | `simulation-diverged` | danger | the simulated state grew without bound |
+//! | `sample-rate-too-slow` | caution | fewer than 10 samples per closed-loop bandwidth period |
+//! | `observer-inaccurate` | danger | the observer poles are achieved to worse than 1e-6 (relative) |
+//! | `fragile-observer` | caution | the observer's eigenvector condition number is above 1e4 |
+//! | `loop-input-over-limit` | caution | in the loop simulation an input is commanded beyond its limit (and saturates) |
+//! | `observer-slow` | caution | the observer speed factor is below 2 (common practice: 2–6) |
+//! | `observer-fast` | caution | the observer speed factor is above 6: more measurement noise reaches the inputs |
+//! | `loop-not-settled` | caution | a tracked output does not settle before the loop simulation ends or the load step comes |
+//! | `loop-diverged` | danger | the whole loop (controller with the plant) grew without bound |
+//! | `separation-failed` | danger | the loop with observer does not have the controller and observer poles (to 1e-6) |
+//! | `pole-outside-region` | caution | closed-loop poles lie outside the specification's region |
+//! | `repeated-poles` | caution | the binomial pattern repeats one pole beyond rank B |
+//! | `search-not-monotonic` | note | the peak input did not grow steadily with the speed-up: the factor found is one crossing |
+//! | `search-range-limit` | note | the inputs stay within their limits even at the largest factor tried |
+//!
+//! Severity: *danger*, the loop as designed may be unstable or not what the numbers say;
+//! *caution*, the design works but something deserves a look before it goes on a machine;
+//! *note*, for information.
 
 use serde::Serialize;
 
@@ -36,17 +54,151 @@ impl Default for WarningParams {
     }
 }
 
+/// How much a warning matters.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Severity {
+    Note,
+    Caution,
+    Danger,
+}
+
+/// Every warning of a design; serialised by its code (`"input-over-limit"`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum WarningCode {
+    /// A requested pole is unstable (right half-plane, or outside the unit circle).
+    RequestedPoleUnstable,
+    /// A requested pole is marginal (imaginary axis, or unit circle, within the analysis tolerance).
+    RequestedPoleOnAxis,
+    /// A requested pole more than [`WarningParams::fast_pole_ratio`] (default 20) times faster than the plant's own dynamics (`‖A‖₂`): expect large gains and noise amplification.
+    FastPole,
+    /// `κ₂(D⁻¹X)` in balanced coordinates (independent of the state units) above [`WarningParams::fragile_condition`] (default 1e4): small model errors move the poles far.
+    FragileDesign,
+    /// Achieved poles differ from the request by more than 1e-6 (relative).
+    PlacementInaccurate,
+    /// The eigenvector optimisation stopped at its sweep limit.
+    NotConverged,
+    /// `B` has dependent columns (rank < inputs).
+    DependentInputs,
+    /// The plant is stabilisable but not controllable: fixed modes stay put.
+    UncontrollableModes,
+    /// An open-loop mode with a PBH margin below the weak threshold (default 1e-6).
+    WeaklyControllable,
+    /// The same for observability.
+    WeaklyObservable,
+    /// The staircase and PBH tests disagree (borderline controllability).
+    AnalysisInconsistent,
+    /// The commanded input from the initial state exceeds its actuator limit.
+    InputOverLimit,
+    /// A state has not settled within the simulated horizon.
+    NotSettled,
+    /// The simulated state grew without bound.
+    SimulationDiverged,
+    /// Fewer than 10 samples per closed-loop bandwidth period.
+    SampleRateTooSlow,
+    /// The observer poles are achieved to worse than 1e-6 (relative).
+    ObserverInaccurate,
+    /// The observer's eigenvector condition number is above 1e4.
+    FragileObserver,
+    /// In the loop simulation an input is commanded beyond its limit (and saturates).
+    LoopInputOverLimit,
+    /// The observer speed factor is below 2 (common practice: 2–6).
+    ObserverSlow,
+    /// The observer speed factor is above 6: more measurement noise reaches the inputs.
+    ObserverFast,
+    /// A tracked output does not settle before the loop simulation ends or the load step comes.
+    LoopNotSettled,
+    /// The whole loop (controller with the plant) grew without bound.
+    LoopDiverged,
+    /// The loop with observer does not have the controller and observer poles (to 1e-6).
+    SeparationFailed,
+    /// Closed-loop poles lie outside the specification's region.
+    PoleOutsideRegion,
+    /// The binomial pattern repeats one pole beyond rank B.
+    RepeatedPoles,
+    /// The peak input did not grow steadily with the speed-up: the factor found is one crossing.
+    SearchNotMonotonic,
+    /// The inputs stay within their limits even at the largest factor tried.
+    SearchRangeLimit,
+}
+
+impl WarningCode {
+    /// Every code, in the table's order.
+    pub const ALL: [WarningCode; 27] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit];
+
+    /// The stable code, as serialised.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            WarningCode::RequestedPoleUnstable => "requested-pole-unstable",
+            WarningCode::RequestedPoleOnAxis => "requested-pole-on-axis",
+            WarningCode::FastPole => "fast-pole",
+            WarningCode::FragileDesign => "fragile-design",
+            WarningCode::PlacementInaccurate => "placement-inaccurate",
+            WarningCode::NotConverged => "not-converged",
+            WarningCode::DependentInputs => "dependent-inputs",
+            WarningCode::UncontrollableModes => "uncontrollable-modes",
+            WarningCode::WeaklyControllable => "weakly-controllable",
+            WarningCode::WeaklyObservable => "weakly-observable",
+            WarningCode::AnalysisInconsistent => "analysis-inconsistent",
+            WarningCode::InputOverLimit => "input-over-limit",
+            WarningCode::NotSettled => "not-settled",
+            WarningCode::SimulationDiverged => "simulation-diverged",
+            WarningCode::SampleRateTooSlow => "sample-rate-too-slow",
+            WarningCode::ObserverInaccurate => "observer-inaccurate",
+            WarningCode::FragileObserver => "fragile-observer",
+            WarningCode::LoopInputOverLimit => "loop-input-over-limit",
+            WarningCode::ObserverSlow => "observer-slow",
+            WarningCode::ObserverFast => "observer-fast",
+            WarningCode::LoopNotSettled => "loop-not-settled",
+            WarningCode::LoopDiverged => "loop-diverged",
+            WarningCode::SeparationFailed => "separation-failed",
+            WarningCode::PoleOutsideRegion => "pole-outside-region",
+            WarningCode::RepeatedPoles => "repeated-poles",
+            WarningCode::SearchNotMonotonic => "search-not-monotonic",
+            WarningCode::SearchRangeLimit => "search-range-limit",
+        }
+    }
+
+    /// How much it matters.
+    pub fn severity(self) -> Severity {
+        match self {
+            WarningCode::RequestedPoleUnstable | WarningCode::PlacementInaccurate | WarningCode::SimulationDiverged | WarningCode::ObserverInaccurate | WarningCode::LoopDiverged | WarningCode::SeparationFailed => Severity::Danger,
+            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles => Severity::Caution,
+            WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit => Severity::Note,
+        }
+    }
+}
+
+impl std::fmt::Display for WarningCode {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.as_str())
+    }
+}
+
+/// Compare with a code as written (`w.code == "input-over-limit"`).
+impl PartialEq<&str> for WarningCode {
+    fn eq(&self, other: &&str) -> bool {
+        self.as_str() == *other
+    }
+}
+
 /// One warning.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Warning {
     /// Stable, machine-readable code (see the module table).
-    pub code: &'static str,
+    pub code: WarningCode,
+    pub severity: Severity,
     /// A plain sentence.
     pub message: String,
 }
 
 impl Warning {
-    pub fn new(code: &'static str, message: impl Into<String>) -> Self {
-        Warning { code, message: message.into() }
+    pub fn new(code: WarningCode, message: impl Into<String>) -> Self {
+        Warning { code, severity: code.severity(), message: message.into() }
     }
 }
+
+#[cfg(test)]
+#[path = "tests/warnings.rs"]
+mod tests;

@@ -17,7 +17,7 @@ use crate::loop_sim::{LoopController, LoopError, LoopResponse, LoopScenario, Noi
 use crate::metrics;
 use crate::plant::Plant;
 use crate::simulate::{closed_loop_response, default_horizon, SimulationParams, SimulationSpec};
-use crate::warnings::Warning;
+use crate::warnings::{Warning, WarningCode};
 
 /// Most points kept per signal in the result.
 const KEPT_POINTS: usize = 1000;
@@ -113,7 +113,7 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
     for i in 0..m {
         if let Some(l) = h.limits[i].filter(|l| peak_input[i] > *l) {
             warnings.push(Warning::new(
-                "input-over-limit",
+                WarningCode::InputOverLimit,
                 format!(
                     "Input {} ({}) would need {} from this initial state but its limit is {}: it saturates from t = {} s for {} s in all. Slow the poles down or reduce the initial deviation.",
                     i + 1,
@@ -127,11 +127,11 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
         }
     }
     if resp.diverged {
-        warnings.push(Warning::new("simulation-diverged", "The simulated closed loop grew without bound and the run was stopped."));
+        warnings.push(Warning::new(WarningCode::SimulationDiverged, "The simulated closed loop grew without bound and the run was stopped."));
     } else {
         for (i, _) in settling.iter().enumerate().filter(|(_, st)| st.is_none()) {
             warnings.push(Warning::new(
-                "not-settled",
+                WarningCode::NotSettled,
                 format!("State {} ({}) has not settled to within {} % by the end of the {} s simulation.", i + 1, s.plant.state_names()[i], fmt_num(band * 100.0), fmt_num(resp.duration)),
             ));
         }
@@ -254,7 +254,7 @@ fn input_metrics(s: &Setup, lr: &LoopResponse, h: &Horizon, warnings: &mut Vec<W
         if let Some(l) = im.limit {
             if im.peak_command > l && !warnings.iter().any(|w| w.code == "input-over-limit" && w.message.contains(&im.name)) {
                 warnings.push(Warning::new(
-                    "loop-input-over-limit",
+                    WarningCode::LoopInputOverLimit,
                     format!("In the loop simulation, {} is commanded up to {} against its limit {} and saturates for {} s.", im.name, fmt_num(im.peak_command), fmt_num(l), fmt_num(im.time_saturated)),
                 ));
             }

@@ -10,7 +10,7 @@ use crate::controller::SampleRateAdvice;
 use crate::result::LoopResult;
 use crate::{fmt_num, ControllerSpec, ObserverPoles, PoleChoiceMethod};
 use crate::poles::format_complex;
-use crate::warnings::{Warning, WarningParams};
+use crate::warnings::{Warning, WarningCode, WarningParams};
 
 /// The usual observer speed factor (common practice): 2–6 times the controller poles.
 pub const OBSERVER_SPEED_RULE: (f64, f64) = (2.0, 6.0);
@@ -42,15 +42,15 @@ pub(super) fn requested_pole_warnings(s: &Setup, pair: &DesignPair, anorm: f64) 
             Domain::Discrete => (" z-plane", ["lies outside the unit circle: the digital loop will be unstable", "lies on the unit circle: the digital loop will not settle (marginal stability)"]),
         };
         if !domain.is_strictly_stable(*z, -axis_tol) && !domain.is_marginal(*z, axis_tol) {
-            out.push(Warning::new("requested-pole-unstable", format!("The requested{plane} pole {} {}.", shown(z), what[0])));
+            out.push(Warning::new(WarningCode::RequestedPoleUnstable, format!("The requested{plane} pole {} {}.", shown(z), what[0])));
         } else if domain.is_marginal(*z, axis_tol) {
-            out.push(Warning::new("requested-pole-on-axis", format!("The requested{plane} pole {} {}.", shown(z), what[1])));
+            out.push(Warning::new(WarningCode::RequestedPoleOnAxis, format!("The requested{plane} pole {} {}.", shown(z), what[1])));
         }
     }
     for z in s.to_s(&pair.base_poles).iter().filter(|z| z.im >= 0.0) {
         if s.spec.plant_sample_time.is_none() && anorm > 0.0 && z.norm() > wp.fast_pole_ratio * anorm {
             out.push(Warning::new(
-                "fast-pole",
+                WarningCode::FastPole,
                 format!(
                     "The requested pole {} is {:.0} times faster than the plant's own dynamics (‖A‖ = {}): expect large gains, actuator saturation and amplified measurement noise.",
                     shown(z),
@@ -70,7 +70,7 @@ pub(super) fn placement_warnings(s: &Setup, g: &Gains, an: &Analysis) -> Vec<War
     // Judged in balanced coordinates, so that the units of the states do not decide it.
     if !(p.balanced_eigenvector_condition <= wp.fragile_condition) {
         out.push(Warning::new(
-            "fragile-design",
+            WarningCode::FragileDesign,
             format!(
                 "The closed-loop eigenvector condition number is {} in balanced coordinates ({} as the states are scaled; above {}): small errors in the plant model or the gain can move the poles far from where they were placed. Spread clustered poles apart or move them closer to the open-loop poles.",
                 fmt_num(p.balanced_eigenvector_condition),
@@ -80,29 +80,29 @@ pub(super) fn placement_warnings(s: &Setup, g: &Gains, an: &Analysis) -> Vec<War
         ));
     }
     if p.max_pole_error > wp.inaccurate_placement {
-        out.push(Warning::new("placement-inaccurate", format!("The achieved poles differ from the requested ones by up to {} (relative): the problem is numerically ill conditioned.", fmt_num(p.max_pole_error))));
+        out.push(Warning::new(WarningCode::PlacementInaccurate, format!("The achieved poles differ from the requested ones by up to {} (relative): the problem is numerically ill conditioned.", fmt_num(p.max_pole_error))));
     }
     if !p.converged {
-        out.push(Warning::new("not-converged", "The eigenvector optimisation stopped at its sweep limit; the gain is valid but its robustness may not be the best available."));
+        out.push(Warning::new(WarningCode::NotConverged, "The eigenvector optimisation stopped at its sweep limit; the gain is valid but its robustness may not be the best available."));
     }
     if p.input_rank < m {
-        out.push(Warning::new("dependent-inputs", format!("B has rank {} but {m} columns: some inputs act in the same directions; the gain shown is the smallest-norm one.", p.input_rank)));
+        out.push(Warning::new(WarningCode::DependentInputs, format!("B has rank {} but {m} columns: some inputs act in the same directions; the gain shown is the smallest-norm one.", p.input_rank)));
     }
     if !an.ctrb.is_complete() {
         let not_assigned = if p.not_assigned.is_empty() { String::new() } else { format!("; the requested pole(s) {} were not assigned", crate::poles::format_pole_list(&p.not_assigned)) };
         out.push(Warning::new(
-            "uncontrollable-modes",
+            WarningCode::UncontrollableModes,
             format!("The plant is not controllable: {} mode(s) at {} cannot be moved by feedback and stay where they are{not_assigned}.", an.ctrb.hidden_modes.len(), crate::poles::format_pole_list(&an.ctrb.hidden_modes)),
         ));
     }
     for md in an.ctrb.modes.iter().filter(|md| md.verdict == ModeVerdict::Weak) {
-        out.push(Warning::new("weakly-controllable", format!("The mode at {} is only weakly controllable (margin {}): moving it needs large inputs.", format_complex(md.pole), fmt_num(md.margin))));
+        out.push(Warning::new(WarningCode::WeaklyControllable, format!("The mode at {} is only weakly controllable (margin {}): moving it needs large inputs.", format_complex(md.pole), fmt_num(md.margin))));
     }
     for md in an.obsv.iter().flat_map(|o| o.modes.iter()).filter(|md| md.verdict == ModeVerdict::Weak) {
-        out.push(Warning::new("weakly-observable", format!("The mode at {} is only weakly observable from the outputs (margin {}).", format_complex(md.pole), fmt_num(md.margin))));
+        out.push(Warning::new(WarningCode::WeaklyObservable, format!("The mode at {} is only weakly observable from the outputs (margin {}).", format_complex(md.pole), fmt_num(md.margin))));
     }
     if !an.ctrb.consistent || an.obsv.as_ref().is_some_and(|o| !o.consistent) {
-        out.push(Warning::new("analysis-inconsistent", "The staircase and the per-mode (PBH) tests disagree: the plant is on the borderline of losing controllability or observability; treat the verdicts with care."));
+        out.push(Warning::new(WarningCode::AnalysisInconsistent, "The staircase and the per-mode (PBH) tests disagree: the plant is on the borderline of losing controllability or observability; treat the verdicts with care."));
     }
     out
 }
@@ -112,14 +112,14 @@ pub(super) fn controller_warnings(g: &Gains, advice: Option<&SampleRateAdvice>) 
     let wp = WarningParams::default();
     let mut out = Vec::new();
     if let Some(a) = advice.filter(|a| a.verdict == crate::controller::SampleRateVerdict::TooSlow) {
-        out.push(Warning::new("sample-rate-too-slow", a.message.clone()));
+        out.push(Warning::new(WarningCode::SampleRateTooSlow, a.message.clone()));
     }
     if let Some((od, _, _)) = &g.observer {
         if od.placement.max_pole_error > wp.inaccurate_placement {
-            out.push(Warning::new("observer-inaccurate", format!("The observer poles are achieved only to within {} (relative).", fmt_num(od.placement.max_pole_error))));
+            out.push(Warning::new(WarningCode::ObserverInaccurate, format!("The observer poles are achieved only to within {} (relative).", fmt_num(od.placement.max_pole_error))));
         }
         if !(od.placement.eigenvector_condition <= wp.fragile_condition) {
-            out.push(Warning::new("fragile-observer", format!("The observer's eigenvector condition number is {}: its poles are sensitive to model errors.", fmt_num(od.placement.eigenvector_condition))));
+            out.push(Warning::new(WarningCode::FragileObserver, format!("The observer's eigenvector condition number is {}: its poles are sensitive to model errors.", fmt_num(od.placement.eigenvector_condition))));
         }
     }
     out
@@ -130,9 +130,9 @@ pub(super) fn observer_speed_warning(spec: &ControllerSpec) -> Option<Warning> {
     let Some(ObserverPoles::SpeedFactor(f)) = spec.observer.as_ref().map(|o| &o.poles) else { return None };
     let (lo, hi) = OBSERVER_SPEED_RULE;
     if *f < lo {
-        Some(Warning::new("observer-slow", format!("The observer poles are only {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): with a slow observer the estimation error shapes the response.", fmt_num(*f))))
+        Some(Warning::new(WarningCode::ObserverSlow, format!("The observer poles are only {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): with a slow observer the estimation error shapes the response.", fmt_num(*f))))
     } else if *f > hi {
-        Some(Warning::new("observer-fast", format!("The observer poles are {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): a much faster observer passes more measurement noise to the inputs.", fmt_num(*f))))
+        Some(Warning::new(WarningCode::ObserverFast, format!("The observer poles are {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): a much faster observer passes more measurement noise to the inputs.", fmt_num(*f))))
     } else {
         None
     }
@@ -144,7 +144,7 @@ pub(super) fn loop_warnings(l: &LoopResult, band: f64) -> Vec<Warning> {
     let mut out = Vec::new();
     for tm in l.tracked.iter().filter(|tm| tm.settling_time.is_none() && !l.diverged) {
         out.push(Warning::new(
-            "loop-not-settled",
+            WarningCode::LoopNotSettled,
             format!(
                 "In the loop simulation, {} does not settle within ±{} % of its reference step before the simulation ends ({} s) or the load step comes: lengthen the simulated time, or make the controller faster.",
                 tm.name,
@@ -154,10 +154,10 @@ pub(super) fn loop_warnings(l: &LoopResult, band: f64) -> Vec<Warning> {
         ));
     }
     if l.diverged {
-        out.push(Warning::new("loop-diverged", "The loop simulation (the whole controller with the plant) grew without bound and was stopped: this controller does not stabilise the plant as simulated."));
+        out.push(Warning::new(WarningCode::LoopDiverged, "The loop simulation (the whole controller with the plant) grew without bound and was stopped: this controller does not stabilise the plant as simulated."));
     }
     if let Some(e) = l.separation_error.filter(|e| !(*e <= 1e-6)) {
-        out.push(Warning::new("separation-failed", format!("The eigenvalues of the loop with observer differ from the controller and observer poles by up to {} (relative): the separation check failed; treat the design with care.", fmt_num(e))));
+        out.push(Warning::new(WarningCode::SeparationFailed, format!("The eigenvalues of the loop with observer differ from the controller and observer poles by up to {} (relative): the separation check failed; treat the design with care.", fmt_num(e))));
     }
     out
 }
@@ -175,7 +175,7 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
             let slowed = pair.search.as_ref().is_some_and(|r| r.speed_factor < 1.0);
             let each: Vec<String> = violations.iter().map(|v| format!("{}: {v}", format_complex(v.pole))).collect();
             out.push(Warning::new(
-                "pole-outside-region",
+                WarningCode::PoleOutsideRegion,
                 format!(
                     "{} outside the region of the specification (ζ ≥ {}, σ ≥ {} 1/s): the response may not meet the specification{}. {}.",
                     crate::check::plural(outside.len(), "closed-loop pole lies", "closed-loop poles lie"),
@@ -188,14 +188,14 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
         }
     }
     if choice.is_some_and(|c| c.method == PoleChoiceMethod::Binomial && g.placement.input_rank < c.poles.len()) {
-        out.push(Warning::new("repeated-poles", "The binomial pattern repeats one pole: repeated poles are sensitive to model errors, and with several inputs at most rank(B) copies can be placed."));
+        out.push(Warning::new(WarningCode::RepeatedPoles, "The binomial pattern repeats one pole: repeated poles are sensitive to model errors, and with several inputs at most rank(B) copies can be placed."));
     }
     if let Some(r) = &pair.search {
         if !r.monotonic {
-            out.push(Warning::new("search-not-monotonic", "The peak input did not grow steadily with the speed-up over the searched range: the factor found is one crossing of the limit, not necessarily the only one; check the samples."));
+            out.push(Warning::new(WarningCode::SearchNotMonotonic, "The peak input did not grow steadily with the speed-up over the searched range: the factor found is one crossing of the limit, not necessarily the only one; check the samples."));
         }
         if r.limited_by_range {
-            out.push(Warning::new("search-range-limit", format!("The inputs stay within their limits even at the largest factor tried ({}): the actuators are not what limits this design; noise, model accuracy and sampling are.", fmt_num(r.speed_factor))));
+            out.push(Warning::new(WarningCode::SearchRangeLimit, format!("The inputs stay within their limits even at the largest factor tried ({}): the actuators are not what limits this design; noise, model accuracy and sampling are.", fmt_num(r.speed_factor))));
         }
     }
     out
