@@ -43,7 +43,11 @@ async function checkSaveOpen(url) {
     assert.equal(doc.format, 'polewright.design');
     assert.equal(doc.version, 3);
     assert.equal(doc.title, 'Illustrative carriage, review copy');
-    // Another design replaces it; opening the saved file brings every field back.
+    // A reload (nothing remembered) brings the first demonstration back; then another design
+    // replaces it; opening the saved file brings every field back.
+    await page.reload();
+    await waitDesigned(page);
+    assert.equal((await fieldValues(page)).title, '', 'nothing was stored');
     await page.selectOption('#pw-demo', '1');
     await page.click('#pw-load-demo');
     assert.notDeepEqual(await fieldValues(page), before);

@@ -1,7 +1,7 @@
 //! Typed paths of the design document's fields.
 //!
 //! Every input error carries a [`FieldPath`]: the page maps it to its control through one table
-//! (`form::FORM_KEYS`), the CLI prints its dotted name (`plant.a`, `feedback.poles`). The dotted
+//! (the `paths` of the form-field table, `form/fields.rs` in the page crate), the CLI prints its dotted name (`plant.a`, `feedback.poles`). The dotted
 //! names are the design file's own keys, so a message always points at text the user can find.
 
 use serde::{Serialize, Serializer};

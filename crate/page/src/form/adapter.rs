@@ -1,7 +1,7 @@
 //! The page form as a syntax adapter of the design document: its text fields become a
 //! [`DesignSpec`] (what was typed is kept as text) and a document becomes text fields again.
-//! No design rule lives here: every rule is [`crate::design::check`]'s. The one table
-//! [`FORM_KEYS`] maps each [`FieldPath`] to the page control that shows it.
+//! No design rule lives here: every rule is [`crate::design::check`]'s. The
+//! field table (`fields.rs`) says which [`FieldPath`]s each control shows.
 
 use num_complex::Complex64;
 
@@ -10,79 +10,11 @@ use crate::design::spec::*;
 use crate::design::FieldPath as P;
 use crate::poles::format_complex;
 
-/// Which form field shows each path (several paths may share a control).
-pub const FORM_KEYS: &[(P, &str)] = &[
-    (P::Title, "title"),
-    (P::Notes, "notes"),
-    (P::PlantA, "a"),
-    (P::PlantB, "b"),
-    (P::PlantC, "c"),
-    (P::PlantD, "d"),
-    (P::PlantStateNames, "state_names"),
-    (P::PlantStateUnits, "state_units"),
-    (P::PlantInputNames, "input_names"),
-    (P::PlantInputUnits, "input_units"),
-    (P::PlantOutputNames, "output_names"),
-    (P::PlantOutputUnits, "output_units"),
-    (P::Feedback, "pole_source"),
-    (P::FeedbackPoles, "poles"),
-    (P::FeedbackPlane, "plane"),
-    (P::Pattern, "pattern_family"),
-    (P::PatternFamily, "pattern_family"),
-    (P::PatternBandwidth, "pattern_family"),
-    (P::PatternNormalisation, "pattern_normalisation"),
-    (P::PatternSettlingTime, "pattern_settling_time"),
-    (P::PatternBand, "settling_band"),
-    (P::Spec, "pole_source"),
-    (P::SpecBandwidth, "pole_source"),
-    (P::SpecOvershoot, "spec_overshoot"),
-    (P::SpecSettlingTime, "spec_settling_time"),
-    (P::SpecRiseTime, "spec_rise_time"),
-    (P::SpecBand, "settling_band"),
-    (P::Lqr, "lqr_max_state"),
-    (P::LqrQ, "lqr_max_state"),
-    (P::LqrBryson, "lqr_max_state"),
-    (P::LqrMaxState, "lqr_max_state"),
-    (P::LqrR, "lqr_max_input"),
-    (P::LqrMaxInput, "lqr_max_input"),
-    (P::Search, "search"),
-    (P::SearchFastest, "search"),
-    (P::SearchSituations, "search"),
-    (P::Actuators, "limits"),
-    (P::ActuatorLimits, "limits"),
-    (P::Simulation, "duration"),
-    (P::InitialState, "initial_state"),
-    (P::Duration, "duration"),
-    (P::Band, "settling_band"),
-    (P::Reference, "reference"),
-    (P::ReferenceTime, "reference_time"),
-    (P::Disturbance, "disturbance"),
-    (P::DisturbanceTime, "disturbance_time"),
-    (P::NoiseStd, "noise_std"),
-    (P::Seed, "seed"),
-    (P::Observer, "observer"),
-    (P::ObserverPoles, "observer_poles"),
-    (P::ObserverSpeedFactor, "observer_speed"),
-    (P::ObserverForm, "observer_form"),
-    (P::Tracking, "tracking"),
-    (P::TrackingMode, "tracking"),
-    (P::TrackedOutputs, "tracked_outputs"),
-    (P::IntegralPoles, "integral_poles"),
-    (P::AntiWindup, "anti_windup"),
-    (P::AntiWindupMode, "anti_windup"),
-    (P::AntiWindupTime, "anti_windup_time"),
-    (P::Implementation, "sample_time"),
-    (P::SampleTime, "sample_time"),
-    (P::Method, "sample_time"),
-    (P::ComputationDelay, "computation_delay"),
-    (P::DelayPoles, "delay_poles"),
-];
-
-/// The form field that shows `path`, if the page has one.
+/// The form field that shows `path`, if the page has one (the field table's `paths`).
 pub fn form_key(path: P) -> Option<&'static str> {
     match path {
         P::SearchSituation(_) => Some("search"),
-        p => FORM_KEYS.iter().find(|(k, _)| *k == p).map(|(_, f)| *f),
+        p => FormInput::FIELDS.iter().copied().find(|k| FormInput::paths(k).contains(&p)),
     }
 }
 

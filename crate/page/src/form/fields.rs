@@ -1,12 +1,15 @@
 //! The page form's fields: one table gives each field its key (the control's id is
-//! `pw-<key>`), its label in messages and, for a choice, its allowed values (the first is what
-//! a blank field means). The struct, the key list, the lookups and the labels all come from
+//! `pw-<key>`), its label in messages, for a choice its allowed values (the first is what a
+//! blank field means), and the paths of the design document it shows (so that an input error
+//! of the rulebook finds its control). The struct, the key list, the lookups and the labels all come from
 //! this one table, so a field is added in one place.
 
 use serde::{Deserialize, Serialize};
 
+use crate::design::FieldPath;
+
 macro_rules! form_fields {
-    ($( $(#[$doc:meta])* $key:ident => $label:literal $([$($choice:literal),+])? ),* $(,)?) => {
+    ($( $(#[$doc:meta])* $key:ident => $label:literal $([$($choice:literal),+])? @ [$($path:ident),*] ),* $(,)?) => {
         /// The form's fields, as typed. Every field may be omitted (it is then blank).
         #[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
         #[serde(default, deny_unknown_fields)]
@@ -43,6 +46,14 @@ macro_rules! form_fields {
                 }
             }
 
+            /// The paths of the design document this field shows (its errors come here).
+            pub fn paths(key: &str) -> &'static [FieldPath] {
+                match key {
+                    $( stringify!($key) => &[$(FieldPath::$path),*], )*
+                    _ => &[],
+                }
+            }
+
             /// The allowed values of a choice field (the first is what blank means); `None`
             /// for a text field or an unknown key.
             pub fn choices(key: &str) -> Option<&'static [&'static str]> {
@@ -57,53 +68,53 @@ macro_rules! form_fields {
 
 form_fields! {
     /// The design's title (saved in the document; no effect on the numbers).
-    title => "title",
+    title => "title" @ [Title],
     /// Free-text notes (saved in the document).
-    notes => "notes",
-    a => "A",
-    b => "B",
-    state_names => "state names",
-    state_units => "state units",
-    input_names => "input names",
-    input_units => "input units",
-    c => "C",
-    d => "D",
-    output_names => "output names",
-    output_units => "output units",
-    poles => "desired poles",
-    pole_source => "pole choice" ["list", "pattern", "specification", "lqr"],
-    pattern_family => "pattern" ["bessel", "butterworth", "itae", "binomial"],
-    pattern_normalisation => "Bessel normalisation" ["unit_settling_time", "unit_group_delay", "half_power_at_unit_frequency"],
-    pattern_settling_time => "pattern settling time",
-    spec_overshoot => "overshoot",
-    spec_settling_time => "settling time",
-    spec_rise_time => "rise time",
-    settling_band => "settling band" ["2", "1", "5"],
-    lqr_max_state => "state excursions",
-    lqr_max_input => "input excursions",
-    search => "fastest-design search" ["false", "true"],
-    limits => "actuator limits",
-    initial_state => "initial state",
-    duration => "simulated time",
-    observer => "observer" ["none", "poles", "speed_factor"],
-    observer_poles => "observer poles",
-    observer_speed => "observer speed factor",
-    observer_form => "observer form" ["predictor", "current"],
-    tracking => "tracking" ["none", "feedforward", "integral"],
-    tracked_outputs => "tracked outputs",
-    integral_poles => "integrator poles",
-    anti_windup => "anti-windup" ["none", "clamp", "back_calculation"],
-    anti_windup_time => "anti-windup time constant",
-    sample_time => "sample time",
-    computation_delay => "computation delay" ["false", "true"],
-    delay_poles => "delay poles",
-    plane => "pole plane" ["s", "z"],
-    reference => "reference",
-    reference_time => "reference step time",
-    disturbance => "load disturbance",
-    disturbance_time => "load step time",
-    noise_std => "measurement noise",
-    seed => "noise seed",
+    notes => "notes" @ [Notes],
+    a => "A" @ [PlantA],
+    b => "B" @ [PlantB],
+    state_names => "state names" @ [PlantStateNames],
+    state_units => "state units" @ [PlantStateUnits],
+    input_names => "input names" @ [PlantInputNames],
+    input_units => "input units" @ [PlantInputUnits],
+    c => "C" @ [PlantC],
+    d => "D" @ [PlantD],
+    output_names => "output names" @ [PlantOutputNames],
+    output_units => "output units" @ [PlantOutputUnits],
+    poles => "desired poles" @ [FeedbackPoles],
+    pole_source => "pole choice" ["list", "pattern", "specification", "lqr"] @ [Feedback, Spec, SpecBandwidth],
+    pattern_family => "pattern" ["bessel", "butterworth", "itae", "binomial"] @ [Pattern, PatternFamily, PatternBandwidth],
+    pattern_normalisation => "Bessel normalisation" ["unit_settling_time", "unit_group_delay", "half_power_at_unit_frequency"] @ [PatternNormalisation],
+    pattern_settling_time => "pattern settling time" @ [PatternSettlingTime],
+    spec_overshoot => "overshoot" @ [SpecOvershoot],
+    spec_settling_time => "settling time" @ [SpecSettlingTime],
+    spec_rise_time => "rise time" @ [SpecRiseTime],
+    settling_band => "settling band" ["2", "1", "5"] @ [PatternBand, SpecBand, Band],
+    lqr_max_state => "state excursions" @ [Lqr, LqrQ, LqrBryson, LqrMaxState],
+    lqr_max_input => "input excursions" @ [LqrR, LqrMaxInput],
+    search => "fastest-design search" ["false", "true"] @ [Search, SearchFastest, SearchSituations],
+    limits => "actuator limits" @ [Actuators, ActuatorLimits],
+    initial_state => "initial state" @ [InitialState],
+    duration => "simulated time" @ [Simulation, Duration],
+    observer => "observer" ["none", "poles", "speed_factor"] @ [Observer],
+    observer_poles => "observer poles" @ [ObserverPoles],
+    observer_speed => "observer speed factor" @ [ObserverSpeedFactor],
+    observer_form => "observer form" ["predictor", "current"] @ [ObserverForm],
+    tracking => "tracking" ["none", "feedforward", "integral"] @ [Tracking, TrackingMode],
+    tracked_outputs => "tracked outputs" @ [TrackedOutputs],
+    integral_poles => "integrator poles" @ [IntegralPoles],
+    anti_windup => "anti-windup" ["none", "clamp", "back_calculation"] @ [AntiWindup, AntiWindupMode],
+    anti_windup_time => "anti-windup time constant" @ [AntiWindupTime],
+    sample_time => "sample time" @ [Implementation, SampleTime, Method],
+    computation_delay => "computation delay" ["false", "true"] @ [ComputationDelay],
+    delay_poles => "delay poles" @ [DelayPoles],
+    plane => "pole plane" ["s", "z"] @ [FeedbackPlane],
+    reference => "reference" @ [Reference],
+    reference_time => "reference step time" @ [ReferenceTime],
+    disturbance => "load disturbance" @ [Disturbance],
+    disturbance_time => "load step time" @ [DisturbanceTime],
+    noise_std => "measurement noise" @ [NoiseStd],
+    seed => "noise seed" @ [Seed],
 }
 
 impl FormInput {

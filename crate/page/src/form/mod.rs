@@ -103,7 +103,7 @@ pub mod history;
 mod choice_report;
 mod report;
 mod scenes;
-pub use adapter::{form_from_spec, form_key, spec_from_form, FORM_KEYS};
+pub use adapter::{form_from_spec, form_key, spec_from_form};
 pub use choice_report::*;
 pub use report::*;
 pub use scenes::*;

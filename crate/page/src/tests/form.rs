@@ -820,3 +820,19 @@ fn short_pole_and_character() {
     assert_eq!(pole_character(Complex64::new(0.0, 0.0)), "integrator (does not decay)");
     assert!(pole_character(Complex64::new(2.0, 0.0)).starts_with("unstable"));
 }
+
+#[test]
+fn each_document_path_has_at_most_one_control() {
+    use crate::design::FieldPath;
+    for path in FieldPath::ALL {
+        let keys: Vec<&str> = FormInput::FIELDS.iter().copied().filter(|k| FormInput::paths(k).contains(path)).collect();
+        assert!(keys.len() <= 1, "{path} is shown by {keys:?}");
+        if let Some(k) = keys.first() {
+            assert_eq!(form_key(*path), Some(*k));
+        }
+    }
+    // The fields of the plant, the poles and the digital implementation are all on the page.
+    for path in [FieldPath::PlantA, FieldPath::FeedbackPoles, FieldPath::SampleTime, FieldPath::TrackedOutputs] {
+        assert!(form_key(path).is_some(), "{path}");
+    }
+}
