@@ -48,6 +48,9 @@ fn assert_doors_agree(name: &str, spec: &DesignSpec) {
     // The page's document, written and read back, is the same document.
     let reread = read_design(&write_design(&page_spec).expect("write")).expect("read back");
     assert_eq!(reread, page_spec, "{name}: page document changed through a file");
+    // The two doors' documents say the same thing: equal canonical forms (text leaves read into
+    // plain JSON; version-1/2 comments carried into the notes).
+    assert_eq!(design::canonical(spec), design::canonical(&page_spec), "{name}: the documents differ");
     // And the page's own document shows the same form again.
     assert_eq!(form_from_spec(&page_spec).expect("form"), form, "{name}: form changed through the document");
     let outcome = evaluate_form(&form);

@@ -319,3 +319,141 @@ struct PoleSetup {
     search_notes: Vec<String>,
 }
 
+
+// ---------------------------------------------------------------------------------------------
+// The canonical document.
+
+/// The same document with every leaf that reads written as plain JSON (matrices as lists of
+/// rows, lists of numbers, real poles as numbers and complex ones as `[re, im]`, names as
+/// lists, single numbers as numbers); text that does not read is kept as it is. Two documents
+/// that say the same thing — one typed on the page, one written by a script — have the same
+/// canonical form.
+pub fn canonical(spec: &DesignSpec) -> DesignSpec {
+    let mut out = spec.clone();
+    let p = &mut out.plant;
+    for m in [&mut p.a, &mut p.b, &mut p.c, &mut p.d].into_iter().flatten() {
+        *m = canonical_matrix(m);
+    }
+    for n in [&mut p.state_names, &mut p.state_units, &mut p.input_names, &mut p.input_units, &mut p.output_names, &mut p.output_units].into_iter().flatten() {
+        *n = NameList::List(names(&Some(n.clone())));
+    }
+    canonical_scalar(&mut p.sample_time);
+    if let Some(f) = &mut out.feedback {
+        canonical_poles(&mut f.poles);
+        if let Some(pt) = &mut f.pattern {
+            for s in [&mut pt.settling_time, &mut pt.bandwidth, &mut pt.band] {
+                canonical_scalar(s);
+            }
+        }
+        if let Some(sp) = &mut f.spec {
+            for s in [&mut sp.overshoot, &mut sp.settling_time, &mut sp.band, &mut sp.rise_time, &mut sp.bandwidth] {
+                canonical_scalar(s);
+            }
+        }
+        if let Some(l) = &mut f.lqr {
+            for m in [&mut l.q, &mut l.r].into_iter().flatten() {
+                *m = canonical_matrix(m);
+            }
+            if let Some(b) = &mut l.bryson {
+                canonical_numbers(&mut b.max_state);
+                canonical_numbers(&mut b.max_input);
+            }
+        }
+    }
+    if let Some(Some(l)) = out.actuators.as_mut().map(|a| &mut a.limit) {
+        if let Some(Ok(v)) = limits(l) {
+            *l = LimitList::List(v);
+        }
+    }
+    canonical_sections(&mut out);
+    drop_defaults(&mut out);
+    out
+}
+
+/// Values written out that only repeat the default are left out.
+fn drop_defaults(out: &mut DesignSpec) {
+    if let Some(f) = &mut out.feedback {
+        if f.plane == Some(PlaneChoice::S) {
+            f.plane = None;
+        }
+    }
+    if let Some(i) = &mut out.implementation {
+        if i.method == Some(MethodChoice::Zoh) {
+            i.method = None;
+        }
+        if i.computation_delay == Some(false) {
+            i.computation_delay = None;
+        }
+    }
+    if let Some(o) = &mut out.observer {
+        if o.form == Some(ObserverFormChoice::Predictor) {
+            o.form = None;
+        }
+    }
+    if let Some(s) = &mut out.simulation {
+        if s.band == Some(Scalar::Number(crate::metrics::DEFAULT_BAND)) {
+            s.band = None;
+        }
+    }
+}
+
+fn canonical_sections(out: &mut DesignSpec) {
+    if let Some(s) = &mut out.simulation {
+        for v in [&mut s.initial_state, &mut s.reference, &mut s.disturbance, &mut s.noise_std, &mut s.initial_estimate] {
+            canonical_numbers(v);
+        }
+        for v in [&mut s.duration, &mut s.band, &mut s.reference_time, &mut s.disturbance_time] {
+            canonical_scalar(v);
+        }
+        if let Some(Whole::Text(t)) = &s.seed {
+            if let Ok(v) = t.trim().parse::<u64>() {
+                s.seed = Some(Whole::Number(v));
+            }
+        }
+    }
+    if let Some(i) = &mut out.implementation {
+        canonical_scalar(&mut i.sample_time);
+        canonical_poles(&mut i.delay_poles);
+    }
+    if let Some(o) = &mut out.observer {
+        canonical_poles(&mut o.poles);
+        canonical_scalar(&mut o.speed_factor);
+    }
+    if let Some(t) = &mut out.tracking {
+        canonical_poles(&mut t.integral_poles);
+        if let Some(OutputList::Text(text)) = &t.outputs {
+            if !blank(text) {
+                let refs = parse_names(text).into_iter().map(|n| n.parse::<u64>().map_or(OutputRef::Name(n.clone()), OutputRef::Number)).collect();
+                t.outputs = Some(OutputList::List(refs));
+            }
+        }
+    }
+    if let Some(a) = &mut out.anti_windup {
+        canonical_scalar(&mut a.time_constant);
+    }
+}
+
+fn canonical_matrix(m: &MatrixValue) -> MatrixValue {
+    match matrix(m) {
+        Some(Ok(v)) => MatrixValue::Rows((0..v.nrows()).map(|i| v.row(i).iter().copied().collect()).collect()),
+        _ => m.clone(),
+    }
+}
+
+fn canonical_numbers(v: &mut Option<NumberList>) {
+    if let Some(Some(Ok(x))) = v.as_ref().map(vector) {
+        *v = Some(NumberList::List(x));
+    }
+}
+
+fn canonical_scalar(v: &mut Option<Scalar>) {
+    if let Some(Some(Ok(x))) = v.as_ref().map(|s| scalar(s, "value")) {
+        *v = Some(Scalar::Number(x));
+    }
+}
+
+fn canonical_poles(v: &mut Option<PoleList>) {
+    if let Some(Some(Ok(p))) = v.as_ref().map(poles) {
+        *v = Some(PoleList::Items(p.iter().map(|z| if z.im == 0.0 { PoleItem::Real(z.re) } else { PoleItem::Pair([z.re, z.im]) }).collect()));
+    }
+}

@@ -30,7 +30,7 @@ pub mod warnings;
 /// every layer above.
 pub use polewright_core::*;
 
-pub use check::{check, check_text, choose_poles, CheckReport, CheckedDesign, PoleRequest};
+pub use check::{canonical, check, check_text, choose_poles, CheckReport, CheckedDesign, PoleRequest};
 pub use path::FieldPath;
 pub use result::*;
 pub use run::{fmt_num, run, run_checked, run_text, run_with};

@@ -76,3 +76,23 @@ fn limits_produce_saturation_warning() {
     assert!(r.simulation.inputs[0].iter().all(|u| u.abs() <= 1.0 + 1e-12));
     assert!(r.simulation.first_saturation[0] == Some(0.0));
 }
+
+#[test]
+fn typed_text_and_plain_json_have_one_canonical_form() {
+    use crate::check::canonical;
+    use crate::spec::read_design;
+    let json = r#"{"format": "polewright.design", "version": 3,
+        "plant": {"a": [[0, 1], [-2, -3]], "b": [0, 1], "state_names": ["x", "v"]},
+        "feedback": {"poles": [[-4, 2], [-4, -2]], "plane": "s"}, "actuators": {"limit": [1.5]},
+        "simulation": {"duration": 3, "band": 0.02}}"#;
+    let text = r#"{"format": "polewright.design", "version": 3,
+        "plant": {"a": "0 1\n-2 -3", "b": "0 1", "state_names": "x, v"},
+        "feedback": {"poles": "-4±2j"}, "actuators": {"limit": "1.5"},
+        "simulation": {"duration": "3"}}"#;
+    let (a, b) = (read_design(json).unwrap(), read_design(text).unwrap());
+    assert_ne!(a, b, "written differently");
+    assert_eq!(canonical(&a), canonical(&b), "but saying the same");
+    // Text that does not read is kept, so a bad document stays as typed.
+    let bad = read_design(&text.replace("0 1\\n-2 -3", "0 1\\n-2 x")).unwrap();
+    assert!(matches!(canonical(&bad).plant.a, Some(crate::spec::MatrixValue::Text(_))));
+}
