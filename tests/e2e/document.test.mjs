@@ -80,6 +80,24 @@ describe('design document', () => {
     }
   });
 
+  test('a saved work in progress opens and says what is left to fix', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      await waitDesigned(page);
+      const doc = JSON.stringify({
+        format: 'polewright.design', version: 3, title: 'Half done',
+        plant: { a: '0 1\n0 0', b: '0\n1' }, feedback: { poles: '-1, -2, -3' },
+      });
+      await page.setInputFiles('#pw-open-file', { name: 'wip.json', mimeType: 'application/json', buffer: Buffer.from(doc) });
+      await page.waitForFunction(() => document.getElementById('pw-file-status').textContent.includes('need'));
+      const status = await page.textContent('#pw-file-status');
+      assert.match(status, /feedback\.poles/);
+      assert.equal(await page.inputValue('#pw-poles'), '-1, -2, -3', 'what was typed is kept');
+      await page.click('#pw-design');
+      await page.waitForFunction(() => !document.getElementById('pw-poles-error').hidden);
+      assert.match(await page.textContent('#pw-poles-error'), /3 poles given but the plant has 2 states/);
+    });
+  });
+
   test('remembering on restores the form and the pinned design after a reload; off stores nothing', async () => {
     await withPage(pageFileUrl, async ({ page }) => {
       await waitDesigned(page);

@@ -77,8 +77,9 @@ pub fn document_text() -> Result<String, JsValue> {
 pub fn open_document(text: &str, file_name: &str) -> Result<String, JsValue> {
     let doc = document()?;
     let shown = file_name.chars().take(80).collect::<String>();
-    let form = match read_design(text).map_err(|e| e.to_string()).and_then(|spec| form_from_spec(&spec)) {
-        Ok(form) => form,
+    let opened = read_design(text).map_err(|e| e.to_string()).and_then(|spec| form_from_spec(&spec).map(|form| (spec, form)));
+    let (spec, form) = match opened {
+        Ok(both) => both,
         Err(message) => {
             let m = format!("{shown} was not opened (the design on the page is unchanged): {message}");
             set_text(&doc, FILE_STATUS, &m)?;
@@ -87,7 +88,18 @@ pub fn open_document(text: &str, file_name: &str) -> Result<String, JsValue> {
     };
     note_form(&doc)?;
     write_form(&doc, &form)?;
-    set_text(&doc, FILE_STATUS, &format!("Opened {shown}."))?;
+    // The whole rulebook runs on it too: a saved work in progress opens, and says what is left.
+    let errors = crate::design::check(&spec).errors;
+    let status = match errors.len() {
+        0 => format!("Opened {shown}."),
+        k => format!(
+            "Opened {shown}; {k} field{} need{} attention: {}.",
+            if k == 1 { "" } else { "s" },
+            if k == 1 { "s" } else { "" },
+            errors.iter().take(3).map(|e| e.to_string()).collect::<Vec<_>>().join("; ")
+        ),
+    };
+    set_text(&doc, FILE_STATUS, &status)?;
     Ok(String::new())
 }
 

@@ -145,7 +145,12 @@ pub(super) fn pole_source(spec: &DesignSpec, plant: Option<&Plant>, known: &Basi
     let request = match source {
         PoleSource::List => {
             match listed(fb, c) {
-                Some(p) => setup.poles = p,
+                Some(p) => {
+                    if let (Some(n), true) = (n, tracking_read) {
+                        ok &= pole_count(c, p.len(), n, if apart { 0 } else { integrators });
+                    }
+                    setup.poles = p;
+                }
                 None => ok = false,
             }
             None
@@ -197,6 +202,21 @@ fn listed(fb: &FeedbackDoc, c: &mut Checker) -> Option<Vec<Complex64>> {
             Some(p)
         }
     }
+}
+
+/// One listed pole per plant state, and per integrator whose poles are not listed apart.
+fn pole_count(c: &mut Checker, given: usize, n: usize, integrators: usize) -> bool {
+    let wanted = n + integrators;
+    if given == wanted {
+        return true;
+    }
+    let message = if integrators > 0 {
+        format!("{given} poles given but the design has {wanted} states ({n} plant states + {integrators} for the integrators); give {wanted} poles, or list the integrator poles in tracking.integral_poles")
+    } else {
+        format!("{given} poles given but the plant has {n} states; give exactly {n} poles")
+    };
+    c.push(P::FeedbackPoles, message);
+    false
 }
 
 fn required_positive(c: &mut Checker, path: P, v: Option<&crate::spec::Scalar>, what: &str, example: &str, missing: &str) -> Option<f64> {
@@ -315,7 +335,20 @@ fn lqr_weights(l: &LqrDoc, plant: Option<&Plant>, out: &ControllerSpec, integrat
                 c.push(P::LqrR, "required: the input weight matrix R");
                 None
             });
-            Some(LqrWeights::Matrices { q: q?, r: r? })
+            let (q, r) = (q?, r?);
+            let m = plant.map(|p| p.inputs());
+            if let (Some(n), Some(m), true) = (plant.map(|p| p.states()), m, tracking_read) {
+                let k = n + if out.implementation.as_ref().is_some_and(|i| i.computation_delay) { m } else { 0 } + integrators;
+                if q.shape() != (k, k) {
+                    c.push(P::LqrQ, format!("Q is {}×{} but the design has {k} states (plant, delay and integrator states): give a {k}×{k} matrix", q.nrows(), q.ncols()));
+                    return None;
+                }
+                if r.shape() != (m, m) {
+                    c.push(P::LqrR, format!("R is {}×{} but the plant has {m} inputs: give a {m}×{m} matrix", r.nrows(), r.ncols()));
+                    return None;
+                }
+            }
+            Some(LqrWeights::Matrices { q, r })
         }
         (None, None, Some(b)) => bryson(b, plant, out, integrators, tracking_read, known, setup, c),
         _ => {

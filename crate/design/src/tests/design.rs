@@ -96,3 +96,13 @@ fn typed_text_and_plain_json_have_one_canonical_form() {
     let bad = read_design(&text.replace("0 1\\n-2 -3", "0 1\\n-2 x")).unwrap();
     assert!(matches!(canonical(&bad).plant.a, Some(crate::spec::MatrixValue::Text(_))));
 }
+
+#[test]
+fn the_rulebook_counts_the_poles_before_anything_is_designed() {
+    let text = TEXTBOOK.replace(r#"["-2±4j", -10]"#, r#"["-2±4j"]"#);
+    let spec = crate::spec::read_design(&text).unwrap();
+    let report = crate::check::check(&spec);
+    assert!(report.design.is_none());
+    let e = report.errors.iter().find(|e| e.field == FieldPath::FeedbackPoles).expect("a pole-count error");
+    assert!(e.message.contains("2 poles given but the plant has 3 states"), "{e}");
+}
