@@ -21,7 +21,7 @@ fn textbook_observer_example() {
     assert!((k[0] - 29.6).abs() < 1e-10 && (k[1] - 3.6).abs() < 1e-10, "{k:?}");
     let o = r.observer.as_ref().expect("observer");
     assert!((o.gain[0][0] - 16.0).abs() < 1e-7 && (o.gain[1][0] - 84.6).abs() < 1e-6, "{:?}", o.gain);
-    assert_eq!(o.form, "continuous");
+    assert_eq!(o.form, polewright::design::ObserverRunForm::Continuous);
     // Separation principle: the loop with observer has the union of both pole sets.
     let sep = r.closed_loop.as_ref().and_then(|l| l.separation_error).expect("separation check");
     assert!(sep < 1e-6, "separation error {sep}");
@@ -123,7 +123,7 @@ fn computation_delay_and_current_observer() {
     assert_eq!(r.feedback.achieved_poles.len(), 3, "two plant poles and one delay pole");
     assert!(r.feedback.achieved_poles.iter().any(|z| (z[0] - 0.1).abs() < 1e-9 && z[1] == 0.0));
     let o = r.observer.as_ref().unwrap();
-    assert_eq!(o.form, "current");
+    assert_eq!(o.form, polewright::design::ObserverRunForm::Current);
     assert!(o.current_gain.is_some());
     let l = r.closed_loop.as_ref().unwrap();
     assert!(!l.diverged);

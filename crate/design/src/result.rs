@@ -116,7 +116,7 @@ pub struct DiscretePlantResult {
     pub a: Vec<Vec<f64>>,
     pub b: Vec<Vec<f64>>,
     pub sample_time: f64,
-    pub method: &'static str,
+    pub method: crate::spec::MethodChoice,
     pub computation_delay: bool,
 }
 
@@ -127,7 +127,7 @@ pub struct ObserverResult {
     /// `L_c = Φ⁻¹ L` for the current-estimator form.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub current_gain: Option<Vec<Vec<f64>>>,
-    pub form: &'static str,
+    pub form: ObserverRunForm,
     pub requested_poles: Vec<Pair>,
     /// Eigenvalues of `A − L C` (or `Φ − L C`), recomputed.
     pub achieved_poles: Vec<Pair>,
@@ -143,7 +143,7 @@ pub struct ObserverResult {
 #[serde(tag = "mode", rename_all = "snake_case")]
 pub enum TrackingResult {
     Feedforward { outputs: Vec<String>, nx: Vec<Vec<f64>>, nu: Vec<Vec<f64>> },
-    Integral { outputs: Vec<String>, state_gain: Vec<Vec<f64>>, integral_gain: Vec<Vec<f64>>, anti_windup: &'static str, time_constant: Option<f64> },
+    Integral { outputs: Vec<String>, state_gain: Vec<Vec<f64>>, integral_gain: Vec<Vec<f64>>, anti_windup: crate::spec::AntiWindupMode, time_constant: Option<f64> },
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -175,7 +175,7 @@ pub struct InputLoopMetrics {
 #[derive(Debug, Clone, Serialize)]
 pub struct LoopResult {
     pub sample_time: Option<f64>,
-    pub observer_form: Option<&'static str>,
+    pub observer_form: Option<ObserverRunForm>,
     pub duration: f64,
     pub diverged: bool,
     pub time: Vec<f64>,
@@ -309,5 +309,25 @@ pub(crate) fn structure(r: &ModalReport) -> StructureResult {
         tolerance: r.tolerance,
         relative_tolerance: r.relative_tolerance,
         consistent: r.consistent,
+    }
+}
+
+/// How the observer runs: continuous, or digital in the predictor or current form.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum ObserverRunForm {
+    Continuous,
+    Predictor,
+    Current,
+}
+
+impl ObserverRunForm {
+    /// The form of an observer of a digital (`digital`) or continuous controller.
+    pub fn of(form: crate::controller::ObserverForm, digital: bool) -> Self {
+        match (digital, form) {
+            (false, _) => ObserverRunForm::Continuous,
+            (true, crate::controller::ObserverForm::Predictor) => ObserverRunForm::Predictor,
+            (true, crate::controller::ObserverForm::Current) => ObserverRunForm::Current,
+        }
     }
 }

@@ -86,7 +86,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
         domain: s.domain,
         sample_time: t,
         discrete_plant: match (&spec.implementation, t) {
-            (Some(imp), Some(ts)) => Some(DiscretePlantResult { a: rows(&s.ad), b: rows(&s.bd), sample_time: ts, method: "zoh", computation_delay: imp.computation_delay }),
+            (Some(imp), Some(ts)) => Some(DiscretePlantResult { a: rows(&s.ad), b: rows(&s.bd), sample_time: ts, method: crate::spec::MethodChoice::Zoh, computation_delay: imp.computation_delay }),
             _ => None,
         },
         observer: observer_result(&s, &g, &analysis),
@@ -141,7 +141,7 @@ fn observer_result(s: &setup::Setup, g: &gains::Gains, an: &gains::Analysis) -> 
     g.observer.as_ref().map(|(od, op, form)| ObserverResult {
         gain: rows(&od.gain),
         current_gain: od.current_gain.as_ref().map(rows),
-        form: if s.t.is_some() { form.key() } else { "continuous" },
+        form: ObserverRunForm::of(*form, s.t.is_some()),
         requested_poles: op.iter().map(|z| pair(*z)).collect(),
         achieved_poles: od.placement.achieved_poles.iter().map(|z| pair(*z)).collect(),
         max_pole_error: od.placement.max_pole_error,
@@ -160,7 +160,11 @@ fn tracking_result(s: &setup::Setup, g: &gains::Gains) -> Option<TrackingResult>
             outputs: names_of(outputs),
             state_gain: rows(&g.k_x),
             integral_gain: rows(ki),
-            anti_windup: s.spec.anti_windup.key(),
+            anti_windup: match s.spec.anti_windup {
+                crate::controller::AntiWindup::None => crate::spec::AntiWindupMode::None,
+                crate::controller::AntiWindup::Clamp => crate::spec::AntiWindupMode::Clamp,
+                crate::controller::AntiWindup::BackCalculation { .. } => crate::spec::AntiWindupMode::BackCalculation,
+            },
             time_constant: match s.spec.anti_windup {
                 crate::controller::AntiWindup::BackCalculation { time_constant } => Some(time_constant),
                 _ => None,

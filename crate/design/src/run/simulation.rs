@@ -210,7 +210,7 @@ pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<W
     let dec = |v: &Vec<Vec<f64>>| v.iter().map(|x| decimate(x, stride)).collect::<Vec<_>>();
     Ok(Some(LoopResult {
         sample_time: s.t,
-        observer_form: g.observer.as_ref().map(|(_, _, f)| if s.t.is_some() { f.key() } else { "continuous" }),
+        observer_form: g.observer.as_ref().map(|(_, _, f)| crate::result::ObserverRunForm::of(*f, s.t.is_some())),
         duration,
         diverged: lr.diverged,
         time: decimate(&lr.time, stride),

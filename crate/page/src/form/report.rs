@@ -825,7 +825,7 @@ pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
     let digital = result.sample_time.is_some();
     let delay = result.feedback.delay_gain.is_some();
     let observer = result.observer.as_ref();
-    let current = observer.is_some_and(|o| o.form == "current");
+    let current = observer.is_some_and(|o| o.form == design::ObserverRunForm::Current);
     let x = match (observer.is_some(), current, digital) {
         (false, _, true) => "x[k]",
         (false, _, false) => "x",
@@ -845,7 +845,7 @@ pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
     if let Some(o) = observer {
         if !digital {
             lines.push("x̂′ = A x̂ + B u + L (y − C x̂ − D u)".into());
-        } else if o.form == "current" {
+        } else if o.form == design::ObserverRunForm::Current {
             lines.push("x̄[k] = x̂[k] + L_c (y[k] − C x̂[k] − D u_held), the estimate corrected with the measurement of the same sample".into());
             lines.push(format!("x̂[k+1] = Φ x̄[k] + Γ {applied}"));
         } else {
@@ -858,8 +858,8 @@ pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
     if let Some(TrackingResult::Integral { anti_windup, time_constant, .. }) = &result.tracking {
         lines.push(if digital { "z[k+1] = z[k] + T (r − y[k]) for each tracked output".into() } else { "z′ = r − y for each tracked output".into() });
         match (*anti_windup, time_constant) {
-            ("clamp", _) => lines.push("anti-windup: the integrators hold while any input is clipped (conditional integration)".into()),
-            ("back_calculation", Some(tt)) => lines.push(format!("anti-windup: back-calculation, the integrators also driven by −K_i⁺ (u_applied − u_commanded) / T_t with T_t = {} s", fmt_num(*tt))),
+            (design::spec::AntiWindupMode::Clamp, _) => lines.push("anti-windup: the integrators hold while any input is clipped (conditional integration)".into()),
+            (design::spec::AntiWindupMode::BackCalculation, Some(tt)) => lines.push(format!("anti-windup: back-calculation, the integrators also driven by −K_i⁺ (u_applied − u_commanded) / T_t with T_t = {} s", fmt_num(*tt))),
             _ => lines.push("no anti-windup: the integrators keep integrating while an input is clipped".into()),
         }
     }
@@ -973,7 +973,7 @@ pub(crate) fn observer_report(result: &DesignResult, context: &ReportContext, st
     result.observer.as_ref().map(|o| {
         let (heading, caption) = match (t.is_some(), o.form) {
             (false, _) => ("observer x̂′ = A x̂ + B u + L (y - C x̂ - D u); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
-            (true, "current") => ("predictor gain L (the current estimator uses L_c = Φ⁻¹ L); L has one row per state and one column per output", "Observer gain L (predictor form; the current form uses L_c below): one row per state, one column per output"),
+            (true, design::ObserverRunForm::Current) => ("predictor gain L (the current estimator uses L_c = Φ⁻¹ L); L has one row per state and one column per output", "Observer gain L (predictor form; the current form uses L_c below): one row per state, one column per output"),
             _ => ("observer x̂[k+1] = Φ x̂[k] + Γ u[k] + L (y[k] - C x̂[k] - D u[k]); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
         };
         let gain = matrix_table("L", caption, heading, states.clone(), outputs.clone(), &o.gain);
@@ -982,9 +982,9 @@ pub(crate) fn observer_report(result: &DesignResult, context: &ReportContext, st
         });
         let cond = if o.eigenvector_condition.is_finite() { fmt_num(o.eigenvector_condition) } else { "infinite".into() };
         let form = match o.form {
-            "predictor" => "Predictor form (the estimate for the next sample uses this sample's measurement, so the input never waits for the computation).",
-            "current" => "Current-estimator form (the estimate is corrected with the measurement of the same sample before the input is computed).",
-            _ => "Continuous observer.",
+            design::ObserverRunForm::Predictor => "Predictor form (the estimate for the next sample uses this sample's measurement, so the input never waits for the computation).",
+            design::ObserverRunForm::Current => "Current-estimator form (the estimate is corrected with the measurement of the same sample before the input is computed).",
+            design::ObserverRunForm::Continuous => "Continuous observer.",
         };
         let speed = context.speed_factor.map(|f| format!(" Observer poles: {} times the controller poles (s-plane).", fmt_num(f))).unwrap_or_default();
         let summary = format!(

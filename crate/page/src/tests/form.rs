@@ -448,7 +448,7 @@ fn observer_fields_are_checked_one_by_one() {
     let out = evaluate_form(&f);
     assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
     let o = out.design.as_ref().unwrap().observer.as_ref().unwrap();
-    assert_eq!(o.form, "current");
+    assert_eq!(o.form, crate::design::ObserverRunForm::Current);
     assert!(o.current_gain.is_some());
     let c = out.report.unwrap().controller.unwrap();
     assert!(c.observer.unwrap().current_gain.is_some());
