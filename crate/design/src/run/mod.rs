@@ -7,6 +7,7 @@ mod gains;
 mod pair;
 mod setup;
 mod simulation;
+mod verdict;
 mod warnings;
 
 use super::check::{check_text, CheckedDesign, PoleSource};
@@ -58,6 +59,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
     let dp = pair::design_pair(&s)?;
     let analysis = gains::analysis(&s)?;
     let g = gains::gains(&s, &dp)?;
+    independent_verdict(&s, &dp, &g)?;
     let advice = s.t.map(|t| crate::controller::sample_rate_advice(&s.to_s(&dp.base_poles), t));
     let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
     let mut warnings = warnings::requested_pole_warnings(&s, &dp, anorm);
@@ -72,7 +74,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
     }
     warnings.extend(warnings::choice_warnings(&s, &dp, &g));
     let t = s.t;
-    Ok(DesignResult {
+    let result = DesignResult {
         format: RESULT_FORMAT,
         version: RESULT_VERSION,
         convention: "u = -K x",
@@ -101,7 +103,25 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
             region: c.region.as_ref().map(|r| RegionResult { min_damping: r.min_damping, min_decay_rate: r.min_decay_rate, natural_frequency: r.natural_frequency }),
         }),
         lqr: dp.lqr.as_ref().map(|d| lqr_result(spec, d)),
-    })
+    };
+    verdict::finite(&result)?;
+    Ok(result)
+}
+
+/// The closed loop and the observer, judged by routes independent of placement
+/// ([`verdict::stability`]) before anything is simulated.
+fn independent_verdict(s: &setup::Setup, dp: &pair::DesignPair, g: &gains::Gains) -> Result<(), DesignError> {
+    let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
+    let axis_tol = match s.domain {
+        crate::analysis::Domain::Continuous => s.ap.relative_tolerance * anorm.max(1.0),
+        crate::analysis::Domain::Discrete => 1e-12,
+    };
+    let closed = &dp.da - &dp.db * &g.placement.gain;
+    verdict::stability(s.domain, &closed, &dp.dpoles, axis_tol, "gain")?;
+    if let (Some((od, poles, _)), Some(c)) = (&g.observer, s.plant.c()) {
+        verdict::stability(s.domain, &(&s.ad - &od.gain * c), poles, axis_tol, "observer gain")?;
+    }
+    Ok(())
 }
 
 fn plant_summary(plant: &Plant) -> PlantSummary {

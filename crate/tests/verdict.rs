@@ -1,0 +1,104 @@
+//! The independent closed-loop verdict: a design that reports success has a stable loop when
+//! only stable poles were requested, and no non-finite number.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+
+use polewright::design::{self, DesignError};
+
+/// The reproduction of a silent failure: eig(A − B K) of the gain the run used to return was
+/// {−0.43, +0.858} (computed with numpy.linalg.eigvals, numpy 2.x, as the issue reports it).
+const NEAR_REPEATED: &str = r#"{"format":"polewright.design","version":1,"plant":{"a":[[0,-7],[1,0.5]],"b":[[-0.45],[0]]},"feedback":{"poles":"-0.43±1e-20j"}}"#;
+
+#[test]
+fn an_unstable_loop_where_a_stable_one_was_asked_is_refused() {
+    match design::run_text(NEAR_REPEATED) {
+        Err(DesignError::Infeasible { message }) => assert!(message.contains("does not give a stable loop") && message.contains("0.858"), "{message}"),
+        other => panic!("expected a refusal, got {other:?}"),
+    }
+}
+
+/// Routh–Hurwitz: all roots of `s^n + c[n-1] s^(n-1) + … + c[0]` in the open left half-plane
+/// (Routh 1877; Hurwitz 1895; the array as in Ogata, *Modern Control Engineering*, §5-6, from
+/// memory). Independent of any eigenvalue routine.
+fn routh_stable(c: &[f64]) -> bool {
+    let n = c.len();
+    // Coefficients from the highest power down: 1, c[n-1], …, c[0].
+    let mut poly = vec![1.0];
+    poly.extend(c.iter().rev());
+    if poly.iter().any(|v| !(*v > 0.0)) {
+        return false;
+    }
+    let mut r0: Vec<f64> = poly.iter().step_by(2).copied().collect();
+    let mut r1: Vec<f64> = poly.iter().skip(1).step_by(2).copied().collect();
+    for _ in 0..n {
+        if r1.is_empty() {
+            break;
+        }
+        if !(r1[0] > 0.0) {
+            return false;
+        }
+        let next: Vec<f64> = (0..r0.len().saturating_sub(1)).map(|j| (r1[0] * r0[j + 1] - r0[0] * r1.get(j + 1).copied().unwrap_or(0.0)) / r1[0]).collect();
+        r0 = r1;
+        r1 = next;
+    }
+    true
+}
+
+struct Rng(u64);
+impl Rng {
+    fn next(&mut self) -> f64 {
+        self.0 ^= self.0 << 13;
+        self.0 ^= self.0 >> 7;
+        self.0 ^= self.0 << 17;
+        (self.0 >> 11) as f64 / (1u64 << 53) as f64
+    }
+}
+
+#[test]
+fn every_accepted_companion_design_is_stable_by_routh_hurwitz() {
+    // Single-input plants in controllable companion form: with u = −K x the closed-loop
+    // characteristic coefficients are a_i + k_i exactly, so stability is judged from the gain
+    // alone by Routh–Hurwitz. Requested poles are stable, often clustered (the hard case).
+    let mut rng = Rng(0x5EED_1234_ABCD_0001);
+    let (mut accepted, mut refused, mut by_verdict) = (0, 0, 0);
+    for case in 0..400 {
+        let n = 3 + case % 8;
+        let a: Vec<f64> = (0..n).map(|_| 4.0 * rng.next() - 2.0).collect();
+        let mut rows: Vec<Vec<f64>> = (0..n).map(|i| (0..n).map(|j| if j == i + 1 { 1.0 } else { 0.0 }).collect()).collect();
+        rows[n - 1] = a.iter().map(|v| -v).collect();
+        let b: Vec<f64> = (0..n).map(|i| if i == n - 1 { 1.0 } else { 0.0 }).collect();
+        let centre = -(0.5 + 2.0 * rng.next());
+        let spread = if case % 3 == 0 { 1e-9 } else { 0.3 * rng.next() };
+        let mut poles = Vec::new();
+        while poles.len() < n {
+            let re = centre - spread * rng.next();
+            if n - poles.len() >= 2 && rng.next() < 0.5 {
+                let im = 0.2 + rng.next();
+                poles.push(format!("{re}±{im}j"));
+                poles.push(String::new());
+            } else {
+                poles.push(format!("{re}"));
+            }
+        }
+        let poles: Vec<String> = poles.into_iter().filter(|p| !p.is_empty()).collect();
+        let doc = serde_json::json!({"format": "polewright.design", "version": 3,
+            "plant": {"a": rows, "b": b}, "feedback": {"poles": poles.join(", ")}});
+        match design::run_text(&doc.to_string()) {
+            Ok(r) => {
+                accepted += 1;
+                let k = &r.feedback.gain[0];
+                let c: Vec<f64> = (0..n).map(|i| a[i] + k[i]).collect();
+                assert!(routh_stable(&c), "case {case}: accepted but unstable by Routh–Hurwitz: {doc}");
+                assert!(r.feedback.achieved_poles.iter().flatten().all(|v| v.is_finite()));
+            }
+            Err(DesignError::Infeasible { message }) => {
+                refused += 1;
+                if message.contains("does not give a stable loop") {
+                    by_verdict += 1;
+                }
+            }
+            Err(DesignError::Input(e)) => panic!("case {case}: {e}: {doc}"),
+        }
+    }
+    eprintln!("{accepted} accepted (all stable), {refused} refused ({by_verdict} by the stability verdict)");
+    assert!(accepted >= 200, "only {accepted} designs accepted");
+}
