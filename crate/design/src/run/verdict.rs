@@ -104,7 +104,8 @@ pub(super) fn finite(r: &DesignResult) -> Result<(), DesignError> {
         _ => {}
     }
     let sim = &r.simulation;
-    if !sim.diverged && !(all_finite_rows(&sim.states) && all_finite_rows(&sim.inputs)) {
+    let signals_finite = all_finite_rows(&sim.states) && all_finite_rows(&sim.inputs);
+    if !sim.diverged && !signals_finite {
         bad.push("the simulated response");
     }
     if bad.is_empty() {
