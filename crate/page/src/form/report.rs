@@ -821,6 +821,22 @@ pub(crate) fn matched_pole_rows(result: &DesignResult, requested: &[Pair], achie
 }
 
 /// The control law, one equation per line.
+/// The observer's update equations as the controller runs them (the one source for the law,
+/// the gain tables' headings and every copied text): with a computation delay the input
+/// applied during the sample is `u[k−1]`.
+pub(crate) fn observer_equations(result: &DesignResult) -> Vec<String> {
+    let Some(o) = result.observer.as_ref() else { return Vec::new() };
+    let applied = if result.feedback.delay_gain.is_some() { "u[k−1]" } else { "u[k]" };
+    match (result.sample_time.is_some(), o.form) {
+        (false, _) => vec!["x̂′ = A x̂ + B u + L (y − C x̂ − D u)".into()],
+        (true, design::ObserverRunForm::Current) => vec![
+            "x̄[k] = x̂[k] + L_c (y[k] − C x̂[k] − D u_held), the estimate corrected with the measurement of the same sample".into(),
+            format!("x̂[k+1] = Φ x̄[k] + Γ {applied}"),
+        ],
+        (true, _) => vec![format!("x̂[k+1] = Φ x̂[k] + Γ {applied} + L (y[k] − C x̂[k] − D u_held)")],
+    }
+}
+
 pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
     let digital = result.sample_time.is_some();
     let delay = result.feedback.delay_gain.is_some();
@@ -841,17 +857,7 @@ pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
         Some(TrackingResult::Integral { .. }) => lines.push(format!("u{k} = −K {x} − K_i z{k}{}", delay_term(false))),
         None => lines.push(format!("u{k} = −K {x}{}", delay_term(false))),
     }
-    let applied = if delay { "u[k−1]" } else { "u[k]" };
-    if let Some(o) = observer {
-        if !digital {
-            lines.push("x̂′ = A x̂ + B u + L (y − C x̂ − D u)".into());
-        } else if o.form == design::ObserverRunForm::Current {
-            lines.push("x̄[k] = x̂[k] + L_c (y[k] − C x̂[k] − D u_held), the estimate corrected with the measurement of the same sample".into());
-            lines.push(format!("x̂[k+1] = Φ x̄[k] + Γ {applied}"));
-        } else {
-            lines.push(format!("x̂[k+1] = Φ x̂[k] + Γ {applied} + L (y[k] − C x̂[k] − D u_held)"));
-        }
-    }
+    lines.extend(observer_equations(result));
     if observer.is_some() && digital {
         lines.push("u_held: the input being applied when y[k] is measured".into());
     }
@@ -971,14 +977,19 @@ pub(crate) fn observer_report(result: &DesignResult, context: &ReportContext, st
     let t = result.sample_time;
     let (states, outputs) = (states.to_vec(), outputs.to_vec());
     result.observer.as_ref().map(|o| {
+        let equations = observer_equations(result);
+        let first = equations.first().cloned().unwrap_or_default();
         let (heading, caption) = match (t.is_some(), o.form) {
-            (false, _) => ("observer x̂′ = A x̂ + B u + L (y - C x̂ - D u); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
-            (true, design::ObserverRunForm::Current) => ("predictor gain L (the current estimator uses L_c = Φ⁻¹ L); L has one row per state and one column per output", "Observer gain L (predictor form; the current form uses L_c below): one row per state, one column per output"),
-            _ => ("observer x̂[k+1] = Φ x̂[k] + Γ u[k] + L (y[k] - C x̂[k] - D u[k]); L has one row per state and one column per output", "Observer gain L: one row per state, one column per output"),
+            (true, design::ObserverRunForm::Current) => (
+                "predictor gain L (the current estimator uses L_c = Φ⁻¹ L); L has one row per state and one column per output".to_string(),
+                "Observer gain L (predictor form; the current form uses L_c below): one row per state, one column per output",
+            ),
+            _ => (format!("observer {first}; L has one row per state and one column per output"), "Observer gain L: one row per state, one column per output"),
         };
-        let gain = matrix_table("L", caption, heading, states.clone(), outputs.clone(), &o.gain);
+        let gain = matrix_table("L", caption, &heading, states.clone(), outputs.clone(), &o.gain);
         let current_gain = o.current_gain.as_ref().map(|lc| {
-            matrix_table("L_c", "Current-estimator gain L_c = Φ⁻¹ L: one row per state, one column per output", "current estimator x̄[k] = x̂[k] + L_c (y[k] - C x̂[k] - D u[k]); L_c has one row per state and one column per output", states.clone(), outputs.clone(), lc)
+            let heading = format!("current estimator {first}; L_c has one row per state and one column per output");
+            matrix_table("L_c", "Current-estimator gain L_c = Φ⁻¹ L: one row per state, one column per output", &heading, states.clone(), outputs.clone(), lc)
         });
         let cond = if o.eigenvector_condition.is_finite() { fmt_num(o.eigenvector_condition) } else { "infinite".into() };
         let form = match o.form {

@@ -836,3 +836,20 @@ fn each_document_path_has_at_most_one_control() {
         assert!(form_key(path).is_some(), "{path}");
     }
 }
+
+#[test]
+fn the_copied_observer_equation_is_the_law_the_controller_runs() {
+    // A digital design with a computation delay: the observer is driven by the input applied
+    // during the sample, u[k−1], in the law and in every copied text alike.
+    let mut f = axis_v2();
+    f.sample_time = "0.001".into();
+    f.computation_delay = "true".into();
+    f.observer = "speed_factor".into();
+    let out = evaluate_form(&f);
+    let c = out.report.expect("designed").controller.expect("controller");
+    let law = c.law.iter().find(|l| l.starts_with("x̂[k+1]")).expect("observer line").clone();
+    assert!(law.contains("Γ u[k−1]"), "{law}");
+    let copied = &c.observer.expect("observer").gain.text;
+    assert!(copied.contains(&law), "{copied}");
+    assert!(!copied.contains("Γ u[k] "), "{copied}");
+}
