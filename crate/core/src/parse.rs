@@ -97,6 +97,9 @@ pub enum MatrixParseError {
     Json { position: usize, message: String },
     /// [`parse_vector`] was given a matrix with at least two rows and two columns.
     NotAVector { rows: usize, columns: usize },
+    /// A row separated by spaces or tabs holds a comma between two digits (`0,5 0,5`): a
+    /// decimal comma, which would otherwise be read as two entries.
+    DecimalComma { row: usize, token: String },
 }
 
 impl fmt::Display for MatrixParseError {
@@ -154,6 +157,11 @@ impl fmt::Display for MatrixParseError {
             MatrixParseError::Json { position, message } => {
                 write!(f, "JSON text, character {position}: {message}")
             }
+            MatrixParseError::DecimalComma { row, token } => write!(
+                f,
+                "row {row}: {token:?} looks like a decimal comma (entries here are separated by spaces, so the comma cannot be a separator); write a decimal point, {:?}",
+                token.replace(',', ".")
+            ),
             MatrixParseError::NotAVector { rows, columns } => write!(
                 f,
                 "expected a single row or a single column of numbers but found a matrix \
@@ -193,6 +201,30 @@ pub fn parse_vector(text: &str) -> Result<Vec<f64>, MatrixParseError> {
             columns: grid.columns,
         })
     }
+}
+
+/// The typographic minus (U+2212, which readouts print) is read as `-`.
+pub fn normalise_minus(text: &str) -> std::borrow::Cow<'_, str> {
+    if text.contains('\u{2212}') {
+        std::borrow::Cow::Owned(text.replace('\u{2212}', "-"))
+    } else {
+        std::borrow::Cow::Borrowed(text)
+    }
+}
+
+/// A number written with one decimal comma: `0,5`, `-1,25e3` (digits, one comma, digits).
+fn has_digit_comma_digit(t: &str) -> bool {
+    let b = t.as_bytes();
+    let commas = b.iter().filter(|c| **c == b',').count();
+    commas == 1 && (1..b.len().saturating_sub(1)).any(|i| b[i] == b',' && b[i - 1].is_ascii_digit() && b[i + 1].is_ascii_digit())
+}
+
+/// A hint for text that may hold a decimal comma (`1,5` or `0,001`: digits, a comma, digits,
+/// no space after the comma), to add to a message about a count of numbers; `None` otherwise.
+pub fn decimal_comma_hint(text: &str) -> Option<String> {
+    let token = text.split_whitespace().find(|t| has_digit_comma_digit(t))?;
+    let token: String = token.chars().take(MAX_TOKEN_CHARS).collect();
+    Some(format!(" (if {token:?} holds a decimal comma, write {:?}: a comma separates entries)", token.replace(',', ".")))
 }
 
 /// Splits a list of names on commas, new lines and tabs; trims each name and drops
@@ -261,7 +293,8 @@ fn strip_byte_order_mark(text: &str) -> &str {
 }
 
 fn parse_grid(text: &str) -> Result<Grid, MatrixParseError> {
-    let text = strip_byte_order_mark(text);
+    let text = normalise_minus(strip_byte_order_mark(text));
+    let text = text.as_ref();
     if text.trim_start().starts_with('[') {
         parse_json_grid(text)
     } else {
@@ -342,6 +375,11 @@ fn parse_plain_grid(text: &str) -> Result<Grid, MatrixParseError> {
 }
 
 fn parse_plain_row(line: &str, row: usize) -> Result<Vec<f64>, MatrixParseError> {
+    // Spaces or tabs separate the entries, and a comma sits between two digits: a decimal comma.
+    let spaced = line.split_whitespace().filter(|t| t.bytes().any(|c| c.is_ascii_digit())).count() > 1;
+    if let Some(token) = line.split_whitespace().find(|t| has_digit_comma_digit(t)).filter(|_| spaced) {
+        return Err(MatrixParseError::DecimalComma { row, token: token.chars().take(MAX_TOKEN_CHARS).collect() });
+    }
     let piece_count = line.split(',').count();
     let mut entries = Vec::new();
     for (piece_index, piece) in line.split(',').enumerate() {

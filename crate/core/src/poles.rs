@@ -218,7 +218,8 @@ pub fn parse_poles(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
 /// Parses a pole list without the conjugate-pair check (for callers that assemble a list
 /// from several pieces and check the whole).
 pub fn parse_pole_items(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
-    let chars: Vec<char> = text.chars().collect();
+    // The typographic minus that readouts print is an ordinary minus here.
+    let chars: Vec<char> = text.chars().map(|c| if c == '\u{2212}' { '-' } else { c }).collect();
     let lexemes = lex(&chars);
     let mut poles = Vec::new();
     let mut items = 0usize;

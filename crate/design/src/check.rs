@@ -174,6 +174,11 @@ fn names(v: &Option<NameList>) -> Vec<String> {
     }
 }
 
+/// The decimal-comma hint of a list typed as text (empty otherwise).
+pub(crate) fn comma_hint(text: Option<&str>) -> String {
+    text.and_then(crate::parse::decimal_comma_hint).unwrap_or_default()
+}
+
 /// One number; `None` for blank text.
 fn scalar(v: &Scalar, what: &str) -> Option<Result<f64, String>> {
     Some(match v {
@@ -181,7 +186,7 @@ fn scalar(v: &Scalar, what: &str) -> Option<Result<f64, String>> {
         Scalar::Text(s) if blank(s) => return None,
         Scalar::Text(s) => parse_vector(s).map_err(|e| e.to_string()).and_then(|vals| match vals.as_slice() {
             [x] => Ok(*x),
-            _ => Err(format!("{} numbers given; give one {what}", vals.len())),
+            _ => Err(format!("{} numbers given; give one {what}{}", vals.len(), crate::parse::decimal_comma_hint(s).unwrap_or_default())),
         }),
     })
 }

@@ -151,16 +151,8 @@ fn unicode_junk() {
             token: "☃".into()
         })
     );
-    let err = parse_matrix("1 \u{2212}2").unwrap_err();
-    assert_eq!(
-        err,
-        MatrixParseError::BadToken {
-            row: 1,
-            column: 2,
-            token: "\u{2212}2".into()
-        }
-    );
-    assert!(err.to_string().contains("typographic minus"));
+    // The typographic minus is read as a minus.
+    assert_eq!(parse_matrix("1 \u{2212}2"), Ok(matrix(1, 2, &[1.0, -2.0])));
     // Non-breaking spaces count as spaces.
     assert_eq!(parse_matrix("1\u{a0}2"), Ok(matrix(1, 2, &[1.0, 2.0])));
 }
@@ -603,4 +595,21 @@ fn structured_random_json_never_panics() {
             assert!(!e.to_string().is_empty());
         }
     }
+}
+
+#[test]
+fn decimal_commas_are_recognised_not_misread() {
+    // Entries separated by spaces with a comma between digits: a decimal comma, refused.
+    let err = parse_vector("0,5 0,5").unwrap_err();
+    assert_eq!(err, MatrixParseError::DecimalComma { row: 1, token: "0,5".into() });
+    assert!(err.to_string().contains("\"0.5\""), "{err}");
+    assert!(matches!(parse_matrix("1 2,5\n3 4").unwrap_err(), MatrixParseError::DecimalComma { row: 1, .. }));
+    // Commas as separators still work, with or without spaces.
+    assert_eq!(parse_vector("1,2,3").unwrap(), vec![1.0, 2.0, 3.0]);
+    assert_eq!(parse_vector("1, 2, 3").unwrap(), vec![1.0, 2.0, 3.0]);
+    // Ambiguous alone ("1,5" may be two numbers): read as two, with a hint for count messages.
+    assert_eq!(parse_vector("1,5").unwrap(), vec![1.0, 5.0]);
+    assert!(decimal_comma_hint("1,5").unwrap().contains("\"1.5\""));
+    assert!(decimal_comma_hint("0,001").is_some());
+    assert!(decimal_comma_hint("1, 5").is_none() && decimal_comma_hint("1,2,3").is_none());
 }

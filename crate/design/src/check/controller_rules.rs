@@ -200,7 +200,11 @@ fn counted(c: &mut Checker, path: P, list: Option<&crate::spec::NumberList>, cou
     let v = c.take(path, list.and_then(vector)?)?;
     c.size(path, plural(v.len(), "value", "values"));
     if let Some((n, one, many)) = count.filter(|(n, _, _)| *n != v.len()) {
-        c.push(path, format!("{} given but there {} {}; give one per {one}", plural(v.len(), "value", "values"), if n == 1 { "is" } else { "are" }, plural(n, one, many)));
+        let text = match list {
+            Some(crate::spec::NumberList::Text(t)) => Some(t.as_str()),
+            _ => None,
+        };
+        c.push(path, format!("{} given but there {} {}; give one per {one}{}", plural(v.len(), "value", "values"), if n == 1 { "is" } else { "are" }, plural(n, one, many), super::comma_hint(text)));
         return None;
     }
     Some(v)

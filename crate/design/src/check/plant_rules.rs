@@ -166,16 +166,28 @@ pub(super) fn basics(spec: &DesignSpec, plant: Option<&Plant>, c: &mut Checker) 
             c.push(
                 P::ActuatorLimits,
                 format!(
-                    "{} given but the plant has {}; give one limit per input in the order of the columns of B (none for an input without a limit), or leave this out",
+                    "{} given but the plant has {}; give one limit per input in the order of the columns of B (none for an input without a limit), or leave this out{}",
                     plural(l.len(), "limit", "limits"),
-                    plural(m, "input", "inputs")
+                    plural(m, "input", "inputs"),
+                    super::comma_hint(match spec.actuators.as_ref().and_then(|a| a.limit.as_ref()) {
+                        Some(crate::spec::LimitList::Text(t)) => Some(t.as_str()),
+                        _ => None,
+                    })
                 ),
             );
         }
         if let Some(Some(x)) = initial_state.as_ref().filter(|x| x.as_ref().is_some_and(|x| x.len() != n)) {
             c.push(
                 P::InitialState,
-                format!("{} given but the plant has {}; give one value per state, or leave this out to start from 1 in the first state", plural(x.len(), "value", "values"), plural(n, "state", "states")),
+                format!(
+                    "{} given but the plant has {}; give one value per state, or leave this out to start from 1 in the first state{}",
+                    plural(x.len(), "value", "values"),
+                    plural(n, "state", "states"),
+                    super::comma_hint(match sim.and_then(|s| s.initial_state.as_ref()) {
+                        Some(crate::spec::NumberList::Text(t)) => Some(t.as_str()),
+                        _ => None,
+                    })
+                ),
             );
         }
     }

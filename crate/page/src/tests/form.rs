@@ -853,3 +853,22 @@ fn the_copied_observer_equation_is_the_law_the_controller_runs() {
     assert!(copied.contains(&law), "{copied}");
     assert!(!copied.contains("Γ u[k] "), "{copied}");
 }
+
+#[test]
+fn decimal_commas_and_typographic_minus_are_not_misread() {
+    let base = axis_v2();
+    let mut f = base.clone();
+    f.limits = "1,5".into();
+    assert!(only_error(&evaluate_form(&f), "limits").contains("decimal comma"));
+    let mut f = base.clone();
+    f.initial_state = "0,5 0,5 0 0".into();
+    assert!(only_error(&evaluate_form(&f), "initial_state").contains("decimal comma"));
+    let mut f = base.clone();
+    f.sample_time = "0,001".into();
+    assert!(only_error(&evaluate_form(&f), "sample_time").contains("decimal comma"));
+    // A readout copied back with its typographic minus designs as with an ordinary one.
+    let mut f = base.clone();
+    f.poles = "\u{2212}12\u{b1}9j, \u{2212}20\u{b1}30j".into();
+    let with_typographic = evaluate_form(&f).design.expect("designed").feedback.gain;
+    assert_eq!(with_typographic, evaluate_form(&base).design.expect("designed").feedback.gain);
+}
