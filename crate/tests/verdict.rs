@@ -102,3 +102,20 @@ fn every_accepted_companion_design_is_stable_by_routh_hurwitz() {
     eprintln!("{accepted} accepted (all stable), {refused} refused ({by_verdict} by the stability verdict)");
     assert!(accepted >= 200, "only {accepted} designs accepted");
 }
+
+#[test]
+fn a_slow_pole_at_a_fast_sample_rate_is_designed_with_its_simulation_cut() {
+    // Poles −0.05 and −0.06 at T = 1e−4: 7/σ = 140 s would be 2.8 million samples.
+    let text = r#"{"format":"polewright.design","version":3,"plant":{"a":[[0,1],[0,0]],"b":[[0],[1]]},
+        "feedback":{"poles":[-0.05,-0.06]},"implementation":{"sample_time":1e-4}}"#;
+    let r = design::run_text(text).expect("designed");
+    let note = r.warnings.iter().find(|w| w.code == "simulation-shortened").expect("a note");
+    assert_eq!(note.severity, polewright::warnings::Severity::Note);
+    assert!(r.simulation.duration <= 5.0 + 1e-9, "{}", r.simulation.duration);
+    // A duration typed beyond the cap stays an input error of that field.
+    let typed = text.replace(r#""implementation""#, r#""simulation":{"duration":100},"implementation""#);
+    match design::run_text(&typed) {
+        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "simulation.duration"),
+        other => panic!("{other:?}"),
+    }
+}

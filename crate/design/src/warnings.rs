@@ -29,6 +29,7 @@
 //! | `pole-outside-region` | caution | closed-loop poles lie outside the specification's region |
 //! | `repeated-poles` | caution | the binomial pattern repeats one pole beyond rank B |
 //! | `search-not-monotonic` | note | the peak input did not grow steadily with the speed-up: the factor found is one crossing |
+//! | `simulation-shortened` | note | the simulated time chosen from the slowest pole was cut to the sample cap (50 000 samples) |
 //! | `search-range-limit` | note | the inputs stay within their limits even at the largest factor tried |
 //!
 //! Severity: *danger*, the loop as designed may be unstable or not what the numbers say;
@@ -121,11 +122,13 @@ pub enum WarningCode {
     SearchNotMonotonic,
     /// The inputs stay within their limits even at the largest factor tried.
     SearchRangeLimit,
+    /// The simulated time chosen from the slowest pole was cut to the sample cap.
+    SimulationShortened,
 }
 
 impl WarningCode {
     /// Every code, in the table's order.
-    pub const ALL: [WarningCode; 27] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit];
+    pub const ALL: [WarningCode; 28] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
 
     /// The stable code, as serialised.
     pub fn as_str(self) -> &'static str {
@@ -157,6 +160,7 @@ impl WarningCode {
             WarningCode::RepeatedPoles => "repeated-poles",
             WarningCode::SearchNotMonotonic => "search-not-monotonic",
             WarningCode::SearchRangeLimit => "search-range-limit",
+            WarningCode::SimulationShortened => "simulation-shortened",
         }
     }
 
@@ -165,7 +169,7 @@ impl WarningCode {
         match self {
             WarningCode::RequestedPoleUnstable | WarningCode::PlacementInaccurate | WarningCode::SimulationDiverged | WarningCode::ObserverInaccurate | WarningCode::LoopDiverged | WarningCode::SeparationFailed => Severity::Danger,
             WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles => Severity::Caution,
-            WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit => Severity::Note,
+            WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit | WarningCode::SimulationShortened => Severity::Note,
         }
     }
 }

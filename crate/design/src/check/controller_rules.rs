@@ -8,7 +8,6 @@ use crate::controller::{AntiWindup, ObserverForm};
 use crate::spec::{AntiWindupMode, DesignSpec, ObserverFormChoice, PlaneChoice, TrackingMode, Whole};
 use crate::{fmt_num, ControllerSpec, DesignRequest, FieldPath as P, Implementation, ObserverPoles, ObserverSpec, Plane, ScenarioSpec, TrackingSpec};
 use crate::plant::Plant;
-use crate::plane::s_from_z;
 
 /// Everything beyond the plain state feedback, field by field.
 pub(super) fn controller(spec: &DesignSpec, plant: Option<&Plant>, c: &mut Checker) -> ControllerSpec {
@@ -262,11 +261,10 @@ fn scenario(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, digit
     out.scenario = sc;
 }
 
-/// Refuses a digital simulation longer than [`MAX_LOOP_SAMPLES`] samples, and steps that come
-/// after the end of the simulated time; the error goes to the field that sets the length. The
-/// horizon is the run's rule ([`crate::simulate::default_horizon`]). An LQR design's poles are
-/// known only once its Riccati equation is solved: the run applies the same cap
-/// ([`ScenarioSpec::max_samples`]) before it simulates.
+/// Refuses a typed simulated time of more than [`MAX_LOOP_SAMPLES`] samples, and steps that
+/// come after the end of the simulated time (typed, or the longest the cap allows); the error
+/// goes to the field that sets the length. A time chosen from the slowest pole is never refused:
+/// the run cuts it to the cap ([`ScenarioSpec::max_samples`]) and says so.
 pub(super) fn loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Checker) {
     let sc = &spec.scenario;
     let events = sc.reference_time.max(if sc.disturbance.is_empty() { 0.0 } else { sc.disturbance_time });
@@ -279,24 +277,6 @@ pub(super) fn loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Ch
         }
     }
     let Some(t) = spec.sample_time() else { return };
-    if spec.lqr.is_some() && req.duration.is_none() {
-        return;
-    }
-    let to_s = |p: &[Complex64]| -> Vec<Complex64> {
-        match spec.plane {
-            Plane::Z => p.iter().filter_map(|z| s_from_z(*z, t)).collect(),
-            Plane::S => p.to_vec(),
-        }
-    };
-    let mut all = to_s(&req.poles);
-    match spec.observer.as_ref().map(|o| &o.poles) {
-        Some(ObserverPoles::Given(p)) => all.extend(to_s(p)),
-        // The observer poles are the fastest controller poles times the factor: no slower than
-        // every controller pole times the factor.
-        Some(ObserverPoles::SpeedFactor(f)) => all.extend(to_s(&req.poles).iter().map(|z| z * *f)),
-        None => {}
-    }
-    let horizon = crate::simulate::default_horizon(&all, req.limits.iter().any(|l| l.is_some()));
     let samples = |d: f64| d / t;
     let too_many = |d: f64| !(samples(d) <= MAX_LOOP_SAMPLES);
     let advice = format!("at most {} samples are simulated", MAX_LOOP_SAMPLES as u64);
@@ -306,22 +286,17 @@ pub(super) fn loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Ch
         }
         return;
     }
-    // A digital design always simulates the loop, after the free response.
-    let loop_length = events + horizon * if sc.disturbance.is_empty() { 1.0 } else { 2.0 };
-    if too_many(horizon.max(loop_length)) {
-        let field = if too_many(events) {
-            if sc.reference_time >= sc.disturbance_time || sc.disturbance.is_empty() { P::ReferenceTime } else { P::DisturbanceTime }
-        } else {
-            P::SampleTime
-        };
+    // A time chosen from the slowest pole is cut to the cap by the run (and said in a note);
+    // only the step times the user typed can make it impossible.
+    if too_many(events) {
+        let field = if sc.reference_time >= sc.disturbance_time || sc.disturbance.is_empty() { P::ReferenceTime } else { P::DisturbanceTime };
         c.push(
             field,
             format!(
-                "the simulation would run {} s (chosen from the slowest pole{}) at a sample time of {} s, that is {:.0} samples, but {advice}: sample less often, give a shorter simulated time, or make the poles faster",
-                fmt_num(loop_length.max(horizon)),
-                if events > 0.0 { " after the steps" } else { "" },
+                "the step at {} s comes after the longest simulated time at a sample time of {} s ({} s, {advice}): make the step earlier, or sample less often",
+                fmt_num(events),
                 fmt_num(t),
-                samples(loop_length.max(horizon)).ceil()
+                fmt_num(MAX_LOOP_SAMPLES * t)
             ),
         );
     }

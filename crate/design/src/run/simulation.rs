@@ -70,6 +70,32 @@ pub(super) fn horizon(s: &Setup, pair: &DesignPair, g: &Gains) -> Horizon {
     Horizon { x0, x0_chosen, limits, auto }
 }
 
+/// A simulated time chosen from the poles, cut to the scenario's sample cap (said in a note):
+/// only a time the user typed beyond the cap is an error.
+fn capped(s: &Setup, chosen: f64, warnings: &mut Vec<Warning>) -> f64 {
+    match (s.t, s.spec.scenario.max_samples) {
+        (Some(ts), Some(cap)) if !(chosen / ts <= cap) => {
+            let longest = cap * ts;
+            if !warnings.iter().any(|w| w.code == WarningCode::SimulationShortened) {
+                warnings.push(Warning::new(
+                    WarningCode::SimulationShortened,
+                    format!(
+                        "The simulated time chosen from the slowest pole, {} s, would take {:.0} samples at T = {} s; it was cut to {} s ({} samples): the slowest response may not have settled by then. Give a simulated time (at most {} s at this sample time) or a faster slowest pole to see more.",
+                        fmt_num(chosen),
+                        (chosen / ts).ceil(),
+                        fmt_num(ts),
+                        fmt_num(longest),
+                        cap,
+                        fmt_num(longest)
+                    ),
+                ));
+            }
+            longest
+        }
+        _ => chosen,
+    }
+}
+
 /// Refuses a digital simulation longer than the scenario's sample cap before it is run.
 fn check_samples(s: &Setup, duration: f64) -> Result<(), DesignError> {
     match (s.t, s.spec.scenario.max_samples) {
@@ -98,7 +124,7 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
         Some(t) => {
             // Digital regulator: the sampled state feedback on the continuous (or given discrete) plant.
             let ctrl = LoopController { k: g.k_x.clone(), k_delay: g.k_u.clone(), observer: None, observer_form: ObserverForm::Predictor, current_gain: None, tracking: TrackingLaw::None, tracked_outputs: Vec::new(), sample_time: s.t };
-            let duration = s.req.duration.unwrap_or(h.auto);
+            let duration = s.req.duration.unwrap_or_else(|| capped(s, h.auto, warnings));
             check_samples(s, duration)?;
             let sc = LoopScenario { x0: DVector::from_vec(h.x0.clone()), xhat0: None, duration, reference: Vec::new(), reference_time: 0.0, disturbance: Vec::new(), disturbance_time: 0.0, noise: Noise::None, limits: h.limits.clone(), continuous_step: None };
             let lr = run_loop(s.plant, s.spec, &ctrl, &sc).map_err(|e| infeasible(&e))?;
@@ -184,7 +210,7 @@ pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<W
     let reference = if tracking_on { if sc.reference.is_empty() { vec![1.0; s.q()] } else { sc.reference.clone() } } else { Vec::new() };
     let x0 = if tracking_on && s.req.initial_state.is_none() { vec![0.0; s.n] } else { h.x0.clone() };
     let events = sc.reference_time.max(if sc.disturbance.is_empty() { 0.0 } else { sc.disturbance_time });
-    let duration = s.req.duration.unwrap_or(events + h.auto * if sc.disturbance.is_empty() { 1.0 } else { 2.0 });
+    let duration = s.req.duration.unwrap_or_else(|| capped(s, events + h.auto * if sc.disturbance.is_empty() { 1.0 } else { 2.0 }, warnings));
     check_samples(s, duration)?;
     let noise = if sc.noise_std.iter().any(|v| *v > 0.0) { Noise::Gaussian { std: sc.noise_std.clone(), seed: sc.seed } } else { Noise::None };
     let scenario = LoopScenario {
