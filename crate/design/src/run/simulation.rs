@@ -136,7 +136,10 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
     let peak_input: Vec<f64> = resp.commanded.iter().map(|u| metrics::peak_magnitude(u)).collect();
     let first_sat: Vec<Option<f64>> = (0..m).map(|i| h.limits[i].and_then(|l| metrics::first_exceedance(&resp.time, &resp.commanded[i], l))).collect();
     let time_sat: Vec<f64> = (0..m).map(|i| h.limits[i].map_or(0.0, |l| metrics::time_exceeding(&resp.time, &resp.commanded[i], l))).collect();
-    for i in 0..m {
+    // With a loop scenario and no initial state typed, the free response starts from a made-up
+    // unit deviation: its saturation is not what the user asked to simulate (the loop's is).
+    let judged = !(h.x0_chosen && loop_runs(s));
+    for i in (0..m).filter(|_| judged) {
         if let Some(l) = h.limits[i].filter(|l| peak_input[i] > *l) {
             warnings.push(Warning::new(
                 WarningCode::InputOverLimit,
@@ -184,11 +187,16 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
     })
 }
 
+/// True when the whole loop is simulated (anything beyond plain state feedback was asked for).
+fn loop_runs(s: &Setup) -> bool {
+    s.spec.observer.is_some() || !matches!(s.spec.tracking, TrackingSpec::None) || s.t.is_some()
+}
+
 /// The whole loop, when anything beyond plain state feedback was asked for.
 pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<Warning>) -> Result<Option<LoopResult>, DesignError> {
     let spec = s.spec;
     let tracking_on = !matches!(spec.tracking, TrackingSpec::None);
-    if !(spec.observer.is_some() || tracking_on || s.t.is_some()) {
+    if !loop_runs(s) {
         return Ok(None);
     }
     let tracking = match (&g.feedforward, &g.k_i) {
