@@ -140,3 +140,18 @@ fn warnings_speak_of_the_scenario_the_user_asked_for() {
         }
     }
 }
+
+#[test]
+fn numbers_at_the_ends_of_the_floating_point_range_are_an_input_error_never_a_crash() {
+    for v in ["1e154", "1e308", "-1e200", "1e-200"] {
+        let text = format!(r#"{{"format":"polewright.design","version":3,"plant":{{"a":[[{v},{v}],[{v},{v}]],"b":[[{v}],[1]]}},"feedback":{{"poles":[-1,-2]}}}}"#);
+        match design::run_text(&text) {
+            Err(DesignError::Input(e)) => {
+                assert_eq!(e.field.dotted(), "plant.a");
+                assert!(e.message.contains("change the units"), "{e}");
+                assert!(!e.message.contains("NaN"));
+            }
+            other => panic!("{v}: {other:?}"),
+        }
+    }
+}

@@ -246,6 +246,38 @@ pub fn staircase(a: &DMatrix<f64>, b: &DMatrix<f64>, tol: f64) -> Result<Stairca
 /// # Errors
 /// See [`AnalysisError`].
 pub fn controllability_report(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -> Result<ModalReport, AnalysisError> {
+    // Entries beyond about 2^±400 overflow or underflow inside the SVDs (squares of 1e154 are
+    // infinite). (A, B) and (σA, σB) have the same controllability and relative margins, and
+    // σA's eigenvalues are σλ: with σ a power of two the scaling is exact, and it is undone
+    // before any stability verdict.
+    let big = a.iter().chain(b.iter()).fold(0.0f64, |m, v| m.max(v.abs()));
+    if big.is_finite() && big > 0.0 && !(2f64.powi(-400)..2f64.powi(400)).contains(&big) {
+        let sigma = 2f64.powi(-(big.log2().round() as i32));
+        let inner = report_in_range(&(a * sigma), &(b * sigma), params)?;
+        return Ok(unscaled(inner, 1.0 / sigma, a, params));
+    }
+    report_in_range(a, b, params)
+}
+
+/// A report computed on `(σA, σB)`, with its poles and tolerance brought back by `undo = 1/σ`.
+fn unscaled(mut r: ModalReport, undo: f64, a: &DMatrix<f64>, params: AnalysisParams) -> ModalReport {
+    for md in r.modes.iter_mut() {
+        md.pole *= undo;
+    }
+    for h in r.hidden_modes.iter_mut() {
+        *h *= undo;
+    }
+    r.tolerance *= undo;
+    let anorm = a.iter().fold(0.0f64, |m, v| m.max(v.abs())) * (a.nrows() as f64);
+    let axis_tol = match params.domain {
+        Domain::Continuous => params.relative_tolerance * anorm.max(1.0),
+        Domain::Discrete => params.relative_tolerance,
+    };
+    r.stable_hidden_modes = r.hidden_modes.iter().all(|z| params.domain.is_strictly_stable(*z, axis_tol));
+    r
+}
+
+fn report_in_range(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -> Result<ModalReport, AnalysisError> {
     let n = a.nrows();
     let m = b.ncols();
     let mut ab = DMatrix::<f64>::zeros(n, n + m);

@@ -118,8 +118,35 @@ fn full(x: f64) -> String {
 // ---------------------------------------------------------------------------------------------
 // Leaves.
 
+/// Largest magnitude of a matrix entry or a pole: the numerical routines square and multiply
+/// entries, so numbers near the ends of `f64`'s range (about 1e±308) overflow or underflow
+/// inside them; a model is brought into range by a change of units.
+pub const MAX_MAGNITUDE: f64 = 1e150;
+
+/// Refuses an entry outside `[1/MAX_MAGNITUDE, MAX_MAGNITUDE]` in magnitude (zero is fine).
+fn in_range(m: DMatrix<f64>) -> Result<DMatrix<f64>, String> {
+    for j in 0..m.ncols() {
+        for i in 0..m.nrows() {
+            let v = m[(i, j)].abs();
+            if v > MAX_MAGNITUDE || (v > 0.0 && v < 1.0 / MAX_MAGNITUDE) {
+                return Err(format!(
+                    "row {}, column {}: {:e} is beyond the range this tool computes with (1e-150 to 1e150 in magnitude); change the units of the states or inputs to bring the numbers nearer 1",
+                    i + 1,
+                    j + 1,
+                    m[(i, j)]
+                ));
+            }
+        }
+    }
+    Ok(m)
+}
+
 /// `None` for blank text (given but empty).
 fn matrix(v: &MatrixValue) -> Option<Result<DMatrix<f64>, String>> {
+    matrix_as_typed(v).map(|r| r.and_then(in_range))
+}
+
+fn matrix_as_typed(v: &MatrixValue) -> Option<Result<DMatrix<f64>, String>> {
     Some(match v {
         MatrixValue::Text(s) if blank(s) => return None,
         MatrixValue::Text(s) => parse_matrix(s).map_err(|e| e.to_string()),
@@ -149,7 +176,12 @@ fn vector(v: &NumberList) -> Option<Result<Vec<f64>, String>> {
 fn poles(v: &PoleList) -> Option<Result<Vec<Complex64>, String>> {
     let items = match v {
         PoleList::Text(s) if blank(s) => return None,
-        PoleList::Text(s) => return Some(parse_poles(s).map_err(|e| e.to_string())),
+        PoleList::Text(s) => {
+            return Some(parse_poles(s).map_err(|e| e.to_string()).and_then(|p| match p.iter().find(|z| z.norm() > MAX_MAGNITUDE) {
+                Some(z) => Err(format!("the pole {} is beyond the range this tool computes with (magnitude up to 1e150); change the time unit to bring the poles nearer 1", crate::poles::format_complex(*z))),
+                None => Ok(p),
+            }))
+        }
         PoleList::Items(items) => items,
     };
     let mut out = Vec::new();
@@ -162,6 +194,9 @@ fn poles(v: &PoleList) -> Option<Result<Vec<Complex64>, String>> {
                 Err(e) => return Some(Err(format!("entry {}: {e}", i + 1))),
             },
         }
+    }
+    if let Some(z) = out.iter().find(|z| z.norm() > MAX_MAGNITUDE) {
+        return Some(Err(format!("the pole {} is beyond the range this tool computes with (magnitude up to 1e150); change the time unit to bring the poles nearer 1", crate::poles::format_complex(*z))));
     }
     Some(check_conjugate_pairs(&out).map(|_| out).map_err(|e| e.to_string()))
 }

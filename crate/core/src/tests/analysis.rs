@@ -52,3 +52,21 @@ fn staircase_is_orthogonal_and_block_triangular() {
     assert_eq!(st.a[(2, 1)], 0.0);
     assert!((st.a[(2, 2)] + 4.0).abs() < 1e-13);
 }
+
+#[test]
+fn extreme_scales_give_the_same_verdicts_and_margins() {
+    // (σA, σB) has the controllability and relative margins of (A, B), and eigenvalues σλ.
+    // At σ = 2^600 the squares inside the SVDs would overflow without the internal rescaling.
+    let a = DMatrix::from_row_slice(3, 3, &[0.0, 1.0, 0.0, 0.0, 0.0, 1.0, -6.0, -11.0, -6.0]);
+    let b = DMatrix::from_row_slice(3, 1, &[0.0, 0.0, 1.0]);
+    let plain = controllability_report(&a, &b, AnalysisParams::default()).unwrap();
+    for e in [600, -600] {
+        let sigma = 2f64.powi(e);
+        let r = controllability_report(&(&a * sigma), &(&b * sigma), AnalysisParams::default()).unwrap();
+        assert_eq!(r.rank, plain.rank);
+        for (p, q) in plain.modes.iter().zip(&r.modes) {
+            assert_eq!(p.margin, q.margin, "margins are exactly those of the unscaled pair");
+            assert!((q.pole / sigma - p.pole).norm() <= 1e-12 * p.pole.norm().max(1.0));
+        }
+    }
+}
