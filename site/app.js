@@ -11,7 +11,12 @@
 const byId = (id) => document.getElementById(id);
 const DEBOUNCE_MS = 150;
 
+let ready = false;
+
+// After an internal error the page stops designing until it is reloaded: what runs next could
+// be built on a broken state. (With Remember on, the reload brings the design back.)
 function showError(message) {
+  ready = false;
   const box = byId('pw-error');
   if (box) {
     // Keep a message the panic hook already wrote; add the JS-side one.
@@ -20,13 +25,11 @@ function showError(message) {
   }
   const status = byId('pw-status');
   if (status) {
-    status.textContent = 'Stopped: see the message above.';
+    status.textContent = 'Stopped after an internal error (see the message above): reload the page to go on.';
     status.classList.add('is-error');
   }
   console.error(message);
 }
-
-let ready = false;
 
 function guarded(fn) {
   return (...args) => {

@@ -98,6 +98,29 @@ describe('design document', () => {
     });
   });
 
+  test('after an internal error the page stops designing until reloaded', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      await waitDesigned(page);
+      const gain = await page.textContent('#pw-gain');
+      // Break the page from outside: a control the cycle reads disappears.
+      await page.evaluate(() => document.getElementById('pw-seed').remove());
+      await page.fill('#pw-poles', '-5, -6, -7, -8');
+      await page.click('#pw-design');
+      await page.waitForFunction(() => !document.getElementById('pw-error').hidden);
+      assert.match(await page.textContent('#pw-status'), /Stopped/);
+      // Nothing designs any more: edits leave the last results and the status alone.
+      await page.fill('#pw-poles', '-9, -10, -11, -12');
+      await page.click('#pw-design');
+      await new Promise((r) => setTimeout(r, 400));
+      assert.match(await page.textContent('#pw-status'), /Stopped/);
+      assert.equal(await page.textContent('#pw-gain'), gain);
+      // A reload starts afresh.
+      await page.reload();
+      await waitDesigned(page);
+      assert.equal(await page.isHidden('#pw-error'), true);
+    });
+  });
+
   test('remembering on restores the form and the pinned design after a reload; off stores nothing', async () => {
     await withPage(pageFileUrl, async ({ page }) => {
       await waitDesigned(page);
