@@ -36,6 +36,20 @@ fn same_design(form: &DesignResult, reference: &DesignResult) {
     assert_eq!(form.feedback.requested_poles, reference.feedback.requested_poles);
 }
 
+/// The same closed loop to rounding: an LQR gain is used as it is, and placing its poles again
+/// (single input: the gain is unique) gives it back to a few units of the last place times the
+/// eigenvector conditioning (here below 1e3), so 1e-9 relative is a bound with room.
+fn same_design_to_rounding(form: &DesignResult, reference: &DesignResult) {
+    let close = |a: &[f64], b: &[f64]| a.iter().zip(b).all(|(x, y)| (x - y).abs() <= 1e-9 * x.abs().max(y.abs()).max(1.0));
+    for (x, y) in form.feedback.gain.iter().zip(&reference.feedback.gain) {
+        assert!(close(x, y), "{x:?} vs {y:?}");
+    }
+    for (x, y) in form.feedback.achieved_poles.iter().zip(&reference.feedback.achieved_poles) {
+        assert!(close(x, y), "{x:?} vs {y:?}");
+    }
+    assert_eq!(form.feedback.requested_poles, reference.feedback.requested_poles);
+}
+
 fn c(p: &[f64; 2]) -> Complex64 {
     Complex64::new(p[0], p[1])
 }
@@ -312,7 +326,11 @@ fn suggested_poles_read_back_exactly_and_adopting_them_keeps_the_design() {
         let mut adopted = f.clone();
         adopted.pole_source = "list".into();
         adopted.poles = text;
-        same_design(designed(&adopted).design.as_ref().unwrap(), d);
+        if source == "lqr" {
+            same_design_to_rounding(designed(&adopted).design.as_ref().unwrap(), d);
+        } else {
+            same_design(designed(&adopted).design.as_ref().unwrap(), d);
+        }
     }
 }
 

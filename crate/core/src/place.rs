@@ -1002,3 +1002,64 @@ fn initial_x_seeded(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &
 #[cfg(test)]
 #[path = "tests/place.rs"]
 mod tests;
+
+/// What a gain computed elsewhere (an LQR gain, used as it is) achieves, in the terms of a
+/// [`Placement`]: the eigenvalues of `A − B K` against `requested`, and the conditioning of the
+/// closed-loop eigenvectors. The eigenvectors come from inverse iteration on `A − B K` at each
+/// eigenvalue (three steps from a fixed start, the shift moved off the eigenvalue by
+/// `√ε · ‖A − B K‖`; Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, §7.6.1; from
+/// memory): a repeated eigenvalue with one eigenvector (a Jordan block) gives nearly parallel
+/// columns and so a large condition number, as it should. Cost: `O(n³)` per distinct
+/// eigenvalue.
+///
+/// # Errors
+/// [`PlacementError`] when an eigenvalue or singular-value computation fails.
+pub fn placement_of_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, gain: &DMatrix<f64>, requested: &[Complex64], params: PlacementParams) -> Result<Placement, PlacementError> {
+    let closed = a - b * gain;
+    let n = a.nrows();
+    let mut achieved = try_eigenvalues(&closed)?;
+    sort_eigenvalues(&mut achieved);
+    let scale = closed.norm().max(f64::MIN_POSITIVE);
+    let cc = to_complex(&closed);
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for (j, lambda) in achieved.iter().enumerate() {
+        let shift = lambda + Complex64::new(f64::EPSILON.sqrt() * scale, 0.0);
+        let mut m = cc.clone();
+        for i in 0..n {
+            m[(i, i)] -= shift;
+        }
+        let lu = m.lu();
+        let mut v = DVector::<Complex64>::from_fn(n, |i, _| Complex64::new(1.0 + 0.1 * i as f64, 0.0));
+        for _ in 0..3 {
+            let Some(w) = lu.solve(&v) else { break };
+            let norm = w.norm();
+            if !(norm.is_finite() && norm > 0.0) {
+                break;
+            }
+            v = w / Complex64::new(norm, 0.0);
+        }
+        x.set_column(j, &v);
+    }
+    let condition = try_condition_number(&x, SvdParams::default()).unwrap_or(f64::INFINITY);
+    let balanced = balanced_condition(&closed, &x).unwrap_or(f64::INFINITY);
+    let sv = crate::linalg::svd::try_singular_values(b, SvdParams::default())?;
+    let smax = sv.iter().fold(0.0f64, |m, s| m.max(*s));
+    let rank = sv.iter().filter(|&&s| s > params.rank_tolerance * smax && s > 0.0).count();
+    let mut target = requested.to_vec();
+    sort_eigenvalues(&mut target);
+    Ok(Placement {
+        gain: gain.clone(),
+        max_pole_error: matching_error_with_floor(&target, &achieved, pole_error_floor(params.domain, a.norm())),
+        achieved_poles: achieved,
+        assigned_poles: target,
+        not_assigned: Vec::new(),
+        fixed_modes: Vec::new(),
+        eigenvector_condition: condition,
+        balanced_eigenvector_condition: balanced,
+        abs_det_x: abs_det(&x),
+        gain_norm: try_norm2(gain, SvdParams::default())?,
+        iterations: 0,
+        converged: true,
+        input_rank: rank,
+    })
+}

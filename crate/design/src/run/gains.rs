@@ -56,7 +56,12 @@ fn pole_input(e: PlacementError, field: P) -> DesignError {
 
 pub(super) fn gains(s: &Setup, pair: &DesignPair) -> Result<Gains, DesignError> {
     let (n, m) = (s.n, s.m);
-    let placement = state_feedback_gain(&pair.da, &pair.db, &pair.dpoles, s.pp).map_err(|e| pole_input(e, P::FeedbackPoles))?;
+    // An LQR gain is used as it is (K = R⁻¹ Bᵀ X, or its discrete form), for any number of
+    // inputs: placing its poles again would give another gain when there are several inputs.
+    let placement = match &pair.lqr {
+        Some(lqr) => crate::place::placement_of_gain(&pair.da, &pair.db, &lqr.gain, &pair.dpoles, s.pp).map_err(|e| infeasible(&e))?,
+        None => state_feedback_gain(&pair.da, &pair.db, &pair.dpoles, s.pp).map_err(|e| pole_input(e, P::FeedbackPoles))?,
+    };
     let k_x = placement.gain.columns(0, n).into_owned();
     let k_u = s.delay.then(|| placement.gain.columns(n, m).into_owned());
     let k_i = s.integral_poles.map(|_| placement.gain.columns(pair.nd, s.q()).into_owned());

@@ -1,0 +1,91 @@
+//! LQR designs use the LQR gain as it is computed, for any number of inputs (its poles are not
+//! placed again), checked against scipy's `solve_continuous_are` / `solve_discrete_are`
+//! (scipy 1.17.1, committed in `tests/fixtures/riccati.json` by `make_riccati_fixtures.py`) and
+//! a published closed form.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+
+mod common;
+
+use common::{fixture, matrix};
+use polewright::design::{self, DesignError};
+use serde_json::json;
+
+fn rows(m: &nalgebra::DMatrix<f64>) -> Vec<Vec<f64>> {
+    (0..m.nrows()).map(|i| m.row(i).iter().copied().collect()).collect()
+}
+
+#[test]
+fn the_design_path_returns_scipys_lqr_gain_for_one_to_three_inputs() {
+    let f = fixture("riccati.json");
+    let (mut compared, mut multi_input, mut loose) = (0, 0, 0);
+    for case in f["cases"].as_array().unwrap() {
+        let Some(gain) = case["scipy"].get("gain").filter(|g| g.is_array()) else { continue };
+        if case.get("expected_error").is_some() {
+            continue;
+        }
+        let (a, b, q, r) = (matrix(&case["a"]), matrix(&case["b"]), matrix(&case["q"]), matrix(&case["r"]));
+        // The reference: the closed form where the fixture has one (K = R⁻¹ Bᵀ X of the exact X,
+        // continuous cases; scipy is itself off by its own error there), else scipy's gain.
+        let want = match (case.get("exact").and_then(|e| e.get("x")), case["domain"].as_str()) {
+            (Some(x), Some("continuous")) => r.clone().lu().solve(&(b.transpose() * matrix(x))).unwrap(),
+            _ => matrix(gain),
+        };
+        let mut plant = json!({"a": rows(&a), "b": rows(&b)});
+        if case["domain"] == "discrete" {
+            // The matrices are already discrete; the sample time only labels the time axis.
+            plant["sample_time"] = json!(1.0);
+        }
+        let doc = json!({"format": "polewright.design", "version": 3, "plant": plant, "feedback": {"lqr": {"q": rows(&q), "r": rows(&r)}}});
+        let name = case["name"].as_str().unwrap();
+        let got = match design::run_text(&doc.to_string()) {
+            Ok(res) => res.feedback.gain.clone(),
+            // A case the design refuses must say why (e.g. an ill-conditioned Riccati solution);
+            // none of the committed random cases should be refused.
+            Err(DesignError::Infeasible { message }) => panic!("{name}: refused: {message}"),
+            Err(DesignError::Input(e)) => panic!("{name}: {e}"),
+        };
+        // Tolerance: both gains are accurate to about the Riccati condition number (the
+        // fixture's first-order estimate per unit relative perturbation) times ε, so the bound
+        // is 1e-8 of ‖K‖ plus 10·cond·ε, at most 1e-2: strict for the well-conditioned cases,
+        // loose (and said so) for the few whose condition estimate reaches 1e13–6e18.
+        let cond = case.get("exact").and_then(|e| e["condition"].as_f64()).or_else(|| case["scipy"]["condition"].as_f64()).unwrap_or(f64::INFINITY);
+        let rel = (1e-8 + 10.0 * cond * f64::EPSILON).min(1e-2);
+        if rel > 1e-6 {
+            loose += 1;
+        }
+        // A gain that is zero in exact arithmetic (scipy: 1.6e-33) is compared in absolute terms.
+        let scale = want.norm().max(1e-12);
+        let err = (0..want.nrows()).flat_map(|i| (0..want.ncols()).map(move |j| (i, j))).map(|(i, j)| (got[i][j] - want[(i, j)]).abs()).fold(0.0, f64::max);
+        assert!(err <= rel * scale, "{name}: gain differs from scipy's by {err:e} (‖K‖ = {scale:e}, condition {cond:e})");
+        compared += 1;
+        if b.ncols() > 1 {
+            multi_input += 1;
+        }
+    }
+    eprintln!("{compared} gains compared ({multi_input} with several inputs; {loose} ill conditioned, to a looser bound)");
+    // The committed fixture gives 67 comparable cases (random and closed-form, continuous and
+    // discrete), 32 of them with two or three inputs.
+    assert!(compared >= 60 && multi_input >= 30, "compared {compared}, multi-input {multi_input}");
+}
+
+#[test]
+fn the_double_integrator_benchmark_gives_its_closed_form() {
+    // Benner, Laub & Mehrmann, "A collection of benchmark examples for the numerical solution of
+    // algebraic Riccati equations I: continuous-time case", SPC 95-22, 1995, example 1 (from
+    // memory; checked by substitution: AᵀX + XA − XBBᵀX + Q = 0): A = [[0, 1], [0, 0]],
+    // B = [0; 1], Q = diag(1, 2), R = 1 give X = [[2, 1], [1, 2]], K = [1, 2] and a repeated
+    // closed-loop pole at −1, which placing the poles again with one input used to refuse.
+    let doc = r#"{"format": "polewright.design", "version": 3,
+        "plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]},
+        "feedback": {"lqr": {"q": [[1, 0], [0, 2]], "r": [[1]]}}}"#;
+    let r = design::run_text(doc).expect("designed");
+    let k = &r.feedback.gain[0];
+    assert!((k[0] - 1.0).abs() < 1e-12 && (k[1] - 2.0).abs() < 1e-12, "{k:?}");
+    let x = &r.lqr.as_ref().unwrap().riccati_solution;
+    for (got, want) in x.iter().flatten().zip([2.0, 1.0, 1.0, 2.0]) {
+        assert!((got - want).abs() < 1e-12, "{x:?}");
+    }
+    for p in &r.feedback.achieved_poles {
+        assert!((p[0] + 1.0).abs() < 1e-6 && p[1].abs() < 1e-6, "{p:?}");
+    }
+}
