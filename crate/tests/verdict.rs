@@ -155,3 +155,46 @@ fn numbers_at_the_ends_of_the_floating_point_range_are_an_input_error_never_a_cr
         }
     }
 }
+
+#[test]
+fn the_units_of_the_input_do_not_decide_controllability() {
+    // Double integrator x1' = x2, x2' = b u with poles −1, −2: the closed-loop polynomial
+    // s² + b k2 s + b k1 = s² + 3 s + 2 gives K = [2/b, 3/b] (by hand). Before the rank
+    // decisions were made block by block in balanced coordinates, b = 1e10 or 1e−11 was
+    // "uncontrollable".
+    for b in [1e10, 1.0, 1e-11] {
+        let text = format!(r#"{{"format":"polewright.design","version":3,"plant":{{"a":[[0,1],[0,0]],"b":[[0],[{b:e}]]}},"feedback":{{"poles":[-1,-2]}}}}"#);
+        let r = design::run_text(&text).unwrap_or_else(|e| panic!("b = {b:e}: {e}"));
+        let k = &r.feedback.gain[0];
+        assert!((k[0] * b - 2.0).abs() < 1e-9 && (k[1] * b - 3.0).abs() < 1e-9, "b = {b:e}: {k:?}");
+    }
+}
+
+#[test]
+fn rescaling_states_and_inputs_by_powers_of_ten_keeps_the_controllability_verdicts() {
+    // numpy's ranks of the committed controllability cases (tests/fixtures/controllability.json,
+    // `rank_controllable`) hold when the states are measured in other units (D⁻¹ A D, D⁻¹ B,
+    // D = diag(10^k)) and the inputs too (B · 10^j).
+    use polewright::analysis::{controllability_report, AnalysisParams};
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../tests/fixtures/controllability.json");
+    let f: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+    let rows = |v: &serde_json::Value| -> nalgebra::DMatrix<f64> {
+        let r: Vec<Vec<f64>> = v.as_array().unwrap().iter().map(|r| r.as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect()).collect();
+        nalgebra::DMatrix::from_fn(r.len(), r[0].len(), |i, j| r[i][j])
+    };
+    let mut checked = 0;
+    for case in f["cases"].as_array().unwrap() {
+        let (a, b) = (rows(&case["a"]), rows(&case["b"]));
+        let want = case["rank_controllable"].as_u64().unwrap() as usize;
+        let n = a.nrows();
+        for (ks, j) in [(vec![3, -3], 0), (vec![-4, 2], 5), (vec![0, 6], -6)] {
+            let d: Vec<f64> = (0..n).map(|i| 10f64.powi(ks[i % 2])).collect();
+            let a2 = nalgebra::DMatrix::from_fn(n, n, |r, c| a[(r, c)] * d[c] / d[r]);
+            let b2 = nalgebra::DMatrix::from_fn(n, b.ncols(), |r, c| b[(r, c)] / d[r] * 10f64.powi(j));
+            let got = controllability_report(&a2, &b2, AnalysisParams::default()).unwrap().rank;
+            assert_eq!(got, want, "{}: units {ks:?}, 10^{j}", case["name"]);
+            checked += 1;
+        }
+    }
+    assert!(checked >= 45, "{checked}");
+}

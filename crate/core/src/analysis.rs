@@ -188,6 +188,16 @@ impl ModalReport {
 /// # Errors
 /// [`AnalysisError::Svd`] if an SVD fails to converge.
 pub fn staircase(a: &DMatrix<f64>, b: &DMatrix<f64>, tol: f64) -> Result<Staircase, AnalysisError> {
+    staircase_with(a, b, tol, tol)
+}
+
+/// [`staircase`] with the rank of `B` decided against `tol_b` and the ranks of the blocks of
+/// `A` against `tol_a`, so that each is judged on its own scale (the units of the inputs do
+/// not decide whether the states are reached).
+///
+/// # Errors
+/// See [`AnalysisError`].
+pub fn staircase_with(a: &DMatrix<f64>, b: &DMatrix<f64>, tol_b: f64, tol_a: f64) -> Result<Staircase, AnalysisError> {
     let n = a.nrows();
     let mut at = a.clone();
     let mut t = DMatrix::<f64>::identity(n, n);
@@ -199,6 +209,7 @@ pub fn staircase(a: &DMatrix<f64>, b: &DMatrix<f64>, tol: f64) -> Result<Stairca
     let mut first = true;
     while start < n {
         let svd = try_svd(&block, SvdParams::default())?;
+        let tol = if first { tol_b } else { tol_a };
         let r = svd.singular_values.iter().filter(|&&s| s > tol).count();
         if r == 0 {
             break;
@@ -285,7 +296,17 @@ fn report_in_range(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -
     ab.columns_mut(n, m).copy_from(b);
     let scale = try_norm2(&ab, SvdParams::default())?;
     let tol = params.relative_tolerance * scale;
-    let st = staircase(a, b, tol)?;
+    // The rank decisions are made in balanced coordinates (D⁻¹ A D, D⁻¹ B with the exact
+    // power-of-two Parlett–Reinsch scaling of A), B's against ‖B‖ and A's blocks against ‖A‖:
+    // a change of the units of the states or inputs then leaves the verdict alone (a double
+    // integrator with B = [0; 1e10] was called uncontrollable against ‖[A B]‖). Controllability
+    // and the hidden eigenvalues are invariant under the similarity.
+    let d = crate::linalg::eigen::balancing_scale(a, 100);
+    let a_bal = DMatrix::from_fn(n, n, |i, j| a[(i, j)] * d[j] / d[i]);
+    let b_bal = DMatrix::from_fn(n, m, |i, j| b[(i, j)] / d[i]);
+    let tol_a = params.relative_tolerance * try_norm2(&a_bal, SvdParams::default())?;
+    let tol_b = params.relative_tolerance * try_norm2(&b_bal, SvdParams::default())?;
+    let st = staircase_with(&a_bal, &b_bal, tol_b, tol_a)?;
     let nc = st.dimension;
     let hidden = if nc < n {
         let au = st.a.view((nc, nc), (n - nc, n - nc)).into_owned();

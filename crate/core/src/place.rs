@@ -238,6 +238,14 @@ pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex6
     let scale = try_norm2(&ab, SvdParams::default())?;
     let st = staircase(a, b, params.controllability_tolerance * scale)?;
     let nc = st.dimension;
+    if nc < n {
+        // Judged against ‖[A B]‖ some modes look unreached; judged in balanced coordinates,
+        // each block against its own scale, they may only be measured in other units. Then the
+        // placement is done there and the gain brought back: u = −K_bal D⁻¹ x.
+        if let Some(placed) = place_balanced(a, b, poles, params)? {
+            return Ok(placed);
+        }
+    }
     if nc == n {
         if poles.len() != n {
             return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
@@ -1002,6 +1010,37 @@ fn initial_x_seeded(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &
 #[cfg(test)]
 #[path = "tests/place.rs"]
 mod tests;
+
+/// Placement in the balanced coordinates `D⁻¹ A D`, `D⁻¹ B` (exact power-of-two Parlett–Reinsch
+/// scaling of `A`) when the pair is controllable there with the rank of `B` judged against
+/// `‖D⁻¹B‖` and the blocks of `A` against `‖D⁻¹AD‖`; `None` when it is not (the caller then
+/// treats the fixed modes as before). Eigenvalues are similarity invariant; the gain comes back
+/// as `K = K_bal D⁻¹`.
+fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Option<Placement>, PlacementError> {
+    let (n, m) = (a.nrows(), b.ncols());
+    let d = crate::linalg::eigen::balancing_scale(a, 100);
+    let a_bal = DMatrix::from_fn(n, n, |i, j| a[(i, j)] * d[j] / d[i]);
+    let b_bal = DMatrix::from_fn(n, m, |i, j| b[(i, j)] / d[i]);
+    let tol_a = params.controllability_tolerance * try_norm2(&a_bal, SvdParams::default())?;
+    let tol_b = params.controllability_tolerance * try_norm2(&b_bal, SvdParams::default())?;
+    let st = crate::analysis::staircase_with(&a_bal, &b_bal, tol_b, tol_a)?;
+    if st.dimension < n || poles.len() != n {
+        return Ok(None);
+    }
+    // Within the balanced pair the inputs are put on the scale of A (a power of two per
+    // column), so that the placement's own tolerances see them as they are.
+    let anorm = a_bal.norm().max(f64::MIN_POSITIVE);
+    let s: Vec<f64> = (0..m).map(|j| {
+        let c = b_bal.column(j).norm();
+        if c > 0.0 { 2f64.powi((anorm / c).log2().round() as i32) } else { 1.0 }
+    }).collect();
+    let b_scaled = DMatrix::from_fn(n, m, |i, j| b_bal[(i, j)] * s[j]);
+    let core = assign(&a_bal, &b_scaled, poles, params)?;
+    // u = −K_s x_bal with B_scaled = B_bal S: the input is S u_s, so K_bal = S K_s; then K = K_bal D⁻¹.
+    let gain = DMatrix::from_fn(m, n, |i, j| s[i] * core.gain[(i, j)] / d[j]);
+    let core = Core { gain, ..core };
+    finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new(), params.domain).map(Some)
+}
 
 /// What a gain computed elsewhere (an LQR gain, used as it is) achieves, in the terms of a
 /// [`Placement`]: the eigenvalues of `A − B K` against `requested`, and the conditioning of the
