@@ -213,7 +213,7 @@ pub fn normalise_minus(text: &str) -> std::borrow::Cow<'_, str> {
 }
 
 /// A number written with one decimal comma: `0,5`, `-1,25e3` (digits, one comma, digits).
-fn has_digit_comma_digit(t: &str) -> bool {
+pub(crate) fn has_digit_comma_digit(t: &str) -> bool {
     let b = t.as_bytes();
     let commas = b.iter().filter(|c| **c == b',').count();
     commas == 1 && (1..b.len().saturating_sub(1)).any(|i| b[i] == b',' && b[i - 1].is_ascii_digit() && b[i + 1].is_ascii_digit())

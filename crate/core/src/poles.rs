@@ -97,6 +97,9 @@ pub enum PoleParseError {
     NotFinite { index: usize, token: String },
     /// The poles were read but a complex pole lacks its conjugate.
     Unpaired(PoleError),
+    /// Poles separated by spaces with a comma between two digits (`-1,5 -2,5`): a decimal
+    /// comma, which would otherwise be read as two poles.
+    DecimalComma { token: String },
 }
 
 impl fmt::Display for PoleParseError {
@@ -128,6 +131,11 @@ impl fmt::Display for PoleParseError {
                 }
             }
             PoleParseError::Unpaired(inner) => inner.fmt(f),
+            PoleParseError::DecimalComma { token } => write!(
+                f,
+                "{token:?} looks like a decimal comma (the poles here are separated by spaces, so the comma cannot be a separator); write a decimal point, {:?}",
+                token.replace(',', ".")
+            ),
         }
     }
 }
@@ -218,6 +226,12 @@ pub fn parse_poles(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
 /// Parses a pole list without the conjugate-pair check (for callers that assemble a list
 /// from several pieces and check the whole).
 pub fn parse_pole_items(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
+    let tokens: Vec<&str> = text.split_whitespace().filter(|t| t.bytes().any(|c| c.is_ascii_digit())).collect();
+    if tokens.len() > 1 {
+        if let Some(t) = tokens.iter().find(|t| crate::parse::has_digit_comma_digit(t)) {
+            return Err(PoleParseError::DecimalComma { token: t.chars().take(40).collect() });
+        }
+    }
     // The typographic minus that readouts print is an ordinary minus here.
     let chars: Vec<char> = text.chars().map(|c| if c == '\u{2212}' { '-' } else { c }).collect();
     let lexemes = lex(&chars);

@@ -540,3 +540,13 @@ fn random_values_never_panic() {
         }
     }
 }
+
+#[test]
+fn decimal_commas_in_a_spaced_pole_list_are_refused() {
+    let err = parse_poles("-1,5 -2,5").unwrap_err();
+    assert_eq!(err, PoleParseError::DecimalComma { token: "-1,5".into() });
+    assert!(err.to_string().contains("\"-1.5\""), "{err}");
+    // Commas as separators still work.
+    assert_eq!(parse_poles("-1,-2").unwrap().len(), 2);
+    assert_eq!(parse_poles("-1, -2 -3").unwrap().len(), 3);
+}
