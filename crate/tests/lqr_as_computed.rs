@@ -89,3 +89,29 @@ fn the_double_integrator_benchmark_gives_its_closed_form() {
         assert!((p[0] + 1.0).abs() < 1e-6 && p[1].abs() < 1e-6, "{p:?}");
     }
 }
+
+#[test]
+fn a_cross_weight_gives_scipys_gain() {
+    // tests/fixtures/riccati_cross.json (make_cross_weight_fixtures.py): scipy's
+    // solve_continuous_are / solve_discrete_are with s = S, K = R⁻¹(BᵀX + Sᵀ) or
+    // (R + BᵀXB)⁻¹(BᵀXA + Sᵀ); 22 seeded cases, n = 2…6, m = 1…3.
+    let f = fixture("riccati_cross.json");
+    let mut compared = 0;
+    for case in f["cases"].as_array().unwrap() {
+        let (a, b, q, r, s) = (matrix(&case["a"]), matrix(&case["b"]), matrix(&case["q"]), matrix(&case["r"]), matrix(&case["s"]));
+        let want = matrix(&case["scipy"]["gain"]);
+        let mut plant = json!({"a": rows(&a), "b": rows(&b)});
+        if case["domain"] == "discrete" {
+            plant["sample_time"] = json!(1.0);
+        }
+        let doc = json!({"format": "polewright.design", "version": 3, "plant": plant,
+            "feedback": {"lqr": {"q": rows(&q), "r": rows(&r), "s": rows(&s)}}});
+        let name = case["name"].as_str().unwrap();
+        let got = design::run_text(&doc.to_string()).unwrap_or_else(|e| panic!("{name}: {e}")).feedback.gain;
+        // Random well-conditioned data: 1e-8 of ‖K‖ holds with room.
+        let err = (0..want.nrows()).flat_map(|i| (0..want.ncols()).map(move |j| (i, j))).map(|(i, j)| (got[i][j] - want[(i, j)]).abs()).fold(0.0, f64::max);
+        assert!(err <= 1e-8 * want.norm(), "{name}: {err:e} against ‖K‖ = {:e}", want.norm());
+        compared += 1;
+    }
+    assert_eq!(compared, 22);
+}

@@ -391,7 +391,7 @@ pub fn canonical(spec: &DesignSpec) -> DesignSpec {
             }
         }
         if let Some(l) = &mut f.lqr {
-            for m in [&mut l.q, &mut l.r].into_iter().flatten() {
+            for m in [&mut l.q, &mut l.r, &mut l.s].into_iter().flatten() {
                 *m = canonical_matrix(m);
             }
             if let Some(b) = &mut l.bryson {

@@ -211,7 +211,8 @@ pub struct ControllerSpec {
 /// LQR weights as given.
 #[derive(Debug, Clone, PartialEq)]
 pub enum LqrWeights {
-    Matrices { q: DMatrix<f64>, r: DMatrix<f64> },
+    /// `Q`, `R` and the cross weight `S` of `2 xᵀ S u` (absent: zero).
+    Matrices { q: DMatrix<f64>, r: DMatrix<f64>, s: Option<DMatrix<f64>> },
     /// Bryson's rule: `Q = diag(1/x_max²)`, `R = diag(1/u_max²)`.
     Bryson { max_state: Vec<f64>, max_input: Vec<f64> },
 }

@@ -79,6 +79,7 @@ field_paths! {
     Lqr => "feedback.lqr",
     LqrQ => "feedback.lqr.q",
     LqrR => "feedback.lqr.r",
+    LqrS => "feedback.lqr.s",
     LqrBryson => "feedback.lqr.bryson",
     LqrMaxState => "feedback.lqr.bryson.max_state",
     LqrMaxInput => "feedback.lqr.bryson.max_input",

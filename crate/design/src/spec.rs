@@ -200,6 +200,9 @@ pub struct LqrDoc {
     pub q: Option<MatrixValue>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub r: Option<MatrixValue>,
+    /// The cross weight `S` of `2 xᵀ S u` (states × inputs; version 3).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub s: Option<MatrixValue>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub bryson: Option<BrysonDoc>,
 }

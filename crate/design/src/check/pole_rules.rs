@@ -335,7 +335,11 @@ fn lqr_weights(l: &LqrDoc, plant: Option<&Plant>, out: &ControllerSpec, integrat
                 c.push(P::LqrR, "required: the input weight matrix R");
                 None
             });
-            let (q, r) = (q?, r?);
+            let cross = match l.s.as_ref().map(super::matrix) {
+                None | Some(None) => Some(None),
+                Some(Some(r)) => c.take(P::LqrS, r).map(Some),
+            };
+            let (q, r, cross) = (q?, r?, cross?);
             let m = plant.map(|p| p.inputs());
             if let (Some(n), Some(m), true) = (plant.map(|p| p.states()), m, tracking_read) {
                 let k = n + if out.implementation.as_ref().is_some_and(|i| i.computation_delay) { m } else { 0 } + integrators;
@@ -347,10 +351,18 @@ fn lqr_weights(l: &LqrDoc, plant: Option<&Plant>, out: &ControllerSpec, integrat
                     c.push(P::LqrR, format!("R is {}×{} but the plant has {m} inputs: give a {m}×{m} matrix", r.nrows(), r.ncols()));
                     return None;
                 }
+                if let Some(sm) = cross.as_ref().filter(|sm| sm.shape() != (k, m)) {
+                    c.push(P::LqrS, format!("S is {}×{} but the design has {k} states and {m} inputs: give a {k}×{m} matrix", sm.nrows(), sm.ncols()));
+                    return None;
+                }
             }
-            Some(LqrWeights::Matrices { q, r })
+            Some(LqrWeights::Matrices { q, r, s: cross })
         }
         (None, None, Some(b)) => bryson(b, plant, out, integrators, tracking_read, known, setup, c),
+        _ if l.s.is_some() && l.bryson.is_some() => {
+            c.push(P::LqrS, "a cross weight goes with \"q\" and \"r\", not with Bryson's rule");
+            None
+        }
         _ => {
             c.push(P::Lqr, "give \"q\" and \"r\" (weight matrices), or \"bryson\": {\"max_state\": [...], \"max_input\": [...]}");
             None

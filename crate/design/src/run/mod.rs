@@ -211,7 +211,7 @@ fn search_summary(plant: &Plant, r: &crate::search::SearchResult) -> SearchSumma
 
 fn lqr_result(spec: &ControllerSpec, d: &crate::riccati::LqrDesign) -> LqrResult {
     let (qw, rw) = match &spec.lqr {
-        Some(LqrWeights::Matrices { q, r }) => (rows(q), rows(r)),
+        Some(LqrWeights::Matrices { q, r, .. }) => (rows(q), rows(r)),
         Some(LqrWeights::Bryson { max_state, max_input }) => crate::riccati::bryson_weights(max_state, max_input).map(|(q, r)| (rows(&q), rows(&r))).unwrap_or_default(),
         None => (Vec::new(), Vec::new()),
     };

@@ -101,8 +101,8 @@ fn add_integrators(s: &Setup, pair: &mut DesignPair) -> Result<(), DesignError> 
 fn lqr(s: &Setup, pair: &DesignPair, w: &LqrWeights) -> Result<LqrDesign, DesignError> {
     let (da, m) = (&pair.da, s.m);
     let input = |path: P, message: String| DesignError::Input(InputError::new(path, message));
-    let (qw, rw) = match w {
-        LqrWeights::Matrices { q, r } => (q.clone(), r.clone()),
+    let (qw, rw, cross) = match w {
+        LqrWeights::Matrices { q, r, s: cross } => (q.clone(), r.clone(), cross.clone()),
         LqrWeights::Bryson { max_state, max_input } => {
             if max_state.len() != da.nrows() {
                 return Err(input(P::LqrMaxState, format!("{} values given but the design has {} states (plant, delay and integrator states)", max_state.len(), da.nrows())));
@@ -110,7 +110,8 @@ fn lqr(s: &Setup, pair: &DesignPair, w: &LqrWeights) -> Result<LqrDesign, Design
             if max_input.len() != m {
                 return Err(input(P::LqrMaxInput, format!("{} values given but the plant has {m} inputs", max_input.len())));
             }
-            crate::riccati::bryson_weights(max_state, max_input).map_err(|e| input(P::LqrBryson, e.to_string()))?
+            let (q, r) = crate::riccati::bryson_weights(max_state, max_input).map_err(|e| input(P::LqrBryson, e.to_string()))?;
+            (q, r, None)
         }
     };
     let k = da.nrows();
@@ -120,9 +121,12 @@ fn lqr(s: &Setup, pair: &DesignPair, w: &LqrWeights) -> Result<LqrDesign, Design
     if rw.shape() != (m, m) {
         return Err(input(P::LqrR, format!("R is {}×{} but the plant has {m} inputs: give a {m}×{m} matrix", rw.nrows(), rw.ncols())));
     }
-    let design = match s.t {
-        Some(_) => crate::riccati::discrete_lqr_gain(da, &pair.db, &qw, &rw),
-        None => crate::riccati::lqr_gain(da, &pair.db, &qw, &rw),
+    let design = match &cross {
+        None => match s.t {
+            Some(_) => crate::riccati::discrete_lqr_gain(da, &pair.db, &qw, &rw),
+            None => crate::riccati::lqr_gain(da, &pair.db, &qw, &rw),
+        },
+        Some(sw) => with_cross_weight(da, &pair.db, &qw, &rw, sw, s.t.is_some()),
     };
     design.map_err(|e| match e {
         RiccatiError::NotStabilizable { .. }
@@ -136,6 +140,31 @@ fn lqr(s: &Setup, pair: &DesignPair, w: &LqrWeights) -> Result<LqrDesign, Design
         | RiccatiError::NotStable => infeasible(&e),
         other => input(P::Lqr, other.to_string()),
     })
+}
+
+/// LQR with the cross weight `S` of `2 xᵀ S u`: substituting `u = v − R⁻¹ Sᵀ x` gives the
+/// standard problem of `A − B R⁻¹ Sᵀ` with `Q − S R⁻¹ Sᵀ` (the Schur complement, positive
+/// semidefinite when the joint weight `[[Q, S], [Sᵀ, R]]` is), whose Riccati solution `X` is the
+/// one of the original problem (e.g. Anderson & Moore, *Optimal Control: Linear Quadratic
+/// Methods*, 1990, §2.4; from memory). The gain is then the original one:
+/// `K = R⁻¹ (Bᵀ X + Sᵀ)`, or `(R + Bᵀ X B)⁻¹ (Bᵀ X A + Sᵀ)` when digital, and the closed-loop
+/// poles are those of `A − B K`.
+fn with_cross_weight(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatrix<f64>, sw: &DMatrix<f64>, digital: bool) -> Result<LqrDesign, RiccatiError> {
+    let singular = || RiccatiError::SingularMatrix { stage: crate::riccati::SolverStage::Gain };
+    let rinv_st = r.clone().lu().solve(&sw.transpose()).ok_or_else(singular)?;
+    let a2 = a - b * &rinv_st;
+    let q2 = q - sw * &rinv_st;
+    let q2 = (&q2 + q2.transpose()) * 0.5;
+    let base = if digital { crate::riccati::discrete_lqr_gain(&a2, b, &q2, r)? } else { crate::riccati::lqr_gain(&a2, b, &q2, r)? };
+    let x = &base.riccati_solution;
+    let gain = if digital {
+        (r + b.transpose() * x * b).lu().solve(&(b.transpose() * x * a + sw.transpose())).ok_or_else(singular)?
+    } else {
+        r.clone().lu().solve(&(b.transpose() * x + sw.transpose())).ok_or_else(singular)?
+    };
+    let mut poles = crate::linalg::eigen::try_eigenvalues(&(a - b * &gain)).map_err(RiccatiError::Eigen)?;
+    crate::linalg::eigen::sort_eigenvalues(&mut poles);
+    Ok(LqrDesign { gain, closed_loop_poles: poles, ..base })
 }
 
 /// One requested pole per design state.

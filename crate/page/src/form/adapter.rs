@@ -96,7 +96,7 @@ pub fn spec_from_form(form: &FormInput) -> Result<DesignSpec, Vec<FieldError>> {
             feedback.spec = Some(SpecDoc { overshoot, settling_time: scalar("spec_settling_time"), band: None, rise_time: scalar("spec_rise_time"), bandwidth: None });
         }
         "lqr" => {
-            feedback.lqr = Some(LqrDoc { q: None, r: None, bryson: Some(BrysonDoc { max_state: Some(NumberList::Text(text("lqr_max_state"))), max_input: numbers("lqr_max_input") }) });
+            feedback.lqr = Some(LqrDoc { q: None, r: None, s: None, bryson: Some(BrysonDoc { max_state: Some(NumberList::Text(text("lqr_max_state"))), max_input: numbers("lqr_max_input") }) });
         }
         _ => feedback.poles = Some(PoleList::Text(text("poles"))),
     }
@@ -238,7 +238,7 @@ fn not_on_page(spec: &DesignSpec) -> Option<&'static str> {
     let other_band = |b: Option<&Scalar>| b.is_some() && b != band_of_sim;
     [
         (spec.plant.sample_time.is_some(), "a plant given in discrete time (plant.sample_time)"),
-        (fb.and_then(|f| f.lqr.as_ref()).is_some_and(|l| l.q.is_some() || l.r.is_some()), "LQR weight matrices (feedback.lqr.q and r); the page uses Bryson's rule"),
+        (fb.and_then(|f| f.lqr.as_ref()).is_some_and(|l| l.q.is_some() || l.r.is_some() || l.s.is_some()), "LQR weight matrices (feedback.lqr.q, r and s); the page uses Bryson's rule"),
         (fb.and_then(|f| f.pattern.as_ref()).is_some_and(|p| p.bandwidth.is_some()), "a pattern scaled to a bandwidth"),
         (fb.and_then(|f| f.pattern.as_ref()).is_some_and(|p| other_band(p.band.as_ref())), "a settling band of the pattern apart from the simulation's"),
         (fb.and_then(|f| f.spec.as_ref()).is_some_and(|s| s.bandwidth.is_some()), "a bandwidth requirement in the specification"),
