@@ -472,10 +472,21 @@ fn each_bad_input_is_an_error_of_its_own_field() {
     assert_eq!(designed(&f).report, with.report);
     f.pattern_family = "bessel".into();
     assert!(only_error(&f, "pattern_normalisation").contains("\"anything\""));
-    // The binomial pattern repeats one pole three times; one input can place it once.
+    // The binomial pattern repeats one pole three times: with one input a Jordan block, the
+    // gain from the closed form of the companion plant, det(sI − A + bK) = s³ + (6 + k₃)s² +
+    // (5 + k₂)s + (1 + k₁) = (s + σ)³ (checkable by hand), with the repeated-poles caution.
     f.pattern_normalisation = String::new();
     f.pattern_family = "binomial".into();
-    only_error(&f, "pattern_family");
+    let out = designed(&f);
+    let r = out.design.as_ref().expect("design");
+    let sigma = -r.feedback.requested_poles[0][0];
+    assert!(r.feedback.requested_poles.iter().all(|p| p[0] == -sigma && p[1] == 0.0), "{:?}", r.feedback.requested_poles);
+    let k = &r.feedback.gain[0];
+    let want = [sigma.powi(3) - 1.0, 3.0 * sigma * sigma - 5.0, 3.0 * sigma - 6.0];
+    for (got, w) in k.iter().zip(want) {
+        assert!((got - w).abs() <= 1e-12 * w.abs().max(1.0), "{k:?} vs {want:?}");
+    }
+    assert!(r.warnings.iter().any(|w| w.code == "repeated-poles"), "{:?}", r.warnings);
     // A pattern gives s-plane poles.
     f.pattern_family = "bessel".into();
     f.sample_time = "0.01".into();

@@ -280,35 +280,52 @@ pub fn delay_augmented(phi: &DMatrix<f64>, gamma: &DMatrix<f64>) -> (DMatrix<f64
 /// 1997, from memory): sample 10–30 times per closed-loop bandwidth period, i.e.
 /// `ω_s / ω_b ≈ 10…30` with `ω_s = 2π / T` and `ω_b` taken as the largest `|s|` of the
 /// continuous closed-loop poles.
+///
+/// Poles at `z = 0` (deadbeat, or a computation delay) have no finite `s`: they settle in one
+/// sample whatever the sample time, so they are left out of `ω_b` and named in the message; when
+/// every pole is there the verdict is [`SampleRateVerdict::Deadbeat`] and no bandwidth is given.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SampleRateAdvice {
-    pub bandwidth: f64,
-    pub samples_per_bandwidth: f64,
+    /// `ω_b` in rad/s; `None` when every pole is at `z = 0`.
+    pub bandwidth: Option<f64>,
+    /// `ω_s / ω_b`; `None` when every pole is at `z = 0`.
+    pub samples_per_bandwidth: Option<f64>,
     pub verdict: SampleRateVerdict,
     pub message: String,
 }
 
-/// Samples per closed-loop bandwidth period: fewer than 10, 10–30, more than 30.
+/// Samples per closed-loop bandwidth period: fewer than 10, 10–30, more than 30; or every pole
+/// at `z = 0`, where the rule does not apply.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum SampleRateVerdict {
     TooSlow,
     Adequate,
     Fast,
+    Deadbeat,
 }
 
-/// See [`SampleRateAdvice`].
+/// See [`SampleRateAdvice`]. `continuous_poles` are the s-plane equivalents; a pole at
+/// `z = 0` is given as a non-finite `s` (see [`crate::plane::s_from_z_or_infinite`]).
 pub fn sample_rate_advice(continuous_poles: &[Complex64], t: f64) -> SampleRateAdvice {
-    let wb = continuous_poles.iter().map(|z| z.norm()).fold(0.0, f64::max);
+    let finite: Vec<f64> = continuous_poles.iter().filter(|z| z.re.is_finite() && z.im.is_finite()).map(|z| z.norm()).collect();
+    let deadbeat = continuous_poles.len() - finite.len();
+    if finite.is_empty() && deadbeat > 0 {
+        let message = format!("Every closed-loop pole is at z = 0 (deadbeat): the loop settles in at most {deadbeat} samples, so the sample time itself sets the speed and the rule of 10–30 samples per bandwidth period does not apply. Deadbeat asks for inputs of the order of the state error divided by a power of the sample time: check the peak inputs against the limits.");
+        return SampleRateAdvice { bandwidth: None, samples_per_bandwidth: None, verdict: SampleRateVerdict::Deadbeat, message };
+    }
+    let wb = finite.iter().copied().fold(0.0, f64::max);
     let ratio = if wb > 0.0 { 2.0 * std::f64::consts::PI / (t * wb) } else { f64::INFINITY };
+    let aside = if deadbeat > 0 { format!(" ({deadbeat} pole(s) at z = 0, which settle in one sample each, are left out)") } else { String::new() };
     let (verdict, message) = if ratio < 10.0 {
-        (SampleRateVerdict::TooSlow, format!("The sample rate is only {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s); rules of thumb ask for 10–30 times. Sample faster or slow the poles down: the digital loop will behave worse than designed."))
+        (SampleRateVerdict::TooSlow, format!("The sample rate is only {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s){aside}; rules of thumb ask for 10–30 times. Sample faster or slow the poles down: the digital loop will behave worse than designed."))
     } else if ratio <= 30.0 {
-        (SampleRateVerdict::Adequate, format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s), within the usual 10–30."))
+        (SampleRateVerdict::Adequate, format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s){aside}, within the usual 10–30."))
     } else {
-        (SampleRateVerdict::Fast, format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s): more than enough (beyond about 30, numerical precision of the controller coefficients starts to matter more than sampling)."))
+        (SampleRateVerdict::Fast, format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s){aside}: more than enough (beyond about 30, numerical precision of the controller coefficients starts to matter more than sampling)."))
     };
-    SampleRateAdvice { bandwidth: wb, samples_per_bandwidth: ratio, verdict, message }
+    let finite_or_none = |v: f64| v.is_finite().then_some(v);
+    SampleRateAdvice { bandwidth: Some(wb), samples_per_bandwidth: finite_or_none(ratio), verdict, message }
 }
 
 /// Pseudo-inverse of a small matrix through its normal equations (for back-calculation).

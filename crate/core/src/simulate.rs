@@ -206,13 +206,20 @@ mod tests;
 
 /// The simulated time when none is given (the one rule for every simulation and for the checks
 /// that size them): `7 / σ` for the slowest decay rate `σ` of the (s-plane) poles, about seven
-/// time constants, enough to settle into ±0.1 % (common practice); `5 / max|λ|` when no pole
-/// decays, 10 s when all are at the origin; doubled when an actuator limit may slow the response.
+/// time constants, enough to settle into ±0.1 % (common practice); when the slowest pole is
+/// repeated `p` times (a Jordan block, whose response carries `t^{p−1} e^{−σt}`) `3 / σ` more per
+/// extra copy (`t²/2 · e^{−t}` falls to 1e-3 only near `t = 11`); `5 / max|λ|` when no pole
+/// decays, 10 s when all are at the origin; doubled when an actuator limit may slow the
+/// response. Non-finite poles (the s-plane image of `z = 0`) are left out.
 pub fn default_horizon(poles: &[Complex64], limited: bool) -> f64 {
-    let slowest_decay = poles.iter().map(|z| -z.re).filter(|d| *d > 0.0).fold(f64::INFINITY, f64::min);
+    let decaying: Vec<Complex64> = poles.iter().copied().filter(|z| z.re.is_finite() && z.im.is_finite() && z.re < 0.0).collect();
+    let slowest = decaying.iter().copied().max_by(|x, y| x.re.total_cmp(&y.re));
+    let slowest_decay = slowest.map_or(f64::INFINITY, |z| -z.re);
+    // Copies of the slowest pole (a conjugate pair counts once): within 1 % of it.
+    let copies = slowest.map_or(1, |s| decaying.iter().filter(|z| z.im >= 0.0 && (**z - Complex64::new(s.re, s.im.abs())).norm() <= 0.01 * s.norm()).count().max(1));
     let speed = poles.iter().map(|z| z.norm()).filter(|v| v.is_finite()).fold(0.0, f64::max);
     let base = if slowest_decay.is_finite() {
-        7.0 / slowest_decay
+        (7.0 + 3.0 * (copies - 1) as f64) / slowest_decay
     } else if speed > 0.0 {
         5.0 / speed
     } else {

@@ -148,8 +148,9 @@ pub enum TrackingResult {
 
 #[derive(Debug, Clone, Serialize)]
 pub struct SampleRateResult {
-    pub bandwidth: f64,
-    pub samples_per_bandwidth: f64,
+    /// rad/s; absent when every pole is at `z = 0` (deadbeat).
+    pub bandwidth: Option<f64>,
+    pub samples_per_bandwidth: Option<f64>,
     pub verdict: crate::controller::SampleRateVerdict,
     pub message: String,
 }

@@ -27,7 +27,8 @@
 //! | `loop-diverged` | danger | the whole loop (controller with the plant) grew without bound |
 //! | `separation-failed` | danger | the loop with observer does not have the controller and observer poles (to 1e-6) |
 //! | `pole-outside-region` | caution | closed-loop poles lie outside the specification's region |
-//! | `repeated-poles` | caution | the binomial pattern repeats one pole beyond rank B |
+//! | `repeated-poles` | caution | a pole repeats more often than rank B (with one input: at all): it is placed as a Jordan block, whose poles move by about the p-th root of a model error |
+//! | `deadbeat` | caution | requested poles at z = 0: the loop settles in a few samples with large inputs, and the sample time sets the speed |
 //! | `search-not-monotonic` | note | the peak input did not grow steadily with the speed-up: the factor found is one crossing |
 //! | `simulation-shortened` | note | the simulated time chosen from the slowest pole was cut to the sample cap (50 000 samples) |
 //! | `search-range-limit` | note | the inputs stay within their limits even at the largest factor tried |
@@ -116,8 +117,10 @@ pub enum WarningCode {
     SeparationFailed,
     /// Closed-loop poles lie outside the specification's region.
     PoleOutsideRegion,
-    /// The binomial pattern repeats one pole beyond rank B.
+    /// A pole repeats more often than rank B: placed as a Jordan block (sensitive to model errors).
     RepeatedPoles,
+    /// Requested poles at z = 0 (deadbeat): a few samples to settle, large inputs.
+    Deadbeat,
     /// The peak input did not grow steadily with the speed-up: the factor found is one crossing.
     SearchNotMonotonic,
     /// The inputs stay within their limits even at the largest factor tried.
@@ -128,7 +131,7 @@ pub enum WarningCode {
 
 impl WarningCode {
     /// Every code, in the table's order.
-    pub const ALL: [WarningCode; 28] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
+    pub const ALL: [WarningCode; 29] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::Deadbeat, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
 
     /// The stable code, as serialised.
     pub fn as_str(self) -> &'static str {
@@ -158,6 +161,7 @@ impl WarningCode {
             WarningCode::SeparationFailed => "separation-failed",
             WarningCode::PoleOutsideRegion => "pole-outside-region",
             WarningCode::RepeatedPoles => "repeated-poles",
+            WarningCode::Deadbeat => "deadbeat",
             WarningCode::SearchNotMonotonic => "search-not-monotonic",
             WarningCode::SearchRangeLimit => "search-range-limit",
             WarningCode::SimulationShortened => "simulation-shortened",
@@ -168,7 +172,7 @@ impl WarningCode {
     pub fn severity(self) -> Severity {
         match self {
             WarningCode::RequestedPoleUnstable | WarningCode::PlacementInaccurate | WarningCode::SimulationDiverged | WarningCode::ObserverInaccurate | WarningCode::LoopDiverged | WarningCode::SeparationFailed => Severity::Danger,
-            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles => Severity::Caution,
+            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles | WarningCode::Deadbeat => Severity::Caution,
             WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit | WarningCode::SimulationShortened => Severity::Note,
         }
     }

@@ -39,8 +39,40 @@ fn repeated_pole_limits() {
     let b = DMatrix::from_row_slice(3, 2, &[0.0, 0.0, 1.0, 0.0, 0.0, 1.0]);
     let ok = state_feedback_gain(&a, &b, &[c(-1.0, 0.0), c(-1.0, 0.0), c(-3.0, 0.0)], PlacementParams::default()).unwrap();
     assert!(ok.max_pole_error < 1e-8, "{}", ok.max_pole_error);
-    let e = state_feedback_gain(&a, &b, &[c(-1.0, 0.0); 3], PlacementParams::default()).unwrap_err();
-    assert!(matches!(e, PlacementError::RepeatedBeyondRank { multiplicity: 3, rank: 2, .. }), "{e:?}");
+    // Three copies with rank B = 2: a Jordan block by the multi-input deflation;
+    // (A − B K + I)³ = 0 by Cayley–Hamilton.
+    let p = state_feedback_gain(&a, &b, &[c(-1.0, 0.0); 3], PlacementParams::default()).unwrap();
+    assert_eq!(p.method, PlacementMethod::DeflationMultiInput);
+    let shifted = &a - &b * &p.gain + DMatrix::identity(3, 3);
+    let cube = &shifted * &shifted * &shifted;
+    assert!(cube.norm() < 1e-12 * (1.0 + a.norm() + (&b * &p.gain).norm()).powi(3), "{cube}");
+}
+
+#[test]
+fn deadbeat_double_integrator_closed_form() {
+    // Zero-order-hold double integrator, Φ = [[1, T], [0, 1]], Γ = [T²/2, T]: every pole at
+    // z = 0 gives K = [1/T², 3/(2T)] (Franklin, Powell & Workman, Digital Control of Dynamic
+    // Systems, 3rd ed., 1998, deadbeat example; from memory; checkable by hand: det(zI − Φ + ΓK)
+    // = z² + (T²k₁/2 + T k₂ − 2) z + (T²k₁/2 − T k₂ + 1)), and (Φ − Γ K)² = 0.
+    for t in [1e-3, 0.1, 1.0, 30.0] {
+        let a = DMatrix::from_row_slice(2, 2, &[1.0, t, 0.0, 1.0]);
+        let b = DMatrix::from_row_slice(2, 1, &[t * t / 2.0, t]);
+        let p = state_feedback_gain(&a, &b, &[c(0.0, 0.0); 2], PlacementParams { domain: Domain::Discrete, ..PlacementParams::default() }).unwrap();
+        assert_eq!(p.method, PlacementMethod::Deflation);
+        let want = [1.0 / (t * t), 1.5 / t];
+        // The gain is determined through the controllability matrix [Γ ΦΓ]: rounding is
+        // amplified by its condition number (about 2000 at T = 1e-3).
+        let mut ctrb = DMatrix::<f64>::zeros(2, 2);
+        ctrb.set_column(0, &b.column(0));
+        ctrb.set_column(1, &(&a * b.column(0)));
+        let kappa = crate::linalg::svd::try_condition_number(&ctrb, SvdParams::default()).unwrap();
+        for (got, w) in p.gain.iter().zip(want) {
+            assert!((got - w).abs() < 10.0 * f64::EPSILON * kappa * w, "T = {t}: {} vs {want:?} (κ = {kappa:.1e})", p.gain);
+        }
+        let closed = &a - &b * &p.gain;
+        let square = &closed * &closed;
+        assert!(square.norm() < 1e-14 * (a.norm() + (&b * &p.gain).norm()).powi(2), "T = {t}: {square}");
+    }
 }
 
 #[test]

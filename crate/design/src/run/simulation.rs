@@ -66,7 +66,18 @@ pub(super) fn horizon(s: &Setup, pair: &DesignPair, g: &Gains) -> Horizon {
     if let Some((_, op, _)) = &g.observer {
         all_s.extend(s.design_to_s(op));
     }
-    let auto = default_horizon(&all_s, limits.iter().any(|l| l.is_some()));
+    let limited = limits.iter().any(|l| l.is_some());
+    let mut auto = default_horizon(&all_s, limited);
+    if let Some(ts) = s.t {
+        // Poles at z = 0 (deadbeat) have no s-plane image: such a loop settles within as many
+        // samples as it has of them; show that many and some more.
+        let at_origin = all_s.iter().filter(|z| !(z.re.is_finite() && z.im.is_finite())).count();
+        if at_origin > 0 {
+            let finite: Vec<Complex64> = all_s.iter().copied().filter(|z| z.re.is_finite() && z.im.is_finite()).collect();
+            let from_finite = if finite.is_empty() { 0.0 } else { auto };
+            auto = from_finite.max((4 * at_origin).max(20) as f64 * ts * if limited { 2.0 } else { 1.0 });
+        }
+    }
     Horizon { x0, x0_chosen, limits, auto }
 }
 
@@ -315,9 +326,15 @@ fn separation(s: &Setup, g: &Gains) -> (Option<Vec<crate::Pair>>, Option<f64>) {
     big.view_mut((n, n), (n, n)).copy_from(&(ad - l * c - bd * k));
     match try_eigenvalues(&big) {
         Ok(lp) => {
-            let mut union: Vec<Complex64> = g.placement.achieved_poles.clone();
-            union.extend(od.placement.achieved_poles.iter().cloned());
-            let err = crate::place::max_matching_error(&union, &lp, big.norm());
+            // Against the poles asked for (and the fixed modes): a repeated pole placed as a
+            // Jordan block scatters by about ε^(1/p) in each computation, so its copies are
+            // compared through their mean (see `cluster_errors`).
+            let mut union: Vec<Complex64> = Vec::new();
+            for p in [&g.placement, &od.placement] {
+                union.extend(p.assigned_poles.iter().chain(p.fixed_modes.iter()).cloned());
+            }
+            let floor = crate::place::pole_error_floor(crate::analysis::Domain::Continuous, big.norm());
+            let (err, _) = crate::place::cluster_errors(&union, &lp, floor);
             (Some(lp.iter().map(|z| pole_pair(*z)).collect()), Some(err))
         }
         Err(_) => (None, None),

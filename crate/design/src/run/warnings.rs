@@ -8,7 +8,7 @@ use super::setup::Setup;
 use crate::analysis::{Domain, ModeVerdict};
 use crate::controller::SampleRateAdvice;
 use crate::result::LoopResult;
-use crate::{fmt_num, ControllerSpec, ObserverPoles, PoleChoiceMethod};
+use crate::{fmt_num, ControllerSpec, ObserverPoles};
 use crate::poles::format_complex;
 use crate::warnings::{Warning, WarningCode, WarningParams};
 
@@ -47,7 +47,17 @@ pub(super) fn requested_pole_warnings(s: &Setup, pair: &DesignPair, anorm: f64) 
             out.push(Warning::new(WarningCode::RequestedPoleOnAxis, format!("The requested{plane} pole {} {}.", shown(z), what[1])));
         }
     }
-    for z in s.to_s(&pair.base_poles).iter().filter(|z| z.im >= 0.0) {
+    let requested_s = s.to_s(&pair.base_poles);
+    let at_origin = requested_s.iter().filter(|z| !(z.re.is_finite() && z.im.is_finite())).count();
+    if at_origin > 0 {
+        out.push(Warning::new(
+            WarningCode::Deadbeat,
+            format!(
+                "{at_origin} requested pole(s) at z = 0 (deadbeat): the states settle within at most {at_origin} sample(s) from any start, which takes inputs of the order of the state error divided by a power of the sample time, and the response between samples and under model errors is not what the poles suggest. Check the peak inputs against the limits and the response with the plant's uncertainty."
+            ),
+        ));
+    }
+    for z in requested_s.iter().filter(|z| z.im >= 0.0 && z.re.is_finite() && z.im.is_finite()) {
         if s.spec.plant_sample_time.is_none() && anorm > 0.0 && z.norm() > wp.fast_pole_ratio * anorm {
             out.push(Warning::new(
                 WarningCode::FastPole,
@@ -67,8 +77,10 @@ pub(super) fn requested_pole_warnings(s: &Setup, pair: &DesignPair, anorm: f64) 
 pub(super) fn placement_warnings(s: &Setup, g: &Gains, an: &Analysis) -> Vec<Warning> {
     let (p, wp, m) = (&g.placement, WarningParams::default(), s.m);
     let mut out = Vec::new();
-    // Judged in balanced coordinates, so that the units of the states do not decide it.
-    if !(p.balanced_eigenvector_condition <= wp.fragile_condition) {
+    if let Some(w) = jordan_warning(p, "closed-loop", "rank B") {
+        out.push(w);
+    } else if !(p.balanced_eigenvector_condition <= wp.fragile_condition) {
+        // Judged in balanced coordinates, so that the units of the states do not decide it.
         out.push(Warning::new(
             WarningCode::FragileDesign,
             format!(
@@ -118,7 +130,9 @@ pub(super) fn controller_warnings(g: &Gains, advice: Option<&SampleRateAdvice>) 
         if od.placement.max_pole_error > wp.inaccurate_placement {
             out.push(Warning::new(WarningCode::ObserverInaccurate, format!("The observer poles are achieved only to within {} (relative).", fmt_num(od.placement.max_pole_error))));
         }
-        if !(od.placement.eigenvector_condition <= wp.fragile_condition) {
+        if let Some(w) = jordan_warning(&od.placement, "observer", "the number of independent outputs") {
+            out.push(w);
+        } else if !(od.placement.eigenvector_condition <= wp.fragile_condition) {
             out.push(Warning::new(WarningCode::FragileObserver, format!("The observer's eigenvector condition number is {}: its poles are sensitive to model errors.", fmt_num(od.placement.eigenvector_condition))));
         }
     }
@@ -187,9 +201,6 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
             ));
         }
     }
-    if choice.is_some_and(|c| c.method == PoleChoiceMethod::Binomial && g.placement.input_rank < c.poles.len()) {
-        out.push(Warning::new(WarningCode::RepeatedPoles, "The binomial pattern repeats one pole: repeated poles are sensitive to model errors, and with several inputs at most rank(B) copies can be placed."));
-    }
     if let Some(r) = &pair.search {
         if !r.monotonic {
             out.push(Warning::new(WarningCode::SearchNotMonotonic, "The peak input did not grow steadily with the speed-up over the searched range: the factor found is one crossing of the limit, not necessarily the only one; check the samples."));
@@ -199,4 +210,38 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
         }
     }
     out
+}
+
+/// The `repeated-poles` warning when a placement put a Jordan block (a pole repeated beyond
+/// what `limit` allows as independent eigenvectors).
+fn jordan_warning(p: &crate::place::Placement, what: &str, limit: &str) -> Option<Warning> {
+    use crate::place::PlacementMethod;
+    let combined = match &p.method {
+        PlacementMethod::Deflation => String::new(),
+        PlacementMethod::DeflationMultiInput => " With several inputs, spreading the copies slightly apart (or using at most rank B of them) lets the eigenvectors be independent and is more robust.".to_string(),
+        PlacementMethod::Robust | PlacementMethod::Given => return None,
+    };
+    let (pole, copies) = most_repeated(&p.assigned_poles);
+    Some(Warning::new(
+        WarningCode::RepeatedPoles,
+        format!(
+            "The {what} pole {} is repeated {copies} times, more than {limit} allows with independent eigenvectors, so it is placed as a Jordan block: a model error of relative size δ moves such poles by about δ^(1/{copies}) (for δ = 1e-6: {}). Here the achieved poles scatter by up to {} around it (relative) and their mean is within {}.{combined}",
+            shown(&pole),
+            fmt_num(1e-6f64.powf(1.0 / copies as f64)),
+            fmt_num(p.repeated_pole_spread),
+            fmt_num(p.max_pole_error)
+        ),
+    ))
+}
+
+/// The pole that repeats most often, and how often.
+fn most_repeated(poles: &[Complex64]) -> (Complex64, usize) {
+    let mut best = (Complex64::new(0.0, 0.0), 0);
+    for z in poles {
+        let count = poles.iter().filter(|w| *w == z).count();
+        if count > best.1 || (count == best.1 && z.im > best.0.im) {
+            best = (*z, count);
+        }
+    }
+    best
 }

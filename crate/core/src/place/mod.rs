@@ -1,0 +1,630 @@
+//! Robust pole placement by eigenstructure assignment, for any number of inputs.
+//!
+//! # Equation
+//! Find `K` (`m × n`, control law `u = −K x`) such that `A − B K` has the
+//! requested eigenvalues `λ₁ … λₙ`, and among all such `K` one whose
+//! eigenvector matrix `X` is well conditioned, so that the closed-loop poles
+//! are insensitive to errors in `A`, `B` and `K`.
+//!
+//! # Method
+//! Kautsky, Nichols & Van Dooren, "Robust pole assignment in linear state
+//! feedback", Int. J. Control 41(5):1129–1155, 1985 (KNV), with the objective of
+//! Tits & Yang, "Globally convergent algorithms for robust pole assignment by
+//! state feedback", IEEE TAC 41(10):1432–1452, 1996: maximise `|det X|` over
+//! unit-norm eigenvectors.
+//! 1. SVD of `B = U_r Σ_r V_rᴴ` gives the numerical rank `r` (dependent input
+//!    columns are detected here) and `U₁`, an orthonormal basis of the
+//!    complement of `range B`.
+//! 2. For each requested pole, the admissible eigenvectors form
+//!    `S_j = null(U₁ᵀ (A − λ_j I))`, of dimension `r` (KNV §2), found from a full
+//!    Householder QR of `(A − λ_j I)ᴴ U₁`.
+//! 3. Starting from the better (larger `|det X|`) of two initial guesses, each
+//!    column is replaced in turn by the unit vector of `S_j` most orthogonal to
+//!    the other columns: `x_j ← S_j S_jᴴ y_j / ‖·‖`, where `y_j = X⁻ᴴ e_j`
+//!    is orthogonal to every other column (KNV "method 0"). Each such step cannot
+//!    decrease `|det X|`. `X⁻¹` is carried along by rank-one (Sherman–Morrison)
+//!    updates — the rank-one structure KNV point out — so a sweep costs `O(n³)`
+//!    instead of `O(n⁴)`, and it is refactored from scratch after each sweep.
+//!    A complex pair updates its two conjugate columns together; the pair step is
+//!    kept only if `|det X|` does not decrease (matrix determinant lemma).
+//! 4. Sweeps stop when `|det X|` improves by less than
+//!    [`PlacementParams::improvement_tolerance`] (relative) over a sweep, or when
+//!    `κ₂(X)`, checked every few sweeps, stops improving; the best-conditioned `X`
+//!    seen is kept. Three starting guesses are refined and the best kept.
+//! 5. `M = X Λ X⁻¹` (real up to rounding) and `K = V_r Σ_r⁻¹ U_rᵀ (A − M)`,
+//!    the minimum-norm gain when `B` has dependent columns.
+//!
+//! With one input (`r = 1`) and distinct poles every `S_j` is a line: `X` is unique and no
+//! iteration runs. With `r = n`, `S_j` is the whole space. Ackermann's formula
+//! and powers of `A` are never used.
+//!
+//! Uncontrollable but stabilisable plants are first put in staircase form
+//! (see [`crate::analysis`]); only the controllable part is assigned, the fixed
+//! modes stay where they are and the requested poles they displace are reported.
+//!
+//! # Cost
+//! `O(n² (n − r))` per distinct pole for the subspaces (`O(n⁴)` in all, less with
+//! conjugate pairs, which share theirs), and `O(n³)` per sweep.
+//!
+//! A pole requested more often than `rank B` allows (with one input: any repeated pole, as in
+//! deadbeat designs) has no diagonalisable closed loop; such requests go to the orthogonal
+//! deflation of [`deflation`], which places a Jordan block.
+//!
+//! # Failure modes
+//! - a requested pole repeated more than `rank B` times on a plant that no single combination
+//!   of the inputs controls: [`PlacementError::RepeatedBeyondRank`];
+//! - an uncontrollable mode outside the open left half-plane:
+//!   [`PlacementError::UncontrollableUnstableMode`];
+//! - a singular eigenvector matrix (a degenerate problem), or a failed
+//!   eigenvalue/SVD iteration: [`PlacementError::Numerical`].
+//!
+//! The achieved poles are always recomputed from `A − B K` by an independent
+//! eigenvalue computation and compared with the request.
+
+use nalgebra::{DMatrix, DVector};
+use num_complex::Complex64;
+
+use crate::analysis::{staircase, AnalysisError, Domain};
+use crate::linalg::eigen::{sort_eigenvalues, try_eigenvalues, EigenError};
+use crate::linalg::svd::{try_condition_number, try_norm2, try_singular_values, SvdError, SvdParams};
+use crate::poles::check_conjugate_pairs;
+
+mod deflation;
+mod robust;
+
+use robust::{abs_det, balanced_condition, to_complex};
+
+/// Tuning constants of the placement.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PlacementParams {
+    /// Largest number of sweeps over all columns. Default 200.
+    pub max_sweeps: usize,
+    /// Stop when a sweep raises `|det X|` by less than this fraction. Default `1e-6`.
+    pub improvement_tolerance: f64,
+    /// Singular values of `B` below this fraction of the largest count as zero. Default `1e-10`.
+    pub rank_tolerance: f64,
+    /// Relative rank tolerance of the staircase used for uncontrollable plants. Default `1e-10`.
+    pub controllability_tolerance: f64,
+    /// Sweeps between checks of `κ₂(X)`; also the length of the first stage in which every
+    /// starting guess is refined before only the best ones continue. Default 40.
+    pub condition_check_interval: usize,
+    /// Continuous or discrete time: decides whether a fixed (uncontrollable) mode is
+    /// acceptable. Default continuous.
+    pub domain: Domain,
+    /// How many of the starting guesses continue after the first stage. Default 1.
+    pub finalists: usize,
+    /// Sweeps between refactorisations of `X⁻¹` (rank-one updates in between). Default 4.
+    pub refactor_interval: usize,
+    /// Stop when `κ₂(X)` improved by less than this fraction since the last check. Default `1e-4`.
+    pub condition_stall_tolerance: f64,
+}
+
+impl Default for PlacementParams {
+    fn default() -> Self {
+        PlacementParams {
+            max_sweeps: 200,
+            improvement_tolerance: 1e-6,
+            rank_tolerance: 1e-10,
+            controllability_tolerance: 1e-10,
+            condition_check_interval: 40,
+            refactor_interval: 4,
+            finalists: 1,
+            domain: Domain::Continuous,
+            condition_stall_tolerance: 1e-4,
+        }
+    }
+}
+
+/// Why a gain could not be computed.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PlacementError {
+    /// The number of requested poles does not fit the plant.
+    PoleCount { expected: usize, controllable: usize, found: usize },
+    /// A requested pole is not finite or lacks its conjugate.
+    InvalidPoles { message: String },
+    /// A pole is requested more often than `rank B` allows.
+    RepeatedBeyondRank { pole: Complex64, multiplicity: usize, rank: usize },
+    /// A mode that feedback cannot move is not strictly stable.
+    UncontrollableUnstableMode { pole: Complex64 },
+    /// The fixed modes of an uncontrollable plant cannot be matched to the request.
+    FixedModesDoNotFit { fixed: Vec<Complex64>, controllable: usize },
+    /// A numerical step failed.
+    Numerical { message: String },
+}
+
+impl std::fmt::Display for PlacementError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        use crate::poles::format_complex as fc;
+        match self {
+            PlacementError::PoleCount { expected, controllable, found } => {
+                if controllable < expected {
+                    write!(f, "{found} poles were requested but the plant has {expected} states, of which {controllable} are controllable; give {expected} poles (the ones nearest the fixed modes are left unassigned) or exactly {controllable}")
+                } else {
+                    write!(f, "{found} poles were requested but the plant has {expected} states; give exactly {expected} poles")
+                }
+            }
+            PlacementError::InvalidPoles { message } => write!(f, "{message}"),
+            PlacementError::RepeatedBeyondRank { pole, multiplicity, rank } => write!(
+                f,
+                "the pole {} is requested {multiplicity} times but B has rank {rank}: state feedback can give one eigenvalue at most {rank} independent eigenvectors; spread the repeated poles slightly apart (e.g. by 1 %) or use fewer copies",
+                fc(*pole)
+            ),
+            PlacementError::UncontrollableUnstableMode { pole } => write!(
+                f,
+                "the mode at {} is uncontrollable (no input reaches it) and not strictly stable, so no state feedback can stabilise this plant; change the actuators (B) or the plant",
+                fc(*pole)
+            ),
+            PlacementError::FixedModesDoNotFit { fixed, controllable } => write!(
+                f,
+                "the uncontrollable modes {} cannot be matched to requested poles of the same kind (real or complex pair); give exactly {controllable} poles for the controllable part",
+                fixed.iter().map(|z| fc(*z)).collect::<Vec<_>>().join(", ")
+            ),
+            PlacementError::Numerical { message } => write!(f, "pole placement failed: {message}"),
+        }
+    }
+}
+
+impl std::error::Error for PlacementError {}
+
+impl From<EigenError> for PlacementError {
+    fn from(e: EigenError) -> Self {
+        PlacementError::Numerical { message: e.to_string() }
+    }
+}
+impl From<SvdError> for PlacementError {
+    fn from(e: SvdError) -> Self {
+        PlacementError::Numerical { message: e.to_string() }
+    }
+}
+impl From<AnalysisError> for PlacementError {
+    fn from(e: AnalysisError) -> Self {
+        PlacementError::Numerical { message: e.to_string() }
+    }
+}
+
+/// What the placement achieved.
+#[derive(Debug, Clone)]
+pub struct Placement {
+    /// `K`, `m × n`, for `u = −K x`.
+    pub gain: DMatrix<f64>,
+    /// Eigenvalues of `A − B K`, recomputed independently, sorted.
+    pub achieved_poles: Vec<Complex64>,
+    /// The requested poles that were assigned, sorted.
+    pub assigned_poles: Vec<Complex64>,
+    /// Requested poles left unassigned because fixed modes take their place.
+    pub not_assigned: Vec<Complex64>,
+    /// Uncontrollable modes (they stay where they are).
+    pub fixed_modes: Vec<Complex64>,
+    /// Largest `|λ_achieved − λ_requested| / |λ_requested|` over a one-to-one matching
+    /// (absolute for a requested pole at 0), including fixed modes against themselves.
+    pub max_pole_error: f64,
+    /// `κ₂(X)` of the unit-column eigenvector matrix of the assigned part.
+    pub eigenvector_condition: f64,
+    /// `κ₂(D⁻¹ X)` with unit columns, `D` the Parlett–Reinsch balancing of the closed loop
+    /// ([`balancing_scale`]): the same conditioning judged independently of the units the
+    /// states are measured in. An element-wise relative model error `δA_ij = ε_ij A_ij` stays
+    /// element-wise relative under a diagonal similarity, so the balanced coordinates are the
+    /// fairer place to judge sensitivity to such errors; `κ₂(X)` itself grows without bound
+    /// when one state is measured in much larger units than another (seen: 64 207 against
+    /// 222 for a digital belt axis whose computation-delay state is in newtons). With
+    /// uncontrollable modes it is computed in the orthogonal staircase coordinates of the
+    /// controllable part.
+    pub balanced_eigenvector_condition: f64,
+    /// `|det X|` with unit columns (1 is the ideal: orthonormal eigenvectors).
+    pub abs_det_x: f64,
+    /// `‖K‖₂`.
+    pub gain_norm: f64,
+    /// Sweeps used (0 for one input or rank B = n).
+    pub iterations: usize,
+    /// Whether the sweeps met the improvement tolerance (true when no sweep was needed).
+    pub converged: bool,
+    /// Numerical rank of `B`.
+    pub input_rank: usize,
+    /// How the gain was computed.
+    pub method: PlacementMethod,
+    /// For requested poles that repeat: the largest distance of an achieved pole from the
+    /// repeated pole it belongs to (relative, with the floor of [`pole_error_floor`]); 0 when no
+    /// pole repeats. A `p`-fold pole in a Jordan block scatters by about `δ^{1/p}` for a
+    /// perturbation `δ`, so this is larger than [`Placement::max_pole_error`], which compares
+    /// each cluster's mean.
+    pub repeated_pole_spread: f64,
+}
+
+/// How a state-feedback gain was computed.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PlacementMethod {
+    /// Eigenstructure assignment (Kautsky–Nichols–Van Dooren with the Tits–Yang objective).
+    Robust,
+    /// One input, a pole repeated: orthogonal deflation on the controllable Hessenberg form.
+    Deflation,
+    /// Several inputs, a pole repeated beyond `rank B`: orthogonal deflation one eigenvector
+    /// (or real invariant plane of a pair) at a time, each the admissible one needing the
+    /// least gain.
+    DeflationMultiInput,
+    /// A gain computed elsewhere (an LQR gain), assessed as it is.
+    Given,
+}
+
+#[derive(Debug, Clone, Copy)]
+enum Slot {
+    Real(usize),
+    Pair(usize),
+}
+
+/// State-feedback gain placing the eigenvalues of `A − B K` at `poles`.
+///
+/// `poles` must have `n` entries (or exactly as many as the controllable
+/// subspace has dimensions), complex ones in conjugate pairs.
+///
+/// # Errors
+/// See [`PlacementError`].
+pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Placement, PlacementError> {
+    let n = a.nrows();
+    check_conjugate_pairs(poles).map_err(|e| PlacementError::InvalidPoles { message: e.to_string() })?;
+    // Controllability via the staircase.
+    let m = b.ncols();
+    let mut ab = DMatrix::<f64>::zeros(n, n + m);
+    ab.columns_mut(0, n).copy_from(a);
+    ab.columns_mut(n, m).copy_from(b);
+    let scale = try_norm2(&ab, SvdParams::default())?;
+    let st = staircase(a, b, params.controllability_tolerance * scale)?;
+    let nc = st.dimension;
+    if nc < n {
+        // Judged against ‖[A B]‖ some modes look unreached; judged in balanced coordinates,
+        // each block against its own scale, they may only be measured in other units. Then the
+        // placement is done there and the gain brought back: u = −K_bal D⁻¹ x.
+        if let Some(placed) = place_balanced(a, b, poles, params)? {
+            return Ok(placed);
+        }
+    }
+    if nc == n {
+        if poles.len() != n {
+            return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
+        }
+        let core = assign(a, b, poles, params)?;
+        return finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new(), params.domain);
+    }
+    // Uncontrollable: the fixed modes must be strictly stable.
+    let au = st.a.view((nc, nc), (n - nc, n - nc)).into_owned();
+    let fixed = try_eigenvalues(&au)?;
+    let anorm = try_norm2(a, SvdParams::default())?;
+    let axis_tol = match params.domain {
+        Domain::Continuous => params.controllability_tolerance * anorm.max(1.0),
+        Domain::Discrete => params.controllability_tolerance,
+    };
+    if let Some(z) = fixed.iter().rev().find(|z| !params.domain.is_strictly_stable(**z, axis_tol)) {
+        return Err(PlacementError::UncontrollableUnstableMode { pole: *z });
+    }
+    let (assigned, dropped) = if poles.len() == nc {
+        (poles.to_vec(), Vec::new())
+    } else if poles.len() == n {
+        split_for_fixed_modes(poles, &fixed).ok_or_else(|| PlacementError::FixedModesDoNotFit { fixed: fixed.clone(), controllable: nc })?
+    } else {
+        return Err(PlacementError::PoleCount { expected: n, controllable: nc, found: poles.len() });
+    };
+    let mut core = if nc == 0 {
+        Core { gain: DMatrix::zeros(m, n), iterations: 0, converged: true, condition: 1.0, balanced_condition: 1.0, abs_det: 1.0, rank: 0, method: PlacementMethod::Robust }
+    } else {
+        let ac = st.a.view((0, 0), (nc, nc)).into_owned();
+        let bc = st.b.rows(0, nc).into_owned();
+        let mut core = assign(&ac, &bc, &assigned, params)?;
+        let mut g = DMatrix::zeros(m, n);
+        g.columns_mut(0, nc).copy_from(&core.gain);
+        core.gain = g;
+        core
+    };
+    // K in the original coordinates: K = [K_c 0] Tᵀ.
+    core.gain = &core.gain * st.transform.transpose();
+    finish(a, b, core, assigned, dropped, fixed, params.domain)
+}
+
+struct Core {
+    gain: DMatrix<f64>,
+    iterations: usize,
+    converged: bool,
+    /// `NaN` when the route has no eigenvector matrix of its own (a Jordan block): `finish`
+    /// then measures it from the closed loop.
+    condition: f64,
+    balanced_condition: f64,
+    abs_det: f64,
+    rank: usize,
+    method: PlacementMethod,
+}
+
+/// The numerical rank of `B` (singular values above `tolerance` times the largest).
+fn input_rank(b: &DMatrix<f64>, tolerance: f64) -> Result<usize, PlacementError> {
+    let sv = try_singular_values(b, SvdParams::default())?;
+    let smax = sv.iter().fold(0.0f64, |m, s| m.max(*s));
+    Ok(sv.iter().filter(|&&s| s > tolerance * smax && s > 0.0).count())
+}
+
+/// Gain for a controllable pair: eigenstructure assignment when no pole repeats more than
+/// `rank B` times, the deflation of [`deflation`] otherwise.
+fn assign(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Core, PlacementError> {
+    let rank = input_rank(b, params.rank_tolerance)?;
+    if rank == 0 {
+        return Err(PlacementError::Numerical { message: "B has rank 0".into() });
+    }
+    if deflation::most_repeated(poles).1 > rank {
+        deflation::assign_repeated(a, b, poles, params, rank)
+    } else {
+        robust::assign_robust(a, b, poles, params)
+    }
+}
+
+fn finish(
+    a: &DMatrix<f64>,
+    b: &DMatrix<f64>,
+    mut core: Core,
+    mut assigned: Vec<Complex64>,
+    mut not_assigned: Vec<Complex64>,
+    mut fixed: Vec<Complex64>,
+    domain: Domain,
+) -> Result<Placement, PlacementError> {
+    let closed = a - b * &core.gain;
+    let mut achieved = try_eigenvalues(&closed)?;
+    sort_eigenvalues(&mut achieved);
+    let mut target: Vec<Complex64> = assigned.iter().chain(fixed.iter()).cloned().collect();
+    sort_eigenvalues(&mut target);
+    let (max_pole_error, repeated_pole_spread) = cluster_errors(&target, &achieved, pole_error_floor(domain, a.norm()));
+    if core.condition.is_nan() {
+        let (condition, balanced, det) = closed_loop_conditioning(&closed, &achieved);
+        core.condition = condition;
+        core.balanced_condition = balanced;
+        core.abs_det = det;
+    }
+    let gain_norm = try_norm2(&core.gain, SvdParams::default())?;
+    sort_eigenvalues(&mut assigned);
+    sort_eigenvalues(&mut not_assigned);
+    sort_eigenvalues(&mut fixed);
+    Ok(Placement {
+        gain: core.gain,
+        achieved_poles: achieved,
+        assigned_poles: assigned,
+        not_assigned,
+        fixed_modes: fixed,
+        max_pole_error,
+        eigenvector_condition: core.condition,
+        balanced_eigenvector_condition: core.balanced_condition,
+        abs_det_x: core.abs_det,
+        gain_norm,
+        iterations: core.iterations,
+        converged: core.converged,
+        input_rank: core.rank,
+        method: core.method,
+        repeated_pole_spread,
+    })
+}
+
+/// Largest relative error over a greedy one-to-one matching of `requested` to `achieved`
+/// (closest pairs first): `|r − z| / max(|r|, √ε · scale)`. A requested pole at (or within
+/// rounding of) 0 — a deadbeat or computation-delay pole in the z-plane — is thus compared with
+/// `√ε` of the matrix scale, not with itself (for z-plane poles see [`pole_error_floor`]):
+/// eigenvalues are only determined to about
+/// `κ · ε · ‖A‖` in absolute terms (Bauer–Fike; e.g. Golub & Van Loan, *Matrix Computations*,
+/// 4th ed., 2013, §7.2; from memory), so a relative error against a pole of size `1e-15` would
+/// report rounding noise as a failure. (Until this release the floor was `ε · scale`, which
+/// flagged every delay pole at `z = 0` as misplaced by a factor of hundreds.)
+pub fn max_matching_error(requested: &[Complex64], achieved: &[Complex64], scale: f64) -> f64 {
+    matching_error_with_floor(requested, achieved, pole_error_floor(Domain::Continuous, scale))
+}
+
+/// The smallest denominator of a pole's relative error ([`matching_error_with_floor`]):
+/// `√ε · scale` in the s-plane; 1 in the z-plane, where the unit circle is the natural scale
+/// (a z-plane pole's distance from where it should be is what changes the response, and
+/// poles at `z = 0` — deadbeat or computation-delay poles — are common).
+pub fn pole_error_floor(domain: Domain, scale: f64) -> f64 {
+    match domain {
+        Domain::Continuous => (scale * f64::EPSILON.sqrt()).max(f64::MIN_POSITIVE),
+        Domain::Discrete => 1.0,
+    }
+}
+
+/// [`max_matching_error`] with an explicit floor: `|r − z| / max(|r|, floor)`.
+pub fn matching_error_with_floor(requested: &[Complex64], achieved: &[Complex64], floor: f64) -> f64 {
+    let Some(matches) = greedy_matching(requested, achieved) else { return f64::INFINITY };
+    matches.iter().map(|&(i, j)| (requested[i] - achieved[j]).norm() / requested[i].norm().max(floor)).fold(0.0, f64::max)
+}
+
+/// Pole errors when requested poles may repeat: `(max error, spread)`. The error of a pole
+/// requested once is as in [`matching_error_with_floor`]; for a repeated pole it is the
+/// distance of the mean of its matched achieved poles (well determined even for a Jordan
+/// block), and the spread is the largest individual distance among repeated poles (0 when none
+/// repeats). Both relative to `max(|r|, floor)`; infinite when the counts differ.
+pub fn cluster_errors(requested: &[Complex64], achieved: &[Complex64], floor: f64) -> (f64, f64) {
+    let Some(matches) = greedy_matching(requested, achieved) else { return (f64::INFINITY, f64::INFINITY) };
+    let (mut worst, mut spread) = (0.0f64, 0.0f64);
+    let mut done = vec![false; requested.len()];
+    for &(i, _) in &matches {
+        if done[i] {
+            continue;
+        }
+        let r = requested[i];
+        let group: Vec<usize> = matches.iter().filter(|(k, _)| requested[*k] == r).map(|(_, j)| *j).collect();
+        for (k, _) in matches.iter().filter(|(k, _)| requested[*k] == r) {
+            done[*k] = true;
+        }
+        let denom = r.norm().max(floor);
+        let mean = group.iter().map(|j| achieved[*j]).sum::<Complex64>() / group.len() as f64;
+        worst = worst.max((mean - r).norm() / denom);
+        if group.len() > 1 {
+            spread = spread.max(group.iter().map(|j| (achieved[*j] - r).norm() / denom).fold(0.0, f64::max));
+        }
+    }
+    (worst, spread)
+}
+
+/// One-to-one matching of `requested` to `achieved`, closest pairs first; `None` when some
+/// requested pole is left without a partner.
+fn greedy_matching(requested: &[Complex64], achieved: &[Complex64]) -> Option<Vec<(usize, usize)>> {
+    let mut pairs: Vec<(f64, usize, usize)> = Vec::with_capacity(requested.len() * achieved.len());
+    for (i, r) in requested.iter().enumerate() {
+        for (j, z) in achieved.iter().enumerate() {
+            pairs.push(((r - z).norm(), i, j));
+        }
+    }
+    pairs.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let mut used_r = vec![false; requested.len()];
+    let mut used_a = vec![false; achieved.len()];
+    let mut out = Vec::with_capacity(requested.len());
+    for (_, i, j) in pairs {
+        if used_r[i] || used_a[j] {
+            continue;
+        }
+        used_r[i] = true;
+        used_a[j] = true;
+        out.push((i, j));
+    }
+    (out.len() == requested.len()).then_some(out)
+}
+
+/// Splits `n` requested poles into those assigned to the controllable part and those displaced
+/// by the fixed modes (nearest first, keeping conjugate pairs together).
+fn split_for_fixed_modes(poles: &[Complex64], fixed: &[Complex64]) -> Option<(Vec<Complex64>, Vec<Complex64>)> {
+    let mut remaining: Vec<Complex64> = poles.to_vec();
+    let mut dropped = Vec::new();
+    let take = |remaining: &mut Vec<Complex64>, dropped: &mut Vec<Complex64>, value: Complex64| {
+        if let Some(i) = remaining.iter().position(|z| *z == value) {
+            dropped.push(remaining.remove(i));
+        }
+    };
+    let mut fixed_reals: Vec<Complex64> = fixed.iter().filter(|z| z.im == 0.0).cloned().collect();
+    let fixed_pairs: Vec<Complex64> = fixed.iter().filter(|z| z.im > 0.0).cloned().collect();
+    for fp in fixed_pairs {
+        // Prefer a requested complex pair; else two real poles.
+        let best_pair = remaining.iter().filter(|z| z.im > 0.0).min_by(|x, y| (*x - fp).norm().total_cmp(&(*y - fp).norm())).cloned();
+        if let Some(p) = best_pair {
+            take(&mut remaining, &mut dropped, p);
+            take(&mut remaining, &mut dropped, p.conj());
+            continue;
+        }
+        for _ in 0..2 {
+            let best = remaining.iter().filter(|z| z.im == 0.0).min_by(|x, y| (*x - fp).norm().total_cmp(&(*y - fp).norm())).cloned()?;
+            take(&mut remaining, &mut dropped, best);
+        }
+    }
+    while let Some(fr) = fixed_reals.pop() {
+        if let Some(best) = remaining.iter().filter(|z| z.im == 0.0).min_by(|x, y| (*x - fr).norm().total_cmp(&(*y - fr).norm())).cloned() {
+            take(&mut remaining, &mut dropped, best);
+            continue;
+        }
+        // Two fixed real modes may displace one requested pair.
+        let other = fixed_reals.pop()?;
+        let mid = (fr + other) * 0.5;
+        let p = remaining.iter().filter(|z| z.im > 0.0).min_by(|x, y| (*x - mid).norm().total_cmp(&(*y - mid).norm())).cloned()?;
+        take(&mut remaining, &mut dropped, p);
+        take(&mut remaining, &mut dropped, p.conj());
+    }
+    if dropped.len() != fixed.len() {
+        return None;
+    }
+    Some((remaining, dropped))
+}
+
+/// Placement in the balanced coordinates `D⁻¹ A D`, `D⁻¹ B` (exact power-of-two Parlett–Reinsch
+/// scaling of `A`) when the pair is controllable there with the rank of `B` judged against
+/// `‖D⁻¹B‖` and the blocks of `A` against `‖D⁻¹AD‖`; `None` when it is not (the caller then
+/// treats the fixed modes as before). Eigenvalues are similarity invariant; the gain comes back
+/// as `K = K_bal D⁻¹`.
+fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Option<Placement>, PlacementError> {
+    let (n, m) = (a.nrows(), b.ncols());
+    let d = crate::linalg::eigen::balancing_scale(a, 100);
+    let a_bal = DMatrix::from_fn(n, n, |i, j| a[(i, j)] * d[j] / d[i]);
+    let b_bal = DMatrix::from_fn(n, m, |i, j| b[(i, j)] / d[i]);
+    let tol_a = params.controllability_tolerance * try_norm2(&a_bal, SvdParams::default())?;
+    let tol_b = params.controllability_tolerance * try_norm2(&b_bal, SvdParams::default())?;
+    let st = crate::analysis::staircase_with(&a_bal, &b_bal, tol_b, tol_a)?;
+    if st.dimension < n || poles.len() != n {
+        return Ok(None);
+    }
+    // Within the balanced pair the inputs are put on the scale of A (a power of two per
+    // column), so that the placement's own tolerances see them as they are.
+    let anorm = a_bal.norm().max(f64::MIN_POSITIVE);
+    let s: Vec<f64> = (0..m).map(|j| {
+        let c = b_bal.column(j).norm();
+        if c > 0.0 { 2f64.powi((anorm / c).log2().round() as i32) } else { 1.0 }
+    }).collect();
+    let b_scaled = DMatrix::from_fn(n, m, |i, j| b_bal[(i, j)] * s[j]);
+    let core = assign(&a_bal, &b_scaled, poles, params)?;
+    // u = −K_s x_bal with B_scaled = B_bal S: the input is S u_s, so K_bal = S K_s; then K = K_bal D⁻¹.
+    let gain = DMatrix::from_fn(m, n, |i, j| s[i] * core.gain[(i, j)] / d[j]);
+    let core = Core { gain, ..core };
+    finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new(), params.domain).map(Some)
+}
+
+/// What a gain computed elsewhere (an LQR gain, used as it is) achieves, in the terms of a
+/// [`Placement`]: the eigenvalues of `A − B K` against `requested`, and the conditioning of the
+/// closed-loop eigenvectors. The eigenvectors come from inverse iteration on `A − B K` at each
+/// eigenvalue (three steps from a fixed start, the shift moved off the eigenvalue by
+/// `√ε · ‖A − B K‖`; Golub & Van Loan, *Matrix Computations*, 4th ed., 2013, §7.6.1; from
+/// memory): a repeated eigenvalue with one eigenvector (a Jordan block) gives nearly parallel
+/// columns and so a large condition number, as it should. Cost: `O(n³)` per distinct
+/// eigenvalue.
+///
+/// # Errors
+/// [`PlacementError`] when an eigenvalue or singular-value computation fails.
+pub fn placement_of_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, gain: &DMatrix<f64>, requested: &[Complex64], params: PlacementParams) -> Result<Placement, PlacementError> {
+    let closed = a - b * gain;
+    let mut achieved = try_eigenvalues(&closed)?;
+    sort_eigenvalues(&mut achieved);
+    let (condition, balanced, det) = closed_loop_conditioning(&closed, &achieved);
+    let rank = input_rank(b, params.rank_tolerance)?;
+    let mut target = requested.to_vec();
+    sort_eigenvalues(&mut target);
+    let (max_pole_error, repeated_pole_spread) = cluster_errors(&target, &achieved, pole_error_floor(params.domain, a.norm()));
+    Ok(Placement {
+        gain: gain.clone(),
+        max_pole_error,
+        achieved_poles: achieved,
+        assigned_poles: target,
+        not_assigned: Vec::new(),
+        fixed_modes: Vec::new(),
+        eigenvector_condition: condition,
+        balanced_eigenvector_condition: balanced,
+        abs_det_x: det,
+        gain_norm: try_norm2(gain, SvdParams::default())?,
+        iterations: 0,
+        converged: true,
+        input_rank: rank,
+        method: PlacementMethod::Given,
+        repeated_pole_spread,
+    })
+}
+
+#[cfg(test)]
+#[path = "../tests/place.rs"]
+mod tests;
+
+/// `(κ₂(X), balanced κ₂, |det X|)` of unit-column eigenvectors of `closed` at the eigenvalues
+/// `achieved`, found by inverse iteration (three steps from a fixed start, the shift moved off
+/// the eigenvalue by `√ε · ‖closed‖`; Golub & Van Loan, *Matrix Computations*, 4th ed., 2013,
+/// §7.6.1; from memory). A repeated eigenvalue with one eigenvector (a Jordan block) gives
+/// nearly parallel columns and so a large condition number, as it should. `O(n³)` per
+/// eigenvalue.
+fn closed_loop_conditioning(closed: &DMatrix<f64>, achieved: &[Complex64]) -> (f64, f64, f64) {
+    let n = closed.nrows();
+    let scale = closed.norm().max(f64::MIN_POSITIVE);
+    let cc = to_complex(closed);
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for (j, lambda) in achieved.iter().enumerate() {
+        let shift = lambda + Complex64::new(f64::EPSILON.sqrt() * scale, 0.0);
+        let mut m = cc.clone();
+        for i in 0..n {
+            m[(i, i)] -= shift;
+        }
+        let lu = m.lu();
+        let mut v = DVector::<Complex64>::from_fn(n, |i, _| Complex64::new(1.0 + 0.1 * i as f64, 0.0));
+        for _ in 0..3 {
+            let Some(w) = lu.solve(&v) else { break };
+            let norm = w.norm();
+            if !(norm.is_finite() && norm > 0.0) {
+                break;
+            }
+            v = w / Complex64::new(norm, 0.0);
+        }
+        x.set_column(j, &v);
+    }
+    let condition = try_condition_number(&x, SvdParams::default()).unwrap_or(f64::INFINITY);
+    let balanced = balanced_condition(closed, &x).unwrap_or(f64::INFINITY);
+    (condition, balanced, abs_det(&x))
+}

@@ -1,0 +1,571 @@
+//! The multi-input (and distinct-pole single-input) route of [`super`]: eigenstructure
+//! assignment by Kautsky–Nichols–Van Dooren sweeps with the Tits–Yang objective. The equation,
+//! method, cost and failure modes are stated in the parent module's documentation.
+
+use nalgebra::{DMatrix, DVector};
+use num_complex::Complex64;
+
+use super::{max_matching_error, Core, PlacementError, PlacementMethod, PlacementParams, Slot};
+use crate::linalg::eigen::{balancing_scale, try_eigenvalues};
+use crate::linalg::qr::full_qr;
+use crate::linalg::svd::{try_condition_number, try_svd, SvdParams};
+
+pub(super) fn to_complex(m: &DMatrix<f64>) -> DMatrix<Complex64> {
+    m.map(|v| Complex64::new(v, 0.0))
+}
+
+/// Eigenstructure assignment for a controllable pair whose requested poles repeat at most
+/// `rank B` times.
+pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Core, PlacementError> {
+    let n = a.nrows();
+    // 1. Rank of B and the bases U_r, U₁.
+    let svd = try_svd(b, SvdParams::default())?;
+    let smax = svd.singular_values.iter().cloned().fold(0.0, f64::max);
+    let r = svd.singular_values.iter().filter(|&&s| s > params.rank_tolerance * smax && s > 0.0).count();
+    if r == 0 {
+        return Err(PlacementError::Numerical { message: "B has rank 0".into() });
+    }
+    let ur = svd.u.columns(0, r).into_owned();
+    let (qb, _) = full_qr(&ur);
+    let u1 = qb.columns(r, n - r).into_owned();
+
+    // 2. Slots: real poles first, then conjugate pairs (positive imaginary part first).
+    let mut ordered: Vec<Complex64> = poles.iter().filter(|z| z.im == 0.0).cloned().collect();
+    ordered.sort_by(|x, y| x.re.total_cmp(&y.re));
+    let mut pairs: Vec<Complex64> = poles.iter().filter(|z| z.im > 0.0).cloned().collect();
+    pairs.sort_by(|x, y| x.re.total_cmp(&y.re).then(x.im.total_cmp(&y.im)));
+    let mut slots = Vec::new();
+    for j in 0..ordered.len() {
+        slots.push(Slot::Real(j));
+    }
+    for p in pairs {
+        slots.push(Slot::Pair(ordered.len()));
+        ordered.push(p);
+        ordered.push(p.conj());
+    }
+    if ordered.len() != n {
+        return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
+    }
+    // Multiplicities.
+    for (i, z) in ordered.iter().enumerate() {
+        let count = ordered.iter().filter(|w| *w == z).count();
+        if count > r && ordered[..i].iter().all(|w| w != z) {
+            return Err(PlacementError::RepeatedBeyondRank { pole: *z, multiplicity: count, rank: r });
+        }
+    }
+
+    // 3. Admissible subspaces S_j (n × r), shared by equal poles; the conjugate column uses conj(S).
+    let mut subspaces: Vec<DMatrix<Complex64>> = Vec::with_capacity(slots.len());
+    let mut cache: Vec<(Complex64, usize)> = Vec::new();
+    for slot in &slots {
+        let lambda = match *slot {
+            Slot::Real(j) | Slot::Pair(j) => ordered[j],
+        };
+        if let Some(&(_, k)) = cache.iter().find(|(z, _)| *z == lambda) {
+            let s = subspaces[k].clone();
+            subspaces.push(s);
+            continue;
+        }
+        let s = admissible_subspace(a, &u1, lambda, r);
+        cache.push((lambda, subspaces.len()));
+        subspaces.push(s);
+    }
+
+    // 4. Several starting guesses; each is refined by sweeps and the best-conditioned result kept
+    // (|det X| has local maxima, and a larger |det X| does not always mean a smaller κ₂(X)).
+    let mut starts: Vec<DMatrix<Complex64>> = Vec::new();
+    starts.extend(initial_x(&slots, &subspaces, &ordered, &qb));
+    starts.extend(initial_x_sum(&slots, &subspaces, &ordered, n));
+    if r > 1 {
+        starts.extend(initial_x_seeded(&slots, &subspaces, &ordered, n, 0x5DEECE66D));
+    }
+    let real_subspaces: Vec<Option<DMatrix<f64>>> =
+        slots.iter().zip(&subspaces).map(|(slot, s)| matches!(slot, Slot::Real(_)).then(|| s.map(|z| z.re))).collect();
+    let mut runs: Vec<Refinement> = Vec::new();
+    for x0 in starts {
+        let Some(run) = Refinement::new(x0, &slots)? else { continue };
+        runs.push(run);
+        if r == 1 {
+            break; // X is unique up to column scaling: nothing to refine.
+        }
+    }
+    if runs.is_empty() {
+        return Err(PlacementError::Numerical {
+            message: "no independent set of closed-loop eigenvectors was found; the requested poles may coincide with uncontrollable or nearly uncontrollable modes".into(),
+        });
+    }
+    let mut total_sweeps = 0;
+    if r > 1 {
+        // Each start gets a first stage; the best-conditioned one is then refined to the end.
+        for run in runs.iter_mut() {
+            run.sweep(&slots, &subspaces, &real_subspaces, params, params.condition_check_interval)?;
+            total_sweeps += run.sweeps;
+        }
+        runs.sort_by(|p, q| p.best_kappa.total_cmp(&q.best_kappa));
+        runs.truncate(params.finalists.max(1));
+        for run in runs.iter_mut() {
+            let before = run.sweeps;
+            run.sweep(&slots, &subspaces, &real_subspaces, params, params.max_sweeps.saturating_sub(before))?;
+            total_sweeps += run.sweeps - before;
+        }
+        runs.sort_by(|p, q| q.best_kappa.total_cmp(&p.best_kappa));
+    }
+    let Some(best) = runs.pop() else {
+        return Err(PlacementError::Numerical { message: "no eigenvector matrix".into() });
+    };
+    let converged = r == 1 || best.converged;
+    let (x, condition) = best.into_best();
+    let iterations = total_sweeps;
+
+    // 6. Gain: K X = V_r Σ_r⁻¹ U_rᵀ (A X − X Λ), solved with X rather than through an explicit
+    // inverse (which would square the effect of κ(X) on the rounding errors).
+    let mut xl = x.clone();
+    for (j, z) in ordered.iter().enumerate() {
+        let mut col = xl.column_mut(j);
+        col *= *z;
+    }
+    let sigma_inv = DMatrix::from_diagonal(&svd.singular_values.rows(0, r).map(|s| 1.0 / s));
+    let vr = svd.v_adjoint.rows(0, r).transpose();
+    let left = to_complex(&(vr * sigma_inv * ur.transpose()));
+    let g = &left * (to_complex(a) * &x - &xl); // m × n
+    let xt_lu = x.transpose().lu();
+    let mut gain_c = xt_lu.solve(&g.transpose()).ok_or_else(|| PlacementError::Numerical { message: "the eigenvector matrix is singular".into() })?;
+    // One step of iterative refinement of Xᵀ Kᵀ = Gᵀ.
+    let residual = g.transpose() - x.transpose() * &gain_c;
+    if let Some(correction) = xt_lu.solve(&residual) {
+        gain_c += correction;
+    }
+    let gain_direct = gain_c.transpose().map(|z| z.re);
+    // Second route, K = V_r Σ_r⁻¹ U_rᵀ (A − M) with M = X Λ X⁻¹ from a solve. The two differ
+    // only in rounding; when X is ill conditioned one can be markedly better, so both are
+    // checked against the request through the eigenvalues of A − B K and the better one kept.
+    let mut gain = gain_direct;
+    if let Some(mt) = xt_lu.solve(&xl.transpose()) {
+        let m_real = mt.transpose().map(|z| z.re);
+        let gain_m = left.map(|z| z.re) * (a - m_real);
+        if gain_m.iter().all(|v| v.is_finite()) {
+            let err_direct = try_eigenvalues(&(a - b * &gain)).map(|e| max_matching_error(&ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
+            let err_m = try_eigenvalues(&(a - b * &gain_m)).map(|e| max_matching_error(&ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
+            if err_m < err_direct {
+                gain = gain_m;
+            }
+        }
+    }
+    let det = abs_det(&x);
+    if !gain.iter().all(|v| v.is_finite()) {
+        return Err(PlacementError::Numerical { message: "the gain is not finite".into() });
+    }
+    let balanced_condition = balanced_condition(&(a - b * &gain), &x).unwrap_or(condition);
+    Ok(Core { gain, iterations, converged, condition, balanced_condition, abs_det: det, rank: r, method: PlacementMethod::Robust })
+}
+
+/// `κ₂(D⁻¹ X)` with unit columns for the closed loop `closed` with eigenvectors `x` (see
+/// [`Placement::balanced_eigenvector_condition`]); `None` when the SVD fails.
+pub(super) fn balanced_condition(closed: &DMatrix<f64>, x: &DMatrix<Complex64>) -> Option<f64> {
+    let d = balancing_scale(closed, 100);
+    let mut xb = DMatrix::from_fn(x.nrows(), x.ncols(), |i, j| x[(i, j)] / d[i]);
+    for mut col in xb.column_iter_mut() {
+        let norm = col.norm();
+        if norm > 0.0 && norm.is_finite() {
+            col /= Complex64::new(norm, 0.0);
+        }
+    }
+    try_condition_number(&xb, SvdParams::default()).ok()
+}
+
+/// KNV/Tits–Yang sweeps from one starting `X`, keeping the best-conditioned `X` seen.
+///
+/// The sweeps work on the real form `X_r` of `X`: a real pole's column as is, a conjugate
+/// pair `x, x̄` as the two real columns `Re x, Im x`. Since `[x, x̄] = [Re x, Im x]·[[1, 1], [i, −i]]`,
+/// `|det X| = 2^p |det X_r|` (`p` pairs), so both have the same maximisers, and real
+/// arithmetic costs a quarter of complex. `X_r⁻¹` is carried along by rank-one (real pole)
+/// and rank-two (pair, Woodbury) updates whose determinant ratio is known before they are
+/// applied, so a step that would not improve `|det X|` is simply skipped.
+struct Refinement {
+    xr: DMatrix<f64>,
+    xr_inv: DMatrix<f64>,
+    best_x: DMatrix<Complex64>,
+    best_kappa: f64,
+    sweeps: usize,
+    converged: bool,
+}
+
+/// Real form of a conjugate-structured complex `X`.
+fn to_real_form(x: &DMatrix<Complex64>, slots: &[Slot]) -> DMatrix<f64> {
+    let n = x.nrows();
+    let mut xr = DMatrix::<f64>::zeros(n, n);
+    for slot in slots {
+        match *slot {
+            Slot::Real(j) => {
+                for i in 0..n {
+                    xr[(i, j)] = x[(i, j)].re;
+                }
+            }
+            Slot::Pair(j) => {
+                for i in 0..n {
+                    xr[(i, j)] = x[(i, j)].re;
+                    xr[(i, j + 1)] = x[(i, j)].im;
+                }
+            }
+        }
+    }
+    xr
+}
+
+/// Complex `X` (unit columns) from the real form.
+fn from_real_form(xr: &DMatrix<f64>, slots: &[Slot]) -> DMatrix<Complex64> {
+    let n = xr.nrows();
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for slot in slots {
+        match *slot {
+            Slot::Real(j) => {
+                let norm = xr.column(j).norm();
+                for i in 0..n {
+                    x[(i, j)] = Complex64::new(xr[(i, j)] / norm, 0.0);
+                }
+            }
+            Slot::Pair(j) => {
+                let norm = (xr.column(j).norm_squared() + xr.column(j + 1).norm_squared()).sqrt();
+                for i in 0..n {
+                    let z = Complex64::new(xr[(i, j)], xr[(i, j + 1)]) / norm;
+                    x[(i, j)] = z;
+                    x[(i, j + 1)] = z.conj();
+                }
+            }
+        }
+    }
+    x
+}
+
+fn invert_real(x: &DMatrix<f64>) -> Option<DMatrix<f64>> {
+    let inv = x.clone().lu().try_inverse()?;
+    if inv.iter().all(|v| v.is_finite()) {
+        Some(inv)
+    } else {
+        None
+    }
+}
+
+impl Refinement {
+    fn new(x: DMatrix<Complex64>, slots: &[Slot]) -> Result<Option<Self>, PlacementError> {
+        let xr = to_real_form(&x, slots);
+        let Some(xr_inv) = invert_real(&xr) else { return Ok(None) };
+        let kappa = try_condition_number(&x, SvdParams::default())?;
+        Ok(Some(Refinement { xr, xr_inv, best_x: x, best_kappa: kappa, sweeps: 0, converged: false }))
+    }
+
+    fn into_best(self) -> (DMatrix<Complex64>, f64) {
+        (self.best_x, self.best_kappa)
+    }
+
+    /// Runs up to `budget` more sweeps (fewer if converged).
+    fn sweep(&mut self, slots: &[Slot], subspaces: &[DMatrix<Complex64>], real_subspaces: &[Option<DMatrix<f64>>], params: PlacementParams, budget: usize) -> Result<(), PlacementError> {
+        let n = self.xr.nrows();
+        let mut w1 = DVector::<f64>::zeros(n);
+        let mut w2 = DVector::<f64>::zeros(n);
+        for _ in 0..budget {
+            if self.converged {
+                break;
+            }
+            self.sweeps += 1;
+            let mut log_gain = 0.0;
+            for (k, slot) in slots.iter().enumerate() {
+                match *slot {
+                    Slot::Real(j) => {
+                        let Some(sr) = real_subspaces[k].as_ref() else { continue };
+                        let y = self.xr_inv.row(j).transpose();
+                        let mut v = sr * (sr.transpose() * &y);
+                        let vn = v.norm();
+                        if !(vn > 1e-300) || !vn.is_finite() {
+                            continue;
+                        }
+                        v /= vn;
+                        // u = v − x_j; w = X⁻¹ u; ratio = 1 + w_j.
+                        let u = &v - self.xr.column(j);
+                        w1.gemv(1.0, &self.xr_inv, &u, 0.0);
+                        let denom = 1.0 + w1[j];
+                        if !(denom.abs() > 1.0 + 1e-15) || !denom.is_finite() {
+                            continue; // no improvement (or a breakdown): keep the column
+                        }
+                        let row = self.xr_inv.row(j).transpose();
+                        self.xr_inv.ger(-1.0 / denom, &w1, &row, 1.0);
+                        self.xr.set_column(j, &v);
+                        log_gain += denom.abs().ln();
+                    }
+                    Slot::Pair(j) => {
+                        // The complement of the other columns is spanned by rows j, j+1 of X_r⁻¹.
+                        let r1 = self.xr_inv.row(j).transpose();
+                        let r2 = self.xr_inv.row(j + 1).transpose();
+                        let Some(x) = best_pair_vector_in(&subspaces[k], &r1, &r2) else { continue };
+                        let xr_new = DVector::from_iterator(n, x.iter().map(|z| z.re));
+                        let xi_new = DVector::from_iterator(n, x.iter().map(|z| z.im));
+                        let u1 = &xr_new - self.xr.column(j);
+                        let u2 = &xi_new - self.xr.column(j + 1);
+                        w1.gemv(1.0, &self.xr_inv, &u1, 0.0);
+                        w2.gemv(1.0, &self.xr_inv, &u2, 0.0);
+                        // C = I + Eᵀ X⁻¹ U (2 × 2); det C = |det X_new| / |det X_old|.
+                        let (c11, c12, c21, c22) = (1.0 + w1[j], w2[j], w1[j + 1], 1.0 + w2[j + 1]);
+                        let det = c11 * c22 - c12 * c21;
+                        if !(det.abs() > 1.0 + 1e-15) || !det.is_finite() {
+                            continue;
+                        }
+                        // X⁻¹ ← X⁻¹ − W C⁻¹ R with R the rows j, j+1 of X⁻¹.
+                        let (i11, i12, i21, i22) = (c22 / det, -c12 / det, -c21 / det, c11 / det);
+                        let a1 = &w1 * i11 + &w2 * i21; // column 1 of W C⁻¹
+                        let a2 = &w1 * i12 + &w2 * i22; // column 2 of W C⁻¹
+                        self.xr_inv.ger(-1.0, &a1, &r1, 1.0);
+                        self.xr_inv.ger(-1.0, &a2, &r2, 1.0);
+                        self.xr.set_column(j, &xr_new);
+                        self.xr.set_column(j + 1, &xi_new);
+                        log_gain += det.abs().ln();
+                    }
+                }
+            }
+            // Refactor X_r⁻¹ now and then to stop rounding drift in the low-rank updates.
+            if self.sweeps % params.refactor_interval.max(1) == 0 {
+                match invert_real(&self.xr) {
+                    Some(inv) => self.xr_inv = inv,
+                    None => return Err(PlacementError::Numerical { message: "the eigenvector matrix became singular".into() }),
+                }
+            }
+            let mut stop = log_gain < params.improvement_tolerance;
+            // Every few sweeps (and at the end), keep the best-conditioned X seen; stop once κ₂(X) stalls.
+            if stop || self.sweeps % params.condition_check_interval.max(1) == 0 {
+                let x = from_real_form(&self.xr, slots);
+                let kappa = try_condition_number(&x, SvdParams::default())?;
+                if kappa > self.best_kappa * (1.0 - params.condition_stall_tolerance) {
+                    stop = true;
+                }
+                if kappa < self.best_kappa {
+                    self.best_kappa = kappa;
+                    self.best_x = x;
+                }
+            }
+            if stop {
+                self.converged = true;
+                break;
+            }
+        }
+        Ok(())
+    }
+}
+
+/// [`best_pair_vector`] given two real vectors spanning the complement of the other columns.
+fn best_pair_vector_in(s: &DMatrix<Complex64>, r1: &DVector<f64>, r2: &DVector<f64>) -> Option<DVector<Complex64>> {
+    let n = r1.len();
+    let y = DVector::from_iterator(n, r1.iter().zip(r2.iter()).map(|(&a, &b)| Complex64::new(a, b)));
+    best_pair_vector(s, &y)
+}
+
+/// `null(U₁ᵀ (A − λ I))`, `n × r`, orthonormal columns.
+fn admissible_subspace(a: &DMatrix<f64>, u1: &DMatrix<f64>, lambda: Complex64, r: usize) -> DMatrix<Complex64> {
+    let n = a.nrows();
+    if u1.ncols() == 0 {
+        return DMatrix::identity(n, n);
+    }
+    if lambda.im == 0.0 {
+        // (A − λI)ᵀ U₁, real arithmetic.
+        let mut w = a.transpose() * u1;
+        for i in 0..n {
+            for j in 0..u1.ncols() {
+                w[(i, j)] -= lambda.re * u1[(i, j)];
+            }
+        }
+        let (q, _) = full_qr(&w);
+        to_complex(&q.columns(n - r, r).into_owned())
+    } else {
+        // (A − λI)ᴴ U₁ = (Aᵀ − λ̄ I) U₁.
+        let at_u1 = to_complex(&(a.transpose() * u1));
+        let mut w = at_u1;
+        let lc = lambda.conj();
+        for i in 0..n {
+            for j in 0..u1.ncols() {
+                w[(i, j)] -= lc * u1[(i, j)];
+            }
+        }
+        let (q, _) = full_qr(&w);
+        q.columns(n - r, r).into_owned()
+    }
+}
+
+/// The unit `x ∈ range S` maximising `|det X|` when the conjugate columns `x, x̄` replace a pair.
+///
+/// The complement of the other `n − 2` columns is spanned by `y` and `ȳ` (rows of `X⁻¹`), so it
+/// has a real orthonormal basis `Y`. With `g = Yᵀ x = G c` (`G = Yᵀ S`, `x = S c`),
+/// `|det X| ∝ |det [Re g, Im g]| = |Im(ḡ₁ g₂)| = |cᴴ Gᴴ J G c|` with the Hermitian
+/// `J = [[0, −i/2], [i/2, 0]]`: a Hermitian quadratic form, maximised in modulus by the
+/// eigenvector of its largest-modulus eigenvalue, `c = Gᴴ w` with `J G Gᴴ w = μ w` (2 × 2).
+fn best_pair_vector(s: &DMatrix<Complex64>, y: &DVector<Complex64>) -> Option<DVector<Complex64>> {
+    let n = y.len();
+    let yr = DVector::from_iterator(n, y.iter().map(|z| z.re));
+    let yi = DVector::from_iterator(n, y.iter().map(|z| z.im));
+    let n1 = yr.norm().max(yi.norm());
+    if !(n1 > 0.0) {
+        return None;
+    }
+    let (e1, e2) = {
+        let (p, q) = if yr.norm() >= yi.norm() { (yr, yi) } else { (yi, yr) };
+        let e1 = &p / p.norm();
+        let q = &q - &e1 * e1.dot(&q);
+        let qn = q.norm();
+        if !(qn > 1e-8 * n1) {
+            return None;
+        }
+        (e1, q / qn)
+    };
+    // G = Yᵀ S, 2 × r.
+    let r = s.ncols();
+    let mut g = DMatrix::<Complex64>::zeros(2, r);
+    for c in 0..r {
+        let col = s.column(c);
+        let mut d1 = Complex64::new(0.0, 0.0);
+        let mut d2 = Complex64::new(0.0, 0.0);
+        for i in 0..n {
+            d1 += col[i] * e1[i];
+            d2 += col[i] * e2[i];
+        }
+        g[(0, c)] = d1;
+        g[(1, c)] = d2;
+    }
+    let nn = &g * g.adjoint(); // 2 × 2 Hermitian
+    let half_i = Complex64::new(0.0, 0.5);
+    // J N with J = [[0, −i/2], [i/2, 0]].
+    let p = -half_i * nn[(1, 0)];
+    let q = -half_i * nn[(1, 1)];
+    let s_ = half_i * nn[(0, 0)];
+    let t = half_i * nn[(0, 1)];
+    let tr = p + t;
+    let det = p * t - q * s_;
+    let disc = (tr * tr - det * 4.0).sqrt();
+    let mu1 = (tr + disc) * 0.5;
+    let mu2 = (tr - disc) * 0.5;
+    let mu = if mu1.norm() >= mu2.norm() { mu1 } else { mu2 };
+    let w1 = DVector::from_vec(vec![q, mu - p]);
+    let w2 = DVector::from_vec(vec![mu - t, s_]);
+    let w = if w1.norm() >= w2.norm() { w1 } else { w2 };
+    if !(w.norm() > 0.0) {
+        return None;
+    }
+    let c = g.adjoint() * w;
+    let x = s * c;
+    let xn = x.norm();
+    if xn > 0.0 && xn.is_finite() {
+        Some(x / Complex64::new(xn, 0.0))
+    } else {
+        None
+    }
+}
+
+fn project(s: &DMatrix<Complex64>, y: &DVector<Complex64>) -> DVector<Complex64> {
+    s * (s.adjoint() * y)
+}
+
+
+
+
+pub(super) fn abs_det(x: &DMatrix<Complex64>) -> f64 {
+    x.clone().lu().determinant().norm()
+}
+
+fn normalise(v: DVector<Complex64>) -> Option<DVector<Complex64>> {
+    let norm = v.norm();
+    if norm > 1e-300 && norm.is_finite() {
+        Some(v / Complex64::new(norm, 0.0))
+    } else {
+        None
+    }
+}
+
+/// Initial guess: project spread-out orthonormal vectors (the columns of `[U_r U₁]`) onto each `S_j`.
+fn initial_x(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &[Complex64], qb: &DMatrix<f64>) -> Option<DMatrix<Complex64>> {
+    let n = ordered.len();
+    let q = to_complex(qb);
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    let inv_sqrt2 = Complex64::new(std::f64::consts::FRAC_1_SQRT_2, 0.0);
+    for (k, slot) in slots.iter().enumerate() {
+        let s = &subspaces[k];
+        match *slot {
+            Slot::Real(j) => {
+                let mut v = project(s, &q.column(j).into_owned());
+                for z in v.iter_mut() {
+                    z.im = 0.0;
+                }
+                let v = normalise(v)?;
+                x.set_column(j, &v);
+            }
+            Slot::Pair(j) => {
+                let target = (q.column(j) + q.column(j + 1) * Complex64::new(0.0, 1.0)) * inv_sqrt2;
+                let v = normalise(project(s, &target.into_owned()))?;
+                x.set_column(j, &v);
+                x.set_column(j + 1, &v.map(|z| z.conj()));
+            }
+        }
+    }
+    Some(x)
+}
+
+/// Initial guess: the normalised sum of each subspace's basis vectors, with repeated poles
+/// taking successive basis vectors instead so that their columns are independent.
+fn initial_x_sum(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &[Complex64], n: usize) -> Option<DMatrix<Complex64>> {
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for (k, slot) in slots.iter().enumerate() {
+        let s = &subspaces[k];
+        let j = match *slot {
+            Slot::Real(j) | Slot::Pair(j) => j,
+        };
+        let copy = ordered[..j].iter().filter(|z| **z == ordered[j]).count();
+        let v = if copy == 0 {
+            let mut sum = DVector::<Complex64>::zeros(n);
+            for c in 0..s.ncols() {
+                sum += s.column(c);
+            }
+            sum
+        } else {
+            s.column(copy % s.ncols()).into_owned()
+        };
+        let mut v = normalise(v)?;
+        if let Slot::Real(_) = slot {
+            for z in v.iter_mut() {
+                z.im = 0.0;
+            }
+            v = normalise(v)?;
+        }
+        x.set_column(j, &v);
+        if let Slot::Pair(_) = slot {
+            x.set_column(j + 1, &v.map(|z| z.conj()));
+        }
+    }
+    Some(x)
+}
+
+/// Initial guess: projections of seeded pseudo-random vectors (a third start for the sweeps).
+fn initial_x_seeded(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &[Complex64], n: usize, seed: u64) -> Option<DMatrix<Complex64>> {
+    let mut state = seed | 1;
+    let mut next = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+    };
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for (k, slot) in slots.iter().enumerate() {
+        let s = &subspaces[k];
+        let c = DVector::from_fn(s.ncols(), |_, _| Complex64::new(next(), match slot { Slot::Real(_) => 0.0, Slot::Pair(_) => next() }));
+        let mut v = s * c;
+        if let Slot::Real(_) = slot {
+            for z in v.iter_mut() {
+                z.im = 0.0;
+            }
+        }
+        let v = normalise(v)?;
+        match *slot {
+            Slot::Real(j) => x.set_column(j, &v),
+            Slot::Pair(j) => {
+                x.set_column(j, &v);
+                x.set_column(j + 1, &v.map(|z| z.conj()));
+            }
+        }
+    }
+    let _ = ordered;
+    Some(x)
+}
