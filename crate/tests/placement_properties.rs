@@ -628,7 +628,7 @@ fn cayley_hamilton_residual(closed: &DMatrix<f64>, poles: &[Complex64]) -> f64 {
             scale *= (norm + z.norm()).powi(2);
             closed * closed - closed * (2.0 * z.re) + DMatrix::identity(n, n) * z.norm_sqr()
         };
-        prod = prod * factor;
+        prod *= factor;
     }
     prod.norm() / scale
 }
