@@ -54,7 +54,7 @@
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
 
-use super::{Core, PlacementError, PlacementMethod, PlacementParams};
+use super::{Branch, Core, PlacementError, PlacementMethod, PlacementParams};
 use crate::analysis::staircase_with;
 use crate::linalg::qr::full_qr;
 use crate::linalg::svd::{try_norm2, try_svd, SvdParams};
@@ -80,7 +80,7 @@ pub(super) fn assign_repeated(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Compl
     if !gain.iter().all(|v| v.is_finite()) {
         return Err(PlacementError::Numerical { message: "the gain is not finite".into() });
     }
-    Ok(Core { gain, iterations: 0, converged: true, condition: f64::NAN, balanced_condition: f64::NAN, abs_det: 0.0, rank, method })
+    Ok(Core { gain, iterations: 0, converged: true, condition: f64::NAN, balanced_condition: f64::NAN, abs_det: 0.0, rank, method, eigenvectors: None, branch: Branch::Fresh })
 }
 
 /// The pole requested most often, and how often.

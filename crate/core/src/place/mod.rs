@@ -97,6 +97,17 @@ pub struct PlacementParams {
     pub refactor_interval: usize,
     /// Stop when `κ₂(X)` improved by less than this fraction since the last check. Default `1e-4`.
     pub condition_stall_tolerance: f64,
+    /// Continuation ([`state_feedback_gain_continued`]) keeps the branch followed from the
+    /// previous eigenvectors unless its `κ₂(X)` is more than this factor above a fresh start's.
+    /// Default 2.
+    pub branch_condition_factor: f64,
+    /// A continuation's sweeps stop when a sweep raises `log |det X|` (and a check lowers
+    /// `κ₂(X)`) by less than this. Default `1e-13`.
+    pub continuation_tolerance: f64,
+    /// A continuation whose sweeps turn an eigenvector by more than this (`1 − |cos|` of the
+    /// angle from its projected previous direction) has lost its branch. Default `1e-2` (about
+    /// 8°; small pole steps move them by `1e-4` or less).
+    pub branch_drift_limit: f64,
 }
 
 impl Default for PlacementParams {
@@ -111,6 +122,9 @@ impl Default for PlacementParams {
             finalists: 1,
             domain: Domain::Continuous,
             condition_stall_tolerance: 1e-4,
+            branch_condition_factor: 2.0,
+            continuation_tolerance: 1e-13,
+            branch_drift_limit: 1e-2,
         }
     }
 }
@@ -222,12 +236,47 @@ pub struct Placement {
     pub input_rank: usize,
     /// How the gain was computed.
     pub method: PlacementMethod,
+    /// The closed-loop eigenvectors of the assigned poles in the plant's coordinates (unit
+    /// columns), for a continuation; `None` where the gain is unique or there is no
+    /// eigenvector basis (one input, a Jordan block, a gain given).
+    pub eigenvectors: Option<Eigenvectors>,
+    /// Whether a continuation followed the previous branch.
+    pub branch: Branch,
     /// For requested poles that repeat: the largest distance of an achieved pole from the
     /// repeated pole it belongs to (relative, with the floor of [`pole_error_floor`]); 0 when no
     /// pole repeats. A `p`-fold pole in a Jordan block scatters by about `δ^{1/p}` for a
     /// perturbation `δ`, so this is larger than [`Placement::max_pole_error`], which compares
     /// each cluster's mean.
     pub repeated_pole_spread: f64,
+}
+
+/// Closed-loop eigenvectors of a placement, the start of a continuation.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Eigenvectors {
+    /// The pole of each column.
+    pub poles: Vec<Complex64>,
+    /// Unit columns.
+    pub vectors: DMatrix<Complex64>,
+}
+
+/// What a continuation did ([`state_feedback_gain_continued`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Branch {
+    /// No previous eigenvectors were used (none given, the gain is unique, or they did not fit).
+    Fresh,
+    /// The branch followed from the previous eigenvectors was kept. `fresh_condition` is a
+    /// fresh start's `κ₂(X)` and `gain_difference` `‖K − K_fresh‖_F / ‖K_fresh‖_F`: how far this
+    /// gain is from the one a fresh placement of the same poles gives (0 when the branches
+    /// coincide).
+    Followed { fresh_condition: f64, gain_difference: f64 },
+    /// The followed branch ended (a fold): the sweeps moved an eigenvector from where the
+    /// continuation started it by `drift` (`1 − |cos|` of the angle) above
+    /// [`PlacementParams::branch_drift_limit`]; the gain jumps.
+    Lost { drift: f64 },
+    /// The followed branch's `κ₂(X)` (given) was more than
+    /// [`PlacementParams::branch_condition_factor`] times a fresh start's: the fresh one is
+    /// used and the gain may jump.
+    Changed { followed_condition: f64 },
 }
 
 /// How a state-feedback gain was computed.
@@ -259,7 +308,37 @@ enum Slot {
 /// # Errors
 /// See [`PlacementError`].
 pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Placement, PlacementError> {
+    place_from(a, b, poles, params, None)
+}
+
+/// [`state_feedback_gain`] continued from a previous placement's eigenvectors (of the same
+/// plant size), so that the gain follows the same branch of the robust placement as the poles
+/// move: the sweeps also start from the previous eigenvectors projected onto the new
+/// admissible subspaces, and that result is kept unless its `κ₂(X)` is more than
+/// [`PlacementParams::branch_condition_factor`] times a fresh start's. [`Placement::branch`]
+/// says which was used. With one input (the gain is unique) it is the same as a fresh placement.
+///
+/// # Errors
+/// See [`PlacementError`].
+pub fn state_feedback_gain_continued(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, previous: &Eigenvectors) -> Result<Placement, PlacementError> {
+    place_from(a, b, poles, params, Some(previous))
+}
+
+/// Eigenvectors with each column mapped by `f` (a change of coordinates), columns re-normalised.
+fn map_vectors(e: &Eigenvectors, f: impl Fn(&DMatrix<Complex64>) -> DMatrix<Complex64>) -> Eigenvectors {
+    let mut vectors = f(&e.vectors);
+    for mut col in vectors.column_iter_mut() {
+        let norm = col.norm();
+        if norm > 0.0 && norm.is_finite() {
+            col /= Complex64::new(norm, 0.0);
+        }
+    }
+    Eigenvectors { poles: e.poles.clone(), vectors }
+}
+
+fn place_from(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<Placement, PlacementError> {
     let n = a.nrows();
+    let start = start.filter(|s| s.vectors.nrows() == n);
     check_conjugate_pairs(poles).map_err(|e| PlacementError::InvalidPoles { message: e.to_string() })?;
     // Controllability via the staircase.
     let m = b.ncols();
@@ -273,7 +352,7 @@ pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex6
         // Judged against ‖[A B]‖ some modes look unreached; judged in balanced coordinates,
         // each block against its own scale, they may only be measured in other units. Then the
         // placement is done there and the gain brought back: u = −K_bal D⁻¹ x.
-        if let Some(placed) = place_balanced(a, b, poles, params)? {
+        if let Some(placed) = place_balanced(a, b, poles, params, start)? {
             return Ok(placed);
         }
     }
@@ -281,7 +360,7 @@ pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex6
         if poles.len() != n {
             return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
         }
-        let core = assign(a, b, poles, params)?;
+        let core = assign(a, b, poles, params, start)?;
         return finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new(), params.domain);
     }
     // Uncontrollable: the fixed modes must be strictly stable.
@@ -303,14 +382,23 @@ pub fn state_feedback_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex6
         return Err(PlacementError::PoleCount { expected: n, controllable: nc, found: poles.len() });
     };
     let mut core = if nc == 0 {
-        Core { gain: DMatrix::zeros(m, n), iterations: 0, converged: true, condition: 1.0, balanced_condition: 1.0, abs_det: 1.0, rank: 0, method: PlacementMethod::Robust }
+        Core { gain: DMatrix::zeros(m, n), iterations: 0, converged: true, condition: 1.0, balanced_condition: 1.0, abs_det: 1.0, rank: 0, method: PlacementMethod::Robust, eigenvectors: None, branch: Branch::Fresh }
     } else {
         let ac = st.a.view((0, 0), (nc, nc)).into_owned();
         let bc = st.b.rows(0, nc).into_owned();
-        let mut core = assign(&ac, &bc, &assigned, params)?;
+        // Staircase coordinates z = Tᵀ x; the assigned eigenvectors are [x_c; 0].
+        let local = start.map(|s| map_vectors(s, |v| (st.transform.transpose().map(|t| Complex64::new(t, 0.0)) * v).rows(0, nc).into_owned()));
+        let mut core = assign(&ac, &bc, &assigned, params, local.as_ref())?;
         let mut g = DMatrix::zeros(m, n);
         g.columns_mut(0, nc).copy_from(&core.gain);
         core.gain = g;
+        core.eigenvectors = core.eigenvectors.map(|e| {
+            map_vectors(&e, |v| {
+                let mut full = DMatrix::<Complex64>::zeros(n, v.ncols());
+                full.rows_mut(0, nc).copy_from(v);
+                st.transform.map(|t| Complex64::new(t, 0.0)) * full
+            })
+        });
         core
     };
     // K in the original coordinates: K = [K_c 0] Tᵀ.
@@ -329,6 +417,9 @@ struct Core {
     abs_det: f64,
     rank: usize,
     method: PlacementMethod,
+    /// In the coordinates `assign` was given.
+    eigenvectors: Option<Eigenvectors>,
+    branch: Branch,
 }
 
 /// The numerical rank of `B` (singular values above `tolerance` times the largest).
@@ -340,7 +431,7 @@ fn input_rank(b: &DMatrix<f64>, tolerance: f64) -> Result<usize, PlacementError>
 
 /// Gain for a controllable pair: eigenstructure assignment when no pole repeats more than
 /// `rank B` times, the deflation of [`deflation`] otherwise.
-fn assign(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Core, PlacementError> {
+fn assign(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<Core, PlacementError> {
     let rank = input_rank(b, params.rank_tolerance)?;
     if rank == 0 {
         return Err(PlacementError::Numerical { message: "B has rank 0".into() });
@@ -348,7 +439,7 @@ fn assign(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: Place
     if deflation::most_repeated(poles).1 > rank {
         deflation::assign_repeated(a, b, poles, params, rank)
     } else {
-        robust::assign_robust(a, b, poles, params)
+        robust::assign_robust(a, b, poles, params, start)
     }
 }
 
@@ -392,6 +483,8 @@ fn finish(
         converged: core.converged,
         input_rank: core.rank,
         method: core.method,
+        eigenvectors: core.eigenvectors,
+        branch: core.branch,
         repeated_pole_spread,
     })
 }
@@ -526,7 +619,7 @@ fn split_for_fixed_modes(poles: &[Complex64], fixed: &[Complex64]) -> Option<(Ve
 /// `‖D⁻¹B‖` and the blocks of `A` against `‖D⁻¹AD‖`; `None` when it is not (the caller then
 /// treats the fixed modes as before). Eigenvalues are similarity invariant; the gain comes back
 /// as `K = K_bal D⁻¹`.
-fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Option<Placement>, PlacementError> {
+fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<Option<Placement>, PlacementError> {
     let (n, m) = (a.nrows(), b.ncols());
     let d = crate::linalg::eigen::balancing_scale(a, 100);
     let a_bal = DMatrix::from_fn(n, n, |i, j| a[(i, j)] * d[j] / d[i]);
@@ -545,10 +638,13 @@ fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], param
         if c > 0.0 { 2f64.powi((anorm / c).log2().round() as i32) } else { 1.0 }
     }).collect();
     let b_scaled = DMatrix::from_fn(n, m, |i, j| b_bal[(i, j)] * s[j]);
-    let core = assign(&a_bal, &b_scaled, poles, params)?;
+    // Balanced coordinates x_bal = D⁻¹ x.
+    let local = start.map(|e| map_vectors(e, |v| DMatrix::from_fn(n, v.ncols(), |i, j| v[(i, j)] / d[i])));
+    let core = assign(&a_bal, &b_scaled, poles, params, local.as_ref())?;
     // u = −K_s x_bal with B_scaled = B_bal S: the input is S u_s, so K_bal = S K_s; then K = K_bal D⁻¹.
     let gain = DMatrix::from_fn(m, n, |i, j| s[i] * core.gain[(i, j)] / d[j]);
-    let core = Core { gain, ..core };
+    let eigenvectors = core.eigenvectors.as_ref().map(|e| map_vectors(e, |v| DMatrix::from_fn(n, v.ncols(), |i, j| v[(i, j)] * d[i])));
+    let core = Core { gain, eigenvectors, ..core };
     finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new(), params.domain).map(Some)
 }
 
@@ -587,6 +683,8 @@ pub fn placement_of_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, gain: &DMatrix<f64>
         converged: true,
         input_rank: rank,
         method: PlacementMethod::Given,
+        eigenvectors: None,
+        branch: Branch::Fresh,
         repeated_pole_spread,
     })
 }

@@ -5,7 +5,7 @@
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
 
-use super::{max_matching_error, Core, PlacementError, PlacementMethod, PlacementParams, Slot};
+use super::{max_matching_error, Branch, Core, Eigenvectors, PlacementError, PlacementMethod, PlacementParams, Slot};
 use crate::linalg::eigen::{balancing_scale, try_eigenvalues};
 use crate::linalg::qr::full_qr;
 use crate::linalg::svd::{try_condition_number, try_svd, SvdParams};
@@ -16,7 +16,7 @@ pub(super) fn to_complex(m: &DMatrix<f64>) -> DMatrix<Complex64> {
 
 /// Eigenstructure assignment for a controllable pair whose requested poles repeat at most
 /// `rank B` times.
-pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<Core, PlacementError> {
+pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<Core, PlacementError> {
     let n = a.nrows();
     // 1. Rank of B and the bases U_r, U₁.
     let svd = try_svd(b, SvdParams::default())?;
@@ -113,50 +113,103 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
     let Some(best) = runs.pop() else {
         return Err(PlacementError::Numerical { message: "no eigenvector matrix".into() });
     };
-    let converged = r == 1 || best.converged;
-    let (x, condition) = best.into_best();
+    let mut converged = r == 1 || best.converged;
+    let (mut x, mut condition) = best.into_best();
+    let sigma_inv = DMatrix::from_diagonal(&svd.singular_values.rows(0, r).map(|s| 1.0 / s));
+    let vr = svd.v_adjoint.rows(0, r).transpose();
+    let left = to_complex(&(vr * sigma_inv * ur.transpose()));
+    let fresh_gain = gain_from_eigenvectors(a, b, &left, &x, &ordered)?;
+    let mut gain = fresh_gain.clone();
+    // Continuation: the same refinement from the previous eigenvectors projected onto the new
+    // admissible subspaces; kept unless its conditioning is more than the stated factor worse.
+    let mut branch = Branch::Fresh;
+    if let (true, Some(x0)) = (r > 1, start.and_then(|s| continued_start(&slots, &subspaces, &ordered, s))) {
+        if let Some(followed) = follow_branch(x0, &slots, &subspaces, &real_subspaces, params)? {
+            total_sweeps += followed.sweeps;
+            if followed.condition <= params.branch_condition_factor * condition {
+                let k = gain_from_eigenvectors(a, b, &left, &followed.x, &ordered)?;
+                let fresh_norm = fresh_gain.norm().max(f64::MIN_POSITIVE);
+                let gain_difference = (&k - &fresh_gain).norm() / fresh_norm;
+                branch = if followed.drift > params.branch_drift_limit {
+                    Branch::Lost { drift: followed.drift }
+                } else {
+                    Branch::Followed { fresh_condition: condition, gain_difference }
+                };
+                x = followed.x;
+                condition = followed.condition;
+                converged = followed.converged;
+                gain = k;
+            } else {
+                branch = Branch::Changed { followed_condition: followed.condition };
+            }
+        }
+    }
     let iterations = total_sweeps;
+    let det = abs_det(&x);
+    let balanced_condition = balanced_condition(&(a - b * &gain), &x).unwrap_or(condition);
+    let eigenvectors = Some(Eigenvectors { poles: ordered.clone(), vectors: x });
+    Ok(Core { gain, iterations, converged, condition, balanced_condition, abs_det: det, rank: r, method: PlacementMethod::Robust, eigenvectors, branch })
+}
 
-    // 6. Gain: K X = V_r Σ_r⁻¹ U_rᵀ (A X − X Λ), solved with X rather than through an explicit
-    // inverse (which would square the effect of κ(X) on the rounding errors).
+/// A continuation's refinement: where it ended, its conditioning, how far it moved.
+struct Followed {
+    x: DMatrix<Complex64>,
+    condition: f64,
+    drift: f64,
+    sweeps: usize,
+    converged: bool,
+}
+
+/// Refines the continuation's start `x0` to the local maximiser of `|det X|` (tight stop).
+fn follow_branch(x0: DMatrix<Complex64>, slots: &[Slot], subspaces: &[DMatrix<Complex64>], real_subspaces: &[Option<DMatrix<f64>>], params: PlacementParams) -> Result<Option<Followed>, PlacementError> {
+    let start = x0.clone();
+    let Some(mut run) = Refinement::new(x0, slots)? else { return Ok(None) };
+    // Converged tightly: |det X| is flat at its maximum, so a loose stop leaves X behind the
+    // moving optimum by about the square root of the tolerance, and the lag is made up later
+    // in one jump of the gain.
+    let tight = PlacementParams { improvement_tolerance: params.continuation_tolerance, condition_stall_tolerance: params.continuation_tolerance, ..params };
+    run.sweep(slots, subspaces, real_subspaces, tight, params.max_sweeps)?;
+    let (sweeps, converged) = (run.sweeps, run.converged);
+    let (x, condition) = run.into_last(slots)?;
+    let drift = column_drift(&start, &x);
+    Ok(Some(Followed { x, condition, drift, sweeps, converged }))
+}
+
+/// The gain for the eigenvectors `x` of the poles `ordered`: `K X = L (A X − X Λ)` with
+/// `L = V_r Σ_r⁻¹ U_rᵀ` (`left`), solved with `X` rather than through an explicit inverse (which
+/// would square the effect of `κ(X)` on the rounding errors), one step of iterative
+/// refinement; and the second route `K = L (A − M)`, `M = X Λ X⁻¹` from a solve. The two differ
+/// only in rounding; when `X` is ill conditioned one can be markedly better, so both are
+/// checked against the request through the eigenvalues of `A − B K` and the better one kept.
+fn gain_from_eigenvectors(a: &DMatrix<f64>, b: &DMatrix<f64>, left: &DMatrix<Complex64>, x: &DMatrix<Complex64>, ordered: &[Complex64]) -> Result<DMatrix<f64>, PlacementError> {
     let mut xl = x.clone();
     for (j, z) in ordered.iter().enumerate() {
         let mut col = xl.column_mut(j);
         col *= *z;
     }
-    let sigma_inv = DMatrix::from_diagonal(&svd.singular_values.rows(0, r).map(|s| 1.0 / s));
-    let vr = svd.v_adjoint.rows(0, r).transpose();
-    let left = to_complex(&(vr * sigma_inv * ur.transpose()));
-    let g = &left * (to_complex(a) * &x - &xl); // m × n
+    let g = left * (to_complex(a) * x - &xl); // m × n
     let xt_lu = x.transpose().lu();
     let mut gain_c = xt_lu.solve(&g.transpose()).ok_or_else(|| PlacementError::Numerical { message: "the eigenvector matrix is singular".into() })?;
-    // One step of iterative refinement of Xᵀ Kᵀ = Gᵀ.
     let residual = g.transpose() - x.transpose() * &gain_c;
     if let Some(correction) = xt_lu.solve(&residual) {
         gain_c += correction;
     }
-    let gain_direct = gain_c.transpose().map(|z| z.re);
-    // Second route, K = V_r Σ_r⁻¹ U_rᵀ (A − M) with M = X Λ X⁻¹ from a solve. The two differ
-    // only in rounding; when X is ill conditioned one can be markedly better, so both are
-    // checked against the request through the eigenvalues of A − B K and the better one kept.
-    let mut gain = gain_direct;
+    let mut gain = gain_c.transpose().map(|z| z.re);
     if let Some(mt) = xt_lu.solve(&xl.transpose()) {
         let m_real = mt.transpose().map(|z| z.re);
         let gain_m = left.map(|z| z.re) * (a - m_real);
         if gain_m.iter().all(|v| v.is_finite()) {
-            let err_direct = try_eigenvalues(&(a - b * &gain)).map(|e| max_matching_error(&ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
-            let err_m = try_eigenvalues(&(a - b * &gain_m)).map(|e| max_matching_error(&ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
+            let err_direct = try_eigenvalues(&(a - b * &gain)).map(|e| max_matching_error(ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
+            let err_m = try_eigenvalues(&(a - b * &gain_m)).map(|e| max_matching_error(ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
             if err_m < err_direct {
                 gain = gain_m;
             }
         }
     }
-    let det = abs_det(&x);
     if !gain.iter().all(|v| v.is_finite()) {
         return Err(PlacementError::Numerical { message: "the gain is not finite".into() });
     }
-    let balanced_condition = balanced_condition(&(a - b * &gain), &x).unwrap_or(condition);
-    Ok(Core { gain, iterations, converged, condition, balanced_condition, abs_det: det, rank: r, method: PlacementMethod::Robust })
+    Ok(gain)
 }
 
 /// `κ₂(D⁻¹ X)` with unit columns for the closed loop `closed` with eigenvectors `x` (see
@@ -256,6 +309,15 @@ impl Refinement {
 
     fn into_best(self) -> (DMatrix<Complex64>, f64) {
         (self.best_x, self.best_kappa)
+    }
+
+    /// The last `X` (the local maximiser of `|det X|` the sweeps converged to) and its `κ₂`: a
+    /// smooth function of the poles, unlike the best-conditioned snapshot, whose choice among
+    /// the checkpoints can change abruptly as the poles move.
+    fn into_last(self, slots: &[Slot]) -> Result<(DMatrix<Complex64>, f64), PlacementError> {
+        let x = from_real_form(&self.xr, slots);
+        let kappa = try_condition_number(&x, SvdParams::default())?;
+        Ok((x, kappa))
     }
 
     /// Runs up to `budget` more sweeps (fewer if converged).
@@ -568,4 +630,47 @@ fn initial_x_seeded(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &
     }
     let _ = ordered;
     Some(x)
+}
+
+/// The starting `X` of a continuation: for each slot the previous eigenvector of the nearest
+/// previous pole of the same kind (real, or the upper member of a pair), each used once,
+/// projected onto the slot's admissible subspace. `None` when the kinds or sizes do not match
+/// or a projection vanishes (a fresh start is then the only one).
+fn continued_start(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &[Complex64], start: &Eigenvectors) -> Option<DMatrix<Complex64>> {
+    let n = ordered.len();
+    if start.vectors.nrows() != n || start.vectors.ncols() != start.poles.len() {
+        return None;
+    }
+    let mut used = vec![false; start.poles.len()];
+    let mut x = DMatrix::<Complex64>::zeros(n, n);
+    for (k, slot) in slots.iter().enumerate() {
+        let (j, real) = match *slot {
+            Slot::Real(j) => (j, true),
+            Slot::Pair(j) => (j, false),
+        };
+        let target = ordered[j];
+        let candidate = (0..start.poles.len())
+            .filter(|&i| !used[i] && (start.poles[i].im == 0.0) == real && (real || start.poles[i].im > 0.0))
+            .min_by(|&p, &q| (start.poles[p] - target).norm().total_cmp(&(start.poles[q] - target).norm()))?;
+        used[candidate] = true;
+        let mut v = project(&subspaces[k], &start.vectors.column(candidate).into_owned());
+        if real {
+            for z in v.iter_mut() {
+                z.im = 0.0;
+            }
+        }
+        let v = normalise(v)?;
+        x.set_column(j, &v);
+        if !real {
+            x.set_column(j + 1, &v.map(|z| z.conj()));
+        }
+    }
+    Some(x)
+}
+
+
+/// The largest `1 − |x_jᴴ y_j|` over the columns of two unit-column matrices: how far the
+/// sweeps moved each eigenvector from where the continuation started it.
+fn column_drift(x: &DMatrix<Complex64>, y: &DMatrix<Complex64>) -> f64 {
+    (0..x.ncols().min(y.ncols())).map(|j| 1.0 - x.column(j).dotc(&y.column(j)).norm().min(1.0)).fold(0.0, f64::max)
 }
