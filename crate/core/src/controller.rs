@@ -182,7 +182,21 @@ pub struct ObserverDesign {
 /// # Errors
 /// [`ControllerError::Observer`] with the reason (e.g. an undetectable unstable mode).
 pub fn observer_gain(a: &DMatrix<f64>, c: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams) -> Result<ObserverDesign, ControllerError> {
-    let dual = state_feedback_gain(&a.transpose(), &c.transpose(), poles, params).map_err(|e| {
+    observer_gain_continued(a, c, poles, params, None)
+}
+
+/// [`observer_gain`] continued from the dual placement's previous eigenvectors (see
+/// [`crate::place::state_feedback_gain_continued`]) when given and of the right size.
+///
+/// # Errors
+/// As [`observer_gain`].
+pub fn observer_gain_continued(a: &DMatrix<f64>, c: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, previous: Option<&crate::place::Eigenvectors>) -> Result<ObserverDesign, ControllerError> {
+    let (at, ct) = (a.transpose(), c.transpose());
+    let placed = match previous.filter(|e| e.vectors.nrows() == a.nrows()) {
+        Some(e) => crate::place::state_feedback_gain_continued(&at, &ct, poles, params, e),
+        None => state_feedback_gain(&at, &ct, poles, params),
+    };
+    let dual = placed.map_err(|e| {
         let cause = match e {
             PlacementError::PoleCount { .. } | PlacementError::InvalidPoles { .. } | PlacementError::RepeatedBeyondRank { .. } => ObserverFailure::Poles,
             _ => ObserverFailure::Plant,

@@ -1,25 +1,36 @@
 //! The fastest design the actuators allow.
 //!
 //! # Problem
-//! Given a pole pattern `p₁ … pₙ` (a shape), actuator limits `|uᵢ| ≤ uᵢ_max` and the
-//! situations the machine must handle (initial deviations `x₀`, reference steps `r`), find the
-//! largest speed-up `α` such that the design with poles `α p₁ … α pₙ` never commands more than
-//! the limits in any situation (linear, unsaturated response: the design is meant to stay
+//! Given a pole pattern `p₁ … pₙ` (a shape, in the s-plane), actuator limits `|uᵢ| ≤ uᵢ_max`
+//! and the situations the machine must handle (initial deviations `x₀`, reference steps `r`),
+//! find the largest speed-up `α` such that the design with poles `α p₁ … α pₙ` (digital:
+//! `z = e^{α pᵢ T}`, with any fixed poles such as a computation delay's) never commands more
+//! than the limits in any situation (linear, unsaturated response: the design is meant to stay
 //! inside the limits, not to rely on saturation).
 //!
 //! # Method
-//! `φ(α) = max over situations and inputs of peak |uᵢ(t)| / uᵢ_max`, computed by placing the
-//! scaled poles ([`crate::place`]) and simulating exactly ([`crate::simulate`]); for a reference
-//! step the deviation `e = x − N_x r` starts at `−N_x r` and `u = N_u r − K e` (feedforward from
-//! the steady-state equations). Bisection on `log α` for `φ(α) = 1` between
-//! [`SearchParams::min_factor`] and [`SearchParams::max_factor`]. Faster poles cost more control
-//! effort (common practice), so `φ` normally increases with `α`; this is **checked**, not
-//! assumed: `φ` is sampled at [`SearchParams::monotonicity_samples`] log-spaced factors and any
-//! decrease is reported, because then bisection may have found one of several crossings.
+//! `φ(α) = max over situations and inputs of peak |uᵢ| / uᵢ_max`, computed by placing the
+//! scaled poles ([`crate::place`]) and simulating exactly ([`crate::simulate`] in continuous
+//! time; the sampled closed loop `x[k+1] = (Φ − Γ K) x[k]` when digital); for a reference step
+//! the deviation `e = x − N_x r` starts at `−N_x r` and `u = N_u r − K e` (feedforward from the
+//! steady-state equations).
+//! 1. **A path of factors.** `φ` is evaluated at log-spaced factors from
+//!    [`SearchParams::min_factor`] upwards ([`SearchParams::path_samples`] over the range), each
+//!    placement continued from the previous one's eigenvectors
+//!    ([`crate::place::state_feedback_gain_continued`]), so that with several inputs the gains
+//!    follow one branch of the robust placement instead of jumping between local optima; the
+//!    path stops at twice the first factor that exceeds a limit.
+//! 2. **Bisection** on `log α` inside the first bracket, each placement continued from the
+//!    largest factor already known to be within the limits.
+//! 3. **Verification.** Faster poles cost more control effort (common practice), so `φ`
+//!    normally increases with `α`; this is **checked**, not assumed: any decrease along the path
+//!    is reported. The peak at the factor found must be within 97–100 % of the limit; when it is
+//!    not (a jump of `φ` inside the final bracket), the result says why: a branch change of
+//!    the placement, a non-monotone `φ`, or a discontinuity.
 //!
 //! # Cost
-//! One placement and one simulation per situation for each evaluation of `φ`: about
-//! `log₂(range / tolerance) + samples` evaluations (≈ 35).
+//! One placement (two with continuation) and one simulation per situation for each evaluation
+//! of `φ`: up to `path_samples` plus `log₂(bracket / tolerance)` evaluations (≈ 40).
 //!
 //! # Failure modes
 //! [`SearchError::LimitsExceededAtSlowest`] when even the slowest factor exceeds a limit;
@@ -30,8 +41,8 @@ use num_complex::Complex64;
 
 use crate::controller::feedforward_gains;
 use crate::metrics;
-use crate::place::{state_feedback_gain, PlacementParams};
-use crate::simulate::{closed_loop_response, SimulationParams, SimulationSpec};
+use crate::place::{state_feedback_gain, state_feedback_gain_continued, Branch, Eigenvectors, PlacementParams};
+use crate::simulate::{closed_loop_response, default_horizon, SimulationParams, SimulationSpec};
 
 /// One situation the design must handle.
 #[derive(Debug, Clone, PartialEq)]
@@ -53,15 +64,17 @@ pub struct SearchParams {
     pub tolerance: f64,
     /// Bisection steps at most. Default 60.
     pub max_iterations: usize,
-    /// Log-spaced samples for the monotonicity check. Default 12.
-    pub monotonicity_samples: usize,
+    /// Log-spaced factors of the path over the whole range (the path stops early). Default 40.
+    pub path_samples: usize,
+    /// Largest number of samples of a digital simulation. Default 50 000.
+    pub max_samples: usize,
     /// Settling band for the reported settling time. Default 0.02.
     pub band: f64,
 }
 
 impl Default for SearchParams {
     fn default() -> Self {
-        SearchParams { min_factor: 0.01, max_factor: 100.0, tolerance: 1e-3, max_iterations: 60, monotonicity_samples: 12, band: metrics::DEFAULT_BAND }
+        SearchParams { min_factor: 0.01, max_factor: 100.0, tolerance: 1e-3, max_iterations: 60, path_samples: 40, max_samples: 50_000, band: metrics::DEFAULT_BAND }
     }
 }
 
@@ -98,12 +111,51 @@ impl std::fmt::Display for SearchError {
 
 impl std::error::Error for SearchError {}
 
+/// Why the peak at the factor found is below 97 % of the limit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum SearchShortfall {
+    /// The placement changed branch (or lost its branch) inside the final bracket: the gains,
+    /// and with them the peak, jumped.
+    BranchChange,
+    /// The peak does not grow steadily with the speed-up along the path.
+    NonMonotonic,
+    /// The peak jumps inside the final bracket for another reason.
+    Discontinuous,
+}
+
+/// The time domain of the search.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SearchDomain {
+    /// `A`, `B` continuous; the poles are `α pᵢ`.
+    Continuous,
+    /// `A`, `B` are `Φ`, `Γ` at `sample_time` (possibly with delay states after the plant's);
+    /// the poles are `e^{α pᵢ T}` followed by `fixed_poles` (not scaled).
+    Sampled { sample_time: f64, fixed_poles: Vec<Complex64> },
+}
+
+/// What is searched: the design pair, the pattern, the limits and situations.
+#[derive(Debug, Clone)]
+pub struct SearchProblem<'a> {
+    pub a: &'a DMatrix<f64>,
+    pub b: &'a DMatrix<f64>,
+    /// Outputs on the pair's states (zero on states after the plant's); for reference steps.
+    pub c: Option<&'a DMatrix<f64>>,
+    pub pattern: &'a [Complex64],
+    pub limits: &'a [f64],
+    /// Initial states have the plant's states only; the pair's further states start at zero.
+    pub situations: &'a [Situation],
+    /// How many of the pair's states are the plant's.
+    pub plant_states: usize,
+    pub domain: SearchDomain,
+}
+
 /// The outcome.
 #[derive(Debug, Clone)]
 pub struct SearchResult {
     /// The largest factor found with every input within its limit.
     pub speed_factor: f64,
-    /// The scaled poles.
+    /// The scaled poles (s-plane).
     pub poles: Vec<Complex64>,
     /// Situation (0-based) and input (0-based) that set the limit.
     pub limiting_situation: usize,
@@ -112,13 +164,18 @@ pub struct SearchResult {
     pub peak_ratio: f64,
     /// Per situation, the slowest state's settling time (s) at the result (`None`: not settled).
     pub settling_time: Vec<Option<f64>>,
-    /// Whether `φ` was non-decreasing over the sampled range.
+    /// Whether `φ` was non-decreasing along the path.
     pub monotonic: bool,
-    /// `(factor, φ)` samples of the monotonicity check.
+    /// `(factor, φ)` along the path.
     pub samples: Vec<(f64, f64)>,
     /// The limits were never reached up to `max_factor`.
     pub limited_by_range: bool,
     pub evaluations: usize,
+    /// Why `peak_ratio` is below 0.97 (`None` when it is not, or when the range limited).
+    pub shortfall: Option<SearchShortfall>,
+    /// The closed-loop eigenvectors at the factor found: the design at that factor continues
+    /// from them, so that it has the gain the search judged.
+    pub eigenvectors: Option<Eigenvectors>,
 }
 
 struct Evaluation {
@@ -126,9 +183,11 @@ struct Evaluation {
     situation: usize,
     input: usize,
     settling: Vec<Option<f64>>,
+    eigenvectors: Option<Eigenvectors>,
+    branch: Branch,
 }
 
-/// See the module documentation.
+/// [`fastest_within_limits_of`] for a continuous plant.
 ///
 /// # Errors
 /// See [`SearchError`].
@@ -141,21 +200,26 @@ pub fn fastest_within_limits(
     situations: &[Situation],
     params: SearchParams,
 ) -> Result<SearchResult, SearchError> {
-    let n = a.nrows();
-    let m = b.ncols();
-    if situations.is_empty() {
+    let problem = SearchProblem { a, b, c, pattern, limits, situations, plant_states: a.nrows(), domain: SearchDomain::Continuous };
+    fastest_within_limits_of(&problem, params)
+}
+
+/// Checks the sizes of a problem.
+fn check_problem(p: &SearchProblem) -> Result<(), SearchError> {
+    let m = p.b.ncols();
+    if p.situations.is_empty() {
         return Err(SearchError::NoSituations);
     }
-    if limits.is_empty() {
+    if p.limits.is_empty() {
         return Err(SearchError::NoLimits);
     }
-    if limits.len() != m {
-        return Err(SearchError::Size { what: "actuator limits", expected: m, found: limits.len() });
+    if p.limits.len() != m {
+        return Err(SearchError::Size { what: "actuator limits", expected: m, found: p.limits.len() });
     }
-    for s in situations {
+    for s in p.situations {
         match s {
-            Situation::InitialState(x) if x.len() != n => return Err(SearchError::Size { what: "initial state", expected: n, found: x.len() }),
-            Situation::ReferenceStep(r) => match c {
+            Situation::InitialState(x) if x.len() != p.plant_states => return Err(SearchError::Size { what: "initial state", expected: p.plant_states, found: x.len() }),
+            Situation::ReferenceStep(r) => match p.c {
                 None => return Err(SearchError::NeedsOutputs),
                 Some(c) if r.len() != c.nrows() => return Err(SearchError::Size { what: "reference step", expected: c.nrows(), found: r.len() }),
                 _ => {}
@@ -163,88 +227,95 @@ pub fn fastest_within_limits(
             _ => {}
         }
     }
-    let ff = match c {
-        Some(c) if situations.iter().any(|s| matches!(s, Situation::ReferenceStep(_))) => {
+    Ok(())
+}
+
+/// See the module documentation.
+///
+/// # Errors
+/// See [`SearchError`].
+pub fn fastest_within_limits_of(problem: &SearchProblem, params: SearchParams) -> Result<SearchResult, SearchError> {
+    check_problem(problem)?;
+    let m = problem.b.ncols();
+    let discrete = matches!(problem.domain, SearchDomain::Sampled { .. });
+    let ff = match problem.c {
+        Some(c) if problem.situations.iter().any(|s| matches!(s, Situation::ReferenceStep(_))) => {
             let d = DMatrix::zeros(c.nrows(), m);
-            Some(feedforward_gains(a, b, c, &d, false).map_err(|e| SearchError::Step { factor: 1.0, message: e.to_string() })?)
+            Some(feedforward_gains(problem.a, problem.b, c, &d, discrete).map_err(|e| SearchError::Step { factor: 1.0, message: e.to_string() })?)
         }
         _ => None,
     };
     let mut evaluations = 0usize;
-    let mut evaluate = |alpha: f64| -> Result<Evaluation, SearchError> {
+    let mut evaluate = |alpha: f64, start: Option<&Eigenvectors>| -> Result<Evaluation, SearchError> {
         evaluations += 1;
-        let poles: Vec<Complex64> = pattern.iter().map(|p| p * alpha).collect();
-        let placement = state_feedback_gain(a, b, &poles, PlacementParams::default()).map_err(|e| SearchError::Step { factor: alpha, message: e.to_string() })?;
-        let k = &placement.gain;
-        let mut worst = Evaluation { ratio: 0.0, situation: 0, input: 0, settling: Vec::new() };
-        for (si, s) in situations.iter().enumerate() {
-            let (e0, offset) = match s {
-                Situation::InitialState(x) => (DVector::from_column_slice(x), DVector::zeros(m)),
-                Situation::ReferenceStep(r) => {
-                    let (nx, nu) = ff.as_ref().ok_or(SearchError::NeedsOutputs)?;
-                    let r = DVector::from_column_slice(r);
-                    (-(nx * &r), nu * &r)
-                }
-            };
-            let spec = SimulationSpec { initial_state: e0, duration: None, limits: Vec::new() };
-            let resp = closed_loop_response(a, b, k, &spec, SimulationParams::default()).map_err(|e| SearchError::Step { factor: alpha, message: e.to_string() })?;
-            for i in 0..m {
-                let peak = resp.commanded[i].iter().map(|u| (u + offset[i]).abs()).fold(0.0, f64::max);
-                let ratio = peak / limits[i];
-                if ratio > worst.ratio {
-                    worst.ratio = ratio;
-                    worst.situation = si;
-                    worst.input = i;
-                }
-            }
-            let settle = resp
-                .states
-                .iter()
-                .map(|x| metrics::settling_time(&resp.time, x, 0.0, params.band))
-                .try_fold(0.0f64, |acc, s| s.map(|v| acc.max(v)));
-            worst.settling.push(settle);
-        }
-        Ok(worst)
+        evaluate_at(problem, ff.as_ref(), alpha, start, params)
     };
-    let lo0 = params.min_factor;
-    let hi0 = params.max_factor;
-    let at_lo = evaluate(lo0)?;
-    if at_lo.ratio > 1.0 {
-        return Err(SearchError::LimitsExceededAtSlowest { factor: lo0, ratio: at_lo.ratio, situation: at_lo.situation, input: at_lo.input });
-    }
-    let at_hi = evaluate(hi0)?;
-    let (factor, best, limited_by_range) = if at_hi.ratio <= 1.0 {
-        (hi0, at_hi, true)
-    } else {
-        let (mut lo, mut hi) = (lo0.ln(), hi0.ln());
-        let mut best = at_lo;
-        for _ in 0..params.max_iterations {
-            if hi - lo <= params.tolerance {
-                break;
-            }
-            let mid = 0.5 * (lo + hi);
-            let e = evaluate(mid.exp())?;
-            if e.ratio <= 1.0 {
-                lo = mid;
-                best = e;
-            } else {
-                hi = mid;
-            }
+    // 1. The path.
+    let (lo0, hi0) = (params.min_factor, params.max_factor);
+    let count = params.path_samples.max(2);
+    let step = (hi0.ln() - lo0.ln()) / (count - 1) as f64;
+    let mut path: Vec<(f64, Evaluation)> = Vec::new();
+    let mut first_over: Option<usize> = None;
+    for j in 0..count {
+        let f = (lo0.ln() + step * j as f64).exp();
+        if first_over.is_some_and(|i| f > 2.0 * path[i].0 * (1.0 + 1e-12)) {
+            break;
         }
-        (lo.exp(), best, false)
-    };
-    // Monotonicity check over [min, min(2·found, max)].
-    let top = (2.0 * factor).min(hi0);
-    let k = params.monotonicity_samples.max(2);
-    let mut samples = Vec::with_capacity(k);
-    for j in 0..k {
-        let f = (lo0.ln() + (top.ln() - lo0.ln()) * j as f64 / (k - 1) as f64).exp();
-        samples.push((f, evaluate(f)?.ratio));
+        let e = evaluate(f, path.last().and_then(|(_, e)| e.eigenvectors.as_ref()))?;
+        if j == 0 && e.ratio > 1.0 {
+            return Err(SearchError::LimitsExceededAtSlowest { factor: lo0, ratio: e.ratio, situation: e.situation, input: e.input });
+        }
+        if first_over.is_none() && e.ratio > 1.0 {
+            first_over = Some(path.len());
+        }
+        path.push((f, e));
     }
+    let samples: Vec<(f64, f64)> = path.iter().map(|(f, e)| (*f, e.ratio)).collect();
     let monotonic = samples.windows(2).all(|w| w[1].1 >= w[0].1 * (1.0 - 1e-9));
-    Ok(SearchResult {
+    // 2. Bisection in the first bracket.
+    let Some(over) = first_over else {
+        let (f, best) = path.pop().ok_or(SearchError::NoSituations)?;
+        return Ok(finish(problem, f, best, samples, monotonic, true, evaluations, None));
+    };
+    let mut path = path;
+    path.truncate(over + 1);
+    let (hi_f, hi_e) = path.pop().ok_or(SearchError::NoSituations)?;
+    let (mut lo_f, mut best) = path.pop().ok_or(SearchError::NoSituations)?;
+    let (mut lo, mut hi) = (lo_f.ln(), hi_f.ln());
+    let mut branch_trouble = matches!(hi_e.branch, Branch::Changed { .. } | Branch::Lost { .. });
+    for _ in 0..params.max_iterations {
+        if hi - lo <= params.tolerance {
+            break;
+        }
+        let mid = 0.5 * (lo + hi);
+        let e = evaluate(mid.exp(), best.eigenvectors.as_ref())?;
+        branch_trouble |= matches!(e.branch, Branch::Changed { .. } | Branch::Lost { .. });
+        if e.ratio <= 1.0 {
+            lo = mid;
+            lo_f = mid.exp();
+            best = e;
+        } else {
+            hi = mid;
+        }
+    }
+    // 3. Verification at the factor found.
+    let shortfall = (best.ratio < 0.97).then(|| {
+        if branch_trouble {
+            SearchShortfall::BranchChange
+        } else if !monotonic {
+            SearchShortfall::NonMonotonic
+        } else {
+            SearchShortfall::Discontinuous
+        }
+    });
+    Ok(finish(problem, lo_f, best, samples, monotonic, false, evaluations, shortfall))
+}
+
+#[allow(clippy::too_many_arguments)]
+fn finish(problem: &SearchProblem, factor: f64, best: Evaluation, samples: Vec<(f64, f64)>, monotonic: bool, limited_by_range: bool, evaluations: usize, shortfall: Option<SearchShortfall>) -> SearchResult {
+    SearchResult {
         speed_factor: factor,
-        poles: pattern.iter().map(|p| p * factor).collect(),
+        poles: problem.pattern.iter().map(|p| p * factor).collect(),
         limiting_situation: best.situation,
         limiting_input: best.input,
         peak_ratio: best.ratio,
@@ -253,7 +324,102 @@ pub fn fastest_within_limits(
         samples,
         limited_by_range,
         evaluations,
-    })
+        shortfall,
+        eigenvectors: best.eigenvectors,
+    }
+}
+
+/// The design poles at factor `alpha`.
+fn design_poles(problem: &SearchProblem, alpha: f64) -> Vec<Complex64> {
+    match &problem.domain {
+        SearchDomain::Continuous => problem.pattern.iter().map(|p| p * alpha).collect(),
+        SearchDomain::Sampled { sample_time, fixed_poles } => {
+            let mut z = crate::plane::z_from_s_all(&problem.pattern.iter().map(|p| p * alpha).collect::<Vec<_>>(), *sample_time);
+            z.extend(fixed_poles.iter().copied());
+            z
+        }
+    }
+}
+
+/// `φ(α)`: place (continued from `start` when given) and simulate every situation.
+fn evaluate_at(problem: &SearchProblem, ff: Option<&(DMatrix<f64>, DMatrix<f64>)>, alpha: f64, start: Option<&Eigenvectors>, params: SearchParams) -> Result<Evaluation, SearchError> {
+    let (a, b) = (problem.a, problem.b);
+    let (n, m) = (a.nrows(), b.ncols());
+    let poles = design_poles(problem, alpha);
+    let pp = PlacementParams { domain: if matches!(problem.domain, SearchDomain::Continuous) { crate::analysis::Domain::Continuous } else { crate::analysis::Domain::Discrete }, ..PlacementParams::default() };
+    let placement = match start {
+        Some(s) => state_feedback_gain_continued(a, b, &poles, pp, s),
+        None => state_feedback_gain(a, b, &poles, pp),
+    }
+    .map_err(|e| SearchError::Step { factor: alpha, message: e.to_string() })?;
+    let k = &placement.gain;
+    let mut worst = Evaluation { ratio: 0.0, situation: 0, input: 0, settling: Vec::new(), eigenvectors: placement.eigenvectors.clone(), branch: placement.branch };
+    for (si, s) in problem.situations.iter().enumerate() {
+        let (e0, offset) = match s {
+            Situation::InitialState(x) => {
+                let mut e0 = DVector::zeros(n);
+                e0.rows_mut(0, x.len()).copy_from(&DVector::from_column_slice(x));
+                (e0, DVector::zeros(m))
+            }
+            Situation::ReferenceStep(r) => {
+                let (nx, nu) = ff.ok_or(SearchError::NeedsOutputs)?;
+                let r = DVector::from_column_slice(r);
+                (-(nx * &r), nu * &r)
+            }
+        };
+        let (time, states, commanded) = match &problem.domain {
+            SearchDomain::Continuous => {
+                let spec = SimulationSpec { initial_state: e0, duration: None, limits: Vec::new() };
+                let resp = closed_loop_response(a, b, k, &spec, SimulationParams::default()).map_err(|e| SearchError::Step { factor: alpha, message: e.to_string() })?;
+                (resp.time, resp.states, resp.commanded)
+            }
+            SearchDomain::Sampled { sample_time, .. } => sampled_response(a, b, k, &e0, problem.pattern, alpha, *sample_time, params.max_samples),
+        };
+        for i in 0..m {
+            let peak = commanded[i].iter().map(|u| (u + offset[i]).abs()).fold(0.0, f64::max);
+            let ratio = peak / problem.limits[i];
+            if ratio > worst.ratio {
+                worst.ratio = ratio;
+                worst.situation = si;
+                worst.input = i;
+            }
+        }
+        let settle = states.iter().map(|x| metrics::settling_time(&time, x, 0.0, params.band)).try_fold(0.0f64, |acc, s| s.map(|v| acc.max(v)));
+        worst.settling.push(settle);
+    }
+    Ok(worst)
+}
+
+/// The sampled closed loop `x[k+1] = (Φ − Γ K) x[k]`, `u[k] = −K x[k]`, over the horizon of
+/// [`default_horizon`] for the scaled s-plane pattern (at least 20 samples, at most `cap`):
+/// `(times, states, commanded inputs)`.
+#[allow(clippy::too_many_arguments)]
+fn sampled_response(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>, x0: &DVector<f64>, pattern: &[Complex64], alpha: f64, t: f64, cap: usize) -> (Vec<f64>, Vec<Vec<f64>>, Vec<Vec<f64>>) {
+    let (n, m) = (a.nrows(), b.ncols());
+    let scaled: Vec<Complex64> = pattern.iter().map(|p| p * alpha).collect();
+    let wanted = (default_horizon(&scaled, false) / t).ceil();
+    let samples = if wanted.is_finite() { (wanted as usize).clamp(20, cap.max(20)) } else { cap.max(20) };
+    let closed = a - b * k;
+    let mut x = x0.clone();
+    let mut time = Vec::with_capacity(samples + 1);
+    let mut states = vec![Vec::with_capacity(samples + 1); n];
+    let mut commanded = vec![Vec::with_capacity(samples + 1); m];
+    let bound = 1e100 * (1.0 + x.norm());
+    for step in 0..=samples {
+        let u = -(k * &x);
+        time.push(step as f64 * t);
+        for i in 0..n {
+            states[i].push(x[i]);
+        }
+        for i in 0..m {
+            commanded[i].push(u[i]);
+        }
+        x = &closed * &x;
+        if !(x.norm() <= bound) {
+            break;
+        }
+    }
+    (time, states, commanded)
 }
 
 #[cfg(test)]

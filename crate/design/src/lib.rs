@@ -33,7 +33,7 @@ pub use polewright_core::*;
 pub use check::{canonical, check, check_text, choose_poles, CheckReport, CheckedDesign, PoleRequest};
 pub use path::FieldPath;
 pub use result::*;
-pub use run::{fmt_num, run, run_checked, run_text, run_with};
+pub use run::{fmt_num, run, run_checked, run_checked_continued, run_continued, run_text, run_with};
 pub use spec::{read_design, write_design, DesignSpec, DESIGN_FORMAT, DESIGN_VERSION};
 
 /// The result format name.
@@ -206,6 +206,17 @@ pub struct ControllerSpec {
     pub pole_choice: Option<PoleChoice>,
     /// LQR weights: the poles are those of the LQR closed loop.
     pub lqr: Option<LqrWeights>,
+}
+
+/// What one design leaves for the next design of the same session to continue from: the
+/// closed-loop eigenvectors of the robust placements (see
+/// [`crate::place::state_feedback_gain_continued`]), so that gains move continuously while the
+/// poles are edited or dragged. Not part of the design document or the result file: a fresh
+/// run (the CLI, a reload) starts without it, and the result says when the two differ.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Continuation {
+    pub feedback: Option<crate::place::Eigenvectors>,
+    pub observer: Option<crate::place::Eigenvectors>,
 }
 
 /// LQR weights as given.

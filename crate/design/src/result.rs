@@ -59,6 +59,9 @@ pub struct DesignResult {
     /// LQR as a way of choosing poles.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub lqr: Option<LqrResult>,
+    /// The start of the next design of a session (not written to the result file).
+    #[serde(skip)]
+    pub continuation: crate::Continuation,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -108,6 +111,8 @@ pub struct SearchSummary {
     /// `[factor, peak ratio]` samples of the monotonicity check.
     pub samples: Vec<[f64; 2]>,
     pub limited_by_range: bool,
+    /// Why the peak at the factor found is below 97 % of the limit (null: it is not).
+    pub shortfall: Option<crate::search::SearchShortfall>,
     pub evaluations: usize,
 }
 
@@ -232,6 +237,8 @@ pub struct FeedbackResult {
     /// `K_u` (inputs × inputs) on the previous input, with a computation delay.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub delay_gain: Option<Vec<Vec<f64>>>,
+    /// Whether the gain continued the previous design's branch (page sessions and the search).
+    pub branch: crate::place::Branch,
 }
 
 #[derive(Debug, Clone, Serialize)]

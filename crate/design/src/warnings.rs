@@ -28,6 +28,9 @@
 //! | `separation-failed` | danger | the loop with observer does not have the controller and observer poles (to 1e-6) |
 //! | `pole-outside-region` | caution | closed-loop poles lie outside the specification's region |
 //! | `repeated-poles` | caution | a pole repeats more often than rank B (with one input: at all): it is placed as a Jordan block, whose poles move by about the p-th root of a model error |
+//! | `branch-followed` | note | the gain continues the previous design's (or the search's) branch of the robust placement and differs by more than 1 % from a fresh design of the same document |
+//! | `branch-changed` | caution | the gain jumped: the branch followed from the previous design became more than twice as badly conditioned as a fresh start, or ended |
+//! | `search-short-of-limit` | caution | at the factor the search found, the peak input is below 97 % of its limit (a branch change, a non-monotone or a discontinuous peak) |
 //! | `deadbeat` | caution | requested poles at z = 0: the loop settles in a few samples with large inputs, and the sample time sets the speed |
 //! | `search-not-monotonic` | note | the peak input did not grow steadily with the speed-up: the factor found is one crossing |
 //! | `simulation-shortened` | note | the simulated time chosen from the slowest pole was cut to the sample cap (50 000 samples) |
@@ -121,6 +124,12 @@ pub enum WarningCode {
     RepeatedPoles,
     /// Requested poles at z = 0 (deadbeat): a few samples to settle, large inputs.
     Deadbeat,
+    /// The gain follows the previous design's branch and differs from a fresh design by over 1 %.
+    BranchFollowed,
+    /// The gain jumped: the followed branch became too badly conditioned, or ended.
+    BranchChanged,
+    /// The search's peak at the factor found is below 97 % of the limit.
+    SearchShortOfLimit,
     /// The peak input did not grow steadily with the speed-up: the factor found is one crossing.
     SearchNotMonotonic,
     /// The inputs stay within their limits even at the largest factor tried.
@@ -131,7 +140,7 @@ pub enum WarningCode {
 
 impl WarningCode {
     /// Every code, in the table's order.
-    pub const ALL: [WarningCode; 29] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::Deadbeat, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
+    pub const ALL: [WarningCode; 32] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::Deadbeat, WarningCode::BranchFollowed, WarningCode::BranchChanged, WarningCode::SearchShortOfLimit, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
 
     /// The stable code, as serialised.
     pub fn as_str(self) -> &'static str {
@@ -162,6 +171,9 @@ impl WarningCode {
             WarningCode::PoleOutsideRegion => "pole-outside-region",
             WarningCode::RepeatedPoles => "repeated-poles",
             WarningCode::Deadbeat => "deadbeat",
+            WarningCode::BranchFollowed => "branch-followed",
+            WarningCode::BranchChanged => "branch-changed",
+            WarningCode::SearchShortOfLimit => "search-short-of-limit",
             WarningCode::SearchNotMonotonic => "search-not-monotonic",
             WarningCode::SearchRangeLimit => "search-range-limit",
             WarningCode::SimulationShortened => "simulation-shortened",
@@ -172,8 +184,8 @@ impl WarningCode {
     pub fn severity(self) -> Severity {
         match self {
             WarningCode::RequestedPoleUnstable | WarningCode::PlacementInaccurate | WarningCode::SimulationDiverged | WarningCode::ObserverInaccurate | WarningCode::LoopDiverged | WarningCode::SeparationFailed => Severity::Danger,
-            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles | WarningCode::Deadbeat => Severity::Caution,
-            WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit | WarningCode::SimulationShortened => Severity::Note,
+            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles | WarningCode::Deadbeat | WarningCode::BranchChanged | WarningCode::SearchShortOfLimit => Severity::Caution,
+            WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::BranchFollowed | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit | WarningCode::SimulationShortened => Severity::Note,
         }
     }
 }

@@ -52,7 +52,7 @@ use web_sys::{CanvasRenderingContext2d, Document, Element, HtmlCanvasElement, Ht
 
 use crate::design::{fmt_num, DesignResult};
 use crate::editing::{self, Change, Direction, Edit, EditHistory, EditParams, Member, NudgeOutcome, PlaneMap, StepSize};
-use crate::form::{self, evaluate_form, ControllerReport, FieldError, FormInput, FormOutcome, FormStatus, MatrixTable, OpenLoopAnalysis, Report, StructureReport};
+use crate::form::{self, ControllerReport, FieldError, FormInput, FormOutcome, FormStatus, MatrixTable, OpenLoopAnalysis, Report, StructureReport};
 use crate::draw::{self, Align, Baseline, Cap, DrawOp, TextMeasure};
 use crate::plot::{Frame, Rect};
 pub use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, PolePick, PoleSet, Series, TimePlotScene};
@@ -206,6 +206,9 @@ struct CanvasState {
 type Feedback = (Option<String>, Option<String>, bool);
 
 struct PageState {
+    /// The next design starts afresh instead of continuing the last one (a new document or
+    /// demo: another plant's branch means nothing here).
+    fresh_start: bool,
     shown: Shown,
     design: Option<DesignResult>,
     report: Option<Report>,
@@ -301,6 +304,7 @@ thread_local! {
         plane_map: PlaneMap::Same,
         focus_requested: None,
         drag: None,
+        fresh_start: true,
         pinned: None,
         edit_message: None,
     });
@@ -387,8 +391,13 @@ pub fn load_demo(index: usize) -> Result<(), JsValue> {
     if let Some(sel) = doc.get_element_by_id(ids::DEMO_SELECT).and_then(|e| e.dyn_into::<HtmlSelectElement>().ok()) {
         sel.set_value(&index.to_string());
     }
-    // A new plant starts a new edit history (undoing into another plant's poles makes no sense).
+    // A new plant starts a new edit history (undoing into another plant's poles makes no sense)
+    // and a fresh placement.
     document::reset_edit_history()?;
+    with_page(|page| {
+        page.fresh_start = true;
+        Ok(())
+    })?;
     set_text(&doc, ids::DEMO_DESCRIPTION, d.description)
 }
 
@@ -415,7 +424,10 @@ pub fn update_page() -> Result<JsValue, JsValue> {
     let input = read_form(&doc)?;
     let t_read = now_ms();
     phase("read", t_read - start);
-    let mut outcome = evaluate_form(&input);
+    // Continue from the last design shown, so that gains move continuously as poles are
+    // dragged or edited (the result says when a fresh design would differ).
+    let previous = with_page(|page| Ok(if std::mem::take(&mut page.fresh_start) { None } else { page.design.as_ref().map(|d| d.continuation.clone()) }))?;
+    let mut outcome = form::evaluate_form_continued(&input, previous.as_ref());
     let t_eval = now_ms();
     phase("evaluate", t_eval - t_read);
     let status = outcome.status;

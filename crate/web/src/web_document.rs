@@ -88,6 +88,10 @@ pub fn open_document(text: &str, file_name: &str) -> Result<String, JsValue> {
     };
     note_form(&doc)?;
     write_form(&doc, &form)?;
+    crate::with_page(|page| {
+        page.fresh_start = true;
+        Ok(())
+    })?;
     // The whole rulebook runs on it too: a saved work in progress opens, and says what is left.
     let errors = crate::design::check(&spec).errors;
     let status = match errors.len() {

@@ -260,7 +260,8 @@ pub struct Eigenvectors {
 }
 
 /// What a continuation did ([`state_feedback_gain_continued`]).
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[serde(tag = "kind", rename_all = "kebab-case")]
 pub enum Branch {
     /// No previous eigenvectors were used (none given, the gain is unique, or they did not fit).
     Fresh,

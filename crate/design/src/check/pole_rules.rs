@@ -447,10 +447,7 @@ fn search(spec: &DesignSpec, plant: Option<&Plant>, source: PoleSource, known: &
         return false;
     }
     let mut can = true;
-    if out.sample_time().is_some() || spec.implementation.is_some() {
-        c.push(P::Search, "the search works on continuous designs: leave out the sample time, search, copy the poles it finds into the pole list, then give the sample time again");
-        can = false;
-    } else if source == PoleSource::Lqr {
+    if source == PoleSource::Lqr {
         c.push(P::Search, "the search speeds up a pole pattern, but LQR chooses its poles from the weights: change the largest excursions instead, or copy the LQR poles into the pole list and search those");
         can = false;
     } else if integrators > 0 && !apart {

@@ -7,10 +7,10 @@ use num_complex::Complex64;
 use super::pair::DesignPair;
 use super::setup::{infeasible, Setup};
 use crate::analysis::{controllability_report, observability_report, ModalReport};
-use crate::controller::{feedforward_gains, map_to_discrete, observer_gain, ControllerError, ObserverDesign, ObserverFailure, ObserverForm};
+use crate::controller::{feedforward_gains, map_to_discrete, observer_gain_continued, ControllerError, ObserverDesign, ObserverFailure, ObserverForm};
 use crate::{DesignError, FieldPath as P, InputError, ObserverPoles};
 use crate::linalg::eigen::try_eigenvalues;
-use crate::place::{state_feedback_gain, Placement, PlacementError};
+use crate::place::{state_feedback_gain, state_feedback_gain_continued, Placement, PlacementError};
 
 /// Open-loop poles, controllability and observability of the plant in the design domain.
 pub(super) struct Analysis {
@@ -60,7 +60,16 @@ pub(super) fn gains(s: &Setup, pair: &DesignPair) -> Result<Gains, DesignError> 
     // inputs: placing its poles again would give another gain when there are several inputs.
     let placement = match &pair.lqr {
         Some(lqr) => crate::place::placement_of_gain(&pair.da, &pair.db, &lqr.gain, &pair.dpoles, s.pp).map_err(|e| infeasible(&e))?,
-        None => state_feedback_gain(&pair.da, &pair.db, &pair.dpoles, s.pp).map_err(|e| pole_input(e, P::FeedbackPoles))?,
+        None => {
+            // Continue from the search's branch at the factor it found (so that the gain is
+            // the one it judged), else from the previous design of the session.
+            let start = pair.search.as_ref().and_then(|r| r.eigenvectors.as_ref()).or_else(|| s.previous.and_then(|p| p.feedback.as_ref()));
+            match start.filter(|e| e.vectors.nrows() == pair.da.nrows()) {
+                Some(e) => state_feedback_gain_continued(&pair.da, &pair.db, &pair.dpoles, s.pp, e),
+                None => state_feedback_gain(&pair.da, &pair.db, &pair.dpoles, s.pp),
+            }
+            .map_err(|e| pole_input(e, P::FeedbackPoles))?
+        }
     };
     let k_x = placement.gain.columns(0, n).into_owned();
     let k_u = s.delay.then(|| placement.gain.columns(n, m).into_owned());
@@ -85,7 +94,8 @@ fn observer(s: &Setup, pair: &DesignPair) -> Result<Option<Observer>, DesignErro
             }
         }
     };
-    let mut od = observer_gain(&s.ad, c, &poles, s.pp).map_err(|e| match e {
+    let previous = s.previous.and_then(|p| p.observer.as_ref());
+    let mut od = observer_gain_continued(&s.ad, c, &poles, s.pp, previous).map_err(|e| match e {
         ControllerError::Observer { message, cause: ObserverFailure::Poles } => DesignError::Input(InputError::new(P::ObserverPoles, message)),
         other => infeasible(&other),
     })?;

@@ -55,7 +55,16 @@ fn fastest_poles(poles: &[Complex64], count: usize) -> Vec<Complex64> {
 /// # Errors
 /// See [`DesignError`].
 pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResult, DesignError> {
-    let s = setup::Setup::new(req, spec)?;
+    run_continued(req, spec, None)
+}
+
+/// [`run_with`] continuing from the previous design of a session (see [`crate::Continuation`]):
+/// the robust placements start from its eigenvectors, so that the gains follow one branch.
+///
+/// # Errors
+/// See [`DesignError`].
+pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Option<&crate::Continuation>) -> Result<DesignResult, DesignError> {
+    let s = setup::Setup::new(req, spec, previous)?;
     let dp = pair::design_pair(&s)?;
     let analysis = gains::analysis(&s)?;
     let g = gains::gains(&s, &dp)?;
@@ -103,6 +112,7 @@ pub fn run_with(req: &DesignRequest, spec: &ControllerSpec) -> Result<DesignResu
             region: c.region.as_ref().map(|r| RegionResult { min_damping: r.min_damping, min_decay_rate: r.min_decay_rate, natural_frequency: r.natural_frequency }),
         }),
         lqr: dp.lqr.as_ref().map(|d| lqr_result(spec, d)),
+        continuation: crate::Continuation { feedback: g.placement.eigenvectors.clone(), observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()) },
     };
     verdict::finite(&result)?;
     Ok(result)
@@ -154,6 +164,7 @@ fn feedback_result(dp: &pair::DesignPair, g: &gains::Gains) -> FeedbackResult {
         not_assigned: p.not_assigned.iter().map(|z| pair(*z)).collect(),
         fixed_modes: p.fixed_modes.iter().map(|z| pair(*z)).collect(),
         delay_gain: g.k_u.as_ref().map(rows),
+        branch: p.branch,
     }
 }
 
@@ -206,6 +217,7 @@ fn search_summary(plant: &Plant, r: &crate::search::SearchResult) -> SearchSumma
         samples: r.samples.iter().map(|(f, v)| [*f, *v]).collect(),
         limited_by_range: r.limited_by_range,
         evaluations: r.evaluations,
+        shortfall: r.shortfall,
     }
 }
 
@@ -236,8 +248,15 @@ pub fn run_text(text: &str) -> Result<DesignResult, DesignError> {
 /// # Errors
 /// See [`DesignError`].
 pub fn run_checked(design: &CheckedDesign) -> Result<DesignResult, DesignError> {
-    let spec = &design.controller;
-    let run = if spec.is_plain() { run(&design.request) } else { run_with(&design.request, spec) };
+    run_checked_continued(design, None)
+}
+
+/// [`run_checked`] continuing from the previous design of a session ([`run_continued`]).
+///
+/// # Errors
+/// See [`DesignError`].
+pub fn run_checked_continued(design: &CheckedDesign, previous: Option<&crate::Continuation>) -> Result<DesignResult, DesignError> {
+    let run = run_continued(&design.request, &design.controller, previous);
     run.map_err(|e| match e {
         DesignError::Input(e) if e.field == P::FeedbackPoles && design.source != PoleSource::List => {
             let (field, advice) = match design.source {

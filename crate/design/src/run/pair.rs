@@ -30,22 +30,28 @@ pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
     if spec.lqr.is_some() && spec.search.is_some() {
         return Err(DesignError::Input(InputError::new(P::Search, "the search scales a pole pattern; with LQR weights, scale the weights instead (or list the LQR poles as feedback.poles and search)")));
     }
-    let search = match (&spec.search, s.t) {
-        (Some(situations), None) => {
-            let limits: Vec<f64> = s.req.limits.iter().map(|l| l.unwrap_or(f64::INFINITY)).collect();
-            let params = crate::search::SearchParams { band: s.req.band, ..Default::default() };
-            Some(crate::search::fastest_within_limits(s.plant.a(), s.plant.b(), s.plant.c(), &s.req.poles, &limits, situations, params).map_err(|e| infeasible(&e))?)
-        }
-        _ => None,
-    };
-    let base_poles: Vec<Complex64> = search.as_ref().map_or_else(|| s.req.poles.clone(), |r| r.poles.clone());
-    let mut pair = DesignPair { da: s.ad.clone(), db: s.bd.clone(), nd: s.n, dpoles: s.to_design(&base_poles), base_poles, search, lqr: None };
+    let (mut da, mut db) = (s.ad.clone(), s.bd.clone());
+    let mut delay_poles = Vec::new();
     if let (true, Some(imp)) = (s.delay, &spec.implementation) {
-        let (pa, pb) = delay_augmented(&pair.da, &pair.db);
-        pair.da = pa;
-        pair.db = pb;
-        pair.dpoles.extend(imp.delay_poles.iter().cloned());
+        let (pa, pb) = delay_augmented(&da, &db);
+        da = pa;
+        db = pb;
+        delay_poles = imp.delay_poles.clone();
     }
+    let search = match &spec.search {
+        Some(situations) => Some(search(s, &da, &db, situations, &delay_poles)?),
+        None => None,
+    };
+    let base_poles: Vec<Complex64> = match &search {
+        Some(r) => match s.t {
+            // The search works in the s-plane; the poles are shown in the plane they were given.
+            Some(t) if s.spec.plane == crate::Plane::Z => crate::plane::z_from_s_all(&r.poles, t),
+            _ => r.poles.clone(),
+        },
+        None => s.req.poles.clone(),
+    };
+    let mut pair = DesignPair { nd: da.nrows(), dpoles: s.to_design(&base_poles), da, db, base_poles, search, lqr: None };
+    pair.dpoles.extend(delay_poles);
     pair.nd = pair.da.nrows();
     if let Some(ip) = s.integral_poles {
         add_integrators(s, &mut pair)?;
@@ -185,4 +191,26 @@ fn check_pole_count(s: &Setup, pair: &DesignPair) -> Result<(), DesignError> {
         format!("{given} poles given but the plant has {n} states; give exactly {n} poles")
     };
     Err(DesignError::Input(InputError::new(P::FeedbackPoles, message)))
+}
+
+/// The fastest design within the actuator limits: on the plant (continuous), or on the sampled
+/// plant with its computation-delay states (digital), the pattern in the s-plane.
+fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::search::Situation], delay_poles: &[Complex64]) -> Result<SearchResult, DesignError> {
+    let limits: Vec<f64> = s.req.limits.iter().map(|l| l.unwrap_or(f64::INFINITY)).collect();
+    let params = crate::search::SearchParams { band: s.req.band, max_samples: s.spec.scenario.max_samples.map_or(50_000, |c| c as usize), ..Default::default() };
+    let pattern = s.to_s(&s.req.poles);
+    if pattern.iter().any(|z| !(z.re.is_finite() && z.im.is_finite())) {
+        return Err(DesignError::Input(InputError::new(P::Search, "the search speeds up a pole pattern, but poles at z = 0 (deadbeat) cannot be made faster: give the poles in the s-plane or leave the search out")));
+    }
+    let c_pair = s.plant.c().map(|c| {
+        let mut cp = DMatrix::<f64>::zeros(c.nrows(), da.nrows());
+        cp.columns_mut(0, s.n).copy_from(c);
+        cp
+    });
+    let domain = match s.t {
+        Some(t) => crate::search::SearchDomain::Sampled { sample_time: t, fixed_poles: delay_poles.to_vec() },
+        None => crate::search::SearchDomain::Continuous,
+    };
+    let problem = crate::search::SearchProblem { a: da, b: db, c: c_pair.as_ref(), pattern: &pattern, limits: &limits, situations, plant_states: s.n, domain };
+    crate::search::fastest_within_limits_of(&problem, params).map_err(|e| infeasible(&e))
 }

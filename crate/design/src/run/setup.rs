@@ -36,10 +36,12 @@ pub(super) struct Setup<'a> {
     /// The tracked rows of C and D.
     pub ct: DMatrix<f64>,
     pub dt: DMatrix<f64>,
+    /// The previous design of the session, to continue from.
+    pub previous: Option<&'a crate::Continuation>,
 }
 
 impl<'a> Setup<'a> {
-    pub fn new(req: &'a DesignRequest, spec: &'a ControllerSpec) -> Result<Self, DesignError> {
+    pub fn new(req: &'a DesignRequest, spec: &'a ControllerSpec, previous: Option<&'a crate::Continuation>) -> Result<Self, DesignError> {
         let plant = &req.plant;
         let (n, m) = (plant.states(), plant.inputs());
         let t = spec.sample_time();
@@ -77,6 +79,7 @@ impl<'a> Setup<'a> {
             integral_poles,
             ct,
             dt,
+            previous,
         })
     }
 

@@ -91,6 +91,7 @@ pub(super) fn placement_warnings(s: &Setup, g: &Gains, an: &Analysis) -> Vec<War
             ),
         ));
     }
+    out.extend(branch_warning(&p.branch, "gain", if s.spec.search.is_some() { "the search's" } else { "the previous design's" }));
     if p.max_pole_error > wp.inaccurate_placement {
         out.push(Warning::new(WarningCode::PlacementInaccurate, format!("The achieved poles differ from the requested ones by up to {} (relative): the problem is numerically ill conditioned.", fmt_num(p.max_pole_error))));
     }
@@ -130,6 +131,7 @@ pub(super) fn controller_warnings(g: &Gains, advice: Option<&SampleRateAdvice>) 
         if od.placement.max_pole_error > wp.inaccurate_placement {
             out.push(Warning::new(WarningCode::ObserverInaccurate, format!("The observer poles are achieved only to within {} (relative).", fmt_num(od.placement.max_pole_error))));
         }
+        out.extend(branch_warning(&od.placement.branch, "observer gain", "the previous design's"));
         if let Some(w) = jordan_warning(&od.placement, "observer", "the number of independent outputs") {
             out.push(w);
         } else if !(od.placement.eigenvector_condition <= wp.fragile_condition) {
@@ -202,6 +204,18 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
         }
     }
     if let Some(r) = &pair.search {
+        if let Some(why) = r.shortfall {
+            use crate::search::SearchShortfall as S;
+            let reason = match why {
+                S::BranchChange => "the robust placement changed branch inside the final bracket, so the gains — and the peak — jump there",
+                S::NonMonotonic => "the peak input does not grow steadily with the speed-up",
+                S::Discontinuous => "the peak input jumps between two factors less than 0.1 % apart",
+            };
+            out.push(Warning::new(
+                WarningCode::SearchShortOfLimit,
+                format!("At the speed factor found ({}), the peak input is {} % of its limit, not the 97–100 % a steady search ends at: {reason}. Look at the samples before relying on the factor.", fmt_num(r.speed_factor), fmt_num(100.0 * r.peak_ratio)),
+            ));
+        }
         if !r.monotonic {
             out.push(Warning::new(WarningCode::SearchNotMonotonic, "The peak input did not grow steadily with the speed-up over the searched range: the factor found is one crossing of the limit, not necessarily the only one; check the samples."));
         }
@@ -244,4 +258,33 @@ fn most_repeated(poles: &[Complex64]) -> (Complex64, usize) {
         }
     }
     best
+}
+
+/// The `branch-followed` / `branch-changed` warning of a continued placement (`source` names
+/// what it continued from).
+fn branch_warning(branch: &crate::place::Branch, what: &str, source: &str) -> Option<Warning> {
+    use crate::place::Branch;
+    match *branch {
+        Branch::Fresh => None,
+        Branch::Followed { gain_difference, fresh_condition } if gain_difference > 0.01 => Some(Warning::new(
+            WarningCode::BranchFollowed,
+            format!(
+                "The {what} continues {source} branch of the robust placement (it has several solutions), so that it moves smoothly. A fresh design of this document — what the command-line tool and a reloaded page compute — gives a {what} {} % different (its eigenvector condition number {}).",
+                fmt_num(100.0 * gain_difference),
+                fmt_num(fresh_condition)
+            ),
+        )),
+        Branch::Followed { .. } => None,
+        Branch::Changed { followed_condition } => Some(Warning::new(
+            WarningCode::BranchChanged,
+            format!("The {what} jumped: the branch of the robust placement followed from {source} reached an eigenvector condition number of {}, more than twice a fresh placement's, so the fresh one is used.", fmt_num(followed_condition)),
+        )),
+        Branch::Lost { drift } => Some(Warning::new(
+            WarningCode::BranchChanged,
+            format!(
+                "The {what} jumped: the branch of the robust placement followed from {source} ends near these poles (an eigenvector turned by {}°), and the placement moved to another solution.",
+                fmt_num((1.0 - drift).clamp(-1.0, 1.0).acos().to_degrees())
+            ),
+        )),
+    }
 }

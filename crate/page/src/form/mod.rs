@@ -233,6 +233,13 @@ fn field_error(e: &crate::design::InputError) -> FieldError {
 
 /// Evaluates the form: see the [module documentation](self).
 pub fn evaluate_form(form: &FormInput) -> FormOutcome {
+    evaluate_form_continued(form, None)
+}
+
+/// [`evaluate_form`] continuing from the previous design of the page session (its
+/// [`crate::design::DesignResult::continuation`]), so that gains follow one branch of the
+/// robust placement while the poles are dragged or edited.
+pub fn evaluate_form_continued(form: &FormInput, previous: Option<&crate::design::Continuation>) -> FormOutcome {
     let mut outcome = FormOutcome {
         status: FormStatus::Invalid,
         errors: Vec::new(),
@@ -268,7 +275,7 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
         push(&mut errors, field_error(e));
     }
     if let (Some(design), true) = (&checked.design, errors.is_empty()) {
-        match crate::design::run_checked(design) {
+        match crate::design::run_checked_continued(design, previous) {
             Ok(result) => {
                 outcome.status = FormStatus::Designed;
                 let mut context = ReportContext::from_request(&design.request, &design.controller);
