@@ -277,7 +277,6 @@ pub fn fastest_within_limits_of(problem: &SearchProblem, params: SearchParams) -
         let (f, best) = path.pop().ok_or(SearchError::NoSituations)?;
         return Ok(finish(problem, f, best, samples, monotonic, true, evaluations, None));
     };
-    let mut path = path;
     path.truncate(over + 1);
     let (hi_f, hi_e) = path.pop().ok_or(SearchError::NoSituations)?;
     let (mut lo_f, mut best) = path.pop().ok_or(SearchError::NoSituations)?;
@@ -299,15 +298,14 @@ pub fn fastest_within_limits_of(problem: &SearchProblem, params: SearchParams) -
         }
     }
     // 3. Verification at the factor found.
-    let shortfall = (best.ratio < 0.97).then(|| {
-        if branch_trouble {
-            SearchShortfall::BranchChange
-        } else if !monotonic {
-            SearchShortfall::NonMonotonic
-        } else {
-            SearchShortfall::Discontinuous
-        }
-    });
+    let reason = if branch_trouble {
+        SearchShortfall::BranchChange
+    } else if !monotonic {
+        SearchShortfall::NonMonotonic
+    } else {
+        SearchShortfall::Discontinuous
+    };
+    let shortfall = (best.ratio < 0.97).then_some(reason);
     Ok(finish(problem, lo_f, best, samples, monotonic, false, evaluations, shortfall))
 }
 
