@@ -224,7 +224,13 @@ fn invalid_and_unsolvable_problems_give_the_right_error() {
             }
             ("input_weight_not_positive_definite", Err(RiccatiError::InputWeightNotPositiveDefinite)) => true,
             ("not_symmetric", Err(RiccatiError::NotSymmetric { matrix: RiccatiInput::StateWeight, .. })) => true,
-            ("state_weight_not_semidefinite", Err(RiccatiError::StateWeightNotSemidefinite)) => true,
+            ("state_weight_not_semidefinite", Err(RiccatiError::StateWeightNotSemidefinite { smallest, .. })) => {
+                // The error must say how negative Q is: Q is diagonal in the fixture, so its
+                // smallest eigenvalue is its smallest diagonal entry.
+                let q = matrix(&case["q"]);
+                let want = q.diagonal().min();
+                (smallest - want).abs() <= 1e-12 * want.abs()
+            }
             ("dimension_mismatch", Err(RiccatiError::DimensionMismatch { .. })) => true,
             _ => false,
         };

@@ -397,6 +397,14 @@ def closed_form_cases(checks):
             f"A = [[0,1],[0,0]], B = [0;1], Q = diag(1,0), R = r = {eps}: "
             "X = [[sqrt(2) r^(1/4), r^(1/2)], [r^(1/2), sqrt(2) r^(3/4)]]",
             dmat([[0, 1], [0, 0]]), dmat([[0], [1]]), dmat([[1, 0], [0, 0]]), [[e]], x, checks))
+    # --- continuous: double integrator with an indefinite state weight ------------------
+    cases.append(closed_form_case(
+        "continuous-closed-double-integrator-indefinite-q", "continuous",
+        "closed form derived by hand (entrywise: x12^2 = q1, x11 = x12 x22, x22^2 = 2 x12 + q2) "
+        "and verified by substitution; Q is indefinite but the stabilising solution exists",
+        "A = [[0,1],[0,0]], B = [0;1], Q = diag(1,-1), R = 1: X = [[1,1],[1,1]], K = [1, 1]",
+        dmat([[0, 1], [0, 0]]), dmat([[0], [1]]), dmat([[1, 0], [0, -1]]), dmat([[1]]),
+        dmat([[1, 1], [1, 1]]), checks))
     # --- continuous: scalar unstable plant, weak input ----------------------------------
     for tag, eps in [("1e-1", "1e-1"), ("1e-3", "1e-3"), ("1e-6", "1e-6")]:
         e = D(eps)
@@ -545,8 +553,10 @@ def error_cases():
          "Q is upper triangular, not symmetric (common practice)",
          [[0, 1], [0, 0]], [[0], [1]], [[1, 0.5], [0, 1]], [[1]], None),
         ("continuous-error-q-indefinite", "continuous", "state_weight_not_semidefinite",
-         "Q = diag(1, -1) has a negative eigenvalue (common practice)",
-         [[0, 1], [0, 0]], [[0], [1]], [[1, 0], [0, -1]], [[1]], None),
+         "Q = diag(1, -4) on the double integrator: x22^2 = 2 + q2 < 0 has no real root, so no "
+         "stabilising solution exists (derived by hand; the Hamiltonian has eigenvalues on the "
+         "imaginary axis)",
+         [[0, 1], [0, 0]], [[0], [1]], [[1, 0], [0, -4]], [[1]], None),
         ("discrete-error-shape", "discrete", "dimension_mismatch",
          "B has 3 rows for a 2-state A (common practice)",
          [[0.5, 1], [0, 1.2]], [[1], [0], [1]], np.eye(2).tolist(), [[1]], None),

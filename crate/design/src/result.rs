@@ -70,12 +70,14 @@ pub struct LqrResult {
     pub riccati_solution: Vec<Vec<f64>>,
     /// Its normalised residual.
     pub residual: f64,
-    /// The LQR gain itself (inputs × design states). With one input it equals the placed gain;
-    /// with several, the placed gain has the same poles but robust eigenvectors instead.
+    /// The LQR gain itself (inputs × design states): the gain the design uses.
     pub gain: Vec<Vec<f64>>,
     pub closed_loop_poles: Vec<Pair>,
     pub q: Vec<Vec<f64>>,
     pub r: Vec<Vec<f64>>,
+    /// When the state weight (after the cross weight) is not positive semidefinite but a
+    /// stabilising solution exists: its smallest eigenvalue (negative). Null otherwise.
+    pub state_weight_smallest_eigenvalue: Option<f64>,
 }
 
 #[derive(Debug, Clone, Serialize)]

@@ -31,6 +31,7 @@
 //! | `branch-followed` | note | the gain continues the previous design's (or the search's) branch of the robust placement and differs by more than 1 % from a fresh design of the same document |
 //! | `branch-changed` | caution | the gain jumped: the branch followed from the previous design became more than twice as badly conditioned as a fresh start, or ended |
 //! | `search-short-of-limit` | caution | at the factor the search found, the peak input is below 97 % of its limit (a branch change, a non-monotone or a discontinuous peak) |
+//! | `lqr-weight-indefinite` | caution | the LQR state weight (after the cross weight) is not positive semidefinite but a stabilising solution exists and is used: LQR's guaranteed margins do not apply |
 //! | `deadbeat` | caution | requested poles at z = 0: the loop settles in a few samples with large inputs, and the sample time sets the speed |
 //! | `search-not-monotonic` | note | the peak input did not grow steadily with the speed-up: the factor found is one crossing |
 //! | `simulation-shortened` | note | the simulated time chosen from the slowest pole was cut to the sample cap (50 000 samples) |
@@ -130,6 +131,8 @@ pub enum WarningCode {
     BranchChanged,
     /// The search's peak at the factor found is below 97 % of the limit.
     SearchShortOfLimit,
+    /// The LQR state weight is indefinite; the stabilising solution is used without LQR's margins.
+    LqrWeightIndefinite,
     /// The peak input did not grow steadily with the speed-up: the factor found is one crossing.
     SearchNotMonotonic,
     /// The inputs stay within their limits even at the largest factor tried.
@@ -140,7 +143,7 @@ pub enum WarningCode {
 
 impl WarningCode {
     /// Every code, in the table's order.
-    pub const ALL: [WarningCode; 32] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::Deadbeat, WarningCode::BranchFollowed, WarningCode::BranchChanged, WarningCode::SearchShortOfLimit, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
+    pub const ALL: [WarningCode; 33] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::Deadbeat, WarningCode::BranchFollowed, WarningCode::BranchChanged, WarningCode::SearchShortOfLimit, WarningCode::LqrWeightIndefinite, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
 
     /// The stable code, as serialised.
     pub fn as_str(self) -> &'static str {
@@ -174,6 +177,7 @@ impl WarningCode {
             WarningCode::BranchFollowed => "branch-followed",
             WarningCode::BranchChanged => "branch-changed",
             WarningCode::SearchShortOfLimit => "search-short-of-limit",
+            WarningCode::LqrWeightIndefinite => "lqr-weight-indefinite",
             WarningCode::SearchNotMonotonic => "search-not-monotonic",
             WarningCode::SearchRangeLimit => "search-range-limit",
             WarningCode::SimulationShortened => "simulation-shortened",
@@ -184,7 +188,7 @@ impl WarningCode {
     pub fn severity(self) -> Severity {
         match self {
             WarningCode::RequestedPoleUnstable | WarningCode::PlacementInaccurate | WarningCode::SimulationDiverged | WarningCode::ObserverInaccurate | WarningCode::LoopDiverged | WarningCode::SeparationFailed => Severity::Danger,
-            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles | WarningCode::Deadbeat | WarningCode::BranchChanged | WarningCode::SearchShortOfLimit => Severity::Caution,
+            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles | WarningCode::Deadbeat | WarningCode::BranchChanged | WarningCode::SearchShortOfLimit | WarningCode::LqrWeightIndefinite => Severity::Caution,
             WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::BranchFollowed | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit | WarningCode::SimulationShortened => Severity::Note,
         }
     }

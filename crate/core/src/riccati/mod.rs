@@ -300,8 +300,11 @@ pub enum RiccatiError {
     NotFinite { matrix: RiccatiInput },
     /// `Q` or `R` is not symmetric within [`RiccatiParams::symmetry_tolerance`].
     NotSymmetric { matrix: RiccatiInput, relative_asymmetry: f64 },
-    /// `Q` has a negative eigenvalue beyond [`RiccatiParams::semidefinite_tolerance`].
-    StateWeightNotSemidefinite,
+    /// `Q` has a negative eigenvalue beyond [`RiccatiParams::semidefinite_tolerance`] and no
+    /// stabilising solution was found with it (one that exists is used, see
+    /// [`LqrDesign::state_weight_smallest_eigenvalue`]). `smallest` is that eigenvalue and
+    /// `relative` it divided by `‖Q‖₂`; `cause` what the solver met.
+    StateWeightNotSemidefinite { smallest: f64, relative: f64, cause: String },
     /// `R` is not positive definite (within [`RiccatiParams::definite_tolerance`]).
     InputWeightNotPositiveDefinite,
     /// The mode `mode` of `A` is unstable (or on the boundary) and not reachable from the
@@ -352,11 +355,18 @@ impl std::fmt::Display for RiccatiError {
                 "{} must be symmetric (relative asymmetry {relative_asymmetry:.3e}); use (M + Mᵀ)/2",
                 matrix.describe()
             ),
-            RiccatiError::StateWeightNotSemidefinite => write!(
-                f,
-                "the state weight Q must be positive semidefinite (it has a negative eigenvalue); \
-                 a weight of the form CᵀC or a non-negative diagonal always is"
-            ),
+            RiccatiError::StateWeightNotSemidefinite { smallest, relative, cause } => {
+                let short = |v: f64| crate::poles::format_complex(Complex64::new(format!("{v:.4e}").parse().unwrap_or(v), 0.0));
+                write!(
+                    f,
+                    "the state weight Q is not positive semidefinite (smallest eigenvalue {}, {} times ‖Q‖₂) \
+                     and no stabilising solution exists with it ({cause}); make Q positive semidefinite, \
+                     e.g. add {} to its diagonal, or use a weight of the form CᵀC or a non-negative diagonal",
+                    short(*smallest),
+                    short(*relative),
+                    short(-*smallest)
+                )
+            }
             RiccatiError::InputWeightNotPositiveDefinite => write!(
                 f,
                 "the input weight R must be positive definite (every input needs a positive cost)"
@@ -471,6 +481,10 @@ pub struct LqrDesign {
     /// Eigenvalues of `A − B K`, from [`try_eigenvalues`], sorted.
     pub closed_loop_poles: Vec<Complex64>,
     pub iterations: IterationCounts,
+    /// `Some(λ_min(Q))` (negative) when `Q` is not positive semidefinite but the stabilising
+    /// solution exists and is used: the cost is then not a sum of squares, and the guaranteed
+    /// margins of LQR do not apply.
+    pub state_weight_smallest_eigenvalue: Option<f64>,
 }
 
 // ----------------------------------------------------------------------------
@@ -490,7 +504,7 @@ pub fn solve_continuous_riccati(
     params: RiccatiParams,
 ) -> Result<RiccatiSolution, RiccatiError> {
     let data = Problem::new(a, b, q, r, params)?;
-    continuous_core(&data, params).map(|(s, _, _)| s)
+    continuous_core(&data, params).map(|(s, _, _)| s).map_err(|e| data.explain(e))
 }
 
 /// The stabilising solution of `Aᵀ X A − X − Aᵀ X B (R + Bᵀ X B)⁻¹ Bᵀ X A + Q = 0`.
@@ -505,7 +519,7 @@ pub fn solve_discrete_riccati(
     params: RiccatiParams,
 ) -> Result<RiccatiSolution, RiccatiError> {
     let data = Problem::new(a, b, q, r, params)?;
-    discrete_core(&data, params).map(|(s, _, _)| s)
+    discrete_core(&data, params).map(|(s, _, _)| s).map_err(|e| data.explain(e))
 }
 
 /// The continuous-time LQR gain with default parameters. See [`lqr_gain_with`].
@@ -528,8 +542,8 @@ pub fn lqr_gain_with(
     params: RiccatiParams,
 ) -> Result<LqrDesign, RiccatiError> {
     let data = Problem::new(a, b, q, r, params)?;
-    let (s, gain, poles) = continuous_core(&data, params)?;
-    Ok(LqrDesign { gain, riccati_solution: s.solution, residual: s.residual, closed_loop_poles: poles, iterations: s.iterations })
+    let (s, gain, poles) = continuous_core(&data, params).map_err(|e| data.explain(e))?;
+    Ok(LqrDesign { gain, riccati_solution: s.solution, residual: s.residual, closed_loop_poles: poles, iterations: s.iterations, state_weight_smallest_eigenvalue: data.indefinite })
 }
 
 /// The discrete-time LQR gain with default parameters. See [`discrete_lqr_gain_with`].
@@ -553,8 +567,8 @@ pub fn discrete_lqr_gain_with(
     params: RiccatiParams,
 ) -> Result<LqrDesign, RiccatiError> {
     let data = Problem::new(a, b, q, r, params)?;
-    let (s, gain, poles) = discrete_core(&data, params)?;
-    Ok(LqrDesign { gain, riccati_solution: s.solution, residual: s.residual, closed_loop_poles: poles, iterations: s.iterations })
+    let (s, gain, poles) = discrete_core(&data, params).map_err(|e| data.explain(e))?;
+    Ok(LqrDesign { gain, riccati_solution: s.solution, residual: s.residual, closed_loop_poles: poles, iterations: s.iterations, state_weight_smallest_eigenvalue: data.indefinite })
 }
 
 /// Bryson's rule (Bryson & Ho, *Applied Optimal Control*, 1975, from memory): diagonal weights
@@ -686,6 +700,10 @@ struct Problem {
     b_hat: DMatrix<f64>,
     /// `G = B R⁻¹ Bᵀ = B̂ B̂ᵀ`.
     g: DMatrix<f64>,
+    /// `Some(λ_min(Q))` when `Q` is not positive semidefinite.
+    indefinite: Option<f64>,
+    /// `‖Q‖₂` (the largest eigenvalue modulus).
+    q_norm2: f64,
 }
 
 fn max_abs(m: &DMatrix<f64>) -> f64 {
@@ -732,14 +750,11 @@ impl Problem {
         }
         let q = check_symmetric(q, RiccatiInput::StateWeight, params.symmetry_tolerance)?;
         let r = check_symmetric(r, RiccatiInput::InputWeight, params.symmetry_tolerance)?;
-        // Q ⪰ 0 within a relative shift.
+        // Q ⪰ 0 within a relative shift; an indefinite Q is solved for if it can be (published
+        // data rounded to a few decimals is often slightly indefinite), and said.
+        let (q_min, q_norm2) = symmetric_extremes(&q);
         let q_norm = q.norm();
-        if q_norm > 0.0 {
-            let shifted = &q + DMatrix::<f64>::identity(n, n) * (params.semidefinite_tolerance * q_norm);
-            if nalgebra::linalg::Cholesky::new(shifted).is_none() {
-                return Err(RiccatiError::StateWeightNotSemidefinite);
-            }
-        }
+        let indefinite = (q_norm > 0.0 && q_min < -params.semidefinite_tolerance * q_norm).then_some(q_min);
         // R ≻ 0 with a relative margin.
         let r_norm = r.norm();
         let shifted = &r - DMatrix::<f64>::identity(m, m) * (params.definite_tolerance * r_norm);
@@ -751,7 +766,16 @@ impl Problem {
         let b_hat_t = r_chol.l().solve_lower_triangular(&b.transpose()).ok_or(RiccatiError::InputWeightNotPositiveDefinite)?;
         let b_hat = b_hat_t.transpose();
         let g = &b_hat * &b_hat_t;
-        Ok(Problem { a: a.clone(), b: b.clone(), q, r, r_chol, b_hat, g })
+        Ok(Problem { a: a.clone(), b: b.clone(), q, r, r_chol, b_hat, g, indefinite, q_norm2 })
+    }
+
+    /// A solver failure with an indefinite `Q` is reported as such (with how negative it is),
+    /// unless it is a property of the plant alone.
+    fn explain(&self, e: RiccatiError) -> RiccatiError {
+        match (self.indefinite, &e) {
+            (None, _) | (_, RiccatiError::NotStabilizable { .. }) => e,
+            (Some(smallest), _) => RiccatiError::StateWeightNotSemidefinite { smallest, relative: smallest / self.q_norm2.max(f64::MIN_POSITIVE), cause: e.to_string() },
+        }
     }
 
     fn n(&self) -> usize {
@@ -829,3 +853,22 @@ fn discrete_residual(data: &Problem, x: &DMatrix<f64>) -> Result<DiscreteResidua
 #[cfg(test)]
 #[path = "../tests/riccati.rs"]
 mod tests;
+
+/// `(λ_min, max |λ|)` of a symmetric matrix, by the symmetric QR iteration (capped; on failure
+/// the Gershgorin bounds, which can only make `λ_min` look smaller).
+fn symmetric_extremes(q: &DMatrix<f64>) -> (f64, f64) {
+    match nalgebra::linalg::SymmetricEigen::try_new(q.clone(), f64::EPSILON, 1000) {
+        Some(e) => {
+            let min = e.eigenvalues.iter().copied().fold(f64::INFINITY, f64::min);
+            let max = e.eigenvalues.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+            (min, max)
+        }
+        None => {
+            let n = q.nrows();
+            let radius = |i: usize| (0..n).filter(|&j| j != i).map(|j| q[(i, j)].abs()).sum::<f64>();
+            let min = (0..n).map(|i| q[(i, i)] - radius(i)).fold(f64::INFINITY, f64::min);
+            let max = (0..n).map(|i| q[(i, i)].abs() + radius(i)).fold(0.0, f64::max);
+            (min, max)
+        }
+    }
+}

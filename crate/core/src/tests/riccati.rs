@@ -158,6 +158,30 @@ fn public_residuals_vanish_on_closed_forms() {
     assert!(matches!(discrete_riccati_residual(&a, &b, &q, &r, &m(&[&[1.0]])), Err(RiccatiError::DimensionMismatch { .. })));
 }
 
+#[test]
+fn indefinite_state_weight_is_used_when_a_stabilising_solution_exists() {
+    // Double integrator, R = 1, Q = diag(q₁, q₂): the Riccati equation reads x₂² = q₁,
+    // x₁ = x₂ x₃, x₃² = 2 x₂ + q₂ (checkable by hand), so X = [[x₂x₃, x₂], [x₂, x₃]] with
+    // x₂ = √q₁, x₃ = √(2√q₁ + q₂), K = [x₂, x₃]. q₂ = −1: X = [[1, 1], [1, 1]], K = [1, 1], the
+    // closed loop s² + s + 1 — used, and marked. q₂ = −4: 2 + q₂ < 0, no real solution —
+    // refused, saying how negative Q is.
+    let a = m(&[&[0.0, 1.0], &[0.0, 0.0]]);
+    let b = m(&[&[0.0], &[1.0]]);
+    let r = m(&[&[1.0]]);
+    let d = lqr_gain(&a, &b, &m(&[&[1.0, 0.0], &[0.0, -1.0]]), &r).unwrap();
+    assert!((&d.gain - m(&[&[1.0, 1.0]])).norm() < 1e-10, "{}", d.gain);
+    assert!((&d.riccati_solution - m(&[&[1.0, 1.0], &[1.0, 1.0]])).norm() < 1e-10, "{}", d.riccati_solution);
+    assert_eq!(d.state_weight_smallest_eigenvalue, Some(-1.0));
+    match lqr_gain(&a, &b, &m(&[&[1.0, 0.0], &[0.0, -4.0]]), &r) {
+        Err(RiccatiError::StateWeightNotSemidefinite { smallest, relative, .. }) => {
+            assert!((smallest + 4.0).abs() < 1e-12 && (relative + 1.0).abs() < 1e-12, "{smallest} {relative}");
+        }
+        other => panic!("{other:?}"),
+    }
+    // A positive semidefinite Q is not marked.
+    assert_eq!(lqr_gain(&a, &b, &m(&[&[1.0, 0.0], &[0.0, 0.0]]), &r).unwrap().state_weight_smallest_eigenvalue, None);
+}
+
 // Definitions of symmetric, positive (semi)definite and of the shapes (common practice).
 #[test]
 fn input_checks() {
@@ -167,7 +191,6 @@ fn input_checks() {
     let r = m(&[&[1.0]]);
     assert!(matches!(lqr_gain(&a, &b, &q, &m(&[&[1.0, 0.0]])), Err(RiccatiError::DimensionMismatch { matrix: RiccatiInput::InputWeight, .. })));
     assert!(matches!(lqr_gain(&a, &b, &m(&[&[1.0, 1.0], &[0.0, 1.0]]), &r), Err(RiccatiError::NotSymmetric { matrix: RiccatiInput::StateWeight, .. })));
-    assert_eq!(lqr_gain(&a, &b, &m(&[&[1.0, 0.0], &[0.0, -1.0]]), &r).err(), Some(RiccatiError::StateWeightNotSemidefinite));
     assert_eq!(lqr_gain(&a, &b, &q, &m(&[&[0.0]])).err(), Some(RiccatiError::InputWeightNotPositiveDefinite));
     assert_eq!(lqr_gain(&a, &b, &q, &m(&[&[-1.0]])).err(), Some(RiccatiError::InputWeightNotPositiveDefinite));
     let mut bad = a.clone();

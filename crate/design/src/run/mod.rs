@@ -227,7 +227,7 @@ fn lqr_result(spec: &ControllerSpec, d: &crate::riccati::LqrDesign) -> LqrResult
         Some(LqrWeights::Bryson { max_state, max_input }) => crate::riccati::bryson_weights(max_state, max_input).map(|(q, r)| (rows(&q), rows(&r))).unwrap_or_default(),
         None => (Vec::new(), Vec::new()),
     };
-    LqrResult { riccati_solution: rows(&d.riccati_solution), residual: d.residual, gain: rows(&d.gain), closed_loop_poles: d.closed_loop_poles.iter().map(|z| pair(*z)).collect(), q: qw, r: rw }
+    LqrResult { riccati_solution: rows(&d.riccati_solution), residual: d.residual, gain: rows(&d.gain), closed_loop_poles: d.closed_loop_poles.iter().map(|z| pair(*z)).collect(), q: qw, r: rw, state_weight_smallest_eigenvalue: d.state_weight_smallest_eigenvalue }
 }
 
 pub use warnings::OBSERVER_SPEED_RULE;

@@ -144,6 +144,7 @@ fn lqr(s: &Setup, pair: &DesignPair, w: &LqrWeights) -> Result<LqrDesign, Design
         | RiccatiError::Eigen(_)
         | RiccatiError::Svd(_)
         | RiccatiError::NotStable => infeasible(&e),
+        RiccatiError::StateWeightNotSemidefinite { .. } => input(P::LqrQ, e.to_string()),
         other => input(P::Lqr, other.to_string()),
     })
 }

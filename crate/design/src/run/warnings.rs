@@ -203,6 +203,16 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
             ));
         }
     }
+    if let Some(smallest) = pair.lqr.as_ref().and_then(|l| l.state_weight_smallest_eigenvalue) {
+        out.push(Warning::new(
+            WarningCode::LqrWeightIndefinite,
+            format!(
+                "The state weight Q{} is not positive semidefinite (smallest eigenvalue {}): the stabilising Riccati solution exists and its gain is used, but the cost is no longer a sum of squares and LQR's guaranteed margins do not apply. Check the margins independently, or make Q semidefinite (weights rounded from published data often need only their diagonal raised slightly).",
+                if s.spec.lqr.as_ref().is_some_and(|w| matches!(w, crate::LqrWeights::Matrices { s: Some(_), .. })) { " − S R⁻¹ Sᵀ" } else { "" },
+                fmt_num(smallest)
+            ),
+        ));
+    }
     if let Some(r) = &pair.search {
         if let Some(why) = r.shortfall {
             use crate::search::SearchShortfall as S;

@@ -170,15 +170,12 @@ pub(crate) fn lqr_report(result: &DesignResult, l: &design::LqrResult, context: 
     let gain = matrix_table("K_lqr", "LQR gain: one row per input, one column per design state", "u = -K_lqr x; one row per input, one column per design state", inputs, labels, &l.gain);
     let mut poles: Vec<Complex64> = l.closed_loop_poles.iter().map(c64).collect();
     sort_for_display(&mut poles);
-    let gain_note = if result.plant.inputs == 1 {
-        "With one input only one gain places these poles, so the gain K used is this LQR gain.".to_string()
-    } else {
-        "With several inputs many gains place these poles: the gain K used places the LQR poles with well-conditioned eigenvectors and is in general not this LQR gain, so the LQR's optimality belongs to this gain, not to K.".to_string()
-    };
+    let gain_note = "The gain K used is this LQR gain as computed, for any number of inputs (it is not re-placed), so the LQR's optimality and margins belong to K.".to_string();
     let margins = (!discrete).then(|| {
         let mut text = "Full-state LQR has guaranteed margins: at least 60° of phase margin and a gain margin from −6 dB to infinity in each input loop (Safonov & Athans, IEEE Trans. Automatic Control 22(2), 1977; for a diagonal R, as with Bryson's rule). This holds only for the full-state loop u = −K_lqr x with the whole state measured: not with an observer, and not for a digital implementation.".to_string();
-        if result.plant.inputs > 1 {
-            text.push_str(" With several inputs it belongs to the LQR gain shown here, not to the placed gain K.");
+        if let Some(smallest) = l.state_weight_smallest_eigenvalue {
+            text = format!("The state weight Q is not positive semidefinite (smallest eigenvalue {}), so the guaranteed margins of full-state LQR do not apply to this design; check its margins independently.", fmt_num(smallest));
+            return text;
         }
         if result.observer.is_some() {
             text.push_str(" This design uses an observer, so the guarantee does not apply to it.");
