@@ -164,9 +164,14 @@ fn check_report(
         if want >= 1e-8 {
             // Margin as a smooth function of λ: |Δσ_min| ≤ |Δλ| ~ 1e-15, so for margins ≥ 1e-8
             // a relative 1e-6 leaves a factor 10 over the worst pole error.
-            let rel = (ours.margin - want).abs() / want;
+            // numpy's margin is of the data as given: our unscaled margin. (The verdict's margin
+            // is taken in balanced units; a rank deficiency is the same in both, checked below.)
+            let rel = (ours.unscaled_margin - want).abs() / want;
             if !(rel <= 1e-6) {
-                fail(failures, format!("margin of {} is {:.10e}, numpy {want:.10e} (relative {rel:.1e})", ours.pole, ours.margin));
+                fail(failures, format!("margin of {} is {:.10e}, numpy {want:.10e} (relative {rel:.1e})", ours.pole, ours.unscaled_margin));
+            }
+            if !(ours.margin > 0.0) {
+                fail(failures, format!("mode {} is reachable (numpy margin {want:.2e}) but its balanced margin is {:.2e}", ours.pole, ours.margin));
             }
             // A mode the reference calls reachable must not be called hidden.
             if ours.verdict == ModeVerdict::No {
@@ -175,8 +180,8 @@ fn check_report(
         } else {
             // Reference margin at rounding level (an exactly hidden mode): ours must also be
             // below the analysis' rank tolerance (1e-10 relative), as the fixture's is.
-            if !(ours.margin <= params.relative_tolerance && want <= params.relative_tolerance) {
-                fail(failures, format!("margin of {}: ours {:.2e}, numpy {want:.2e}, both should be ≤ {:.0e}", ours.pole, ours.margin, params.relative_tolerance));
+            if !(ours.unscaled_margin <= params.relative_tolerance && ours.margin <= params.relative_tolerance && want <= params.relative_tolerance) {
+                fail(failures, format!("margin of {}: ours {:.2e} (balanced {:.2e}), numpy {want:.2e}, all should be ≤ {:.0e}", ours.pole, ours.unscaled_margin, ours.margin, params.relative_tolerance));
             }
             // The verdict must not claim the mode is comfortably reachable.
             if ours.verdict == ModeVerdict::Yes {

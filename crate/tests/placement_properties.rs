@@ -490,8 +490,8 @@ fn staircase_and_pbh_agree_on_exactly_uncontrollable_plants() {
             if (mode.verdict == ModeVerdict::No) != hidden_by_pbh {
                 failures.push(format!("{tag}: mode {} has verdict {:?} but independent PBH margin {margin:.2e}", mode.pole, mode.verdict));
             }
-            if margin > 1e-8 && !((mode.margin - margin).abs() <= 1e-6 * margin) {
-                failures.push(format!("{tag}: mode {} margin {:.6e}, independent {margin:.6e}", mode.pole, mode.margin));
+            if margin > 1e-8 && !((mode.unscaled_margin - margin).abs() <= 1e-6 * margin) {
+                failures.push(format!("{tag}: mode {} margin {:.6e}, independent {margin:.6e}", mode.pole, mode.unscaled_margin));
             }
         }
         let no = r.modes.iter().filter(|m| m.verdict == ModeVerdict::No).count();

@@ -182,19 +182,63 @@ fn rescaling_states_and_inputs_by_powers_of_ten_keeps_the_controllability_verdic
         let r: Vec<Vec<f64>> = v.as_array().unwrap().iter().map(|r| r.as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect()).collect();
         nalgebra::DMatrix::from_fn(r.len(), r[0].len(), |i, j| r[i][j])
     };
+    // The per-mode verdicts (controllable, weak, not) and the stabilisability verdict of the
+    // report on the data as given also hold under those changes and a change of the time unit
+    // (A and B times 10^t): each is judged on its own scale.
     let mut checked = 0;
     for case in f["cases"].as_array().unwrap() {
         let (a, b) = (rows(&case["a"]), rows(&case["b"]));
         let want = case["rank_controllable"].as_u64().unwrap() as usize;
         let n = a.nrows();
-        for (ks, j) in [(vec![3, -3], 0), (vec![-4, 2], 5), (vec![0, 6], -6)] {
+        let base = controllability_report(&a, &b, AnalysisParams::default()).unwrap();
+        // As counts: with repeated eigenvalues which copy is called hidden is arbitrary.
+        let verdicts = |r: &polewright::analysis::ModalReport| {
+            let mut v: Vec<String> = r.modes.iter().map(|m| format!("{:?}", m.verdict)).collect();
+            v.sort();
+            v
+        };
+        for (ks, j, t) in [(vec![3, -3], 0, 0), (vec![-4, 2], 5, 3), (vec![0, 6], -6, -4)] {
             let d: Vec<f64> = (0..n).map(|i| 10f64.powi(ks[i % 2])).collect();
-            let a2 = nalgebra::DMatrix::from_fn(n, n, |r, c| a[(r, c)] * d[c] / d[r]);
-            let b2 = nalgebra::DMatrix::from_fn(n, b.ncols(), |r, c| b[(r, c)] / d[r] * 10f64.powi(j));
-            let got = controllability_report(&a2, &b2, AnalysisParams::default()).unwrap().rank;
-            assert_eq!(got, want, "{}: units {ks:?}, 10^{j}", case["name"]);
+            let time = 10f64.powi(t);
+            let a2 = nalgebra::DMatrix::from_fn(n, n, |r, c| a[(r, c)] * d[c] / d[r] * time);
+            let b2 = nalgebra::DMatrix::from_fn(n, b.ncols(), |r, c| b[(r, c)] / d[r] * 10f64.powi(j) * time);
+            let got = controllability_report(&a2, &b2, AnalysisParams::default()).unwrap();
+            assert_eq!(got.rank, want, "{}: units {ks:?}, 10^{j}, time 10^{t}", case["name"]);
+            assert_eq!(verdicts(&got), verdicts(&base), "{}: units {ks:?}, 10^{j}, time 10^{t}", case["name"]);
+            assert_eq!(got.stable_hidden_modes, base.stable_hidden_modes, "{}: units {ks:?}, 10^{j}, time 10^{t}", case["name"]);
             checked += 1;
         }
     }
     assert!(checked >= 45, "{checked}");
+}
+
+#[test]
+fn a_fixed_mode_is_judged_on_its_own_scale() {
+    // A stable fixed mode at −0.0163 ± 18 080.67j (the size of the one in example 20 of the
+    // continuous benchmark collection of Benner, Laub & Mehrmann, SPC 95-22, 1995, from memory)
+    // beside a controllable part of norm 4e11: against 1e-10 ‖A‖₂ = 40 it was called not
+    // strictly stable; on its own scale it is stable, and the placement leaves it in place.
+    use nalgebra::DMatrix;
+    use polewright::analysis::{controllability_report, AnalysisParams};
+    use polewright::place::{state_feedback_gain, PlacementParams};
+    let (sigma, omega) = (-0.0163, 18_080.67);
+    let mut a = DMatrix::<f64>::zeros(4, 4);
+    a[(0, 1)] = 4e11;
+    a[(1, 0)] = -1.0;
+    a[(2, 2)] = sigma;
+    a[(2, 3)] = omega;
+    a[(3, 2)] = -omega;
+    a[(3, 3)] = sigma;
+    let b = DMatrix::from_row_slice(4, 1, &[0.0, 1.0, 0.0, 0.0]);
+    let r = controllability_report(&a, &b, AnalysisParams::default()).unwrap();
+    assert_eq!(r.rank, 2);
+    assert!(r.stable_hidden_modes, "{:?}", r.hidden_modes);
+    let poles: Vec<num_complex::Complex64> = [-1e5, -2e5].iter().map(|&x| num_complex::Complex64::new(x, 0.0)).collect();
+    let p = state_feedback_gain(&a, &b, &poles, PlacementParams::default()).unwrap();
+    assert!(p.fixed_modes.iter().all(|z| (z.re - sigma).abs() < 1e-6 && (z.im.abs() - omega).abs() < 1e-6), "{:?}", p.fixed_modes);
+    // The same mode shifted onto the axis (σ = 0) is refused.
+    a[(2, 2)] = 0.0;
+    a[(3, 3)] = 0.0;
+    assert!(!controllability_report(&a, &b, AnalysisParams::default()).unwrap().stable_hidden_modes);
+    assert!(state_feedback_gain(&a, &b, &poles, PlacementParams::default()).is_err());
 }

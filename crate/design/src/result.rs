@@ -246,7 +246,11 @@ pub struct FeedbackResult {
 #[derive(Debug, Clone, Serialize)]
 pub struct ModeResult {
     pub pole: Pair,
+    /// The PBH margin in balanced units (independent of the units of states and inputs): the
+    /// one the verdict is judged on.
     pub margin: f64,
+    /// The PBH margin `σ_min([A − λI, B]) / ‖[A B]‖₂` of the data as given.
+    pub unscaled_margin: f64,
     /// Controllable (or observable, in the observability report).
     pub controllable: bool,
     /// `"yes"`, `"weak"` or `"no"`.
@@ -307,6 +311,7 @@ pub(crate) fn structure(r: &ModalReport) -> StructureResult {
             .map(|m| ModeResult {
                 pole: pair(m.pole),
                 margin: m.margin,
+                unscaled_margin: m.unscaled_margin,
                 controllable: m.verdict != ModeVerdict::No,
                 verdict: match m.verdict {
                     ModeVerdict::Yes => "yes",

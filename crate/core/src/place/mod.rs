@@ -349,14 +349,6 @@ fn place_from(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: P
     let scale = try_norm2(&ab, SvdParams::default())?;
     let st = staircase(a, b, params.controllability_tolerance * scale)?;
     let nc = st.dimension;
-    if nc < n {
-        // Judged against ‖[A B]‖ some modes look unreached; judged in balanced coordinates,
-        // each block against its own scale, they may only be measured in other units. Then the
-        // placement is done there and the gain brought back: u = −K_bal D⁻¹ x.
-        if let Some(placed) = place_balanced(a, b, poles, params, start)? {
-            return Ok(placed);
-        }
-    }
     if nc == n {
         if poles.len() != n {
             return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
@@ -364,15 +356,31 @@ fn place_from(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: P
         let core = assign(a, b, poles, params, start)?;
         return finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new(), params.domain);
     }
-    // Uncontrollable: the fixed modes must be strictly stable.
+    // Judged against ‖[A B]‖ some modes look unreached; judged in balanced coordinates, each
+    // block against its own scale, they may only be measured in other units. The decision and
+    // the placement are made there and the gain brought back: u = −K_bal D⁻¹ x.
+    place_balanced(a, b, poles, params, start)
+}
+
+/// The placement of a pair whose staircase `st` (of this `a`, `b`) may leave fixed modes: the
+/// fixed modes must be strictly stable, each judged on its own scale; the requested poles they
+/// displace are set aside; the controllable part is assigned. Returns the core (gain in these
+/// coordinates), the assigned, displaced and fixed poles.
+fn partial(a: &DMatrix<f64>, b: &DMatrix<f64>, st: &crate::analysis::Staircase, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<(Core, Vec<Complex64>, Vec<Complex64>, Vec<Complex64>), PlacementError> {
+    let (n, m) = (a.nrows(), b.ncols());
+    let nc = st.dimension;
+    if nc == n {
+        if poles.len() != n {
+            return Err(PlacementError::PoleCount { expected: n, controllable: n, found: poles.len() });
+        }
+        return Ok((assign(a, b, poles, params, start)?, poles.to_vec(), Vec::new(), Vec::new()));
+    }
     let au = st.a.view((nc, nc), (n - nc, n - nc)).into_owned();
     let fixed = try_eigenvalues(&au)?;
-    let anorm = try_norm2(a, SvdParams::default())?;
-    let axis_tol = match params.domain {
-        Domain::Continuous => params.controllability_tolerance * anorm.max(1.0),
-        Domain::Discrete => params.controllability_tolerance,
-    };
-    if let Some(z) = fixed.iter().rev().find(|z| !params.domain.is_strictly_stable(**z, axis_tol)) {
+    // Each fixed mode judged on its own scale (see `Domain::mode_tolerance`).
+    let floor = crate::analysis::rounding_floor(params.domain, a);
+    let axis_tol = |z: &Complex64| params.domain.mode_tolerance(params.controllability_tolerance, *z, floor);
+    if let Some(z) = fixed.iter().rev().find(|z| !params.domain.is_strictly_stable(**z, axis_tol(z))) {
         return Err(PlacementError::UncontrollableUnstableMode { pole: *z });
     }
     let (assigned, dropped) = if poles.len() == nc {
@@ -388,23 +396,25 @@ fn place_from(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: P
         let ac = st.a.view((0, 0), (nc, nc)).into_owned();
         let bc = st.b.rows(0, nc).into_owned();
         // Staircase coordinates z = Tᵀ x; the assigned eigenvectors are [x_c; 0].
-        let local = start.map(|s| map_vectors(s, |v| (st.transform.transpose().map(|t| Complex64::new(t, 0.0)) * v).rows(0, nc).into_owned()));
+        let tt = st.transform.transpose().map(|t| Complex64::new(t, 0.0));
+        let local = start.map(|s| map_vectors(s, |v| (&tt * v).rows(0, nc).into_owned()));
         let mut core = assign(&ac, &bc, &assigned, params, local.as_ref())?;
         let mut g = DMatrix::zeros(m, n);
         g.columns_mut(0, nc).copy_from(&core.gain);
         core.gain = g;
+        let t = st.transform.map(|t| Complex64::new(t, 0.0));
         core.eigenvectors = core.eigenvectors.map(|e| {
             map_vectors(&e, |v| {
                 let mut full = DMatrix::<Complex64>::zeros(n, v.ncols());
                 full.rows_mut(0, nc).copy_from(v);
-                st.transform.map(|t| Complex64::new(t, 0.0)) * full
+                &t * full
             })
         });
         core
     };
-    // K in the original coordinates: K = [K_c 0] Tᵀ.
+    // K in these coordinates: K = [K_c 0] Tᵀ.
     core.gain = &core.gain * st.transform.transpose();
-    finish(a, b, core, assigned, dropped, fixed, params.domain)
+    Ok((core, assigned, dropped, fixed))
 }
 
 struct Core {
@@ -616,37 +626,34 @@ fn split_for_fixed_modes(poles: &[Complex64], fixed: &[Complex64]) -> Option<(Ve
 }
 
 /// Placement in the balanced coordinates `D⁻¹ A D`, `D⁻¹ B` (exact power-of-two Parlett–Reinsch
-/// scaling of `A`) when the pair is controllable there with the rank of `B` judged against
-/// `‖D⁻¹B‖` and the blocks of `A` against `‖D⁻¹AD‖`; `None` when it is not (the caller then
-/// treats the fixed modes as before). Eigenvalues are similarity invariant; the gain comes back
-/// as `K = K_bal D⁻¹`.
-fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<Option<Placement>, PlacementError> {
+/// scaling of `A`, each input column then brought to the scale of `A` by a power of two), where
+/// the rank of `B` is judged against its own norm and the blocks of `A` against theirs: the
+/// fixed modes, if any, are decided there ([`partial`]). Eigenvalues are similarity invariant;
+/// the gain comes back as `K = S K_s D⁻¹`.
+fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<Placement, PlacementError> {
     let (n, m) = (a.nrows(), b.ncols());
     let d = crate::linalg::eigen::balancing_scale(a, 100);
     let a_bal = DMatrix::from_fn(n, n, |i, j| a[(i, j)] * d[j] / d[i]);
     let b_bal = DMatrix::from_fn(n, m, |i, j| b[(i, j)] / d[i]);
-    let tol_a = params.controllability_tolerance * try_norm2(&a_bal, SvdParams::default())?;
-    let tol_b = params.controllability_tolerance * try_norm2(&b_bal, SvdParams::default())?;
-    let st = crate::analysis::staircase_with(&a_bal, &b_bal, tol_b, tol_a)?;
-    if st.dimension < n || poles.len() != n {
-        return Ok(None);
-    }
-    // Within the balanced pair the inputs are put on the scale of A (a power of two per
-    // column), so that the placement's own tolerances see them as they are.
     let anorm = a_bal.norm().max(f64::MIN_POSITIVE);
-    let s: Vec<f64> = (0..m).map(|j| {
-        let c = b_bal.column(j).norm();
-        if c > 0.0 { 2f64.powi((anorm / c).log2().round() as i32) } else { 1.0 }
-    }).collect();
+    let s: Vec<f64> = (0..m)
+        .map(|j| {
+            let c = b_bal.column(j).norm();
+            if c > 0.0 { 2f64.powi((anorm / c).log2().round() as i32) } else { 1.0 }
+        })
+        .collect();
     let b_scaled = DMatrix::from_fn(n, m, |i, j| b_bal[(i, j)] * s[j]);
+    let tol_a = params.controllability_tolerance * try_norm2(&a_bal, SvdParams::default())?;
+    let tol_b = params.controllability_tolerance * try_norm2(&b_scaled, SvdParams::default())?;
+    let st = crate::analysis::staircase_with(&a_bal, &b_scaled, tol_b, tol_a)?;
     // Balanced coordinates x_bal = D⁻¹ x.
     let local = start.map(|e| map_vectors(e, |v| DMatrix::from_fn(n, v.ncols(), |i, j| v[(i, j)] / d[i])));
-    let core = assign(&a_bal, &b_scaled, poles, params, local.as_ref())?;
+    let (core, assigned, dropped, fixed) = partial(&a_bal, &b_scaled, &st, poles, params, local.as_ref())?;
     // u = −K_s x_bal with B_scaled = B_bal S: the input is S u_s, so K_bal = S K_s; then K = K_bal D⁻¹.
     let gain = DMatrix::from_fn(m, n, |i, j| s[i] * core.gain[(i, j)] / d[j]);
     let eigenvectors = core.eigenvectors.as_ref().map(|e| map_vectors(e, |v| DMatrix::from_fn(n, v.ncols(), |i, j| v[(i, j)] * d[i])));
     let core = Core { gain, eigenvectors, ..core };
-    finish(a, b, core, poles.to_vec(), Vec::new(), Vec::new(), params.domain).map(Some)
+    finish(a, b, core, assigned, dropped, fixed, params.domain)
 }
 
 /// What a gain computed elsewhere (an LQR gain, used as it is) achieves, in the terms of a

@@ -121,15 +121,14 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
 /// The closed loop and the observer, judged by routes independent of placement
 /// ([`verdict::stability`]) before anything is simulated.
 fn independent_verdict(s: &setup::Setup, dp: &pair::DesignPair, g: &gains::Gains) -> Result<(), DesignError> {
-    let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
-    let axis_tol = match s.domain {
-        crate::analysis::Domain::Continuous => s.ap.relative_tolerance * anorm.max(1.0),
+    let relative = match s.domain {
+        crate::analysis::Domain::Continuous => s.ap.relative_tolerance,
         crate::analysis::Domain::Discrete => 1e-12,
     };
     let closed = &dp.da - &dp.db * &g.placement.gain;
-    verdict::stability(s.domain, &closed, &dp.dpoles, axis_tol, "gain")?;
+    verdict::stability(s.domain, &closed, &dp.dpoles, relative, "gain")?;
     if let (Some((od, poles, _)), Some(c)) = (&g.observer, s.plant.c()) {
-        verdict::stability(s.domain, &(&s.ad - &od.gain * c), poles, axis_tol, "observer gain")?;
+        verdict::stability(s.domain, &(&s.ad - &od.gain * c), poles, relative, "observer gain")?;
     }
     Ok(())
 }

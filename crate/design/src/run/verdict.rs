@@ -27,8 +27,10 @@ use crate::DesignError;
 
 /// Refuses a design whose loop the independent routes find unstable though only stable poles
 /// were requested.
-pub(super) fn stability(domain: Domain, closed: &DMatrix<f64>, requested: &[Complex64], axis_tol: f64, what: &str) -> Result<(), DesignError> {
-    if requested.is_empty() || !requested.iter().all(|z| domain.is_strictly_stable(*z, axis_tol)) {
+/// A requested pole counts as stable when it is so by more than `relative` of its own size
+/// ([`Domain::mode_tolerance`]).
+pub(super) fn stability(domain: Domain, closed: &DMatrix<f64>, requested: &[Complex64], relative: f64, what: &str) -> Result<(), DesignError> {
+    if requested.is_empty() || !requested.iter().all(|z| domain.is_strictly_stable(*z, domain.mode_tolerance(relative, *z, 0.0))) {
         return Ok(());
     }
     let eigen = crate::linalg::eigen::try_eigenvalues(closed);

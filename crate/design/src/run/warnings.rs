@@ -26,8 +26,9 @@ fn shown(z: &Complex64) -> String {
 /// Requested poles that are unstable, marginal or far faster than the plant.
 pub(super) fn requested_pole_warnings(s: &Setup, pair: &DesignPair, anorm: f64) -> Vec<Warning> {
     let (domain, wp) = (s.domain, WarningParams::default());
-    let axis_tol = match domain {
-        Domain::Continuous => s.ap.relative_tolerance * anorm.max(1.0),
+    // Each requested pole judged on its own scale (units of time must not change the verdict).
+    let relative = match domain {
+        Domain::Continuous => s.ap.relative_tolerance,
         Domain::Discrete => 1e-12,
     };
     let mut out = Vec::new();
@@ -41,6 +42,7 @@ pub(super) fn requested_pole_warnings(s: &Setup, pair: &DesignPair, anorm: f64) 
             Domain::Continuous => ("", ["lies in the right half-plane: the closed loop will be unstable", "lies on the imaginary axis: the closed loop will not settle (marginal stability)"]),
             Domain::Discrete => (" z-plane", ["lies outside the unit circle: the digital loop will be unstable", "lies on the unit circle: the digital loop will not settle (marginal stability)"]),
         };
+        let axis_tol = domain.mode_tolerance(relative, *z, 0.0);
         if !domain.is_strictly_stable(*z, -axis_tol) && !domain.is_marginal(*z, axis_tol) {
             out.push(Warning::new(WarningCode::RequestedPoleUnstable, format!("The requested{plane} pole {} {}.", shown(z), what[0])));
         } else if domain.is_marginal(*z, axis_tol) {
