@@ -362,11 +362,14 @@ fn place_from(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: P
     place_balanced(a, b, poles, params, start)
 }
 
+/// A placed core with the assigned, displaced and fixed poles.
+type Partial = (Core, Vec<Complex64>, Vec<Complex64>, Vec<Complex64>);
+
 /// The placement of a pair whose staircase `st` (of this `a`, `b`) may leave fixed modes: the
 /// fixed modes must be strictly stable, each judged on its own scale; the requested poles they
 /// displace are set aside; the controllable part is assigned. Returns the core (gain in these
 /// coordinates), the assigned, displaced and fixed poles.
-fn partial(a: &DMatrix<f64>, b: &DMatrix<f64>, st: &crate::analysis::Staircase, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<(Core, Vec<Complex64>, Vec<Complex64>, Vec<Complex64>), PlacementError> {
+fn partial(a: &DMatrix<f64>, b: &DMatrix<f64>, st: &crate::analysis::Staircase, poles: &[Complex64], params: PlacementParams, start: Option<&Eigenvectors>) -> Result<Partial, PlacementError> {
     let (n, m) = (a.nrows(), b.ncols());
     let nc = st.dimension;
     if nc == n {
