@@ -7,6 +7,12 @@
 //!
 //! `polewright-bench --loop tests/fixtures/loop.json` times the whole-loop simulation of the
 //! ten-state case (observer, integral action, 5000 samples) and prints the median.
+//!
+//! `polewright-bench --riccati CASES.json` reads `{"cases": [{"name", "domain"
+//! ("continuous"/"discrete"), "a", "b", "q", "r", "s" (optional cross weight)}]}` (written by
+//! `tests/oracle/check_riccati_benchmarks.py`), solves each LQR problem with the core the design
+//! path uses and prints one JSON object per line: `{"name", "x", "gain", "residual",
+//! "seconds", "error"}`.
 
 use std::time::Instant;
 
@@ -97,7 +103,46 @@ fn loop_benchmark(path: &str) {
     println!("{}", json!({"name": case["name"], "states": a.nrows(), "inputs": b.ncols(), "samples": samples, "median_seconds": times[times.len() / 2], "min_seconds": times[0], "repeats": times.len()}));
 }
 
+/// One LQR problem of `--riccati`.
+fn riccati_case(case: &Value) -> Value {
+    let name = case["name"].as_str().unwrap_or("?").to_string();
+    let (Some(a), Some(b), Some(q), Some(r)) = (matrix(&case["a"]), matrix(&case["b"]), matrix(&case["q"]), matrix(&case["r"])) else {
+        return json!({"name": name, "error": "malformed case"});
+    };
+    let digital = case["domain"] == "discrete";
+    let start = Instant::now();
+    let solved = match matrix(&case["s"]) {
+        Some(s) => polewright::riccati::lqr_gain_with_cross_weight(&a, &b, &q, &r, &s, digital),
+        None if digital => polewright::riccati::discrete_lqr_gain(&a, &b, &q, &r),
+        None => polewright::riccati::lqr_gain(&a, &b, &q, &r),
+    };
+    let seconds = start.elapsed().as_secs_f64();
+    let rows = |m: &DMatrix<f64>| -> Vec<Vec<f64>> { (0..m.nrows()).map(|i| m.row(i).iter().copied().collect()).collect() };
+    match solved {
+        Ok(d) => json!({"name": name, "x": rows(&d.riccati_solution), "gain": rows(&d.gain), "residual": d.residual, "seconds": seconds, "error": null}),
+        Err(e) => json!({"name": name, "error": e.to_string(), "seconds": seconds}),
+    }
+}
+
+fn riccati_benchmark(path: &str) {
+    let doc: Value = match std::fs::read_to_string(path).map_err(|e| e.to_string()).and_then(|t| serde_json::from_str(&t).map_err(|e| e.to_string())) {
+        Ok(v) => v,
+        Err(e) => {
+            eprintln!("polewright-bench: cannot read {path}: {e}");
+            std::process::exit(2);
+        }
+    };
+    for case in doc["cases"].as_array().map(|v| v.as_slice()).unwrap_or(&[]) {
+        println!("{}", riccati_case(case));
+    }
+}
+
 fn main() {
+    if std::env::args().nth(1).as_deref() == Some("--riccati") {
+        let path = std::env::args().nth(2).unwrap_or_default();
+        riccati_benchmark(&path);
+        return;
+    }
     if std::env::args().nth(1).as_deref() == Some("--loop") {
         let path = std::env::args().nth(2).unwrap_or_else(|| "tests/fixtures/loop.json".into());
         loop_benchmark(&path);

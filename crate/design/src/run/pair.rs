@@ -132,7 +132,7 @@ fn lqr(s: &Setup, pair: &DesignPair, w: &LqrWeights) -> Result<LqrDesign, Design
             Some(_) => crate::riccati::discrete_lqr_gain(da, &pair.db, &qw, &rw),
             None => crate::riccati::lqr_gain(da, &pair.db, &qw, &rw),
         },
-        Some(sw) => with_cross_weight(da, &pair.db, &qw, &rw, sw, s.t.is_some()),
+        Some(sw) => crate::riccati::lqr_gain_with_cross_weight(da, &pair.db, &qw, &rw, sw, s.t.is_some()),
     };
     design.map_err(|e| match e {
         RiccatiError::NotStabilizable { .. }
@@ -147,31 +147,6 @@ fn lqr(s: &Setup, pair: &DesignPair, w: &LqrWeights) -> Result<LqrDesign, Design
         RiccatiError::StateWeightNotSemidefinite { .. } => input(P::LqrQ, e.to_string()),
         other => input(P::Lqr, other.to_string()),
     })
-}
-
-/// LQR with the cross weight `S` of `2 xᵀ S u`: substituting `u = v − R⁻¹ Sᵀ x` gives the
-/// standard problem of `A − B R⁻¹ Sᵀ` with `Q − S R⁻¹ Sᵀ` (the Schur complement, positive
-/// semidefinite when the joint weight `[[Q, S], [Sᵀ, R]]` is), whose Riccati solution `X` is the
-/// one of the original problem (e.g. Anderson & Moore, *Optimal Control: Linear Quadratic
-/// Methods*, 1990, §2.4; from memory). The gain is then the original one:
-/// `K = R⁻¹ (Bᵀ X + Sᵀ)`, or `(R + Bᵀ X B)⁻¹ (Bᵀ X A + Sᵀ)` when digital, and the closed-loop
-/// poles are those of `A − B K`.
-fn with_cross_weight(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatrix<f64>, sw: &DMatrix<f64>, digital: bool) -> Result<LqrDesign, RiccatiError> {
-    let singular = || RiccatiError::SingularMatrix { stage: crate::riccati::SolverStage::Gain };
-    let rinv_st = r.clone().lu().solve(&sw.transpose()).ok_or_else(singular)?;
-    let a2 = a - b * &rinv_st;
-    let q2 = q - sw * &rinv_st;
-    let q2 = (&q2 + q2.transpose()) * 0.5;
-    let base = if digital { crate::riccati::discrete_lqr_gain(&a2, b, &q2, r)? } else { crate::riccati::lqr_gain(&a2, b, &q2, r)? };
-    let x = &base.riccati_solution;
-    let gain = if digital {
-        (r + b.transpose() * x * b).lu().solve(&(b.transpose() * x * a + sw.transpose())).ok_or_else(singular)?
-    } else {
-        r.clone().lu().solve(&(b.transpose() * x + sw.transpose())).ok_or_else(singular)?
-    };
-    let mut poles = crate::linalg::eigen::try_eigenvalues(&(a - b * &gain)).map_err(RiccatiError::Eigen)?;
-    crate::linalg::eigen::sort_eigenvalues(&mut poles);
-    Ok(LqrDesign { gain, closed_loop_poles: poles, ..base })
 }
 
 /// One requested pole per design state.
