@@ -361,4 +361,53 @@ describe('choosing the poles from the form', () => {
       noErrors(ctx);
     });
   });
+
+  test('deadbeat with one input: a Jordan block, K = [1/T², 3/(2T)], said in the warnings', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      // Zero-order-hold double integrator at T = 0.1 s with both z-plane poles at 0: the closed
+      // form K = [1/T², 3/(2T)] = [100, 15] (by hand: det(zI − Φ + ΓK) = z²), once refused.
+      await setFields(page, { a: '0 1\n0 0', b: '0\n1', sample_time: '0.1', plane: 'z', poles: '0, 0' });
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      const [k] = await readGain(page);
+      assert.ok(Math.abs(k[0] - 100) < 1e-9 && Math.abs(k[1] - 15) < 1e-10, JSON.stringify(k));
+      const warnings = await page.textContent('#pw-warnings');
+      assert.match(warnings, /deadbeat/);
+      assert.match(warnings, /Jordan block/);
+      assert.doesNotMatch(await page.textContent('body'), /inf rad\/s|inf times/, 'no infinite bandwidth or speed-up');
+      noErrors(ctx);
+    });
+  });
+
+  test('the session continues the robust placement: the gain moves with the poles, and says when a fresh design differs', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      // A seeded random two-input plant (test data, the fourth of crate/tests/
+      // search_and_continuation.rs) on which a fresh placement jumps between local optima
+      // as the pair's real part crosses −2.56 (the command-line tool: a relative gain change of
+      // about 100 × the step there).
+      const a = '0.618004 0.590364 -0.614366 0.677426\n-0.460227 0.397690 -0.451466 -0.210432\n-0.584715 -0.752779 -0.484239 -0.187876\n0.465711 -0.498585 0.581940 -0.665761';
+      const b = '0.526329 -0.204365\n-0.321625 0.483684\n0.316579 0.008021\n-0.391429 0.916013';
+      const norm = (g) => Math.hypot(...g.flat());
+      let previous = null;
+      let worst = 0;
+      let saidFresh = false;
+      for (let s = 0; s <= 6; s++) {
+        const re = -2.62 + 0.02 * s;
+        await setFields(page, { a, b, poles: `${re.toFixed(2)}±1.5j, -1, -1.7` });
+        assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+        const gain = await readGain(page);
+        if (previous) {
+          const change = Math.hypot(...gain.flat().map((v, i) => v - previous.flat()[i])) / norm(gain) / 0.02;
+          worst = Math.max(worst, change);
+        }
+        previous = gain;
+        if (/fresh design of this document/.test(await page.textContent('#pw-warnings'))) saidFresh = true;
+      }
+      assert.ok(worst <= 5, `the continued gain moved by ${worst.toFixed(2)} × the step`);
+      assert.ok(saidFresh, 'past the jump of a fresh placement, the page says that a fresh design differs');
+      noErrors(ctx);
+    });
+  });
 });
+
