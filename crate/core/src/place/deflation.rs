@@ -54,7 +54,7 @@
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
 
-use super::{Branch, Core, PlacementError, PlacementMethod, PlacementParams};
+use super::{most_repeated, Branch, Core, PlacementError, PlacementMethod, PlacementParams};
 use crate::analysis::staircase_with;
 use crate::linalg::qr::full_qr;
 use crate::linalg::svd::{try_norm2, try_svd, SvdParams};
@@ -81,18 +81,6 @@ pub(super) fn assign_repeated(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Compl
         return Err(PlacementError::Numerical { message: "the gain is not finite".into() });
     }
     Ok(Core { gain, iterations: 0, converged: true, condition: f64::NAN, balanced_condition: f64::NAN, abs_det: 0.0, rank, method, eigenvectors: None, branch: Branch::Fresh })
-}
-
-/// The pole requested most often, and how often.
-pub(super) fn most_repeated(poles: &[Complex64]) -> (Complex64, usize) {
-    let mut best = (Complex64::new(0.0, 0.0), 0);
-    for z in poles {
-        let count = poles.iter().filter(|w| *w == z).count();
-        if count > best.1 {
-            best = (*z, count);
-        }
-    }
-    best
 }
 
 /// The multi-input deflation of the module documentation, in real arithmetic: a real pole

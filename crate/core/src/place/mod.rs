@@ -436,6 +436,19 @@ struct Core {
     branch: Branch,
 }
 
+/// The pole that repeats most often in `poles`, and how often (of a conjugate pair, the member
+/// with the positive imaginary part).
+pub fn most_repeated(poles: &[Complex64]) -> (Complex64, usize) {
+    let mut best = (Complex64::new(0.0, 0.0), 0);
+    for z in poles {
+        let count = poles.iter().filter(|w| *w == z).count();
+        if count > best.1 || (count == best.1 && z.im > best.0.im) {
+            best = (*z, count);
+        }
+    }
+    best
+}
+
 /// The numerical rank of `B` (singular values above `tolerance` times the largest).
 fn input_rank(b: &DMatrix<f64>, tolerance: f64) -> Result<usize, PlacementError> {
     let sv = try_singular_values(b, SvdParams::default())?;
@@ -450,7 +463,7 @@ fn assign(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], params: Place
     if rank == 0 {
         return Err(PlacementError::Numerical { message: "B has rank 0".into() });
     }
-    if deflation::most_repeated(poles).1 > rank {
+    if most_repeated(poles).1 > rank {
         deflation::assign_repeated(a, b, poles, params, rank)
     } else {
         robust::assign_robust(a, b, poles, params, start)

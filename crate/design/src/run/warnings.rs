@@ -247,7 +247,7 @@ fn jordan_warning(p: &crate::place::Placement, what: &str, limit: &str) -> Optio
         PlacementMethod::DeflationMultiInput => " With several inputs, spreading the copies slightly apart (or using at most rank B of them) lets the eigenvectors be independent and is more robust.".to_string(),
         PlacementMethod::Robust | PlacementMethod::Given => return None,
     };
-    let (pole, copies) = most_repeated(&p.assigned_poles);
+    let (pole, copies) = crate::place::most_repeated(&p.assigned_poles);
     Some(Warning::new(
         WarningCode::RepeatedPoles,
         format!(
@@ -260,17 +260,6 @@ fn jordan_warning(p: &crate::place::Placement, what: &str, limit: &str) -> Optio
     ))
 }
 
-/// The pole that repeats most often, and how often.
-fn most_repeated(poles: &[Complex64]) -> (Complex64, usize) {
-    let mut best = (Complex64::new(0.0, 0.0), 0);
-    for z in poles {
-        let count = poles.iter().filter(|w| *w == z).count();
-        if count > best.1 || (count == best.1 && z.im > best.0.im) {
-            best = (*z, count);
-        }
-    }
-    best
-}
 
 /// The `branch-followed` / `branch-changed` warning of a continued placement (`source` names
 /// what it continued from).
