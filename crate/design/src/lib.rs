@@ -20,6 +20,7 @@ use num_complex::Complex64;
 use serde::Serialize;
 
 pub mod check;
+pub mod export;
 pub mod path;
 pub mod result;
 pub mod run;
@@ -40,6 +41,9 @@ pub use spec::{read_design, write_design, DesignSpec, DESIGN_FORMAT, DESIGN_VERS
 pub const RESULT_FORMAT: &str = "polewright.result";
 /// Version of the result this build writes.
 pub const RESULT_VERSION: u64 = 2;
+
+/// The tool's version, written into every export and record.
+pub const TOOL_VERSION: &str = env!("CARGO_PKG_VERSION");
 
 /// How the closed-loop poles were chosen when not listed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]

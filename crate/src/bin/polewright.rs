@@ -20,6 +20,14 @@ USAGE:
     polewright serve [FILE] [--port N]
                                     serve the page (default dist/polewright.html) on
                                     http://127.0.0.1:N/ (default port 8765) until stopped
+    polewright export FILE.json --format c|rust|json|csv|vectors [--precision double|float]
+                     [--out DIR]
+                                    the designed controller for firmware: C99 header and source
+                                    (matrices and one controller step), Rust constants, JSON,
+                                    CSV, or test vectors (CSV) of the loop simulation; each
+                                    with a header (order of states, sign convention, sample
+                                    time, limits, tool version, SHA-256 of the document).
+                                    Written to DIR, or to standard output
     polewright --help | --version
 
 DESIGN FILE (JSON, format \"polewright.design\", version 1):
@@ -83,6 +91,7 @@ fn run(args: &[String]) -> ExitCode {
         Some("design") => design_command(&args[1..]),
         Some("serve") => serve_command(&args[1..]),
         Some("compare") => compare_command(&args[1..]),
+        Some("export") => export_command(&args[1..]),
         Some(other) => {
             eprintln!("polewright: unknown command \"{other}\"; try `polewright --help`");
             ExitCode::from(2)
@@ -135,6 +144,97 @@ fn write_json<T: serde::Serialize>(value: &T) -> ExitCode {
             ExitCode::from(1)
         }
     }
+}
+
+/// `export FILE --format c|rust|json|csv|vectors [--precision double|float] [--out DIR]`.
+fn export_command(args: &[String]) -> ExitCode {
+    use design::export::{export_text, ExportFailure, ExportFormat, Precision};
+    let usage = "polewright: `export` takes a design file (or -), --format c|rust|json|csv|vectors, and optionally --precision double|float and --out DIR";
+    let (mut source, mut format, mut precision, mut out) = (None, None, Precision::Double, None);
+    let mut it = args.iter();
+    while let Some(a) = it.next() {
+        match a.as_str() {
+            "--format" => match it.next().map(|v| (v, ExportFormat::parse(v))) {
+                Some((_, Some(f))) => format = Some(f),
+                Some((v, None)) => {
+                    eprintln!("polewright: --format \"{v}\" is not one of c, rust, json, csv, vectors");
+                    return ExitCode::from(2);
+                }
+                None => {
+                    eprintln!("{usage}");
+                    return ExitCode::from(2);
+                }
+            },
+            "--precision" => match it.next().map(|v| (v, Precision::parse(v))) {
+                Some((_, Some(p))) => precision = p,
+                Some((v, None)) => {
+                    eprintln!("polewright: --precision \"{v}\" is not one of double, float");
+                    return ExitCode::from(2);
+                }
+                None => {
+                    eprintln!("{usage}");
+                    return ExitCode::from(2);
+                }
+            },
+            "--out" => out = it.next().cloned(),
+            other if source.is_none() => source = Some(other.to_string()),
+            _ => {
+                eprintln!("{usage}");
+                return ExitCode::from(2);
+            }
+        }
+    }
+    let (Some(source), Some(format)) = (source, format) else {
+        eprintln!("{usage}");
+        return ExitCode::from(2);
+    };
+    let text = match read_source(&source) {
+        Ok(t) => t,
+        Err(code) => return code,
+    };
+    let files = match export_text(&text, format, precision) {
+        Ok(f) => f,
+        Err(ExportFailure::Design(DesignError::Input(e))) => {
+            eprintln!("polewright: invalid input: {e}");
+            return ExitCode::from(2);
+        }
+        Err(ExportFailure::Design(DesignError::Infeasible { message })) => {
+            eprintln!("polewright: the design cannot be done as asked: {message}");
+            return ExitCode::from(1);
+        }
+        Err(ExportFailure::Export(e)) => {
+            eprintln!("polewright: {e}");
+            return ExitCode::from(1);
+        }
+    };
+    match out {
+        Some(dir) => {
+            if let Err(e) = std::fs::create_dir_all(&dir) {
+                eprintln!("polewright: cannot create {dir}: {e}");
+                return ExitCode::from(1);
+            }
+            for f in &files {
+                let path = std::path::Path::new(&dir).join(&f.name);
+                if let Err(e) = std::fs::write(&path, &f.contents) {
+                    eprintln!("polewright: cannot write {}: {e}", path.display());
+                    return ExitCode::from(1);
+                }
+                eprintln!("wrote {}", path.display());
+            }
+        }
+        None => {
+            let mut stdout = std::io::stdout().lock();
+            for f in &files {
+                if files.len() > 1 && writeln!(stdout, "===== {} =====", f.name).is_err() {
+                    return ExitCode::from(1);
+                }
+                if write!(stdout, "{}", f.contents).is_err() {
+                    return ExitCode::from(1);
+                }
+            }
+        }
+    }
+    ExitCode::SUCCESS
 }
 
 fn design_command(args: &[String]) -> ExitCode {

@@ -6,6 +6,7 @@ use num_complex::Complex64;
 mod gains;
 mod pair;
 mod setup;
+pub(crate) use setup::output_matrices;
 mod simulation;
 mod verdict;
 mod warnings;

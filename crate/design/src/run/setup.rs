@@ -114,7 +114,7 @@ impl<'a> Setup<'a> {
 }
 
 /// C and D of the plant (zero-row matrices without outputs; D zero when left out).
-pub(super) fn output_matrices(plant: &Plant) -> (DMatrix<f64>, DMatrix<f64>) {
+pub(crate) fn output_matrices(plant: &Plant) -> (DMatrix<f64>, DMatrix<f64>) {
     let (n, m) = (plant.states(), plant.inputs());
     match (plant.c(), plant.d()) {
         (Some(c), Some(d)) => (c.clone(), d.clone()),
