@@ -176,6 +176,24 @@ const saveDesign = guarded(() => {
   savedText = text;
   byId('pw-file-status').textContent = `Saved as ${link.download} (in the browser's download folder).`;
 });
+const exportFiles = guarded(() => {
+  const format = byId('pw-export-format').value;
+  const precision = byId('pw-export-precision').value;
+  const answer = export_files(format, precision);
+  if (typeof answer === 'string') {
+    byId('pw-export-status').textContent = answer;
+    return;
+  }
+  for (const file of answer) {
+    const link = document.createElement('a');
+    link.href = `data:text/plain;charset=utf-8,${encodeURIComponent(file.contents)}`;
+    link.download = file.name;
+    document.body.appendChild(link);
+    link.click();
+    link.remove();
+  }
+  byId('pw-export-status').textContent = `Exported ${answer.map((f) => f.name).join(', ')} (in the browser's download folder).`;
+});
 const openText = guarded((text, name) => {
   const problem = open_document(text, name);
   if (!problem) {
@@ -237,6 +255,7 @@ document.addEventListener('keydown', (e) => {
   e.preventDefault();
 });
 byId('pw-save').addEventListener('click', saveDesign);
+byId('pw-export').addEventListener('click', exportFiles);
 byId('pw-open-file').addEventListener('change', (e) => {
   openFile(e.target.files[0]);
   e.target.value = '';

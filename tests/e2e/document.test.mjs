@@ -6,6 +6,9 @@
 
 import assert from 'node:assert/strict';
 import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { execFileSync } from 'node:child_process';
 import { after, before, describe, test } from 'node:test';
 import { closeBrowser, distDir, FORM_FIELDS, pageFileUrl, requireBuiltPage, startStaticServer, withPage } from './harness.mjs';
 
@@ -194,4 +197,41 @@ describe('design document', () => {
       assert.deepEqual(await fieldValues(page), loaded);
     });
   });
+
+  test('the Export panel downloads what the command-line tool writes, byte for byte', async () => {
+    const root = path.resolve(path.dirname(new URL(import.meta.url).pathname), '..', '..');
+    // The same build as the page's: the release CLI (built here if missing).
+    execFileSync('cargo', ['build', '--release', '-q', '-p', 'polewright', '--bin', 'polewright'], { cwd: root, stdio: 'inherit' });
+    const cli = path.join(root, 'target', 'release', 'polewright');
+    await withPage(pageFileUrl, async ({ page, requests, url }) => {
+      await waitDesigned(page);
+      await page.selectOption('#pw-demo', '1');
+      await page.click('#pw-load-demo');
+      await waitDesigned(page);
+      const saved = await saveDownload(page);
+      const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'pw-export-'));
+      fs.writeFileSync(path.join(dir, 'design.json'), saved);
+      for (const [format, precision, count] of [['c', 'double', 2], ['c', 'float', 2], ['json', 'double', 1], ['csv', 'double', 1], ['rust', 'double', 1]]) {
+        await page.selectOption('#pw-export-format', format);
+        await page.selectOption('#pw-export-precision', precision);
+        const downloads = [];
+        page.on('download', (d) => downloads.push(d));
+        await page.click('#pw-export');
+        await page.waitForFunction(() => document.getElementById('pw-export-status').textContent.startsWith('Exported'));
+        while (downloads.length < count) await new Promise((r) => setTimeout(r, 50));
+        page.removeAllListeners('download');
+        const out = path.join(dir, `${format}-${precision}`);
+        execFileSync(cli, ['export', path.join(dir, 'design.json'), '--format', format, '--precision', precision, '--out', out], { stdio: 'pipe' });
+        for (const d of downloads) {
+          const got = fs.readFileSync(await d.path(), 'utf8');
+          const want = fs.readFileSync(path.join(out, d.suggestedFilename()), 'utf8');
+          assert.equal(got, want, `${format}/${precision}: ${d.suggestedFilename()} differs from the CLI's`);
+        }
+        assert.equal(downloads.length, count, `${format}: ${downloads.map((d) => d.suggestedFilename())}`);
+      }
+      assert.deepEqual(requests, [url], 'nothing but the page itself was requested');
+      fs.rmSync(dir, { recursive: true, force: true });
+    });
+  });
 });
+

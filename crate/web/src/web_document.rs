@@ -71,6 +71,34 @@ pub fn document_text() -> Result<String, JsValue> {
     write_design(&spec).map_err(|e| js_err("save", e))
 }
 
+/// The export files of the design on the page, made from its document text exactly as
+/// `polewright export` makes them from the saved file: an array of `{name, contents}`, or a
+/// string saying why not (naming the field).
+#[wasm_bindgen]
+pub fn export_files(format: &str, precision: &str) -> Result<JsValue, JsValue> {
+    use crate::design::export::{export_text, ExportFailure, ExportFormat, Precision};
+    let (Some(format), Some(precision)) = (ExportFormat::parse(format), Precision::parse(precision)) else {
+        return Ok(JsValue::from_str("Choose a format and a number type."));
+    };
+    let text = match document_text() {
+        Ok(t) => t,
+        Err(_) => return Ok(JsValue::from_str("The form has errors: correct the fields marked in red, then export.")),
+    };
+    match export_text(&text, format, precision) {
+        Ok(files) => {
+            #[derive(serde::Serialize)]
+            struct File {
+                name: String,
+                contents: String,
+            }
+            let list: Vec<File> = files.into_iter().map(|f| File { name: f.name, contents: f.contents }).collect();
+            serde_wasm_bindgen::to_value(&list).map_err(|e| js_err("export", e.to_string()))
+        }
+        Err(ExportFailure::Design(e)) => Ok(JsValue::from_str(&format!("Not exported: {e}"))),
+        Err(ExportFailure::Export(e)) => Ok(JsValue::from_str(&format!("Not exported: {e}"))),
+    }
+}
+
 /// Opens a design file's text: everything is checked first; on any problem the page is left
 /// as it was and the message (naming the field) is returned. An empty string means opened.
 #[wasm_bindgen]
