@@ -304,3 +304,28 @@ fn the_exported_numbers_are_the_results() {
     assert_eq!(hash(&a[0].contents), hash(&b[0].contents));
     assert_eq!(hash(&a[0].contents).len(), 64);
 }
+
+#[test]
+fn float32_recheck_flags_poles_near_one_at_fast_sampling() {
+    // A lightly damped plant (ζ = 0.05 at 1 rad/s) with an observer, sampled at 10 MHz: the
+    // observer's model Φ = e^{AT} has entries within 1e-7 of 0 and 1, and float32 (spacing 6e-8
+    // near 1) moves an observer pole out of the unit circle (the closed form of the rounding
+    // of such a rotation is checked in crate/core/src/tests/precision.rs). At 1 kHz the same
+    // design keeps its damping to 0.1 %.
+    let doc = |t: &str| {
+        format!(
+            r#"{{"format": "polewright.design", "version": 3, "plant": {{"a": [[0, 1], [-1, -0.1]], "b": [[0], [1]], "c": [[1, 0]]}},
+               "feedback": {{"poles": ["-0.02±1j"]}}, "implementation": {{"sample_time": {t}}}, "observer": {{"speed_factor": 2}},
+               "simulation": {{"duration": 0.001}}}}"#
+        )
+    };
+    let fast = polewright::design::run_text(&doc("1e-7")).unwrap();
+    let fp = fast.finite_precision.as_ref().expect("digital designs are re-checked");
+    let observer = fp.loops.iter().find(|l| l.name == "observer").unwrap();
+    assert!(!observer.stable, "{observer:?}");
+    assert!(fast.warnings.iter().any(|w| w.code == "float32-sensitive"), "{:?}", fast.warnings);
+    let slow = polewright::design::run_text(&doc("1e-3")).unwrap();
+    let fp = slow.finite_precision.as_ref().unwrap();
+    assert!(fp.loops.iter().all(|l| l.stable && l.worst_damping_fraction > 0.999), "{fp:?}");
+    assert!(!slow.warnings.iter().any(|w| w.code == "float32-sensitive"));
+}

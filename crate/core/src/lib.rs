@@ -17,6 +17,7 @@ pub mod place;
 pub mod plane;
 pub mod plant;
 pub mod poles;
+pub mod precision;
 pub mod riccati;
 pub mod search;
 pub mod simulate;

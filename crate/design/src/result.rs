@@ -59,6 +59,8 @@ pub struct DesignResult {
     /// LQR as a way of choosing poles.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub lqr: Option<LqrResult>,
+    /// The float32 re-check (digital designs).
+    pub finite_precision: Option<FinitePrecisionResult>,
     /// The start of the next design of a session (not written to the result file).
     #[serde(skip)]
     pub continuation: crate::Continuation,
@@ -151,6 +153,27 @@ pub struct ObserverResult {
 pub enum TrackingResult {
     Feedforward { outputs: Vec<String>, nx: Vec<Vec<f64>>, nu: Vec<Vec<f64>> },
     Integral { outputs: Vec<String>, state_gain: Vec<Vec<f64>>, integral_gain: Vec<Vec<f64>>, anti_windup: crate::spec::AntiWindupMode, time_constant: Option<f64> },
+}
+
+/// The float32 re-check of a digital design ([`crate::precision`]).
+#[derive(Debug, Clone, Serialize)]
+pub struct FinitePrecisionResult {
+    /// `"float32"`.
+    pub number_format: &'static str,
+    pub loops: Vec<LoopPrecision>,
+}
+
+/// One loop of the re-check: `"controller"` (the plant with the gains rounded) or
+/// `"observer"` (the observer's model, gain and outputs rounded).
+#[derive(Debug, Clone, Serialize)]
+pub struct LoopPrecision {
+    pub name: &'static str,
+    pub max_pole_move: f64,
+    /// Smallest `ζ_rounded / ζ_designed` over the complex poles.
+    pub worst_damping_fraction: f64,
+    pub stable: bool,
+    /// `[designed, rounded]` per pole.
+    pub poles: Vec<[Pair; 2]>,
 }
 
 #[derive(Debug, Clone, Serialize)]

@@ -142,6 +142,7 @@ mod ids {
     pub const CONTROLLER_DOMAIN: &str = "pw-controller-domain";
     pub const CONTROLLER_LAW: &str = "pw-controller-law";
     pub const SAMPLE_RATE: &str = "pw-sample-rate";
+    pub const PRECISION: &str = "pw-precision";
     pub const DELAY_GAIN: &str = "pw-delay-gain";
     pub const TRACKING_GAINS: &str = "pw-tracking-gains";
     pub const TRACKING_NOTE: &str = "pw-tracking-note";

@@ -284,6 +284,7 @@ pub(crate) fn render_controller(doc: &Document, page: &mut PageState, c: Option<
         let lines: Vec<Element> = c.law.iter().map(|l| make(doc, "li", Some(l))).collect::<Result<_, _>>()?;
         fill(doc, ids::CONTROLLER_LAW, &lines)?;
         set_text_or_hide(doc, ids::SAMPLE_RATE, c.sample_rate.as_deref())?;
+        set_text_or_hide(doc, ids::PRECISION, c.precision.as_deref())?;
         fill_matrices(doc, ids::DELAY_GAIN, &c.delay_gain.iter().collect::<Vec<_>>())?;
         fill_matrices(doc, ids::TRACKING_GAINS, &c.tracking.iter().collect::<Vec<_>>())?;
         set_text_or_hide(doc, ids::TRACKING_NOTE, c.tracking_note.as_deref())?;

@@ -71,6 +71,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     let g = gains::gains(&s, &dp)?;
     independent_verdict(&s, &dp, &g)?;
     let advice = s.t.map(|t| crate::controller::sample_rate_advice(&s.to_s(&dp.base_poles), t));
+    let finite_precision = s.t.and_then(|t| finite_precision(&s, &dp, &g, t));
     let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
     let mut warnings = warnings::requested_pole_warnings(&s, &dp, anorm);
     warnings.extend(warnings::placement_warnings(&s, &g, &analysis));
@@ -83,6 +84,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         warnings.extend(warnings::loop_warnings(l, req.band));
     }
     warnings.extend(warnings::choice_warnings(&s, &dp, &g));
+    warnings.extend(finite_precision.as_ref().and_then(warnings::precision_warning));
     let t = s.t;
     let result = DesignResult {
         format: RESULT_FORMAT,
@@ -113,10 +115,40 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
             region: c.region.as_ref().map(|r| RegionResult { min_damping: r.min_damping, min_decay_rate: r.min_decay_rate, natural_frequency: r.natural_frequency }),
         }),
         lqr: dp.lqr.as_ref().map(|d| lqr_result(spec, d)),
+        finite_precision,
         continuation: crate::Continuation { feedback: g.placement.eigenvectors.clone(), observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()) },
     };
     verdict::finite(&result)?;
     Ok(result)
+}
+
+/// The float32 re-check ([`crate::precision`]) of the controller loop (the gains rounded) and
+/// the observer (its model `Φ`, gain and output matrix rounded); `None` when an eigenvalue
+/// computation fails (the design itself has already been judged).
+fn finite_precision(s: &setup::Setup, dp: &pair::DesignPair, g: &gains::Gains, t: f64) -> Option<FinitePrecisionResult> {
+    use crate::precision::{recheck, round_to_f32};
+    let gain = &g.placement.gain;
+    let exact = &dp.da - &dp.db * gain;
+    let rounded = &dp.da - &dp.db * round_to_f32(gain);
+    let mut loops = vec![("controller", recheck(&exact, &rounded, t).ok()?)];
+    if let (Some((od, _, _)), Some(c)) = (&g.observer, s.plant.c()) {
+        let exact = &s.ad - &od.gain * c;
+        let rounded = round_to_f32(&s.ad) - round_to_f32(&od.gain) * round_to_f32(c);
+        loops.push(("observer", recheck(&exact, &rounded, t).ok()?));
+    }
+    Some(FinitePrecisionResult {
+        number_format: "float32",
+        loops: loops
+            .into_iter()
+            .map(|(name, ch)| LoopPrecision {
+                name,
+                max_pole_move: ch.max_distance,
+                worst_damping_fraction: ch.worst_damping_fraction,
+                stable: ch.stable || !ch.designed_stable,
+                poles: ch.poles.iter().map(|p| [pair(p.designed), pair(p.rounded)]).collect(),
+            })
+            .collect(),
+    })
 }
 
 /// The closed loop and the observer, judged by routes independent of placement

@@ -289,3 +289,31 @@ fn branch_warning(branch: &crate::place::Branch, what: &str, source: &str) -> Op
         )),
     }
 }
+
+/// Damping kept under float32 rounding below which the `float32-sensitive` caution is given.
+pub const FLOAT32_DAMPING_FRACTION: f64 = 0.9;
+
+/// The `float32-sensitive` caution of the re-check, when a loop needs it.
+pub(super) fn precision_warning(fp: &crate::result::FinitePrecisionResult) -> Option<Warning> {
+    let bad: Vec<String> = fp
+        .loops
+        .iter()
+        .filter(|l| !l.stable || l.worst_damping_fraction < FLOAT32_DAMPING_FRACTION)
+        .map(|l| {
+            if l.stable {
+                format!("the {} poles move by up to {} and a damping ratio falls to {} % of its design value", l.name, fmt_num(l.max_pole_move), fmt_num(100.0 * l.worst_damping_fraction))
+            } else {
+                format!("one {} pole leaves the unit circle (poles move by up to {})", l.name, fmt_num(l.max_pole_move))
+            }
+        })
+        .collect();
+    (!bad.is_empty()).then(|| {
+        Warning::new(
+            WarningCode::Float32Sensitive,
+            format!(
+                "Stored as float32, {}: poles close to z = 1 (fast sampling against the loop's speed) are sensitive to coefficient rounding (Middleton & Goodwin, IEEE TAC 31(11), 1986). Export double precision, sample more slowly, or use a delta-operator implementation.",
+                bad.join("; ")
+            ),
+        )
+    })
+}

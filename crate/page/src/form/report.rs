@@ -126,6 +126,8 @@ pub struct ControllerReport {
     pub domain: String,
     /// The sample-rate advice sentence (digital designs).
     pub sample_rate: Option<String>,
+    /// The float32 re-check in one sentence (digital designs).
+    pub precision: Option<String>,
     /// `K_u` on the previous input (computation delay).
     pub delay_gain: Option<MatrixTable>,
     /// `N_x`, `N_u` (feedforward) or `K_i` (integral action).
@@ -932,6 +934,7 @@ pub(crate) fn controller_report(result: &DesignResult, context: &ReportContext) 
         law: law_lines(result),
         domain,
         sample_rate: result.sample_rate.as_ref().map(|a| a.message.clone()),
+        precision: result.finite_precision.as_ref().map(precision_sentence),
         delay_gain,
         tracking,
         tracking_note,
@@ -1118,3 +1121,21 @@ pub(crate) fn loop_parts(result: &DesignResult, context: &ReportContext) -> Loop
     parts_out
 }
 
+/// The float32 re-check in one sentence: per loop, how far the poles move and how much damping
+/// they keep.
+pub fn precision_sentence(fp: &crate::design::FinitePrecisionResult) -> String {
+    let parts: Vec<String> = fp
+        .loops
+        .iter()
+        .map(|l| {
+            format!(
+                "{} poles move by at most {}{}{}",
+                l.name,
+                fmt_num(l.max_pole_move),
+                if l.worst_damping_fraction < 1.0 { format!(", damping kept to {} %", fmt_num(100.0 * l.worst_damping_fraction)) } else { String::new() },
+                if l.stable { "" } else { ", and one leaves the unit circle" }
+            )
+        })
+        .collect();
+    format!("Float32 re-check (the numbers rounded as a float export stores them): {}.", parts.join("; "))
+}
