@@ -137,7 +137,7 @@ def main(argv: list[str]) -> int:
     try:
         html = assemble(
             (args.site / "index.html").read_text(encoding="utf-8"),
-            (args.site / "style.css").read_text(encoding="utf-8"),
+            (args.site / "style.css").read_text(encoding="utf-8") + "\n" + (args.site / "record.css").read_text(encoding="utf-8"),
             (args.site / "app.js").read_text(encoding="utf-8"),
             args.glue.read_text(encoding="utf-8"),
             args.wasm.read_bytes(),

@@ -194,6 +194,17 @@ const exportFiles = guarded(() => {
   }
   byId('pw-export-status').textContent = `Exported ${answer.map((f) => f.name).join(', ')} (in the browser's download folder).`;
 });
+const printRecord = guarded(() => {
+  const answer = record_fragment_html(new Date().toISOString().slice(0, 10));
+  if (answer.startsWith('Not ')) {
+    byId('pw-export-status').textContent = answer;
+    return;
+  }
+  byId('pw-record').innerHTML = answer;
+  document.body.classList.add('printing-record');
+  window.print();
+});
+window.addEventListener('afterprint', () => document.body.classList.remove('printing-record'));
 const openText = guarded((text, name) => {
   const problem = open_document(text, name);
   if (!problem) {
@@ -256,6 +267,7 @@ document.addEventListener('keydown', (e) => {
 });
 byId('pw-save').addEventListener('click', saveDesign);
 byId('pw-export').addEventListener('click', exportFiles);
+byId('pw-print-record').addEventListener('click', printRecord);
 byId('pw-open-file').addEventListener('change', (e) => {
   openFile(e.target.files[0]);
   e.target.value = '';

@@ -233,5 +233,60 @@ describe('design document', () => {
       fs.rmSync(dir, { recursive: true, force: true });
     });
   });
+
+  test('the design record: printed from the page and by the CLI, two A4 pages with the gains, the hash and the sign-off', async () => {
+    const root = path.resolve(path.dirname(new URL(import.meta.url).pathname), '..', '..');
+    execFileSync('cargo', ['build', '--release', '-q', '-p', 'polewright', '--bin', 'polewright'], { cwd: root, stdio: 'inherit' });
+    const cli = path.join(root, 'target', 'release', 'polewright');
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'pw-record-'));
+    const pdfText = (pdf) => execFileSync('pdftotext', ['-layout', pdf, '-'], { encoding: 'utf8' });
+    const pages = (pdf) => Number(/Pages:\s+(\d+)/.exec(execFileSync('pdfinfo', [pdf], { encoding: 'utf8' }))[1]);
+    // The CLI's record of the illustrative digital belt axis, rendered by Chromium's own
+    // --print-to-pdf.
+    const example = path.join(root, 'examples', 'belt-axis-digital.json');
+    const html = execFileSync(cli, ['report', example], { encoding: 'utf8' });
+    fs.writeFileSync(path.join(dir, 'record.html'), html);
+    const cliPdf = path.join(dir, 'cli.pdf');
+    execFileSync('/usr/bin/chromium', ['--headless', '--no-sandbox', '--disable-gpu', '--no-pdf-header-footer', `--print-to-pdf=${cliPdf}`, `file://${path.join(dir, 'record.html')}`], { stdio: 'ignore' });
+    const result = JSON.parse(execFileSync(cli, ['design', example], { encoding: 'utf8' }));
+    const k0 = result.feedback.gain[0][0].toExponential(6).replace('e+', 'e');
+    const text = pdfText(cliPdf);
+    assert.ok(pages(cliPdf) <= 2, `the record has ${pages(cliPdf)} pages`);
+    for (const needle of ['Design record', 'Sign-off', 'Designed by', 'Checked by', 'CAUTION', 'SHA-256', k0, 'Float32 re-check']) {
+      assert.ok(text.includes(needle), `the record shows ${needle}`);
+    }
+    // The page prints the same record (its own print layout).
+    await withPage(pageFileUrl, async ({ page, requests, url }) => {
+      await waitDesigned(page);
+      const doc = fs.readFileSync(example, 'utf8');
+      await page.setInputFiles('#pw-open-file', { name: 'belt.json', mimeType: 'application/json', buffer: Buffer.from(doc) });
+      await page.waitForFunction(() => document.getElementById('pw-file-status').textContent.startsWith('Opened'));
+      await waitDesigned(page);
+      await page.evaluate(() => { window.print = () => {}; });
+      await page.click('#pw-print-record');
+      await page.emulateMedia({ media: 'print' });
+      const pagePdf = path.join(dir, 'page.pdf');
+      await page.pdf({ path: pagePdf, format: 'A4' });
+      const shown = pdfText(pagePdf);
+      assert.ok(pages(pagePdf) <= 2, `the page's record has ${pages(pagePdf)} pages`);
+      for (const needle of ['Design record', 'Sign-off', k0, 'SHA-256']) assert.ok(shown.includes(needle), `the printed page shows ${needle}`);
+      assert.ok(!shown.includes('Export for firmware'), 'only the record is printed');
+      assert.deepEqual(requests, [url]);
+    });
+    // Hostile text in the record is shown, never run.
+    const hostile = JSON.parse(fs.readFileSync(example, 'utf8'));
+    hostile.version = 3;
+    hostile.notes = hostile.comment;
+    delete hostile.comment;
+    hostile.title = "<script>document.title='run'</script><img src=x onerror=\"document.title='run'\">";
+    fs.writeFileSync(path.join(dir, 'hostile.json'), JSON.stringify(hostile));
+    fs.writeFileSync(path.join(dir, 'hostile.html'), execFileSync(cli, ['report', path.join(dir, 'hostile.json')], { encoding: 'utf8' }));
+    await withPage(`file://${path.join(dir, 'hostile.html')}`, async ({ page }) => {
+      assert.notEqual(await page.title(), 'run');
+      assert.match(await page.textContent('h1'), /<script>/, 'the title is shown as text');
+      assert.equal(await page.evaluate(() => document.querySelectorAll('script, img').length), 0);
+    }, { waitReady: false });
+    fs.rmSync(dir, { recursive: true, force: true });
+  });
 });
 

@@ -28,6 +28,10 @@ USAGE:
                                     with a header (order of states, sign convention, sample
                                     time, limits, tool version, SHA-256 of the document).
                                     Written to DIR, or to standard output
+    polewright report FILE.json > record.html
+                                    the printable design record (standalone HTML, no script):
+                                    plant, pole choice, every gain, the checks with their
+                                    figures, exported files' hashes, a sign-off block
     polewright --help | --version
 
 DESIGN FILE (JSON, format \"polewright.design\", version 1):
@@ -92,6 +96,7 @@ fn run(args: &[String]) -> ExitCode {
         Some("serve") => serve_command(&args[1..]),
         Some("compare") => compare_command(&args[1..]),
         Some("export") => export_command(&args[1..]),
+        Some("report") => report_command(&args[1..]),
         Some(other) => {
             eprintln!("polewright: unknown command \"{other}\"; try `polewright --help`");
             ExitCode::from(2)
@@ -235,6 +240,49 @@ fn export_command(args: &[String]) -> ExitCode {
         }
     }
     ExitCode::SUCCESS
+}
+
+/// Today's date (UTC) as `YYYY-MM-DD` (civil-from-days, Hinnant's algorithm; from memory).
+fn utc_date_today() -> String {
+    let secs = std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH).map_or(0, |d| d.as_secs());
+    let z = (secs / 86_400) as i64 + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z - era * 146_097;
+    let yoe = (doe - doe / 1_460 + doe / 36_524 - doe / 146_096) / 365;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = doy - (153 * mp + 2) / 5 + 1;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 };
+    let y = yoe + era * 400 + i64::from(m <= 2);
+    format!("{y:04}-{m:02}-{d:02}")
+}
+
+/// `report FILE`: the standalone design record (HTML) on standard output.
+fn report_command(args: &[String]) -> ExitCode {
+    let [source] = args else {
+        eprintln!("polewright: `report` takes one argument, a design file or - for standard input");
+        return ExitCode::from(2);
+    };
+    let text = match read_source(source) {
+        Ok(t) => t,
+        Err(code) => return code,
+    };
+    match design::export::record::record_from_text(&text, &utc_date_today(), true) {
+        Ok(html) => {
+            if write!(std::io::stdout().lock(), "{html}").is_err() {
+                return ExitCode::from(1);
+            }
+            ExitCode::SUCCESS
+        }
+        Err(DesignError::Input(e)) => {
+            eprintln!("polewright: invalid input: {e}");
+            ExitCode::from(2)
+        }
+        Err(DesignError::Infeasible { message }) => {
+            eprintln!("polewright: the design cannot be done as asked: {message}");
+            ExitCode::from(1)
+        }
+    }
 }
 
 fn design_command(args: &[String]) -> ExitCode {

@@ -99,6 +99,18 @@ pub fn export_files(format: &str, precision: &str) -> Result<JsValue, JsValue> {
     }
 }
 
+/// The design record of the page's design as an HTML fragment (all design text escaped), the
+/// same as `polewright report` writes, dated `date`; or a sentence starting "Not " saying why.
+#[wasm_bindgen]
+pub fn record_fragment_html(date: &str) -> Result<String, JsValue> {
+    let text = match document_text() {
+        Ok(t) => t,
+        Err(_) => return Ok("Not printed: the form has errors; correct the fields marked in red first.".into()),
+    };
+    let date: String = date.chars().filter(|c| c.is_ascii_digit() || *c == '-').take(10).collect();
+    Ok(crate::design::export::record::record_from_text(&text, &date, false).unwrap_or_else(|e| format!("Not printed: {e}")))
+}
+
 /// Opens a design file's text: everything is checked first; on any problem the page is left
 /// as it was and the message (naming the field) is returned. An empty string means opened.
 #[wasm_bindgen]

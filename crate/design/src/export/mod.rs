@@ -12,6 +12,7 @@
 
 mod c;
 mod header;
+pub mod record;
 pub mod text;
 mod vectors;
 
