@@ -178,6 +178,7 @@ fn check_values(doc: &str, run: &Run, precision: Precision, tag: &str) {
             let expected = match precision {
                 Precision::Double => *w,
                 Precision::Float => (*w as f32) as f64,
+                Precision::Q15 | Precision::Q31 => unreachable!("floating-point exports only here"),
             };
             assert_eq!(got, expected, "{tag}: {name}[{i}]");
         }
@@ -213,6 +214,7 @@ fn c_export_compiles_prints_the_design_and_reproduces_the_simulation() {
                     let tol = match precision {
                         Precision::Double => 1e-12,
                         Precision::Float => 1e-3,
+                        Precision::Q15 | Precision::Q31 => unreachable!("floating-point exports only here"),
                     };
                     eprintln!("{label}: {rows} samples, command error {:.1e} (of {cmd_scale:.3}), estimate {:.1e}, integrator {:.1e}", cmd_err / cmd_scale.max(1e-300), est_err / est_scale.max(1e-300), z_err / z_scale.max(1e-300));
                     assert!(cmd_err <= tol * cmd_scale.max(1e-12), "{label}: command error {cmd_err:e} of {cmd_scale}");
@@ -328,4 +330,38 @@ fn float32_recheck_flags_poles_near_one_at_fast_sampling() {
     let fp = slow.finite_precision.as_ref().unwrap();
     assert!(fp.loops.iter().all(|l| l.stable && l.worst_damping_fraction > 0.999), "{fp:?}");
     assert!(!slow.warnings.iter().any(|w| w.code == "float32-sensitive"));
+}
+
+#[test]
+fn fixed_point_exports_compile_and_stand_for_the_design() {
+    // Q15 and Q31 integers with one shift per matrix: each stands for its design value within
+    // half a step (2^(shift − f − 1)); the C compiles with -Werror -pedantic. The closed loop
+    // of the quantised numbers is checked against numpy by tests/oracle/check_fixed_point.py.
+    let doc = DELAY_CURRENT;
+    let exact = design_values(doc);
+    for (precision, f) in [(Precision::Q15, 15), (Precision::Q31, 31)] {
+        let json = export_text(doc, ExportFormat::Json, precision).unwrap();
+        let v: serde_json::Value = serde_json::from_str(&json[0].contents).unwrap();
+        for (name, data) in &exact {
+            let m = v["matrices"].as_object().unwrap().iter().find(|(k, _)| k.to_uppercase() == *name).unwrap().1;
+            let shift = m["shift"].as_i64().unwrap() as i32;
+            let ints: Vec<f64> = m["integers"].as_array().unwrap().iter().flat_map(|r| r.as_array().unwrap().iter().map(|x| x.as_f64().unwrap())).collect();
+            let step = 2f64.powi(shift - f);
+            let largest = data.iter().fold(0.0f64, |a, x| a.max(x.abs()));
+            for (q, w) in ints.iter().zip(data) {
+                let w = if w.abs() <= 1e-12 * largest { 0.0 } else { *w };
+                assert!((q * step - w).abs() <= step / 2.0 + 1e-300, "{precision:?} {name}: {q} × {step} vs {w}");
+            }
+        }
+        let dir = scratch(&format!("{precision:?}"));
+        write_all(&dir, &export_text(doc, ExportFormat::C, precision).unwrap());
+        gcc(&dir, &["-c", "polewright_controller.c", "-o", "controller.o"]);
+        let _ = std::fs::remove_dir_all(&dir);
+    }
+    // A dynamic range the format cannot hold with one shift is refused, naming the entry.
+    let belt = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples/belt-axis-digital.json")).unwrap();
+    match export_text(&belt, ExportFormat::C, Precision::Q15) {
+        Err(polewright::design::export::ExportFailure::Export(e)) => assert!(e.to_string().contains("below the resolution of Q15"), "{e}"),
+        other => panic!("{other:?}"),
+    }
 }

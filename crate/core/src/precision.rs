@@ -18,8 +18,13 @@
 //! # Cost
 //! Two `O(n³)` eigenvalue computations.
 //!
+//! Fixed point ([`quantise`]): each matrix in `Q15` or `Q31` with one power-of-two shift, the
+//! smallest that keeps its largest entry within full scale (common practice for fixed-point
+//! coefficient storage).
+//!
 //! # Failure modes
-//! An eigenvalue iteration that does not converge: [`EigenError`].
+//! An eigenvalue iteration that does not converge: [`EigenError`]; a matrix whose entries span
+//! more than the format can hold with one shift: [`QuantiseError`].
 
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -108,6 +113,83 @@ pub fn recheck(exact: &DMatrix<f64>, rounded: &DMatrix<f64>, t: f64) -> Result<P
         designed_stable: poles.iter().all(|p| p.designed.norm() < 1.0),
         poles,
     })
+}
+
+/// A matrix in a signed fixed-point format `Q(bits−1)` with one power-of-two shift: entry
+/// `(i, j)` is `ints[(i, j)] · 2^(shift − (bits − 1))`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct QMatrix {
+    pub bits: u32,
+    pub shift: i32,
+    /// Row-major integers, each in `[−2^(bits−1), 2^(bits−1) − 1]`.
+    pub ints: Vec<i64>,
+    /// The values the integers stand for.
+    pub values: DMatrix<f64>,
+}
+
+/// Why a matrix cannot be stored in a fixed-point format with one shift.
+#[derive(Debug, Clone, PartialEq)]
+pub enum QuantiseError {
+    /// A non-zero entry is below the format's resolution at the shift the largest entry needs,
+    /// so it would be stored as 0 (or with more than 1 % error).
+    BelowResolution { row: usize, col: usize, value: f64, largest: f64, bits: u32 },
+    /// An entry is not finite.
+    NotFinite,
+}
+
+impl std::fmt::Display for QuantiseError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            QuantiseError::BelowResolution { row, col, value, largest, bits } => write!(
+                f,
+                "entry ({}, {}) = {value:e} is below the resolution of Q{} at the scale of the matrix's largest entry ({largest:e}): it would be stored with more than 1 % error; use Q31 or floating point",
+                row + 1,
+                col + 1,
+                bits - 1
+            ),
+            QuantiseError::NotFinite => write!(f, "an entry is not finite"),
+        }
+    }
+}
+
+impl std::error::Error for QuantiseError {}
+
+/// Stores `m` in `Q(bits−1)` with the smallest power-of-two shift that keeps the largest entry
+/// within full scale (`1 − 2^−(bits−1)`): the headroom is the format's, and the shift is stated
+/// with the matrix. Rounding to nearest.
+///
+/// # Errors
+/// [`QuantiseError`] when an entry would lose more than 1 % (the matrix's dynamic range is too
+/// wide for the format with one shift); entries at or below `1e-12` of the largest count as
+/// rounding noise of a zero.
+pub fn quantise(m: &DMatrix<f64>, bits: u32) -> Result<QMatrix, QuantiseError> {
+    if m.iter().any(|v| !v.is_finite()) {
+        return Err(QuantiseError::NotFinite);
+    }
+    let frac = (bits - 1) as i32;
+    let one = 2f64.powi(frac);
+    let full = 1.0 - 1.0 / one;
+    let largest = m.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+    let shift = if largest > 0.0 { (largest / full).log2().ceil() as i32 } else { 0 };
+    let step = 2f64.powi(shift) / one;
+    let (lo, hi) = (-one, one - 1.0);
+    let mut ints = Vec::with_capacity(m.len());
+    let mut values = DMatrix::zeros(m.nrows(), m.ncols());
+    for i in 0..m.nrows() {
+        for j in 0..m.ncols() {
+            let v = m[(i, j)];
+            let q = (v / step).round().clamp(lo, hi);
+            let back = q * step;
+            // Entries at the rounding level of the matrix (≤ 1e-12 of its largest) are zeros
+            // computed inexactly, and stored as 0.
+            if v.abs() > 1e-12 * largest && !((back - v).abs() <= 0.01 * v.abs()) {
+                return Err(QuantiseError::BelowResolution { row: i, col: j, value: v, largest, bits });
+            }
+            ints.push(q as i64);
+            values[(i, j)] = back;
+        }
+    }
+    Ok(QMatrix { bits, shift, ints, values })
 }
 
 #[cfg(test)]

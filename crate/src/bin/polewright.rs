@@ -20,7 +20,7 @@ USAGE:
     polewright serve [FILE] [--port N]
                                     serve the page (default dist/polewright.html) on
                                     http://127.0.0.1:N/ (default port 8765) until stopped
-    polewright export FILE.json --format c|rust|json|csv|vectors [--precision double|float]
+    polewright export FILE.json --format c|rust|json|csv|vectors [--precision double|float|q15|q31]
                      [--out DIR]
                                     the designed controller for firmware: C99 header and source
                                     (matrices and one controller step), Rust constants, JSON,
@@ -154,7 +154,7 @@ fn write_json<T: serde::Serialize>(value: &T) -> ExitCode {
 /// `export FILE --format c|rust|json|csv|vectors [--precision double|float] [--out DIR]`.
 fn export_command(args: &[String]) -> ExitCode {
     use design::export::{export_text, ExportFailure, ExportFormat, Precision};
-    let usage = "polewright: `export` takes a design file (or -), --format c|rust|json|csv|vectors, and optionally --precision double|float and --out DIR";
+    let usage = "polewright: `export` takes a design file (or -), --format c|rust|json|csv|vectors, and optionally --precision double|float|q15|q31 and --out DIR";
     let (mut source, mut format, mut precision, mut out) = (None, None, Precision::Double, None);
     let mut it = args.iter();
     while let Some(a) = it.next() {
@@ -173,7 +173,7 @@ fn export_command(args: &[String]) -> ExitCode {
             "--precision" => match it.next().map(|v| (v, Precision::parse(v))) {
                 Some((_, Some(p))) => precision = p,
                 Some((v, None)) => {
-                    eprintln!("polewright: --precision \"{v}\" is not one of double, float");
+                    eprintln!("polewright: --precision \"{v}\" is not one of double, float, q15, q31");
                     return ExitCode::from(2);
                 }
                 None => {

@@ -34,3 +34,20 @@ fn a_rotation_keeps_its_form_and_its_rounded_poles_are_known() {
     assert!((check.worst_damping_fraction - 1.0).abs() < 1e-3, "{}", check.worst_damping_fraction);
     assert!(check.stable && check.designed_stable);
 }
+
+#[test]
+fn quantisation_keeps_full_scale_and_states_the_shift() {
+    // 3.7 needs a shift of 2 (3.7 / 4 < 1 − 2^−15); Q15 integers are round(v · 2^15 / 4).
+    let m = DMatrix::from_row_slice(1, 3, &[3.7, -0.01, 1.0]);
+    let q = quantise(&m, 16).unwrap();
+    assert_eq!(q.shift, 2);
+    assert_eq!(q.ints, vec![(3.7f64 * 8192.0).round() as i64, (-0.01f64 * 8192.0).round() as i64, 8192]);
+    assert!((q.values[(0, 0)] - 3.7).abs() <= 0.5 / 8192.0);
+    // A full-scale −1 uses the most negative integer; tiny matrices are scaled up.
+    let q = quantise(&DMatrix::from_row_slice(1, 2, &[1e-6, -2e-6]), 32).unwrap();
+    assert!(q.shift < -15, "{}", q.shift);
+    // A dynamic range beyond Q15 with one shift is refused with the entry named.
+    let e = quantise(&DMatrix::from_row_slice(1, 2, &[1000.0, 0.001]), 16).unwrap_err();
+    assert!(matches!(e, QuantiseError::BelowResolution { col: 1, .. }), "{e:?}");
+    assert!(quantise(&DMatrix::from_row_slice(1, 2, &[1000.0, 0.001]), 32).is_ok());
+}

@@ -22,15 +22,15 @@ fn comment(head: &[String]) -> String {
 
 fn real(precision: Precision) -> &'static str {
     match precision {
-        Precision::Double => "double",
         Precision::Float => "float",
+        _ => "double",
     }
 }
 
 fn literal(precision: Precision, v: f64) -> String {
     match precision {
-        Precision::Double => c_double(v),
         Precision::Float => c_float(v),
+        _ => c_double(v),
     }
 }
 

@@ -11,6 +11,7 @@
 //! literals or quoted CSV cells, escaped for each target ([`text`]); every identifier is generic.
 
 mod c;
+mod fixed;
 mod header;
 pub mod record;
 pub mod text;
@@ -61,6 +62,10 @@ pub enum Precision {
     Double,
     /// `float`, 9 significant digits with an `f` suffix (reads back to the nearest float32).
     Float,
+    /// 16-bit fixed point (Q15) with a power-of-two shift per matrix; coefficients only.
+    Q15,
+    /// 32-bit fixed point (Q31) with a power-of-two shift per matrix; coefficients only.
+    Q31,
 }
 
 impl Precision {
@@ -69,6 +74,8 @@ impl Precision {
         match text {
             "double" => Some(Precision::Double),
             "float" => Some(Precision::Float),
+            "q15" => Some(Precision::Q15),
+            "q31" => Some(Precision::Q31),
             _ => None,
         }
     }
@@ -255,7 +262,12 @@ fn rows_of(m: &DMatrix<f64>) -> Vec<Vec<f64>> {
 /// vectors of a continuous design, or of a design without a loop simulation).
 pub fn export(spec: &DesignSpec, design: &CheckedDesign, result: &DesignResult, format: ExportFormat, precision: Precision) -> Result<Vec<ExportFile>, ExportError> {
     let ctrl = controller(spec, design, result);
-    let head = header::lines(&ctrl);
+    let mut head = header::lines(&ctrl);
+    if let Precision::Q15 | Precision::Q31 = precision {
+        let f = fixed::fixed(&ctrl, if precision == Precision::Q15 { 16 } else { 32 })?;
+        head.extend(fixed::header(&f));
+        return fixed::files(&ctrl, &head, &f, format);
+    }
     Ok(match format {
         ExportFormat::C => c::files(&ctrl, &head, precision),
         ExportFormat::Rust => vec![ExportFile { name: "polewright_controller.rs".into(), contents: rust_constants(&ctrl, &head) }],
