@@ -256,7 +256,7 @@ describe('design document', () => {
       assert.ok(text.includes(needle), `the record shows ${needle}`);
     }
     // The page prints the same record (its own print layout).
-    await withPage(pageFileUrl, async ({ page, requests, url }) => {
+    await withPage(pageFileUrl, async ({ page, requests, url, consoleErrors, pageErrors }) => {
       await waitDesigned(page);
       const doc = fs.readFileSync(example, 'utf8');
       await page.setInputFiles('#pw-open-file', { name: 'belt.json', mimeType: 'application/json', buffer: Buffer.from(doc) });
@@ -271,6 +271,7 @@ describe('design document', () => {
       assert.ok(pages(pagePdf) <= 2, `the page's record has ${pages(pagePdf)} pages`);
       for (const needle of ['Design record', 'Sign-off', k0, 'SHA-256']) assert.ok(shown.includes(needle), `the printed page shows ${needle}`);
       assert.ok(!shown.includes('Export for firmware'), 'only the record is printed');
+      assert.deepEqual([...consoleErrors, ...pageErrors], [], 'no CSP violation or error while printing');
       assert.deepEqual(requests, [url]);
     });
     // Hostile text in the record is shown, never run.

@@ -90,6 +90,51 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
     rows
 }
 
+/// A small line plot as inline SVG (no script, no external reference): each series normalised to
+/// its own peak so that signals in different units share the axes; `title` says what is shown.
+fn svg_plot(title: &str, time: &[f64], series: &[(String, &[f64])]) -> String {
+    let (w, h, pad) = (340.0, 120.0, 4.0);
+    let t_end = time.last().copied().unwrap_or(1.0).max(f64::MIN_POSITIVE);
+    let colours = ["#1b6f8a", "#b5542c", "#4b7d2a", "#6b4fa0", "#8a6d1b", "#2a6b6b"];
+    let mut o = format!("<figure class=\"pw-rec-plot\"><svg xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 {w} {h}\" width=\"{w}\" height=\"{h}\" role=\"img\" aria-label=\"{}\">", esc(title));
+    o.push_str(&format!("<rect x=\"0\" y=\"0\" width=\"{w}\" height=\"{h}\" fill=\"none\" stroke=\"#999999\"/><line x1=\"0\" y1=\"{}\" x2=\"{w}\" y2=\"{}\" stroke=\"#cccccc\"/>", h / 2.0, h / 2.0));
+    for (k, (_, ys)) in series.iter().enumerate() {
+        let peak = ys.iter().fold(0.0f64, |a, v| a.max(v.abs())).max(f64::MIN_POSITIVE);
+        let stride = (ys.len() / 300).max(1);
+        let points: Vec<String> = ys
+            .iter()
+            .zip(time)
+            .step_by(stride)
+            .map(|(y, t)| format!("{:.1},{:.1}", pad + (w - 2.0 * pad) * t / t_end, h / 2.0 - (h / 2.0 - pad) * y / peak))
+            .collect();
+        o.push_str(&format!("<polyline fill=\"none\" stroke=\"{}\" stroke-width=\"1.2\" points=\"{}\"/>", colours[k % colours.len()], points.join(" ")));
+    }
+    o.push_str("</svg><figcaption>");
+    o.push_str(&esc(&format!("{title} (each signal divided by its own peak; 0 to {} s): ", fmt_num(t_end))));
+    let keys: Vec<String> = series.iter().enumerate().map(|(k, (n, ys))| format!("<svg class=\"pw-rec-key\" viewBox=\"0 0 10 10\" width=\"8\" height=\"8\"><rect width=\"10\" height=\"10\" fill=\"{}\"/></svg> {} (peak {})", colours[k % colours.len()], esc(n), esc(&fmt_num(ys.iter().fold(0.0f64, |a, v| a.max(v.abs())))))).collect();
+    o.push_str(&keys.join("; "));
+    o.push_str("</figcaption></figure>");
+    o
+}
+
+/// The key plots: the whole loop (tracked outputs and inputs) when simulated, else the free
+/// response (states and inputs).
+fn plots(result: &DesignResult) -> String {
+    let p = &result.plant;
+    if let Some(l) = &result.closed_loop {
+        let mut outs: Vec<(String, &[f64])> = p.output_names.iter().zip(&l.outputs).map(|(n, s)| (n.clone(), s.as_slice())).collect();
+        outs.truncate(3);
+        let ins: Vec<(String, &[f64])> = p.input_names.iter().zip(&l.inputs).map(|(n, s)| (format!("{n} (applied)"), s.as_slice())).collect();
+        format!("<div class=\"pw-rec-row\">{}{}</div>", svg_plot("Loop simulation: outputs", &l.time, &outs), svg_plot("Loop simulation: inputs", &l.time, &ins))
+    } else {
+        let s = &result.simulation;
+        let mut states: Vec<(String, &[f64])> = p.state_names.iter().zip(&s.states).map(|(n, x)| (n.clone(), x.as_slice())).collect();
+        states.truncate(4);
+        let ins: Vec<(String, &[f64])> = p.input_names.iter().zip(&s.inputs).map(|(n, x)| (n.clone(), x.as_slice())).collect();
+        format!("<div class=\"pw-rec-row\">{}{}</div>", svg_plot("Free response: states", &s.time, &states), svg_plot("Free response: inputs", &s.time, &ins))
+    }
+}
+
 /// SHA-256 (hex) of a text.
 fn sha(text: &str) -> String {
     Sha256::digest(text.as_bytes()).iter().map(|b| format!("{b:02x}")).collect()
@@ -158,6 +203,8 @@ pub fn record_fragment(spec: &DesignSpec, design: &CheckedDesign, result: &Desig
         o.push_str("</ul>");
     }
     o.push_str("</section>");
+    // Key plots.
+    o.push_str(&format!("<section><h2>Response</h2>{}</section>", plots(result)));
     // Exported files.
     o.push_str("<section><h2>Exported files (double precision)</h2><ul class=\"pw-rec-files\">");
     for format in [ExportFormat::C, ExportFormat::Json] {
