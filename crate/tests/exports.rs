@@ -128,9 +128,11 @@ fn compile_and_run(doc: &str, precision: Precision, tag: &str) -> Run {
     let prints: Vec<String> = header
         .lines()
         .filter_map(|l| l.strip_prefix("extern const pw_real PW_"))
+        .filter(|rest| !rest.starts_with("LIMIT["))
         .map(|rest| {
+            // Through the matrix instance: its rows × cols must cover the array, and its data is it.
             let name = rest.split('[').next().unwrap();
-            format!("print_matrix(\"{name}\", PW_{name}, (int)(sizeof PW_{name} / sizeof PW_{name}[0]));")
+            format!("if (PW_{name}_MATRIX.data != PW_{name} || (int)PW_{name}_MATRIX.rows * PW_{name}_MATRIX.cols != (int)(sizeof PW_{name} / sizeof PW_{name}[0])) return 3;\n    print_matrix(\"{name}\", PW_{name}_MATRIX.data, PW_{name}_MATRIX.rows * PW_{name}_MATRIX.cols);")
         })
         .collect();
     std::fs::write(dir.join("harness.c"), HARNESS.replace("MATRICES", &prints.join("\n    "))).unwrap();

@@ -52,7 +52,11 @@ fn header_file(c: &Controller, head: &[String], precision: Precision) -> String 
     for m in &c.matrices {
         out.push_str(&format!("/* {} */\n#define PW_{}_ROWS {}\n#define PW_{}_COLS {}\nextern const pw_real PW_{}[{}];\n\n", comment_line(m.description), ident(m), m.rows, ident(m), m.cols, ident(m), m.data.len()));
     }
-    out.push_str("/* Actuator limits: PW_HAS_LIMIT[i] is 1 when input i is limited to +/-PW_LIMIT[i]. */\nextern const int PW_HAS_LIMIT[PW_INPUTS];\nextern const pw_real PW_LIMIT[PW_INPUTS];\n\n");
+    out.push_str("/* Every matrix also as a matrix instance {rows, cols, data}, the layout embedded linear-algebra\n * libraries take (copy the fields into the library's own struct). */\ntypedef struct {\n    unsigned short rows;\n    unsigned short cols;\n    const pw_real *data;\n} pw_matrix;\n\n");
+    for m in &c.matrices {
+        out.push_str(&format!("extern const pw_matrix PW_{}_MATRIX;\n", ident(m)));
+    }
+    out.push_str("\n/* Actuator limits: PW_HAS_LIMIT[i] is 1 when input i is limited to +/-PW_LIMIT[i]. */\nextern const int PW_HAS_LIMIT[PW_INPUTS];\nextern const pw_real PW_LIMIT[PW_INPUTS];\n\n");
     if has_step(c) {
         out.push_str(&format!("#define PW_SAMPLE_TIME {}\n\n", literal(precision, c.sample_time.unwrap_or(0.0))));
         out.push_str(
@@ -81,7 +85,8 @@ fn source_file(c: &Controller, head: &[String], precision: Precision) -> String 
         for row in m.data.chunks(m.cols.max(1)) {
             out.push_str(&format!("    {},\n", row.iter().map(|v| literal(precision, *v)).collect::<Vec<_>>().join(", ")));
         }
-        out.push_str("};\n\n");
+        out.push_str("};\n");
+        out.push_str(&format!("const pw_matrix PW_{id}_MATRIX = {{ PW_{id}_ROWS, PW_{id}_COLS, PW_{id} }};\n\n", id = ident(m)));
     }
     out.push_str(&format!("const int PW_HAS_LIMIT[PW_INPUTS] = {{ {} }};\n", c.limits.iter().map(|l| if l.is_some() { "1" } else { "0" }).collect::<Vec<_>>().join(", ")));
     out.push_str(&format!("const pw_real PW_LIMIT[PW_INPUTS] = {{ {} }};\n\n", c.limits.iter().map(|l| literal(precision, l.unwrap_or(0.0))).collect::<Vec<_>>().join(", ")));
