@@ -228,6 +228,9 @@ fn c_export_compiles_prints_the_design_and_reproduces_the_simulation() {
             }
         }
     }
+    // A scenario that stays within the limits is scaled until an input saturates, and says so.
+    let v = export_text(DELAY_CURRENT, ExportFormat::Vectors, Precision::Double).unwrap();
+    assert!(v[0].contents.contains("saturation reached"), "{}", &v[0].contents[..1200]);
     // The saturating case says so in its vectors.
     let v = export_text(&saturating, ExportFormat::Vectors, Precision::Double).unwrap();
     assert!(v[0].contents.contains("saturation reached") && v[0].contents.contains("integrator active"), "{}", &v[0].contents[..600]);

@@ -3,7 +3,9 @@
 //! actuator limits; no measurement noise), recorded sample by sample as the controller sees
 //! it: the measurement and reference it reads, the integrator state it starts the sample with,
 //! the estimate it uses and the saturated command it returns. A firmware port that reproduces
-//! the commands runs the controller that was simulated.
+//! the commands runs the controller that was simulated. When the scenario stays within the
+//! actuator limits it is scaled so that the largest command reaches twice its limit (said in
+//! the file), so that the vectors exercise saturation.
 //!
 //! CSV (RFC 4180), the header lines first as `#`-led quoted cells, then one row per sample:
 //! `k, t, measurement…, reference…, integrator…, estimate…, command…`.
@@ -71,7 +73,22 @@ pub(super) fn file(c: &Controller, head: &[String], design: &CheckedDesign) -> R
         limits: c.limits.clone(),
         continuous_step: None,
     };
-    let lr = simulate_sampled_loop(&phi, &gamma, &cm, &dm, &ctrl, &scenario).map_err(|e| not_available(&e.to_string()))?;
+    let mut lr = simulate_sampled_loop(&phi, &gamma, &cm, &dm, &ctrl, &scenario).map_err(|e| not_available(&e.to_string()))?;
+    // Vectors should exercise saturation: when the design's own scenario stays within the
+    // limits, it is scaled (the loop is linear until an input saturates) so that the largest
+    // command reaches twice its limit, and the file says so.
+    let peak_ratio = (0..m).filter_map(|i| c.limits[i].map(|l| lr.commanded[i].iter().fold(0.0f64, |a, v| a.max(v.abs())) / l)).fold(0.0f64, f64::max);
+    let mut scaled = None;
+    if peak_ratio > 0.0 && peak_ratio <= 1.0 && peak_ratio.is_finite() {
+        let factor = 2.0 / peak_ratio;
+        let mut sc = scenario.clone();
+        sc.x0 *= factor;
+        sc.xhat0 = sc.xhat0.map(|x| x * factor);
+        sc.reference.iter_mut().for_each(|r| *r *= factor);
+        sc.disturbance.iter_mut().for_each(|w| *w *= factor);
+        lr = simulate_sampled_loop(&phi, &gamma, &cm, &dm, &ctrl, &sc).map_err(|e| not_available(&e.to_string()))?;
+        scaled = Some(factor);
+    }
     let measured: &Vec<Vec<f64>> = if c.observer_form.is_some() { &lr.measured } else { &lr.states };
     let samples = lr.time.len();
     let saturated = (0..samples).any(|k| (0..m).any(|i| c.limits[i].is_some_and(|l| lr.commanded[i][k].abs() > l)));
@@ -82,7 +99,8 @@ pub(super) fn file(c: &Controller, head: &[String], design: &CheckedDesign) -> R
         out.push_str("\r\n");
     }
     out.push_str(&csv_cell(&format!(
-        "# Test vectors: {samples} samples of the loop simulation with these numbers; saturation {}; integrator {}. Start from pw_controller_init (zero memory{}), feed measurement and reference of each row, expect its command (and estimate); the integrator column is the memory at the start of the sample.",
+        "# Test vectors: {samples} samples of the loop simulation with these numbers{}; saturation {}; integrator {}. Start from pw_controller_init (zero memory{}), feed measurement and reference of each row, expect its command (and estimate); the integrator column is the memory at the start of the sample.",
+        scaled.map_or(String::new(), |f| format!(" (the design's scenario — initial state, reference and load — scaled by {} so that an input reaches saturation)", crate::fmt_num(f))),
         if saturated { "reached" } else { "not reached" },
         match (c.tracking, c.anti_windup) {
             (Tracking::Integral, AntiWindup::Clamp) if integrating => "active (clamp anti-windup)",
