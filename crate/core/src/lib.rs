@@ -10,6 +10,7 @@ pub mod analysis;
 pub mod controller;
 pub mod linalg;
 pub mod loop_sim;
+pub mod margins;
 pub mod metrics;
 pub mod parse;
 pub mod patterns;

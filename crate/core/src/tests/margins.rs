@@ -1,0 +1,73 @@
+//! Unit tests of [`crate::margins`] on loops whose margins are known in closed form (derived by
+//! hand, stated beside each).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+
+use super::*;
+
+fn m(rows: usize, cols: usize, v: &[f64]) -> DMatrix<f64> {
+    DMatrix::from_row_slice(rows, cols, v)
+}
+
+#[test]
+fn first_order_loop() {
+    // L(s) = k/(s + a), a = 1, k = 3: |L| = 1 at ω_c = √(k² − a²) = √8; the phase there is
+    // −atan(ω_c/a), so PM = 180° − atan(√8) = 109.47°; the phase never reaches −180° (no gain
+    // margin); the delay margin is PM/ω_c. S − 1/2 = (s + a − k) / (2 (s + a + k)) has its
+    // largest modulus 1/2 as ω → ∞, so the disk margin (skew 0) is α = 2.
+    let l = state_feedback_loop(&m(1, 1, &[-1.0]), &m(1, 1, &[1.0]), &m(1, 1, &[3.0]), None);
+    let r = input_margins(&l, 0.0, 400).unwrap();
+    let wc = 8f64.sqrt();
+    let pm = 180.0 - wc.atan().to_degrees();
+    assert!((r.crossover.unwrap() - wc).abs() < 1e-9 * wc, "{:?}", r.crossover);
+    assert!((r.phase_margin_deg.unwrap() - pm).abs() < 1e-7, "{:?}", r.phase_margin_deg);
+    assert!((r.delay_margin.unwrap() - pm.to_radians() / wc).abs() < 1e-9, "{:?}", r.delay_margin);
+    assert!(r.gain_margin_high.is_none() && r.gain_margin_low.is_none());
+    assert!((r.disk_alpha - 2.0).abs() < 1e-3, "{}", r.disk_alpha);
+}
+
+#[test]
+fn third_order_lag_has_a_gain_margin() {
+    // L(s) = k/(s + 1)³, k = 2: the phase is −180° where 3 atan ω = 180°, ω = √3, and there
+    // |L| = k/8, so the gain margin is 8/k = 4; |L| = 1 at ω_c = √(2^{2/3} − 1), where the phase
+    // is −3 atan ω_c, so PM = 180° − 3 atan(ω_c).
+    let a = m(3, 3, &[-1.0, 1.0, 0.0, 0.0, -1.0, 1.0, 0.0, 0.0, -1.0]);
+    let b = m(3, 1, &[0.0, 0.0, 1.0]);
+    let l = state_feedback_loop(&a, &b, &m(1, 3, &[2.0, 0.0, 0.0]), None);
+    let r = input_margins(&l, 0.0, 400).unwrap();
+    assert!((r.gain_margin_high.unwrap() - 4.0).abs() < 1e-8, "{:?}", r.gain_margin_high);
+    let wc = (2f64.powf(2.0 / 3.0) - 1.0).sqrt();
+    assert!((r.crossover.unwrap() - wc).abs() < 1e-9, "{:?}", r.crossover);
+    assert!((r.phase_margin_deg.unwrap() - (180.0 - 3.0 * wc.atan().to_degrees())).abs() < 1e-7);
+    // The disk margin never promises more than the classical margins: its gain range lies
+    // within [0, 4] and its phase within the phase margin.
+    assert!(r.disk_gain_range[1] <= 4.0 + 1e-9 && r.disk_phase_deg <= r.phase_margin_deg.unwrap() + 1e-9, "{r:?}");
+}
+
+#[test]
+fn double_integrator_under_state_feedback() {
+    // K = [1, √2] on ẍ = u: L(s) = (√2 s + 1)/s², |L| = 1 where ω⁴ = 2ω² + 1, ω_c² = 1 + √2;
+    // the phase there is atan(√2 ω_c) − 180°, so PM = atan(√2 ω_c) = 65.53°. The loop has two
+    // integrators: S is evaluated from the closed loop, finite at ω = 0 (S(0) = 0).
+    let a = m(2, 2, &[0.0, 1.0, 0.0, 0.0]);
+    let b = m(2, 1, &[0.0, 1.0]);
+    let l = state_feedback_loop(&a, &b, &m(1, 2, &[1.0, 2f64.sqrt()]), None);
+    assert!(l.sensitivity(0.0).unwrap()[(0, 0)].norm() < 1e-15);
+    let r = input_margins(&l, 0.0, 400).unwrap();
+    let wc = (1.0 + 2f64.sqrt()).sqrt();
+    assert!((r.crossover.unwrap() - wc).abs() < 1e-9);
+    assert!((r.phase_margin_deg.unwrap() - (2f64.sqrt() * wc).atan().to_degrees()).abs() < 1e-7);
+}
+
+#[test]
+fn loop_at_a_time_closes_the_other_inputs() {
+    // Two decoupled first-order loops: opening input 0 with input 1 closed leaves input 0's
+    // own loop, k₀/(s + 1).
+    let a = m(2, 2, &[-1.0, 0.0, 0.0, -2.0]);
+    let b = DMatrix::identity(2, 2);
+    let k = m(2, 2, &[3.0, 0.0, 0.0, 5.0]);
+    let l = state_feedback_loop(&a, &b, &k, None).loop_at(0);
+    let w = 0.7;
+    let v = l.loop_response(w).unwrap()[(0, 0)];
+    let want = Complex64::new(3.0, 0.0) / Complex64::new(1.0, w);
+    assert!((v - want).norm() < 1e-14, "{v} vs {want}");
+}
