@@ -354,3 +354,54 @@ fn a_truly_fragile_design_is_still_flagged() {
     assert!(r.feedback.balanced_eigenvector_condition > 1e4, "{}", r.feedback.balanced_eigenvector_condition);
     assert!(r.warnings.iter().any(|w| w.code == "fragile-design"), "{:?}", r.warnings);
 }
+
+#[test]
+fn margins_of_the_loop_as_built_through_the_design_path() {
+    // The chain plant (s + 1)⁻³ (x1' = −x1 + x2, x2' = −x2 + x3, x3' = −x3 + u) with the poles
+    // of s³ + 3s² + 3s + 3 = (s + 1)³ + 2 gives K = [2, 0, 0], so L(s) = 2/(s + 1)³: the gain
+    // margin is 8/2 = 4 (phase −180° at ω = √3, |L| = 1/4) and the phase margin
+    // 180° − 3 atan(ω_c) at ω_c = √(2^{2/3} − 1) (by hand).
+    let roots = polewright::linalg::eigen::try_eigenvalues(&nalgebra::DMatrix::from_row_slice(3, 3, &[0.0, 1.0, 0.0, 0.0, 0.0, 1.0, -3.0, -3.0, -3.0])).unwrap();
+    let poles: Vec<String> = roots.iter().map(|z| format!("[{:e}, {:e}]", z.re, z.im)).collect();
+    let r = design(&format!(
+        r#""plant": {{"a": [[-1, 1, 0], [0, -1, 1], [0, 0, -1]], "b": [[0], [0], [1]]}}, "feedback": {{"poles": [{}]}}"#,
+        poles.join(", ")
+    ))
+    .unwrap();
+    let k = &r.feedback.gain[0];
+    assert!((k[0] - 2.0).abs() < 1e-9 && k[1].abs() < 1e-9 && k[2].abs() < 1e-9, "{k:?}");
+    let m = r.margins.as_ref().expect("margins");
+    let p = &m.per_input[0];
+    assert!((p.gain_margin_high.unwrap() - 4.0).abs() < 1e-6, "{p:?}");
+    let wc = (2f64.powf(2.0 / 3.0) - 1.0).sqrt();
+    assert!((p.crossover.unwrap() - wc).abs() < 1e-6 && (p.classical_phase_margin_deg.unwrap() - (180.0 - 3.0 * wc.atan().to_degrees())).abs() < 1e-5, "{p:?}");
+    assert!(p.gain_range[1] <= 4.0 + 1e-6, "the disk promises no more than the classical margin: {p:?}");
+}
+
+#[test]
+fn lqr_loops_keep_the_guaranteed_disk_margin() {
+    // Full-state LQR with diagonal R satisfies |1 + L(jω)| ≥ 1 at the plant input (Kalman's
+    // inequality; Safonov & Athans, IEEE TAC 22(2), 1977), so |S| ≤ 1 and the skew-0 disk margin
+    // α = 1 / max|S − 1/2| is at least 2/3. Checked on 60 seeded single-input plants (Q = I,
+    // R = 1) through the design path.
+    let mut state: u64 = 0x5AFE_7A11_0000_0012;
+    let mut next = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state >> 11) as f64 / (1u64 << 53) as f64 * 2.0 - 1.0
+    };
+    let mut worst = f64::INFINITY;
+    for case in 0..60 {
+        let n = 2 + case % 4;
+        let rows = |r: usize, c: usize, f: &mut dyn FnMut() -> f64| format!("[{}]", (0..r).map(|_| format!("[{}]", (0..c).map(|_| format!("{:.6}", f())).collect::<Vec<_>>().join(", "))).collect::<Vec<_>>().join(", "));
+        let a = rows(n, n, &mut next);
+        let b = rows(n, 1, &mut next);
+        let q = format!("[{}]", (0..n).map(|i| format!("[{}]", (0..n).map(|j| if i == j { "1" } else { "0" }).collect::<Vec<_>>().join(", "))).collect::<Vec<_>>().join(", "));
+        let r = design(&format!(r#""plant": {{"a": {a}, "b": {b}}}, "feedback": {{"lqr": {{"q": {q}, "r": [[1]]}}}}"#)).unwrap_or_else(|e| panic!("case {case}: {e}"));
+        let alpha = r.margins.as_ref().unwrap().per_input[0].disk_margin;
+        worst = worst.min(alpha);
+        assert!(alpha >= 2.0 / 3.0 - 1e-9, "case {case}: disk margin {alpha}");
+    }
+    eprintln!("LQR disk margins (skew 0) over 60 plants: smallest {worst:.4} (guaranteed ≥ 2/3)");
+}

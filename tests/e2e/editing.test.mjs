@@ -358,6 +358,9 @@ describe('choosing the poles from the form', () => {
       const poles = (await placedPoles(page)).map((p) => p.achieved);
       for (const p of poles) assert.ok(Math.abs(p.re + Math.sqrt(3) / 2) < 1e-12 && Math.abs(Math.abs(p.im) - 0.5) < 1e-12, JSON.stringify(p));
       assert.match(await page.textContent('#pw-choice-details'), /60°/, 'the guaranteed margins are stated');
+      // The margins of the loop as built: L(s) = (√3 s + 1)/s², |L| = 1 at ω_c² = (3 + √13)/2,
+      // phase margin atan(√3 ω_c) = 72.38° (by hand).
+      assert.match(await page.textContent('#pw-margins'), /phase margin 72\.37\d*° at 1\.817\d* rad\/s/);
       noErrors(ctx);
     });
   });

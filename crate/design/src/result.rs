@@ -59,6 +59,9 @@ pub struct DesignResult {
     /// LQR as a way of choosing poles.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub lqr: Option<LqrResult>,
+    /// Margins at the plant input of the loop as built (absent where not yet modelled: a
+    /// current-form observer, or an observer with a computation delay).
+    pub margins: Option<MarginsResult>,
     /// The float32 re-check (digital designs).
     pub finite_precision: Option<FinitePrecisionResult>,
     /// The start of the next design of a session (not written to the result file).
@@ -153,6 +156,38 @@ pub struct ObserverResult {
 pub enum TrackingResult {
     Feedforward { outputs: Vec<String>, nx: Vec<Vec<f64>>, nu: Vec<Vec<f64>> },
     Integral { outputs: Vec<String>, state_gain: Vec<Vec<f64>>, integral_gain: Vec<Vec<f64>>, anti_windup: crate::spec::AntiWindupMode, time_constant: Option<f64> },
+}
+
+/// Margins of the loop as built, broken at the plant input (`crate::margins`).
+#[derive(Debug, Clone, Serialize)]
+pub struct MarginsResult {
+    /// One per input, the other inputs' loops closed (loop at a time).
+    pub per_input: Vec<InputMarginResult>,
+    /// Largest σ_max(S) over frequency at the plant input, and where (rad/s).
+    pub peak_sensitivity: f64,
+    pub peak_sensitivity_frequency: f64,
+    /// Largest σ_max(T), and where.
+    pub peak_complementary_sensitivity: f64,
+    pub peak_complementary_sensitivity_frequency: f64,
+}
+
+/// One input's margins.
+#[derive(Debug, Clone, Serialize)]
+pub struct InputMarginResult {
+    pub input: String,
+    /// Disk margin α (skew 0), the gain factors and phase (degrees) it guarantees, and the
+    /// frequency (rad/s) where it is attained.
+    pub disk_margin: f64,
+    pub gain_range: [f64; 2],
+    pub phase_margin_deg: f64,
+    pub frequency: f64,
+    /// Classical margins (null where the loop has no such crossing).
+    pub gain_margin_low: Option<f64>,
+    pub gain_margin_high: Option<f64>,
+    pub classical_phase_margin_deg: Option<f64>,
+    pub crossover: Option<f64>,
+    /// Extra input delay (s) the loop tolerates.
+    pub delay_margin: Option<f64>,
 }
 
 /// The float32 re-check of a digital design ([`crate::precision`]).

@@ -33,6 +33,7 @@
 //! | `search-short-of-limit` | caution | at the factor the search found, the peak input is below 97 % of its limit (a branch change, a non-monotone or a discontinuous peak) |
 //! | `lqr-weight-indefinite` | caution | the LQR state weight (after the cross weight) is not positive semidefinite but a stabilising solution exists and is used: LQR's guaranteed margins do not apply |
 //! | `float32-sensitive` | caution | stored as float32, a closed-loop pole leaves the unit circle or a pole's damping falls below 90 % of its design value |
+//! | `small-margin` | caution | an input's disk margin (loop at a time) guarantees less than about ±6 dB of gain or ±35° of phase (common practice minimum) |
 //! | `deadbeat` | caution | requested poles at z = 0: the loop settles in a few samples with large inputs, and the sample time sets the speed |
 //! | `search-not-monotonic` | note | the peak input did not grow steadily with the speed-up: the factor found is one crossing |
 //! | `simulation-shortened` | note | the simulated time chosen from the slowest pole was cut to the sample cap (50 000 samples) |
@@ -136,6 +137,8 @@ pub enum WarningCode {
     LqrWeightIndefinite,
     /// Stored as float32, a pole leaves the unit circle or its damping falls below 90 %.
     Float32Sensitive,
+    /// An input's disk margin guarantees less than about ±6 dB or ±35° (common practice).
+    SmallMargin,
     /// The peak input did not grow steadily with the speed-up: the factor found is one crossing.
     SearchNotMonotonic,
     /// The inputs stay within their limits even at the largest factor tried.
@@ -146,7 +149,7 @@ pub enum WarningCode {
 
 impl WarningCode {
     /// Every code, in the table's order.
-    pub const ALL: [WarningCode; 34] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::Deadbeat, WarningCode::BranchFollowed, WarningCode::BranchChanged, WarningCode::SearchShortOfLimit, WarningCode::LqrWeightIndefinite, WarningCode::Float32Sensitive, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
+    pub const ALL: [WarningCode; 35] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::Deadbeat, WarningCode::BranchFollowed, WarningCode::BranchChanged, WarningCode::SearchShortOfLimit, WarningCode::LqrWeightIndefinite, WarningCode::Float32Sensitive, WarningCode::SmallMargin, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
 
     /// The stable code, as serialised.
     pub fn as_str(self) -> &'static str {
@@ -182,6 +185,7 @@ impl WarningCode {
             WarningCode::SearchShortOfLimit => "search-short-of-limit",
             WarningCode::LqrWeightIndefinite => "lqr-weight-indefinite",
             WarningCode::Float32Sensitive => "float32-sensitive",
+            WarningCode::SmallMargin => "small-margin",
             WarningCode::SearchNotMonotonic => "search-not-monotonic",
             WarningCode::SearchRangeLimit => "search-range-limit",
             WarningCode::SimulationShortened => "simulation-shortened",
@@ -192,7 +196,7 @@ impl WarningCode {
     pub fn severity(self) -> Severity {
         match self {
             WarningCode::RequestedPoleUnstable | WarningCode::PlacementInaccurate | WarningCode::SimulationDiverged | WarningCode::ObserverInaccurate | WarningCode::LoopDiverged | WarningCode::SeparationFailed => Severity::Danger,
-            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles | WarningCode::Deadbeat | WarningCode::BranchChanged | WarningCode::SearchShortOfLimit | WarningCode::LqrWeightIndefinite | WarningCode::Float32Sensitive => Severity::Caution,
+            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles | WarningCode::Deadbeat | WarningCode::BranchChanged | WarningCode::SearchShortOfLimit | WarningCode::LqrWeightIndefinite | WarningCode::Float32Sensitive | WarningCode::SmallMargin => Severity::Caution,
             WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::BranchFollowed | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit | WarningCode::SimulationShortened => Severity::Note,
         }
     }

@@ -89,7 +89,7 @@ fn belt_axis_digital() -> Demo {
     let axis = belt_axis().form;
     Demo {
         title: "Belt axis with a 1 kHz digital controller, observer and integral action",
-        description: "Illustrative, invented scenario: the belt axis above with only an encoder on the tool head; a 1 kHz controller estimates the other states with an observer, holds the head on a 10 mm step with integral action (clamped while the motor saturates) and rejects a 5 N load applied after 0.6 s.",
+        description: "Illustrative, invented scenario: the belt axis above with only an encoder on the tool head; a 1 kHz controller estimates the other states with an observer, holds the head on a 10 mm step with integral action (clamped while the motor saturates) and rejects a 5 N load applied after 0.6 s. Its margins at the motor input are small (about ±22° of phase, see the warning): the encoder sits beyond the belt's flexibility and the observer closes the loop through it — a design to study, not to copy.",
         form: FormInput {
             c: "0 0 1 0".into(),
             output_names: "head position".into(),
@@ -123,7 +123,7 @@ fn tilting_mirror() -> Demo {
     //   L i' = v − R i                        →   i' = −1000 i + 500 v
     Demo {
         title: "Tilting mirror with a voice coil, poles from a specification",
-        description: "Illustrative, invented scenario: a small mirror on a springy flexure, tilted by a voice coil driven with at most 12 V; instead of listing poles, the design asks for at most 5 % overshoot and settling within 50 ms, and returns the mirror from a 20 mrad offset.",
+        description: "Illustrative, invented scenario: a small mirror on a springy flexure, tilted by a voice coil driven with at most 12 V; instead of listing poles, the design asks for at most 5 % overshoot and settling within 50 ms, and returns the mirror from a 20 mrad offset. The disk margin at the coil guarantees about ±32° of phase, just under the common ±35° (see the warning).",
         form: FormInput {
             a: "0 1 0\n-250 -0.5 100\n0 0 -1000".into(),
             b: "0\n0\n500".into(),

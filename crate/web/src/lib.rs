@@ -129,6 +129,7 @@ mod ids {
     pub const CONTROLLABILITY: &str = "pw-controllability";
     pub const OBSERVABILITY: &str = "pw-observability";
     pub const ROBUSTNESS: &str = "pw-robustness";
+    pub const MARGINS: &str = "pw-margins";
     pub const WARNINGS: &str = "pw-warnings";
     pub const STATE_TABLE: &str = "pw-state-table";
     pub const INPUT_TABLE: &str = "pw-input-table";

@@ -133,6 +133,10 @@ pub(crate) fn render_report(doc: &Document, page: &mut PageState, r: &Report, di
             }
         }
     }
+    if !page.unchanged(ids::MARGINS, hash_of(&r.margins)) {
+        let items: Vec<Element> = r.margins.iter().map(|l| make(doc, "li", Some(l))).collect::<Result<_, _>>()?;
+        fill(doc, ids::MARGINS, &items)?;
+    }
     if !page.unchanged(ids::ROBUSTNESS, hash_of(&r.robustness)) {
         set_text(doc, ids::ROBUSTNESS, &r.robustness)?;
     }

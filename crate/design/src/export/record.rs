@@ -84,6 +84,15 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
             rows.push((format!("Float32 re-check, {} loop", l.name), format!("poles move by at most {}; damping kept {} %", fmt_num(l.max_pole_move), fmt_num(100.0 * l.worst_damping_fraction)), if l.stable && l.worst_damping_fraction >= 0.9 { "float32 adequate" } else { "use double: see warnings" }.into()));
         }
     }
+    if let Some(m) = &result.margins {
+        for p in &m.per_input {
+            rows.push((
+                format!("Disk margin at the plant input, {} (others closed)", p.input),
+                format!("α = {}: gain × {} to × {}, phase ±{}°; delay margin {}", fmt_num(p.disk_margin), fmt_num(p.gain_range[0]), fmt_num(p.gain_range[1]), fmt_num(p.phase_margin_deg), p.delay_margin.map_or("none".into(), |d| format!("{} s", fmt_num(d)))),
+                if p.gain_range[0] <= 0.5 && p.phase_margin_deg >= 35.0 { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into(),
+            ));
+        }
+    }
     if let Some(s) = &result.sample_rate {
         rows.push(("Sample rate against the closed-loop bandwidth".into(), s.samples_per_bandwidth.map_or("deadbeat".into(), |v| format!("{} samples per bandwidth period", fmt_num(v))), format!("{:?}", s.verdict).to_lowercase()));
     }

@@ -4,6 +4,7 @@
 use num_complex::Complex64;
 
 mod gains;
+mod margins;
 mod pair;
 mod setup;
 pub(crate) use setup::output_matrices;
@@ -72,6 +73,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     independent_verdict(&s, &dp, &g)?;
     let advice = s.t.map(|t| crate::controller::sample_rate_advice(&s.to_s(&dp.base_poles), t));
     let finite_precision = s.t.and_then(|t| finite_precision(&s, &dp, &g, t));
+    let margins = margins::margins(&s, &dp, &g);
     let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
     let mut warnings = warnings::requested_pole_warnings(&s, &dp, anorm);
     warnings.extend(warnings::placement_warnings(&s, &g, &analysis));
@@ -85,6 +87,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     }
     warnings.extend(warnings::choice_warnings(&s, &dp, &g));
     warnings.extend(finite_precision.as_ref().and_then(warnings::precision_warning));
+    warnings.extend(margins.as_ref().and_then(warnings::margin_warning));
     let t = s.t;
     let result = DesignResult {
         format: RESULT_FORMAT,
@@ -116,6 +119,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         }),
         lqr: dp.lqr.as_ref().map(|d| lqr_result(spec, d)),
         finite_precision,
+        margins,
         continuation: crate::Continuation { feedback: g.placement.eigenvectors.clone(), observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()) },
     };
     verdict::finite(&result)?;

@@ -317,3 +317,23 @@ pub(super) fn precision_warning(fp: &crate::result::FinitePrecisionResult) -> Op
         )
     })
 }
+
+/// The `small-margin` caution: a disk margin (loop at a time, skew 0) guaranteeing less than
+/// a factor 2 (6 dB) either way or 35° of phase (common practice minimum).
+pub(super) fn margin_warning(m: &crate::result::MarginsResult) -> Option<Warning> {
+    let small: Vec<String> = m
+        .per_input
+        .iter()
+        .filter(|p| p.gain_range[0] > 0.5 || p.phase_margin_deg < 35.0)
+        .map(|p| format!("{}: gain factors {}–{}, phase ±{}° (at {} rad/s)", p.input, fmt_num(p.gain_range[0]), fmt_num(p.gain_range[1]), fmt_num(p.phase_margin_deg), fmt_num(p.frequency)))
+        .collect();
+    (!small.is_empty()).then(|| {
+        Warning::new(
+            WarningCode::SmallMargin,
+            format!(
+                "The disk margin at the plant input (each input with the others closed) guarantees less than the common-practice minimum of about ±6 dB and ±35°: {}. Slow the poles down, or, with an observer, make it faster or check the loop with the model's uncertainty.",
+                small.join("; ")
+            ),
+        )
+    })
+}

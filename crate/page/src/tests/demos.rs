@@ -26,8 +26,10 @@ fn every_demo_designs_a_stable_closed_loop() {
         assert!(r.plant.state_names.iter().all(|n| !n.starts_with('x')), "{}", d.title);
         assert!(r.plant.state_units.iter().chain(&r.plant.input_units).all(|u| !u.is_empty()), "{}", d.title);
         assert!(r.simulation.input_limit.iter().all(|l| l.is_some()), "{}", d.title);
-        // No warning other than a possible (brief) saturation.
-        assert!(r.warnings.iter().all(|w| w.code == "input-over-limit"), "{}: {:?}", d.title, r.warnings);
+        // No warning other than a possible (brief) saturation, and a small disk margin where the
+        // demo's description points it out.
+        let allowed = |code: &crate::design::warnings::WarningCode| *code == "input-over-limit" || (*code == "small-margin" && d.description.contains("see the warning"));
+        assert!(r.warnings.iter().all(|w| allowed(&w.code)), "{}: {:?}", d.title, r.warnings);
     }
 }
 
