@@ -26,19 +26,15 @@ fn refused(bits: u32, why: String) -> ExportError {
     ExportError::NotAvailable { what: format!("Q{}", bits - 1), why }
 }
 
-fn dense(m: &NamedMatrix) -> DMatrix<f64> {
-    DMatrix::from_row_slice(m.rows, m.cols, &m.data)
-}
-
 /// Quantises every matrix and re-checks the loops.
 pub(super) fn fixed(c: &Controller, bits: u32) -> Result<Fixed, ExportError> {
     let t = c.sample_time.ok_or_else(|| refused(bits, "a continuous design has no sampled coefficients; give a sample time".into()))?;
     let mut mats = Vec::with_capacity(c.matrices.len());
     for m in &c.matrices {
-        let q = quantise(&dense(m), bits).map_err(|e| refused(bits, format!("{}: {e}", m.name)))?;
+        let q = quantise(&m.dense(), bits).map_err(|e| refused(bits, format!("{}: {e}", m.name)))?;
         mats.push((m.clone(), q));
     }
-    let get = |name: &str| mats.iter().find(|(m, _)| m.name == name).map(|(m, q)| (dense(m), q.values.clone()));
+    let get = |name: &str| mats.iter().find(|(m, _)| m.name == name).map(|(m, q)| (m.dense(), q.values.clone()));
     let (Some((phi, _)), Some((gamma, _)), Some((k, kq))) = (get("Phi"), get("Gamma"), get("K")) else {
         return Err(refused(bits, "the sampled plant is missing".into()));
     };

@@ -124,6 +124,11 @@ impl NamedMatrix {
         NamedMatrix { name, description, rows: m.nrows(), cols: m.ncols(), data }
     }
 
+    /// The matrix itself.
+    pub fn dense(&self) -> DMatrix<f64> {
+        DMatrix::from_row_slice(self.rows, self.cols, &self.data)
+    }
+
     fn from_rows(name: &'static str, description: &'static str, rows: &[Vec<f64>]) -> NamedMatrix {
         let r = rows.len();
         let c = rows.first().map_or(0, |x| x.len());

@@ -22,7 +22,7 @@ use crate::loop_sim::{simulate_sampled_loop, LoopController, LoopScenario, Noise
 pub const MAX_VECTOR_SAMPLES: usize = 400;
 
 fn matrix(c: &Controller, name: &str) -> Option<DMatrix<f64>> {
-    c.matrix(name).map(|m| DMatrix::from_row_slice(m.rows, m.cols, &m.data))
+    c.matrix(name).map(super::NamedMatrix::dense)
 }
 
 fn not_available(why: &str) -> ExportError {
