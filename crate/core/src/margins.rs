@@ -10,6 +10,7 @@
 //! closed gives the scalar `L_i`.
 //!
 //! # Method
+//! - Each model is reduced once to Hessenberg form, so a frequency costs `O(n²)` (Laub 1981).
 //! - `S` is evaluated from the closed loop, `S(s) = E − E C_L (sI − A_cl)⁻¹ B_L E` with
 //!   `E = (I + D_L)⁻¹` and `A_cl = A_L − B_L E C_L`, so that integrators and undamped open-loop
 //!   modes (poles of `L` on the boundary) never divide by zero.
@@ -26,7 +27,8 @@
 //!   margin `PM / ω_c` (continuous; sampled loops likewise in seconds).
 //!
 //! # Cost
-//! One complex `n × n` solve per frequency and loop: `O(n³)` times a few hundred frequencies.
+//! One Hessenberg reduction per model (`O(n³)`), then one `O(n²)` Hessenberg solve per frequency
+//! and loop, a few hundred frequencies.
 //!
 //! # Failure modes
 //! A singular `I + D_L` or a singular `sI − A_cl` at a grid frequency (a closed-loop pole on the
@@ -80,7 +82,88 @@ fn complex(m: &DMatrix<f64>) -> DMatrix<Complex64> {
     m.map(|v| Complex64::new(v, 0.0))
 }
 
-impl LoopModel {
+/// A state-space model reduced once to upper Hessenberg form, `H = Qᵀ A Q`, `B̃ = Qᵀ B`,
+/// `C̃ = C Q` (Laub, "Efficient multivariable frequency response computations", IEEE TAC 26(2),
+/// 1981; from memory), so that each frequency costs one `O(n²)` Hessenberg solve instead of an
+/// `O(n³)` LU.
+#[derive(Debug, Clone)]
+struct Reduced {
+    h: DMatrix<f64>,
+    b: DMatrix<f64>,
+    c: DMatrix<f64>,
+    d: DMatrix<f64>,
+}
+
+impl Reduced {
+    fn new(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>) -> Reduced {
+        if a.nrows() == 0 {
+            return Reduced { h: a.clone(), b: b.clone(), c: c.clone(), d: d.clone() };
+        }
+        let (q, h) = a.clone().hessenberg().unpack();
+        Reduced { b: q.transpose() * b, c: c * &q, h, d: d.clone() }
+    }
+
+    /// `C̃ (pI − H)⁻¹ B̃ + D` by Gaussian elimination with adjacent-row pivoting.
+    fn at(&self, p: Complex64, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
+        let n = self.h.nrows();
+        let mut m = -complex(&self.h);
+        for i in 0..n {
+            m[(i, i)] += p;
+        }
+        let mut x = complex(&self.b);
+        for k in 0..n.saturating_sub(1) {
+            if m[(k + 1, k)].norm() > m[(k, k)].norm() {
+                m.swap_rows(k, k + 1);
+                x.swap_rows(k, k + 1);
+            }
+            let pivot = m[(k, k)];
+            if pivot.norm() == 0.0 {
+                continue;
+            }
+            let f = m[(k + 1, k)] / pivot;
+            if f.norm() == 0.0 {
+                continue;
+            }
+            for j in k..n {
+                let v = m[(k, j)];
+                m[(k + 1, j)] -= f * v;
+            }
+            for j in 0..x.ncols() {
+                let v = x[(k, j)];
+                x[(k + 1, j)] -= f * v;
+            }
+        }
+        for k in (0..n).rev() {
+            let pivot = m[(k, k)];
+            if !(pivot.norm() > 0.0) {
+                return Err(MarginError::BoundaryPole { frequency: w });
+            }
+            for j in 0..x.ncols() {
+                let mut v = x[(k, j)];
+                for i in k + 1..n {
+                    v -= m[(k, i)] * x[(i, j)];
+                }
+                x[(k, j)] = v / pivot;
+            }
+        }
+        if x.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
+            return Err(MarginError::BoundaryPole { frequency: w });
+        }
+        Ok(complex(&self.c) * x + complex(&self.d))
+    }
+}
+
+/// A loop prepared for evaluation at many frequencies: `L` and `S` each reduced once.
+#[derive(Debug, Clone)]
+pub struct Evaluator {
+    open: Reduced,
+    closed: Reduced,
+    /// `E = (I + D)⁻¹`.
+    e: DMatrix<f64>,
+    sample_time: Option<f64>,
+}
+
+impl Evaluator {
     fn point(&self, w: f64) -> Complex64 {
         match self.sample_time {
             None => Complex64::new(0.0, w),
@@ -88,25 +171,25 @@ impl LoopModel {
         }
     }
 
-    /// `C (pI − A)⁻¹ B + D` of a state-space model at `p`.
-    fn evaluate(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, p: Complex64, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
-        let n = a.nrows();
-        let mut m = -complex(a);
-        for i in 0..n {
-            m[(i, i)] += p;
-        }
-        let x = m.lu().solve(&complex(b)).ok_or(MarginError::BoundaryPole { frequency: w })?;
-        Ok(complex(c) * x + complex(d))
-    }
-
     /// `L` at the frequency `w` (rad/s).
     ///
     /// # Errors
     /// [`MarginError::BoundaryPole`] when `L` has a pole there.
     pub fn loop_response(&self, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
-        Self::evaluate(&self.a, &self.b, &self.c, &self.d, self.point(w), w)
+        self.open.at(self.point(w), w)
     }
 
+    /// The input sensitivity `S = (I + L)⁻¹` at `w`, from the closed loop.
+    ///
+    /// # Errors
+    /// [`MarginError::BoundaryPole`] when the closed loop has a pole at `w`.
+    pub fn sensitivity(&self, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
+        let inner = self.closed.at(self.point(w), w)?;
+        Ok(complex(&self.e) - inner)
+    }
+}
+
+impl LoopModel {
     /// `E = (I + D)⁻¹` and the closed-loop matrix `A − B E C`.
     fn closed(&self) -> Result<(DMatrix<f64>, DMatrix<f64>), MarginError> {
         let m = self.d.nrows();
@@ -115,14 +198,35 @@ impl LoopModel {
         Ok((e, acl))
     }
 
+    /// The loop prepared for evaluation at many frequencies.
+    ///
+    /// # Errors
+    /// [`MarginError::IllPosed`] when `I + D` is singular.
+    pub fn evaluator(&self) -> Result<Evaluator, MarginError> {
+        let (e, acl) = self.closed()?;
+        let zero = DMatrix::zeros(e.nrows(), e.ncols());
+        Ok(Evaluator {
+            open: Reduced::new(&self.a, &self.b, &self.c, &self.d),
+            closed: Reduced::new(&acl, &(&self.b * &e), &(&e * &self.c), &zero),
+            e,
+            sample_time: self.sample_time,
+        })
+    }
+
+    /// `L` at the frequency `w` (rad/s) (for many frequencies, use [`LoopModel::evaluator`]).
+    ///
+    /// # Errors
+    /// [`MarginError`] when the loop is ill posed or `L` has a pole at `w`.
+    pub fn loop_response(&self, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
+        self.evaluator()?.loop_response(w)
+    }
+
     /// The input sensitivity `S = (I + L)⁻¹` at `w`, from the closed loop.
     ///
     /// # Errors
     /// [`MarginError`] when the loop is ill posed or the closed loop has a pole at `w`.
     pub fn sensitivity(&self, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
-        let (e, acl) = self.closed()?;
-        let inner = Self::evaluate(&acl, &(&self.b * &e), &(&e * &self.c), &DMatrix::zeros(e.nrows(), e.ncols()), self.point(w), w)?;
-        Ok(complex(&e) - inner)
+        self.evaluator()?.sensitivity(w)
     }
 
     /// The same loop with only input `i` open and the others closed: a scalar loop.
@@ -242,7 +346,8 @@ fn bisect(f: &dyn Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
 /// [`MarginError`] from the evaluations.
 pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMargins, MarginError> {
     let grid = l.grid(points)?;
-    let disk = |w: f64| -> Option<f64> { l.sensitivity(w).ok().map(|s| (s[(0, 0)] + (sigma - 1.0) / 2.0).norm()) };
+    let ev = l.evaluator()?;
+    let disk = |w: f64| -> Option<f64> { ev.sensitivity(w).ok().map(|s| (s[(0, 0)] + (sigma - 1.0) / 2.0).norm()) };
     let values: Vec<f64> = grid.iter().map(|w| disk(*w).unwrap_or(0.0)).collect();
     let k = (0..values.len()).max_by(|&i, &j| values[i].total_cmp(&values[j])).unwrap_or(0);
     let (lo, hi) = (grid[k.saturating_sub(1)], grid[(k + 1).min(grid.len() - 1)]);
@@ -260,7 +365,7 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
         ([low.max(0.0), if den > 0.0 { (2.0 + alpha * (1.0 - sigma)) / den } else { f64::INFINITY }], f64::NAN)
     };
     // Classical margins from L on the grid.
-    let lval = |w: f64| -> Option<Complex64> { l.loop_response(w).ok().map(|m| m[(0, 0)]) };
+    let lval = |w: f64| -> Option<Complex64> { ev.loop_response(w).ok().map(|m| m[(0, 0)]) };
     let (mut gm_low, mut gm_high, mut pm, mut wc) = (None::<f64>, None::<f64>, None::<f64>, None::<f64>);
     // ω = 0 is left out here: L has its integrators' poles there.
     let positive: Vec<f64> = grid.iter().copied().filter(|w| *w > 0.0).collect();

@@ -93,9 +93,10 @@ pub(super) fn margins(s: &Setup, pair: &DesignPair, g: &Gains) -> Option<Margins
     }
     // Peaks of σ_max(S) and σ_max(T = I − S) over the grid.
     let grid = model.grid(GRID_POINTS).ok()?;
+    let ev = model.evaluator().ok()?;
     let (mut ps, mut ws, mut pt, mut wt) = (0.0f64, 0.0, 0.0f64, 0.0);
     for w in grid {
-        let sm = model.sensitivity(w).ok()?;
+        let sm = ev.sensitivity(w).ok()?;
         let tm = DMatrix::<Complex64>::identity(m, m) - &sm;
         let (a, b) = (sigma_max(&sm), sigma_max(&tm));
         if a > ps {
