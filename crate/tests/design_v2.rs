@@ -372,10 +372,13 @@ fn margins_of_the_loop_as_built_through_the_design_path() {
     assert!((k[0] - 2.0).abs() < 1e-9 && k[1].abs() < 1e-9 && k[2].abs() < 1e-9, "{k:?}");
     let m = r.margins.as_ref().expect("margins");
     let p = &m.per_input[0];
-    assert!((p.gain_margin_high.unwrap() - 4.0).abs() < 1e-6, "{p:?}");
+    let c = &p.classical;
+    assert!((c.gain_margin_high.unwrap() - 4.0).abs() < 1e-6, "{p:?}");
     let wc = (2f64.powf(2.0 / 3.0) - 1.0).sqrt();
-    assert!((p.crossover.unwrap() - wc).abs() < 1e-6 && (p.classical_phase_margin_deg.unwrap() - (180.0 - 3.0 * wc.atan().to_degrees())).abs() < 1e-5, "{p:?}");
-    assert!(p.gain_range[1] <= 4.0 + 1e-6, "the disk promises no more than the classical margin: {p:?}");
+    assert!((c.crossover.unwrap() - wc).abs() < 1e-6 && (c.phase_margin_deg.unwrap() - (180.0 - 3.0 * wc.atan().to_degrees())).abs() < 1e-5, "{p:?}");
+    assert!(p.disk.gain_range[1] <= 4.0 + 1e-6, "the disk promises no more than the classical margin: {p:?}");
+    // One input: the all-inputs margin is the single loop's.
+    assert!((m.all_inputs.disk.disk_margin - p.disk.disk_margin).abs() <= 1e-6 * p.disk.disk_margin, "{m:?}");
 }
 
 #[test]
@@ -399,7 +402,7 @@ fn lqr_loops_keep_the_guaranteed_disk_margin() {
         let b = rows(n, 1, &mut next);
         let q = format!("[{}]", (0..n).map(|i| format!("[{}]", (0..n).map(|j| if i == j { "1" } else { "0" }).collect::<Vec<_>>().join(", "))).collect::<Vec<_>>().join(", "));
         let r = design(&format!(r#""plant": {{"a": {a}, "b": {b}}}, "feedback": {{"lqr": {{"q": {q}, "r": [[1]]}}}}"#)).unwrap_or_else(|e| panic!("case {case}: {e}"));
-        let alpha = r.margins.as_ref().unwrap().per_input[0].disk_margin;
+        let alpha = r.margins.as_ref().unwrap().per_input[0].disk.disk_margin;
         worst = worst.min(alpha);
         assert!(alpha >= 2.0 / 3.0 - 1e-9, "case {case}: disk margin {alpha}");
     }

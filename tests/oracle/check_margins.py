@@ -5,9 +5,11 @@ Usage:
     python3 tests/oracle/check_margins.py [--cli target/release/polewright]
 
 For single-input designs (illustrative data), the loop at the plant input is rebuilt here with
-numpy from the design result's own numbers — the plant (or the sampled plant, augmented by the
-computation-delay state) with the gain, or the plant with a continuous observer fed the
-controller's command — and:
+numpy from the design result's own numbers, following the controller's equations as firmware
+runs them (the loop broken at the plant input; the controller keeps its own command for its
+observer and its delay line) — the plant or the sampled plant with the gain; with a computation
+delay the delay state and K_u inside the controller; a continuous observer; a sampled
+current-form observer with a delay — and:
 - its frequency response is evaluated with scipy.signal.freqresp (continuous) or dfreqresp
   (sampled); the crossover |L| = 1 and the -180 degree crossing are found with scipy.optimize.brentq;
   the phase margin, crossover frequency and gain margins reported by Polewright must agree to
@@ -15,6 +17,12 @@ controller's command — and:
 - the margins are checked by perturbing the loop (common practice): with the loop gain scaled by
   the reported gain margin, or its phase turned by the reported phase margin, the closed loop
   (numpy.linalg.eigvals) must have a pole on the stability boundary to 1e-6.
+For a two-input design the all-inputs (multiloop) disk margin is recomputed independently:
+for two diagonal complex perturbations mu(M) = max over theta of the spectral radius of
+diag(1, e^{j theta}) M (Doyle, IEE Proc. D 129(6), 1982, from memory), maximised over a dense
+phase grid and frequency grid refined with scipy.optimize.minimize_scalar; alpha = 1/max mu of
+S - I/2 (skew 0; Seiler, Packard & Gahinet, IEEE Control Systems Magazine 40(5), 2020) must
+agree to 1e-4 relative.
 Exit status 1 on any failure.
 """
 
@@ -41,7 +49,13 @@ CASES = {
                       "implementation": {"sample_time": 0.05, "computation_delay": True}},
     "continuous-observer": {"plant": {"a": [[0, 1], [20.6, 0]], "b": [[0], [1]], "c": [[1, 0]]},
                             "feedback": {"poles": ["-1.8±2.4j"]}, "observer": {"speed_factor": 4}},
+    "digital-current-observer-delay": {"plant": {"a": [[0, 1], [20.6, 0]], "b": [[0], [1]], "c": [[1, 0]]},
+                                       "feedback": {"poles": ["-4±3j"]}, "observer": {"speed_factor": 3, "form": "current"},
+                                       "implementation": {"sample_time": 0.02, "computation_delay": True}},
 }
+
+MULTILOOP = {"plant": {"a": [[0, 1, 0], [-2, -0.3, 1], [0, 0, -4]], "b": [[0, 0], [1, 0.4], [0, 1]]},
+             "feedback": {"poles": ["-1.5±2j", -3]}}
 
 
 def design(cli, body):
@@ -53,18 +67,31 @@ def design(cli, body):
 
 
 def loop_model(body, r):
-    """(A, B, C, dt) of L at the plant input, from the result's numbers."""
+    """(A, B, C, dt) of L at the plant input, from the result's numbers (closed by u_in = -C x)."""
     k = np.array(r["feedback"]["gain"], float)
     if r.get("discrete_plant"):
         phi = np.array(r["discrete_plant"]["a"], float)
         gamma = np.array(r["discrete_plant"]["b"], float)
         t = r["sample_time"]
         n, m = gamma.shape
-        if r["feedback"].get("delay_gain"):
-            ku = np.array(r["feedback"]["delay_gain"], float)
-            a = np.block([[phi, gamma], [np.zeros((m, n)), np.zeros((m, m))]])
-            b = np.vstack([np.zeros((n, m)), np.eye(m)])
-            return a, b, np.hstack([k, ku]), t
+        ku = np.array(r["feedback"]["delay_gain"], float) if r["feedback"].get("delay_gain") else None
+        if r.get("observer"):
+            # Current form with a delay: est = Lc C x + (I - Lc C) xh; u = -K est - Ku u_prev;
+            # xh+ = Phi est + Gamma u_prev; u_prev+ = u; the plant gets u_in; output -u_prev.
+            c = np.array(body["plant"]["c"], float)
+            lc = np.array(r["observer"]["current_gain"], float)
+            i_lc = np.eye(n) - lc @ c
+            a = np.block([[phi, np.zeros((n, n)), np.zeros((n, m))],
+                          [phi @ lc @ c, phi @ i_lc, gamma],
+                          [-k @ lc @ c, -k @ i_lc, -ku]])
+            b = np.vstack([gamma, np.zeros((n + m, m))])
+            return a, b, np.hstack([np.zeros((m, 2 * n)), -np.eye(m)]), t
+        if ku is not None:
+            # x+ = Phi x + Gamma u_in; u_prev+ = -K x - Ku u_prev; output -u_prev (the K_u term
+            # stays inside the controller: the loop is broken at the plant input, not the command).
+            a = np.block([[phi, np.zeros((n, m))], [-k, -ku]])
+            b = np.vstack([gamma, np.zeros((m, m))])
+            return a, b, np.hstack([np.zeros((m, n)), -np.eye(m)]), t
         return phi, gamma, k, t
     a = np.array(body["plant"]["a"], float)
     b = np.array(body["plant"]["b"], float)
@@ -95,7 +122,7 @@ def boundary_distance(model, factor):
 
 def check(name, body, r):
     model = loop_model(body, r)
-    p = r["margins"]["per_input"][0]
+    p = r["margins"]["per_input"][0]["classical"]
     top = np.pi / model[3] if model[3] else 1e4
     import warnings
     warnings.simplefilter("ignore", scipy.signal.BadCoefficients)
@@ -109,10 +136,10 @@ def check(name, body, r):
         wc = scipy.optimize.brentq(lambda x: abs(response(model, x)[0]) - 1.0, w[idx[0]], w[idx[0] + 1], xtol=1e-14, rtol=1e-14)
         pm = 180.0 + np.degrees(np.angle(response(model, wc)[0]))
         pm = pm - 360.0 if pm > 180.0 else pm
-        if not (abs(p["crossover"] - wc) <= 1e-6 * wc and abs(p["classical_phase_margin_deg"] - pm) <= 1e-6):
-            fails.append(f"crossover {p['crossover']} / PM {p['classical_phase_margin_deg']} vs scipy {wc} / {pm}")
+        if not (abs(p["crossover"] - wc) <= 1e-6 * wc and abs(p["phase_margin_deg"] - pm) <= 1e-6):
+            fails.append(f"crossover {p['crossover']} / PM {p['phase_margin_deg']} vs scipy {wc} / {pm}")
         # Turning the phase by PM puts a closed-loop pole on the boundary at ω_c.
-        d = boundary_distance(model, np.exp(-1j * np.radians(p["classical_phase_margin_deg"])))
+        d = boundary_distance(model, np.exp(-1j * np.radians(p["phase_margin_deg"])))
         if not d <= 1e-6:
             fails.append(f"phase-perturbed loop {d:.1e} from the boundary")
         pm_text = f"PM {pm:.6f} deg at {wc:.6f} rad/s"
@@ -127,10 +154,17 @@ def check(name, body, r):
         v = response(model, x)[0]
         if v.real < 0:
             gms.append(1.0 / abs(v))
-    if model[3]:
-        # A sampled loop is real at the Nyquist frequency: a negative value there is a -180 point.
-        v = response(model, np.pi / model[3])[0]
-        if v.real < 0 and abs(v.imag) <= 1e-9 * abs(v):
+    # The loop is real at 0 and, sampled, at the Nyquist frequency: a negative value there is a
+    # -180 degree point too.
+    for end in [0.0] + ([np.pi / model[3]] if model[3] else []):
+        a_, b_, c_, dt_ = model
+        zs = 1.0 if dt_ else 0.0
+        zs = -1.0 if dt_ and end > 0 else zs
+        try:
+            v = (c_ @ np.linalg.solve(zs * np.eye(a_.shape[0]) - a_, b_))[0, 0]
+        except np.linalg.LinAlgError:
+            continue
+        if np.isfinite(v) and v.real < 0:
             gms.append(1.0 / abs(v))
     ours = [g for g in (p["gain_margin_low"], p["gain_margin_high"]) if g is not None]
     for g in ours:
@@ -143,6 +177,41 @@ def check(name, body, r):
     return not fails
 
 
+def mu_two(m):
+    """mu of a 2x2 complex matrix for diagonal complex perturbations: max over theta of
+    rho(diag(1, e^{j theta}) M), on a 720-point grid refined by minimize_scalar."""
+    def rho(th):
+        q = m * np.array([[1.0], [np.exp(1j * th)]])
+        return max(abs(np.linalg.eigvals(q)))
+    ths = np.linspace(0, 2 * np.pi, 720, endpoint=False)
+    vals = [rho(t) for t in ths]
+    i = int(np.argmax(vals))
+    res = scipy.optimize.minimize_scalar(lambda t: -rho(t), bounds=(ths[i] - np.pi / 360, ths[i] + np.pi / 360), method="bounded", options={"xatol": 1e-12})
+    return max(vals[i], -res.fun)
+
+
+def check_multiloop(body, r):
+    a = np.array(body["plant"]["a"], float)
+    b = np.array(body["plant"]["b"], float)
+    k = np.array(r["feedback"]["gain"], float)
+    acl = a - b @ k
+
+    def m_at(w):
+        s = np.eye(2) - k @ np.linalg.solve(1j * w * np.eye(3) - acl, b)
+        return s - 0.5 * np.eye(2)
+    ws = np.logspace(-3, 3, 600)
+    mus = [mu_two(m_at(w)) for w in ws]
+    i = int(np.argmax(mus))
+    lo, hi = ws[max(i - 1, 0)], ws[min(i + 1, len(ws) - 1)]
+    res = scipy.optimize.minimize_scalar(lambda w: -mu_two(m_at(w)), bounds=(lo, hi), method="bounded", options={"xatol": 1e-10})
+    peak = max(mus[i], -res.fun, 0.5)  # S - I/2 tends to -I/2 as w grows: mu >= 1/2
+    alpha = 1.0 / peak
+    ours = r["margins"]["all_inputs"]["disk_margin"]
+    ok = abs(ours - alpha) <= 1e-4 * alpha
+    print(f"{'ok  ' if ok else 'FAIL'} two-input all-inputs disk margin: ours {ours:.8f} ({r['margins']['all_inputs']['accuracy']}), numpy {alpha:.8f}")
+    return ok
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--cli", type=Path, default=ROOT / "target" / "release" / "polewright")
@@ -150,7 +219,8 @@ def main(argv=None) -> int:
     ok = True
     for name, body in CASES.items():
         ok &= check(name, body, design(args.cli, body))
-    print(f"margins against scipy: {len(CASES)} designs, {'no' if ok else 'some'} failures")
+    ok &= check_multiloop(MULTILOOP, design(args.cli, MULTILOOP))
+    print(f"margins against scipy: {len(CASES) + 1} designs, {'no' if ok else 'some'} failures")
     return 0 if ok else 1
 
 

@@ -21,4 +21,6 @@ pub mod poles;
 pub mod precision;
 pub mod riccati;
 pub mod search;
+pub mod sensitivity;
 pub mod simulate;
+pub mod uncertainty;

@@ -210,6 +210,35 @@ pub struct ControllerSpec {
     pub pole_choice: Option<PoleChoice>,
     /// LQR weights: the poles are those of the LQR closed loop.
     pub lqr: Option<LqrWeights>,
+    /// The robustness analysis asked for (margins' skew, pole sensitivity, uncertainty).
+    pub robustness: RobustnessSpec,
+}
+
+/// What the robustness analysis is asked for (`robustness` in the document).
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct RobustnessSpec {
+    /// Skew σ ∈ [−1, 1] of the disk margins (0, symmetric, by default).
+    pub skew: f64,
+    /// The plant entry whose effect on each closed-loop pole (∂λ/∂p) is reported.
+    pub sensitivity_entry: Option<PlantEntry>,
+    /// The uncertain plant parameters of the Monte-Carlo cloud.
+    pub uncertainty: Option<UncertaintySpec>,
+}
+
+/// One entry of `A` or `B` (0-based).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct PlantEntry {
+    pub matrix: crate::uncertainty::PlantMatrix,
+    pub row: usize,
+    pub column: usize,
+}
+
+/// The Monte-Carlo sample of the uncertain plant.
+#[derive(Debug, Clone, PartialEq)]
+pub struct UncertaintySpec {
+    pub model: crate::uncertainty::UncertaintyModel,
+    pub samples: usize,
+    pub seed: u64,
 }
 
 /// What one design leaves for the next design of the same session to continue from: the
@@ -256,6 +285,7 @@ impl Default for ControllerSpec {
             search: None,
             pole_choice: None,
             lqr: None,
+            robustness: RobustnessSpec::default(),
         }
     }
 }

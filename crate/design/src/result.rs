@@ -161,33 +161,81 @@ pub enum TrackingResult {
 /// Margins of the loop as built, broken at the plant input (`crate::margins`).
 #[derive(Debug, Clone, Serialize)]
 pub struct MarginsResult {
+    /// Skew σ of the disks (0: symmetric gain variations; 1: gain increase unbounded).
+    pub skew: f64,
     /// One per input, the other inputs' loops closed (loop at a time).
     pub per_input: Vec<InputMarginResult>,
+    /// Every input perturbed at once, independently (multiloop disk margin).
+    pub all_inputs: AllInputsMargin,
     /// Largest σ_max(S) over frequency at the plant input, and where (rad/s).
     pub peak_sensitivity: f64,
     pub peak_sensitivity_frequency: f64,
     /// Largest σ_max(T), and where.
     pub peak_complementary_sensitivity: f64,
     pub peak_complementary_sensitivity_frequency: f64,
+    /// σ_max(S) and σ_max(T) over frequency (a logarithmic selection of the grid, for plots).
+    pub frequency_response: FrequencyResponse,
+}
+
+/// A disk margin: size α, the real gain factors `[low, high]` it guarantees (`high` null when
+/// unbounded), the phase (degrees) it guarantees and the frequency (rad/s) where it is attained.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct DiskMargin {
+    pub disk_margin: f64,
+    pub gain_range: [f64; 2],
+    pub phase_margin_deg: f64,
+    pub frequency: f64,
 }
 
 /// One input's margins.
 #[derive(Debug, Clone, Serialize)]
 pub struct InputMarginResult {
     pub input: String,
-    /// Disk margin α (skew 0), the gain factors and phase (degrees) it guarantees, and the
-    /// frequency (rad/s) where it is attained.
-    pub disk_margin: f64,
-    pub gain_range: [f64; 2],
-    pub phase_margin_deg: f64,
-    pub frequency: f64,
-    /// Classical margins (null where the loop has no such crossing).
+    #[serde(flatten)]
+    pub disk: DiskMargin,
+    pub classical: ClassicalMargins,
+}
+
+/// Classical loop-at-a-time margins (null where the loop has no such crossing).
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct ClassicalMargins {
+    /// Gain factors at the −180° crossings below and above 1.
     pub gain_margin_low: Option<f64>,
     pub gain_margin_high: Option<f64>,
-    pub classical_phase_margin_deg: Option<f64>,
+    /// Phase margin (degrees) at the first crossover, and the crossover frequency (rad/s).
+    pub phase_margin_deg: Option<f64>,
     pub crossover: Option<f64>,
     /// Extra input delay (s) the loop tolerates.
     pub delay_margin: Option<f64>,
+}
+
+/// How exact the all-inputs margin is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum MultiloopAccuracy {
+    /// The D-scaling bound met the lower bound (up to three inputs): the margin is exact.
+    Exact,
+    /// A guaranteed margin that may be conservative (the D-scaling bound of μ).
+    Bound,
+}
+
+/// The all-inputs disk margin.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct AllInputsMargin {
+    #[serde(flatten)]
+    pub disk: DiskMargin,
+    pub accuracy: MultiloopAccuracy,
+    /// A disk of this size at that frequency destabilises the loop (null for more than three
+    /// inputs).
+    pub disk_margin_at_most: Option<f64>,
+}
+
+/// `σ_max(S)` and `σ_max(T)` at the plant input over frequency.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct FrequencyResponse {
+    pub frequency: Vec<f64>,
+    pub sensitivity: Vec<f64>,
+    pub complementary_sensitivity: Vec<f64>,
 }
 
 /// The float32 re-check of a digital design ([`crate::precision`]).

@@ -33,7 +33,7 @@
 //! | `search-short-of-limit` | caution | at the factor the search found, the peak input is below 97 % of its limit (a branch change, a non-monotone or a discontinuous peak) |
 //! | `lqr-weight-indefinite` | caution | the LQR state weight (after the cross weight) is not positive semidefinite but a stabilising solution exists and is used: LQR's guaranteed margins do not apply |
 //! | `float32-sensitive` | caution | stored as float32, a closed-loop pole leaves the unit circle or a pole's damping falls below 90 % of its design value |
-//! | `small-margin` | caution | an input's disk margin (loop at a time) guarantees less than about ±6 dB of gain or ±35° of phase (common practice minimum) |
+//! | `small-margin` | caution | the all-inputs disk margin guarantees less than about ±6 dB of gain or ±35° of phase (common practice minimum) |
 //! | `deadbeat` | caution | requested poles at z = 0: the loop settles in a few samples with large inputs, and the sample time sets the speed |
 //! | `search-not-monotonic` | note | the peak input did not grow steadily with the speed-up: the factor found is one crossing |
 //! | `simulation-shortened` | note | the simulated time chosen from the slowest pole was cut to the sample cap (50 000 samples) |

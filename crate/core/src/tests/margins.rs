@@ -65,7 +65,7 @@ fn loop_at_a_time_closes_the_other_inputs() {
     let a = m(2, 2, &[-1.0, 0.0, 0.0, -2.0]);
     let b = DMatrix::identity(2, 2);
     let k = m(2, 2, &[3.0, 0.0, 0.0, 5.0]);
-    let l = state_feedback_loop(&a, &b, &k, None).loop_at(0);
+    let l = state_feedback_loop(&a, &b, &k, None).loop_at(0).unwrap();
     let w = 0.7;
     let v = l.loop_response(w).unwrap()[(0, 0)];
     let want = Complex64::new(3.0, 0.0) / Complex64::new(1.0, w);

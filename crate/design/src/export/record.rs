@@ -85,13 +85,7 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
         }
     }
     if let Some(m) = &result.margins {
-        for p in &m.per_input {
-            rows.push((
-                format!("Disk margin at the plant input, {} (others closed)", p.input),
-                format!("α = {}: gain × {} to × {}, phase ±{}°; delay margin {}", fmt_num(p.disk_margin), fmt_num(p.gain_range[0]), fmt_num(p.gain_range[1]), fmt_num(p.phase_margin_deg), p.delay_margin.map_or("none".into(), |d| format!("{} s", fmt_num(d)))),
-                if p.gain_range[0] <= 0.5 && p.phase_margin_deg >= 35.0 { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into(),
-            ));
-        }
+        rows.extend(margin_rows(m));
     }
     if let Some(s) = &result.sample_rate {
         rows.push(("Sample rate against the closed-loop bandwidth".into(), s.samples_per_bandwidth.map_or("deadbeat".into(), |v| format!("{} samples per bandwidth period", fmt_num(v))), format!("{:?}", s.verdict).to_lowercase()));
@@ -253,4 +247,26 @@ pub fn record_from_text(text: &str, date: &str, whole: bool) -> Result<String, c
     let design = crate::check::check_text(text)?;
     let result = crate::run::run_checked(&design)?;
     Ok(if whole { record_document(&spec, &design, &result, date) } else { record_fragment(&spec, &design, &result, date) })
+}
+
+/// The record's rows of the margins at the plant input.
+fn margin_rows(m: &crate::result::MarginsResult) -> Vec<(String, String, String)> {
+    let enough = |d: &crate::result::DiskMargin| d.gain_range[0] <= 0.5 && d.gain_range[1] >= 2.0 && d.phase_margin_deg >= 35.0;
+    let range = |d: &crate::result::DiskMargin| format!("α = {}: gain × {} to × {}, phase ±{}° (skew {})", fmt_num(d.disk_margin), fmt_num(d.gain_range[0]), if d.gain_range[1].is_finite() { fmt_num(d.gain_range[1]) } else { "∞".into() }, fmt_num(d.phase_margin_deg), fmt_num(m.skew));
+    let mut rows = Vec::new();
+    for p in &m.per_input {
+        rows.push((
+            format!("Disk margin at the plant input, {} (others closed)", p.input),
+            format!("{}; delay margin {}", range(&p.disk), p.classical.delay_margin.map_or("none".into(), |d| format!("{} s", fmt_num(d)))),
+            if enough(&p.disk) { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into(),
+        ));
+    }
+    let all = &m.all_inputs;
+    let how = match all.accuracy {
+        crate::result::MultiloopAccuracy::Exact => "exact",
+        crate::result::MultiloopAccuracy::Bound => "guaranteed bound, may be conservative",
+    };
+    rows.push(("Disk margin at the plant input, all inputs at once".into(), format!("{} ({how})", range(&all.disk)), if enough(&all.disk) { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into()));
+    rows.push(("Sensitivity peaks at the plant input".into(), format!("σ_max(S) {} at {} rad/s; σ_max(T) {} at {} rad/s", fmt_num(m.peak_sensitivity), fmt_num(m.peak_sensitivity_frequency), fmt_num(m.peak_complementary_sensitivity), fmt_num(m.peak_complementary_sensitivity_frequency)), String::new()));
+    rows
 }

@@ -73,7 +73,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     independent_verdict(&s, &dp, &g)?;
     let advice = s.t.map(|t| crate::controller::sample_rate_advice(&s.to_s(&dp.base_poles), t));
     let finite_precision = s.t.and_then(|t| finite_precision(&s, &dp, &g, t));
-    let margins = margins::margins(&s, &dp, &g);
+    let margins = margins::margins(&s, &g);
     let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
     let mut warnings = warnings::requested_pole_warnings(&s, &dp, anorm);
     warnings.extend(warnings::placement_warnings(&s, &g, &analysis));

@@ -203,19 +203,15 @@ fn loop_runs(s: &Setup) -> bool {
     s.spec.observer.is_some() || !matches!(s.spec.tracking, TrackingSpec::None) || s.t.is_some()
 }
 
-/// The whole loop, when anything beyond plain state feedback was asked for.
-pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<Warning>) -> Result<Option<LoopResult>, DesignError> {
-    let spec = s.spec;
-    let tracking_on = !matches!(spec.tracking, TrackingSpec::None);
-    if !loop_runs(s) {
-        return Ok(None);
-    }
+/// The complete controller as it would go into firmware (what the loop simulation runs and
+/// the margins break at the plant input).
+pub(super) fn loop_controller(s: &Setup, g: &Gains) -> LoopController {
     let tracking = match (&g.feedforward, &g.k_i) {
         (Some((nx, nu)), _) => TrackingLaw::Feedforward { nx: nx.clone(), nu: nu.clone() },
-        (None, Some(ki)) => TrackingLaw::Integral { ki: ki.clone(), anti_windup: spec.anti_windup },
+        (None, Some(ki)) => TrackingLaw::Integral { ki: ki.clone(), anti_windup: s.spec.anti_windup },
         _ => TrackingLaw::None,
     };
-    let ctrl = LoopController {
+    LoopController {
         k: g.k_x.clone(),
         k_delay: g.k_u.clone(),
         observer: g.observer.as_ref().map(|(od, _, _)| od.gain.clone()),
@@ -224,7 +220,17 @@ pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<W
         tracking,
         tracked_outputs: s.tracked.clone(),
         sample_time: s.t,
-    };
+    }
+}
+
+/// The whole loop, when anything beyond plain state feedback was asked for.
+pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<Warning>) -> Result<Option<LoopResult>, DesignError> {
+    let spec = s.spec;
+    let tracking_on = !matches!(spec.tracking, TrackingSpec::None);
+    if !loop_runs(s) {
+        return Ok(None);
+    }
+    let ctrl = loop_controller(s, g);
     let sc = &spec.scenario;
     let reference = if tracking_on { if sc.reference.is_empty() { vec![1.0; s.q()] } else { sc.reference.clone() } } else { Vec::new() };
     let x0 = if tracking_on && s.req.initial_state.is_none() { vec![0.0; s.n] } else { h.x0.clone() };

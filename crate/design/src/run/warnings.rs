@@ -318,21 +318,27 @@ pub(super) fn precision_warning(fp: &crate::result::FinitePrecisionResult) -> Op
     })
 }
 
-/// The `small-margin` caution: a disk margin (loop at a time, skew 0) guaranteeing less than
-/// a factor 2 (6 dB) either way or 35° of phase (common practice minimum).
+/// The `small-margin` caution: the multiloop disk margin (every input perturbed at once)
+/// guarantees less than a factor 2 (6 dB) either way or 35° of phase (common practice minimum).
 pub(super) fn margin_warning(m: &crate::result::MarginsResult) -> Option<Warning> {
-    let small: Vec<String> = m
-        .per_input
-        .iter()
-        .filter(|p| p.gain_range[0] > 0.5 || p.phase_margin_deg < 35.0)
-        .map(|p| format!("{}: gain factors {}–{}, phase ±{}° (at {} rad/s)", p.input, fmt_num(p.gain_range[0]), fmt_num(p.gain_range[1]), fmt_num(p.phase_margin_deg), fmt_num(p.frequency)))
-        .collect();
-    (!small.is_empty()).then(|| {
+    let d = &m.all_inputs.disk;
+    let short = d.gain_range[0] > 0.5 || d.gain_range[1] < 2.0 || d.phase_margin_deg < 35.0;
+    short.then(|| {
+        let weakest = m.per_input.iter().min_by(|a, b| a.disk.disk_margin.total_cmp(&b.disk.disk_margin));
+        let single = match (m.per_input.len(), weakest) {
+            (2.., Some(p)) => format!(" The weakest single input is {} (α = {}).", p.input, fmt_num(p.disk.disk_margin)),
+            _ => String::new(),
+        };
         Warning::new(
             WarningCode::SmallMargin,
             format!(
-                "The disk margin at the plant input (each input with the others closed) guarantees less than the common-practice minimum of about ±6 dB and ±35°: {}. Slow the poles down, or, with an observer, make it faster or check the loop with the model's uncertainty.",
-                small.join("; ")
+                "The disk margin at the plant input ({}, skew {}) guarantees gain factors {} to {} and phase ±{}° (at {} rad/s): less than the common-practice minimum of about ±6 dB and ±35°.{single} Slow the poles down, or, with an observer, make it faster or check the loop with the model's uncertainty.",
+                if m.per_input.len() > 1 { "all inputs at once" } else { "one input" },
+                fmt_num(m.skew),
+                fmt_num(d.gain_range[0]),
+                if d.gain_range[1].is_finite() { fmt_num(d.gain_range[1]) } else { "∞".into() },
+                fmt_num(d.phase_margin_deg),
+                fmt_num(d.frequency)
             ),
         )
     })

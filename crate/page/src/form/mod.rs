@@ -102,6 +102,7 @@ mod fields;
 pub mod history;
 mod choice_report;
 mod report;
+mod robustness;
 mod scenes;
 pub use adapter::{form_from_spec, form_key, spec_from_form};
 pub use choice_report::*;

@@ -787,7 +787,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
         controllability: structure_result_text(&result.controllability, Kind::Controllability, discrete),
         observability: result.observability.as_ref().map(|o| structure_result_text(o, Kind::Observability, discrete)),
         robustness: robustness_text(result),
-        margins: margin_lines(result),
+        margins: super::robustness::margin_lines(result),
         warnings,
         states,
         inputs,
@@ -1144,36 +1144,3 @@ pub fn precision_sentence(fp: &crate::design::FinitePrecisionResult) -> String {
     format!("Float32 re-check (the numbers rounded as a float export stores them): {}.", parts.join("; "))
 }
 
-/// The margins at the plant input as text lines.
-pub fn margin_lines(result: &DesignResult) -> Vec<String> {
-    let Some(m) = &result.margins else { return Vec::new() };
-    let opt = |v: Option<f64>, unit: &str| v.map_or("none".to_string(), |x| format!("{}{unit}", fmt_num(x)));
-    let mut out: Vec<String> = m
-        .per_input
-        .iter()
-        .map(|p| {
-            format!(
-                "{}: disk margin {} (gain × {} to × {}, phase ±{}° at {} rad/s); gain margins {} / {}, phase margin {} at {} rad/s, delay margin {}.",
-                p.input,
-                fmt_num(p.disk_margin),
-                fmt_num(p.gain_range[0]),
-                fmt_num(p.gain_range[1]),
-                fmt_num(p.phase_margin_deg),
-                fmt_num(p.frequency),
-                opt(p.gain_margin_low, ""),
-                opt(p.gain_margin_high, ""),
-                opt(p.classical_phase_margin_deg, "°"),
-                opt(p.crossover, ""),
-                opt(p.delay_margin, " s")
-            )
-        })
-        .collect();
-    out.push(format!(
-        "Peaks at the plant input: |S| {} at {} rad/s, |T| {} at {} rad/s (each input's loop is broken with the others closed).",
-        fmt_num(m.peak_sensitivity),
-        fmt_num(m.peak_sensitivity_frequency),
-        fmt_num(m.peak_complementary_sensitivity),
-        fmt_num(m.peak_complementary_sensitivity_frequency)
-    ));
-    out
-}

@@ -39,6 +39,11 @@ use num_complex::Complex64;
 
 use crate::linalg::eigen::try_eigenvalues;
 
+pub mod built;
+pub mod disk;
+
+pub use disk::{multiloop_disk, Disk, MultiloopDisk};
+
 /// A loop transfer in state-space form.
 #[derive(Debug, Clone, PartialEq)]
 pub struct LoopModel {
@@ -59,6 +64,8 @@ pub enum MarginError {
     BoundaryPole { frequency: f64 },
     /// An eigenvalue computation failed.
     Eigen(String),
+    /// The controller's matrices do not fit the plant (`what` names the block).
+    Size { what: &'static str },
 }
 
 impl std::fmt::Display for MarginError {
@@ -67,6 +74,7 @@ impl std::fmt::Display for MarginError {
             MarginError::IllPosed => write!(f, "the loop is not well posed (I + D is singular)"),
             MarginError::BoundaryPole { frequency } => write!(f, "the closed loop has a pole on the stability boundary near {frequency} rad/s"),
             MarginError::Eigen(m) => write!(f, "{m}"),
+            MarginError::Size { what } => write!(f, "the {what} does not fit the plant's dimensions"),
         }
     }
 }
@@ -229,20 +237,31 @@ impl LoopModel {
         self.evaluator()?.sensitivity(w)
     }
 
-    /// The same loop with only input `i` open and the others closed: a scalar loop.
-    pub fn loop_at(&self, i: usize) -> LoopModel {
+    /// The same loop with only input `i` open and the others closed by `u_o = −y_o`: a scalar
+    /// loop. With `E = (I + D_oo)⁻¹`: `A − B_o E C_o`, `b_i − B_o E D_oi`, `c_i − D_io E C_o`,
+    /// `D_ii − D_io E D_oi`.
+    ///
+    /// # Errors
+    /// [`MarginError::IllPosed`] when `I + D_oo` is singular.
+    pub fn loop_at(&self, i: usize) -> Result<LoopModel, MarginError> {
         let m = self.b.ncols();
         let others: Vec<usize> = (0..m).filter(|&j| j != i).collect();
-        // With D = 0 (state feedback, strictly proper loops): A_i = A − B_o C_o.
-        let bo = DMatrix::from_fn(self.a.nrows(), others.len(), |r, j| self.b[(r, others[j])]);
-        let co = DMatrix::from_fn(others.len(), self.a.ncols(), |j, c| self.c[(others[j], c)]);
-        LoopModel {
-            a: &self.a - bo * co,
-            b: self.b.columns(i, 1).into_owned(),
-            c: self.c.rows(i, 1).into_owned(),
-            d: DMatrix::from_element(1, 1, self.d[(i, i)]),
+        let n = self.a.nrows();
+        let k = others.len();
+        let bo = DMatrix::from_fn(n, k, |r, j| self.b[(r, others[j])]);
+        let co = DMatrix::from_fn(k, n, |j, c| self.c[(others[j], c)]);
+        let doo = DMatrix::from_fn(k, k, |r, c| self.d[(others[r], others[c])]);
+        let doi = DMatrix::from_fn(k, 1, |r, _| self.d[(others[r], i)]);
+        let dio = DMatrix::from_fn(1, k, |_, c| self.d[(i, others[c])]);
+        let e = (DMatrix::<f64>::identity(k, k) + doo).try_inverse().ok_or(MarginError::IllPosed)?;
+        let (bo_e, e_co) = (&bo * &e, &e * &co);
+        Ok(LoopModel {
+            a: &self.a - &bo_e * &co,
+            b: self.b.columns(i, 1) - &bo_e * &doi,
+            c: self.c.rows(i, 1) - &dio * &e_co,
+            d: DMatrix::from_element(1, 1, self.d[(i, i)]) - &dio * &e * &doi,
             sample_time: self.sample_time,
-        }
+        })
     }
 
     /// Frequencies to evaluate: see the module documentation.
@@ -353,17 +372,8 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
     let (lo, hi) = (grid[k.saturating_sub(1)], grid[(k + 1).min(grid.len() - 1)]);
     let (wk, peak) = if hi > lo { refine_max(&disk, lo, hi) } else { (grid[k], values[k]) };
     let alpha = if peak > 0.0 { 1.0 / peak } else { f64::INFINITY };
-    let (gain_range, phase) = if sigma == 0.0 && alpha < 2.0 {
-        ([(2.0 - alpha) / (2.0 + alpha), (2.0 + alpha) / (2.0 - alpha)], (2.0 * (alpha / 2.0).atan()).to_degrees())
-    } else if sigma == 0.0 {
-        ([0.0, f64::INFINITY], 90.0f64.max((2.0 * (alpha / 2.0).atan()).to_degrees()))
-    } else {
-        // General skew: the disk D(α, σ) crosses the real axis at (2 − α(1 − σ))/(2 + α(1 + σ))
-        // and (2 + α(1 − σ))/(2 − α(1 + σ)) (Seiler et al. 2020, from memory).
-        let low = (2.0 - alpha * (1.0 - sigma)) / (2.0 + alpha * (1.0 + sigma));
-        let den = 2.0 - alpha * (1.0 + sigma);
-        ([low.max(0.0), if den > 0.0 { (2.0 + alpha * (1.0 - sigma)) / den } else { f64::INFINITY }], f64::NAN)
-    };
+    let disk_shape = Disk { alpha, skew: sigma };
+    let (gain_range, phase) = (disk_shape.gain_range(), disk_shape.phase_deg());
     // Classical margins from L on the grid.
     let lval = |w: f64| -> Option<Complex64> { ev.loop_response(w).ok().map(|m| m[(0, 0)]) };
     let (mut gm_low, mut gm_high, mut pm, mut wc) = (None::<f64>, None::<f64>, None::<f64>, None::<f64>);
@@ -396,6 +406,24 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
             }
         }
     }
+    // L is real at ω = 0 and, sampled, at the Nyquist frequency: a negative real value there is
+    // a −180° point too (a real closed-loop pole crossing z = 1 / s = 0, or z = −1).
+    let mut ends = vec![0.0];
+    if let Some(t) = l.sample_time {
+        ends.push(std::f64::consts::PI / t);
+    }
+    for w in ends {
+        // From S = (1 + L)⁻¹, so that a pole of L there (S = 0) is recognised as one.
+        let from_s = ev.sensitivity(w).ok().map(|m| m[(0, 0)]).filter(|s| s.norm() > 1e-10).map(|s| 1.0 / s - 1.0);
+        if let Some(v) = from_s.filter(|v| finite(*v) && v.re < 0.0 && v.im.abs() <= 1e-9 * v.norm()) {
+            let g = 1.0 / v.norm();
+            if g > 1.0 {
+                gm_high = Some(gm_high.map_or(g, |x| x.min(g)));
+            } else {
+                gm_low = Some(gm_low.map_or(g, |x| x.max(g)));
+            }
+        }
+    }
     let delay = match (pm, wc) {
         (Some(p), Some(w)) if p > 0.0 && w > 0.0 => Some(p.to_radians() / w),
         _ => None,
@@ -414,5 +442,5 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
 }
 
 #[cfg(test)]
-#[path = "tests/margins.rs"]
+#[path = "../tests/margins.rs"]
 mod tests;
