@@ -222,6 +222,26 @@ impl Plant {
     }
 
     /// Number of states `n`.
+    /// The same plant (outputs, names and units) with other `A` and `B` of the same sizes, as
+    /// for a perturbed model.
+    ///
+    /// # Errors
+    /// [`PlantError`] when the new matrices do not fit or are not finite.
+    pub fn with_dynamics(&self, a: DMatrix<f64>, b: DMatrix<f64>) -> Result<Plant, PlantError> {
+        Plant::new(PlantSpec {
+            a,
+            b,
+            c: self.c.clone(),
+            d: self.d.clone(),
+            state_names: self.state_names.clone(),
+            input_names: self.input_names.clone(),
+            output_names: self.output_names.clone(),
+            state_units: self.state_units.clone(),
+            input_units: self.input_units.clone(),
+            output_units: self.output_units.clone(),
+        })
+    }
+
     pub fn states(&self) -> usize {
         self.a.nrows()
     }

@@ -318,6 +318,7 @@ mod plant_rules;
 mod controller_rules;
 #[path = "check/pole_rules.rs"]
 mod pole_rules;
+mod robustness_rules;
 
 pub use pole_rules::{choose_poles, PoleRequest};
 
@@ -327,6 +328,7 @@ pub fn check(spec: &DesignSpec) -> CheckReport {
     let plant = plant_rules::plant(spec, &mut c);
     let basics = plant_rules::basics(spec, plant.as_ref(), &mut c);
     let mut controller = controller_rules::controller(spec, plant.as_ref(), &mut c);
+    robustness_rules::robustness(spec, plant.as_ref(), &mut controller, &mut c);
     let poles = pole_rules::pole_source(spec, plant.as_ref(), &basics, &mut controller, &mut c);
     let design = match (plant, basics, poles) {
         (Some(plant), b, Some(setup)) if c.errors.is_empty() => match (b.limits, b.initial_state, b.duration, b.band) {

@@ -115,6 +115,13 @@ field_paths! {
     Search => "search",
     SearchFastest => "search.fastest_within_limits",
     SearchSituations => "search.situations",
+    Robustness => "robustness",
+    DiskSkew => "robustness.disk_skew",
+    SensitivityEntry => "robustness.sensitivity_entry",
+    Uncertainty => "robustness.uncertainty",
+    UncertainEntries => "robustness.uncertainty.entries",
+    UncertaintySamples => "robustness.uncertainty.samples",
+    UncertaintySeed => "robustness.uncertainty.seed",
 }
 
 impl FieldPath {

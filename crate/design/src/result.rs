@@ -59,9 +59,12 @@ pub struct DesignResult {
     /// LQR as a way of choosing poles.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub lqr: Option<LqrResult>,
-    /// Margins at the plant input of the loop as built (absent where not yet modelled: a
-    /// current-form observer, or an observer with a computation delay).
+    /// Margins at the plant input of the loop as built (null only when a computation failed).
     pub margins: Option<MarginsResult>,
+    pub pole_sensitivity: Option<PoleSensitivityResult>,
+    /// Only when the design asks for it (`robustness.uncertainty`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub uncertainty: Option<UncertaintyResult>,
     /// The float32 re-check (digital designs).
     pub finite_precision: Option<FinitePrecisionResult>,
     /// The start of the next design of a session (not written to the result file).
@@ -225,8 +228,8 @@ pub struct AllInputsMargin {
     #[serde(flatten)]
     pub disk: DiskMargin,
     pub accuracy: MultiloopAccuracy,
-    /// A disk of this size at that frequency destabilises the loop (null for more than three
-    /// inputs).
+    /// A disk of this size at that frequency destabilises the loop (from the lower bound of μ;
+    /// equal to `disk_margin` when exact; null when infinite).
     pub disk_margin_at_most: Option<f64>,
 }
 
@@ -236,6 +239,59 @@ pub struct FrequencyResponse {
     pub frequency: Vec<f64>,
     pub sensitivity: Vec<f64>,
     pub complementary_sensitivity: Vec<f64>,
+}
+
+/// How sensitive each closed-loop pole of the loop as built is to model error.
+#[derive(Debug, Clone, Serialize)]
+pub struct PoleSensitivityResult {
+    /// The plant entry of the derivatives (`"A(2, 1)"`), when one was chosen.
+    pub entry: Option<String>,
+    /// One row per pole of the loop as built (the controller's domain: z for a digital design).
+    pub poles: Vec<PoleSensitivityRow>,
+    /// A sentence naming the pole most sensitive to model error.
+    pub summary: String,
+}
+
+/// One pole: its eigenvalue condition number and, for the chosen entry `p`, `dλ/dp`.
+#[derive(Debug, Clone, Serialize)]
+pub struct PoleSensitivityRow {
+    pub pole: Pair,
+    pub condition: f64,
+    pub derivative: Option<Pair>,
+}
+
+/// The seeded Monte-Carlo sample of the uncertain plant with the gains held fixed.
+#[derive(Debug, Clone, Serialize)]
+pub struct UncertaintyResult {
+    pub samples: usize,
+    pub seed: u64,
+    /// The uncertain parameters as read (`"A(2, 1) ±20 %"`, `"B (norm) ±10 %"`).
+    pub parameters: Vec<String>,
+    pub stable: usize,
+    pub failed: usize,
+    pub stable_fraction: f64,
+    /// Smallest decay rate (1/s; negative: growing) and damping ratio over every pole sampled.
+    pub worst_decay_rate: f64,
+    pub worst_damping: f64,
+    /// Every sampled closed-loop pole (the controller's domain), sample after sample.
+    pub poles: Vec<Pair>,
+    /// The spread over the samples of the response the design simulates (the loop scenario
+    /// when there is one, otherwise the free response).
+    pub response: Option<ResponseSpread>,
+}
+
+/// Spread of the simulated response over the samples.
+#[derive(Debug, Clone, Serialize)]
+pub struct ResponseSpread {
+    /// `"loop"` or `"free response"`.
+    pub scenario: &'static str,
+    /// Longest settling time of each sample: smallest, median, largest (s), over the samples
+    /// that settled; and how many did not settle.
+    pub settling_time: Option<[f64; 3]>,
+    pub not_settled: usize,
+    /// Peak input (or command) magnitude per input: smallest, median, largest (null when no
+    /// sample could be simulated).
+    pub peak_input: Vec<Option<[f64; 3]>>,
 }
 
 /// The float32 re-check of a digital design ([`crate::precision`]).

@@ -65,6 +65,8 @@ pub struct DesignSpec {
     pub anti_windup: Option<AntiWindupDoc>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub search: Option<SearchDoc>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub robustness: Option<RobustnessDoc>,
 }
 
 impl Default for DesignSpec {
@@ -85,6 +87,7 @@ impl Default for DesignSpec {
             tracking: None,
             anti_windup: None,
             search: None,
+            robustness: None,
         }
     }
 }
@@ -352,6 +355,64 @@ pub struct SituationDoc {
     pub reference: Option<NumberList>,
 }
 
+/// `robustness`: the disks' skew, the plant entry whose effect on each pole is reported, and
+/// the uncertain parameters of the Monte-Carlo cloud.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RobustnessDoc {
+    /// Skew σ of the disk margins, −1 to 1 (0 when left out).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub disk_skew: Option<Scalar>,
+    /// `"A 2 1"` (matrix, row, column; 1-based) or `{"matrix": "a", "row": 2, "column": 1}`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sensitivity_entry: Option<EntryRefDoc>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub uncertainty: Option<UncertaintyDoc>,
+}
+
+/// A plant entry: typed text or an object.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(untagged)]
+pub enum EntryRefDoc {
+    Text(String),
+    Entry(EntryDoc),
+}
+
+/// One uncertain entry (`row` and `column` 1-based), or a whole matrix when both are left out.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EntryDoc {
+    pub matrix: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub row: Option<u64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub column: Option<u64>,
+    /// The relative amount (0.2 = ±20 %); only in `uncertainty.entries`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub relative: Option<f64>,
+}
+
+/// `robustness.uncertainty`: what is uncertain, how many samples, which seed.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct UncertaintyDoc {
+    /// Text, one per line (`A 2 1 20%`, `B 10%` for a whole matrix), or a list of entries.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub entries: Option<UncertainList>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub samples: Option<Whole>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub seed: Option<Whole>,
+}
+
+/// The uncertain entries: typed text or a list.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(untagged)]
+pub enum UncertainList {
+    Text(String),
+    List(Vec<EntryDoc>),
+}
+
 // ---------------------------------------------------------------------------------------------
 // Leaves: numbers as typed, or as JSON.
 
@@ -609,6 +670,36 @@ impl<'de> Deserialize<'de> for Whole {
             Value::String(s) => Ok(Whole::Text(s.clone())),
             Value::Number(_) => v.as_u64().map(Whole::Number).ok_or_else(|| format!("{} must be a whole number ≥ 0", short(&v))),
             other => Err(format!("expected a whole number, found {}", kind(other))),
+        };
+        out.map_err(D::Error::custom)
+    }
+}
+
+fn entry_doc(v: &Value, k: Option<usize>) -> Result<EntryDoc, String> {
+    let at = k.map_or(String::new(), |k| format!("entry {}: ", k + 1));
+    match v {
+        Value::Object(_) => serde_json::from_value::<EntryDoc>(v.clone()).map_err(|e| format!("{at}{e}; write {{\"matrix\": \"a\", \"row\": 2, \"column\": 1{}}}", if k.is_some() { ", \"relative\": 0.2" } else { "" })),
+        other => Err(format!("{at}expected an object such as {{\"matrix\": \"a\", \"row\": 2, \"column\": 1}}, found {}", kind(other))),
+    }
+}
+
+impl<'de> Deserialize<'de> for EntryRefDoc {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let v = Value::deserialize(d)?;
+        match &v {
+            Value::String(s) => Ok(EntryRefDoc::Text(s.clone())),
+            _ => entry_doc(&v, None).map(EntryRefDoc::Entry).map_err(D::Error::custom),
+        }
+    }
+}
+
+impl<'de> Deserialize<'de> for UncertainList {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let v = Value::deserialize(d)?;
+        let out = match &v {
+            Value::String(s) => Ok(UncertainList::Text(s.clone())),
+            Value::Array(items) => items.iter().enumerate().map(|(k, x)| entry_doc(x, Some(k))).collect::<Result<Vec<_>, _>>().map(UncertainList::List),
+            other => Err(format!("expected text (one entry per line, such as A 2 1 20%) or a list of entries, found {}", kind(other))),
         };
         out.map_err(D::Error::custom)
     }

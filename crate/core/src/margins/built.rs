@@ -117,7 +117,9 @@ fn apply(p: &PlantMatrices, ctrl: &LoopController, lay: &Layout, s: &DVector<f64
     let mut next = DVector::<f64>::zeros(lay.size);
     if sampled {
         next.rows_mut(0, n).copy_from(&(p.a * &x + p.b * u_in));
-        put(&mut next, Some(lay.z), &(&z - yt * ctrl.sample_time.unwrap_or(0.0)));
+        if lay.qi > 0 {
+            put(&mut next, Some(lay.z), &(&z - yt * ctrl.sample_time.unwrap_or(0.0)));
+        }
         if let Some(l) = &ctrl.observer {
             let xh = match (ctrl.observer_form, &ctrl.current_gain) {
                 (ObserverForm::Current, Some(_)) => p.a * &est + p.b * &u_a,
@@ -130,7 +132,9 @@ fn apply(p: &PlantMatrices, ctrl: &LoopController, lay: &Layout, s: &DVector<f64
         put(&mut next, lay.u_prev, &u);
     } else {
         next.rows_mut(0, n).copy_from(&(p.a * &x + p.b * u_in));
-        put(&mut next, Some(lay.z), &(-yt));
+        if lay.qi > 0 {
+            put(&mut next, Some(lay.z), &(-yt));
+        }
         if let Some(l) = &ctrl.observer {
             put(&mut next, lay.xhat, &(p.a * &xhat + p.b * &u + l * (&y - p.c * &xhat - p.d * &u)));
         }

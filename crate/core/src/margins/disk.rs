@@ -17,9 +17,11 @@
 //!   (Osborne, "On pre-conditioning of matrices", J. ACM 7(4), 1960), then Nelder–Mead on
 //!   `log D` with restarts (capped evaluations). The bound equals `μ` for up to three inputs
 //!   (Doyle 1982), provided the minimisation reaches the infimum.
-//! - Lower bound `μ ≥ max_Q ρ(Q M)` over diagonal unitary `Q` (an equality, Doyle 1982): a
-//!   grid over the phases (one phase fixed) refined by coordinate search, for up to three
-//!   inputs. When both bounds agree to [`EXACT_GAP`] the value is reported as exact.
+//! - Lower bound `μ ≥ max_Q ρ(Q M)` over diagonal unitary `Q` (an equality at the global
+//!   maximum, Doyle 1982): a grid over the phases (up to three inputs) or seeded random phases
+//!   (more), refined by coordinate search, at the critical frequency. When both bounds agree
+//!   to [`EXACT_GAP`] the value is reported as exact (μ is enclosed); otherwise both are
+//!   reported.
 //! - Over frequency: the bound is minimised briefly at each grid frequency, warm-started from
 //!   the previous frequency's scaling; frequencies are then refined fully in decreasing order of
 //!   that bound until it falls within [`PRUNE_TOLERANCE`] of the best refined value (a
@@ -40,6 +42,9 @@ use crate::linalg::svd::{try_singular_values, SvdParams};
 
 /// Relative gap between the lower and upper bounds under which `μ` is reported as exact.
 pub const EXACT_GAP: f64 = 1e-3;
+
+/// Random phase vectors the lower bound starts from for more than three inputs.
+const LOWER_BOUND_STARTS: usize = 200;
 
 /// Largest number of grid frequencies at which the bound is minimised fully.
 const MAX_REFINED: usize = 64;
@@ -129,8 +134,9 @@ fn osborne(m: &DMatrix<Complex64>) -> Vec<f64> {
     d.iter().map(|v| (v - first).clamp(-300.0, 300.0)).collect()
 }
 
-/// Nelder–Mead minimisation of `f` from `x0` (at most `budget` evaluations).
-fn nelder_mead(f: &dyn Fn(&[f64]) -> f64, x0: &[f64], step: f64, budget: usize) -> (Vec<f64>, f64) {
+/// Nelder–Mead minimisation of `f` from `x0` (at most `budget` evaluations; stops when the
+/// simplex's values agree to `tolerance` relative).
+fn nelder_mead(f: &dyn Fn(&[f64]) -> f64, x0: &[f64], step: f64, budget: usize, tolerance: f64) -> (Vec<f64>, f64) {
     let k = x0.len();
     let mut pts: Vec<(Vec<f64>, f64)> = Vec::with_capacity(k + 1);
     pts.push((x0.to_vec(), f(x0)));
@@ -144,7 +150,7 @@ fn nelder_mead(f: &dyn Fn(&[f64]) -> f64, x0: &[f64], step: f64, budget: usize) 
     while used < budget {
         pts.sort_by(|a, b| a.1.total_cmp(&b.1));
         let (best, worst) = (pts[0].1, pts[k].1);
-        if worst - best <= 1e-12 * best.abs().max(1e-300) {
+        if worst - best <= tolerance * best.abs().max(1e-300) {
             break;
         }
         let centroid: Vec<f64> = (0..k).map(|j| pts[..k].iter().map(|p| p.0[j]).sum::<f64>() / k as f64).collect();
@@ -191,7 +197,7 @@ fn bound_at(m: &DMatrix<Complex64>, x: &[f64]) -> f64 {
 /// Minimises the D-scaling bound from the better of `warm` and Osborne's scaling, with
 /// `restarts` Nelder–Mead runs of shrinking simplex (it can stall on the nonsmooth points of
 /// σ̄); returns the bound and the log scalings reached.
-fn minimise_bound(m: &DMatrix<Complex64>, warm: Option<&[f64]>, step: f64, restarts: usize, budget: usize) -> (f64, Vec<f64>) {
+fn minimise_bound(m: &DMatrix<Complex64>, warm: Option<&[f64]>, step: f64, restarts: usize, budget: usize, tolerance: f64) -> (f64, Vec<f64>) {
     let k = m.nrows();
     if k <= 1 {
         return (m.get((0, 0)).map_or(0.0, |v| v.norm()), Vec::new());
@@ -208,7 +214,7 @@ fn minimise_bound(m: &DMatrix<Complex64>, warm: Option<&[f64]>, step: f64, resta
     }
     let mut step = step;
     for _ in 0..restarts {
-        let (nx, v) = nelder_mead(&f, &x, step, budget * (k - 1));
+        let (nx, v) = nelder_mead(&f, &x, step, budget * (k - 1), tolerance);
         if v < best {
             (best, x) = (v, nx);
         }
@@ -219,7 +225,7 @@ fn minimise_bound(m: &DMatrix<Complex64>, warm: Option<&[f64]>, step: f64, resta
 
 /// The D-scaling upper bound of `μ` for diagonal complex perturbations.
 pub fn mu_upper_bound(m: &DMatrix<Complex64>) -> f64 {
-    minimise_bound(m, None, 0.5, 4, 150).0
+    minimise_bound(m, None, 0.5, 4, 150, 1e-12).0
 }
 
 /// Spectral radius of a complex matrix (its real embedding `[[X, −Y], [Y, X]]` has the
@@ -237,15 +243,14 @@ fn spectral_radius(m: &DMatrix<Complex64>) -> f64 {
     crate::linalg::eigen::try_eigenvalues(&e).map_or(0.0, |v| v.iter().map(|z| z.norm()).fold(0.0, f64::max))
 }
 
-/// The lower bound `max_Q ρ(Q M)` over diagonal unitary `Q` (first phase fixed): a grid of
-/// `24` phases per free input, refined by coordinate search. `None` for more than three inputs.
-pub fn mu_lower_bound(m: &DMatrix<Complex64>) -> Option<f64> {
+/// The lower bound `max_Q ρ(Q M)` over diagonal unitary `Q` (first phase fixed): for up to
+/// three inputs a grid of 24 phases per free input, for more the best of
+/// [`LOWER_BOUND_STARTS`] seeded random phase vectors; then coordinate search (step halved
+/// when no coordinate improves, to 1e-9 rad).
+pub fn mu_lower_bound(m: &DMatrix<Complex64>) -> f64 {
     let k = m.nrows();
     if k <= 1 {
-        return Some(m.get((0, 0)).map_or(0.0, |v| v.norm()));
-    }
-    if k > 3 {
-        return None;
+        return m.get((0, 0)).map_or(0.0, |v| v.norm());
     }
     let f = |th: &[f64]| -> f64 {
         let q = DMatrix::from_fn(k, k, |i, j| m[(i, j)] * if i == 0 { Complex64::new(1.0, 0.0) } else { Complex64::from_polar(1.0, th[i - 1]) });
@@ -254,16 +259,20 @@ pub fn mu_lower_bound(m: &DMatrix<Complex64>) -> Option<f64> {
     let n = 24usize;
     let tau = std::f64::consts::TAU;
     let mut best = (vec![0.0; k - 1], f(&vec![0.0; k - 1]));
-    let total = n.pow((k - 1) as u32);
-    for idx in 0..total {
-        let th: Vec<f64> = (0..k - 1).map(|j| tau * ((idx / n.pow(j as u32)) % n) as f64 / n as f64).collect();
+    let starts: Vec<Vec<f64>> = if k <= 3 {
+        (0..n.pow((k - 1) as u32)).map(|idx| (0..k - 1).map(|j| tau * ((idx / n.pow(j as u32)) % n) as f64 / n as f64).collect()).collect()
+    } else {
+        let mut rng = crate::uncertainty::SplitMix::new(0x6d75_6c62);
+        (0..LOWER_BOUND_STARTS).map(|_| (0..k - 1).map(|_| tau * rng.uniform()).collect()).collect()
+    };
+    for th in starts {
         let v = f(&th);
         if v > best.1 {
             best = (th, v);
         }
     }
     let mut h = tau / n as f64;
-    for _ in 0..40 {
+    for _ in 0..(60 * k) {
         let mut moved = false;
         for j in 0..k - 1 {
             for sgn in [1.0, -1.0] {
@@ -283,7 +292,7 @@ pub fn mu_lower_bound(m: &DMatrix<Complex64>) -> Option<f64> {
             break;
         }
     }
-    Some(best.1)
+    best.1
 }
 
 /// The multiloop disk margin over a frequency grid.
@@ -293,9 +302,8 @@ pub struct MultiloopDisk {
     /// tolerated) and the frequency where the peak of `μ` is attained.
     pub alpha: f64,
     pub frequency: f64,
-    /// `1 / μ_lower`: a perturbation of this size at that frequency destabilises the loop
-    /// (`None` for more than three inputs, where no lower bound is computed).
-    pub alpha_upper: Option<f64>,
+    /// `1 / μ_lower`: a perturbation of this size at that frequency destabilises the loop.
+    pub alpha_upper: f64,
     /// True when the bounds agree to [`EXACT_GAP`].
     pub exact: bool,
 }
@@ -313,13 +321,13 @@ pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<
     // A near-optimal bound along the grid, each frequency warm-started from the scaling of
     // the previous one (the optimal scaling moves smoothly with frequency).
     let mut warm: Option<Vec<f64>> = None;
-    let cheap: Vec<(f64, f64)> = grid
+    let cheap: Vec<(f64, f64, Vec<f64>)> = grid
         .iter()
         .map(|&w| {
-            let Some(m) = shifted(w) else { return (w, f64::INFINITY) };
-            let (v, x) = minimise_bound(&m, warm.as_deref(), 0.05, 1, 40);
-            warm = Some(x);
-            (w, v)
+            let Some(m) = shifted(w) else { return (w, f64::INFINITY, Vec::new()) };
+            let (v, x) = minimise_bound(&m, warm.as_deref(), 0.05, 1, 40, 1e-6);
+            warm = Some(x.clone());
+            (w, v, x)
         })
         .collect();
     let mut order: Vec<usize> = (0..cheap.len()).collect();
@@ -334,7 +342,7 @@ pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<
             peak = peak.max(cheap[i].1);
             break;
         }
-        let v = shifted(cheap[i].0).map_or(f64::INFINITY, |m| minimise_bound(&m, None, 0.5, 4, 150).0.min(cheap[i].1));
+        let v = shifted(cheap[i].0).map_or(f64::INFINITY, |m| minimise_bound(&m, Some(&cheap[i].2), 0.2, 3, 100, 1e-10).0.min(cheap[i].1));
         if v > peak {
             (peak, at, at_index) = (v, cheap[i].0, i);
         }
@@ -348,12 +356,7 @@ pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<
             (peak, at) = (v, w);
         }
     }
-    let lower = shifted(at).and_then(|m| mu_lower_bound(&m));
+    let lower = shifted(at).map_or(0.0, |m| mu_lower_bound(&m));
     let alpha = if peak > 0.0 { 1.0 / peak } else { f64::INFINITY };
-    MultiloopDisk {
-        alpha,
-        frequency: at,
-        alpha_upper: lower.map(|l| if l > 0.0 { 1.0 / l } else { f64::INFINITY }),
-        exact: lower.is_some_and(|l| peak - l <= EXACT_GAP * peak),
-    }
+    MultiloopDisk { alpha, frequency: at, alpha_upper: if lower > 0.0 { 1.0 / lower } else { f64::INFINITY }, exact: peak - lower <= EXACT_GAP * peak }
 }

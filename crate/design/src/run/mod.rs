@@ -6,6 +6,7 @@ use num_complex::Complex64;
 mod gains;
 mod margins;
 mod pair;
+mod robustness;
 mod setup;
 pub(crate) use setup::output_matrices;
 mod simulation;
@@ -74,6 +75,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     let advice = s.t.map(|t| crate::controller::sample_rate_advice(&s.to_s(&dp.base_poles), t));
     let finite_precision = s.t.and_then(|t| finite_precision(&s, &dp, &g, t));
     let margins = margins::margins(&s, &g);
+    let pole_sensitivity = robustness::pole_sensitivity(&s, &g);
     let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
     let mut warnings = warnings::requested_pole_warnings(&s, &dp, anorm);
     warnings.extend(warnings::placement_warnings(&s, &g, &analysis));
@@ -81,6 +83,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     let simulation = simulation::free_response(&s, &g, &h, &mut warnings)?;
     warnings.extend(warnings::controller_warnings(&g, advice.as_ref()));
     let closed_loop = simulation::whole_loop(&s, &g, &h, &mut warnings)?;
+    let uncertainty = robustness::uncertainty(req, &s, &g, &h, closed_loop.is_some());
     warnings.extend(warnings::observer_speed_warning(spec));
     if let Some(l) = &closed_loop {
         warnings.extend(warnings::loop_warnings(l, req.band));
@@ -120,6 +123,8 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         lqr: dp.lqr.as_ref().map(|d| lqr_result(spec, d)),
         finite_precision,
         margins,
+        pole_sensitivity,
+        uncertainty,
         continuation: crate::Continuation { feedback: g.placement.eigenvectors.clone(), observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()) },
     };
     verdict::finite(&result)?;
