@@ -268,6 +268,7 @@ document.addEventListener('keydown', (e) => {
 byId('pw-save').addEventListener('click', saveDesign);
 byId('pw-export').addEventListener('click', exportFiles);
 byId('pw-print-record').addEventListener('click', printRecord);
+byId('pw-sample-uncertainty').addEventListener('click', guarded(() => { if (ready) sample_uncertainty(); }));
 byId('pw-open-file').addEventListener('change', (e) => {
   openFile(e.target.files[0]);
   e.target.value = '';

@@ -365,6 +365,33 @@ describe('choosing the poles from the form', () => {
     });
   });
 
+  test('robustness: the spinning body is fragile all inputs at once; pole sensitivity; the uncertainty cloud on demand', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      // x' = [[0, 10], [−10, 0]] x + u with both poles at −1: K = [[1, 10], [−10, 1]] and the
+      // closed loop −I. Loop at a time each input sees 1/s (90°, unbounded gain; by hand); all
+      // inputs at once the disk margin is 0.0998 (checked against numpy in check_margins.py).
+      await setFields(page, { a: '0 10\n-10 0', b: '1 0\n0 1', poles: '-1, -1', sensitivity_entry: 'A 1 2', uncertain_entries: 'A 1 2 10%', uncertainty_samples: '200', uncertainty_seed: '3' });
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      const margins = await page.textContent('#pw-margins');
+      assert.match(margins, /phase margin 90° at 1 rad\/s/);
+      assert.match(margins, /All inputs at once: disk margin 0\.0998 .*exact/);
+      const freq = await tableRows(page, 'pw-frequency-table');
+      assert.ok(freq.length >= 10 && freq.some((r) => /\(peak\)/.test(r.join(' '))), JSON.stringify(freq.slice(0, 3)));
+      // The closed loop −I is normal: both poles have condition number 1 (by hand).
+      const sens = await tableRows(page, 'pw-sensitivity-table');
+      assert.equal(sens.length, 2, JSON.stringify(sens));
+      for (const r of sens) assert.ok(Math.abs(Number(r[1]) - 1) < 1e-3, JSON.stringify(r));
+      assert.match(await page.textContent('#pw-sensitivity-table'), /dλ\/d A\(1, 2\)/);
+      assert.match(await page.textContent('#pw-uncertainty'), /200 samples of the uncertain plant are ready/);
+      await page.click('#pw-sample-uncertainty');
+      await page.waitForFunction(() => /seed 3/.test(document.getElementById('pw-uncertainty').textContent));
+      // Every sample is [[−1, 10 u], [0, −1]] with |u| ≤ 0.1: all stable, decay rate 1 (by hand).
+      assert.match(await page.textContent('#pw-uncertainty'), /200 of 200 stable \(100 %\); worst decay rate 1 1\/s/);
+      noErrors(ctx);
+    });
+  });
+
   test('deadbeat with one input: a Jordan block, K = [1/T², 3/(2T)], said in the warnings', async () => {
     await withPage(pageFileUrl, async (ctx) => {
       const { page } = ctx;

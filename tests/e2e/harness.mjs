@@ -191,6 +191,7 @@ export const FORM_FIELDS = [
   'tracking', 'tracked_outputs', 'integral_poles', 'anti_windup', 'anti_windup_time',
   'sample_time', 'computation_delay', 'delay_poles', 'plane',
   'reference', 'reference_time', 'disturbance', 'disturbance_time', 'noise_std', 'seed',
+  'disk_skew', 'sensitivity_entry', 'uncertain_entries', 'uncertainty_samples', 'uncertainty_seed',
 ];
 
 /** The choice fields (selects and the checkbox) and their "not used" value. */

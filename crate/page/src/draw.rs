@@ -35,6 +35,8 @@ pub mod colour {
     pub const REQUESTED: &str = "#0e5f5c";
     /// The pinned design's poles and signals (plum).
     pub const PINNED: &str = "#8b4a6e";
+    /// Poles of the sampled uncertain plants (dots).
+    pub const UNCERTAIN: &str = "#6e6a9a";
     /// Boundary of a specification's admissible region (dark amber).
     pub const REGION: &str = "#8a5a0c";
     /// Signal colours, in order.
@@ -306,6 +308,7 @@ fn marker_style(set: PoleSet) -> MarkerStyle {
         PoleSet::Observer => (6.0, 1.75, colour::OBSERVER),
         PoleSet::Requested => (8.5, 1.5, colour::REQUESTED),
         PoleSet::Pinned => (6.0, 2.0, colour::PINNED),
+        PoleSet::Uncertain => (1.75, 0.0, colour::UNCERTAIN),
     };
     MarkerStyle { half, width, stroke }
 }
@@ -326,6 +329,10 @@ fn marker(s: &mut DisplayList, set: PoleSet, c: [f64; 2]) {
         d
     };
     match set {
+        PoleSet::Uncertain => {
+            s.fill(st.stroke);
+            s.ops.push(DrawOp::FillCircle { centre: bounded_point(c), radius: h });
+        }
         PoleSet::NotAssigned => {
             s.line_width(st.width);
             let mut d = String::new();
@@ -371,6 +378,7 @@ fn set_label(set: PoleSet) -> &'static str {
         PoleSet::Observer => "observer",
         PoleSet::Requested => "requested (drag)",
         PoleSet::Pinned => "pinned design",
+        PoleSet::Uncertain => "uncertain plant (sample)",
     }
 }
 

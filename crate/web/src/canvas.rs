@@ -131,6 +131,11 @@ pub(crate) fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
             page.paint(ids::ESTIMATION_PLOT, e)?;
         }
     }
+    let frequency = match (&page.shown, &page.design) {
+        (Shown::Design, Some(d)) => time_or_message(form::frequency_scene(d), "No margins for this design."),
+        _ => Picture::Message("No design yet.".to_string()),
+    };
+    page.paint(ids::FREQUENCY_PLOT, frequency)?;
     page.paint(ids::STATE_PLOT, states)?;
     page.paint(ids::INPUT_PLOT, inputs)
 }

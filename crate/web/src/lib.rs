@@ -173,10 +173,15 @@ mod ids {
     pub const CHOICE_DETAILS: &str = "pw-choice-details";
     pub const COMPARE_LABEL: &str = "pw-compare-label";
     pub const COMPARE_TABLE: &str = "pw-compare-table";
+    pub const FREQUENCY_PLOT: &str = "pw-frequency-plot";
+    pub const FREQUENCY_TABLE: &str = "pw-frequency-table";
+    pub const SENSITIVITY_SUMMARY: &str = "pw-sensitivity-summary";
+    pub const SENSITIVITY_TABLE: &str = "pw-sensitivity-table";
+    pub const UNCERTAINTY: &str = "pw-uncertainty";
     /// Sections marked stale when the input is invalid.
     pub const OUTPUT_SECTIONS: [&str; 4] = ["pw-results", "pw-pole-section", "pw-loop-section", "pw-response-section"];
     /// Every canvas, in painting order.
-    pub const CANVASES: [&str; 6] = [POLE_MAP, LOOP_PLOT, LOOP_INPUT_PLOT, ESTIMATION_PLOT, STATE_PLOT, INPUT_PLOT];
+    pub const CANVASES: [&str; 7] = [POLE_MAP, FREQUENCY_PLOT, LOOP_PLOT, LOOP_INPUT_PLOT, ESTIMATION_PLOT, STATE_PLOT, INPUT_PLOT];
 }
 
 const POLE_HINT: &str = "Point at a pole, or focus the map (Tab) and press N / P, to read a pole's value.";
@@ -416,6 +421,17 @@ struct CycleSummary {
 /// `data-cycle-ms` (and the phases in `data-cycle-phases`).
 #[wasm_bindgen]
 pub fn update_page() -> Result<JsValue, JsValue> {
+    cycle(form::Cloud::Skip)
+}
+
+/// [`update_page`] with the uncertainty cloud sampled (the “Sample the uncertain plant”
+/// button): the cloud is drawn until the next change of the form.
+#[wasm_bindgen]
+pub fn sample_uncertainty() -> Result<JsValue, JsValue> {
+    cycle(form::Cloud::Sample)
+}
+
+fn cycle(cloud: form::Cloud) -> Result<JsValue, JsValue> {
     let start = now_ms();
     PHASES.with(|p| {
         if let Ok(mut v) = p.try_borrow_mut() {
@@ -429,7 +445,7 @@ pub fn update_page() -> Result<JsValue, JsValue> {
     // Continue from the last design shown, so that gains move continuously as poles are
     // dragged or edited (the result says when a fresh design would differ).
     let previous = with_page(|page| Ok(if std::mem::take(&mut page.fresh_start) { None } else { page.design.as_ref().map(|d| d.continuation.clone()) }))?;
-    let mut outcome = form::evaluate_form_continued(&input, previous.as_ref());
+    let mut outcome = form::evaluate_form_with(&input, previous.as_ref(), cloud);
     let t_eval = now_ms();
     phase("evaluate", t_eval - t_read);
     let status = outcome.status;

@@ -140,6 +140,7 @@ pub(crate) fn render_report(doc: &Document, page: &mut PageState, r: &Report, di
     if !page.unchanged(ids::ROBUSTNESS, hash_of(&r.robustness)) {
         set_text(doc, ids::ROBUSTNESS, &r.robustness)?;
     }
+    render_robustness_detail(doc, page, &r.robustness_detail)?;
     if !page.unchanged(ids::WARNINGS, hash_of(&r.warnings)) {
         let items: Vec<Element> = if r.warnings.is_empty() {
             vec![make_class(doc, "li", Some("No warnings."), "none")?]
@@ -413,3 +414,24 @@ pub(crate) fn pole_legend(scene: &PoleMapScene) -> String {
     text
 }
 
+
+/// The frequency table, the pole-sensitivity table and the uncertainty lines.
+fn render_robustness_detail(doc: &Document, page: &mut PageState, d: &form::RobustnessDetail) -> Result<(), JsValue> {
+    if !page.unchanged(ids::FREQUENCY_TABLE, hash_of(&d.frequency_rows)) {
+        let head = strings(&["frequency (rad/s)", "σmax(S)", "σmax(T)"]);
+        let rows: Vec<Vec<String>> = d.frequency_rows.iter().map(|r| r.to_vec()).collect();
+        page.show_table(doc, ids::FREQUENCY_TABLE, None, "Largest singular values of S and T at the plant input over frequency (a third of a decade apart, with the peaks)", &head, &rows, true, 1)?;
+    }
+    if !page.unchanged(ids::SENSITIVITY_TABLE, hash_of(&(&d.sensitivity_rows, &d.sensitivity_entry))) {
+        let derivative = d.sensitivity_entry.as_ref().map_or("dλ/dp (choose an entry)".to_string(), |e| format!("dλ/d {e}"));
+        let head = vec!["pole".to_string(), "condition number".to_string(), derivative];
+        let rows: Vec<Vec<String>> = d.sensitivity_rows.iter().map(|r| r.to_vec()).collect();
+        page.show_table(doc, ids::SENSITIVITY_TABLE, None, "Sensitivity of each closed-loop pole of the loop as built to model error", &head, &rows, true, 1)?;
+        set_text(doc, ids::SENSITIVITY_SUMMARY, &d.sensitivity_summary)?;
+    }
+    if !page.unchanged(ids::UNCERTAINTY, hash_of(&(&d.uncertainty, d.uncertainty_pending))) {
+        let items: Vec<Element> = d.uncertainty.iter().map(|l| make(doc, "li", Some(l))).collect::<Result<_, _>>()?;
+        fill(doc, ids::UNCERTAINTY, &items)?;
+    }
+    Ok(())
+}

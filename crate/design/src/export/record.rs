@@ -87,6 +87,17 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
     if let Some(m) = &result.margins {
         rows.extend(margin_rows(m));
     }
+    if let Some(ps) = &result.pole_sensitivity {
+        let worst = ps.poles.iter().map(|r| r.condition).fold(0.0, f64::max);
+        rows.push(("Pole sensitivity (eigenvalue condition numbers of the loop as built)".into(), ps.summary.clone(), if worst <= 100.0 { "well conditioned" } else { "sensitive: check the model" }.into()));
+    }
+    if let Some(u) = &result.uncertainty {
+        rows.push((
+            format!("Uncertain plant, {} samples (seed {}): {}", u.samples, u.seed, u.parameters.join(", ")),
+            format!("{} of {} stable; worst decay rate {} 1/s, worst damping {}", u.stable, u.samples, fmt_num(u.worst_decay_rate), fmt_num(u.worst_damping)),
+            if u.stable == u.samples { "all samples stable" } else { "some samples unstable" }.into(),
+        ));
+    }
     if let Some(s) = &result.sample_rate {
         rows.push(("Sample rate against the closed-loop bandwidth".into(), s.samples_per_bandwidth.map_or("deadbeat".into(), |v| format!("{} samples per bandwidth period", fmt_num(v))), format!("{:?}", s.verdict).to_lowercase()));
     }

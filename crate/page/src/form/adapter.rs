@@ -153,6 +153,7 @@ pub fn spec_from_form(form: &FormInput) -> Result<DesignSpec, Vec<FieldError>> {
         tracking: tracking_doc,
         anti_windup: anti_windup_doc,
         search: search.then_some(SearchDoc { fastest_within_limits: true, situations: None }),
+        robustness: robustness_doc(&text),
         ..DesignSpec::default()
     };
     if errors.is_empty() {
@@ -160,6 +161,51 @@ pub fn spec_from_form(form: &FormInput) -> Result<DesignSpec, Vec<FieldError>> {
     } else {
         Err(errors)
     }
+}
+
+/// The `robustness` section from its fields (left out when they are all blank).
+fn robustness_doc(text: &dyn Fn(&str) -> String) -> Option<RobustnessDoc> {
+    let samples = opt(&text("uncertainty_samples")).map(Whole::Text);
+    let seed = opt(&text("uncertainty_seed")).map(Whole::Text);
+    let entries = opt(&text("uncertain_entries")).map(UncertainList::Text);
+    let uncertainty = (entries.is_some() || samples.is_some() || seed.is_some()).then_some(UncertaintyDoc { entries, samples, seed });
+    let doc = RobustnessDoc { disk_skew: opt(&text("disk_skew")).map(Scalar::Text), sensitivity_entry: opt(&text("sensitivity_entry")).map(EntryRefDoc::Text), uncertainty };
+    (doc != RobustnessDoc::default()).then_some(doc)
+}
+
+/// The robustness fields of a document.
+fn robustness_fields(spec: &DesignSpec, f: &mut FormInput) {
+    let r = spec.robustness.clone().unwrap_or_default();
+    let whole = |w: &Option<Whole>| match w {
+        Some(Whole::Number(v)) => v.to_string(),
+        Some(Whole::Text(t)) => t.clone(),
+        None => String::new(),
+    };
+    let percent = |r: Option<f64>| r.map_or(String::new(), |r| format!(" {}%", num(100.0 * r)));
+    let entry = |d: &EntryDoc| match (d.row, d.column) {
+        (Some(row), Some(col)) => format!("{} {row} {col}{}", d.matrix.to_uppercase(), percent(d.relative)),
+        _ => format!("{}{}", d.matrix.to_uppercase(), percent(d.relative)),
+    };
+    f.set("disk_skew", r.disk_skew.as_ref().map(scalar_text).unwrap_or_default());
+    f.set(
+        "sensitivity_entry",
+        match &r.sensitivity_entry {
+            Some(EntryRefDoc::Text(t)) => t.clone(),
+            Some(EntryRefDoc::Entry(d)) => entry(d),
+            None => String::new(),
+        },
+    );
+    let u = r.uncertainty.unwrap_or_default();
+    f.set(
+        "uncertain_entries",
+        match &u.entries {
+            Some(UncertainList::Text(t)) => t.clone(),
+            Some(UncertainList::List(items)) => items.iter().map(entry).collect::<Vec<_>>().join("\n"),
+            None => String::new(),
+        },
+    );
+    f.set("uncertainty_samples", whole(&u.samples));
+    f.set("uncertainty_seed", whole(&u.seed));
 }
 
 fn numbers_limits(text: &str) -> Option<ActuatorsDoc> {
@@ -277,6 +323,7 @@ pub fn form_from_spec(spec: &DesignSpec) -> Result<FormInput, String> {
     }
     feedback_fields(spec, &mut f);
     controller_fields(spec, &mut f);
+    robustness_fields(spec, &mut f);
     Ok(f)
 }
 

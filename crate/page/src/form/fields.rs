@@ -115,6 +115,11 @@ form_fields! {
     disturbance_time => "load step time" @ [DisturbanceTime],
     noise_std => "measurement noise" @ [NoiseStd],
     seed => "noise seed" @ [Seed],
+    disk_skew => "disk skew" @ [Robustness, DiskSkew],
+    sensitivity_entry => "sensitivity entry" @ [SensitivityEntry],
+    uncertain_entries => "uncertain parameters" @ [Uncertainty, UncertainEntries],
+    uncertainty_samples => "samples" @ [UncertaintySamples],
+    uncertainty_seed => "sample seed" @ [UncertaintySeed],
 }
 
 impl FormInput {

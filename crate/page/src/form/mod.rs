@@ -55,6 +55,10 @@
 //! | `reference`, `reference_time` | no | reference step per tracked output (blank: 1) and its time |
 //! | `disturbance`, `disturbance_time` | no | load step per input and its time |
 //! | `noise_std`, `seed` | no | measurement-noise standard deviation per output, and the seed |
+//! | `disk_skew` | no | skew of the disk margins, −1 to 1 (blank: 0, symmetric) |
+//! | `sensitivity_entry` | no | the plant entry whose effect on each pole is shown, e.g. `A 2 1` |
+//! | `uncertain_entries` | no | one per line: `A 2 1 20%` (an entry) or `B 10%` (a whole matrix) |
+//! | `uncertainty_samples`, `uncertainty_seed` | no | samples of the uncertainty cloud (blank: 500) and their seed (blank: 1); sampled on demand |
 //!
 //! Sub-fields of a section that is switched off (for example `observer_poles` while
 //! `observer` is `none`) are not read at all: see [`FormInput::is_active`]. With every
@@ -105,6 +109,7 @@ mod report;
 mod robustness;
 mod scenes;
 pub use adapter::{form_from_spec, form_key, spec_from_form};
+pub use robustness::RobustnessDetail;
 pub use choice_report::*;
 pub use report::*;
 pub use scenes::*;
@@ -241,6 +246,19 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
 /// [`crate::design::DesignResult::continuation`]), so that gains follow one branch of the
 /// robust placement while the poles are dragged or edited.
 pub fn evaluate_form_continued(form: &FormInput, previous: Option<&crate::design::Continuation>) -> FormOutcome {
+    evaluate_form_with(form, previous, Cloud::Skip)
+}
+
+/// Whether the uncertainty cloud is sampled in this evaluation (it is left for an explicit
+/// request, so that typing and dragging stay fast).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Cloud {
+    Skip,
+    Sample,
+}
+
+/// [`evaluate_form_continued`], sampling the uncertainty cloud when `cloud` says so.
+pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Continuation>, cloud: Cloud) -> FormOutcome {
     let mut outcome = FormOutcome {
         status: FormStatus::Invalid,
         errors: Vec::new(),
@@ -276,7 +294,17 @@ pub fn evaluate_form_continued(form: &FormInput, previous: Option<&crate::design
         push(&mut errors, field_error(e));
     }
     if let (Some(design), true) = (&checked.design, errors.is_empty()) {
-        match crate::design::run_checked_continued(design, previous) {
+        let skipped;
+        let run_design = match (cloud, &design.controller.robustness.uncertainty) {
+            (Cloud::Skip, Some(_)) => {
+                let mut d = design.clone();
+                d.controller.robustness.uncertainty = None;
+                skipped = d;
+                &skipped
+            }
+            _ => design,
+        };
+        match crate::design::run_checked_continued(run_design, previous) {
             Ok(result) => {
                 outcome.status = FormStatus::Designed;
                 let mut context = ReportContext::from_request(&design.request, &design.controller);

@@ -250,6 +250,8 @@ pub struct Report {
     /// Margins at the plant input, one line per input and one for the sensitivity peaks
     /// (empty where the loop is not yet modelled).
     pub margins: Vec<String>,
+    /// Frequency table, pole sensitivity and the uncertainty cloud.
+    pub robustness_detail: super::robustness::RobustnessDetail,
     pub warnings: Vec<String>,
     pub states: Vec<StateRow>,
     pub inputs: Vec<InputRow>,
@@ -725,6 +727,8 @@ pub struct ReportContext {
     pub search_situations: Vec<String>,
     /// What the search could not take into account.
     pub search_notes: Vec<String>,
+    /// Samples of the uncertainty cloud the form asks for (drawn on demand).
+    pub uncertainty_samples: Option<usize>,
 }
 
 impl ReportContext {
@@ -761,6 +765,7 @@ impl ReportContext {
                 })
                 .unwrap_or_default(),
             search_notes: Vec::new(),
+            uncertainty_samples: spec.robustness.uncertainty.as_ref().map(|u| u.samples),
         }
     }
 }
@@ -788,6 +793,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
         observability: result.observability.as_ref().map(|o| structure_result_text(o, Kind::Observability, discrete)),
         robustness: robustness_text(result),
         margins: super::robustness::margin_lines(result),
+        robustness_detail: super::robustness::detail(result, context),
         warnings,
         states,
         inputs,

@@ -62,3 +62,111 @@ pub fn margin_lines(result: &DesignResult) -> Vec<String> {
     ));
     out
 }
+
+/// The robustness figures the page shows as tables and text.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct RobustnessDetail {
+    /// Frequency (rad/s), σ_max(S) and σ_max(T) (each with its dB value), at about one
+    /// frequency per third of a decade, with the peaks.
+    pub frequency_rows: Vec<[String; 3]>,
+    /// Pole, condition number, dλ/dp (blank without a chosen entry).
+    pub sensitivity_rows: Vec<[String; 3]>,
+    /// The derivative column's heading (`dλ/d A(2, 1)`), when an entry was chosen.
+    pub sensitivity_entry: Option<String>,
+    pub sensitivity_summary: String,
+    /// The uncertainty cloud's figures, or what to do to draw it.
+    pub uncertainty: Vec<String>,
+    /// True when the form asks for a cloud that has not been drawn for this design.
+    pub uncertainty_pending: bool,
+}
+
+fn magnitude(v: f64) -> String {
+    if v > 0.0 {
+        format!("{} ({} dB)", fmt_num(v), fmt_num(20.0 * v.log10()))
+    } else {
+        fmt_num(v)
+    }
+}
+
+fn complex_text(p: &[f64; 2]) -> String {
+    if p[1] == 0.0 {
+        fmt_num(p[0])
+    } else {
+        format!("{} {} {}j", fmt_num(p[0]), if p[1] < 0.0 { "−" } else { "+" }, fmt_num(p[1].abs()))
+    }
+}
+
+/// The frequency table: rows a third of a decade apart (the first and last frequency kept), and
+/// the two peaks in their place.
+fn frequency_rows(m: &crate::design::MarginsResult) -> Vec<[String; 3]> {
+    let f = &m.frequency_response;
+    let mut picked: Vec<(f64, f64, f64)> = Vec::new();
+    let mut last = f64::NEG_INFINITY;
+    for k in 0..f.frequency.len() {
+        let w = f.frequency[k];
+        let at = if w > 0.0 { w.log10() } else { f64::NEG_INFINITY };
+        if k == 0 || k + 1 == f.frequency.len() || at - last >= 1.0 / 3.0 {
+            picked.push((w, f.sensitivity[k], f.complementary_sensitivity[k]));
+            last = at;
+        }
+    }
+    picked.push((m.peak_sensitivity_frequency, m.peak_sensitivity, f64::NAN));
+    picked.push((m.peak_complementary_sensitivity_frequency, f64::NAN, m.peak_complementary_sensitivity));
+    picked.sort_by(|a, b| a.0.total_cmp(&b.0));
+    picked
+        .iter()
+        .map(|(w, s, t)| {
+            let cell = |v: f64, peak: bool| if v.is_nan() { "—".to_string() } else if peak { format!("{} (peak)", magnitude(v)) } else { magnitude(v) };
+            [fmt_num(*w), cell(*s, t.is_nan()), cell(*t, s.is_nan())]
+        })
+        .collect()
+}
+
+fn uncertainty_lines(result: &DesignResult, context: &ReportContext) -> (Vec<String>, bool) {
+    let Some(u) = &result.uncertainty else {
+        return match context.uncertainty_samples {
+            Some(n) => (vec![format!("{n} samples of the uncertain plant are ready to draw: press “Sample the uncertain plant” (it runs on demand so that typing stays fast).")], true),
+            None => (vec!["No uncertain parameters: list them under Robustness (for example A 2 1 20%) to sample the plant.".to_string()], false),
+        };
+    };
+    let mut lines = vec![format!(
+        "{} samples (seed {}) of {}: {} of {} stable ({} %){}; worst decay rate {} 1/s, worst damping {}.",
+        u.samples,
+        u.seed,
+        u.parameters.join(", "),
+        u.stable,
+        u.samples,
+        fmt_num(100.0 * u.stable_fraction),
+        if u.failed > 0 { format!(", {} could not be computed", u.failed) } else { String::new() },
+        fmt_num(u.worst_decay_rate),
+        fmt_num(u.worst_damping)
+    )];
+    if let Some(r) = &u.response {
+        let spread = |v: &[f64; 3]| format!("{} / {} / {}", fmt_num(v[0]), fmt_num(v[1]), fmt_num(v[2]));
+        let settle = r.settling_time.as_ref().map_or("none settled".to_string(), |v| format!("{} s", spread(v)));
+        let peaks: Vec<String> = r.peak_input.iter().zip(&result.plant.input_names).map(|(p, n)| format!("{n} {}", p.as_ref().map_or("—".to_string(), spread))).collect();
+        lines.push(format!(
+            "Over the samples ({}; smallest / median / largest): settling time {settle}{}; peak input {}.",
+            r.scenario,
+            if r.not_settled > 0 { format!(" ({} did not settle)", r.not_settled) } else { String::new() },
+            peaks.join(", ")
+        ));
+    }
+    lines.push("The cloud is drawn on the pole map as small dots.".to_string());
+    (lines, false)
+}
+
+/// The robustness detail of a design.
+pub fn detail(result: &DesignResult, context: &ReportContext) -> RobustnessDetail {
+    let (uncertainty, uncertainty_pending) = uncertainty_lines(result, context);
+    let mut out = RobustnessDetail { uncertainty, uncertainty_pending, ..RobustnessDetail::default() };
+    if let Some(m) = &result.margins {
+        out.frequency_rows = frequency_rows(m);
+    }
+    if let Some(ps) = &result.pole_sensitivity {
+        out.sensitivity_rows = ps.poles.iter().map(|r| [complex_text(&r.pole), fmt_num(r.condition), r.derivative.as_ref().map_or(String::new(), complex_text)]).collect();
+        out.sensitivity_entry = ps.entry.clone();
+        out.sensitivity_summary = ps.summary.clone();
+    }
+    out
+}

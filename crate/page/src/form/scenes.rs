@@ -88,8 +88,34 @@ pub fn pole_map_scene(result: &DesignResult) -> PoleMapScene {
         fit_poles: false,
         highlight: None,
         region: region_shape(result, (10.0 * largest).max(10.0)),
+        uncertain: result.uncertainty.as_ref().map(|u| u.poles.clone()).unwrap_or_default(),
         ..PoleMapScene::default()
     }
+}
+
+/// σ_max(S) and σ_max(T) at the plant input over frequency, in dB against log₁₀ ω, with the
+/// peaks and the all-inputs disk margin's frequency marked. `None` without margins.
+pub fn frequency_scene(result: &DesignResult) -> Option<TimePlotScene> {
+    let m = result.margins.as_ref()?;
+    let f = &m.frequency_response;
+    let keep: Vec<usize> = (0..f.frequency.len()).filter(|&k| f.frequency[k] > 0.0).collect();
+    if keep.len() < 2 {
+        return None;
+    }
+    let db = |v: f64| if v > 0.0 { 20.0 * v.log10() } else { f64::NAN };
+    let mark = |w: f64, what: &str| (w > 0.0).then(|| EventLine { time: w.log10(), label: format!("{what} {} rad/s", fmt_num(w)) });
+    Some(TimePlotScene {
+        t: keep.iter().map(|&k| f.frequency[k].log10()).collect(),
+        series: vec![
+            Series { name: "σmax(S), input sensitivity".into(), values: keep.iter().map(|&k| db(f.sensitivity[k])).collect(), colour: Some(0), dash: Some(0) },
+            Series { name: "σmax(T), complementary".into(), values: keep.iter().map(|&k| db(f.complementary_sensitivity[k])).collect(), colour: Some(1), dash: Some(1) },
+        ],
+        limits: vec![LimitLine { value: db(m.peak_sensitivity), label: format!("peak |S| {} dB", fmt_num(db(m.peak_sensitivity))) }],
+        events: [mark(m.peak_sensitivity_frequency, "peak |S| at"), mark(m.all_inputs.disk.frequency, "disk margin at")].into_iter().flatten().collect(),
+        x_label: "log₁₀ frequency (rad/s)".into(),
+        y_label: "dB".into(),
+        ..TimePlotScene::default()
+    })
 }
 
 /// Pole map of an infeasible design: the open-loop poles only.

@@ -42,6 +42,9 @@ pub struct PoleMapScene {
     /// A fixed view `[re min, re max, im min, im max]` (kept while a pole is dragged, so
     /// that the map does not rescale under the pointer); `None` fits the view to the poles.
     pub view: Option<[f64; 4]>,
+    /// Closed-loop poles of the sampled uncertain plants (small dots under everything; not
+    /// pickable).
+    pub uncertain: Vec<[f64; 2]>,
 }
 
 /// The boundary of an admissible pole region, for drawing: each polyline is a list of
@@ -66,6 +69,8 @@ pub enum PoleSet {
     Requested,
     /// A closed-loop pole of the pinned design.
     Pinned,
+    /// A closed-loop pole of a sampled uncertain plant.
+    Uncertain,
 }
 
 /// A picked marker.
@@ -80,7 +85,7 @@ pub struct PolePick {
 impl PoleMapScene {
     /// Field names, for front ends that must reject unknown keys themselves.
     pub const FIELDS: &'static [&'static str] =
-        &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view"];
+        &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view", "uncertain"];
 
     /// Every finite marker in keyboard order: editable requested poles, closed-loop poles,
     /// observer poles, requested poles that could not be assigned, open-loop poles, then the
@@ -114,8 +119,9 @@ impl PoleMapScene {
     }
 
     /// The lists in drawing order (bottom first) with their set tag.
-    pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 6] {
+    pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 7] {
         [
+            (PoleSet::Uncertain, &self.uncertain),
             (PoleSet::Pinned, &self.pinned),
             (PoleSet::OpenLoop, &self.open_loop),
             (PoleSet::NotAssigned, &self.not_assigned),
@@ -168,7 +174,7 @@ impl PoleMapScene {
     pub fn pick(&self, outer: Rect, pointer: [f64; 2]) -> Option<PolePick> {
         let frame = self.frame(outer);
         let mut flat: Vec<(PoleSet, usize, [f64; 2])> = Vec::new();
-        for (set, pts) in self.layers().iter().rev() {
+        for (set, pts) in self.layers().iter().rev().filter(|(set, _)| *set != PoleSet::Uncertain) {
             for (i, p) in pts.iter().enumerate() {
                 flat.push((*set, i, *p));
             }
