@@ -174,8 +174,11 @@ impl Cloud {
     }
 }
 
+/// The closed-loop matrix of a perturbed plant `(A, B)`, or `None` when it cannot be built.
+pub type CloseLoop<'a> = &'a dyn Fn(&DMatrix<f64>, &DMatrix<f64>) -> Option<DMatrix<f64>>;
+
 /// Samples `samples` perturbed plants and closes each with `close`.
-pub fn sample_cloud(a: &DMatrix<f64>, b: &DMatrix<f64>, model: &UncertaintyModel, samples: usize, seed: u64, domain: LoopDomain, close: &dyn Fn(&DMatrix<f64>, &DMatrix<f64>) -> Option<DMatrix<f64>>) -> Cloud {
+pub fn sample_cloud(a: &DMatrix<f64>, b: &DMatrix<f64>, model: &UncertaintyModel, samples: usize, seed: u64, domain: LoopDomain, close: CloseLoop) -> Cloud {
     let mut rng = SplitMix::new(seed);
     let mut cloud = Cloud { poles: Vec::new(), stable: 0, failed: 0, worst_decay_rate: f64::INFINITY, worst_damping: f64::INFINITY };
     for _ in 0..samples.min(MAX_SAMPLES) {

@@ -89,7 +89,7 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
     }
     if let Some(ps) = &result.pole_sensitivity {
         let worst = ps.poles.iter().map(|r| r.condition).fold(0.0, f64::max);
-        rows.push(("Pole sensitivity (eigenvalue condition numbers of the loop as built)".into(), ps.summary.clone(), if worst <= 100.0 { "well conditioned" } else { "sensitive: check the model" }.into()));
+        rows.push(("Pole sensitivity: largest eigenvalue condition number".into(), fmt_num(worst), if worst <= 100.0 { "well conditioned" } else { "sensitive: check the model" }.into()));
     }
     if let Some(u) = &result.uncertainty {
         rows.push((
@@ -260,24 +260,23 @@ pub fn record_from_text(text: &str, date: &str, whole: bool) -> Result<String, c
     Ok(if whole { record_document(&spec, &design, &result, date) } else { record_fragment(&spec, &design, &result, date) })
 }
 
-/// The record's rows of the margins at the plant input.
+/// The record's rows of the margins at the plant input: each input's disk margin on one row,
+/// all inputs at once with the sensitivity peaks on another (the record stays on two pages).
 fn margin_rows(m: &crate::result::MarginsResult) -> Vec<(String, String, String)> {
     let enough = |d: &crate::result::DiskMargin| d.gain_range[0] <= 0.5 && d.gain_range[1] >= 2.0 && d.phase_margin_deg >= 35.0;
-    let range = |d: &crate::result::DiskMargin| format!("α = {}: gain × {} to × {}, phase ±{}° (skew {})", fmt_num(d.disk_margin), fmt_num(d.gain_range[0]), if d.gain_range[1].is_finite() { fmt_num(d.gain_range[1]) } else { "∞".into() }, fmt_num(d.phase_margin_deg), fmt_num(m.skew));
-    let mut rows = Vec::new();
-    for p in &m.per_input {
-        rows.push((
-            format!("Disk margin at the plant input, {} (others closed)", p.input),
-            format!("{}; delay margin {}", range(&p.disk), p.classical.delay_margin.map_or("none".into(), |d| format!("{} s", fmt_num(d)))),
-            if enough(&p.disk) { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into(),
-        ));
-    }
+    let range = |d: &crate::result::DiskMargin| format!("α = {}: gain × {} to × {}, phase ±{}°", fmt_num(d.disk_margin), fmt_num(d.gain_range[0]), if d.gain_range[1].is_finite() { fmt_num(d.gain_range[1]) } else { "∞".into() }, fmt_num(d.phase_margin_deg));
+    let per: Vec<String> = m.per_input.iter().map(|p| format!("{}: {}; delay margin {}", p.input, range(&p.disk), p.classical.delay_margin.map_or("none".into(), |d| format!("{} s", fmt_num(d))))).collect();
     let all = &m.all_inputs;
     let how = match all.accuracy {
         crate::result::MultiloopAccuracy::Exact => "exact",
-        crate::result::MultiloopAccuracy::Bound => "guaranteed bound, may be conservative",
+        crate::result::MultiloopAccuracy::Bound => "guaranteed bound",
     };
-    rows.push(("Disk margin at the plant input, all inputs at once".into(), format!("{} ({how})", range(&all.disk)), if enough(&all.disk) { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into()));
-    rows.push(("Sensitivity peaks at the plant input".into(), format!("σ_max(S) {} at {} rad/s; σ_max(T) {} at {} rad/s", fmt_num(m.peak_sensitivity), fmt_num(m.peak_sensitivity_frequency), fmt_num(m.peak_complementary_sensitivity), fmt_num(m.peak_complementary_sensitivity_frequency)), String::new()));
-    rows
+    vec![
+        (format!("Disk margins at the plant input, each input with the others closed (skew {})", fmt_num(m.skew)), per.join("; "), if m.per_input.iter().all(|p| enough(&p.disk)) { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into()),
+        (
+            "All inputs at once; sensitivity peaks".into(),
+            format!("{} ({how}); σ_max(S) {} at {} rad/s, σ_max(T) {}", range(&all.disk), fmt_num(m.peak_sensitivity), fmt_num(m.peak_sensitivity_frequency), fmt_num(m.peak_complementary_sensitivity)),
+            if enough(&all.disk) { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into(),
+        ),
+    ]
 }

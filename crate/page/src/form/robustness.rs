@@ -66,8 +66,8 @@ pub fn margin_lines(result: &DesignResult) -> Vec<String> {
 /// The robustness figures the page shows as tables and text.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct RobustnessDetail {
-    /// Frequency (rad/s), σ_max(S) and σ_max(T) (each with its dB value), at about one
-    /// frequency per third of a decade, with the peaks.
+    /// Frequency (rad/s), σ_max(S) and σ_max(T) (each with its dB value), at a fixed number
+    /// of frequencies spread in log ω, with the peaks.
     pub frequency_rows: Vec<[String; 3]>,
     /// Pole, condition number, dλ/dp (blank without a chosen entry).
     pub sensitivity_rows: Vec<[String; 3]>,
@@ -96,18 +96,22 @@ fn complex_text(p: &[f64; 2]) -> String {
     }
 }
 
-/// The frequency table: rows a third of a decade apart (the first and last frequency kept), and
-/// the two peaks in their place.
+/// Rows of the frequency table besides the two peaks: a fixed count, so that the table keeps
+/// its height while poles are dragged (the layout below it must not move under the pointer).
+const FREQUENCY_ROWS: usize = 16;
+
+/// The frequency table: [`FREQUENCY_ROWS`] frequencies evenly spread (in log ω) over the
+/// response's range, and the two peaks in their place.
 fn frequency_rows(m: &crate::design::MarginsResult) -> Vec<[String; 3]> {
     let f = &m.frequency_response;
+    let positive: Vec<usize> = (0..f.frequency.len()).filter(|&k| f.frequency[k] > 0.0).collect();
     let mut picked: Vec<(f64, f64, f64)> = Vec::new();
-    let mut last = f64::NEG_INFINITY;
-    for k in 0..f.frequency.len() {
-        let w = f.frequency[k];
-        let at = if w > 0.0 { w.log10() } else { f64::NEG_INFINITY };
-        if k == 0 || k + 1 == f.frequency.len() || at - last >= 1.0 / 3.0 {
-            picked.push((w, f.sensitivity[k], f.complementary_sensitivity[k]));
-            last = at;
+    if let (Some(&first), Some(&last)) = (positive.first(), positive.last()) {
+        let (lo, hi) = (f.frequency[first].log10(), f.frequency[last].log10());
+        for r in 0..FREQUENCY_ROWS {
+            let target = lo + (hi - lo) * r as f64 / (FREQUENCY_ROWS - 1) as f64;
+            let k = positive.iter().copied().min_by(|&a, &b| (f.frequency[a].log10() - target).abs().total_cmp(&(f.frequency[b].log10() - target).abs())).unwrap_or(first);
+            picked.push((f.frequency[k], f.sensitivity[k], f.complementary_sensitivity[k]));
         }
     }
     picked.push((m.peak_sensitivity_frequency, m.peak_sensitivity, f64::NAN));
