@@ -221,7 +221,6 @@ impl Plant {
         })
     }
 
-    /// Number of states `n`.
     /// The same plant (outputs, names and units) with other `A` and `B` of the same sizes, as
     /// for a perturbed model.
     ///
@@ -242,6 +241,7 @@ impl Plant {
         })
     }
 
+    /// Number of states `n`.
     pub fn states(&self) -> usize {
         self.a.nrows()
     }

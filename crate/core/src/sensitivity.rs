@@ -20,9 +20,10 @@
 //!
 //! # Failure modes
 //! [`SensitivityError::NoConvergence`] when the Schur iteration reaches its cap;
-//! [`SensitivityError::NotFinite`] for NaN or infinite entries. A defective (or nearly
-//! defective) eigenvalue has a huge condition number, reported as it is: first-order
-//! perturbation theory does not describe it (its perturbations grow as `δ^{1/p}`).
+//! [`SensitivityError::NotFinite`] for NaN or infinite entries. A repeated eigenvalue (two
+//! within [`REPEATED`] of the largest size) is flagged: first-order perturbation theory does not
+//! describe it (a defective one moves like `δ^{1/p}`; for a non-defective one the figures depend
+//! on the basis chosen), so its figures are not to be read. Condition numbers are capped at 1/ε.
 
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -56,7 +57,15 @@ pub struct PoleSensitivity {
     pub condition: f64,
     /// `dλ/dp = yᴴ (∂A/∂p) x / (yᴴ x)` when a direction was given.
     pub derivative: Option<Complex64>,
+    /// Another eigenvalue lies within [`REPEATED`] `‖A‖` of this one: the pole is repeated (or
+    /// nearly), its condition number and derivative are not defined (a defective pole moves like
+    /// `δ^{1/p}`) and those figures should not be read.
+    pub repeated: bool,
 }
+
+/// Relative distance (to the largest eigenvalue size) under which two eigenvalues count as one
+/// repeated pole: a defective pair computed in double precision splits by about `√ε`.
+pub const REPEATED: f64 = 1e-6;
 
 /// Condition numbers of every eigenvalue of `a` and, given `direction = ∂A/∂p`, the
 /// derivative of each eigenvalue.
@@ -105,12 +114,14 @@ pub fn pole_sensitivities(a: &DMatrix<f64>, direction: Option<&DMatrix<f64>>) ->
             }
             w[j] = (-s / guard(t[(j, j)] - lambda)).conj();
         }
-        let condition = z.norm() * w.norm();
+        // Capped at 1/ε: beyond it the figure says only "as ill-conditioned as can be told".
+        let condition = (z.norm() * w.norm()).min(1.0 / f64::EPSILON);
+        let repeated = (0..n).any(|j| j != k && (t[(j, j)] - lambda).norm() <= REPEATED * scale);
         let derivative = ec.as_ref().map(|e| {
             let (x, y) = (&q * &z, &q * &w);
             (y.adjoint() * e * x)[(0, 0)]
         });
-        out.push(PoleSensitivity { pole: lambda, condition, derivative });
+        out.push(PoleSensitivity { pole: lambda, condition, derivative: derivative.filter(|d| d.re.is_finite() && d.im.is_finite()), repeated });
     }
     Ok(out)
 }
@@ -138,6 +149,17 @@ mod tests {
             let want = c / (2.0 * p.pole.re - l1 - l2);
             assert!((p.derivative.unwrap() - Complex64::new(want, 0.0)).norm() < 1e-12, "{p:?} vs {want}");
         }
+    }
+
+    #[test]
+    fn repeated_poles_are_flagged() {
+        // A Jordan block and −I: both have a double eigenvalue.
+        for a in [DMatrix::from_row_slice(2, 2, &[-1.0, 1.0, 0.0, -1.0]), DMatrix::from_row_slice(2, 2, &[-1.0, 0.0, 0.0, -1.0])] {
+            let s = pole_sensitivities(&a, None).unwrap();
+            assert!(s.iter().all(|p| p.repeated && p.condition.is_finite()), "{s:?}");
+        }
+        let s = pole_sensitivities(&DMatrix::from_row_slice(2, 2, &[-1.0, 0.0, 0.0, -2.0]), None).unwrap();
+        assert!(s.iter().all(|p| !p.repeated), "{s:?}");
     }
 
     #[test]

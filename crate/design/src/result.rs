@@ -59,8 +59,11 @@ pub struct DesignResult {
     /// LQR as a way of choosing poles.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub lqr: Option<LqrResult>,
-    /// Margins at the plant input of the loop as built (null only when a computation failed).
+    /// Margins at the plant input of the loop as built (null when the loop is not stable, or a
+    /// computation failed: `margins_unavailable` says which).
     pub margins: Option<MarginsResult>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub margins_unavailable: Option<String>,
     pub pole_sensitivity: Option<PoleSensitivityResult>,
     /// Only when the design asks for it (`robustness.uncertainty`).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -170,6 +173,8 @@ pub struct MarginsResult {
     pub per_input: Vec<InputMarginResult>,
     /// Every input perturbed at once, independently (multiloop disk margin).
     pub all_inputs: AllInputsMargin,
+    /// The same at skew 0, on which the common-practice verdict (±6 dB, ±35°) is made.
+    pub all_inputs_symmetric: DiskMargin,
     /// Largest σ_max(S) over frequency at the plant input, and where (rad/s).
     pub peak_sensitivity: f64,
     pub peak_sensitivity_frequency: f64,
@@ -184,6 +189,8 @@ pub struct MarginsResult {
 /// unbounded), the phase (degrees) it guarantees and the frequency (rad/s) where it is attained.
 #[derive(Debug, Clone, Copy, Serialize)]
 pub struct DiskMargin {
+    #[serde(skip)]
+    pub skew: f64,
     pub disk_margin: f64,
     pub gain_range: [f64; 2],
     pub phase_margin_deg: f64,
@@ -197,6 +204,13 @@ pub struct InputMarginResult {
     #[serde(flatten)]
     pub disk: DiskMargin,
     pub classical: ClassicalMargins,
+}
+
+impl InputMarginResult {
+    /// Whether this input's disk has the skew `skew` (margins are computed at one skew).
+    pub(crate) fn disk_skew_is(&self, skew: f64) -> bool {
+        self.disk.skew == skew
+    }
 }
 
 /// Classical loop-at-a-time margins (null where the loop has no such crossing).
@@ -252,12 +266,14 @@ pub struct PoleSensitivityResult {
     pub summary: String,
 }
 
-/// One pole: its eigenvalue condition number and, for the chosen entry `p`, `dλ/dp`.
+/// One pole: its eigenvalue condition number and, for the chosen entry `p`, `dλ/dp` (both null
+/// for a repeated pole, where they are not defined).
 #[derive(Debug, Clone, Serialize)]
 pub struct PoleSensitivityRow {
     pub pole: Pair,
-    pub condition: f64,
+    pub condition: Option<f64>,
     pub derivative: Option<Pair>,
+    pub repeated: bool,
 }
 
 /// The seeded Monte-Carlo sample of the uncertain plant with the gains held fixed.
@@ -265,7 +281,7 @@ pub struct PoleSensitivityRow {
 pub struct UncertaintyResult {
     pub samples: usize,
     pub seed: u64,
-    /// The uncertain parameters as read (`"A(2, 1) ±20 %"`, `"B (norm) ±10 %"`).
+    /// The uncertain parameters as read (`"A(2, 1) ±20 %"`, `"B (norm-bounded) ±10 %"`).
     pub parameters: Vec<String>,
     pub stable: usize,
     pub failed: usize,
@@ -289,6 +305,8 @@ pub struct ResponseSpread {
     /// that settled; and how many did not settle.
     pub settling_time: Option<[f64; 3]>,
     pub not_settled: usize,
+    /// Samples whose response could not be simulated.
+    pub failed: usize,
     /// Peak input (or command) magnitude per input: smallest, median, largest (null when no
     /// sample could be simulated).
     pub peak_input: Vec<Option<[f64; 3]>>,

@@ -420,7 +420,7 @@ fn render_robustness_detail(doc: &Document, page: &mut PageState, d: &form::Robu
     if !page.unchanged(ids::FREQUENCY_TABLE, hash_of(&d.frequency_rows)) {
         let head = strings(&["frequency (rad/s)", "σmax(S)", "σmax(T)"]);
         let rows: Vec<Vec<String>> = d.frequency_rows.iter().map(|r| r.to_vec()).collect();
-        page.show_table(doc, ids::FREQUENCY_TABLE, None, "Largest singular values of S and T at the plant input over frequency (a third of a decade apart, with the peaks)", &head, &rows, true, 1)?;
+        page.show_table(doc, ids::FREQUENCY_TABLE, None, "Largest singular values of S and T at the plant input over frequency (16 frequencies evenly spread in log ω, and the peaks)", &head, &rows, true, 1)?;
     }
     if !page.unchanged(ids::SENSITIVITY_TABLE, hash_of(&(&d.sensitivity_rows, &d.sensitivity_entry))) {
         let derivative = d.sensitivity_entry.as_ref().map_or("dλ/dp (choose an entry)".to_string(), |e| format!("dλ/d {e}"));

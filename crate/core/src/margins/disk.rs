@@ -38,7 +38,6 @@
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 
-use crate::linalg::svd::{try_singular_values, SvdParams};
 
 /// Relative gap between the lower and upper bounds under which `μ` is reported as exact.
 pub const EXACT_GAP: f64 = 1e-3;
@@ -98,9 +97,7 @@ impl Disk {
     }
 }
 
-fn sigma_max(m: &DMatrix<Complex64>) -> f64 {
-    try_singular_values(m, SvdParams::default()).map_or(f64::INFINITY, |s| s.iter().copied().fold(0.0, f64::max))
-}
+use super::sigma_max;
 
 /// `σ̄(D M D⁻¹)` with `D = diag(e^{d})`.
 fn scaled_norm(m: &DMatrix<Complex64>, d: &[f64]) -> f64 {
@@ -310,6 +307,9 @@ pub struct MultiloopDisk {
 
 /// The multiloop disk margin of skew `skew`, given `S` at each frequency of `grid`.
 pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<Complex64>>, skew: f64) -> MultiloopDisk {
+    if grid.is_empty() {
+        return MultiloopDisk { alpha: 0.0, frequency: 0.0, alpha_upper: f64::INFINITY, exact: false };
+    }
     let shifted = |w: f64| -> Option<DMatrix<Complex64>> {
         sensitivity(w).map(|mut s| {
             for i in 0..s.nrows() {
@@ -347,10 +347,12 @@ pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<
             (peak, at, at_index) = (v, cheap[i].0, i);
         }
     }
-    // Refine between the grid neighbours by golden section on the upper bound.
-    let (lo, hi) = (grid[at_index.saturating_sub(1)], grid[(at_index + 1).min(grid.len().saturating_sub(1))]);
+    // Refine between the grid neighbours by golden section on the upper bound, each evaluation
+    // warm-started from the peak's scaling.
+    let (lo, hi) = (grid[at_index.saturating_sub(1)], grid[(at_index + 1).min(grid.len() - 1)]);
     if hi > lo {
-        let f = |w: f64| shifted(w).map(|m| mu_upper_bound(&m));
+        let start = cheap.get(at_index).map(|c| c.2.clone());
+        let f = |w: f64| shifted(w).map(|m| minimise_bound(&m, start.as_deref(), 0.1, 1, 60, 1e-10).0);
         let (w, v) = super::refine_max(&f, lo, hi);
         if v > peak {
             (peak, at) = (v, w);
@@ -358,5 +360,6 @@ pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<
     }
     let lower = shifted(at).map_or(0.0, |m| mu_lower_bound(&m));
     let alpha = if peak > 0.0 { 1.0 / peak } else { f64::INFINITY };
-    MultiloopDisk { alpha, frequency: at, alpha_upper: if lower > 0.0 { 1.0 / lower } else { f64::INFINITY }, exact: peak - lower <= EXACT_GAP * peak }
+    let exact = peak.is_finite() && lower > 0.0 && peak - lower <= EXACT_GAP * peak;
+    MultiloopDisk { alpha, frequency: at, alpha_upper: if lower > 0.0 { 1.0 / lower } else { f64::INFINITY }, exact }
 }

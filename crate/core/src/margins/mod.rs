@@ -23,8 +23,11 @@
 //!   it guarantees the gain range `[(2 − α)/(2 + α), (2 + α)/(2 − α)]` and the phase
 //!   `±2 arctan(α/2)`.
 //! - Classical margins of `L_i` (common practice): the gain margins where the phase of `L_i`
-//!   crosses −180° (`1/|L_i|`, below and above 1), the phase margin where `|L_i| = 1` and the delay
-//!   margin `PM / ω_c` (continuous; sampled loops likewise in seconds).
+//!   crosses −180° (`1/|L_i|`, below and above 1; also at ω = 0 and the Nyquist frequency, where
+//!   `L_i` is real), the phase margin of smallest size over every crossover `|L_i| = 1`, and the
+//!   delay margin, the smallest `(PM_i mod 360°) / ω_i` (for a sampled loop the same figure in
+//!   seconds: exact for delays that are whole samples, an interpolation in between). They
+//!   assume a stable nominal loop (callers check).
 //!
 //! # Cost
 //! One Hessenberg reduction per model (`O(n³)`), then one `O(n²)` Hessenberg solve per frequency
@@ -198,8 +201,21 @@ impl Evaluator {
 }
 
 impl LoopModel {
+    /// Checks that the matrices fit: `A` n×n, `B` n×m, `C` m×n, `D` m×m.
+    fn check(&self) -> Result<(), MarginError> {
+        let (n, m) = (self.a.nrows(), self.b.ncols());
+        if self.a.ncols() != n || self.b.nrows() != n || self.c.shape() != (m, n) || self.d.shape() != (m, m) {
+            return Err(MarginError::Size { what: "loop model" });
+        }
+        Ok(())
+    }
+
     /// `E = (I + D)⁻¹` and the closed-loop matrix `A − B E C`.
-    fn closed(&self) -> Result<(DMatrix<f64>, DMatrix<f64>), MarginError> {
+    ///
+    /// # Errors
+    /// [`MarginError::Size`] or [`MarginError::IllPosed`].
+    pub fn closed_loop(&self) -> Result<(DMatrix<f64>, DMatrix<f64>), MarginError> {
+        self.check()?;
         let m = self.d.nrows();
         let e = (DMatrix::<f64>::identity(m, m) + &self.d).try_inverse().ok_or(MarginError::IllPosed)?;
         let acl = &self.a - &self.b * &e * &self.c;
@@ -211,7 +227,7 @@ impl LoopModel {
     /// # Errors
     /// [`MarginError::IllPosed`] when `I + D` is singular.
     pub fn evaluator(&self) -> Result<Evaluator, MarginError> {
-        let (e, acl) = self.closed()?;
+        let (e, acl) = self.closed_loop()?;
         let zero = DMatrix::zeros(e.nrows(), e.ncols());
         Ok(Evaluator {
             open: Reduced::new(&self.a, &self.b, &self.c, &self.d),
@@ -242,9 +258,14 @@ impl LoopModel {
     /// `D_ii − D_io E D_oi`.
     ///
     /// # Errors
-    /// [`MarginError::IllPosed`] when `I + D_oo` is singular.
+    /// [`MarginError::IllPosed`] when `I + D_oo` is singular, [`MarginError::Size`] for an input
+    /// the loop does not have.
     pub fn loop_at(&self, i: usize) -> Result<LoopModel, MarginError> {
+        self.check()?;
         let m = self.b.ncols();
+        if i >= m {
+            return Err(MarginError::Size { what: "input index" });
+        }
         let others: Vec<usize> = (0..m).filter(|&j| j != i).collect();
         let n = self.a.nrows();
         let k = others.len();
@@ -269,7 +290,7 @@ impl LoopModel {
     /// # Errors
     /// [`MarginError::Eigen`] when the closed-loop poles cannot be computed.
     pub fn grid(&self, points: usize) -> Result<Vec<f64>, MarginError> {
-        let (_, acl) = self.closed()?;
+        let (_, acl) = self.closed_loop()?;
         let poles = try_eigenvalues(&acl).map_err(|e| MarginError::Eigen(e.to_string()))?;
         let speeds: Vec<f64> = match self.sample_time {
             None => poles.iter().map(|z| z.norm()).filter(|v| *v > 0.0 && v.is_finite()).collect(),
@@ -277,7 +298,12 @@ impl LoopModel {
         };
         let lo = speeds.iter().copied().fold(f64::INFINITY, f64::min);
         let hi = speeds.iter().copied().fold(0.0, f64::max);
-        let (lo, hi) = if lo.is_finite() && hi > 0.0 { (lo * 1e-3, hi * 1e3) } else { (1e-3, 1e3) };
+        let (lo, hi) = match (lo.is_finite() && hi > 0.0, self.sample_time) {
+            (true, _) => (lo * 1e-3, hi * 1e3),
+            // Every pole at z = 0 (deadbeat): the whole band up to the Nyquist frequency.
+            (false, Some(t)) => (std::f64::consts::PI / t * 1e-6, std::f64::consts::PI / t),
+            (false, None) => (1e-3, 1e3),
+        };
         let top = match self.sample_time {
             Some(t) => std::f64::consts::PI / t,
             None => hi,
@@ -321,13 +347,23 @@ pub struct InputMargins {
     pub delay_margin: Option<f64>,
 }
 
-/// Golden-section maximisation of `f` on `[a, b]` (60 steps at most).
-fn refine_max(f: &dyn Fn(f64) -> Option<f64>, mut a: f64, mut b: f64) -> (f64, f64) {
+/// Largest singular value of a complex matrix (infinite when the SVD fails: a margin computed
+/// from it is then zero, never larger than the truth).
+pub fn sigma_max(m: &DMatrix<Complex64>) -> f64 {
+    if m.shape() == (1, 1) {
+        return m[(0, 0)].norm();
+    }
+    crate::linalg::svd::try_singular_values(m, crate::linalg::svd::SvdParams::default()).map_or(f64::INFINITY, |s| s.iter().copied().fold(0.0, f64::max))
+}
+
+/// Golden-section maximisation of `f` on `[a, b]` (60 steps at most). A failed evaluation
+/// counts as infinite: a margin computed from it is zero, never larger than the truth.
+pub fn refine_max(f: &dyn Fn(f64) -> Option<f64>, mut a: f64, mut b: f64) -> (f64, f64) {
     let g = (5f64.sqrt() - 1.0) / 2.0;
-    let mut best = (a, f(a).unwrap_or(0.0));
+    let mut best = (a, f(a).unwrap_or(f64::INFINITY));
     for _ in 0..60 {
         let (c, d) = (b - g * (b - a), a + g * (b - a));
-        let (fc, fd) = (f(c).unwrap_or(0.0), f(d).unwrap_or(0.0));
+        let (fc, fd) = (f(c).unwrap_or(f64::INFINITY), f(d).unwrap_or(f64::INFINITY));
         for (x, v) in [(c, fc), (d, fd)] {
             if v > best.1 {
                 best = (x, v);
@@ -367,7 +403,7 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
     let grid = l.grid(points)?;
     let ev = l.evaluator()?;
     let disk = |w: f64| -> Option<f64> { ev.sensitivity(w).ok().map(|s| (s[(0, 0)] + (sigma - 1.0) / 2.0).norm()) };
-    let values: Vec<f64> = grid.iter().map(|w| disk(*w).unwrap_or(0.0)).collect();
+    let values: Vec<f64> = grid.iter().map(|w| disk(*w).unwrap_or(f64::INFINITY)).collect();
     let k = (0..values.len()).max_by(|&i, &j| values[i].total_cmp(&values[j])).unwrap_or(0);
     let (lo, hi) = (grid[k.saturating_sub(1)], grid[(k + 1).min(grid.len() - 1)]);
     let (wk, peak) = if hi > lo { refine_max(&disk, lo, hi) } else { (grid[k], values[k]) };
@@ -376,7 +412,7 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
     let (gain_range, phase) = (disk_shape.gain_range(), disk_shape.phase_deg());
     // Classical margins from L on the grid.
     let lval = |w: f64| -> Option<Complex64> { ev.loop_response(w).ok().map(|m| m[(0, 0)]) };
-    let (mut gm_low, mut gm_high, mut pm, mut wc) = (None::<f64>, None::<f64>, None::<f64>, None::<f64>);
+    let (mut gm_low, mut gm_high, mut pm, mut wc, mut delay) = (None::<f64>, None::<f64>, None::<f64>, None::<f64>, None::<f64>);
     // ω = 0 is left out here: L has its integrators' poles there.
     let positive: Vec<f64> = grid.iter().copied().filter(|w| *w > 0.0).collect();
     let finite = |v: Complex64| v.re.is_finite() && v.im.is_finite();
@@ -395,14 +431,23 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
                 }
             }
         }
-        // Crossover |L| = 1.
-        if wc.is_none() && (a.norm() > 1.0) != (b.norm() > 1.0) {
+        // Crossover |L| = 1: every one. The phase margin is the one of smallest size (a
+        // rotation of L by it puts a closed-loop pole on the boundary); the delay margin is the
+        // smallest lag that reaches −180° at a crossover, (PM_i mod 360°) / ω_i.
+        if (a.norm() > 1.0) != (b.norm() > 1.0) {
             let w = bisect(&|w| lval(w).map_or(0.0, |v| v.norm() - 1.0), w0, w1);
             if let Some(v) = lval(w) {
                 let margin = 180.0 + v.arg().to_degrees();
                 let margin = if margin > 180.0 { margin - 360.0 } else { margin };
-                pm = Some(margin);
-                wc = Some(w);
+                if pm.is_none_or(|p: f64| margin.abs() < p.abs()) {
+                    pm = Some(margin);
+                    wc = Some(w);
+                }
+                let lag = margin.rem_euclid(360.0);
+                if lag > 0.0 && w > 0.0 {
+                    let d = lag.to_radians() / w;
+                    delay = Some(delay.map_or(d, |x: f64| x.min(d)));
+                }
             }
         }
     }
@@ -424,10 +469,6 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
             }
         }
     }
-    let delay = match (pm, wc) {
-        (Some(p), Some(w)) if p > 0.0 && w > 0.0 => Some(p.to_radians() / w),
-        _ => None,
-    };
     Ok(InputMargins {
         disk_alpha: alpha,
         disk_frequency: wk,

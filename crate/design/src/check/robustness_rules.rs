@@ -134,6 +134,13 @@ fn model(list: &UncertainList, p: Option<&Plant>) -> Result<UncertaintyModel, St
                 out.entries.push(e);
             }
             Item::Whole(m, r) => {
+                let zero = p.is_some_and(|p| match m {
+                    PlantMatrix::A => p.a().iter().all(|v| *v == 0.0),
+                    PlantMatrix::B => p.b().iter().all(|v| *v == 0.0),
+                });
+                if zero {
+                    return Err(at(format!("{} is all zeros, and a perturbation relative to its norm leaves it so; mark single entries instead", name(m))));
+                }
                 if out.matrices.iter().any(|(x, _)| *x == m) {
                     return Err(at(format!("the whole of {} is listed twice", name(m))));
                 }
@@ -158,7 +165,7 @@ pub(super) fn robustness(spec: &DesignSpec, plant: Option<&Plant>, out: &mut cra
     let Some(r) = &spec.robustness else { return };
     let mut rs = RobustnessSpec::default();
     if let Some(v) = &r.disk_skew {
-        let checked = scalar(v, "skew").map(|x| x.and_then(|x| if (-1.0..=1.0).contains(&x) { Ok(x) } else { Err(format!("{x} is outside −1 to 1; the skew is 0 for symmetric gain variations, 1 for unbounded gain increase, −1 for gain decrease down to 0")) }));
+        let checked = scalar(v, "skew").map(|x| x.and_then(|x| if (-1.0..=1.0).contains(&x) { Ok(x) } else { Err(format!("{x} is outside −1 to 1; the skew is 0 for gain variations up and down alike, positive to lean toward gain increase, negative toward decrease")) }));
         if let Some(x) = checked.and_then(|x| c.take(P::DiskSkew, x)) {
             rs.skew = x;
         }

@@ -88,8 +88,8 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
         rows.extend(margin_rows(m));
     }
     if let Some(ps) = &result.pole_sensitivity {
-        let worst = ps.poles.iter().map(|r| r.condition).fold(0.0, f64::max);
-        rows.push(("Pole sensitivity: largest eigenvalue condition number".into(), fmt_num(worst), if worst <= 100.0 { "well conditioned" } else { "sensitive: check the model" }.into()));
+        let worst = ps.poles.iter().filter_map(|r| r.condition).fold(0.0, f64::max);
+        rows.push(("Pole sensitivity, largest κ(λ)".into(), fmt_num(worst), if worst <= 100.0 { "low" } else { "high: see report" }.into()));
     }
     if let Some(u) = &result.uncertainty {
         rows.push((
@@ -264,19 +264,20 @@ pub fn record_from_text(text: &str, date: &str, whole: bool) -> Result<String, c
 /// all inputs at once with the sensitivity peaks on another (the record stays on two pages).
 fn margin_rows(m: &crate::result::MarginsResult) -> Vec<(String, String, String)> {
     let enough = |d: &crate::result::DiskMargin| d.gain_range[0] <= 0.5 && d.gain_range[1] >= 2.0 && d.phase_margin_deg >= 35.0;
-    let range = |d: &crate::result::DiskMargin| format!("α = {}: gain × {} to × {}, phase ±{}°", fmt_num(d.disk_margin), fmt_num(d.gain_range[0]), if d.gain_range[1].is_finite() { fmt_num(d.gain_range[1]) } else { "∞".into() }, fmt_num(d.phase_margin_deg));
-    let per: Vec<String> = m.per_input.iter().map(|p| format!("{}: {}; delay margin {}", p.input, range(&p.disk), p.classical.delay_margin.map_or("none".into(), |d| format!("{} s", fmt_num(d))))).collect();
+    let range = |d: &crate::result::DiskMargin| format!("α = {} (× {}–{}, ±{}°)", fmt_num(d.disk_margin), fmt_num(d.gain_range[0]), fmt_num(d.gain_range[1]), fmt_num(d.phase_margin_deg));
+    let per: Vec<String> = m.per_input.iter().map(|p| format!("{}: {}, delay {}", p.input, range(&p.disk), p.classical.delay_margin.map_or("none".into(), |d| format!("{} s", fmt_num(d))))).collect();
     let all = &m.all_inputs;
     let how = match all.accuracy {
         crate::result::MultiloopAccuracy::Exact => "exact",
         crate::result::MultiloopAccuracy::Bound => "guaranteed bound",
     };
+    let verdict = |ok: bool| if ok { "at least ±6 dB, ±35°" } else { "small: see warnings" }.to_string();
+    if m.per_input.len() == 1 {
+        // One input: all inputs at once is that input's loop.
+        return vec![(format!("Disk margin at the plant input (skew {})", fmt_num(m.skew)), per.join("; "), verdict(enough(&m.all_inputs_symmetric)))];
+    }
     vec![
-        (format!("Disk margins at the plant input, each input with the others closed (skew {})", fmt_num(m.skew)), per.join("; "), if m.per_input.iter().all(|p| enough(&p.disk)) { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into()),
-        (
-            "All inputs at once; sensitivity peaks".into(),
-            format!("{} ({how}); σ_max(S) {} at {} rad/s, σ_max(T) {}", range(&all.disk), fmt_num(m.peak_sensitivity), fmt_num(m.peak_sensitivity_frequency), fmt_num(m.peak_complementary_sensitivity)),
-            if enough(&all.disk) { "at least ±6 dB, ±35°" } else { "small: see warnings" }.into(),
-        ),
+        (format!("Disk margins, each input alone (skew {})", fmt_num(m.skew)), per.join("; "), String::new()),
+        ("Disk margin, all inputs at once".into(), format!("{} ({how})", range(&all.disk)), verdict(enough(&m.all_inputs_symmetric))),
     ]
 }

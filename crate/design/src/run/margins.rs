@@ -13,7 +13,7 @@ use num_complex::Complex64;
 use super::gains::Gains;
 use super::setup::Setup;
 use crate::margins::built::{plant_input_loop, PlantMatrices};
-use crate::margins::{input_margins, multiloop_disk, Disk, LoopModel};
+use crate::margins::{input_margins, multiloop_disk, sigma_max, Disk, LoopModel};
 use crate::result::{AllInputsMargin, ClassicalMargins, DiskMargin, FrequencyResponse, InputMarginResult, MarginsResult, MultiloopAccuracy};
 
 /// Frequencies in the logarithmic part of the grid.
@@ -33,22 +33,50 @@ pub(super) fn loop_model(s: &Setup, g: &Gains) -> Option<LoopModel> {
     plant_input_loop(&PlantMatrices { a: &s.ad, b: &s.bd, c: &c, d: &d }, &ctrl).ok()
 }
 
-/// Largest singular value of a complex matrix.
-fn sigma_max(m: &DMatrix<Complex64>) -> f64 {
-    if m.shape() == (1, 1) {
-        return m[(0, 0)].norm();
-    }
-    crate::linalg::svd::try_singular_values(m, crate::linalg::svd::SvdParams::default()).map_or(f64::NAN, |s| s.iter().copied().fold(0.0, f64::max))
-}
 
 fn disk(alpha: f64, skew: f64, frequency: f64) -> DiskMargin {
     let shape = Disk { alpha, skew };
-    DiskMargin { disk_margin: alpha, gain_range: shape.gain_range(), phase_margin_deg: shape.phase_deg(), frequency }
+    DiskMargin { skew, disk_margin: alpha, gain_range: shape.gain_range(), phase_margin_deg: shape.phase_deg(), frequency }
 }
 
-/// The margins of the loop as built; `None` where a computation fails (the design has been
-/// judged already; margins are information on top).
+/// Why margins are not given for a design (`None`: they are).
+pub(super) fn unavailable(s: &Setup, g: &Gains) -> Option<String> {
+    let Some(model) = loop_model(s, g) else { return Some("the loop as built could not be formed".into()) };
+    let poles = model.closed_loop().ok().and_then(|(_, acl)| crate::linalg::eigen::try_eigenvalues(&acl).ok());
+    let Some(poles) = poles else { return Some("the closed loop's poles could not be computed".into()) };
+    let scale = poles.iter().map(|p| p.norm()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
+    let unstable = match s.t {
+        None => poles.iter().any(|p| p.re >= -1e-12 * scale),
+        Some(_) => poles.iter().any(|p| p.norm() >= 1.0 - 1e-12),
+    };
+    unstable.then(|| "the loop as built is not stable, so stability margins do not apply".to_string())
+}
+
+/// `σ_max(S)` and `σ_max(T)` at one frequency.
+fn peaks_at(ev: &crate::margins::Evaluator, m: usize, w: f64) -> Option<(f64, f64)> {
+    let sm = ev.sensitivity(w).ok()?;
+    let tm = DMatrix::<Complex64>::identity(m, m) - &sm;
+    Some((sigma_max(&sm), sigma_max(&tm)))
+}
+
+/// The all-inputs disk margin of skew `skew`.
+fn all_inputs(model: &LoopModel, ev: &crate::margins::Evaluator, per_input: &[InputMarginResult], skew: f64) -> Option<AllInputsMargin> {
+    Some(match per_input {
+        // One input: all inputs at once is that input's loop, exactly.
+        [one] if one.disk_skew_is(skew) => AllInputsMargin { disk: one.disk, accuracy: MultiloopAccuracy::Exact, disk_margin_at_most: Some(one.disk.disk_margin) },
+        _ => {
+            let all = multiloop_disk(&model.grid(MULTILOOP_GRID_POINTS).ok()?, &|w| ev.sensitivity(w).ok(), skew);
+            AllInputsMargin { disk: disk(all.alpha, skew, all.frequency), accuracy: if all.exact { MultiloopAccuracy::Exact } else { MultiloopAccuracy::Bound }, disk_margin_at_most: all.alpha_upper.is_finite().then_some(all.alpha_upper) }
+        }
+    })
+}
+
+/// The margins of the loop as built; `None` where the loop is unstable ([`unavailable`]) or a
+/// computation fails (the design has been judged already; margins are information on top).
 pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
+    if unavailable(s, g).is_some() {
+        return None;
+    }
     let model = loop_model(s, g)?;
     let skew = s.spec.robustness.skew;
     let m = model.b.ncols();
@@ -62,28 +90,20 @@ pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
         });
     }
     let ev = model.evaluator().ok()?;
-    let all_inputs = match per_input.as_slice() {
-        // One input: all inputs at once is that input's loop, exactly.
-        [one] => AllInputsMargin { disk: one.disk, accuracy: MultiloopAccuracy::Exact, disk_margin_at_most: Some(one.disk.disk_margin) },
-        _ => {
-            let all = multiloop_disk(&model.grid(MULTILOOP_GRID_POINTS).ok()?, &|w| ev.sensitivity(w).ok(), skew);
-            AllInputsMargin { disk: disk(all.alpha, skew, all.frequency), accuracy: if all.exact { MultiloopAccuracy::Exact } else { MultiloopAccuracy::Bound }, disk_margin_at_most: Some(all.alpha_upper) }
-        }
-    };
+    let all = all_inputs(&model, &ev, &per_input, skew)?;
+    // The common-practice verdict is on the symmetric disk, whatever skew is shown.
+    let symmetric = if skew == 0.0 { all.disk } else { all_inputs(&model, &ev, &per_input, 0.0)?.disk };
     let grid = model.grid(GRID_POINTS).ok()?;
-    // Peaks of σ_max(S) and σ_max(T = I − S) over the grid, and the table.
-    let (mut ps, mut ws, mut pt, mut wt) = (0.0f64, 0.0, 0.0f64, 0.0);
+    let (mut ps, mut ws, mut pt, mut wt, mut ks, mut kt) = (0.0f64, 0.0, 0.0f64, 0.0, 0usize, 0usize);
     let mut table = FrequencyResponse::default();
     let every = grid.len().div_ceil(TABLE_POINTS).max(1);
     for (k, &w) in grid.iter().enumerate() {
-        let sm = ev.sensitivity(w).ok()?;
-        let tm = DMatrix::<Complex64>::identity(m, m) - &sm;
-        let (a, b) = (sigma_max(&sm), sigma_max(&tm));
+        let (a, b) = peaks_at(&ev, m, w)?;
         if a > ps {
-            (ps, ws) = (a, w);
+            (ps, ws, ks) = (a, w, k);
         }
         if b > pt {
-            (pt, wt) = (b, w);
+            (pt, wt, kt) = (b, w, k);
         }
         if k % every == 0 || k + 1 == grid.len() {
             table.frequency.push(w);
@@ -91,10 +111,24 @@ pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
             table.complementary_sensitivity.push(b);
         }
     }
+    // Each peak refined between its grid neighbours.
+    let around = |k: usize| (grid[k.saturating_sub(1)], grid[(k + 1).min(grid.len() - 1)]);
+    for (k, which) in [(ks, 0), (kt, 1)] {
+        let (lo, hi) = around(k);
+        if hi > lo {
+            let (w, v) = crate::margins::refine_max(&|w| peaks_at(&ev, m, w).map(|p| if which == 0 { p.0 } else { p.1 }), lo, hi);
+            match which {
+                0 if v > ps => (ps, ws) = (v, w),
+                1 if v > pt => (pt, wt) = (v, w),
+                _ => {}
+            }
+        }
+    }
     Some(MarginsResult {
         skew,
         per_input,
-        all_inputs,
+        all_inputs: all,
+        all_inputs_symmetric: symmetric,
         peak_sensitivity: ps,
         peak_sensitivity_frequency: ws,
         peak_complementary_sensitivity: pt,

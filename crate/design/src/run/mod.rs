@@ -75,6 +75,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     let advice = s.t.map(|t| crate::controller::sample_rate_advice(&s.to_s(&dp.base_poles), t));
     let finite_precision = s.t.and_then(|t| finite_precision(&s, &dp, &g, t));
     let margins = margins::margins(&s, &g);
+    let margins_unavailable = if margins.is_some() { None } else { Some(margins::unavailable(&s, &g).unwrap_or_else(|| "a computation of the margins failed".into())) };
     let pole_sensitivity = robustness::pole_sensitivity(&s, &g);
     let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
     let mut warnings = warnings::requested_pole_warnings(&s, &dp, anorm);
@@ -123,6 +124,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         lqr: dp.lqr.as_ref().map(|d| lqr_result(spec, d)),
         finite_precision,
         margins,
+        margins_unavailable,
         pole_sensitivity,
         uncertainty,
         continuation: crate::Continuation { feedback: g.placement.eigenvectors.clone(), observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()) },

@@ -17,9 +17,7 @@ use crate::{fmt_num, DesignRequest, PlantEntry};
 
 /// The closed-loop matrix `A_L − B_L E C_L` of a loop model.
 fn closed(l: &LoopModel) -> Option<DMatrix<f64>> {
-    let m = l.d.nrows();
-    let e = (DMatrix::<f64>::identity(m, m) + &l.d).try_inverse()?;
-    Some(&l.a - &l.b * e * &l.c)
+    l.closed_loop().ok().map(|(_, acl)| acl)
 }
 
 /// The closed loop as built with the plant `(a, b)` (continuous, or already discrete when the
@@ -50,13 +48,16 @@ fn entry_name(e: &PlantEntry) -> String {
     format!("{}({}, {})", if e.matrix == PlantMatrix::A { "A" } else { "B" }, e.row + 1, e.column + 1)
 }
 
-/// `∂A_cl/∂p` by a central difference (exact for a continuous loop, which is linear in `p`;
-/// second order for a sampled one), step `1e-6 max(|p|, 1e-3 max|M|)`.
+/// `∂A_cl/∂p` by a central difference: a continuous loop is linear in `p`, so the step is the
+/// plant's own scale (rounding error `ε ‖A_cl‖`, no truncation); a sampled one is not, and takes
+/// `1e-4` of it (truncation about `1e-8` relative). The scale is `max(|p|, max|A|, max|B|)`, or
+/// 1 for an all-zero plant.
 fn direction(s: &Setup, g: &Gains, e: &PlantEntry) -> Option<DMatrix<f64>> {
     let (a, b) = (s.plant.a(), s.plant.b());
-    let target = if e.matrix == PlantMatrix::A { a } else { b };
-    let p = *target.get((e.row, e.column))?;
-    let h = 1e-6 * p.abs().max(1e-3 * target.amax()).max(f64::MIN_POSITIVE);
+    let p = *(if e.matrix == PlantMatrix::A { a } else { b }).get((e.row, e.column))?;
+    let scale = p.abs().max(a.amax()).max(b.amax());
+    let scale = if scale > 0.0 { scale } else { 1.0 };
+    let h = if s.t.is_some() && s.spec.plant_sample_time.is_none() { 1e-4 * scale } else { scale };
     let shifted = |dp: f64| {
         let (mut a2, mut b2) = (a.clone(), b.clone());
         let t = if e.matrix == PlantMatrix::A { &mut a2 } else { &mut b2 };
@@ -73,20 +74,27 @@ pub(super) fn pole_sensitivity(s: &Setup, g: &Gains) -> Option<PoleSensitivityRe
     let dir = entry.as_ref().and_then(|e| direction(s, g, e));
     let mut rows = pole_sensitivities(&acl, dir.as_ref()).ok()?;
     rows.sort_by(|a, b| a.pole.re.total_cmp(&b.pole.re).then(a.pole.im.total_cmp(&b.pole.im)));
-    let worst = rows.iter().max_by(|a, b| a.condition.total_cmp(&b.condition))?;
     let plane = if s.t.is_some() { "z" } else { "s" };
-    let mut summary = format!(
-        "The pole most sensitive to model error is {plane} = {} (condition number {}: a model error of relative size δ can move it by about {} × δ × ‖closed loop‖).",
-        short(worst.pole),
-        fmt_num(worst.condition),
-        fmt_num(worst.condition)
-    );
-    if let (Some(e), Some(most)) = (&entry, rows.iter().filter_map(|r| r.derivative.map(|d| (r.pole, d))).max_by(|a, b| a.1.norm().total_cmp(&b.1.norm()))) {
+    let simple: Vec<_> = rows.iter().filter(|r| !r.repeated).collect();
+    let mut summary = match simple.iter().max_by(|a, b| a.condition.total_cmp(&b.condition)) {
+        Some(worst) => format!(
+            "The pole most sensitive to model error is {plane} = {} (condition number {}: a model error of relative size δ can move it by about {} × δ × ‖closed loop‖).",
+            short(worst.pole),
+            fmt_num(worst.condition),
+            fmt_num(worst.condition)
+        ),
+        None => "Every pole is repeated: first-order sensitivities are not defined.".to_string(),
+    };
+    let repeated: Vec<String> = rows.iter().filter(|r| r.repeated).map(|r| short(r.pole)).collect();
+    if !repeated.is_empty() {
+        summary.push_str(&format!(" Repeated poles ({}) have no first-order sensitivity: a defective one moves like δ^(1/p), far more than δ.", repeated.join(", ")));
+    }
+    if let (Some(e), Some(most)) = (&entry, simple.iter().filter_map(|r| r.derivative.map(|d| (r.pole, d))).max_by(|a, b| a.1.norm().total_cmp(&b.1.norm()))) {
         summary.push_str(&format!(" {} moves {plane} = {} most: dλ/dp = {}.", entry_name(e), short(most.0), short(most.1)));
     }
     Some(PoleSensitivityResult {
         entry: entry.as_ref().map(entry_name),
-        poles: rows.iter().map(|r| PoleSensitivityRow { pole: pair(r.pole), condition: r.condition, derivative: r.derivative.map(pair) }).collect(),
+        poles: rows.iter().map(|r| PoleSensitivityRow { pole: pair(r.pole), condition: (!r.repeated).then_some(r.condition), derivative: r.derivative.filter(|_| !r.repeated).map(pair), repeated: r.repeated }).collect(),
         summary,
     })
 }
@@ -134,8 +142,8 @@ pub(super) fn uncertainty(req: &DesignRequest, s: &Setup, g: &Gains, h: &Horizon
     let cloud = sample_cloud(a, b, &u.model, u.samples, u.seed, domain, &|pa, pb| closed_with(s, g, pa, pb));
     // The same perturbed plants again (same seed), simulated.
     let mut rng = SplitMix::new(u.seed);
-    let (mut settle, mut not_settled, mut peaks) = (Vec::new(), 0usize, vec![Vec::new(); s.m]);
-    for _ in 0..u.samples {
+    let (mut settle, mut not_settled, mut failed, mut peaks) = (Vec::new(), 0usize, 0usize, vec![Vec::new(); s.m]);
+    for _ in 0..u.samples.min(crate::uncertainty::MAX_SAMPLES) {
         let (pa, pb) = perturbed(a, b, &u.model, &mut rng);
         match response_of(req, s, g, h, loop_scenario, pa, pb) {
             Some((t, p)) => {
@@ -147,13 +155,14 @@ pub(super) fn uncertainty(req: &DesignRequest, s: &Setup, g: &Gains, h: &Horizon
                     peaks[k].push(v);
                 }
             }
-            None => not_settled += 1,
+            None => failed += 1,
         }
     }
     let response = Some(ResponseSpread {
         scenario: if loop_scenario { "loop" } else { "free response" },
         settling_time: spread(settle),
         not_settled,
+        failed,
         peak_input: peaks.into_iter().map(spread).collect(),
     });
     Some(UncertaintyResult {

@@ -321,7 +321,7 @@ pub(super) fn precision_warning(fp: &crate::result::FinitePrecisionResult) -> Op
 /// The `small-margin` caution: the multiloop disk margin (every input perturbed at once)
 /// guarantees less than a factor 2 (6 dB) either way or 35° of phase (common practice minimum).
 pub(super) fn margin_warning(m: &crate::result::MarginsResult) -> Option<Warning> {
-    let d = &m.all_inputs.disk;
+    let d = &m.all_inputs_symmetric;
     let short = d.gain_range[0] > 0.5 || d.gain_range[1] < 2.0 || d.phase_margin_deg < 35.0;
     short.then(|| {
         let weakest = m.per_input.iter().min_by(|a, b| a.disk.disk_margin.total_cmp(&b.disk.disk_margin));
@@ -332,9 +332,8 @@ pub(super) fn margin_warning(m: &crate::result::MarginsResult) -> Option<Warning
         Warning::new(
             WarningCode::SmallMargin,
             format!(
-                "The disk margin at the plant input ({}, skew {}) guarantees gain factors {} to {} and phase ±{}° (at {} rad/s): less than the common-practice minimum of about ±6 dB and ±35°.{single} Slow the poles down, or, with an observer, make it faster or check the loop with the model's uncertainty.",
+                "The symmetric disk margin (skew 0) at the plant input ({}) guarantees gain factors {} to {} and phase ±{}° (at {} rad/s): less than the common-practice minimum of about ±6 dB and ±35°.{single} Slow the poles down, or, with an observer, make it faster or check the loop with the model's uncertainty.",
                 if m.per_input.len() > 1 { "all inputs at once" } else { "one input" },
-                fmt_num(m.skew),
                 fmt_num(d.gain_range[0]),
                 if d.gain_range[1].is_finite() { fmt_num(d.gain_range[1]) } else { "∞".into() },
                 fmt_num(d.phase_margin_deg),

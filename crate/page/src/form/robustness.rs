@@ -14,7 +14,9 @@ fn gain_text(v: f64) -> String {
 
 /// The margins at the plant input as text lines.
 pub fn margin_lines(result: &DesignResult) -> Vec<String> {
-    let Some(m) = &result.margins else { return Vec::new() };
+    let Some(m) = &result.margins else {
+        return result.margins_unavailable.iter().map(|why| format!("No margins: {why}.")).collect();
+    };
     let opt = |v: Option<f64>, unit: &str| v.map_or("none".to_string(), |x| format!("{}{unit}", fmt_num(x)));
     let mut out: Vec<String> = m
         .per_input
@@ -168,7 +170,7 @@ pub fn detail(result: &DesignResult, context: &ReportContext) -> RobustnessDetai
         out.frequency_rows = frequency_rows(m);
     }
     if let Some(ps) = &result.pole_sensitivity {
-        out.sensitivity_rows = ps.poles.iter().map(|r| [complex_text(&r.pole), fmt_num(r.condition), r.derivative.as_ref().map_or(String::new(), complex_text)]).collect();
+        out.sensitivity_rows = ps.poles.iter().map(|r| [complex_text(&r.pole), r.condition.map_or("repeated pole: not defined".to_string(), fmt_num), r.derivative.as_ref().map_or(String::new(), complex_text)]).collect();
         out.sensitivity_entry = ps.entry.clone();
         out.sensitivity_summary = ps.summary.clone();
     }

@@ -110,8 +110,8 @@ pub fn frequency_scene(result: &DesignResult) -> Option<TimePlotScene> {
             Series { name: "σmax(S), input sensitivity".into(), values: keep.iter().map(|&k| db(f.sensitivity[k])).collect(), colour: Some(0), dash: Some(0) },
             Series { name: "σmax(T), complementary".into(), values: keep.iter().map(|&k| db(f.complementary_sensitivity[k])).collect(), colour: Some(1), dash: Some(1) },
         ],
-        limits: vec![LimitLine { value: db(m.peak_sensitivity), label: format!("peak |S| {} dB", fmt_num(db(m.peak_sensitivity))) }],
-        events: [mark(m.peak_sensitivity_frequency, "peak |S| at"), mark(m.all_inputs.disk.frequency, "disk margin at")].into_iter().flatten().collect(),
+        limits: vec![LimitLine { value: db(m.peak_sensitivity), label: format!("peak σmax(S) {} dB", fmt_num(db(m.peak_sensitivity))) }],
+        events: [mark(m.peak_sensitivity_frequency, "peak σmax(S) at"), mark(m.all_inputs.disk.frequency, "disk margin at")].into_iter().flatten().collect(),
         x_label: "log₁₀ frequency (rad/s)".into(),
         y_label: "dB".into(),
         ..TimePlotScene::default()
