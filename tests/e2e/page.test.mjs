@@ -538,6 +538,32 @@ describe('built page', () => {
     });
   });
 
+  test('pasting another notation: semicolons, bracketed rows and decimal commas are each explained; rows do not wrap', async () => {
+    await withPage(pageFileUrl, async ({ page, consoleErrors, pageErrors }) => {
+      const cases = [
+        ['1 2; 3 4', /2 groups separated by semicolons.*line of its own/],
+        ['[1 2]\n[3 4]', /each of the 2 lines is a row in brackets/],
+        ['0,5\t1,5\n2\t3', /"0,5" looks like a decimal comma.*"0\.5"/],
+      ];
+      for (const [text, want] of cases) {
+        await page.fill('#pw-a', text);
+        // Wait for the redesign after the debounce: the message then matches this text's.
+        await page.waitForFunction((source) => {
+          const e = document.getElementById('pw-a-error');
+          return !e.hidden && new RegExp(source).test(e.textContent);
+        }, want.source, { timeout: 5000 }).catch(() => {});
+        assert.match(await page.textContent('#pw-a-error'), want, text);
+        assert.equal(await page.inputValue('#pw-a'), text, 'what was typed stays');
+      }
+      // A long pasted row stays one line: the field scrolls sideways instead of wrapping.
+      const row = '1.2345678 2.3456789 3.4567891 4.5678912 5.6789123 6.7891234 7.8912345 8.9123456';
+      await page.fill('#pw-a', row);
+      const [scroll, client] = await page.evaluate(() => { const a = document.getElementById('pw-a'); return [a.scrollWidth, a.clientWidth]; });
+      assert.ok(scroll > client, `scrollWidth ${scroll} > clientWidth ${client}: the row is not wrapped`);
+      assert.deepEqual([...pageErrors, ...consoleErrors], []);
+    });
+  });
+
   test('the second demo (two inputs) loads from the selector and designs', async () => {
     await withPage(pageFileUrl, async ({ page, consoleErrors, pageErrors }) => {
       const titles = await page.evaluate(() => [...document.querySelectorAll('#pw-demo option')].map((o) => o.textContent));

@@ -57,6 +57,14 @@
 //! [`parse_names`] splits on commas, new lines and tabs, trims each name and drops
 //! the empty ones. It never fails.
 //!
+//! # Pasted text in other notations
+//!
+//! Text with semicolons (`1 2; 3 4`) is refused with [`MatrixParseError::SemicolonRows`], and
+//! lines that are each a row in brackets (`[1 2]` then `[3 4]`) with
+//! [`MatrixParseError::BracketedRows`]: both messages say what was recognised and how to write
+//! it here (one row per line, or one JSON list of rows). A decimal comma in a row separated by
+//! spaces or tabs is [`MatrixParseError::DecimalComma`].
+//!
 //! A leading byte-order mark (U+FEFF), which some editors write, is ignored everywhere.
 
 use nalgebra::DMatrix;
@@ -100,6 +108,11 @@ pub enum MatrixParseError {
     /// A row separated by spaces or tabs holds a comma between two digits (`0,5 0,5`): a
     /// decimal comma, which would otherwise be read as two entries.
     DecimalComma { row: usize, token: String },
+    /// Plain text with semicolons (`1 2; 3 4`): rows must be on lines of their own.
+    SemicolonRows { groups: usize },
+    /// Each line a row in brackets (`[1 2]` then `[3 4]`), which is neither plain text nor one
+    /// JSON list.
+    BracketedRows { lines: usize },
 }
 
 impl fmt::Display for MatrixParseError {
@@ -161,6 +174,18 @@ impl fmt::Display for MatrixParseError {
                 f,
                 "row {row}: {token:?} looks like a decimal comma (entries here are separated by spaces, so the comma cannot be a separator); write a decimal point, {:?}",
                 token.replace(',', ".")
+            ),
+            MatrixParseError::SemicolonRows { groups } => write!(
+                f,
+                "the text has {groups} groups separated by semicolons, which this field does not read as rows; \
+                 put each row on a line of its own (entries separated by spaces, tabs or commas), \
+                 or write one JSON list of rows such as [[1, 2], [3, 4]]"
+            ),
+            MatrixParseError::BracketedRows { lines } => write!(
+                f,
+                "each of the {lines} lines is a row in brackets; remove the brackets (one row per line, \
+                 entries separated by spaces, tabs or commas), or make it one JSON list of rows by \
+                 enclosing the lines in [ ] with commas between them, such as [[1, 2], [3, 4]]"
             ),
             MatrixParseError::NotAVector { rows, columns } => write!(
                 f,
@@ -296,10 +321,20 @@ fn parse_grid(text: &str) -> Result<Grid, MatrixParseError> {
     let text = normalise_minus(strip_byte_order_mark(text));
     let text = text.as_ref();
     if text.trim_start().starts_with('[') {
-        parse_json_grid(text)
+        parse_json_grid(text).map_err(|e| bracketed_rows(text).unwrap_or(e))
+    } else if text.contains(';') {
+        Err(MatrixParseError::SemicolonRows { groups: text.split(';').filter(|g| !g.trim().is_empty()).count() })
     } else {
         parse_plain_grid(text)
     }
+}
+
+/// Two or more non-blank lines, each a row in brackets (`[1 2]` or `[1, 2],`): recognised to
+/// say what to change when the text is not one JSON list.
+fn bracketed_rows(text: &str) -> Option<MatrixParseError> {
+    let lines: Vec<&str> = text.lines().map(str::trim).filter(|l| !l.is_empty()).collect();
+    let each = lines.iter().all(|l| l.starts_with('[') && l.trim_end_matches(',').trim_end().ends_with(']') && !l[1..].contains('['));
+    (lines.len() >= 2 && each).then_some(MatrixParseError::BracketedRows { lines: lines.len() })
 }
 
 /// Why a single token is not an acceptable number.

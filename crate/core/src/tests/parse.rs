@@ -115,14 +115,8 @@ fn stray_tokens() {
             token: "6)".into()
         })
     );
-    assert_eq!(
-        parse_matrix("1;2"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 1,
-            token: "1;2".into()
-        })
-    );
+    // Semicolons are recognised as another notation's row separator, and explained.
+    assert_eq!(parse_matrix("1;2"), Err(MatrixParseError::SemicolonRows { groups: 2 }));
     assert_eq!(
         parse_matrix("1 -"),
         Err(MatrixParseError::BadToken {
@@ -612,4 +606,28 @@ fn decimal_commas_are_recognised_not_misread() {
     assert!(decimal_comma_hint("1,5").unwrap().contains("\"1.5\""));
     assert!(decimal_comma_hint("0,001").is_some());
     assert!(decimal_comma_hint("1, 5").is_none() && decimal_comma_hint("1,2,3").is_none());
+}
+
+#[test]
+fn semicolon_rows_are_recognised_and_explained() {
+    let err = parse_matrix("1 2; 3 4").unwrap_err();
+    assert_eq!(err, MatrixParseError::SemicolonRows { groups: 2 });
+    let text = err.to_string();
+    assert!(text.contains("2 groups separated by semicolons") && text.contains("line of its own"), "{text}");
+    // A trailing semicolon does not count as a group.
+    assert_eq!(parse_matrix("1 2;\n3 4;").unwrap_err(), MatrixParseError::SemicolonRows { groups: 2 });
+}
+
+#[test]
+fn bracketed_rows_are_recognised_and_explained() {
+    for text in ["[1 2]\n[3 4]", "[1, 2],\n[3, 4]", "  [1 2]\n\n[3 4]\n[5 6]"] {
+        let err = parse_matrix(text).unwrap_err();
+        assert!(matches!(err, MatrixParseError::BracketedRows { .. }), "{text:?}: {err:?}");
+        assert!(err.to_string().contains("row in brackets"), "{err}");
+    }
+    assert_eq!(parse_matrix("[1 2]\n[3 4]\n[5 6]").unwrap_err(), MatrixParseError::BracketedRows { lines: 3 });
+    // One JSON list of rows is still read, across lines.
+    assert_eq!(parse_matrix("[[1, 2],\n [3, 4]]").unwrap(), DMatrix::from_row_slice(2, 2, &[1.0, 2.0, 3.0, 4.0]));
+    // A single bracketed line without commas keeps the JSON message.
+    assert!(matches!(parse_matrix("[1 2]").unwrap_err(), MatrixParseError::Json { .. }));
 }
