@@ -23,6 +23,7 @@ import {
   pagePath,
   parseComplex,
   readGain,
+  repoRoot,
   requireBuiltPage,
   screenshot,
   startStaticServer,
@@ -562,6 +563,38 @@ describe('built page', () => {
       assert.ok(scroll > client, `scrollWidth ${scroll} > clientWidth ${client}: the row is not wrapped`);
       assert.deepEqual([...pageErrors, ...consoleErrors], []);
     });
+  });
+
+  test('accessibility: axe-core finds no serious or critical violation (three designs, two window sizes)', async () => {
+    // axe-core (Deque, npm) is evaluated in the page through the DevTools protocol, which the
+    // page's CSP does not govern; the page itself still loads nothing.
+    const axeSource = fs.readFileSync(path.join(repoRoot, 'tests', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
+    const states = [
+      ['first demo', async () => {}],
+      ['two-input demo', async (page) => {
+        await page.selectOption('#pw-demo', '1');
+        await page.click('#pw-load-demo');
+        await page.waitForFunction(() => /2 inputs/.test(document.getElementById('pw-status').textContent));
+      }],
+      ['digital observer with integral action', async (page) => {
+        await design(page, { a: '0 1\n0 -2', b: '0\n3', c: '1 0', poles: '-4±3j, -6', sample_time: '0.01', observer: 'speed_factor', tracking: 'integral', limits: '5' });
+      }],
+    ];
+    let checked = 0;
+    for (const viewport of [{ width: 1200, height: 1100 }, { width: 1024, height: 768 }]) {
+      for (const [name, prepare] of states) {
+        await withPage(pageFileUrl, async ({ page, consoleErrors, pageErrors }) => {
+          await prepare(page);
+          await page.evaluate(axeSource);
+          const r = await page.evaluate(() => axe.run(document, { resultTypes: ['violations'] }));
+          const bad = r.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
+          assert.deepEqual(bad.map((v) => `${v.impact} ${v.id}: ${v.nodes.map((n) => n.target.join(' ')).slice(0, 3).join(', ')}`), [], `${name} at ${viewport.width} × ${viewport.height}`);
+          assert.deepEqual([...pageErrors, ...consoleErrors], []);
+          checked += 1;
+        }, { viewport });
+      }
+    }
+    assert.equal(checked, 6);
   });
 
   test('the second demo (two inputs) loads from the selector and designs', async () => {

@@ -260,3 +260,26 @@ pub(crate) fn fit_rows(t: &HtmlTextAreaElement) {
     }
 }
 
+
+/// Makes each table box that scrolls sideways reachable by keyboard (WCAG 2.1.1; axe's
+/// "scrollable-region-focusable"): a focusable region named after its table's caption. A box
+/// that fits gets no tab stop, so the Tab order is not cluttered with boxes that do not scroll.
+pub(crate) fn mark_scrollable_tables(doc: &Document) -> Result<(), JsValue> {
+    let boxes = doc.get_elements_by_class_name("table-wrap");
+    for i in 0..boxes.length() {
+        let Some(el) = boxes.item(i) else { continue };
+        let scrolls = el.scroll_width() > el.client_width() + 1;
+        let focusable = el.get_attribute("tabindex").is_some();
+        if scrolls && !focusable {
+            let caption = el.query_selector("caption")?.and_then(|c| c.text_content()).unwrap_or_default();
+            el.set_attribute("tabindex", "0")?;
+            el.set_attribute("role", "region")?;
+            el.set_attribute("aria-label", &format!("{} (scrolls sideways)", if caption.is_empty() { "Table" } else { caption.as_str() }))?;
+        } else if !scrolls && focusable {
+            el.remove_attribute("tabindex")?;
+            el.remove_attribute("role")?;
+            el.remove_attribute("aria-label")?;
+        }
+    }
+    Ok(())
+}

@@ -497,6 +497,7 @@ fn cycle(cloud: form::Cloud) -> Result<JsValue, JsValue> {
                 render_compare(&doc, page)?;
                 refresh_readout(page)?;
                 refresh_edit_controls(page)?;
+                dom::mark_scrollable_tables(&doc)?;
                 phase("results", now_ms() - t0);
                 text
             }
@@ -572,6 +573,7 @@ pub fn canvases_resized() -> Result<(), JsValue> {
                 c.size = if w > 0 && h > 0 { Some(Rect::sized(f64::from(w), f64::from(h))) } else { None };
             }
         }
+        dom::mark_scrollable_tables(&document()?)?;
         paint_all(page)
     })
 }
