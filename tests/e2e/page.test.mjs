@@ -565,6 +565,19 @@ describe('built page', () => {
     });
   });
 
+  test('from x₀ = 0 the free-response panel says the response is zero instead of showing flat lines', async () => {
+    await withPage(pageFileUrl, async ({ page, consoleErrors, pageErrors }) => {
+      assert.equal(await design(page, { a: '0 1\n-2 -3', b: '0\n1', poles: '-4, -5', initial_state: '0, 0' }), 'designed');
+      assert.match(await page.textContent('#pw-simulation'), /initial state is zero, so the free response is zero/);
+      const rows = await tableRows(page, 'pw-state-table');
+      assert.ok(rows.length === 2 && rows.every((r) => r.some((c) => c === '— (x₀ = 0)')), JSON.stringify(rows));
+      // With an initial state the figures are back.
+      assert.equal(await design(page, { a: '0 1\n-2 -3', b: '0\n1', poles: '-4, -5', initial_state: '1, 0' }), 'designed');
+      assert.match(await page.textContent('#pw-simulation'), /^Free response of the closed loop/);
+      assert.deepEqual([...pageErrors, ...consoleErrors], []);
+    });
+  });
+
   test('accessibility: axe-core finds no serious or critical violation (three designs, two window sizes)', async () => {
     // axe-core (Deque, npm) is evaluated in the page through the DevTools protocol, which the
     // page's CSP does not govern; the page itself still loads nothing.

@@ -124,6 +124,14 @@ pub(crate) fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
             (Picture::Message(text.clone()), Picture::Message(text), None)
         }
     };
+    // From x₀ = 0 the free response is zero: say so instead of drawing flat lines.
+    let (states, inputs) = match &page.design {
+        Some(d) if page.shown == Shown::Design && form::free_response_is_zero(d) => {
+            let text = "x₀ = 0: the free response is zero. Give an initial state to see it.".to_string();
+            (Picture::Message(text.clone()), Picture::Message(text))
+        }
+        _ => (states, inputs),
+    };
     if let Some((outputs, loop_inputs, estimation)) = loop_pictures {
         page.paint(ids::LOOP_PLOT, outputs)?;
         page.paint(ids::LOOP_INPUT_PLOT, loop_inputs)?;

@@ -689,6 +689,18 @@ pub(crate) fn response_rows(result: &DesignResult) -> (Vec<StateRow>, Vec<InputR
         format!("{} s", fmt_num(s.duration))
     };
     let limits = if s.input_limit.iter().any(|l| l.is_some()) { "; inputs clipped at their limits" } else { "" };
+    if free_response_is_zero(result) {
+        let text = "The initial state is zero, so the free response is zero throughout: there is nothing to settle and no figure to read here. Give an initial state (Loop scenario, Initial state) to see how the regulator brings a disturbed state back to rest.".to_string();
+        let blank = |rows: &mut Vec<StateRow>| {
+            for r in rows.iter_mut() {
+                r.settling = "— (x₀ = 0)".into();
+                r.overshoot = "—".into();
+            }
+        };
+        let mut states = states;
+        blank(&mut states);
+        return (states, inputs, text);
+    }
     let summary = if result.domain == crate::analysis::Domain::Discrete {
         format!(
             "Free response of the sampled state feedback u[k] = −K x[k] (the state measured exactly, no reference) from {start} over {horizon}, sample time {} s{limits}. Settling: within ±{} % of each state's peak deviation from zero, for good.",
@@ -703,6 +715,11 @@ pub(crate) fn response_rows(result: &DesignResult) -> (Vec<StateRow>, Vec<InputR
         )
     };
     (states, inputs, summary)
+}
+
+/// True when the free response starts from x₀ = 0 (and so is zero throughout).
+pub fn free_response_is_zero(result: &DesignResult) -> bool {
+    result.simulation.initial_state.iter().all(|v| *v == 0.0)
 }
 
 /// What the form knew beyond the result, for the report: the loop scenario as asked and the
