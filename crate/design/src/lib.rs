@@ -223,6 +223,19 @@ pub struct RobustnessSpec {
     pub sensitivity_entry: Option<PlantEntry>,
     /// The uncertain plant parameters of the Monte-Carlo cloud.
     pub uncertainty: Option<UncertaintySpec>,
+    /// Whether margins and pole sensitivity are computed in this run (not part of the document:
+    /// the page defers them while a pole is dragged).
+    pub depth: RobustnessDepth,
+}
+
+/// How much of the robustness analysis a run does.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub enum RobustnessDepth {
+    /// Margins and pole sensitivity (and the cloud when asked for).
+    #[default]
+    Full,
+    /// None of them: a quick run while the user drags a pole; the next full run brings them.
+    Deferred,
 }
 
 /// One entry of `A` or `B` (0-based).

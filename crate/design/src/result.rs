@@ -64,6 +64,10 @@ pub struct DesignResult {
     pub margins: Option<MarginsResult>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub margins_unavailable: Option<String>,
+    /// The run skipped margins and pole sensitivity on purpose (a quick run while a pole is
+    /// dragged); not part of the result file.
+    #[serde(skip)]
+    pub robustness_deferred: bool,
     pub pole_sensitivity: Option<PoleSensitivityResult>,
     /// Only when the design asks for it (`robustness.uncertainty`).
     #[serde(skip_serializing_if = "Option::is_none")]

@@ -140,10 +140,14 @@ pub(crate) fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
         }
     }
     let frequency = match (&page.shown, &page.design) {
-        (Shown::Design, Some(d)) => time_or_message(form::frequency_scene(d), "No margins for this design."),
-        _ => Picture::Message("No design yet.".to_string()),
+        // A quick run (a pole being dragged) keeps the last plot.
+        (Shown::Design, Some(d)) if d.robustness_deferred => None,
+        (Shown::Design, Some(d)) => Some(time_or_message(form::frequency_scene(d), "No margins for this design.")),
+        _ => Some(Picture::Message("No design yet.".to_string())),
     };
-    page.paint(ids::FREQUENCY_PLOT, frequency)?;
+    if let Some(f) = frequency {
+        page.paint(ids::FREQUENCY_PLOT, f)?;
+    }
     page.paint(ids::STATE_PLOT, states)?;
     page.paint(ids::INPUT_PLOT, inputs)
 }

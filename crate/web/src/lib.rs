@@ -421,17 +421,18 @@ struct CycleSummary {
 /// `data-cycle-ms` (and the phases in `data-cycle-phases`).
 #[wasm_bindgen]
 pub fn update_page() -> Result<JsValue, JsValue> {
-    cycle(form::Cloud::Skip)
+    cycle(form::Depth::Full)
 }
 
 /// [`update_page`] with the uncertainty cloud sampled (the “Sample the uncertain plant”
 /// button): the cloud is drawn until the next change of the form.
 #[wasm_bindgen]
 pub fn sample_uncertainty() -> Result<JsValue, JsValue> {
-    cycle(form::Cloud::Sample)
+    cycle(form::Depth::WithCloud)
 }
 
-fn cycle(cloud: form::Cloud) -> Result<JsValue, JsValue> {
+/// The design cycle at a given depth (quick while a pole is dragged).
+pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     let start = now_ms();
     PHASES.with(|p| {
         if let Ok(mut v) = p.try_borrow_mut() {
@@ -445,7 +446,7 @@ fn cycle(cloud: form::Cloud) -> Result<JsValue, JsValue> {
     // Continue from the last design shown, so that gains move continuously as poles are
     // dragged or edited (the result says when a fresh design would differ).
     let previous = with_page(|page| Ok(if std::mem::take(&mut page.fresh_start) { None } else { page.design.as_ref().map(|d| d.continuation.clone()) }))?;
-    let mut outcome = form::evaluate_form_with(&input, previous.as_ref(), cloud);
+    let mut outcome = form::evaluate_form_with(&input, previous.as_ref(), depth);
     let t_eval = now_ms();
     phase("evaluate", t_eval - t_read);
     let status = outcome.status;

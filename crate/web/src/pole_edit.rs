@@ -317,7 +317,9 @@ pub fn pole_pointer_move(x: f64, y: f64) -> Result<(), JsValue> {
         None => hover_pole(x, y),
         Some(text) if text.is_empty() => Ok(()),
         Some(text) => {
-            commit_poles(&text)?;
+            // While dragging, the quick cycle: the margins follow when the pole is released.
+            set_control_value(&document()?, "poles", &text)?;
+            cycle(form::Depth::Quick)?;
             let ms = now_ms() - start;
             with_page(|page| {
                 if let Some(d) = page.drag.as_mut() {
@@ -367,11 +369,14 @@ pub fn pole_pointer_up(cancel: bool) -> Result<(), JsValue> {
     }
     match restore {
         Some(text) => commit_poles(&text),
-        None => with_page(|page| {
-            page.pole_scene.view = None;
-            paint_all(page)?;
-            refresh_edit_controls(page)
-        }),
+        None => {
+            with_page(|page| {
+                page.pole_scene.view = None;
+                Ok(())
+            })?;
+            // The full cycle on release brings the margins and pole sensitivity back.
+            update_page().map(|_| ())
+        }
     }
 }
 

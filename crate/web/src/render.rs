@@ -133,14 +133,16 @@ pub(crate) fn render_report(doc: &Document, page: &mut PageState, r: &Report, di
             }
         }
     }
-    if !page.unchanged(ids::MARGINS, hash_of(&r.margins)) {
+    if !r.robustness_deferred && !page.unchanged(ids::MARGINS, hash_of(&r.margins)) {
         let items: Vec<Element> = r.margins.iter().map(|l| make(doc, "li", Some(l))).collect::<Result<_, _>>()?;
         fill(doc, ids::MARGINS, &items)?;
     }
     if !page.unchanged(ids::ROBUSTNESS, hash_of(&r.robustness)) {
         set_text(doc, ids::ROBUSTNESS, &r.robustness)?;
     }
-    render_robustness_detail(doc, page, &r.robustness_detail)?;
+    if !r.robustness_deferred {
+        render_robustness_detail(doc, page, &r.robustness_detail)?;
+    }
     if !page.unchanged(ids::WARNINGS, hash_of(&r.warnings)) {
         let items: Vec<Element> = if r.warnings.is_empty() {
             vec![make_class(doc, "li", Some("No warnings."), "none")?]

@@ -99,40 +99,44 @@ fn complex(m: &DMatrix<f64>) -> DMatrix<Complex64> {
 /// `O(n³)` LU.
 #[derive(Debug, Clone)]
 struct Reduced {
-    h: DMatrix<f64>,
-    b: DMatrix<f64>,
-    c: DMatrix<f64>,
-    d: DMatrix<f64>,
+    /// `−H`, `B̃`, `C̃`, `D` as complex matrices, converted once.
+    minus_h: DMatrix<Complex64>,
+    b: DMatrix<Complex64>,
+    c: DMatrix<Complex64>,
+    d: DMatrix<Complex64>,
 }
 
 impl Reduced {
     fn new(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>) -> Reduced {
-        if a.nrows() == 0 {
-            return Reduced { h: a.clone(), b: b.clone(), c: c.clone(), d: d.clone() };
-        }
-        let (q, h) = a.clone().hessenberg().unpack();
-        Reduced { b: q.transpose() * b, c: c * &q, h, d: d.clone() }
+        let (h, b, c) = if a.nrows() == 0 {
+            (a.clone(), b.clone(), c.clone())
+        } else {
+            let (q, h) = a.clone().hessenberg().unpack();
+            (h, q.transpose() * b, c * &q)
+        };
+        Reduced { minus_h: -complex(&h), b: complex(&b), c: complex(&c), d: complex(d) }
     }
 
-    /// `C̃ (pI − H)⁻¹ B̃ + D` by Gaussian elimination with adjacent-row pivoting.
+    /// `C̃ (pI − H)⁻¹ B̃ + D` by Gaussian elimination with adjacent-row pivoting (pivots compared
+    /// by squared modulus: no square roots in the inner loop).
     fn at(&self, p: Complex64, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
-        let n = self.h.nrows();
-        let mut m = -complex(&self.h);
+        let n = self.minus_h.nrows();
+        let mut m = self.minus_h.clone();
         for i in 0..n {
             m[(i, i)] += p;
         }
-        let mut x = complex(&self.b);
+        let mut x = self.b.clone();
         for k in 0..n.saturating_sub(1) {
-            if m[(k + 1, k)].norm() > m[(k, k)].norm() {
+            if m[(k + 1, k)].norm_sqr() > m[(k, k)].norm_sqr() {
                 m.swap_rows(k, k + 1);
                 x.swap_rows(k, k + 1);
             }
             let pivot = m[(k, k)];
-            if pivot.norm() == 0.0 {
+            if pivot.norm_sqr() == 0.0 {
                 continue;
             }
             let f = m[(k + 1, k)] / pivot;
-            if f.norm() == 0.0 {
+            if f.norm_sqr() == 0.0 {
                 continue;
             }
             for j in k..n {
@@ -146,7 +150,7 @@ impl Reduced {
         }
         for k in (0..n).rev() {
             let pivot = m[(k, k)];
-            if !(pivot.norm() > 0.0) {
+            if !(pivot.norm_sqr() > 0.0) {
                 return Err(MarginError::BoundaryPole { frequency: w });
             }
             for j in 0..x.ncols() {
@@ -160,7 +164,7 @@ impl Reduced {
         if x.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
             return Err(MarginError::BoundaryPole { frequency: w });
         }
-        Ok(complex(&self.c) * x + complex(&self.d))
+        Ok(&self.c * x + &self.d)
     }
 }
 

@@ -17,7 +17,7 @@ use crate::margins::{input_margins, multiloop_disk, sigma_max, Disk, LoopModel};
 use crate::result::{AllInputsMargin, ClassicalMargins, DiskMargin, FrequencyResponse, InputMarginResult, MarginsResult, MultiloopAccuracy};
 
 /// Frequencies in the logarithmic part of the grid.
-const GRID_POINTS: usize = 400;
+const GRID_POINTS: usize = 240;
 
 /// Frequencies in the logarithmic part of the all-inputs grid (each costs a minimisation; the
 /// peak is then refined between its neighbours, and the closed-loop poles' frequencies are in).

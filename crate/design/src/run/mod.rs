@@ -74,9 +74,14 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     independent_verdict(&s, &dp, &g)?;
     let advice = s.t.map(|t| crate::controller::sample_rate_advice(&s.to_s(&dp.base_poles), t));
     let finite_precision = s.t.and_then(|t| finite_precision(&s, &dp, &g, t));
-    let margins = margins::margins(&s, &g);
-    let margins_unavailable = if margins.is_some() { None } else { Some(margins::unavailable(&s, &g).unwrap_or_else(|| "a computation of the margins failed".into())) };
-    let pole_sensitivity = robustness::pole_sensitivity(&s, &g);
+    let full = spec.robustness.depth == crate::RobustnessDepth::Full;
+    let margins = if full { margins::margins(&s, &g) } else { None };
+    let margins_unavailable = match (&margins, full) {
+        (Some(_), _) => None,
+        (None, false) => Some("not computed while a pole is being dragged; they follow when it is released".into()),
+        (None, true) => Some(margins::unavailable(&s, &g).unwrap_or_else(|| "a computation of the margins failed".into())),
+    };
+    let pole_sensitivity = if full { robustness::pole_sensitivity(&s, &g) } else { None };
     let anorm = crate::linalg::svd::try_norm2(s.plant.a(), crate::linalg::svd::SvdParams::default()).unwrap_or(0.0);
     let mut warnings = warnings::requested_pole_warnings(&s, &dp, anorm);
     warnings.extend(warnings::placement_warnings(&s, &g, &analysis));
@@ -84,7 +89,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     let simulation = simulation::free_response(&s, &g, &h, &mut warnings)?;
     warnings.extend(warnings::controller_warnings(&g, advice.as_ref()));
     let closed_loop = simulation::whole_loop(&s, &g, &h, &mut warnings)?;
-    let uncertainty = robustness::uncertainty(req, &s, &g, &h, closed_loop.is_some());
+    let uncertainty = if full { robustness::uncertainty(req, &s, &g, &h, closed_loop.is_some()) } else { None };
     warnings.extend(warnings::observer_speed_warning(spec));
     if let Some(l) = &closed_loop {
         warnings.extend(warnings::loop_warnings(l, req.band));
@@ -125,6 +130,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         finite_precision,
         margins,
         margins_unavailable,
+        robustness_deferred: !full,
         pole_sensitivity,
         uncertainty,
         continuation: crate::Continuation { feedback: g.placement.eigenvectors.clone(), observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()) },

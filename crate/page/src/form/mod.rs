@@ -246,19 +246,23 @@ pub fn evaluate_form(form: &FormInput) -> FormOutcome {
 /// [`crate::design::DesignResult::continuation`]), so that gains follow one branch of the
 /// robust placement while the poles are dragged or edited.
 pub fn evaluate_form_continued(form: &FormInput, previous: Option<&crate::design::Continuation>) -> FormOutcome {
-    evaluate_form_with(form, previous, Cloud::Skip)
+    evaluate_form_with(form, previous, Depth::Full)
 }
 
-/// Whether the uncertainty cloud is sampled in this evaluation (it is left for an explicit
-/// request, so that typing and dragging stay fast).
+/// How much robustness analysis an evaluation does: the uncertainty cloud only on request, and
+/// no margins while a pole is dragged, so that those cycles stay fast.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Cloud {
-    Skip,
-    Sample,
+pub enum Depth {
+    /// No margins, pole sensitivity or cloud (a drag in progress).
+    Quick,
+    /// Margins and pole sensitivity, no cloud.
+    Full,
+    /// Everything, the uncertainty cloud included.
+    WithCloud,
 }
 
-/// [`evaluate_form_continued`], sampling the uncertainty cloud when `cloud` says so.
-pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Continuation>, cloud: Cloud) -> FormOutcome {
+/// [`evaluate_form_continued`] at the given [`Depth`].
+pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Continuation>, depth: Depth) -> FormOutcome {
     let mut outcome = FormOutcome {
         status: FormStatus::Invalid,
         errors: Vec::new(),
@@ -294,15 +298,18 @@ pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Con
         push(&mut errors, field_error(e));
     }
     if let (Some(design), true) = (&checked.design, errors.is_empty()) {
-        let skipped;
-        let run_design = match (cloud, &design.controller.robustness.uncertainty) {
-            (Cloud::Skip, Some(_)) => {
+        let adjusted;
+        let run_design = match (depth, &design.controller.robustness.uncertainty) {
+            (Depth::WithCloud, _) | (Depth::Full, None) => design,
+            (Depth::Full, Some(_)) | (Depth::Quick, _) => {
                 let mut d = design.clone();
                 d.controller.robustness.uncertainty = None;
-                skipped = d;
-                &skipped
+                if depth == Depth::Quick {
+                    d.controller.robustness.depth = crate::design::RobustnessDepth::Deferred;
+                }
+                adjusted = d;
+                &adjusted
             }
-            _ => design,
         };
         match crate::design::run_checked_continued(run_design, previous) {
             Ok(result) => {

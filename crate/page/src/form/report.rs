@@ -252,6 +252,10 @@ pub struct Report {
     pub margins: Vec<String>,
     /// Frequency table, pole sensitivity and the uncertainty cloud.
     pub robustness_detail: super::robustness::RobustnessDetail,
+    /// Margins and pole sensitivity were skipped in this (quick) run: the page keeps showing
+    /// the last ones instead of emptying those sections (which would move the page under a
+    /// dragging pointer).
+    pub robustness_deferred: bool,
     pub warnings: Vec<String>,
     pub states: Vec<StateRow>,
     pub inputs: Vec<InputRow>,
@@ -811,6 +815,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
         robustness: robustness_text(result),
         margins: super::robustness::margin_lines(result),
         robustness_detail: super::robustness::detail(result, context),
+        robustness_deferred: result.robustness_deferred,
         warnings,
         states,
         inputs,
