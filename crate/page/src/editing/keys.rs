@@ -298,7 +298,16 @@ pub fn round_pole(z: Complex64, digits: i32) -> Complex64 {
         return z;
     }
     let mut step = 10f64.powi(size.log10().floor() as i32 - digits.max(1) + 1);
-    let round = |x: f64, step: f64| if step > 0.0 && step.is_finite() { (x / step).round() * step } else { x };
+    // Rounded through its decimal text, so that the result is the double nearest the decimal
+    // (24.15, not 24.150000000000002 from the product (x / step) · step).
+    let round = |x: f64, step: f64| {
+        if !(step > 0.0 && step.is_finite()) {
+            return x;
+        }
+        let v = (x / step).round() * step;
+        let decimals = (-step.log10()).round().max(0.0) as usize;
+        format!("{v:.decimals$}").parse::<f64>().unwrap_or(v)
+    };
     let re = round(z.re, step);
     let mut im = round(z.im, step);
     while z.im != 0.0 && im == 0.0 && step > f64::MIN_POSITIVE {

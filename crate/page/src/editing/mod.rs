@@ -627,3 +627,7 @@ pub enum Change {
 #[cfg(test)]
 #[path = "../tests/editing.rs"]
 mod tests;
+
+#[cfg(test)]
+#[path = "../tests/editing_rounding.rs"]
+mod rounding_tests;
