@@ -405,6 +405,10 @@ describe('choosing the poles from the form', () => {
       const warnings = await page.textContent('#pw-warnings');
       assert.match(warnings, /deadbeat/);
       assert.match(warnings, /Jordan block/);
+      // The achieved poles sit within ε^(1/2) of z = 0: the readout says z = 0, not ln z / T.
+      await page.focus('#pw-pole-map');
+      for (let i = 0; i < 6 && !/^Closed-loop/.test(await page.textContent('#pw-pole-pick')); i += 1) await page.keyboard.press('n');
+      assert.match(await page.textContent('#pw-pole-pick'), /^Closed-loop pole 1 of 2: z = 0 \(deadbeat \/ delay/);
       assert.doesNotMatch(await page.textContent('body'), /inf rad\/s|inf times/, 'no infinite bandwidth or speed-up');
       noErrors(ctx);
     });

@@ -28,6 +28,7 @@ pub(crate) fn readout(scene: &PoleMapScene, pick: &PolePick, sample_time: Option
 pub(crate) fn readout_value(scene: &PoleMapScene, pick: &PolePick, sample_time: Option<f64>, head: &str) -> String {
     let z = Complex64::new(pick.re, pick.im);
     match (scene.discrete, sample_time) {
+        (true, _) if z.norm() <= form::Z_ZERO => format!("{head}: z = 0 (deadbeat / delay: gone after one sample; computed |z| = {}).", fmt_num(z.norm())),
         (true, Some(t)) => match form::z_to_s(z, t) {
             Some(s) => {
                 let character = form::pole_character(s);

@@ -363,8 +363,16 @@ pub fn z_to_s(z: Complex64, t: f64) -> Option<Complex64> {
     crate::plane::s_from_z(z, t)
 }
 
+/// Below this modulus a z-plane pole is read as `z = 0` (a deadbeat or delay pole): a repeated
+/// pole at 0 is computed only to about `ε^{1/p}` (1e-8 for a pair), and `ln z / T` of such a
+/// remainder would be a meaningless large number.
+pub const Z_ZERO: f64 = 1e-6;
+
 /// The character of a z-plane pole, read through its equivalent `s = ln z / T`.
 pub fn z_pole_character(z: Complex64, t: f64) -> String {
+    if z.norm() <= Z_ZERO {
+        return "at z = 0 (deadbeat / delay): gone after one sample".into();
+    }
     match z_to_s(z, t) {
         Some(s) => {
             let c = pole_character(s);
@@ -721,6 +729,20 @@ pub(crate) fn response_rows(result: &DesignResult) -> (Vec<StateRow>, Vec<InputR
     (states, inputs, summary)
 }
 
+/// Parts of a pole list below the list's own rounding level — [`ROUNDING_LEVEL`] of its
+/// largest pole — shown as 0: an integrator computed as 1.4e−13 among poles of size 43 is 0
+/// (the result file keeps the computed values).
+pub fn zero_below_rounding(poles: &[Complex64]) -> Vec<Complex64> {
+    let scale = poles.iter().map(|z| z.norm()).filter(|v| v.is_finite()).fold(0.0, f64::max);
+    let floor = ROUNDING_LEVEL * scale;
+    let clean = |x: f64| if x.abs() <= floor { 0.0 } else { x };
+    poles.iter().map(|z| Complex64::new(clean(z.re), clean(z.im))).collect()
+}
+
+/// Relative size under which a computed eigenvalue part is rounding noise (about 4500 ε: the
+/// backward error of the eigenvalue computation, common practice for a balanced matrix).
+pub const ROUNDING_LEVEL: f64 = 1e-12;
+
 /// True when the free response starts from x₀ = 0 (and so is zero throughout).
 pub fn free_response_is_zero(result: &DesignResult) -> bool {
     result.simulation.initial_state.iter().all(|v| *v == 0.0)
@@ -800,6 +822,7 @@ pub fn report(result: &DesignResult) -> Report {
 pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
     let mut open: Vec<Complex64> = result.open_loop_poles.iter().map(c64).collect();
     sort_for_display(&mut open);
+    let open = zero_below_rounding(&open);
     let (states, inputs, simulation) = response_rows(result);
     let discrete = result.domain == crate::analysis::Domain::Discrete;
     let warnings: Vec<String> = result.warnings.iter().map(|w| w.message.clone()).collect();

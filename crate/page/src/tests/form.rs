@@ -878,3 +878,15 @@ fn decimal_commas_and_typographic_minus_are_not_misread() {
     let with_typographic = evaluate_form(&f).design.expect("designed").feedback.gain;
     assert_eq!(with_typographic, evaluate_form(&base).design.expect("designed").feedback.gain);
 }
+
+#[test]
+fn open_loop_parts_below_the_rounding_level_read_as_zero() {
+    // An integrator computed as 1.4e−13 next to a pair of size 43 is 0 on the page; a genuinely
+    // small pole of a small system is kept.
+    let poles = [Complex64::new(-1.729, 43.26), Complex64::new(-1.729, -43.26), Complex64::new(1.4079e-13, 0.0)];
+    let clean = zero_below_rounding(&poles);
+    assert_eq!(clean[2], Complex64::new(0.0, 0.0));
+    assert_eq!(clean[0], poles[0]);
+    let small = [Complex64::new(-1e-9, 0.0), Complex64::new(-2e-9, 0.0)];
+    assert_eq!(zero_below_rounding(&small), small.to_vec());
+}
