@@ -319,6 +319,7 @@ for (const button of document.querySelectorAll('button[data-copy]')) {
 }
 byId('pw-normalise').addEventListener('change', guarded((e) => set_state_scale(e.target.checked)));
 byId('pw-pole-zoom').addEventListener('change', guarded((e) => set_pole_zoom(e.target.checked)));
+byId('pw-digits').addEventListener('change', guarded((e) => set_display_digits(Number(e.target.value))));
 
 const poleMap = byId('pw-pole-map');
 // Dragging a requested pole: at most one redesign per animation frame, at the latest
@@ -403,3 +404,25 @@ window.addEventListener('beforeprint', () => {
 });
 
 boot();
+
+// Form sections fold under their headings; a section link unfolds its section and brings it
+// into view in the form pane (Rust unfolds a section itself when one of its fields gets an error).
+function setSectionOpen(section, open) {
+  section.classList.toggle('is-collapsed', !open);
+  section.querySelector('.section-toggle').setAttribute('aria-expanded', String(open));
+}
+document.querySelectorAll('.section-toggle').forEach((button) => {
+  button.addEventListener('click', () => {
+    const section = button.closest('.form-section');
+    setSectionOpen(section, section.classList.contains('is-collapsed'));
+  });
+});
+document.querySelectorAll('.section-nav a').forEach((link) => {
+  link.addEventListener('click', (event) => {
+    event.preventDefault();
+    const section = byId(link.getAttribute('href').slice(1));
+    setSectionOpen(section, true);
+    section.scrollIntoView({ block: 'start' });
+    section.querySelector('.section-toggle').focus({ preventScroll: true });
+  });
+});

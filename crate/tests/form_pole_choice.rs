@@ -15,8 +15,10 @@ fn file(body: &str) -> DesignResult {
     run_text(&format!(r#"{{"format": "polewright.design", "version": 2, {body}}}"#)).unwrap_or_else(|e| panic!("design file: {e}"))
 }
 
+/// The outcome with 17 display digits, at which the suggested poles are written exactly (the
+/// default 5 digits round them: see `adopting_rounds_to_the_display_digits`).
 fn designed(f: &FormInput) -> FormOutcome {
-    let out = evaluate_form(f);
+    let out = polewright::design::format::with_digits(polewright::design::format::MAX_DIGITS, || evaluate_form(f));
     assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
     out
 }
@@ -332,6 +334,40 @@ fn suggested_poles_read_back_exactly_and_adopting_them_keeps_the_design() {
             same_design(designed(&adopted).design.as_ref().unwrap(), d);
         }
     }
+}
+
+#[test]
+fn adopting_rounds_to_the_display_digits() {
+    // At the default 5 digits the suggested poles are each pole rounded to 5 significant
+    // digits of its magnitude; the note says so, and adopting them designs for those values.
+    let mut f = textbook();
+    f.pole_source = "pattern".into();
+    f.pattern_family = "itae".into();
+    f.pattern_settling_time = "3".into();
+    let exact = designed(&f);
+    let out = evaluate_form(&f);
+    let choice = out.report.as_ref().unwrap().pole_choice.as_ref().unwrap();
+    assert!(choice.suggested_note.contains("written with 5 significant digits"), "{}", choice.suggested_note);
+    let read = parse_poles(&choice.suggested_poles).unwrap();
+    let requested: Vec<Complex64> = exact.design.as_ref().unwrap().feedback.requested_poles.iter().map(c).collect();
+    assert_eq!(read.len(), requested.len());
+    let mut rounded_any = false;
+    for (r, e) in read.iter().zip(&requested) {
+        assert!((r - e).norm() <= 0.5e-4 * e.norm(), "{r} vs {e}");
+        rounded_any |= r != e;
+        for part in [r.re, r.im] {
+            let text = format!("{}", part.abs());
+            let digits = text.trim_start_matches(['0', '.']).replace('.', "").trim_end_matches('0').len();
+            assert!(digits <= 5, "{part} has {digits} significant digits");
+        }
+    }
+    assert!(rounded_any, "the ITAE poles of this example are not all 5-digit numbers: {read:?}");
+    let mut adopted = f.clone();
+    adopted.pole_source = "list".into();
+    adopted.poles = choice.suggested_poles.clone();
+    let d = designed(&adopted);
+    let got: Vec<Complex64> = d.design.as_ref().unwrap().feedback.requested_poles.iter().map(c).collect();
+    assert_eq!(got, read);
 }
 
 #[test]

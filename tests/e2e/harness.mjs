@@ -245,13 +245,13 @@ export async function designNow(page) {
 }
 
 /** The gain table as numbers (rows = inputs), read from the displayed text. */
+// The gain at full precision, read from its copyable text (the table shows rounded figures):
+// line 1 the heading, line 2 the symbol and the state labels, then one row per input.
 export async function readGain(page) {
   return page.evaluate(() => {
-    const table = document.getElementById('pw-gain');
-    if (!table) return null;
-    return [...table.querySelectorAll('tbody tr')].map((tr) =>
-      [...tr.querySelectorAll('td')].map((td) => Number(td.textContent.trim())),
-    );
+    if (!document.getElementById('pw-gain')) return null;
+    const lines = document.getElementById('pw-gain-text').textContent.split('\n').filter((l) => l !== '');
+    return lines.slice(2).map((line) => line.split('\t').slice(1).map(Number));
   });
 }
 

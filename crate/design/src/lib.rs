@@ -21,6 +21,7 @@ use serde::Serialize;
 
 pub mod check;
 pub mod export;
+pub mod format;
 pub mod path;
 pub mod result;
 pub mod run;

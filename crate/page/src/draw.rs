@@ -421,6 +421,49 @@ fn legend(s: &mut DisplayList, f: &Frame, entries: &[(&str, Swatch)]) {
     }
 }
 
+/// The pole map's legend in the top margin, right of the axis title: full labels when they
+/// fit, short ones when not, and none on a map too narrow for either (the legend note under
+/// the map says the same in words).
+fn pole_map_legend(s: &mut DisplayList, f: &Frame, scene: &PoleMapScene, y_title: &str) {
+    let available = f.plot.right() - (8.0 + s.text_width(TITLE_FONT, y_title) + 12.0);
+    for short in [false, true] {
+        let mut entries: Vec<(&str, Swatch)> = vec![(
+            match (scene.discrete, short) {
+                (true, false) => "stable: |z| < 1",
+                (true, true) => "|z| < 1",
+                (false, false) => "stable region",
+                (false, true) => "stable",
+            },
+            Swatch::StableRegion,
+        )];
+        if scene.region.is_some() {
+            entries.push((if short { "boundary" } else { "admissible boundary" }, Swatch::RegionBoundary));
+        }
+        for (set, points) in scene.layers() {
+            if !points.is_empty() {
+                entries.push((if short { short_set_label(set) } else { set_label(set) }, Swatch::Marker(set)));
+            }
+        }
+        let width: f64 = entries.iter().map(|(label, _)| s.text_width(FONT, label) + 32.0).sum();
+        if width <= available {
+            legend(s, f, &entries);
+            return;
+        }
+    }
+}
+
+fn short_set_label(set: PoleSet) -> &'static str {
+    match set {
+        PoleSet::OpenLoop => "open",
+        PoleSet::NotAssigned => "unassignable",
+        PoleSet::ClosedLoop => "closed",
+        PoleSet::Observer => "observer",
+        PoleSet::Requested => "requested",
+        PoleSet::Pinned => "pinned",
+        PoleSet::Uncertain => "sampled",
+    }
+}
+
 /// The display list of a pole map.
 pub fn pole_map(scene: &PoleMapScene, rect: Rect, measure: &dyn TextMeasure) -> Vec<DrawOp> {
     let mut s = DisplayList::new(rect, measure);
@@ -482,16 +525,7 @@ pub fn pole_map(scene: &PoleMapScene, rect: Rect, measure: &dyn TextMeasure) -> 
     s.restore();
     let var = if scene.discrete { "z" } else { "s" };
     axis_titles(&mut s, &f, &format!("Re {var}"), &format!("Im {var}"));
-    let mut entries: Vec<(&str, Swatch)> = vec![(if scene.discrete { "stable: |z| < 1" } else { "stable region" }, Swatch::StableRegion)];
-    if scene.region.is_some() {
-        entries.push(("admissible boundary", Swatch::RegionBoundary));
-    }
-    for (set, points) in scene.layers() {
-        if !points.is_empty() {
-            entries.push((set_label(set), Swatch::Marker(set)));
-        }
-    }
-    legend(&mut s, &f, &entries);
+    pole_map_legend(&mut s, &f, scene, &format!("Im {var}"));
     let hidden = scene.layers().iter().flat_map(|(_, pts)| pts.iter()).filter(|q| !(q[0].is_finite() && q[1].is_finite())).count();
     if hidden > 0 {
         s.fill(colour::LIMIT);

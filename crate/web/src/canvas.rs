@@ -132,13 +132,6 @@ pub(crate) fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
         }
         _ => (states, inputs),
     };
-    if let Some((outputs, loop_inputs, estimation)) = loop_pictures {
-        page.paint(ids::LOOP_PLOT, outputs)?;
-        page.paint(ids::LOOP_INPUT_PLOT, loop_inputs)?;
-        if let Some(e) = estimation {
-            page.paint(ids::ESTIMATION_PLOT, e)?;
-        }
-    }
     let frequency = match (&page.shown, &page.design) {
         // A quick run (a pole being dragged) keeps the last plot.
         (Shown::Design, Some(d)) if d.robustness_deferred => None,
@@ -148,8 +141,30 @@ pub(crate) fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
     if let Some(f) = frequency {
         page.paint(ids::FREQUENCY_PLOT, f)?;
     }
+    // The response beside the pole map: the loop's outputs when a loop scenario runs and C
+    // gives outputs, else the free response's states.
+    let overview = match (&loop_pictures, &states) {
+        (Some((outputs @ Picture::Time(_), _, _)), _) => Some((outputs.clone(), "Loop simulation: outputs (solid) against their references (dashed); figures under Loop simulation below.")),
+        (_, Picture::Time(_)) => Some((states.clone(), "Free response from x₀: the states; figures under Free response below.")),
+        _ => None,
+    };
+    let (overview, caption) = overview.unwrap_or_else(|| (states.clone(), ""));
+    page.paint(ids::OVERVIEW_PLOT, overview)?;
+    if let Some((outputs, loop_inputs, estimation)) = loop_pictures {
+        page.paint(ids::LOOP_PLOT, outputs)?;
+        page.paint(ids::LOOP_INPUT_PLOT, loop_inputs)?;
+        if let Some(e) = estimation {
+            page.paint(ids::ESTIMATION_PLOT, e)?;
+        }
+    }
     page.paint(ids::STATE_PLOT, states)?;
-    page.paint(ids::INPUT_PLOT, inputs)
+    page.paint(ids::INPUT_PLOT, inputs)?;
+    // Text last: a DOM change before a canvas paint would make the browser restyle first.
+    let caption_el = by_id(&doc, ids::OVERVIEW_CAPTION)?;
+    if caption_el.text_content().as_deref() != Some(caption) {
+        caption_el.set_text_content(Some(caption));
+    }
+    Ok(())
 }
 
 // ---------------------------------------------------------------------------

@@ -131,6 +131,9 @@ mod ids {
     pub const ROBUSTNESS: &str = "pw-robustness";
     pub const MARGINS: &str = "pw-margins";
     pub const WARNINGS: &str = "pw-warnings";
+    pub const VERDICTS: &str = "pw-verdicts";
+    pub const OVERVIEW_PLOT: &str = "pw-overview-plot";
+    pub const OVERVIEW_CAPTION: &str = "pw-overview-caption";
     pub const STATE_TABLE: &str = "pw-state-table";
     pub const INPUT_TABLE: &str = "pw-input-table";
     pub const SIMULATION: &str = "pw-simulation";
@@ -179,9 +182,9 @@ mod ids {
     pub const SENSITIVITY_TABLE: &str = "pw-sensitivity-table";
     pub const UNCERTAINTY: &str = "pw-uncertainty";
     /// Sections marked stale when the input is invalid.
-    pub const OUTPUT_SECTIONS: [&str; 4] = ["pw-results", "pw-pole-section", "pw-loop-section", "pw-response-section"];
+    pub const OUTPUT_SECTIONS: [&str; 6] = ["pw-summary", "pw-results", "pw-pole-section", "pw-glance", "pw-loop-section", "pw-response-section"];
     /// Every canvas, in painting order.
-    pub const CANVASES: [&str; 7] = [POLE_MAP, FREQUENCY_PLOT, LOOP_PLOT, LOOP_INPUT_PLOT, ESTIMATION_PLOT, STATE_PLOT, INPUT_PLOT];
+    pub const CANVASES: [&str; 8] = [POLE_MAP, OVERVIEW_PLOT, FREQUENCY_PLOT, LOOP_PLOT, LOOP_INPUT_PLOT, ESTIMATION_PLOT, STATE_PLOT, INPUT_PLOT];
 }
 
 const POLE_HINT: &str = "Point at a pole, or focus the map (Tab) and press N / P, to read a pole's value.";
@@ -587,6 +590,16 @@ pub fn set_state_scale(normalised: bool) -> Result<(), JsValue> {
         page.normalised = normalised;
         paint_all(page)
     })
+}
+
+/// The significant digits of every number the page shows (3–17; copies, exports and saved
+/// files keep full precision), then a full design cycle so that every figure is redrawn.
+/// Returns the digits in force.
+#[wasm_bindgen]
+pub fn set_display_digits(digits: usize) -> Result<usize, JsValue> {
+    let d = crate::design::format::set_digits(digits);
+    cycle(form::Depth::Full)?;
+    Ok(d)
 }
 
 /// Fit the pole map's view to the poles (`true`) or show the whole stable-region context

@@ -20,6 +20,7 @@ pub(crate) fn show_field_feedback(doc: &Document, page: &mut PageState, input: &
             let control = by_id(doc, &format!("pw-{key}"))?;
             if error.is_some() {
                 control.set_attribute("aria-invalid", "true")?;
+                open_enclosing_section(&control)?;
             } else {
                 control.remove_attribute("aria-invalid")?;
             }
@@ -38,6 +39,18 @@ pub(crate) fn show_field_feedback(doc: &Document, page: &mut PageState, input: &
         }
     }
     page.last_input = input.clone();
+    Ok(())
+}
+
+/// A field with a new error inside a folded form section unfolds that section, so the
+/// message naming the field is never hidden from the user.
+fn open_enclosing_section(control: &Element) -> Result<(), JsValue> {
+    if let Some(section) = control.closest(".form-section.is-collapsed")? {
+        section.class_list().remove_1("is-collapsed")?;
+        if let Some(toggle) = section.query_selector(".section-toggle")? {
+            toggle.set_attribute("aria-expanded", "true")?;
+        }
+    }
     Ok(())
 }
 
@@ -150,6 +163,17 @@ pub(crate) fn render_report(doc: &Document, page: &mut PageState, r: &Report, di
             r.warnings.iter().map(|w| make(doc, "li", Some(w))).collect::<Result<_, _>>()?
         };
         fill(doc, ids::WARNINGS, &items)?;
+    }
+    if !page.unchanged(ids::VERDICTS, hash_of(&r.verdicts)) {
+        let items: Vec<Element> = r
+            .verdicts
+            .iter()
+            .map(|v| match v.tone {
+                form::VerdictTone::Fine => make(doc, "li", Some(&v.text)),
+                form::VerdictTone::Attention => make_class(doc, "li", Some(&v.text), "is-bad"),
+            })
+            .collect::<Result<_, _>>()?;
+        fill(doc, ids::VERDICTS, &items)?;
     }
 
     // Response figures.
@@ -365,6 +389,7 @@ pub(crate) fn render_infeasible(doc: &Document, message: &str, analysis: Option<
     set_text(doc, ids::ROBUSTNESS, "")?;
     set_hidden_id(doc, ids::POLE_CHOICE, true)?;
     fill(doc, ids::WARNINGS, &[make(doc, "li", Some(message))?])?;
+    fill(doc, ids::VERDICTS, &[make_class(doc, "li", Some("No design: see the message above."), "is-bad")?])?;
     fill(doc, ids::STATE_TABLE, &[])?;
     fill(doc, ids::INPUT_TABLE, &[])?;
     set_hidden_id(doc, ids::CONTROLLER, true)?;

@@ -319,19 +319,9 @@ pub fn run_checked_continued(design: &CheckedDesign, previous: Option<&crate::Co
     })
 }
 
-/// A short human number: 4 significant figures, scientific when large or small.
+/// A number for people: the significant digits in force (see [`crate::format`]).
 pub fn fmt_num(x: f64) -> String {
-    if !x.is_finite() {
-        return if x.is_nan() { "NaN".into() } else if x > 0.0 { "∞".into() } else { "−∞".into() };
-    }
-    let ax = x.abs();
-    if ax != 0.0 && !(1e-3..1e5).contains(&ax) {
-        format!("{x:.3e}")
-    } else {
-        let s = format!("{x:.4}");
-        let s = s.trim_end_matches('0').trim_end_matches('.').to_string();
-        if s == "-0" { "0".into() } else { s }
-    }
+    crate::format::number(x)
 }
 
 #[cfg(test)]

@@ -283,9 +283,11 @@ impl PlaneMap {
     }
 }
 
-/// Significant digits kept in a pole placed from the map ([`round_pole`]): five, a
-/// resolution of 1e-5 of the pole's magnitude, finer than a pixel on any map that shows it.
-pub const MAP_EDIT_DIGITS: i32 = 5;
+/// Significant digits kept in a pole placed from the map ([`round_pole`]) by default: the
+/// page's display digits ([`crate::design::format::DEFAULT_DIGITS`], five: a resolution of
+/// 1e-5 of the pole's magnitude, finer than a pixel on any map that shows it). A reader who
+/// picks other display digits gets moves rounded to those.
+pub const MAP_EDIT_DIGITS: i32 = crate::design::format::DEFAULT_DIGITS as i32;
 
 /// `z` with both parts rounded to a step of `10^(⌊log10 |z|⌋ − digits + 1)`, so that a pole
 /// placed with the pointer reads `-12.346±9.8765j` rather than sixteen digits of pixel noise.
@@ -322,11 +324,12 @@ pub fn round_pole(z: Complex64, digits: i32) -> Complex64 {
     }
 }
 
-/// A move with its target rounded by [`round_pole`] ([`MAP_EDIT_DIGITS`]); other edits pass
-/// through.
+/// A move with its target rounded by [`round_pole`] to the display digits in force
+/// ([`crate::design::format::digits`], [`MAP_EDIT_DIGITS`] unless the reader chose others);
+/// other edits pass through.
 pub fn rounded_move(edit: Edit) -> Edit {
     match edit {
-        Edit::Move { entry, to } => Edit::Move { entry, to: round_pole(to, MAP_EDIT_DIGITS) },
+        Edit::Move { entry, to } => Edit::Move { entry, to: round_pole(to, crate::design::format::digits() as i32) },
         other => other,
     }
 }

@@ -27,6 +27,18 @@ pub fn exact_pole_text(poles: &[Complex64]) -> String {
     parts.join(", ")
 }
 
+/// Poles rounded to `digits` significant digits (of each pole's magnitude, as a pole placed
+/// on the map: [`crate::editing::round_pole`]) and written as [`exact_pole_text`] writes them,
+/// so that the text reads back to the rounded values exactly. At the most digits
+/// ([`crate::design::format::MAX_DIGITS`]) nothing is rounded: the text is exact.
+pub fn typed_pole_text(poles: &[Complex64], digits: usize) -> String {
+    if digits >= crate::design::format::MAX_DIGITS {
+        return exact_pole_text(poles);
+    }
+    let rounded: Vec<Complex64> = poles.iter().map(|z| crate::editing::round_pole(*z, digits as i32)).collect();
+    exact_pole_text(&rounded)
+}
+
 /// The region of a result, with its dominant pair at the corner (as the specification gives it).
 pub(crate) fn region_of(r: &design::RegionResult) -> crate::patterns::Region {
     let zeta = r.min_damping;
@@ -256,7 +268,10 @@ pub(crate) fn pole_choice_report(result: &DesignResult, context: &ReportContext)
 
     let sample_time = result.sample_time.filter(|_| result.domain == crate::analysis::Domain::Discrete);
     let mut suggested_delay_poles = None;
-    let adopt = "To adopt them, press “Use these poles”: the design stays the same (with several inputs: the same poles, with the robust placement's gain).";
+    let digits = crate::design::format::digits();
+    let adopt = format!(
+        "To adopt them, press “Use these poles”: they are written with {digits} significant digits (the Digits setting beside the gain; 17 keeps them exact), so the design changes only by that rounding (with several inputs: the same poles, with the robust placement's gain)."
+    );
     let (poles, suggested_note, suggested_plane): (Vec<Complex64>, String, &str) = match (search, choice, lqr) {
         (Some(s), _, _) => (
             s.suggested_poles.iter().map(c64).collect(),
@@ -284,7 +299,7 @@ pub(crate) fn pole_choice_report(result: &DesignResult, context: &ReportContext)
                 }
                 if check_conjugate_pairs(&fast).is_ok() {
                     z = (0..z.len()).filter(|i| !chosen.contains(i)).map(|i| z[i]).collect();
-                    suggested_delay_poles = Some(exact_pole_text(&fast));
+                    suggested_delay_poles = Some(typed_pole_text(&fast, digits));
                     delay = format!(" The {} nearest the origin, {}, go to the delay poles of the computation-delay states.", plural(m, "pole", "poles"), exact_pole_text(&fast));
                 } else {
                     delay = format!(" The list also holds the {} of the computation-delay states, which the pole list does not take: give those as delay poles.", plural(m, "pole", "poles"));
@@ -307,7 +322,7 @@ pub(crate) fn pole_choice_report(result: &DesignResult, context: &ReportContext)
     Some(PoleChoiceReport {
         method,
         description,
-        suggested_poles: exact_pole_text(&poles),
+        suggested_poles: typed_pole_text(&poles, digits),
         suggested_note,
         suggested_plane: suggested_plane.to_string(),
         suggested_delay_poles,

@@ -108,11 +108,13 @@ mod choice_report;
 mod report;
 mod robustness;
 mod scenes;
+mod verdicts;
 pub use adapter::{form_from_spec, form_key, spec_from_form};
 pub use robustness::RobustnessDetail;
 pub use choice_report::*;
 pub use report::*;
 pub use scenes::*;
+pub use verdicts::{verdicts, Verdict, VerdictTone};
 
 pub use fields::FormInput;
 

@@ -2,6 +2,7 @@
 //! responses, controller), read from the result and the request's context.
 
 use super::*;
+use crate::design::format as display;
 
 // ---------------------------------------------------------------------------------------------
 // Presentation.
@@ -15,9 +16,10 @@ pub struct MatrixTable {
     pub caption: String,
     pub row_labels: Vec<String>,
     pub column_labels: Vec<String>,
-    /// Entries with full precision (shortest text that reads back exactly).
+    /// Entries for reading, with the digits in force ([`crate::design::format`]).
     pub entries: Vec<Vec<String>>,
-    /// Tab-separated text with the labels, for copying into a spreadsheet or a file.
+    /// Tab-separated text with the labels and full-precision entries (the shortest text that
+    /// reads back to the same number), for copying into a spreadsheet or a file.
     pub text: String,
 }
 
@@ -257,6 +259,8 @@ pub struct Report {
     /// dragging pointer).
     pub robustness_deferred: bool,
     pub warnings: Vec<String>,
+    /// The key verdicts beside the gain.
+    pub verdicts: Vec<super::Verdict>,
     pub states: Vec<StateRow>,
     pub inputs: Vec<InputRow>,
     /// How the response was simulated.
@@ -291,15 +295,7 @@ pub fn label(name: &str, unit: Option<&String>) -> String {
 /// A concise pole: 4 decimals (or scientific) per part, typographic minus signs,
 /// e.g. `−12 + 9j`.
 pub fn short_pole(z: Complex64) -> String {
-    let minus = |s: String| s.replace('-', "\u{2212}");
-    if z.im == 0.0 {
-        return minus(fmt_num(z.re));
-    }
-    let sign = if z.im < 0.0 { "\u{2212}" } else { "+" };
-    if z.re == 0.0 {
-        return format!("{}{}j", if z.im < 0.0 { "\u{2212}" } else { "" }, fmt_num(z.im.abs()));
-    }
-    format!("{} {sign} {}j", minus(fmt_num(z.re)), fmt_num(z.im.abs()))
+    display::complex(z)
 }
 
 /// Damping ratio and natural frequency of a complex pole, or the time constant of a real one.
@@ -323,7 +319,8 @@ pub fn pole_character(z: Complex64) -> String {
 /// A labelled matrix with full-precision entries and its copyable text (`heading` is the
 /// text's first line).
 pub fn matrix_table(symbol: &str, caption: &str, heading: &str, row_labels: Vec<String>, column_labels: Vec<String>, rows: &[Vec<f64>]) -> MatrixTable {
-    let entries: Vec<Vec<String>> = rows.iter().map(|row| row.iter().map(|v| full(*v)).collect()).collect();
+    let full_entries: Vec<Vec<String>> = rows.iter().map(|row| row.iter().map(|v| full(*v)).collect()).collect();
+    let entries: Vec<Vec<String>> = rows.iter().map(|row| row.iter().map(|v| display::complex(Complex64::new(*v, 0.0))).collect()).collect();
     let clean = |s: &str| s.replace(['\t', '\n', '\r'], " ");
     let mut text = format!("{heading}\n{symbol}");
     for l in &column_labels {
@@ -331,7 +328,7 @@ pub fn matrix_table(symbol: &str, caption: &str, heading: &str, row_labels: Vec<
         text.push_str(&clean(l));
     }
     text.push('\n');
-    for (i, row) in entries.iter().enumerate() {
+    for (i, row) in full_entries.iter().enumerate() {
         text.push_str(&clean(row_labels.get(i).map_or("", |s| s.as_str())));
         for v in row {
             text.push('\t');
@@ -472,14 +469,15 @@ pub fn pole_rows(result: &DesignResult) -> Vec<PoleRow> {
     // Targets: the assigned poles, then the fixed modes (they stay where they are).
     let targets: Vec<Complex64> = assigned.iter().chain(fixed.iter()).copied().collect();
     let matched = match_nearest(&targets, &achieved);
+    let level = rounding_level(&achieved);
     let mut rows = Vec::new();
     for (i, t) in targets.iter().enumerate() {
         let z = matched.get(i).copied().flatten().and_then(|j| achieved.get(j)).copied();
         let is_fixed = i >= assigned.len();
         let error = z.map(|z| pole_error_text(result, *t, z));
         rows.push(PoleRow {
-            requested: if is_fixed { String::new() } else { format_complex(*t) },
-            achieved: z.map(format_complex).unwrap_or_default(),
+            requested: if is_fixed { String::new() } else { display::complex(*t) },
+            achieved: z.map(|z| display::complex_above(z, level)).unwrap_or_default(),
             error: error.unwrap_or_default(),
             character: z.map(|z| character_in(result, z)).unwrap_or_default(),
             note: if is_fixed { "uncontrollable mode: feedback cannot move it; it stays where it is".into() } else { String::new() },
@@ -487,7 +485,7 @@ pub fn pole_rows(result: &DesignResult) -> Vec<PoleRow> {
     }
     for z in &not_assigned {
         rows.push(PoleRow {
-            requested: format_complex(*z),
+            requested: display::complex(*z),
             achieved: String::new(),
             error: String::new(),
             character: String::new(),
@@ -536,7 +534,7 @@ pub(crate) fn structure_text(kind: Kind, st: Structure<'_>) -> StructureReport {
             Kind::Observability => format!("Observable: every one of the {states} modes is seen in the outputs."),
         }
     } else {
-        let list = format_pole_list(hidden);
+        let list = display::pole_list(hidden);
         let count = plural(states - rank, "mode", "modes");
         match (kind, stable_hidden) {
             (Kind::Controllability, true) => format!(
@@ -565,7 +563,7 @@ pub(crate) fn structure_text(kind: Kind, st: Structure<'_>) -> StructureReport {
     let modes = modes
         .iter()
         .map(|m| ModeRow {
-            pole: format_complex(m.pole),
+            pole: display::complex(m.pole),
             margin: fmt_num(m.margin),
             verdict: match m.verdict {
                 ModeVerdict::Yes => word.to_string(),
@@ -733,10 +731,14 @@ pub(crate) fn response_rows(result: &DesignResult) -> (Vec<StateRow>, Vec<InputR
 /// largest pole — shown as 0: an integrator computed as 1.4e−13 among poles of size 43 is 0
 /// (the result file keeps the computed values).
 pub fn zero_below_rounding(poles: &[Complex64]) -> Vec<Complex64> {
-    let scale = poles.iter().map(|z| z.norm()).filter(|v| v.is_finite()).fold(0.0, f64::max);
-    let floor = ROUNDING_LEVEL * scale;
+    let floor = rounding_level(poles);
     let clean = |x: f64| if x.abs() <= floor { 0.0 } else { x };
     poles.iter().map(|z| Complex64::new(clean(z.re), clean(z.im))).collect()
+}
+
+/// [`ROUNDING_LEVEL`] times the largest finite pole of the list.
+pub(crate) fn rounding_level(poles: &[Complex64]) -> f64 {
+    ROUNDING_LEVEL * poles.iter().map(|z| z.norm()).filter(|v| v.is_finite()).fold(0.0, f64::max)
 }
 
 /// Relative size under which a computed eigenvalue part is rounding noise (about 4500 ε: the
@@ -832,7 +834,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
         law: "u = −K x".into(),
         gain: gain_table(result),
         poles: pole_rows(result),
-        open_loop: format_pole_list(&open),
+        open_loop: display::pole_list(&open),
         controllability: structure_result_text(&result.controllability, Kind::Controllability, discrete),
         observability: result.observability.as_ref().map(|o| structure_result_text(o, Kind::Observability, discrete)),
         robustness: robustness_text(result),
@@ -840,6 +842,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
         robustness_detail: super::robustness::detail(result, context),
         robustness_deferred: result.robustness_deferred,
         warnings,
+        verdicts: super::verdicts(result),
         states,
         inputs,
         simulation,
@@ -862,13 +865,14 @@ pub(crate) fn matched_pole_rows(result: &DesignResult, requested: &[Pair], achie
     sort_for_display(&mut req);
     let ach: Vec<Complex64> = achieved.iter().map(c64).collect();
     let matched = match_nearest(&req, &ach);
+    let level = rounding_level(&ach);
     req.iter()
         .enumerate()
         .map(|(i, t)| {
             let z = matched.get(i).copied().flatten().and_then(|j| ach.get(j)).copied();
             PoleRow {
-                requested: format_complex(*t),
-                achieved: z.map(format_complex).unwrap_or_default(),
+                requested: display::complex(*t),
+                achieved: z.map(|z| display::complex_above(z, level)).unwrap_or_default(),
                 error: z.map(|z| pole_error_text(result, *t, z)).unwrap_or_default(),
                 character: z.map(|z| character_in(result, z)).unwrap_or_default(),
                 note: String::new(),

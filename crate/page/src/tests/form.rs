@@ -21,11 +21,11 @@ fn textbook_plant_gives_the_textbook_gain() {
     for (got, want) in g[0].iter().zip([199.0, 55.0, 8.0]) {
         assert!((got - want).abs() <= 1e-9 * want, "{got} vs {want}");
     }
-    // The text shown reads back to the same numbers.
+    // The copyable text reads back to the same numbers; the table shows them rounded to the
+    // display digits (5 by default: 199, 55, 8).
     let table = &out.report.as_ref().unwrap().gain;
-    for (text, value) in table.entries[0].iter().zip(&g[0]) {
-        assert_eq!(text.parse::<f64>().unwrap(), *value);
-    }
+    assert_eq!(copied_rows(table)[0], g[0]);
+    assert_eq!(table.entries[0], ["199", "55", "8"]);
     assert_eq!(table.row_labels, ["u1"]);
     assert_eq!(table.column_labels, ["x1", "x2", "x3"]);
     assert_eq!(out.size_for("a"), Some("3 × 3"));
@@ -135,7 +135,7 @@ fn stabilisable_plant_reports_fixed_and_unassigned_poles() {
     assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
     let r = out.report.unwrap();
     assert!(r.controllability.summary.starts_with("Not controllable, but stabilisable"), "{}", r.controllability.summary);
-    assert!(r.poles.iter().any(|p| p.note.starts_with("uncontrollable mode") && p.achieved == "-1"), "{:?}", r.poles);
+    assert!(r.poles.iter().any(|p| p.note.starts_with("uncontrollable mode") && p.achieved == "\u{2212}1"), "{:?}", r.poles);
     assert!(r.poles.iter().any(|p| p.note.starts_with("not assigned")), "{:?}", r.poles);
     let scene = pole_map_scene(out.design.as_ref().unwrap());
     assert_eq!(scene.not_assigned.len(), 1);
@@ -208,10 +208,11 @@ fn pole_rows_pair_requested_with_achieved() {
     let out = evaluate_form(&form(TEXTBOOK_A, "0\n0\n1", "-10, -2±4j"));
     let rows = out.report.unwrap().poles;
     assert_eq!(rows.len(), 3);
-    assert_eq!(rows[0].requested, "-10");
+    assert_eq!(rows[0].requested, "\u{2212}10");
+    assert_eq!(rows[1].achieved, "\u{2212}2 + 4j");
     for r in &rows {
-        let want: Complex64 = crate::poles::parse_pole_items(&r.requested).unwrap()[0];
-        let got: Complex64 = crate::poles::parse_pole_items(&r.achieved).unwrap()[0];
+        let want: Complex64 = shown_pole(&r.requested);
+        let got: Complex64 = shown_pole(&r.achieved);
         assert!((want - got).norm() < 1e-9, "{r:?}");
         assert!(r.error.parse::<f64>().map_or(true, |e| e < 1e-9), "{r:?}");
     }
@@ -415,8 +416,9 @@ fn an_observer_without_c_is_an_error_of_the_observer_choice() {
     let o = c.observer.as_ref().unwrap();
     assert_eq!(o.gain.row_labels.len(), 4);
     assert_eq!(o.gain.column_labels, ["head position (m)"]);
-    for (row, want) in o.gain.entries.iter().zip(&d.observer.as_ref().unwrap().gain) {
-        assert_eq!(row[0].parse::<f64>().unwrap(), want[0]);
+    for ((row, shown), want) in copied_rows(&o.gain).iter().zip(&o.gain.entries).zip(&d.observer.as_ref().unwrap().gain) {
+        assert_eq!(row[0], want[0]);
+        assert_eq!(shown[0], crate::design::format::number(want[0]).replace('-', "\u{2212}"));
     }
     assert!(o.noise.contains("‖K L‖₂"), "{}", o.noise);
     assert_eq!(o.poles.len(), 4);
@@ -889,4 +891,14 @@ fn open_loop_parts_below_the_rounding_level_read_as_zero() {
     assert_eq!(clean[0], poles[0]);
     let small = [Complex64::new(-1e-9, 0.0), Complex64::new(-2e-9, 0.0)];
     assert_eq!(zero_below_rounding(&small), small.to_vec());
+}
+
+/// The rows of a table's copyable text (full precision), labels dropped.
+fn copied_rows(table: &MatrixTable) -> Vec<Vec<f64>> {
+    table.text.lines().skip(2).map(|line| line.split('\t').skip(1).map(|v| v.parse().unwrap()).collect()).collect()
+}
+
+/// A pole as the tables show it (`−2 + 4j`), read back.
+fn shown_pole(text: &str) -> Complex64 {
+    crate::poles::parse_pole_items(&text.replace('\u{2212}', "-").replace(' ', "")).unwrap()[0]
 }
