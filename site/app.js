@@ -319,6 +319,7 @@ for (const button of document.querySelectorAll('button[data-copy]')) {
 }
 byId('pw-normalise').addEventListener('change', guarded((e) => set_state_scale(e.target.checked)));
 byId('pw-pole-zoom').addEventListener('change', guarded((e) => set_pole_zoom(e.target.checked)));
+byId('pw-signal-axes').addEventListener('change', guarded((e) => set_signal_axes(e.target.value)));
 byId('pw-digits').addEventListener('change', guarded((e) => set_display_digits(Number(e.target.value))));
 
 const poleMap = byId('pw-pole-map');

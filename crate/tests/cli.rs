@@ -130,3 +130,26 @@ fn compare_two_designs_side_by_side() {
     assert_eq!(code, 2);
     assert!(err.contains("two design files"), "{err}");
 }
+
+#[test]
+fn report_figures_follow_the_digits_option() {
+    // The same record at 3 and at 8 significant digits: the sample-rate ratio of the digital
+    // belt-axis example reads with that many digits; a bad count is refused with the rule.
+    let file = example("belt-axis-digital.json");
+    let figure = |html: &str| -> String {
+        let start = html.find("Sample rate against the closed-loop bandwidth</td><td>").map(|i| i + "Sample rate against the closed-loop bandwidth</td><td>".len()).unwrap();
+        html[start..].split(' ').next().unwrap().to_string()
+    };
+    let (code, three, err) = polewright(&["report", &file, "--digits", "3"], None);
+    assert_eq!(code, 0, "{err}");
+    let (code, eight, err) = polewright(&["report", "--digits", "8", &file], None);
+    assert_eq!(code, 0, "{err}");
+    let (a, b) = (figure(&three), figure(&eight));
+    assert_eq!(a.replace('.', "").len(), 3, "{a}");
+    assert_eq!(b.replace('.', "").len(), 8, "{b}");
+    let (x, y): (f64, f64) = (a.parse().unwrap(), b.parse().unwrap());
+    assert!((x - y).abs() <= 0.5e-2 * y, "{x} is {y} to 3 digits");
+    let (code, _, err) = polewright(&["report", &file, "--digits", "2"], None);
+    assert_eq!(code, 2);
+    assert!(err.contains("--digits \"2\"") && err.contains("3 to 17"), "{err}");
+}

@@ -280,6 +280,13 @@ describe('choosing the poles from the form', () => {
       assert.match(await page.textContent('#pw-pole-legend'), /region/);
       await page.locator('#pw-pole-section').screenshot({ path: path.join(artifactsDir, 'pole-map-specification.png') });
       assert.equal(await page.getAttribute('#pw-pole-map', 'data-requested-px'), '', 'nothing to drag before adopting');
+      // At the default 5 digits the suggested poles are rounded to 5 significant digits (and
+      // the note says so); at 17 they are exact and adopting them keeps the design exactly.
+      const rounded = await page.textContent('#pw-choice-poles');
+      for (const n of rounded.match(/\d+\.?\d*/g)) assert.ok(n.replace('.', '').replace(/^0+/, '').length <= 5, `${n} in ${rounded}`);
+      assert.match(await page.textContent('#pw-choice-details') + await page.textContent('#pw-pole-choice'), /written with 5 significant digits/);
+      await page.selectOption('#pw-digits', '17');
+      await page.waitForFunction((r) => document.getElementById('pw-choice-poles').textContent !== r, rounded);
       const suggested = await page.textContent('#pw-choice-poles');
       const gain = await readGain(page);
       await page.click('#pw-adopt');
@@ -349,6 +356,8 @@ describe('choosing the poles from the form', () => {
       // Q = I, R = 1 on ẍ = u: K = [1, √3], closed-loop poles −√3/2 ± j/2 (the classic closed
       // form, e.g. Anderson & Moore, Optimal Control: Linear Quadratic Methods, 1990; from memory).
       await setFields(page, { a: '0 1\n0 0', b: '0\n1', pole_source: 'lqr', lqr_max_state: '1, 1', lqr_max_input: '1' });
+      // 17 display digits: the pole table then shows the poles exactly.
+      await page.selectOption('#pw-digits', '17');
       assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
       const [k] = await readGain(page);
       assert.ok(Math.abs(k[0] - 1) < 1e-12 && Math.abs(k[1] - Math.sqrt(3)) < 1e-12, JSON.stringify(k));
@@ -370,12 +379,15 @@ describe('choosing the poles from the form', () => {
       const { page } = ctx;
       // x' = [[0, 10], [−10, 0]] x + u with both poles at −1: K = [[1, 10], [−10, 1]] and the
       // closed loop −I. Loop at a time each input sees 1/s (90°, unbounded gain; by hand); all
-      // inputs at once the disk margin is 0.0998 (checked against numpy in check_margins.py).
+      // inputs at once the disk margin is 0.09975 (checked against numpy in check_margins.py).
       await setFields(page, { a: '0 10\n-10 0', b: '1 0\n0 1', poles: '-1, -1', sensitivity_entry: 'A 1 2', uncertain_entries: 'A 1 2 10%', uncertainty_samples: '200', uncertainty_seed: '3' });
       assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
       const margins = await page.textContent('#pw-margins');
       assert.match(margins, /phase margin 90° at 1 rad\/s/);
-      assert.match(margins, /All inputs at once: disk margin 0\.0998 .*exact/);
+      assert.match(margins, /All inputs at once: disk margin 0\.09975\d* .*exact/);
+      // Loop at a time the disk (size 2 at skew 0) guarantees gains from 0 to ∞: the computed
+      // 1.1e-16 and 9.0e15 are read within rounding.
+      assert.match(margins, /disk margin 2 \(gain × 0 to × ∞/);
       const freq = await tableRows(page, 'pw-frequency-table');
       assert.ok(freq.length >= 10 && freq.some((r) => /\(peak\)/.test(r.join(' '))), JSON.stringify(freq.slice(0, 3)));
       // The closed loop −I has the pole −1 twice: first-order sensitivity is not defined there,

@@ -255,6 +255,11 @@ export async function readGain(page) {
   });
 }
 
+/** A number as the page shows it (`−1.2346e-6`: a typographic minus allowed). */
+export function shownNumber(text) {
+  return Number(text.trim().replace(/\u2212/g, '-'));
+}
+
 /** Rows of a result table (the element with id `hostId` holds one table) as arrays of cell texts. */
 export async function tableRows(page, hostId) {
   return page.evaluate((id) => {
@@ -267,9 +272,12 @@ export async function tableRows(page, hostId) {
   }, hostId);
 }
 
-/** Parse a complex number as the page writes it in tables: `-2`, `2j`, `-1+2j`, `-1.5e-3-2j`. */
+/**
+ * Parse a complex number as the page writes it in tables: `−2`, `2j`, `−1 + 2j`, `−1.5e-3 − 2j`
+ * (typographic minus signs and spaces allowed; the ASCII forms `-1+2j` too).
+ */
 export function parseComplex(text) {
-  const t = text.trim();
+  const t = text.trim().replace(/\u2212/g, '-').replace(/\s+/g, '');
   const num = '[+-]?(?:\\d+\\.?\\d*|\\.\\d+)(?:e[+-]?\\d+)?';
   const unsigned = '(?:\\d+\\.?\\d*|\\.\\d+)(?:e[+-]?\\d+)?';
   let m = new RegExp(`^(${num})$`, 'i').exec(t);

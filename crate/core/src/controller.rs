@@ -298,6 +298,7 @@ pub fn delay_augmented(phi: &DMatrix<f64>, gamma: &DMatrix<f64>) -> (DMatrix<f64
 /// Poles at `z = 0` (deadbeat, or a computation delay) have no finite `s`: they settle in one
 /// sample whatever the sample time, so they are left out of `ω_b` and named in the message; when
 /// every pole is there the verdict is [`SampleRateVerdict::Deadbeat`] and no bandwidth is given.
+/// The words for people are the design layer's (it formats the figures).
 #[derive(Debug, Clone, PartialEq)]
 pub struct SampleRateAdvice {
     /// `ω_b` in rad/s; `None` when every pole is at `z = 0`.
@@ -305,7 +306,8 @@ pub struct SampleRateAdvice {
     /// `ω_s / ω_b`; `None` when every pole is at `z = 0`.
     pub samples_per_bandwidth: Option<f64>,
     pub verdict: SampleRateVerdict,
-    pub message: String,
+    /// Poles at `z = 0` (left out of the bandwidth: they settle in one sample each).
+    pub deadbeat_poles: usize,
 }
 
 /// Samples per closed-loop bandwidth period: fewer than 10, 10–30, more than 30; or every pole
@@ -325,21 +327,19 @@ pub fn sample_rate_advice(continuous_poles: &[Complex64], t: f64) -> SampleRateA
     let finite: Vec<f64> = continuous_poles.iter().filter(|z| z.re.is_finite() && z.im.is_finite()).map(|z| z.norm()).collect();
     let deadbeat = continuous_poles.len() - finite.len();
     if finite.is_empty() && deadbeat > 0 {
-        let message = format!("Every closed-loop pole is at z = 0 (deadbeat): the loop settles in at most {deadbeat} samples, so the sample time itself sets the speed and the rule of 10–30 samples per bandwidth period does not apply. Deadbeat asks for inputs of the order of the state error divided by a power of the sample time: check the peak inputs against the limits.");
-        return SampleRateAdvice { bandwidth: None, samples_per_bandwidth: None, verdict: SampleRateVerdict::Deadbeat, message };
+        return SampleRateAdvice { bandwidth: None, samples_per_bandwidth: None, verdict: SampleRateVerdict::Deadbeat, deadbeat_poles: deadbeat };
     }
     let wb = finite.iter().copied().fold(0.0, f64::max);
     let ratio = if wb > 0.0 { 2.0 * std::f64::consts::PI / (t * wb) } else { f64::INFINITY };
-    let aside = if deadbeat > 0 { format!(" ({deadbeat} pole(s) at z = 0, which settle in one sample each, are left out)") } else { String::new() };
-    let (verdict, message) = if ratio < 10.0 {
-        (SampleRateVerdict::TooSlow, format!("The sample rate is only {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s){aside}; rules of thumb ask for 10–30 times. Sample faster or slow the poles down: the digital loop will behave worse than designed."))
+    let verdict = if ratio < 10.0 {
+        SampleRateVerdict::TooSlow
     } else if ratio <= 30.0 {
-        (SampleRateVerdict::Adequate, format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s){aside}, within the usual 10–30."))
+        SampleRateVerdict::Adequate
     } else {
-        (SampleRateVerdict::Fast, format!("The sample rate is {ratio:.1} times the closed-loop bandwidth ({wb:.4} rad/s){aside}: more than enough (beyond about 30, numerical precision of the controller coefficients starts to matter more than sampling)."))
+        SampleRateVerdict::Fast
     };
     let finite_or_none = |v: f64| v.is_finite().then_some(v);
-    SampleRateAdvice { bandwidth: Some(wb), samples_per_bandwidth: finite_or_none(ratio), verdict, message }
+    SampleRateAdvice { bandwidth: Some(wb), samples_per_bandwidth: finite_or_none(ratio), verdict, deadbeat_poles: deadbeat }
 }
 
 /// Pseudo-inverse of a small matrix through its normal equations (for back-calculation).

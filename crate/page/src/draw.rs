@@ -85,6 +85,8 @@ pub enum DrawOp {
     ClipRect(Rect),
     /// Undo to the last `Save` (styles are then set again before use).
     Restore,
+    /// Move the origin by (dx, dy) until the next `Restore` (after a `Save`).
+    Translate { dx: f64, dy: f64 },
     Font(&'static str),
     Fill(&'static str),
     Stroke(&'static str),
@@ -370,18 +372,6 @@ fn marker(s: &mut DisplayList, set: PoleSet, c: [f64; 2]) {
     }
 }
 
-fn set_label(set: PoleSet) -> &'static str {
-    match set {
-        PoleSet::OpenLoop => "open loop",
-        PoleSet::NotAssigned => "not assignable",
-        PoleSet::ClosedLoop => "closed loop",
-        PoleSet::Observer => "observer",
-        PoleSet::Requested => "requested (drag)",
-        PoleSet::Pinned => "pinned design",
-        PoleSet::Uncertain => "uncertain plant (sample)",
-    }
-}
-
 /// A legend swatch.
 #[derive(Clone, Copy)]
 enum Swatch {
@@ -390,77 +380,42 @@ enum Swatch {
     Marker(PoleSet),
 }
 
-/// Legend entries (label, swatch), right-aligned in the top margin.
-fn legend(s: &mut DisplayList, f: &Frame, entries: &[(&str, Swatch)]) {
+/// A legend swatch centred at `c`.
+fn legend_swatch(s: &mut DisplayList, swatch: Swatch, c: [f64; 2]) {
+    match swatch {
+        Swatch::StableRegion => {
+            let r = Rect { x: c[0] - 6.0, y: c[1] - 6.0, width: 12.0, height: 12.0 };
+            s.fill(colour::STABLE_FILL);
+            s.ops.push(DrawOp::FillRect(r));
+            s.stroke(colour::STABLE_EDGE);
+            s.line_width(1.0);
+            s.ops.push(DrawOp::StrokeRect(r));
+        }
+        Swatch::RegionBoundary => {
+            s.stroke(colour::REGION);
+            s.line_width(1.5);
+            s.segments(&[([c[0] - 8.0, c[1]], [c[0] - 2.0, c[1]]), ([c[0] + 1.0, c[1]], [c[0] + 3.0, c[1]]), ([c[0] + 6.0, c[1]], [c[0] + 8.0, c[1]])]);
+        }
+        Swatch::Marker(set) => marker(s, set, c),
+    }
+}
+
+/// The pole map's legend above the plot, flowed into rows as the scene's frame reserved them
+/// ([`PoleMapScene::legend_flow`]).
+fn pole_map_legend(s: &mut DisplayList, scene: &PoleMapScene, rect: Rect) {
+    let labels = scene.legend_labels();
+    let mut swatches = vec![Swatch::StableRegion];
+    if scene.region.is_some() {
+        swatches.push(Swatch::RegionBoundary);
+    }
+    swatches.extend(scene.layers().iter().filter(|(_, pts)| !pts.is_empty()).map(|(set, _)| Swatch::Marker(*set)));
+    let left = scene.legend_left(rect);
     s.font(FONT);
-    let y = f.plot.y - 12.0;
-    let mut x = f.plot.right();
-    for (label, swatch) in entries.iter().rev() {
-        let w = s.text_width(FONT, label);
+    for ((label, swatch), (row, x)) in labels.iter().zip(&swatches).zip(scene.legend_flow(rect)) {
+        let y = rect.y + 18.0 + row as f64 * LEGEND_ROW_PX;
+        legend_swatch(s, *swatch, [left + x + 10.0, y]);
         s.fill(colour::TEXT);
-        s.text(label, x, y, Align::Right, Baseline::Middle);
-        x -= w + 14.0;
-        let c = [x, y];
-        match swatch {
-            Swatch::StableRegion => {
-                let r = Rect { x: c[0] - 6.0, y: c[1] - 6.0, width: 12.0, height: 12.0 };
-                s.fill(colour::STABLE_FILL);
-                s.ops.push(DrawOp::FillRect(r));
-                s.stroke(colour::STABLE_EDGE);
-                s.line_width(1.0);
-                s.ops.push(DrawOp::StrokeRect(r));
-            }
-            Swatch::RegionBoundary => {
-                s.stroke(colour::REGION);
-                s.line_width(1.5);
-                s.segments(&[([c[0] - 8.0, c[1]], [c[0] - 2.0, c[1]]), ([c[0] + 1.0, c[1]], [c[0] + 3.0, c[1]]), ([c[0] + 6.0, c[1]], [c[0] + 8.0, c[1]])]);
-            }
-            Swatch::Marker(set) => marker(s, *set, c),
-        }
-        x -= 18.0;
-    }
-}
-
-/// The pole map's legend in the top margin, right of the axis title: full labels when they
-/// fit, short ones when not, and none on a map too narrow for either (the legend note under
-/// the map says the same in words).
-fn pole_map_legend(s: &mut DisplayList, f: &Frame, scene: &PoleMapScene, y_title: &str) {
-    let available = f.plot.right() - (8.0 + s.text_width(TITLE_FONT, y_title) + 12.0);
-    for short in [false, true] {
-        let mut entries: Vec<(&str, Swatch)> = vec![(
-            match (scene.discrete, short) {
-                (true, false) => "stable: |z| < 1",
-                (true, true) => "|z| < 1",
-                (false, false) => "stable region",
-                (false, true) => "stable",
-            },
-            Swatch::StableRegion,
-        )];
-        if scene.region.is_some() {
-            entries.push((if short { "boundary" } else { "admissible boundary" }, Swatch::RegionBoundary));
-        }
-        for (set, points) in scene.layers() {
-            if !points.is_empty() {
-                entries.push((if short { short_set_label(set) } else { set_label(set) }, Swatch::Marker(set)));
-            }
-        }
-        let width: f64 = entries.iter().map(|(label, _)| s.text_width(FONT, label) + 32.0).sum();
-        if width <= available {
-            legend(s, f, &entries);
-            return;
-        }
-    }
-}
-
-fn short_set_label(set: PoleSet) -> &'static str {
-    match set {
-        PoleSet::OpenLoop => "open",
-        PoleSet::NotAssigned => "unassignable",
-        PoleSet::ClosedLoop => "closed",
-        PoleSet::Observer => "observer",
-        PoleSet::Requested => "requested",
-        PoleSet::Pinned => "pinned",
-        PoleSet::Uncertain => "sampled",
+        s.text(label, left + x + LEGEND_SWATCH_PX - 8.0, y, Align::Left, Baseline::Middle);
     }
 }
 
@@ -525,7 +480,7 @@ pub fn pole_map(scene: &PoleMapScene, rect: Rect, measure: &dyn TextMeasure) -> 
     s.restore();
     let var = if scene.discrete { "z" } else { "s" };
     axis_titles(&mut s, &f, &format!("Re {var}"), &format!("Im {var}"));
-    pole_map_legend(&mut s, &f, scene, &format!("Im {var}"));
+    pole_map_legend(&mut s, scene, rect);
     let hidden = scene.layers().iter().flat_map(|(_, pts)| pts.iter()).filter(|q| !(q[0].is_finite() && q[1].is_finite())).count();
     if hidden > 0 {
         s.fill(colour::LIMIT);
@@ -564,7 +519,9 @@ pub fn message(text: &str, rect: Rect, measure: &dyn TextMeasure) -> Vec<DrawOp>
 
 /// `(t, y)` samples as an SVG-style path in pixels: a non-finite sample breaks the line, and
 /// each finite run is simplified to what its pixels show ([`Simplifier`]).
-fn polyline_path(samples: impl Iterator<Item = (f64, f64)>, f: &Frame) -> String {
+/// The path through `samples` (gaps at non-finite values); with `hold`, a staircase: each
+/// value held until the next sample time (zero-order hold).
+fn polyline_path(samples: impl Iterator<Item = (f64, f64)>, f: &Frame, hold: bool) -> String {
     let mut d = String::new();
     let mut run: Option<Simplifier> = None;
     let flush = |run: &mut Option<Simplifier>, d: &mut String| {
@@ -574,12 +531,18 @@ fn polyline_path(samples: impl Iterator<Item = (f64, f64)>, f: &Frame) -> String
             }
         }
     };
+    let mut held: Option<f64> = None;
     for (t, y) in samples {
         if t.is_finite() && y.is_finite() {
-            let q = f.to_pixel([t, y]);
-            run.get_or_insert_with(|| Simplifier::new(SIMPLIFY_TOLERANCE_PX)).push(bounded_point(q));
+            let line = run.get_or_insert_with(|| Simplifier::new(SIMPLIFY_TOLERANCE_PX));
+            if let Some(previous) = held.filter(|_| hold) {
+                line.push(bounded_point(f.to_pixel([t, previous])));
+            }
+            line.push(bounded_point(f.to_pixel([t, y])));
+            held = Some(y);
         } else {
             flush(&mut run, &mut d);
+            held = None;
         }
     }
     flush(&mut run, &mut d);
@@ -635,6 +598,28 @@ pub fn time_plot(scene: &TimePlotScene, rect: Rect, measure: &dyn TextMeasure) -
     s.ops
 }
 
+/// Panels stacked top to bottom in `rect`, each a [`time_plot`] of its own scene (its own
+/// axis title, unit and limit lines) on the shared time range, in equal shares of the height.
+/// One panel is [`time_plot`] itself.
+pub fn stacked_time_plots(panels: &[TimePlotScene], rect: Rect, measure: &dyn TextMeasure) -> Vec<DrawOp> {
+    match panels {
+        [] => message("Nothing to show.", rect, measure),
+        [one] => time_plot(one, rect, measure),
+        _ => {
+            let mut ops = vec![DrawOp::Clear { width: rect.width, height: rect.height }];
+            let share = rect.height / panels.len() as f64;
+            for (k, panel) in panels.iter().enumerate() {
+                let sub = Rect { x: 0.0, y: 0.0, width: rect.width, height: share };
+                ops.push(DrawOp::Save);
+                ops.push(DrawOp::Translate { dx: rect.x, dy: rect.y + share * k as f64 });
+                ops.extend(time_plot(panel, sub, measure).into_iter().filter(|op| !matches!(op, DrawOp::Clear { .. })));
+                ops.push(DrawOp::Restore);
+            }
+            ops
+        }
+    }
+}
+
 /// The zero line, the event lines and the limit lines; returns the events shown.
 fn plot_lines<'a>(s: &mut DisplayList, scene: &'a TimePlotScene, f: &Frame) -> Vec<&'a crate::plot::EventLine> {
     let p = f.plot;
@@ -674,7 +659,7 @@ fn signals(s: &mut DisplayList, scene: &TimePlotScene, f: &Frame) {
             s.stroke(colour::SERIES[ser.colour.unwrap_or(0) % colour::SERIES.len()]);
             // Its own time grid, cut to the plot's time range.
             let shown = ser.t.iter().copied().zip(ser.values.iter().copied()).map(|(t, y)| if f.x.range.contains(t) { (t, y) } else { (t, f64::NAN) });
-            s.path(polyline_path(shown, f));
+            s.path(polyline_path(shown, f, false));
         }
         s.dash(&[]);
         s.ops.push(DrawOp::Alpha(1.0));
@@ -685,7 +670,7 @@ fn signals(s: &mut DisplayList, scene: &TimePlotScene, f: &Frame) {
         let (stroke, dash) = series_style(scene, i);
         s.stroke(stroke);
         s.dash(dash);
-        s.path(polyline_path(scene.t.iter().copied().zip(ser.values.iter().copied()), f));
+        s.path(polyline_path(scene.t.iter().copied().zip(ser.values.iter().copied()), f, ser.hold));
     }
     s.dash(&[]);
 }

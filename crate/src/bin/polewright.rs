@@ -28,10 +28,12 @@ USAGE:
                                     with a header (order of states, sign convention, sample
                                     time, limits, tool version, SHA-256 of the document).
                                     Written to DIR, or to standard output
-    polewright report FILE.json > record.html
+    polewright report FILE.json [--digits N] > record.html
                                     the printable design record (standalone HTML, no script):
                                     plant, pole choice, every gain, the checks with their
-                                    figures, exported files' hashes, a sign-off block
+                                    figures, exported files' hashes, a sign-off block; figures
+                                    with N significant digits (3 to 17, default 5, as the page's
+                                    Digits setting)
     polewright --help | --version
 
 DESIGN FILE (JSON, format \"polewright.design\", version 1):
@@ -259,15 +261,26 @@ fn utc_date_today() -> String {
 
 /// `report FILE`: the standalone design record (HTML) on standard output.
 fn report_command(args: &[String]) -> ExitCode {
-    let [source] = args else {
-        eprintln!("polewright: `report` takes one argument, a design file or - for standard input");
-        return ExitCode::from(2);
+    let usage = "polewright: `report` takes a design file (or - for standard input) and optionally --digits N (3 to 17)";
+    let (source, digits) = match args {
+        [source] => (source, design::format::DEFAULT_DIGITS),
+        [source, flag, n] | [flag, n, source] if flag == "--digits" => match n.parse::<usize>() {
+            Ok(d) if (design::format::MIN_DIGITS..=design::format::MAX_DIGITS).contains(&d) => (source, d),
+            _ => {
+                eprintln!("polewright: --digits \"{n}\" is not a whole number from 3 to 17");
+                return ExitCode::from(2);
+            }
+        },
+        _ => {
+            eprintln!("{usage}");
+            return ExitCode::from(2);
+        }
     };
     let text = match read_source(source) {
         Ok(t) => t,
         Err(code) => return code,
     };
-    match design::export::record::record_from_text(&text, &utc_date_today(), true) {
+    match design::format::with_digits(digits, || design::export::record::record_from_text(&text, &utc_date_today(), true)) {
         Ok(html) => {
             if write!(std::io::stdout().lock(), "{html}").is_err() {
                 return ExitCode::from(1);

@@ -33,8 +33,15 @@ impl PageState {
         }
     }
 
-    /// Paints `picture` on canvas `id` unless that very picture is already there.
+    /// Paints `picture` on canvas `id` unless that very picture is already there. A picture
+    /// of stacked panels sets the canvas's `data-panels` (the style sheet makes it taller).
     pub(crate) fn paint(&mut self, id: &'static str, picture: Picture) -> Result<(), JsValue> {
+        let panels = panel_count(&picture).to_string();
+        let canvas = find_canvas(id)?;
+        if canvas.get_attribute("data-panels").unwrap_or_else(|| "1".into()) != panels {
+            canvas.set_attribute("data-panels", &panels)?;
+            self.canvas(id)?.size = None;
+        }
         let rect = self.canvas_rect(id)?;
         let dpr = pixel_ratio();
         let state = self.canvas(id)?;
@@ -52,6 +59,24 @@ impl PageState {
             state.painted = Some((rect, dpr, picture));
         }
         Ok(())
+    }
+}
+
+/// One plot, panels, or the message when there is nothing to draw.
+pub(crate) fn plots_or_message(mut panels: Vec<TimePlotScene>, empty: &str) -> Picture {
+    panels.retain(|s| !s.series.is_empty() && !s.t.is_empty());
+    match panels.len() {
+        0 => Picture::Message(empty.to_string()),
+        1 => panels.pop().map_or_else(|| Picture::Message(empty.to_string()), Picture::Time),
+        _ => Picture::Stack(panels),
+    }
+}
+
+/// The number of panels of a picture (for the canvas height: `data-panels`).
+fn panel_count(picture: &Picture) -> usize {
+    match picture {
+        Picture::Stack(p) => p.len(),
+        _ => 1,
     }
 }
 
@@ -100,17 +125,18 @@ pub(crate) fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
         scene
     };
     let normalised = usize::from(page.normalised);
+    let axes = page.signal_axes;
     let (states, inputs, loop_pictures) = match (&page.shown, &page.design, &page.report) {
         (Shown::Design, Some(d), Some(r)) => (
             Picture::Time(overlay(form::states_scene(d, page.normalised), pinned.and_then(|p| p.states.get(normalised)))),
-            Picture::Time(overlay(form::inputs_scene(d), pinned.map(|p| &p.inputs))),
+            plots_or_message(form::arrange_inputs(overlay(form::inputs_scene(d), pinned.map(|p| &p.inputs)), d, axes), "No inputs to show."),
             d.closed_loop.as_ref().map(|_| {
                 (
-                    time_or_message(
-                        form::loop_outputs_scene(d, r).map(|s| overlay(s, pinned.map(|p| &p.loop_outputs))),
+                    plots_or_message(
+                        form::loop_outputs_scene(d, r).map(|s| form::arrange_outputs(overlay(s, pinned.map(|p| &p.loop_outputs)), d, r, axes)).unwrap_or_default(),
                         "No outputs to show: enter the output matrix C in Measurement.",
                     ),
-                    time_or_message(form::loop_inputs_scene(d, r), "No inputs to show."),
+                    plots_or_message(form::loop_inputs_scene(d, r).map(|s| form::arrange_inputs(s, d, axes)).unwrap_or_default(), "No inputs to show."),
                     form::estimation_scene(d, r).map(Picture::Time),
                 )
             }),
@@ -144,7 +170,7 @@ pub(crate) fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
     // The response beside the pole map: the loop's outputs when a loop scenario runs and C
     // gives outputs, else the free response's states.
     let overview = match (&loop_pictures, &states) {
-        (Some((outputs @ Picture::Time(_), _, _)), _) => Some((outputs.clone(), "Loop simulation: outputs (solid) against their references (dashed); figures under Loop simulation below.")),
+        (Some((outputs @ (Picture::Time(_) | Picture::Stack(_)), _, _)), _) => Some((outputs.clone(), "Loop simulation: outputs (solid) against their references (dashed); figures under Loop simulation below.")),
         (_, Picture::Time(_)) => Some((states.clone(), "Free response from x₀: the states; figures under Free response below.")),
         _ => None,
     };
@@ -245,6 +271,7 @@ pub(crate) fn replay(ctx: &CanvasRenderingContext2d, ops: &[DrawOp]) -> Result<(
                 ctx.clip();
             }
             DrawOp::Restore => ctx.restore(),
+            DrawOp::Translate { dx, dy } => ctx.translate(*dx, *dy)?,
             DrawOp::Font(f) => ctx.set_font(f),
             DrawOp::Fill(c) => ctx.set_fill_style_str(c),
             DrawOp::Stroke(c) => ctx.set_stroke_style_str(c),
@@ -293,6 +320,7 @@ pub(crate) fn paint_picture(canvas_id: &str, rect: Rect, dpr: f64, picture: &Pic
     let ops = match picture {
         Picture::Poles(scene) => draw::pole_map(scene, rect, &measure),
         Picture::Time(scene) => draw::time_plot(scene, rect, &measure),
+        Picture::Stack(panels) => draw::stacked_time_plots(panels, rect, &measure),
         Picture::Message(text) => draw::message(text, rect, &measure),
     };
     let done = replay(&ctx, &ops);

@@ -201,6 +201,8 @@ enum Shown {
 enum Picture {
     Poles(PoleMapScene),
     Time(TimePlotScene),
+    /// Panels stacked under each other (one axis per signal).
+    Stack(Vec<TimePlotScene>),
     Message(String),
 }
 
@@ -228,6 +230,8 @@ struct PageState {
     focus: Option<usize>,
     normalised: bool,
     fit_poles: bool,
+    /// How input and output plots share axes (the page's "Axes" choice).
+    signal_axes: form::SignalAxes,
     canvases: Vec<CanvasState>,
     /// Content fingerprints of the result blocks last built (block id, hash).
     rendered: Vec<(&'static str, u64)>,
@@ -303,6 +307,7 @@ thread_local! {
         focus: None,
         normalised: true,
         fit_poles: false,
+        signal_axes: form::SignalAxes::Automatic,
         canvases: ids::CANVASES.iter().map(|id| CanvasState { id, size: None, painted: None }).collect(),
         rendered: Vec::new(),
         tables: Vec::new(),
@@ -600,6 +605,16 @@ pub fn set_display_digits(digits: usize) -> Result<usize, JsValue> {
     let d = crate::design::format::set_digits(digits);
     cycle(form::Depth::Full)?;
     Ok(d)
+}
+
+/// How input and output plots share axes: `automatic`, `separate` (one axis per signal),
+/// `limit` (each divided by its limit) or `shared`.
+#[wasm_bindgen]
+pub fn set_signal_axes(choice: &str) -> Result<(), JsValue> {
+    with_page(|page| {
+        page.signal_axes = form::SignalAxes::from_choice(choice);
+        paint_all(page)
+    })
 }
 
 /// Fit the pole map's view to the poles (`true`) or show the whole stable-region context

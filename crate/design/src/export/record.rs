@@ -99,7 +99,7 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
         ));
     }
     if let Some(s) = &result.sample_rate {
-        rows.push(("Sample rate against the closed-loop bandwidth".into(), s.samples_per_bandwidth.map_or("deadbeat".into(), |v| format!("{} samples per bandwidth period", fmt_num(v))), format!("{:?}", s.verdict).to_lowercase()));
+        rows.push(("Sample rate against the closed-loop bandwidth".into(), s.samples_per_bandwidth.map_or("deadbeat".into(), |v| format!("{} samples per bandwidth period", fmt_num(v))), sample_rate_words(s.verdict).to_string()));
     }
     rows
 }
@@ -280,4 +280,14 @@ fn margin_rows(m: &crate::result::MarginsResult) -> Vec<(String, String, String)
         (format!("Disk margins, each input alone (skew {})", fmt_num(m.skew)), per.join("; "), String::new()),
         ("Disk margin, all inputs at once".into(), format!("{} ({how})", range(&all.disk)), verdict(enough(&m.all_inputs_symmetric))),
     ]
+}
+
+fn sample_rate_words(v: crate::controller::SampleRateVerdict) -> &'static str {
+    use crate::controller::SampleRateVerdict as V;
+    match v {
+        V::TooSlow => "too slow (fewer than 10)",
+        V::Adequate => "adequate (10–30)",
+        V::Fast => "fast (more than 30)",
+        V::Deadbeat => "deadbeat (rule does not apply)",
+    }
 }

@@ -117,7 +117,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         },
         observer: observer_result(&s, &g, &analysis),
         tracking: tracking_result(&s, &g),
-        sample_rate: advice.map(|a| SampleRateResult { bandwidth: a.bandwidth, samples_per_bandwidth: a.samples_per_bandwidth, verdict: a.verdict, message: a.message }),
+        sample_rate: advice.map(|a| SampleRateResult { bandwidth: a.bandwidth, samples_per_bandwidth: a.samples_per_bandwidth, verdict: a.verdict, message: sample_rate_message(&a) }),
         closed_loop,
         search: dp.search.as_ref().map(|r| search_summary(s.plant, r)),
         pole_choice: spec.pole_choice.as_ref().map(|c| PoleChoiceResult {
@@ -317,6 +317,21 @@ pub fn run_checked_continued(design: &CheckedDesign, previous: Option<&crate::Co
         }
         other => other,
     })
+}
+
+/// The sample-rate advice in words, with the figures in the display format.
+pub(super) fn sample_rate_message(a: &crate::controller::SampleRateAdvice) -> String {
+    use crate::controller::SampleRateVerdict as V;
+    let deadbeat = a.deadbeat_poles;
+    let (ratio, wb) = (a.samples_per_bandwidth.unwrap_or(f64::INFINITY), a.bandwidth.unwrap_or(0.0));
+    let aside = if deadbeat > 0 { format!(" ({deadbeat} pole(s) at z = 0, which settle in one sample each, are left out)") } else { String::new() };
+    let (ratio, wb) = (fmt_num(ratio), fmt_num(wb));
+    match a.verdict {
+        V::Deadbeat => format!("Every closed-loop pole is at z = 0 (deadbeat): the loop settles in at most {deadbeat} samples, so the sample time itself sets the speed and the rule of 10–30 samples per bandwidth period does not apply. Deadbeat asks for inputs of the order of the state error divided by a power of the sample time: check the peak inputs against the limits."),
+        V::TooSlow => format!("The sample rate is only {ratio} times the closed-loop bandwidth ({wb} rad/s){aside}; rules of thumb ask for 10–30 times. Sample faster or slow the poles down: the digital loop will behave worse than designed."),
+        V::Adequate => format!("The sample rate is {ratio} times the closed-loop bandwidth ({wb} rad/s){aside}, within the usual 10–30."),
+        V::Fast => format!("The sample rate is {ratio} times the closed-loop bandwidth ({wb} rad/s){aside}: more than enough (beyond about 30, numerical precision of the controller coefficients starts to matter more than sampling)."),
+    }
 }
 
 /// A number for people: the significant digits in force (see [`crate::format`]).

@@ -127,7 +127,7 @@ pub(super) fn controller_warnings(g: &Gains, advice: Option<&SampleRateAdvice>) 
     let wp = WarningParams::default();
     let mut out = Vec::new();
     if let Some(a) = advice.filter(|a| a.verdict == crate::controller::SampleRateVerdict::TooSlow) {
-        out.push(Warning::new(WarningCode::SampleRateTooSlow, a.message.clone()));
+        out.push(Warning::new(WarningCode::SampleRateTooSlow, super::sample_rate_message(a)));
     }
     if let Some((od, _, _)) = &g.observer {
         if od.placement.max_pole_error > wp.inaccurate_placement {

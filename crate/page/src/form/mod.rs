@@ -102,9 +102,11 @@ pub use crate::design::run::OBSERVER_SPEED_RULE;
 pub use crate::design::check::DEFAULT_OBSERVER_SPEED;
 
 pub mod adapter;
+mod axes;
 mod fields;
 pub mod history;
 mod choice_report;
+mod context;
 mod report;
 mod robustness;
 mod scenes;
@@ -112,8 +114,10 @@ mod verdicts;
 pub use adapter::{form_from_spec, form_key, spec_from_form};
 pub use robustness::RobustnessDetail;
 pub use choice_report::*;
+pub use context::ReportContext;
 pub use report::*;
 pub use scenes::*;
+pub use axes::{arrange_inputs, arrange_outputs, SignalAxes, MAX_PANELS};
 pub use verdicts::{verdicts, Verdict, VerdictTone};
 
 pub use fields::FormInput;

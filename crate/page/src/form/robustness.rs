@@ -4,12 +4,20 @@
 use super::*;
 use crate::design::MultiloopAccuracy;
 
+/// Gain factors within rounding (1e-12, relative to the nominal gain 1) of 0 or of
+/// infinity: a disk of size 2 at skew 0 guarantees [0, ∞), computed as [1.1e-16, 9.0e15].
+const GAIN_ROUNDING: f64 = 1e-12;
+
 fn gain_text(v: f64) -> String {
-    if v.is_finite() {
+    if v.is_finite() && v < 1.0 / GAIN_ROUNDING {
         fmt_num(v)
     } else {
         "∞".into()
     }
+}
+
+fn low_gain_text(v: f64) -> String {
+    fmt_num(if v.abs() < GAIN_ROUNDING { 0.0 } else { v })
 }
 
 /// The margins at the plant input as text lines.
@@ -27,7 +35,7 @@ pub fn margin_lines(result: &DesignResult) -> Vec<String> {
                 "{} (others closed): disk margin {} (gain × {} to × {}, phase ±{}° at {} rad/s); gain margins {} / {}, phase margin {} at {} rad/s, delay margin {}.",
                 p.input,
                 fmt_num(d.disk_margin),
-                fmt_num(d.gain_range[0]),
+                low_gain_text(d.gain_range[0]),
                 gain_text(d.gain_range[1]),
                 fmt_num(d.phase_margin_deg),
                 fmt_num(d.frequency),
@@ -48,7 +56,7 @@ pub fn margin_lines(result: &DesignResult) -> Vec<String> {
         out.push(format!(
             "All inputs at once: disk margin {} (gain × {} to × {}, phase ±{}° at {} rad/s; {how}).",
             fmt_num(d.disk_margin),
-            fmt_num(d.gain_range[0]),
+            low_gain_text(d.gain_range[0]),
             gain_text(d.gain_range[1]),
             fmt_num(d.phase_margin_deg),
             fmt_num(d.frequency)

@@ -107,8 +107,8 @@ pub fn frequency_scene(result: &DesignResult) -> Option<TimePlotScene> {
     Some(TimePlotScene {
         t: keep.iter().map(|&k| f.frequency[k].log10()).collect(),
         series: vec![
-            Series { name: "σmax(S), input sensitivity".into(), values: keep.iter().map(|&k| db(f.sensitivity[k])).collect(), colour: Some(0), dash: Some(0) },
-            Series { name: "σmax(T), complementary".into(), values: keep.iter().map(|&k| db(f.complementary_sensitivity[k])).collect(), colour: Some(1), dash: Some(1) },
+            Series { name: "σmax(S), input sensitivity".into(), values: keep.iter().map(|&k| db(f.sensitivity[k])).collect(), colour: Some(0), dash: Some(0), hold: false },
+            Series { name: "σmax(T), complementary".into(), values: keep.iter().map(|&k| db(f.complementary_sensitivity[k])).collect(), colour: Some(1), dash: Some(1), hold: false },
         ],
         limits: vec![LimitLine { value: db(m.peak_sensitivity), label: format!("peak σmax(S) {} dB", fmt_num(db(m.peak_sensitivity))) }],
         events: [mark(m.peak_sensitivity_frequency, "peak σmax(S) at"), mark(m.all_inputs.disk.frequency, "disk margin at")].into_iter().flatten().collect(),
@@ -209,6 +209,8 @@ pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
         .iter()
         .enumerate()
         .map(|(i, values)| Series {
+            // A digital design's inputs are held between samples.
+            hold: result.domain == crate::analysis::Domain::Discrete,
             name: if shared_unit.is_some() {
                 p.input_names.get(i).cloned().unwrap_or_default()
             } else {
@@ -251,10 +253,10 @@ pub fn loop_outputs_scene(result: &DesignResult, report: &Report) -> Option<Time
             label(&n, units.get(i))
         }
     };
-    let mut series: Vec<Series> = l.outputs.iter().enumerate().map(|(i, v)| Series { name: name_of(i), values: v.clone(), colour: Some(i), dash: Some(0) }).collect();
+    let mut series: Vec<Series> = l.outputs.iter().enumerate().map(|(i, v)| Series { name: name_of(i), values: v.clone(), colour: Some(i), dash: Some(0), hold: false }).collect();
     for (j, (r, tm)) in l.reference.iter().zip(&l.tracked).enumerate() {
         let i = p.output_names.iter().position(|n| *n == tm.name).unwrap_or(j);
-        series.push(Series { name: format!("reference for {}", p.output_names.get(i).map_or("", |s| s.as_str())), values: r.clone(), colour: Some(i), dash: Some(1) });
+        series.push(Series { name: format!("reference for {}", p.output_names.get(i).map_or("", |s| s.as_str())), values: r.clone(), colour: Some(i), dash: Some(1), hold: false });
     }
     Some(loop_scene(l, report, series, Vec::new(), "output", shared))
 }
@@ -291,8 +293,10 @@ pub fn loop_inputs_scene(result: &DesignResult, report: &Report) -> Option<TimeP
             label(&n, p.input_units.get(i))
         }
     };
-    let mut series: Vec<Series> = l.inputs.iter().enumerate().map(|(i, v)| Series { name: format!("{} applied", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(0) }).collect();
-    series.extend(l.commanded.iter().enumerate().map(|(i, v)| Series { name: format!("{} commanded", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(1) }));
+    // A digital controller's commands are held between samples (zero-order hold).
+    let hold = l.sample_time.is_some();
+    let mut series: Vec<Series> = l.inputs.iter().enumerate().map(|(i, v)| Series { name: format!("{} applied", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(0), hold }).collect();
+    series.extend(l.commanded.iter().enumerate().map(|(i, v)| Series { name: format!("{} commanded", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(1), hold }));
     Some(loop_scene(l, report, series, limit_lines(result), "input", shared))
 }
 

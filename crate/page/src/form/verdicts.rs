@@ -128,7 +128,7 @@ fn margin_verdict(result: &DesignResult) -> Verdict {
     let d = &m.all_inputs_symmetric;
     let small = result.warnings.iter().any(|w| w.code == WarningCode::SmallMargin);
     let db = |g: f64| 20.0 * g.log10();
-    let gain = if d.gain_range[1].is_finite() && d.gain_range[0] > 0.0 {
+    let gain = if d.gain_range[1].is_finite() && d.gain_range[1] < 1e12 && d.gain_range[0] > 1e-12 {
         format!("{} to +{} dB", fmt_num(db(d.gain_range[0])), fmt_num(db(d.gain_range[1])))
     } else {
         "unbounded gain".to_string()

@@ -73,6 +73,31 @@ pub enum PoleSet {
     Uncertain,
 }
 
+impl PoleSet {
+    /// The set's name in the pole map's legend.
+    pub fn legend_label(self) -> &'static str {
+        match self {
+            PoleSet::OpenLoop => "open loop",
+            PoleSet::NotAssigned => "not assignable",
+            PoleSet::ClosedLoop => "closed loop",
+            PoleSet::Observer => "observer",
+            PoleSet::Requested => "requested (drag)",
+            PoleSet::Pinned => "pinned design",
+            PoleSet::Uncertain => "uncertain plant (sample)",
+        }
+    }
+}
+
+/// Width assumed for a legend label when laying out the pole map (7 px a character, a little
+/// more than the page's 12 px sans-serif takes), so that the frame that maps the pointer and the
+/// drawing agree without measuring text.
+pub fn approximate_label_width(label: &str) -> f64 {
+    7.0 * label.chars().count() as f64
+}
+
+/// Where the legend may start: right of the axis title (`Im s`, `Im z`).
+const POLE_LEGEND_LEFT_PX: f64 = 8.0 + 7.0 * 4.0 + 16.0;
+
 /// A picked marker.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct PolePick {
@@ -134,12 +159,13 @@ impl PoleMapScene {
     /// The frame the painter uses for a canvas of `outer` size: the fixed [`view`](Self::view)
     /// when set (with equal scale restored for this canvas), else fitted to every layer.
     pub fn frame(&self, outer: Rect) -> Frame {
+        let margins = self.margins(outer);
         if let Some([x0, x1, y0, y1]) = self.view.filter(|v| v.iter().all(|x| x.is_finite()) && v[1] > v[0] && v[3] > v[2]) {
-            let plot = outer.inset(Margins::STANDARD);
+            let plot = outer.inset(margins);
             let (re, im) = (Range { min: x0, max: x1 }, Range { min: y0, max: y1 });
             let upp = (re.span() / plot.width).max(im.span() / plot.height);
             if upp.is_finite() && upp > 0.0 {
-                return Frame::new(outer, Margins::STANDARD, re.with_min_span(upp * plot.width), im.with_min_span(upp * plot.height));
+                return Frame::new(outer, margins, re.with_min_span(upp * plot.width), im.with_min_span(upp * plot.height));
             }
         }
         let all: Vec<[f64; 2]> = self
@@ -148,15 +174,45 @@ impl PoleMapScene {
             .flat_map(|(_, pts)| pts.iter().copied())
             .collect();
         if self.fit_poles && all.iter().any(|p| p[0].is_finite() && p[1].is_finite()) {
-            return Frame::complex_region(outer, Margins::STANDARD, &all, POLE_MAP_PADDING);
+            return Frame::complex_region(outer, margins, &all, POLE_MAP_PADDING);
         }
         Frame::complex_plane(
             outer,
-            Margins::STANDARD,
+            margins,
             &all,
             self.discrete,
             POLE_MAP_PADDING,
         )
+    }
+
+    /// The legend's entries in order: the stable region, the admissible region's boundary
+    /// (when there is one), then every marker set that has markers.
+    pub fn legend_labels(&self) -> Vec<&'static str> {
+        let mut out = vec![if self.discrete { "stable: |z| < 1" } else { "stable region" }];
+        if self.region.is_some() {
+            out.push("admissible boundary");
+        }
+        out.extend(self.layers().iter().filter(|(_, pts)| !pts.is_empty()).map(|(set, _)| set.legend_label()));
+        out
+    }
+
+    /// The legend flowed into rows above the plot (see [`flow_legend`]) for a map of width
+    /// `outer.width`: per entry its row and x (from [`Self::legend_left`]).
+    pub fn legend_flow(&self, outer: Rect) -> Vec<(usize, f64)> {
+        let widths: Vec<f64> = self.legend_labels().iter().map(|l| approximate_label_width(l)).collect();
+        let right = outer.x + outer.width - Margins::STANDARD.right;
+        flow_legend(&widths, (right - self.legend_left(outer)).max(LEGEND_SWATCH_PX + 40.0))
+    }
+
+    /// Left end of the legend rows.
+    pub fn legend_left(&self, outer: Rect) -> f64 {
+        outer.x + POLE_LEGEND_LEFT_PX
+    }
+
+    /// The standard margins with room for the legend's rows above the plot.
+    fn margins(&self, outer: Rect) -> Margins {
+        let rows = self.legend_flow(outer).iter().map(|(r, _)| r + 1).max().unwrap_or(1);
+        Margins { top: Margins::STANDARD.top + rows.clamp(1, 6).saturating_sub(1) as f64 * LEGEND_ROW_PX, ..Margins::STANDARD }
     }
 
     /// The unit circle in pixels (`[centre x, centre y, radius]`) for a discrete map.
@@ -202,6 +258,8 @@ pub struct Series {
     pub colour: Option<usize>,
     /// Dash pattern slot: 0 solid, 1 dashed, 2 dotted, 3 dash-dot (default: from the position).
     pub dash: Option<usize>,
+    /// A sampled signal held between samples (zero-order hold): drawn as a staircase.
+    pub hold: bool,
 }
 
 /// A vertical marker at a moment of interest (a reference or load step).

@@ -1,0 +1,150 @@
+// The workbench layout and the display numbers, measured in the page (headless Chromium).
+//
+// One view: at 1440 × 900, 1280 × 800 and 1024 × 768, after the Targets section is opened from
+// the section links, the pole field, the gain table, the pole map and the response canvas are
+// all inside the window at once, and the page itself does not scroll. No table is clipped: a
+// table wider than its box sits in a box that scrolls sideways, with its row labels kept in view.
+// Readable numbers: no page text carries a Rust type name or more digits than chosen.
+
+import { test, after, describe } from 'node:test';
+import assert from 'node:assert/strict';
+import { withPage, closeBrowser, pageFileUrl, requireBuiltPage, readGain } from './harness.mjs';
+
+requireBuiltPage();
+after(closeBrowser);
+
+const VIEWPORTS = [
+  { width: 1440, height: 900 },
+  { width: 1280, height: 800 },
+  { width: 1024, height: 768 },
+];
+
+async function loadDemo(page, index) {
+  await page.selectOption('#pw-demo', String(index));
+  await page.click('#pw-load-demo');
+  await page.waitForFunction(() => /^Designed/.test(document.getElementById('pw-status').textContent));
+}
+
+async function box(page, id) {
+  const b = await page.locator(`#${id}`).boundingBox();
+  assert.ok(b, `#${id} has no box (hidden?)`);
+  return b;
+}
+
+describe('workbench layout', () => {
+  test('one view: pole field, gain, pole map and a response inside the window at three sizes', async () => {
+    let checked = 0;
+    for (const viewport of VIEWPORTS) {
+      for (const demo of [0, 1]) {
+        await withPage(pageFileUrl, async ({ page, pageErrors, consoleErrors }) => {
+          await loadDemo(page, demo);
+          await page.click('.section-nav a[href="#pw-targets-section"]');
+          // The section link unfolds the section and scrolls the form pane, not the page.
+          await page.waitForFunction(() => {
+            const r = document.getElementById('pw-poles').getBoundingClientRect();
+            return r.top >= 0 && r.bottom <= window.innerHeight;
+          });
+          for (const id of ['pw-poles', 'pw-gain-table', 'pw-pole-map', 'pw-overview-plot']) {
+            const b = await box(page, id);
+            const where = `#${id} at ${viewport.width} × ${viewport.height} (demo ${demo}): ${JSON.stringify(b)}`;
+            assert.ok(b.width > 50 && b.height > 20, where);
+            assert.ok(b.x >= 0 && b.y >= 0, where);
+            assert.ok(b.x + b.width <= viewport.width + 0.5 && b.y + b.height <= viewport.height + 0.5, where);
+          }
+          // The page itself does not scroll: each pane scrolls on its own.
+          const scroll = await page.evaluate(() => [document.documentElement.scrollHeight, document.documentElement.scrollWidth]);
+          assert.ok(scroll[0] <= viewport.height && scroll[1] <= viewport.width, `page scrolls: ${scroll}`);
+          // The response beside the map is drawn and named.
+          assert.match(await page.textContent('#pw-overview-caption'), /Free response|Loop simulation/);
+          assert.deepEqual([...pageErrors, ...consoleErrors], []);
+          checked += 1;
+        }, { viewport });
+      }
+    }
+    assert.equal(checked, 6);
+  });
+
+  test('no table is clipped: wide tables scroll in their own box and keep their row labels in view', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      await loadDemo(page, 1);
+      await page.check('#pw-pole-zoom');
+      const report = await page.evaluate(() => [...document.querySelectorAll('table')].filter((t) => t.offsetParent !== null).map((t) => {
+        const wrap = t.parentElement;
+        const style = getComputedStyle(wrap);
+        const rowHeader = t.querySelector('tbody th');
+        return {
+          id: wrap.id || wrap.className,
+          wider: t.scrollWidth > wrap.clientWidth + 1,
+          scrolls: ['auto', 'scroll'].includes(style.overflowX),
+          sticky: rowHeader ? getComputedStyle(rowHeader).position === 'sticky' : null,
+        };
+      }));
+      assert.ok(report.length >= 5, JSON.stringify(report));
+      const wide = report.filter((r) => r.wider);
+      for (const r of wide) {
+        assert.ok(r.scrolls, `table in ${r.id} is wider than its box and the box does not scroll`);
+        if (r.sticky !== null) assert.ok(r.sticky, `table in ${r.id} scrolls without keeping its row labels`);
+      }
+      // At 1024 px the two-input gain table (4 states) is wider than its box: the case is tested.
+      assert.ok(wide.some((r) => r.id === 'pw-gain-table'), JSON.stringify(report));
+    }, { viewport: { width: 1024, height: 768 } });
+  });
+
+  test('form sections fold and unfold; a field error unfolds its section', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      const toggle = '#pw-plant-heading .section-toggle';
+      await page.click(toggle);
+      assert.equal(await page.getAttribute(toggle, 'aria-expanded'), 'false');
+      assert.equal(await page.isVisible('#pw-a'), false);
+      // An error in a folded section (set from outside, as a loaded file or an undo could)
+      // unfolds it so that the message naming the field is seen.
+      await page.evaluate(() => {
+        const a = document.getElementById('pw-a');
+        a.value = '0 1\n0 zero';
+        a.dispatchEvent(new Event('input', { bubbles: true }));
+      });
+      await page.waitForFunction(() => !document.getElementById('pw-a-error').hidden);
+      assert.equal(await page.isVisible('#pw-a'), true);
+      assert.equal(await page.getAttribute(toggle, 'aria-expanded'), 'true');
+      assert.match(await page.textContent('#pw-a-error'), /zero/);
+    }, { viewport: { width: 1280, height: 800 } });
+  });
+});
+
+describe('readable numbers', () => {
+  test('no page text names a Rust type or shows more digits than chosen; copies keep full precision', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      for (const demo of [0, 1, 2]) {
+        await loadDemo(page, demo);
+        for (const digits of ['5', '3']) {
+          await page.selectOption('#pw-digits', digits);
+          await page.waitForFunction(() => /^Designed/.test(document.getElementById('pw-status').textContent));
+          const text = await page.evaluate(() => {
+            // Shown text only: not the copyable full-precision blocks, the form's own fields,
+            // the hidden record or the caution.
+            const skip = new Set(['pw-gain-text', 'pw-controller-text', 'pw-obs-text', 'pw-record']);
+            const parts = [];
+            for (const el of document.querySelectorAll('.outputs td, .outputs li, .outputs p, .outputs figcaption, .outputs code')) {
+              if ([...skip].some((id) => el.closest(`#${id}`))) continue;
+              if (el.closest('[hidden]')) continue;
+              parts.push(el.textContent);
+            }
+            return parts.join('\n');
+          });
+          assert.doesNotMatch(text, /[A-Z][a-z]+[A-Z][a-z]+ \{|\{ [a-z_]+: |[A-Z][a-z]+\([A-Z][a-z]+/, 'a Rust debug text');
+          // No number with more significant digits than chosen (a decimal mantissa).
+          const numbers = text.match(/\d+\.\d+/g) || [];
+          const tooLong = numbers.filter((n) => n.replace('.', '').replace(/^0+/, '').length > Number(digits));
+          assert.deepEqual(tooLong, [], `demo ${demo}, ${digits} digits`);
+          assert.ok(numbers.length > 10, `demo ${demo}: only ${numbers.length} decimals found`);
+        }
+        // The copied gain keeps full precision whatever is shown.
+        const k = await readGain(page);
+        const full = await page.textContent('#pw-gain-text');
+        assert.ok(k.flat().every(Number.isFinite));
+        assert.ok(full.split(/\s+/).some((t) => /\d\.\d{8,}/.test(t)), full);
+        await page.selectOption('#pw-digits', '5');
+      }
+    }, { viewport: { width: 1280, height: 800 } });
+  });
+});
