@@ -97,17 +97,7 @@ fn norm2(m: &DMatrix<f64>) -> f64 {
 
 /// Checks one report against one side (controllability or observability) of a fixture case.
 #[allow(clippy::too_many_arguments)]
-fn check_report(
-    name: &str,
-    side: &str,
-    a: &DMatrix<f64>,
-    report: &ModalReport,
-    modes: &Value,
-    rank: &Value,
-    hidden: &Value,
-    stable: &Value,
-    failures: &mut Vec<String>,
-) {
+fn check_report(name: &str, side: &str, a: &DMatrix<f64>, report: &ModalReport, modes: &Value, rank: &Value, hidden: &Value, stable: &Value, failures: &mut Vec<String>) {
     let n = a.nrows();
     let params = AnalysisParams::default();
     let fail = |failures: &mut Vec<String>, msg: String| failures.push(format!("{name} [{side}]: {msg}"));
@@ -181,7 +171,10 @@ fn check_report(
             // Reference margin at rounding level (an exactly hidden mode): ours must also be
             // below the analysis' rank tolerance (1e-10 relative), as the fixture's is.
             if !(ours.unscaled_margin <= params.relative_tolerance && ours.margin <= params.relative_tolerance && want <= params.relative_tolerance) {
-                fail(failures, format!("margin of {}: ours {:.2e} (balanced {:.2e}), numpy {want:.2e}, all should be ≤ {:.0e}", ours.pole, ours.unscaled_margin, ours.margin, params.relative_tolerance));
+                fail(
+                    failures,
+                    format!("margin of {}: ours {:.2e} (balanced {:.2e}), numpy {want:.2e}, all should be ≤ {:.0e}", ours.pole, ours.unscaled_margin, ours.margin, params.relative_tolerance),
+                );
             }
             // The verdict must not claim the mode is comfortably reachable.
             if ours.verdict == ModeVerdict::Yes {

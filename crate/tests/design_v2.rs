@@ -275,10 +275,7 @@ fn delay_poles_at_the_origin_are_not_reported_as_misplaced() {
     assert!(!r.warnings.iter().any(|w| w.code == "placement-inaccurate"), "{:?}", r.warnings);
     // LQR by Bryson weights on the same pair also puts the delay pole at the origin; the
     // sample-rate advice must come from the plant's poles, not from s = ln(1e-15) / T.
-    let lqr = design(&format!(
-        r#"{plant}, "feedback": {{"lqr": {{"bryson": {{"max_state": [0.01, 0.5, 0.01, 0.5, 60], "max_input": [60]}}}}}}"#
-    ))
-    .unwrap();
+    let lqr = design(&format!(r#"{plant}, "feedback": {{"lqr": {{"bryson": {{"max_state": [0.01, 0.5, 0.01, 0.5, 60], "max_input": [60]}}}}}}"#)).unwrap();
     assert!(!lqr.warnings.iter().any(|w| w.code == "placement-inaccurate" || w.code == "sample-rate-too-slow"), "{:?}", lqr.warnings);
     let advice = lqr.sample_rate.as_ref().expect("digital design has advice");
     // The slowest-to-fastest plant-pole bandwidth stays far below the 1 kHz sample rate.
@@ -363,11 +360,7 @@ fn margins_of_the_loop_as_built_through_the_design_path() {
     // 180° − 3 atan(ω_c) at ω_c = √(2^{2/3} − 1) (by hand).
     let roots = polewright::linalg::eigen::try_eigenvalues(&nalgebra::DMatrix::from_row_slice(3, 3, &[0.0, 1.0, 0.0, 0.0, 0.0, 1.0, -3.0, -3.0, -3.0])).unwrap();
     let poles: Vec<String> = roots.iter().map(|z| format!("[{:e}, {:e}]", z.re, z.im)).collect();
-    let r = design(&format!(
-        r#""plant": {{"a": [[-1, 1, 0], [0, -1, 1], [0, 0, -1]], "b": [[0], [0], [1]]}}, "feedback": {{"poles": [{}]}}"#,
-        poles.join(", ")
-    ))
-    .unwrap();
+    let r = design(&format!(r#""plant": {{"a": [[-1, 1, 0], [0, -1, 1], [0, 0, -1]], "b": [[0], [0], [1]]}}, "feedback": {{"poles": [{}]}}"#, poles.join(", "))).unwrap();
     let k = &r.feedback.gain[0];
     assert!((k[0] - 2.0).abs() < 1e-9 && k[1].abs() < 1e-9 && k[2].abs() < 1e-9, "{k:?}");
     let m = r.margins.as_ref().expect("margins");
@@ -395,7 +388,9 @@ fn lqr_loops_keep_the_guaranteed_disk_margin() {
     let mut worst = f64::INFINITY;
     for case in 0..60 {
         let n = 2 + case % 4;
-        let rows = |r: usize, c: usize, f: &mut dyn FnMut() -> f64| format!("[{}]", (0..r).map(|_| format!("[{}]", (0..c).map(|_| format!("{:.6}", f())).collect::<Vec<_>>().join(", "))).collect::<Vec<_>>().join(", "));
+        let rows = |r: usize, c: usize, f: &mut dyn FnMut() -> f64| {
+            format!("[{}]", (0..r).map(|_| format!("[{}]", (0..c).map(|_| format!("{:.6}", f())).collect::<Vec<_>>().join(", "))).collect::<Vec<_>>().join(", "))
+        };
         let a = rows(n, n, &mut next);
         let b = rows(n, 1, &mut next);
         let q = format!("[{}]", (0..n).map(|i| format!("[{}]", (0..n).map(|j| if i == j { "1" } else { "0" }).collect::<Vec<_>>().join(", "))).collect::<Vec<_>>().join(", "));

@@ -168,7 +168,12 @@ fn compile_and_run(doc: &str, precision: Precision, tag: &str) -> Run {
 fn design_values(doc: &str) -> Vec<(String, Vec<f64>)> {
     let json = export_text(doc, ExportFormat::Json, Precision::Double).unwrap();
     let v: serde_json::Value = serde_json::from_str(&json[0].contents).unwrap();
-    v["matrices"].as_object().unwrap().iter().map(|(k, m)| (k.to_uppercase(), m["data"].as_array().unwrap().iter().flat_map(|r| r.as_array().unwrap().iter().map(|x| x.as_f64().unwrap())).collect())).collect()
+    v["matrices"]
+        .as_object()
+        .unwrap()
+        .iter()
+        .map(|(k, m)| (k.to_uppercase(), m["data"].as_array().unwrap().iter().flat_map(|r| r.as_array().unwrap().iter().map(|x| x.as_f64().unwrap())).collect()))
+        .collect()
 }
 
 fn check_values(doc: &str, run: &Run, precision: Precision, tag: &str) {
@@ -218,7 +223,12 @@ fn c_export_compiles_prints_the_design_and_reproduces_the_simulation() {
                         Precision::Float => 1e-3,
                         Precision::Q15 | Precision::Q31 => unreachable!("floating-point exports only here"),
                     };
-                    eprintln!("{label}: {rows} samples, command error {:.1e} (of {cmd_scale:.3}), estimate {:.1e}, integrator {:.1e}", cmd_err / cmd_scale.max(1e-300), est_err / est_scale.max(1e-300), z_err / z_scale.max(1e-300));
+                    eprintln!(
+                        "{label}: {rows} samples, command error {:.1e} (of {cmd_scale:.3}), estimate {:.1e}, integrator {:.1e}",
+                        cmd_err / cmd_scale.max(1e-300),
+                        est_err / est_scale.max(1e-300),
+                        z_err / z_scale.max(1e-300)
+                    );
                     assert!(cmd_err <= tol * cmd_scale.max(1e-12), "{label}: command error {cmd_err:e} of {cmd_scale}");
                     assert!(est_err <= tol * est_scale.max(1e-12), "{label}: estimate error {est_err:e} of {est_scale}");
                     assert!(z_err <= tol * z_scale.max(1e-12), "{label}: integrator error {z_err:e} of {z_scale}");

@@ -71,13 +71,9 @@ fn double_integrator() -> FormInput {
 
 #[test]
 fn each_pattern_gives_the_design_files_poles() {
-    for (family, normalisation, band, file_band) in [
-        ("bessel", "", "", 0.02),
-        ("bessel", "unit_group_delay", "5", 0.05),
-        ("bessel", "half_power_at_unit_frequency", "1", 0.01),
-        ("butterworth", "", "", 0.02),
-        ("itae", "", "5", 0.05),
-    ] {
+    for (family, normalisation, band, file_band) in
+        [("bessel", "", "", 0.02), ("bessel", "unit_group_delay", "5", 0.05), ("bessel", "half_power_at_unit_frequency", "1", 0.01), ("butterworth", "", "", 0.02), ("itae", "", "5", 0.05)]
+    {
         let mut f = textbook();
         f.pole_source = "pattern".into();
         f.pattern_family = family.into();
@@ -120,7 +116,10 @@ fn bessel_and_butterworth_poles_have_their_published_shape() {
     let mut angles: Vec<f64> = poles.iter().map(|p| p.arg()).collect();
     angles.sort_by(f64::total_cmp);
     let n = 3.0;
-    let mut want: Vec<f64> = (1..=3).map(|k| std::f64::consts::PI / 2.0 + (2 * k - 1) as f64 * std::f64::consts::PI / (2.0 * n)).map(|a| if a > std::f64::consts::PI { a - 2.0 * std::f64::consts::PI } else { a }).collect();
+    let mut want: Vec<f64> = (1..=3)
+        .map(|k| std::f64::consts::PI / 2.0 + (2 * k - 1) as f64 * std::f64::consts::PI / (2.0 * n))
+        .map(|a| if a > std::f64::consts::PI { a - 2.0 * std::f64::consts::PI } else { a })
+        .collect();
     want.sort_by(f64::total_cmp);
     for (p, (a, b)) in poles.iter().zip(angles.iter().zip(&want)) {
         assert!((p.norm() - w).abs() < 1e-12 * w && (a - b).abs() < 1e-12, "{poles:?}");
@@ -464,8 +463,10 @@ fn blank_new_fields_give_todays_design() {
     assert!(blank.report.as_ref().unwrap().pole_choice.is_none());
     assert!(scene_has_no_region(&blank));
     // Today's design: the version-1 file with the default band.
-    let v1 = run_text(r#"{"format": "polewright.design", "version": 1, "plant": {"a": [[0,1,0],[0,0,1],[-1,-5,-6]], "b": [0,0,1]},
-        "feedback": {"poles": ["-2±4j", -10]}, "actuators": {"limit": [100]}}"#)
+    let v1 = run_text(
+        r#"{"format": "polewright.design", "version": 1, "plant": {"a": [[0,1,0],[0,0,1],[-1,-5,-6]], "b": [0,0,1]},
+        "feedback": {"poles": ["-2±4j", -10]}, "actuators": {"limit": [100]}}"#,
+    )
     .unwrap();
     let d = blank.design.as_ref().unwrap();
     same_design(d, &v1);
@@ -606,8 +607,44 @@ fn each_bad_input_is_an_error_of_its_own_field() {
 
 #[test]
 fn hostile_text_in_the_pole_choice_fields_never_panics() {
-    let samples = ["", "x", "-1", "0", "1e999", "nan", "±", "1, 2, 3", "[1]", "\u{feff}", "true", "on", "5", "2", "bessel", "itae", "lqr", "pattern", "specification", "unit_group_delay", "1e-300", "1e300", "99999999999999999999"];
-    let keys = ["pole_source", "pattern_family", "pattern_normalisation", "pattern_settling_time", "spec_overshoot", "spec_settling_time", "spec_rise_time", "settling_band", "lqr_max_state", "lqr_max_input", "search"];
+    let samples = [
+        "",
+        "x",
+        "-1",
+        "0",
+        "1e999",
+        "nan",
+        "±",
+        "1, 2, 3",
+        "[1]",
+        "\u{feff}",
+        "true",
+        "on",
+        "5",
+        "2",
+        "bessel",
+        "itae",
+        "lqr",
+        "pattern",
+        "specification",
+        "unit_group_delay",
+        "1e-300",
+        "1e300",
+        "99999999999999999999",
+    ];
+    let keys = [
+        "pole_source",
+        "pattern_family",
+        "pattern_normalisation",
+        "pattern_settling_time",
+        "spec_overshoot",
+        "spec_settling_time",
+        "spec_rise_time",
+        "settling_band",
+        "lqr_max_state",
+        "lqr_max_input",
+        "search",
+    ];
     let mut pattern = double_integrator();
     pattern.c = "1 0".into();
     pattern.limits = "8".into();

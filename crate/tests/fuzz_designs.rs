@@ -30,11 +30,23 @@ impl Rng {
 /// A number as JSON text: usually moderate, sometimes an abuse.
 fn number(rng: &mut Rng, moderate: &mut bool) -> String {
     match rng.below(40) {
-        0 => { *moderate = false; "1e150".into() }
-        1 => { *moderate = false; "-1e200".into() }
-        2 => { *moderate = false; "1e-160".into() }
+        0 => {
+            *moderate = false;
+            "1e150".into()
+        }
+        1 => {
+            *moderate = false;
+            "-1e200".into()
+        }
+        2 => {
+            *moderate = false;
+            "1e-160".into()
+        }
         3 => "0".into(),
-        4 => { *moderate = false; "1e10".into() }
+        4 => {
+            *moderate = false;
+            "1e10".into()
+        }
         _ => format!("{:.3}", 6.0 * rng.unit() - 3.0),
     }
 }
@@ -50,7 +62,10 @@ fn poles_text(rng: &mut Rng, n: usize) -> (String, bool) {
     let centre = -(0.3 + 3.0 * rng.unit());
     while items.len() < n {
         let re = match rng.below(12) {
-            0 => { stable = false; 0.5 }
+            0 => {
+                stable = false;
+                0.5
+            }
             1 => centre - 1e-12 * rng.unit(),
             _ => centre - rng.unit(),
         };

@@ -180,7 +180,9 @@ fn integral_action_rejects_a_constant_load_where_feedforward_does_not() {
     // action drives the tracking error to zero; feedforward alone leaves an offset.
     let f = fixture("loop.json");
     let cases = f["cases"].as_array().unwrap();
-    for (ff, int) in [("plant-n3-m1-continuous-observer-feedforward", "plant-n3-m1-continuous-observer-integral"), ("plant-n4-m2-continuous-observer-feedforward", "plant-n4-m2-continuous-observer-integral")] {
+    for (ff, int) in
+        [("plant-n3-m1-continuous-observer-feedforward", "plant-n3-m1-continuous-observer-integral"), ("plant-n4-m2-continuous-observer-feedforward", "plant-n4-m2-continuous-observer-integral")]
+    {
         let get = |name: &str| build(cases.iter().find(|c| c["name"] == name).unwrap_or_else(|| panic!("{name}")));
         let (cf, ci) = (get(ff), get(int));
         let (rf, ri) = (run(&cf), run(&ci));

@@ -188,7 +188,16 @@ fn closing_the_built_loop_gives_controller_and_observer_poles() {
     }
     // A computation delay with K_u: the poles of the augmented pair [Φ Γ; 0 0] − [0; I][K K_u].
     let ku = DMatrix::from_fn(m, m, |_, _| 0.2 * rng.normal());
-    let ctrl = LoopController { k: k.clone(), k_delay: Some(ku.clone()), observer: None, observer_form: ObserverForm::Predictor, current_gain: None, tracking: TrackingLaw::None, tracked_outputs: Vec::new(), sample_time: Some(0.1) };
+    let ctrl = LoopController {
+        k: k.clone(),
+        k_delay: Some(ku.clone()),
+        observer: None,
+        observer_form: ObserverForm::Predictor,
+        current_gain: None,
+        tracking: TrackingLaw::None,
+        tracked_outputs: Vec::new(),
+        sample_time: Some(0.1),
+    };
     let l = plant_input_loop(&plant, &ctrl).unwrap();
     let mut aug = DMatrix::<f64>::zeros(n + m, n + m);
     aug.view_mut((0, 0), (n, n)).copy_from(&phi);
@@ -266,7 +275,6 @@ fn doyles_observer_based_loop_has_a_narrow_gain_interval() {
     // The disk's gain range lies inside the classical interval.
     assert!(r.disk_gain_range[0] >= lo - 1e-9 && r.disk_gain_range[1] <= hi + 1e-9);
 }
-
 
 #[test]
 fn spinning_body_is_fragile_to_simultaneous_perturbations() {

@@ -7,8 +7,8 @@
 //! (`placement_vs_scipy.rs`, `riccati_vs_scipy.rs`, `loop_vs_scipy.rs`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
-use std::process::{Command, Stdio};
 use std::io::Write;
+use std::process::{Command, Stdio};
 
 use polewright::design::{self, check, read_design, write_design, DesignError, DesignSpec, FieldPath};
 use polewright::form::{evaluate_form, form_from_spec, spec_from_form, FormInput, FormStatus};
@@ -108,7 +108,13 @@ impl Rng {
 
 /// The kinds of corruption, and whether the file must then be refused.
 fn corrupt(text: &str, kind: usize, rng: &mut Rng) -> (String, bool) {
-    let keys: Vec<(usize, usize)> = text.match_indices('"').collect::<Vec<_>>().chunks(2).filter_map(|c| if c.len() == 2 { Some((c[0].0, c[1].0 + 1)) } else { None }).filter(|(a, b)| text[*b..].trim_start().starts_with(':') && b > a).collect();
+    let keys: Vec<(usize, usize)> = text
+        .match_indices('"')
+        .collect::<Vec<_>>()
+        .chunks(2)
+        .filter_map(|c| if c.len() == 2 { Some((c[0].0, c[1].0 + 1)) } else { None })
+        .filter(|(a, b)| text[*b..].trim_start().starts_with(':') && b > a)
+        .collect();
     match kind {
         // Truncation anywhere before the final brace.
         0 => {

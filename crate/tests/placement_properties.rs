@@ -420,7 +420,11 @@ fn faster_poles_cost_more_control_effort() {
         log_gain_ratio += (k2 / k1).ln();
         log_peak_ratio += (u2 / u1).ln();
     }
-    println!("doubling the poles raised ‖K‖ on {gain_up}/{PLANTS} plants and peak ‖Kx‖ on {peak_up}/{PLANTS}; geometric-mean ratios {:.2}, {:.2}", (log_gain_ratio / PLANTS as f64).exp(), (log_peak_ratio / PLANTS as f64).exp());
+    println!(
+        "doubling the poles raised ‖K‖ on {gain_up}/{PLANTS} plants and peak ‖Kx‖ on {peak_up}/{PLANTS}; geometric-mean ratios {:.2}, {:.2}",
+        (log_gain_ratio / PLANTS as f64).exp(),
+        (log_peak_ratio / PLANTS as f64).exp()
+    );
     assert!(log_gain_ratio > 0.0 && log_peak_ratio > 0.0, "on average, faster poles did not cost more");
     assert!(gain_up >= REQUIRED, "‖K‖ grew on only {gain_up} of {PLANTS} plants (need {REQUIRED})");
     assert!(peak_up >= REQUIRED, "peak ‖K x(t)‖ grew on only {peak_up} of {PLANTS} plants (need {REQUIRED})");
@@ -755,7 +759,6 @@ fn duplicated_input_column_lowers_the_rank_and_still_places() {
     }
     assert!(failures.is_empty(), "{} failures:\n{}", failures.len(), failures.join("\n"));
 }
-
 
 #[test]
 fn request_that_cannot_be_split_around_the_fixed_modes() {

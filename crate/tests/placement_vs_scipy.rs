@@ -61,7 +61,16 @@ fn placement_matches_or_beats_scipy_on_every_fixture() {
                 failures.push(format!("{name}: single-input K differs from scipy by {rel:.3e} relative"));
             }
         }
-        report.push(format!("{name}: err {:.1e} (scipy {:.1e}), κ {:.4e} (scipy {:.4e}), det {:.4e} (scipy {:.4e}) sweeps {}", p.max_pole_error, scipy_err, p.eigenvector_condition, scipy_kappa, p.abs_det_x, f64_of(&case["scipy"]["abs_det_x"]), p.iterations));
+        report.push(format!(
+            "{name}: err {:.1e} (scipy {:.1e}), κ {:.4e} (scipy {:.4e}), det {:.4e} (scipy {:.4e}) sweeps {}",
+            p.max_pole_error,
+            scipy_err,
+            p.eigenvector_condition,
+            scipy_kappa,
+            p.abs_det_x,
+            f64_of(&case["scipy"]["abs_det_x"]),
+            p.iterations
+        ));
     }
     if !failures.is_empty() {
         panic!("{} of {} fixtures failed:\n{}\n\nall:\n{}", failures.len(), cases.len(), failures.join("\n"), report.join("\n"));

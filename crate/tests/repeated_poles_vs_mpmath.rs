@@ -86,7 +86,9 @@ fn deadbeat_through_the_design_path() {
         let n = c["n"].as_u64().unwrap() as usize;
         let doc = format!(
             r#"{{"format": "polewright.design", "version": 3, "plant": {{"a": {}, "b": {}, "sample_time": 0.01}}, "feedback": {{"poles": {}, "plane": "z"}}}}"#,
-            c["a"], c["b"], serde_json::json!(vec![0.0; n])
+            c["a"],
+            c["b"],
+            serde_json::json!(vec![0.0; n])
         );
         let r = polewright::design::run_text(&doc).unwrap_or_else(|e| panic!("{}: {e}", c["name"]));
         assert!(r.warnings.iter().any(|w| w.code == "deadbeat"), "{}: {:?}", c["name"], r.warnings);

@@ -121,7 +121,13 @@ fn riccati_matches_scipy_and_closed_forms() {
         if !((design.residual - ours).abs() <= 0.5 * ours.max(design.residual) + 4.0 * (n as f64) * eps) {
             failures.push(format!("{name}: reported residual {:.3e} vs recomputed {ours:.3e}", design.residual));
         }
-        let r_ratio = if scipy_residual > 0.0 { ours / scipy_residual } else if ours == 0.0 { 0.0 } else { f64::INFINITY };
+        let r_ratio = if scipy_residual > 0.0 {
+            ours / scipy_residual
+        } else if ours == 0.0 {
+            0.0
+        } else {
+            f64::INFINITY
+        };
         if r_ratio > summary.worst_ratio.0 {
             summary.worst_ratio = (r_ratio, name.to_string());
         }
@@ -176,12 +182,7 @@ fn riccati_matches_scipy_and_closed_forms() {
             if !(err <= tol) {
                 failures.push(format!("{name}: ‖X − X_exact‖/‖X_exact‖ = {:.3e} > {:.3e}", err / xe.norm(), tol / xe.norm()));
             }
-            line.push_str(&format!(
-                " | exact {:.1e} ≤ {:.1e} (scipy {:.1e})",
-                err / xe.norm(),
-                tol / xe.norm(),
-                f64_of(&scipy["relative_error_vs_exact"])
-            ));
+            line.push_str(&format!(" | exact {:.1e} ≤ {:.1e} (scipy {:.1e})", err / xe.norm(), tol / xe.norm(), f64_of(&scipy["relative_error_vs_exact"])));
             exact_checked += 1;
         }
         report.push(line);

@@ -39,10 +39,8 @@ fn digital_search_of_a_first_order_plant_has_the_closed_form() {
 fn digital_search_with_a_computation_delay_keeps_the_delay_pole() {
     // The delay state's pole stays at z = 0 while the plant's are scaled; the peak at the
     // factor found is 97–100 % of the limit or the result says why.
-    let r = run_text(&doc(
-        r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}, "feedback": {"poles": ["-1±1j"]}, "implementation": {"sample_time": 0.01, "computation_delay": true},
-           "actuators": {"limit": [8]}, "search": {"fastest_within_limits": true, "situations": [{"initial_state": [1, 0]}]}"#,
-    ))
+    let r = run_text(&doc(r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}, "feedback": {"poles": ["-1±1j"]}, "implementation": {"sample_time": 0.01, "computation_delay": true},
+           "actuators": {"limit": [8]}, "search": {"fastest_within_limits": true, "situations": [{"initial_state": [1, 0]}]}"#))
     .unwrap();
     let s = r.search.as_ref().expect("search");
     assert!((0.97..=1.0).contains(&s.peak_ratio) || s.shortfall.is_some(), "{} {:?}", s.peak_ratio, s.shortfall);

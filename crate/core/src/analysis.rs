@@ -353,7 +353,11 @@ fn report_in_range(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -
     let anorm_bal = try_norm2(&a_bal, SvdParams::default())?;
     let b_pbh = DMatrix::from_fn(n, m, |i, j| {
         let c = b_bal.column(j).norm();
-        if c > 0.0 && anorm_bal > 0.0 { b_bal[(i, j)] * 2f64.powi((anorm_bal / c).log2().round() as i32) } else { b_bal[(i, j)] }
+        if c > 0.0 && anorm_bal > 0.0 {
+            b_bal[(i, j)] * 2f64.powi((anorm_bal / c).log2().round() as i32)
+        } else {
+            b_bal[(i, j)]
+        }
     });
     let mut ab_pbh = DMatrix::<f64>::zeros(n, n + m);
     ab_pbh.columns_mut(0, n).copy_from(&a_bal);
@@ -425,16 +429,7 @@ fn report_in_range(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -
     // a plant with ‖A‖₂ = 4e11 was called not strictly stable against 1e-10 ‖A‖₂).
     let floor = rounding_floor(params.domain, a);
     let stable_hidden_modes = hidden.iter().all(|z| params.domain.is_strictly_stable(*z, params.domain.mode_tolerance(params.relative_tolerance, *z, floor)));
-    Ok(ModalReport {
-        states: n,
-        rank: nc,
-        stable_hidden_modes,
-        modes,
-        hidden_modes: hidden,
-        tolerance: tol,
-        relative_tolerance: params.relative_tolerance,
-        consistent,
-    })
+    Ok(ModalReport { states: n, rank: nc, stable_hidden_modes, modes, hidden_modes: hidden, tolerance: tol, relative_tolerance: params.relative_tolerance, consistent })
 }
 
 /// Observability of `(a, c)`, by duality with controllability of `(aᵀ, cᵀ)`.

@@ -61,7 +61,9 @@ pub enum AntiWindup {
     /// Conditional integration: the integrator holds while any input is clipped.
     Clamp,
     /// Back-calculation: the integrator is driven by `−K_i⁺ (u_applied − u_cmd) / T_t`.
-    BackCalculation { time_constant: f64 },
+    BackCalculation {
+        time_constant: f64,
+    },
 }
 
 impl AntiWindup {
@@ -78,18 +80,30 @@ impl AntiWindup {
 #[derive(Debug, Clone, PartialEq)]
 pub enum ControllerError {
     /// Feedforward/integral tracking needs as many tracked outputs as inputs (or fewer, for integral).
-    TrackingShape { outputs: usize, inputs: usize },
+    TrackingShape {
+        outputs: usize,
+        inputs: usize,
+    },
     /// `[[A, B], [C, D]]` is singular: a plant zero at s = 0 (z = 1).
-    SingularTracking { smallest_singular_value: f64 },
+    SingularTracking {
+        smallest_singular_value: f64,
+    },
     /// The augmented (integral) plant is not controllable.
-    IntegralNotControllable { message: String },
+    IntegralNotControllable {
+        message: String,
+    },
     /// The observer cannot be designed: `cause` says whether the requested poles or the plant
     /// is to blame.
-    Observer { message: String, cause: ObserverFailure },
+    Observer {
+        message: String,
+        cause: ObserverFailure,
+    },
     Placement(PlacementError),
     Expm(ExpmError),
     /// The sample time is not a positive number.
-    BadSampleTime { value: f64 },
+    BadSampleTime {
+        value: f64,
+    },
 }
 
 /// Why an observer cannot be designed.
@@ -190,7 +204,13 @@ pub fn observer_gain(a: &DMatrix<f64>, c: &DMatrix<f64>, poles: &[Complex64], pa
 ///
 /// # Errors
 /// As [`observer_gain`].
-pub fn observer_gain_continued(a: &DMatrix<f64>, c: &DMatrix<f64>, poles: &[Complex64], params: PlacementParams, previous: Option<&crate::place::Eigenvectors>) -> Result<ObserverDesign, ControllerError> {
+pub fn observer_gain_continued(
+    a: &DMatrix<f64>,
+    c: &DMatrix<f64>,
+    poles: &[Complex64],
+    params: PlacementParams,
+    previous: Option<&crate::place::Eigenvectors>,
+) -> Result<ObserverDesign, ControllerError> {
     let (at, ct) = (a.transpose(), c.transpose());
     let placed = match previous.filter(|e| e.vectors.nrows() == a.nrows()) {
         Some(e) => crate::place::state_feedback_gain_continued(&at, &ct, poles, params, e),

@@ -77,7 +77,10 @@ pub struct LoopController {
 pub enum Noise {
     None,
     /// Seeded Gaussian noise per output with these standard deviations (digital only).
-    Gaussian { std: Vec<f64>, seed: u64 },
+    Gaussian {
+        std: Vec<f64>,
+        seed: u64,
+    },
     /// An explicit sequence `noise[output][sample]` (digital only; for tests).
     Given(Vec<Vec<f64>>),
 }
@@ -105,10 +108,19 @@ pub struct LoopScenario {
 /// Why a loop simulation could not run.
 #[derive(Debug, Clone, PartialEq)]
 pub enum LoopError {
-    Size { what: &'static str, expected: usize, found: usize },
-    BadTime { what: &'static str, value: f64 },
+    Size {
+        what: &'static str,
+        expected: usize,
+        found: usize,
+    },
+    BadTime {
+        what: &'static str,
+        value: f64,
+    },
     /// More samples than [`MAX_SAMPLES`].
-    TooManySamples { samples: f64 },
+    TooManySamples {
+        samples: f64,
+    },
     NoiseNeedsDigital,
     Expm(ExpmError),
 }
@@ -233,14 +245,7 @@ fn rows_of(c: &DMatrix<f64>, rows: &[usize]) -> DMatrix<f64> {
 ///
 /// # Errors
 /// See [`LoopError`].
-pub fn simulate_loop(
-    a: &DMatrix<f64>,
-    b: &DMatrix<f64>,
-    c: &DMatrix<f64>,
-    d: &DMatrix<f64>,
-    ctrl: &LoopController,
-    sc: &LoopScenario,
-) -> Result<LoopResponse, LoopError> {
+pub fn simulate_loop(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario) -> Result<LoopResponse, LoopError> {
     let n = a.nrows();
     let m = b.ncols();
     let q = ctrl.tracked_outputs.len();
@@ -294,14 +299,7 @@ fn step_value(values: &[f64], len: usize, time: f64, at: f64, eps: f64) -> DVect
 ///
 /// # Errors
 /// See [`LoopError`].
-pub fn simulate_sampled_loop(
-    phi: &DMatrix<f64>,
-    gamma: &DMatrix<f64>,
-    c: &DMatrix<f64>,
-    d: &DMatrix<f64>,
-    ctrl: &LoopController,
-    sc: &LoopScenario,
-) -> Result<LoopResponse, LoopError> {
+pub fn simulate_sampled_loop(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario) -> Result<LoopResponse, LoopError> {
     let t = ctrl.sample_time.ok_or(LoopError::BadTime { what: "the sample time", value: 0.0 })?;
     if !(t.is_finite() && t > 0.0) {
         return Err(LoopError::BadTime { what: "the sample time", value: t });
@@ -630,11 +628,7 @@ fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<
         let next = coarse.advance(&st, &limits, &s, &v, &r);
         // An input entered or left saturation during the step: redo it in fine sub-steps.
         let (_, clipped_next) = clip(&(&st.h * &next + &st.j * &r), &limits);
-        s = if clipped_next != clipped {
-            (0..SWITCH_SUBSTEPS).fold(s.clone(), |sub, _| fine.advance(&st, &limits, &sub, &v, &r))
-        } else {
-            next
-        };
+        s = if clipped_next != clipped { (0..SWITCH_SUBSTEPS).fold(s.clone(), |sub, _| fine.advance(&st, &limits, &sub, &v, &r)) } else { next };
         if !(s.norm() <= bound) {
             out.diverged = true;
             break;

@@ -82,25 +82,13 @@ pub enum MatrixParseError {
     /// The text contains no numbers at all.
     Empty,
     /// An entry that is not a number.
-    BadToken {
-        row: usize,
-        column: usize,
-        token: String,
-    },
+    BadToken { row: usize, column: usize, token: String },
     /// `nan`, `inf`, `infinity`, or a number too large to represent (such as `1e999`).
-    NotFinite {
-        row: usize,
-        column: usize,
-        token: String,
-    },
+    NotFinite { row: usize, column: usize, token: String },
     /// Two commas with nothing between them, or a comma at the start of a row.
     EmptyEntry { row: usize, column: usize },
     /// A row whose number of entries differs from the first row's.
-    RaggedRow {
-        row: usize,
-        expected: usize,
-        found: usize,
-    },
+    RaggedRow { row: usize, expected: usize, found: usize },
     /// A structural problem in JSON text, at a 1-based character position.
     Json { position: usize, message: String },
     /// [`parse_vector`] was given a matrix with at least two rows and two columns.
@@ -130,10 +118,7 @@ impl fmt::Display for MatrixParseError {
                      a decimal point and an optional exponent such as 1.5e-3"
                 )?;
                 if token.contains('\u{2212}') {
-                    write!(
-                        f,
-                        " (the character \u{2212} is a typographic minus; type the ordinary - key instead)"
-                    )?;
+                    write!(f, " (the character \u{2212} is a typographic minus; type the ordinary - key instead)")?;
                 }
                 Ok(())
             }
@@ -157,11 +142,7 @@ impl fmt::Display for MatrixParseError {
                 "row {row}, column {column} is empty (a comma with nothing before it); \
                  put a number there or remove the extra comma"
             ),
-            MatrixParseError::RaggedRow {
-                row,
-                expected,
-                found,
-            } => write!(
+            MatrixParseError::RaggedRow { row, expected, found } => write!(
                 f,
                 "row {row} has {found} {} but row 1 has {expected}; every row needs the \
                  same number of entries",
@@ -203,11 +184,7 @@ impl std::error::Error for MatrixParseError {}
 ///
 /// See the [module documentation](self) for the accepted grammar.
 pub fn parse_matrix(text: &str) -> Result<DMatrix<f64>, MatrixParseError> {
-    let Grid {
-        rows,
-        columns,
-        values,
-    } = parse_grid(text)?;
+    let Grid { rows, columns, values } = parse_grid(text)?;
     // from_row_slice asserts that the length matches; GridBuilder ensures it.
     Ok(DMatrix::from_row_slice(rows, columns, &values)) // invariant: values.len() == rows * columns
 }
@@ -221,10 +198,7 @@ pub fn parse_vector(text: &str) -> Result<Vec<f64>, MatrixParseError> {
         // Row-major storage of a single row or a single column is the vector itself.
         Ok(grid.values)
     } else {
-        Err(MatrixParseError::NotAVector {
-            rows: grid.rows,
-            columns: grid.columns,
-        })
+        Err(MatrixParseError::NotAVector { rows: grid.rows, columns: grid.columns })
     }
 }
 
@@ -256,11 +230,7 @@ pub fn decimal_comma_hint(text: &str) -> Option<String> {
 /// empty ones. For example `"x1, x2\nvelocity"` gives `["x1", "x2", "velocity"]`.
 pub fn parse_names(text: &str) -> Vec<String> {
     let text = strip_byte_order_mark(text);
-    text.split([',', '\n', '\r', '\t'])
-        .map(str::trim)
-        .filter(|name| !name.is_empty())
-        .map(String::from)
-        .collect()
+    text.split([',', '\n', '\r', '\t']).map(str::trim).filter(|name| !name.is_empty()).map(String::from).collect()
 }
 
 // ---------------------------------------------------------------------------
@@ -288,11 +258,7 @@ impl GridBuilder {
         match self.columns {
             None => self.columns = Some(entries.len()),
             Some(expected) if expected != entries.len() => {
-                return Err(MatrixParseError::RaggedRow {
-                    row,
-                    expected,
-                    found: entries.len(),
-                });
+                return Err(MatrixParseError::RaggedRow { row, expected, found: entries.len() });
             }
             Some(_) => {}
         }
@@ -303,11 +269,7 @@ impl GridBuilder {
 
     fn finish(self) -> Result<Grid, MatrixParseError> {
         match self.columns {
-            Some(columns) if columns > 0 && !self.values.is_empty() => Ok(Grid {
-                rows: self.rows,
-                columns,
-                values: self.values,
-            }),
+            Some(columns) if columns > 0 && !self.values.is_empty() => Ok(Grid { rows: self.rows, columns, values: self.values }),
             _ => Err(MatrixParseError::Empty),
         }
     }
@@ -346,9 +308,7 @@ enum NumberProblem {
 
 /// True for the words `nan`, `inf`, `infinity` in any case, with an optional sign.
 fn names_non_finite(token: &str) -> bool {
-    let unsigned = token
-        .strip_prefix(|c: char| c == '+' || c == '-')
-        .unwrap_or(token);
+    let unsigned = token.strip_prefix(|c: char| c == '+' || c == '-').unwrap_or(token);
     let lower = unsigned.to_ascii_lowercase();
     matches!(lower.as_str(), "nan" | "inf" | "infinity")
 }
@@ -377,16 +337,8 @@ fn shorten(token: &str) -> String {
 
 fn entry_value(token: &str, row: usize, column: usize) -> Result<f64, MatrixParseError> {
     parse_number(token).map_err(|problem| match problem {
-        NumberProblem::NotANumber => MatrixParseError::BadToken {
-            row,
-            column,
-            token: shorten(token),
-        },
-        NumberProblem::NotFinite => MatrixParseError::NotFinite {
-            row,
-            column,
-            token: shorten(token),
-        },
+        NumberProblem::NotANumber => MatrixParseError::BadToken { row, column, token: shorten(token) },
+        NumberProblem::NotFinite => MatrixParseError::NotFinite { row, column, token: shorten(token) },
     })
 }
 
@@ -429,10 +381,7 @@ fn parse_plain_row(line: &str, row: usize) -> Result<Vec<f64>, MatrixParseError>
         // tolerated trailing comma always held an entry.
         let is_trailing = piece_index > 0 && piece_index + 1 == piece_count;
         if !piece_has_entry && !is_trailing {
-            return Err(MatrixParseError::EmptyEntry {
-                row,
-                column: entries.len() + 1,
-            });
+            return Err(MatrixParseError::EmptyEntry { row, column: entries.len() + 1 });
         }
     }
     Ok(entries)
@@ -461,10 +410,7 @@ struct JsonLexer {
 
 impl JsonLexer {
     fn new(text: &str) -> Self {
-        JsonLexer {
-            chars: text.chars().collect(),
-            next: 0,
-        }
+        JsonLexer { chars: text.chars().collect(), next: 0 }
     }
 
     /// Returns the next token and its 1-based character position. Every call either
@@ -520,10 +466,7 @@ fn parse_json_grid(text: &str) -> Result<Grid, MatrixParseError> {
     let mut lexer = JsonLexer::new(text);
     let (first, position) = lexer.next_token();
     if first != JsonToken::Open {
-        return Err(json_error(
-            position,
-            "a JSON matrix must start with [".to_string(),
-        ));
+        return Err(json_error(position, "a JSON matrix must start with [".to_string()));
     }
     let mut builder = GridBuilder::default();
     match lexer.peek() {
@@ -538,13 +481,7 @@ fn parse_json_grid(text: &str) -> Result<Grid, MatrixParseError> {
     }
     let (rest, position) = lexer.next_token();
     if rest != JsonToken::End {
-        return Err(json_error(
-            position,
-            format!(
-                "unexpected {} after the final ]; remove it",
-                describe_json_token(&rest)
-            ),
-        ));
+        return Err(json_error(position, format!("unexpected {} after the final ]; remove it", describe_json_token(&rest))));
     }
     builder.finish()
 }
@@ -560,10 +497,7 @@ fn describe_json_token(token: &JsonToken) -> String {
 }
 
 /// Reads `[row], [row], ...]` after the outer `[` has been consumed.
-fn parse_json_rows(
-    lexer: &mut JsonLexer,
-    builder: &mut GridBuilder,
-) -> Result<(), MatrixParseError> {
+fn parse_json_rows(lexer: &mut JsonLexer, builder: &mut GridBuilder) -> Result<(), MatrixParseError> {
     let mut row = 0;
     loop {
         let (token, position) = lexer.next_token();
@@ -574,18 +508,10 @@ fn parse_json_rows(
                 builder.push_row(row, &entries)?;
             }
             JsonToken::Comma => {
-                return Err(json_error(
-                    position,
-                    format!(
-                        "two commas with no row between them after row {row}; remove one comma"
-                    ),
-                ));
+                return Err(json_error(position, format!("two commas with no row between them after row {row}; remove one comma")));
             }
             JsonToken::End => {
-                return Err(json_error(
-                    position,
-                    "the outer list is missing its closing ]; add ] at the end".to_string(),
-                ));
+                return Err(json_error(position, "the outer list is missing its closing ]; add ] at the end".to_string()));
             }
             other => {
                 return Err(json_error(
@@ -610,19 +536,10 @@ fn parse_json_rows(
             }
             JsonToken::Close => return Ok(()),
             JsonToken::Open => {
-                return Err(json_error(
-                    position,
-                    format!(
-                        "missing comma between row {row} and row {}; put a comma after the ] of row {row}",
-                        row + 1
-                    ),
-                ));
+                return Err(json_error(position, format!("missing comma between row {row} and row {}; put a comma after the ] of row {row}", row + 1)));
             }
             JsonToken::End => {
-                return Err(json_error(
-                    position,
-                    "the outer list is missing its closing ]; add ] at the end".to_string(),
-                ));
+                return Err(json_error(position, "the outer list is missing its closing ]; add ] at the end".to_string()));
             }
             atom @ JsonToken::Atom(_) => {
                 return Err(json_error(
@@ -640,11 +557,7 @@ fn parse_json_rows(
 
 /// Reads `1, 2, 3]` after a row's `[` has been consumed. `nested` says whether this
 /// row is inside an outer list (so a further `[` would be a third level).
-fn parse_json_row(
-    lexer: &mut JsonLexer,
-    row: usize,
-    nested: bool,
-) -> Result<Vec<f64>, MatrixParseError> {
+fn parse_json_row(lexer: &mut JsonLexer, row: usize, nested: bool) -> Result<Vec<f64>, MatrixParseError> {
     let mut entries = Vec::new();
     let mut expecting_entry = true;
     loop {
@@ -667,10 +580,7 @@ fn parse_json_row(
             }
             JsonToken::Comma => {
                 if expecting_entry {
-                    return Err(MatrixParseError::EmptyEntry {
-                        row,
-                        column: entries.len() + 1,
-                    });
+                    return Err(MatrixParseError::EmptyEntry { row, column: entries.len() + 1 });
                 }
                 expecting_entry = true;
             }
@@ -688,11 +598,7 @@ fn parse_json_row(
                 return Err(json_error(position, message));
             }
             JsonToken::End => {
-                let message = if nested {
-                    format!("row {row} is missing its closing ]; add ] after its last entry")
-                } else {
-                    "the list is missing its closing ]; add ] at the end".to_string()
-                };
+                let message = if nested { format!("row {row} is missing its closing ]; add ] after its last entry") } else { "the list is missing its closing ]; add ] at the end".to_string() };
                 return Err(json_error(position, message));
             }
         }

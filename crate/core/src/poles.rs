@@ -55,10 +55,7 @@ const CONJUGATE_TOLERANCE: f64 = 1e-12;
 #[derive(Debug, Clone, PartialEq)]
 pub enum PoleError {
     /// A complex pole whose conjugate is not in the list (or not often enough).
-    MissingConjugate {
-        pole: Complex64,
-        expected: Complex64,
-    },
+    MissingConjugate { pole: Complex64, expected: Complex64 },
     /// Pole number `index` (1-based) has a NaN or infinite part.
     NotFinite { index: usize },
 }
@@ -110,11 +107,7 @@ impl fmt::Display for PoleParseError {
                 "no poles given; list the poles separated by commas or spaces, for \
                  example -1, -2, -3±1j"
             ),
-            PoleParseError::BadToken { index, token } => write!(
-                f,
-                "item {index} of the pole list: {token:?} is not understood; {}",
-                bad_token_hint(token)
-            ),
+            PoleParseError::BadToken { index, token } => write!(f, "item {index} of the pole list: {token:?} is not understood; {}", bad_token_hint(token)),
             PoleParseError::NotFinite { index, token } => {
                 if names_non_finite(token) {
                     write!(
@@ -131,11 +124,9 @@ impl fmt::Display for PoleParseError {
                 }
             }
             PoleParseError::Unpaired(inner) => inner.fmt(f),
-            PoleParseError::DecimalComma { token } => write!(
-                f,
-                "{token:?} looks like a decimal comma (the poles here are separated by spaces, so the comma cannot be a separator); write a decimal point, {:?}",
-                token.replace(',', ".")
-            ),
+            PoleParseError::DecimalComma { token } => {
+                write!(f, "{token:?} looks like a decimal comma (the poles here are separated by spaces, so the comma cannot be a separator); write a decimal point, {:?}", token.replace(',', "."))
+            }
         }
     }
 }
@@ -155,8 +146,7 @@ fn bad_token_hint(token: &str) -> String {
         return "semicolons do not separate poles; use commas, spaces or new lines".into();
     }
     if token.contains('\u{2212}') {
-        return "the character \u{2212} is a typographic minus; type the ordinary - key instead"
-            .into();
+        return "the character \u{2212} is a typographic minus; type the ordinary - key instead".into();
     }
     if let Some(fixed) = number_after_j_fixed(token) {
         return format!("put the number before the j, as in {fixed}");
@@ -165,11 +155,7 @@ fn bad_token_hint(token: &str) -> String {
     let sign_count = chars.iter().filter(|c| is_sign_char(**c)).count();
     let first_is_sign = chars.first().is_some_and(|c| is_sign_char(*c));
     if sign_count > 0 && chars.iter().all(|c| is_sign_char(*c)) {
-        return if sign_count == 1 || token == "+-" {
-            "a sign must be followed by a number".into()
-        } else {
-            "use a single + or - sign, or ± (or +-) for a conjugate pair such as -1±2j".into()
-        };
+        return if sign_count == 1 || token == "+-" { "a sign must be followed by a number".into() } else { "use a single + or - sign, or ± (or +-) for a conjugate pair such as -1±2j".into() };
     }
     if first_is_sign && (token.starts_with('±') || token.starts_with("+-")) {
         return "± must be followed by an imaginary part, as in -1±2j".into();
@@ -193,12 +179,7 @@ fn number_after_j_fixed(token: &str) -> Option<String> {
         _ => false,
     })?;
     let letter = *chars.get(start)?;
-    let digits_end = chars
-        .iter()
-        .enumerate()
-        .skip(start + 1)
-        .find(|(_, c)| !(c.is_ascii_digit() || **c == '.'))
-        .map_or(chars.len(), |(k, _)| k);
+    let digits_end = chars.iter().enumerate().skip(start + 1).find(|(_, c)| !(c.is_ascii_digit() || **c == '.')).map_or(chars.len(), |(k, _)| k);
     let mut fixed: String = chars.iter().take(start).collect();
     fixed.extend(chars.iter().take(digits_end).skip(start + 1));
     fixed.push(letter);
@@ -208,9 +189,7 @@ fn number_after_j_fixed(token: &str) -> Option<String> {
 
 /// True if a sign appears after the first character other than as an exponent sign.
 fn has_interior_sign(chars: &[char]) -> bool {
-    chars.iter().enumerate().skip(1).any(|(k, c)| {
-        is_sign_char(*c) && !matches!(k.checked_sub(1).and_then(|p| chars.get(p)), Some('e' | 'E'))
-    })
+    chars.iter().enumerate().skip(1).any(|(k, c)| is_sign_char(*c) && !matches!(k.checked_sub(1).and_then(|p| chars.get(p)), Some('e' | 'E')))
 }
 
 /// Parses a pole list and checks that complex poles come in conjugate pairs.
@@ -243,19 +222,13 @@ pub fn parse_pole_items(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
     while let Some(lexeme) = lexemes.get(pos) {
         let index = items + 1;
         if lexeme.kind == LexKind::Semicolon {
-            return Err(PoleParseError::BadToken {
-                index,
-                token: ";".into(),
-            });
+            return Err(PoleParseError::BadToken { index, token: ";".into() });
         }
         if lexeme.gap == Gap::None {
             if let Some(start) = previous_item_start {
                 // Something glued to the end of the previous item, as in `-1-2`.
                 let end = glued_end(&lexemes, pos);
-                return Err(PoleParseError::BadToken {
-                    index: items,
-                    token: span(&chars, start, end),
-                });
+                return Err(PoleParseError::BadToken { index: items, token: span(&chars, start, end) });
             }
         }
 
@@ -267,10 +240,7 @@ pub fn parse_pole_items(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
                 poles.push(Complex64::new(0.0, negate_nonzero(im)));
             }
             (Some(Sign::PlusMinus), Value::Real(_)) => {
-                return Err(PoleParseError::BadToken {
-                    index,
-                    token: span(&chars, term.start, term.end),
-                });
+                return Err(PoleParseError::BadToken { index, token: span(&chars, term.start, term.end) });
             }
             (sign, Value::Imaginary(im)) => {
                 poles.push(Complex64::new(0.0, apply_sign(sign, im)));
@@ -282,10 +252,7 @@ pub fn parse_pole_items(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
                         pos = imaginary.next;
                         let Value::Imaginary(im) = imaginary.value else {
                             // invariant: imaginary_part_follows only returns imaginary terms.
-                            return Err(PoleParseError::BadToken {
-                                index,
-                                token: span(&chars, term.start, imaginary.end),
-                            });
+                            return Err(PoleParseError::BadToken { index, token: span(&chars, term.start, imaginary.end) });
                         };
                         if imaginary.sign == Some(Sign::PlusMinus) {
                             poles.push(Complex64::new(re, im));
@@ -315,10 +282,7 @@ pub fn parse_pole_items(text: &str) -> Result<Vec<Complex64>, PoleParseError> {
 /// `max(1, |pole|)`), and multiplicities must match: two copies of `-1+2j` need two
 /// copies of `-1-2j`. Poles with a NaN or infinite part give [`PoleError::NotFinite`].
 pub fn check_conjugate_pairs(poles: &[Complex64]) -> Result<(), PoleError> {
-    if let Some(k) = poles
-        .iter()
-        .position(|z| !(z.re.is_finite() && z.im.is_finite()))
-    {
+    if let Some(k) = poles.iter().position(|z| !(z.re.is_finite() && z.im.is_finite())) {
         return Err(PoleError::NotFinite { index: k + 1 });
     }
     let mut used = vec![false; poles.len()];
@@ -335,12 +299,7 @@ pub fn check_conjugate_pairs(poles: &[Complex64]) -> Result<(), PoleError> {
                     *flag = true;
                 }
             }
-            None => {
-                return Err(PoleError::MissingConjugate {
-                    pole: *z,
-                    expected: z.conj(),
-                })
-            }
+            None => return Err(PoleError::MissingConjugate { pole: *z, expected: z.conj() }),
         }
     }
     Ok(())
@@ -440,14 +399,7 @@ fn is_close(a: Complex64, b: Complex64) -> bool {
 /// The first unused complex pole after `i` that matches the conjugate of `z`.
 fn find_partner(poles: &[Complex64], used: &[bool], i: usize, z: Complex64) -> Option<usize> {
     let target = z.conj();
-    poles
-        .iter()
-        .enumerate()
-        .skip(i + 1)
-        .find(|(j, w)| {
-            !used.get(*j).copied().unwrap_or(true) && w.im != 0.0 && is_close(**w, target)
-        })
-        .map(|(j, _)| j)
+    poles.iter().enumerate().skip(i + 1).find(|(j, w)| !used.get(*j).copied().unwrap_or(true) && w.im != 0.0 && is_close(**w, target)).map(|(j, _)| j)
 }
 
 // ---------------------------------------------------------------------------
@@ -499,10 +451,7 @@ fn is_separator(c: char) -> bool {
 /// True if `word` so far is a mantissa followed by `e`, so a sign continues it.
 fn exponent_sign_allowed(word: &[char]) -> bool {
     match word.split_last() {
-        Some(('e' | 'E', mantissa)) => {
-            mantissa.iter().any(|c| c.is_ascii_digit())
-                && mantissa.iter().all(|c| c.is_ascii_digit() || *c == '.')
-        }
+        Some(('e' | 'E', mantissa)) => mantissa.iter().any(|c| c.is_ascii_digit()) && mantissa.iter().all(|c| c.is_ascii_digit() || *c == '.'),
         _ => false,
     }
 }
@@ -550,12 +499,7 @@ fn lex(chars: &[char]) -> Vec<Lexeme> {
             }
             LexKind::Word
         };
-        lexemes.push(Lexeme {
-            kind,
-            start,
-            end: i,
-            gap,
-        });
+        lexemes.push(Lexeme { kind, start, end: i, gap });
         gap = Gap::None;
     }
     lexemes
@@ -577,13 +521,7 @@ fn glued_end(lexemes: &[Lexeme], pos: usize) -> usize {
         return 0;
     };
     match lexemes.get(pos + 1) {
-        Some(next)
-            if first.kind == LexKind::Sign
-                && next.kind == LexKind::Word
-                && next.gap == Gap::None =>
-        {
-            next.end
-        }
+        Some(next) if first.kind == LexKind::Sign && next.kind == LexKind::Word && next.gap == Gap::None => next.end,
         _ => first.end,
     }
 }
@@ -648,15 +586,8 @@ fn negate_nonzero(x: f64) -> f64 {
 /// True for `nan`, `inf`, `infinity` in any case, with an optional sign (and, in
 /// pole text, an optional trailing imaginary letter).
 fn names_non_finite(token: &str) -> bool {
-    let trimmed: String = token
-        .chars()
-        .filter(|c| !c.is_whitespace() && !is_sign_char(*c))
-        .collect::<String>()
-        .to_ascii_lowercase();
-    let core = trimmed
-        .strip_suffix(|c: char| is_imaginary_letter(c))
-        .filter(|rest| matches!(*rest, "nan" | "inf" | "infinity"))
-        .unwrap_or(&trimmed);
+    let trimmed: String = token.chars().filter(|c| !c.is_whitespace() && !is_sign_char(*c)).collect::<String>().to_ascii_lowercase();
+    let core = trimmed.strip_suffix(|c: char| is_imaginary_letter(c)).filter(|rest| matches!(*rest, "nan" | "inf" | "infinity")).unwrap_or(&trimmed);
     matches!(core, "nan" | "inf" | "infinity")
 }
 
@@ -698,108 +629,54 @@ fn parse_word(word: &str) -> Result<Value, NumberProblem> {
 }
 
 fn looks_imaginary(chars: &[char], lexeme: &Lexeme) -> bool {
-    lexeme.kind == LexKind::Word
-        && lexeme
-            .end
-            .checked_sub(1)
-            .and_then(|k| chars.get(k))
-            .is_some_and(|c| is_imaginary_letter(*c))
+    lexeme.kind == LexKind::Word && lexeme.end.checked_sub(1).and_then(|k| chars.get(k)).is_some_and(|c| is_imaginary_letter(*c))
 }
 
 /// Parses an optional sign and the word after it, starting at lexeme `pos`.
-fn parse_term(
-    chars: &[char],
-    lexemes: &[Lexeme],
-    pos: usize,
-    index: usize,
-) -> Result<Term, PoleParseError> {
+fn parse_term(chars: &[char], lexemes: &[Lexeme], pos: usize, index: usize) -> Result<Term, PoleParseError> {
     let Some(first) = lexemes.get(pos) else {
         return Err(PoleParseError::Empty);
     };
     let (sign, word_pos) = if first.kind == LexKind::Sign {
         let sign_text = span(chars, first.start, first.end);
         let Some(sign) = classify_sign(&sign_text) else {
-            return Err(PoleParseError::BadToken {
-                index,
-                token: sign_text,
-            });
+            return Err(PoleParseError::BadToken { index, token: sign_text });
         };
         match lexemes.get(pos + 1) {
-            Some(word) if word.kind == LexKind::Word && word.gap != Gap::Comma => {
-                (Some(sign), pos + 1)
-            }
-            _ => {
-                return Err(PoleParseError::BadToken {
-                    index,
-                    token: sign_text,
-                })
-            }
+            Some(word) if word.kind == LexKind::Word && word.gap != Gap::Comma => (Some(sign), pos + 1),
+            _ => return Err(PoleParseError::BadToken { index, token: sign_text }),
         }
     } else {
         (None, pos)
     };
     let Some(word) = lexemes.get(word_pos).filter(|w| w.kind == LexKind::Word) else {
-        return Err(PoleParseError::BadToken {
-            index,
-            token: span(chars, first.start, first.end),
-        });
+        return Err(PoleParseError::BadToken { index, token: span(chars, first.start, first.end) });
     };
     let token = || span(chars, first.start, word.end);
-    let word_text: String = chars
-        .get(word.start..word.end)
-        .unwrap_or(&[])
-        .iter()
-        .collect();
+    let word_text: String = chars.get(word.start..word.end).unwrap_or(&[]).iter().collect();
     let value = match parse_word(&word_text) {
         Ok(value) => value,
-        Err(NumberProblem::NotANumber) => {
-            return Err(PoleParseError::BadToken {
-                index,
-                token: token(),
-            })
-        }
-        Err(NumberProblem::NotFinite) => {
-            return Err(PoleParseError::NotFinite {
-                index,
-                token: token(),
-            })
-        }
+        Err(NumberProblem::NotANumber) => return Err(PoleParseError::BadToken { index, token: token() }),
+        Err(NumberProblem::NotFinite) => return Err(PoleParseError::NotFinite { index, token: token() }),
     };
-    Ok(Term {
-        sign,
-        value,
-        start: first.start,
-        end: word.end,
-        next: word_pos + 1,
-    })
+    Ok(Term { sign, value, start: first.start, end: word.end, next: word_pos + 1 })
 }
 
 /// After a real number, reads a following `+ 2j`, `-j`, `± 3i`... if there is one
 /// (with no comma in between). Returns `None` when the next lexemes are not a sign
 /// followed by an imaginary-looking word.
-fn imaginary_part_follows(
-    chars: &[char],
-    lexemes: &[Lexeme],
-    pos: usize,
-    index: usize,
-) -> Result<Option<Term>, PoleParseError> {
+fn imaginary_part_follows(chars: &[char], lexemes: &[Lexeme], pos: usize, index: usize) -> Result<Option<Term>, PoleParseError> {
     let (Some(sign), Some(word)) = (lexemes.get(pos), lexemes.get(pos + 1)) else {
         return Ok(None);
     };
-    let joins = sign.kind == LexKind::Sign
-        && sign.gap != Gap::Comma
-        && word.gap != Gap::Comma
-        && looks_imaginary(chars, word);
+    let joins = sign.kind == LexKind::Sign && sign.gap != Gap::Comma && word.gap != Gap::Comma && looks_imaginary(chars, word);
     if !joins {
         return Ok(None);
     }
     let term = parse_term(chars, lexemes, pos, index)?;
     match term.value {
         Value::Imaginary(_) => Ok(Some(term)),
-        Value::Real(_) => Err(PoleParseError::BadToken {
-            index,
-            token: span(chars, term.start, term.end),
-        }),
+        Value::Real(_) => Err(PoleParseError::BadToken { index, token: span(chars, term.start, term.end) }),
     }
 }
 

@@ -106,13 +106,7 @@ pub fn recheck(exact: &DMatrix<f64>, rounded: &DMatrix<f64>, t: f64) -> Result<P
     poles.sort_by(|p, q| p.designed.re.total_cmp(&q.designed.re).then(p.designed.im.total_cmp(&q.designed.im)));
     let max_distance = poles.iter().map(|p| p.distance).fold(0.0, f64::max);
     let worst_damping_fraction = poles.iter().filter_map(|p| p.damping).filter(|(d, _)| *d > 0.0).map(|(d, r)| r / d).fold(1.0, f64::min);
-    Ok(PrecisionCheck {
-        max_distance,
-        worst_damping_fraction,
-        stable: poles.iter().all(|p| p.rounded.norm() < 1.0),
-        designed_stable: poles.iter().all(|p| p.designed.norm() < 1.0),
-        poles,
-    })
+    Ok(PrecisionCheck { max_distance, worst_damping_fraction, stable: poles.iter().all(|p| p.rounded.norm() < 1.0), designed_stable: poles.iter().all(|p| p.designed.norm() < 1.0), poles })
 }
 
 /// A matrix in a signed fixed-point format `Q(bits−1)` with one power-of-two shift: entry

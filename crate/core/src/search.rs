@@ -83,12 +83,24 @@ impl Default for SearchParams {
 pub enum SearchError {
     NoSituations,
     NoLimits,
-    Size { what: &'static str, expected: usize, found: usize },
+    Size {
+        what: &'static str,
+        expected: usize,
+        found: usize,
+    },
     NeedsOutputs,
     /// Even the slowest factor exceeds a limit.
-    LimitsExceededAtSlowest { factor: f64, ratio: f64, situation: usize, input: usize },
+    LimitsExceededAtSlowest {
+        factor: f64,
+        ratio: f64,
+        situation: usize,
+        input: usize,
+    },
     /// A placement, tracking or simulation step failed at this factor.
-    Step { factor: f64, message: String },
+    Step {
+        factor: f64,
+        message: String,
+    },
 }
 
 impl std::fmt::Display for SearchError {
@@ -310,7 +322,16 @@ pub fn fastest_within_limits_of(problem: &SearchProblem, params: SearchParams) -
 }
 
 #[allow(clippy::too_many_arguments)]
-fn finish(problem: &SearchProblem, factor: f64, best: Evaluation, samples: Vec<(f64, f64)>, monotonic: bool, limited_by_range: bool, evaluations: usize, shortfall: Option<SearchShortfall>) -> SearchResult {
+fn finish(
+    problem: &SearchProblem,
+    factor: f64,
+    best: Evaluation,
+    samples: Vec<(f64, f64)>,
+    monotonic: bool,
+    limited_by_range: bool,
+    evaluations: usize,
+    shortfall: Option<SearchShortfall>,
+) -> SearchResult {
     SearchResult {
         speed_factor: factor,
         poles: problem.pattern.iter().map(|p| p * factor).collect(),
@@ -344,7 +365,10 @@ fn evaluate_at(problem: &SearchProblem, ff: Option<&(DMatrix<f64>, DMatrix<f64>)
     let (a, b) = (problem.a, problem.b);
     let (n, m) = (a.nrows(), b.ncols());
     let poles = design_poles(problem, alpha);
-    let pp = PlacementParams { domain: if matches!(problem.domain, SearchDomain::Continuous) { crate::analysis::Domain::Continuous } else { crate::analysis::Domain::Discrete }, ..PlacementParams::default() };
+    let pp = PlacementParams {
+        domain: if matches!(problem.domain, SearchDomain::Continuous) { crate::analysis::Domain::Continuous } else { crate::analysis::Domain::Discrete },
+        ..PlacementParams::default()
+    };
     let placement = match start {
         Some(s) => state_feedback_gain_continued(a, b, &poles, pp, s),
         None => state_feedback_gain(a, b, &poles, pp),

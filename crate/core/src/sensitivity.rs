@@ -34,7 +34,10 @@ pub enum SensitivityError {
     NotFinite,
     NoConvergence,
     /// The perturbation direction does not have the matrix's size.
-    Size { expected: usize, found: (usize, usize) },
+    Size {
+        expected: usize,
+        found: (usize, usize),
+    },
 }
 
 impl std::fmt::Display for SensitivityError {

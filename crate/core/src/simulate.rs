@@ -116,13 +116,7 @@ pub struct Response {
 ///
 /// # Errors
 /// See [`SimulationError`].
-pub fn closed_loop_response(
-    a: &DMatrix<f64>,
-    b: &DMatrix<f64>,
-    k: &DMatrix<f64>,
-    spec: &SimulationSpec,
-    params: SimulationParams,
-) -> Result<Response, SimulationError> {
+pub fn closed_loop_response(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>, spec: &SimulationSpec, params: SimulationParams) -> Result<Response, SimulationError> {
     let n = a.nrows();
     let m = b.ncols();
     if spec.initial_state.len() != n {

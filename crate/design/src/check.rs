@@ -178,7 +178,9 @@ fn poles(v: &PoleList) -> Option<Result<Vec<Complex64>, String>> {
         PoleList::Text(s) if blank(s) => return None,
         PoleList::Text(s) => {
             return Some(parse_poles(s).map_err(|e| e.to_string()).and_then(|p| match p.iter().find(|z| z.norm() > MAX_MAGNITUDE) {
-                Some(z) => Err(format!("the pole {} is beyond the range this tool computes with (magnitude up to 1e150); change the time unit to bring the poles nearer 1", crate::poles::format_complex(*z))),
+                Some(z) => {
+                    Err(format!("the pole {} is beyond the range this tool computes with (magnitude up to 1e150); change the time unit to bring the poles nearer 1", crate::poles::format_complex(*z)))
+                }
                 None => Ok(p),
             }))
         }
@@ -196,7 +198,10 @@ fn poles(v: &PoleList) -> Option<Result<Vec<Complex64>, String>> {
         }
     }
     if let Some(z) = out.iter().find(|z| z.norm() > MAX_MAGNITUDE) {
-        return Some(Err(format!("the pole {} is beyond the range this tool computes with (magnitude up to 1e150); change the time unit to bring the poles nearer 1", crate::poles::format_complex(*z))));
+        return Some(Err(format!(
+            "the pole {} is beyond the range this tool computes with (magnitude up to 1e150); change the time unit to bring the poles nearer 1",
+            crate::poles::format_complex(*z)
+        )));
     }
     Some(check_conjugate_pairs(&out).map(|_| out).map_err(|e| e.to_string()))
 }
@@ -307,15 +312,13 @@ fn outputs(v: &OutputList, names: &[String]) -> Option<Result<Vec<usize>, String
 }
 
 fn band_fraction(v: &Scalar) -> Option<Result<f64, String>> {
-    scalar(v, "settling band").map(|r| {
-        r.and_then(|b| if b > 0.0 && b < 1.0 { Ok(b) } else { Err(format!("{} must be a fraction between 0 and 1, e.g. 0.02 for ±2 %", full(b))) })
-    })
+    scalar(v, "settling band").map(|r| r.and_then(|b| if b > 0.0 && b < 1.0 { Ok(b) } else { Err(format!("{} must be a fraction between 0 and 1, e.g. 0.02 for ±2 %", full(b))) }))
 }
 
-#[path = "check/plant_rules.rs"]
-mod plant_rules;
 #[path = "check/controller_rules.rs"]
 mod controller_rules;
+#[path = "check/plant_rules.rs"]
+mod plant_rules;
 #[path = "check/pole_rules.rs"]
 mod pole_rules;
 mod robustness_rules;
@@ -360,7 +363,6 @@ struct PoleSetup {
     lqr_inputs_from_limits: bool,
     search_notes: Vec<String>,
 }
-
 
 // ---------------------------------------------------------------------------------------------
 // The canonical document.

@@ -61,7 +61,13 @@ pub fn number(x: f64) -> String {
 /// [`number`] with an explicit count of significant digits.
 pub fn number_with(x: f64, digits: usize) -> String {
     if !x.is_finite() {
-        return if x.is_nan() { "NaN".into() } else if x > 0.0 { "∞".into() } else { "−∞".into() };
+        return if x.is_nan() {
+            "NaN".into()
+        } else if x > 0.0 {
+            "∞".into()
+        } else {
+            "−∞".into()
+        };
     }
     if x == 0.0 {
         return "0".into();
@@ -146,7 +152,10 @@ pub fn pole_list_above(poles: &[Complex64], level: f64) -> String {
             *u = true;
         }
         let shown_complex = z.im.abs() >= level && z.im != 0.0 && z.im.is_finite();
-        let partner = poles.iter().enumerate().position(|(j, w)| !used.get(j).copied().unwrap_or(true) && (w.re - z.re).abs() <= level.max(1e-12 * z.norm()) && (w.im + z.im).abs() <= level.max(1e-12 * z.norm()));
+        let partner = poles
+            .iter()
+            .enumerate()
+            .position(|(j, w)| !used.get(j).copied().unwrap_or(true) && (w.re - z.re).abs() <= level.max(1e-12 * z.norm()) && (w.im + z.im).abs() <= level.max(1e-12 * z.norm()));
         match partner {
             Some(j) if shown_complex => {
                 if let Some(u) = used.get_mut(j) {

@@ -14,8 +14,8 @@
 //! reaches) is a [`DesignError::Infeasible`] (CLI exit 1); every input error is a
 //! [`DesignError::Input`] (CLI exit 2).
 
-use nalgebra::DMatrix;
 use crate::plant::Plant;
+use nalgebra::DMatrix;
 use num_complex::Complex64;
 use serde::Serialize;
 
@@ -171,9 +171,14 @@ pub struct ObserverSpec {
 pub enum TrackingSpec {
     #[default]
     None,
-    Feedforward { outputs: Vec<usize> },
+    Feedforward {
+        outputs: Vec<usize>,
+    },
     /// `integral_poles`: extra poles for the integrator states (else `feedback.poles` has `n + q`).
-    Integral { outputs: Vec<usize>, integral_poles: Vec<Complex64> },
+    Integral {
+        outputs: Vec<usize>,
+        integral_poles: Vec<Complex64>,
+    },
 }
 
 /// The loop scenario of the full-controller simulation.
@@ -314,4 +319,3 @@ impl ControllerSpec {
         self.plant_sample_time.or(self.implementation.as_ref().map(|i| i.sample_time))
     }
 }
-

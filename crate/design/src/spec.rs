@@ -678,7 +678,8 @@ impl<'de> Deserialize<'de> for Whole {
 fn entry_doc(v: &Value, k: Option<usize>) -> Result<EntryDoc, String> {
     let at = k.map_or(String::new(), |k| format!("entry {}: ", k + 1));
     match v {
-        Value::Object(_) => serde_json::from_value::<EntryDoc>(v.clone()).map_err(|e| format!("{at}{e}; write {{\"matrix\": \"a\", \"row\": 2, \"column\": 1{}}}", if k.is_some() { ", \"relative\": 0.2" } else { "" })),
+        Value::Object(_) => serde_json::from_value::<EntryDoc>(v.clone())
+            .map_err(|e| format!("{at}{e}; write {{\"matrix\": \"a\", \"row\": 2, \"column\": 1{}}}", if k.is_some() { ", \"relative\": 0.2" } else { "" })),
         other => Err(format!("{at}expected an object such as {{\"matrix\": \"a\", \"row\": 2, \"column\": 1}}, found {}", kind(other))),
     }
 }
@@ -728,10 +729,7 @@ const VERSION_2_SECTIONS: [&str; 5] = ["implementation", "observer", "tracking",
 /// of the wrong type.
 pub fn read_design(text: &str) -> Result<DesignSpec, InputError> {
     if text.len() > MAX_DESIGN_BYTES {
-        return Err(InputError::new(
-            FieldPath::Document,
-            format!("the file is {} bytes; design files of up to {} bytes are read (8 MiB)", text.len(), MAX_DESIGN_BYTES),
-        ));
+        return Err(InputError::new(FieldPath::Document, format!("the file is {} bytes; design files of up to {} bytes are read (8 MiB)", text.len(), MAX_DESIGN_BYTES)));
     }
     let text = text.trim_start_matches('\u{feff}');
     let header: Header = serde_json::from_str(text).map_err(|e| InputError::new(FieldPath::Document, json_message(&e)))?;

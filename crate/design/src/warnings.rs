@@ -149,7 +149,43 @@ pub enum WarningCode {
 
 impl WarningCode {
     /// Every code, in the table's order.
-    pub const ALL: [WarningCode; 35] = [WarningCode::RequestedPoleUnstable, WarningCode::RequestedPoleOnAxis, WarningCode::FastPole, WarningCode::FragileDesign, WarningCode::PlacementInaccurate, WarningCode::NotConverged, WarningCode::DependentInputs, WarningCode::UncontrollableModes, WarningCode::WeaklyControllable, WarningCode::WeaklyObservable, WarningCode::AnalysisInconsistent, WarningCode::InputOverLimit, WarningCode::NotSettled, WarningCode::SimulationDiverged, WarningCode::SampleRateTooSlow, WarningCode::ObserverInaccurate, WarningCode::FragileObserver, WarningCode::LoopInputOverLimit, WarningCode::ObserverSlow, WarningCode::ObserverFast, WarningCode::LoopNotSettled, WarningCode::LoopDiverged, WarningCode::SeparationFailed, WarningCode::PoleOutsideRegion, WarningCode::RepeatedPoles, WarningCode::Deadbeat, WarningCode::BranchFollowed, WarningCode::BranchChanged, WarningCode::SearchShortOfLimit, WarningCode::LqrWeightIndefinite, WarningCode::Float32Sensitive, WarningCode::SmallMargin, WarningCode::SearchNotMonotonic, WarningCode::SearchRangeLimit, WarningCode::SimulationShortened];
+    pub const ALL: [WarningCode; 35] = [
+        WarningCode::RequestedPoleUnstable,
+        WarningCode::RequestedPoleOnAxis,
+        WarningCode::FastPole,
+        WarningCode::FragileDesign,
+        WarningCode::PlacementInaccurate,
+        WarningCode::NotConverged,
+        WarningCode::DependentInputs,
+        WarningCode::UncontrollableModes,
+        WarningCode::WeaklyControllable,
+        WarningCode::WeaklyObservable,
+        WarningCode::AnalysisInconsistent,
+        WarningCode::InputOverLimit,
+        WarningCode::NotSettled,
+        WarningCode::SimulationDiverged,
+        WarningCode::SampleRateTooSlow,
+        WarningCode::ObserverInaccurate,
+        WarningCode::FragileObserver,
+        WarningCode::LoopInputOverLimit,
+        WarningCode::ObserverSlow,
+        WarningCode::ObserverFast,
+        WarningCode::LoopNotSettled,
+        WarningCode::LoopDiverged,
+        WarningCode::SeparationFailed,
+        WarningCode::PoleOutsideRegion,
+        WarningCode::RepeatedPoles,
+        WarningCode::Deadbeat,
+        WarningCode::BranchFollowed,
+        WarningCode::BranchChanged,
+        WarningCode::SearchShortOfLimit,
+        WarningCode::LqrWeightIndefinite,
+        WarningCode::Float32Sensitive,
+        WarningCode::SmallMargin,
+        WarningCode::SearchNotMonotonic,
+        WarningCode::SearchRangeLimit,
+        WarningCode::SimulationShortened,
+    ];
 
     /// The stable code, as serialised.
     pub fn as_str(self) -> &'static str {
@@ -195,9 +231,41 @@ impl WarningCode {
     /// How much it matters.
     pub fn severity(self) -> Severity {
         match self {
-            WarningCode::RequestedPoleUnstable | WarningCode::PlacementInaccurate | WarningCode::SimulationDiverged | WarningCode::ObserverInaccurate | WarningCode::LoopDiverged | WarningCode::SeparationFailed => Severity::Danger,
-            WarningCode::RequestedPoleOnAxis | WarningCode::FastPole | WarningCode::FragileDesign | WarningCode::UncontrollableModes | WarningCode::WeaklyControllable | WarningCode::WeaklyObservable | WarningCode::AnalysisInconsistent | WarningCode::InputOverLimit | WarningCode::NotSettled | WarningCode::SampleRateTooSlow | WarningCode::FragileObserver | WarningCode::LoopInputOverLimit | WarningCode::ObserverSlow | WarningCode::ObserverFast | WarningCode::LoopNotSettled | WarningCode::PoleOutsideRegion | WarningCode::RepeatedPoles | WarningCode::Deadbeat | WarningCode::BranchChanged | WarningCode::SearchShortOfLimit | WarningCode::LqrWeightIndefinite | WarningCode::Float32Sensitive | WarningCode::SmallMargin => Severity::Caution,
-            WarningCode::NotConverged | WarningCode::DependentInputs | WarningCode::BranchFollowed | WarningCode::SearchNotMonotonic | WarningCode::SearchRangeLimit | WarningCode::SimulationShortened => Severity::Note,
+            WarningCode::RequestedPoleUnstable
+            | WarningCode::PlacementInaccurate
+            | WarningCode::SimulationDiverged
+            | WarningCode::ObserverInaccurate
+            | WarningCode::LoopDiverged
+            | WarningCode::SeparationFailed => Severity::Danger,
+            WarningCode::RequestedPoleOnAxis
+            | WarningCode::FastPole
+            | WarningCode::FragileDesign
+            | WarningCode::UncontrollableModes
+            | WarningCode::WeaklyControllable
+            | WarningCode::WeaklyObservable
+            | WarningCode::AnalysisInconsistent
+            | WarningCode::InputOverLimit
+            | WarningCode::NotSettled
+            | WarningCode::SampleRateTooSlow
+            | WarningCode::FragileObserver
+            | WarningCode::LoopInputOverLimit
+            | WarningCode::ObserverSlow
+            | WarningCode::ObserverFast
+            | WarningCode::LoopNotSettled
+            | WarningCode::PoleOutsideRegion
+            | WarningCode::RepeatedPoles
+            | WarningCode::Deadbeat
+            | WarningCode::BranchChanged
+            | WarningCode::SearchShortOfLimit
+            | WarningCode::LqrWeightIndefinite
+            | WarningCode::Float32Sensitive
+            | WarningCode::SmallMargin => Severity::Caution,
+            WarningCode::NotConverged
+            | WarningCode::DependentInputs
+            | WarningCode::BranchFollowed
+            | WarningCode::SearchNotMonotonic
+            | WarningCode::SearchRangeLimit
+            | WarningCode::SimulationShortened => Severity::Note,
         }
     }
 }

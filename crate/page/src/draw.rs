@@ -79,14 +79,20 @@ pub enum Cap {
 #[derive(Debug, Clone, PartialEq)]
 pub enum DrawOp {
     /// Fill the whole surface with the background.
-    Clear { width: f64, height: f64 },
+    Clear {
+        width: f64,
+        height: f64,
+    },
     Save,
     /// Clip to a rectangle (after a `Save`).
     ClipRect(Rect),
     /// Undo to the last `Save` (styles are then set again before use).
     Restore,
     /// Move the origin by (dx, dy) until the next `Restore` (after a `Save`).
-    Translate { dx: f64, dy: f64 },
+    Translate {
+        dx: f64,
+        dy: f64,
+    },
     Font(&'static str),
     Fill(&'static str),
     Stroke(&'static str),
@@ -100,9 +106,20 @@ pub enum DrawOp {
     StrokeRect(Rect),
     /// An SVG path string (`M x y L x y …`), stroked.
     StrokePath(String),
-    FillCircle { centre: [f64; 2], radius: f64 },
-    StrokeCircle { centre: [f64; 2], radius: f64 },
-    Text { text: String, at: [f64; 2], align: Align, baseline: Baseline },
+    FillCircle {
+        centre: [f64; 2],
+        radius: f64,
+    },
+    StrokeCircle {
+        centre: [f64; 2],
+        radius: f64,
+    },
+    Text {
+        text: String,
+        at: [f64; 2],
+        align: Align,
+        baseline: Baseline,
+    },
 }
 
 /// How wide a text is in a font (CSS pixels).

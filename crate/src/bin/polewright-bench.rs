@@ -100,7 +100,10 @@ fn loop_benchmark(path: &str) {
         times.push(t.elapsed().as_secs_f64());
     }
     times.sort_by(f64::total_cmp);
-    println!("{}", json!({"name": case["name"], "states": a.nrows(), "inputs": b.ncols(), "samples": samples, "median_seconds": times[times.len() / 2], "min_seconds": times[0], "repeats": times.len()}));
+    println!(
+        "{}",
+        json!({"name": case["name"], "states": a.nrows(), "inputs": b.ncols(), "samples": samples, "median_seconds": times[times.len() / 2], "min_seconds": times[0], "repeats": times.len()})
+    );
 }
 
 /// One LQR problem of `--riccati`.

@@ -393,10 +393,7 @@ fn serve_command(args: &[String]) -> ExitCode {
         } else {
             ("404 Not Found", b"not found\n", "text/plain; charset=utf-8")
         };
-        let header = format!(
-            "HTTP/1.1 {status}\r\nContent-Type: {kind}\r\nContent-Length: {}\r\nCache-Control: no-store\r\nX-Content-Type-Options: nosniff\r\nConnection: close\r\n\r\n",
-            body.len()
-        );
+        let header = format!("HTTP/1.1 {status}\r\nContent-Type: {kind}\r\nContent-Length: {}\r\nCache-Control: no-store\r\nX-Content-Type-Options: nosniff\r\nConnection: close\r\n\r\n", body.len());
         let _ = stream.write_all(header.as_bytes());
         let _ = stream.write_all(body);
     }

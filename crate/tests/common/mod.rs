@@ -14,12 +14,7 @@ pub fn fixture(name: &str) -> Value {
 }
 
 pub fn matrix(v: &Value) -> DMatrix<f64> {
-    let rows: Vec<Vec<f64>> = v
-        .as_array()
-        .expect("matrix rows")
-        .iter()
-        .map(|r| r.as_array().expect("row").iter().map(|x| x.as_f64().expect("number")).collect())
-        .collect();
+    let rows: Vec<Vec<f64>> = v.as_array().expect("matrix rows").iter().map(|r| r.as_array().expect("row").iter().map(|x| x.as_f64().expect("number")).collect()).collect();
     let n = rows.len();
     let m = rows.first().map_or(0, |r| r.len());
     DMatrix::from_fn(n, m, |i, j| rows[i][j])

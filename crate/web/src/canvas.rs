@@ -4,11 +4,7 @@ use super::*;
 
 /// The device pixel ratio, clamped to 1…4.
 pub(crate) fn pixel_ratio() -> f64 {
-    web_sys::window()
-        .map(|w| w.device_pixel_ratio())
-        .filter(|d| d.is_finite() && *d > 0.0)
-        .unwrap_or(1.0)
-        .clamp(1.0, 4.0)
+    web_sys::window().map(|w| w.device_pixel_ratio()).filter(|d| d.is_finite() && *d > 0.0).unwrap_or(1.0).clamp(1.0, 4.0)
 }
 
 impl PageState {
@@ -170,7 +166,9 @@ pub(crate) fn paint_all(page: &mut PageState) -> Result<(), JsValue> {
     // The response beside the pole map: the loop's outputs when a loop scenario runs and C
     // gives outputs, else the free response's states.
     let overview = match (&loop_pictures, &states) {
-        (Some((outputs @ (Picture::Time(_) | Picture::Stack(_)), _, _)), _) => Some((outputs.clone(), "Loop simulation: outputs (solid) against their references (dashed); figures under Loop simulation below.")),
+        (Some((outputs @ (Picture::Time(_) | Picture::Stack(_)), _, _)), _) => {
+            Some((outputs.clone(), "Loop simulation: outputs (solid) against their references (dashed); figures under Loop simulation below."))
+        }
         (_, Picture::Time(_)) => Some((states.clone(), "Free response from x₀: the states; figures under Free response below.")),
         _ => None,
     };
@@ -231,11 +229,7 @@ pub(crate) fn prepare_canvas(canvas_id: &str, rect: Rect, dpr: f64) -> Result<(H
         canvas.set_width(w);
         canvas.set_height(h);
     }
-    let ctx = canvas
-        .get_context("2d")?
-        .ok_or_else(|| js_err("no 2d context", canvas_id))?
-        .dyn_into::<CanvasRenderingContext2d>()
-        .map_err(|_| js_err("no 2d context", canvas_id))?;
+    let ctx = canvas.get_context("2d")?.ok_or_else(|| js_err("no 2d context", canvas_id))?.dyn_into::<CanvasRenderingContext2d>().map_err(|_| js_err("no 2d context", canvas_id))?;
     ctx.set_transform(dpr, 0.0, 0.0, dpr, 0.0, 0.0)?;
     if !resized {
         ctx.set_line_dash(&js_sys::Array::new())?;
@@ -330,4 +324,3 @@ pub(crate) fn paint_picture(canvas_id: &str, rect: Rect, dpr: f64, picture: &Pic
     }
     done
 }
-

@@ -3,9 +3,7 @@
 use super::*;
 
 pub(crate) fn document() -> Result<Document, JsValue> {
-    web_sys::window()
-        .and_then(|w| w.document())
-        .ok_or_else(|| JsValue::from_str("no document"))
+    web_sys::window().and_then(|w| w.document()).ok_or_else(|| JsValue::from_str("no document"))
 }
 
 pub(crate) fn by_id(doc: &Document, id: &str) -> Result<Element, JsValue> {
@@ -140,7 +138,17 @@ impl PageState {
     /// Shows one table in element `host` (with id `table_id`, if given): updates the cells
     /// in place when the table there has the same caption, header and size, else rebuilds it.
     #[allow(clippy::too_many_arguments)]
-    pub(crate) fn show_table(&mut self, doc: &Document, host: &'static str, table_id: Option<&str>, caption: &str, head: &[String], rows: &[Vec<String>], row_headers: bool, numeric_from: usize) -> Result<(), JsValue> {
+    pub(crate) fn show_table(
+        &mut self,
+        doc: &Document,
+        host: &'static str,
+        table_id: Option<&str>,
+        caption: &str,
+        head: &[String],
+        rows: &[Vec<String>],
+        row_headers: bool,
+        numeric_from: usize,
+    ) -> Result<(), JsValue> {
         let keep = kept_columns(head, rows);
         let shape = hash_of(&(caption, head, &keep, rows.len(), rows.iter().map(|r| r.len()).collect::<Vec<_>>(), table_id, row_headers, numeric_from));
         let visible: Vec<Vec<String>> = rows.iter().map(|r| r.iter().enumerate().filter(|(j, _)| keep.get(*j).copied().unwrap_or(true)).map(|(_, c)| c.clone()).collect()).collect();
@@ -259,7 +267,6 @@ pub(crate) fn fit_rows(t: &HtmlTextAreaElement) {
         t.set_rows(lines);
     }
 }
-
 
 /// Makes each table box that scrolls sideways reachable by keyboard (WCAG 2.1.1; axe's
 /// "scrollable-region-focusable"): a focusable region named after its table's caption. A box

@@ -51,11 +51,11 @@ use wasm_bindgen::JsCast;
 use web_sys::{CanvasRenderingContext2d, Document, Element, HtmlCanvasElement, HtmlInputElement, HtmlSelectElement, HtmlTextAreaElement, Path2d};
 
 use crate::design::{fmt_num, DesignResult};
+use crate::draw::{self, Align, Baseline, Cap, DrawOp, TextMeasure};
 use crate::editing::{self, Change, Direction, Edit, EditHistory, EditParams, Member, NudgeOutcome, PlaneMap, StepSize};
 use crate::form::{self, ControllerReport, FieldError, FormInput, FormOutcome, FormStatus, MatrixTable, OpenLoopAnalysis, Report, StructureReport};
-use crate::draw::{self, Align, Baseline, Cap, DrawOp, TextMeasure};
-use crate::plot::{Frame, Rect};
 pub use crate::plot::{Band, EventLine, LimitLine, PoleMapScene, PolePick, PoleSet, Series, TimePlotScene};
+use crate::plot::{Frame, Rect};
 
 /// Id of the page element that receives internal-error messages.
 pub const ERROR_ELEMENT_ID: &str = "pw-error";
@@ -86,9 +86,7 @@ pub fn install_panic_hook() {
 #[wasm_bindgen]
 pub fn report_internal_error(message: &str) {
     web_sys::console::error_1(&JsValue::from_str(message));
-    let element = web_sys::window()
-        .and_then(|w| w.document())
-        .and_then(|d| d.get_element_by_id(ERROR_ELEMENT_ID));
+    let element = web_sys::window().and_then(|w| w.document()).and_then(|d| d.get_element_by_id(ERROR_ELEMENT_ID));
     if let Some(el) = element {
         el.set_text_content(Some(message));
         // Ignoring failure: the console already has the message.
@@ -107,9 +105,7 @@ fn js_err(context: &str, detail: impl std::fmt::Display) -> JsValue {
 }
 
 fn to_js<T: Serialize>(value: &T, context: &str) -> Result<JsValue, JsValue> {
-    value
-        .serialize(&serde_wasm_bindgen::Serializer::json_compatible())
-        .map_err(|e| js_err(context, e))
+    value.serialize(&serde_wasm_bindgen::Serializer::json_compatible()).map_err(|e| js_err(context, e))
 }
 
 // ---------------------------------------------------------------------------
@@ -360,9 +356,9 @@ mod document;
 #[cfg(feature = "test-exports")]
 #[path = "web_test_exports.rs"]
 mod test_exports;
+pub use document::*;
 #[cfg(feature = "test-exports")]
 pub use test_exports::*;
-pub use document::*;
 
 fn read_form(doc: &Document) -> Result<FormInput, JsValue> {
     let mut form = FormInput::default();
@@ -559,11 +555,14 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     status_el.set_attribute("data-cycle-ms", &format!("{cycle_ms}"))?;
     let phases = PHASES.with(|p| p.try_borrow().map(|v| v.iter().map(|(k, ms)| format!("{k}={ms:.3}")).collect::<Vec<_>>().join(" ")).unwrap_or_default());
     status_el.set_attribute("data-cycle-phases", &phases)?;
-    status_el.set_attribute("data-outcome", match status {
-        FormStatus::Designed => "designed",
-        FormStatus::Invalid => "invalid",
-        FormStatus::Infeasible => "infeasible",
-    })?;
+    status_el.set_attribute(
+        "data-outcome",
+        match status {
+            FormStatus::Designed => "designed",
+            FormStatus::Invalid => "invalid",
+            FormStatus::Infeasible => "infeasible",
+        },
+    )?;
     if status_el.class_list().contains("is-error") != (status != FormStatus::Designed) {
         status_el.class_list().toggle_with_force("is-error", status != FormStatus::Designed)?;
     }
@@ -654,4 +653,3 @@ pub fn copy_text(which: &str) -> Result<String, JsValue> {
         })
     })
 }
-

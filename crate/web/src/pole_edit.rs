@@ -201,12 +201,7 @@ pub(crate) fn refocus(page: &mut PageState) {
 /// Remembers which requested pole the keyboard position is on (if it is one).
 pub(crate) fn note_focus(page: &mut PageState) {
     let markers = page.pole_scene.markers();
-    page.focus_requested = page
-        .focus
-        .and_then(|i| markers.get(i))
-        .filter(|p| p.set == PoleSet::Requested)
-        .and_then(|p| page.requested_markers.get(p.index))
-        .map(|m| (m.entry, m.member));
+    page.focus_requested = page.focus.and_then(|i| markers.get(i)).filter(|p| p.set == PoleSet::Requested).and_then(|p| page.requested_markers.get(p.index)).map(|m| (m.entry, m.member));
 }
 
 /// Writes a new pole list into the poles field and runs the design cycle.
@@ -614,4 +609,3 @@ pub(crate) fn as_pinned(scene: &TimePlotScene) -> Vec<crate::plot::PinnedSeries>
         .map(|(i, ser)| crate::plot::PinnedSeries { name: format!("{} (pinned)", ser.name), t: scene.t.clone(), values: ser.values.clone(), colour: Some(ser.colour.unwrap_or(i)) })
         .collect()
 }
-

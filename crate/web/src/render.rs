@@ -84,11 +84,7 @@ pub(crate) fn note(doc: &Document, text: Option<&str>, class: &str) -> Result<()
 pub(crate) fn structure_block(doc: &Document, r: &StructureReport, title: &str) -> Result<Vec<Element>, JsValue> {
     let head = ["open-loop mode".to_string(), "margin".to_string(), "verdict".to_string()];
     let rows: Vec<Vec<String>> = r.modes.iter().map(|m| vec![m.pole.clone(), m.margin.clone(), m.verdict.clone()]).collect();
-    Ok(vec![
-        make_class(doc, "p", Some(&r.summary), "summary")?,
-        table(doc, Some(title), &head, &rows, false, 1)?,
-        make_class(doc, "p", Some(&r.tolerance), "fine-print")?,
-    ])
+    Ok(vec![make_class(doc, "p", Some(&r.summary), "summary")?, table(doc, Some(title), &head, &rows, false, 1)?, make_class(doc, "p", Some(&r.tolerance), "fine-print")?])
 }
 
 pub(crate) fn strings(items: &[&str]) -> Vec<String> {
@@ -157,11 +153,8 @@ pub(crate) fn render_report(doc: &Document, page: &mut PageState, r: &Report, di
         render_robustness_detail(doc, page, &r.robustness_detail)?;
     }
     if !page.unchanged(ids::WARNINGS, hash_of(&r.warnings)) {
-        let items: Vec<Element> = if r.warnings.is_empty() {
-            vec![make_class(doc, "li", Some("No warnings."), "none")?]
-        } else {
-            r.warnings.iter().map(|w| make(doc, "li", Some(w))).collect::<Result<_, _>>()?
-        };
+        let items: Vec<Element> =
+            if r.warnings.is_empty() { vec![make_class(doc, "li", Some("No warnings."), "none")?] } else { r.warnings.iter().map(|w| make(doc, "li", Some(w))).collect::<Result<_, _>>()? };
         fill(doc, ids::WARNINGS, &items)?;
     }
     if !page.unchanged(ids::VERDICTS, hash_of(&r.verdicts)) {
@@ -349,7 +342,8 @@ pub(crate) fn render_controller(doc: &Document, page: &mut PageState, c: Option<
         } else {
             let settling = format!("settling time ({}) after the step", c.settling_band);
             let head = strings(&["tracked output", "reference step", "rise time (10–90 %)", &settling, "overshoot", "error at the end (r − y)"]);
-            let rows: Vec<Vec<String>> = c.loop_outputs.iter().map(|o| vec![o.name.clone(), o.reference.clone(), o.rise_time.clone(), o.settling_time.clone(), o.overshoot.clone(), o.steady_state_error.clone()]).collect();
+            let rows: Vec<Vec<String>> =
+                c.loop_outputs.iter().map(|o| vec![o.name.clone(), o.reference.clone(), o.rise_time.clone(), o.settling_time.clone(), o.overshoot.clone(), o.steady_state_error.clone()]).collect();
             let t = table(doc, Some("Loop simulation: step figures of each tracked output"), &head, &rows, true, 1)?;
             t.set_id("pw-loop-metrics");
             t
@@ -411,10 +405,7 @@ pub(crate) fn pole_map_label(scene: &PoleMapScene) -> String {
     }
     parts.push(format!("{} open-loop poles", scene.open_loop.len()));
     let plane = if scene.discrete { "Pole map in the z-plane with the unit circle" } else { "Pole map in the complex plane" };
-    format!(
-        "{plane}: {}. Focus it and press N / P to read each pole, the arrow keys to move a requested one; the pole tables in Results list them all.",
-        parts.join(", ")
-    )
+    format!("{plane}: {}. Focus it and press N / P to read each pole, the arrow keys to move a requested one; the pole tables in Results list them all.", parts.join(", "))
 }
 
 pub(crate) fn pole_legend(scene: &PoleMapScene) -> String {
@@ -433,21 +424,25 @@ pub(crate) fn pole_legend(scene: &PoleMapScene) -> String {
     if let Some(r) = &scene.region {
         text.push_str(&format!("Dash-dot (dark amber): the boundary of the specification's region, {}. ", r.label));
     }
-    text.push_str(if scene.discrete {
-        "Shaded: the stable region inside the unit circle, |z| < 1 (dashed)."
-    } else {
-        "Shaded: the stable region, Re s < 0."
-    });
+    text.push_str(if scene.discrete { "Shaded: the stable region inside the unit circle, |z| < 1 (dashed)." } else { "Shaded: the stable region, Re s < 0." });
     text
 }
-
 
 /// The frequency table, the pole-sensitivity table and the uncertainty lines.
 fn render_robustness_detail(doc: &Document, page: &mut PageState, d: &form::RobustnessDetail) -> Result<(), JsValue> {
     if !page.unchanged(ids::FREQUENCY_TABLE, hash_of(&d.frequency_rows)) {
         let head = strings(&["frequency (rad/s)", "σmax(S)", "σmax(T)"]);
         let rows: Vec<Vec<String>> = d.frequency_rows.iter().map(|r| r.to_vec()).collect();
-        page.show_table(doc, ids::FREQUENCY_TABLE, None, "Largest singular values of S and T at the plant input over frequency (16 frequencies evenly spread in log ω, and the peaks)", &head, &rows, true, 1)?;
+        page.show_table(
+            doc,
+            ids::FREQUENCY_TABLE,
+            None,
+            "Largest singular values of S and T at the plant input over frequency (16 frequencies evenly spread in log ω, and the peaks)",
+            &head,
+            &rows,
+            true,
+            1,
+        )?;
     }
     if !page.unchanged(ids::SENSITIVITY_TABLE, hash_of(&(&d.sensitivity_rows, &d.sensitivity_entry))) {
         let derivative = d.sensitivity_entry.as_ref().map_or("dλ/dp (choose an entry)".to_string(), |e| format!("dλ/d {e}"));

@@ -18,13 +18,7 @@ fn reject_unknown_keys(value: &JsValue, known: &[&str], context: &str) -> Result
         for key in js_sys::Object::keys(obj).iter() {
             let key = key.as_string().unwrap_or_default();
             if !known.contains(&key.as_str()) {
-                return Err(js_err(
-                    context,
-                    format!(
-                        "unknown field `{key}`, expected one of {}",
-                        known.join(", ")
-                    ),
-                ));
+                return Err(js_err(context, format!("unknown field `{key}`, expected one of {}", known.join(", "))));
             }
         }
     }
@@ -112,7 +106,6 @@ pub fn demo(index: usize) -> Result<JsValue, JsValue> {
     to_js(&d.form, "demo")
 }
 
-
 /// The canvas's CSS box (falls back to its bitmap size before layout). Reading it forces
 /// a layout when the page changed since the last one: the page cycle uses cached sizes.
 fn css_rect(canvas: &HtmlCanvasElement) -> Rect {
@@ -123,4 +116,3 @@ fn css_rect(canvas: &HtmlCanvasElement) -> Rect {
         Rect::sized(f64::from(canvas.width()), f64::from(canvas.height()))
     }
 }
-

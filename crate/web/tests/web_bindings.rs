@@ -14,46 +14,24 @@ fn js(json: &str) -> JsValue {
 }
 
 fn document() -> web_sys::Document {
-    web_sys::window()
-        .and_then(|w| w.document())
-        .expect("a browser document")
+    web_sys::window().and_then(|w| w.document()).expect("a browser document")
 }
 
 /// Append a canvas of the given CSS size to the body.
 fn add_canvas(id: &str, width: u32, height: u32) -> web_sys::HtmlCanvasElement {
     let doc = document();
-    let canvas: web_sys::HtmlCanvasElement = doc
-        .create_element("canvas")
-        .expect("create canvas")
-        .dyn_into()
-        .expect("a canvas element");
+    let canvas: web_sys::HtmlCanvasElement = doc.create_element("canvas").expect("create canvas").dyn_into().expect("a canvas element");
     canvas.set_id(id);
     canvas.set_width(width);
     canvas.set_height(height);
-    doc.body()
-        .expect("body")
-        .append_child(&canvas)
-        .expect("append canvas");
+    doc.body().expect("body").append_child(&canvas).expect("append canvas");
     canvas
 }
 
 /// Number of distinct RGBA colours on the canvas bitmap.
 fn distinct_colours(canvas: &web_sys::HtmlCanvasElement) -> usize {
-    let ctx: web_sys::CanvasRenderingContext2d = canvas
-        .get_context("2d")
-        .expect("context")
-        .expect("2d context")
-        .dyn_into()
-        .expect("2d context type");
-    let data = ctx
-        .get_image_data(
-            0.0,
-            0.0,
-            f64::from(canvas.width()),
-            f64::from(canvas.height()),
-        )
-        .expect("image data")
-        .data();
+    let ctx: web_sys::CanvasRenderingContext2d = canvas.get_context("2d").expect("context").expect("2d context").dyn_into().expect("2d context type");
+    let data = ctx.get_image_data(0.0, 0.0, f64::from(canvas.width()), f64::from(canvas.height())).expect("image data").data();
     let mut seen = std::collections::HashSet::new();
     for px in data.chunks_exact(4) {
         seen.insert([px[0], px[1], px[2], px[3]]);
@@ -68,16 +46,10 @@ fn version_is_the_package_version() {
 
 #[wasm_bindgen_test]
 fn pole_map_scene_deserialises_from_a_js_object() {
-    let scene = web::parse_pole_map_scene(&js(
-        r#"{"open_loop": [[1, 0], [-2, 3], [-2, -3]], "closed_loop": [[-4, 1]], "discrete": true}"#,
-    ))
-    .expect("valid scene");
+    let scene = web::parse_pole_map_scene(&js(r#"{"open_loop": [[1, 0], [-2, 3], [-2, -3]], "closed_loop": [[-4, 1]], "discrete": true}"#)).expect("valid scene");
     assert_eq!(scene.open_loop, vec![[1.0, 0.0], [-2.0, 3.0], [-2.0, -3.0]]);
     assert_eq!(scene.closed_loop, vec![[-4.0, 1.0]]);
-    assert!(
-        scene.not_assigned.is_empty(),
-        "omitted fields default to empty"
-    );
+    assert!(scene.not_assigned.is_empty(), "omitted fields default to empty");
     assert!(scene.discrete);
 
     let empty = web::parse_pole_map_scene(&js("{}")).expect("all fields optional");
@@ -86,19 +58,14 @@ fn pole_map_scene_deserialises_from_a_js_object() {
     let err = web::parse_pole_map_scene(&js(r#"{"closed": []}"#)).expect_err("unknown field");
     let msg = err.as_string().unwrap_or_default();
     assert!(msg.contains("pole map scene"), "readable error: {msg}");
-    assert!(
-        web::parse_pole_map_scene(&js(r#"{"open_loop": [[1]]}"#)).is_err(),
-        "points are pairs"
-    );
+    assert!(web::parse_pole_map_scene(&js(r#"{"open_loop": [[1]]}"#)).is_err(), "points are pairs");
 }
 
 #[wasm_bindgen_test]
 fn time_plot_scene_deserialises_from_a_js_object() {
-    let scene = web::parse_time_plot_scene(&js(
-        r#"{"t": [0, 0.5, 1], "series": [{"name": "x1", "values": [1, 0.4, 0.1]}],
+    let scene = web::parse_time_plot_scene(&js(r#"{"t": [0, 0.5, 1], "series": [{"name": "x1", "values": [1, 0.4, 0.1]}],
             "limits": [{"value": 2, "label": "u max"}],
-            "band": {"lower": -0.02, "upper": 0.02, "label": "band"}, "x_label": "t [s]"}"#,
-    ))
+            "band": {"lower": -0.02, "upper": 0.02, "label": "band"}, "x_label": "t [s]"}"#))
     .expect("valid scene");
     assert_eq!(scene.t.len(), 3);
     assert_eq!(scene.series[0].name, "x1");
@@ -110,20 +77,14 @@ fn time_plot_scene_deserialises_from_a_js_object() {
 #[wasm_bindgen_test]
 fn painters_draw_something() {
     let pole = add_canvas("wbt-pole-map", 420, 320);
-    web::draw_pole_map(
-        "wbt-pole-map",
-        js(r#"{"open_loop": [[0.5, 0], [-1, 2], [-1, -2]], "closed_loop": [[-3, 1], [-3, -1]]}"#),
-    )
-    .expect("pole map drawn");
+    web::draw_pole_map("wbt-pole-map", js(r#"{"open_loop": [[0.5, 0], [-1, 2], [-1, -2]], "closed_loop": [[-3, 1], [-3, -1]]}"#)).expect("pole map drawn");
     assert!(distinct_colours(&pole) > 5, "pole map has content");
 
     let time = add_canvas("wbt-time-plot", 500, 240);
     web::draw_time_plot(
         "wbt-time-plot",
-        js(
-            r#"{"t": [0, 1, 2, 3], "series": [{"name": "y", "values": [0, 0.8, 1.1, 1.0]}],
-               "limits": [{"value": 1.2, "label": "max"}]}"#,
-        ),
+        js(r#"{"t": [0, 1, 2, 3], "series": [{"name": "y", "values": [0, 0.8, 1.1, 1.0]}],
+               "limits": [{"value": 1.2, "label": "max"}]}"#),
     )
     .expect("time plot drawn");
     assert!(distinct_colours(&time) > 5, "time plot has content");
@@ -159,18 +120,13 @@ fn internal_errors_are_shown_as_text() {
     // it here would also replace the test harness's own hook.
     web::report_internal_error("<b>not markup</b>");
     assert_eq!(el.text_content().as_deref(), Some("<b>not markup</b>"));
-    assert!(
-        el.first_element_child().is_none(),
-        "message is text, not HTML"
-    );
+    assert!(el.first_element_child().is_none(), "message is text, not HTML");
     assert!(!el.has_attribute("hidden"));
 }
 
 /// Reads `obj.key` (nested keys separated by dots).
 fn get(obj: &JsValue, path: &str) -> JsValue {
-    path.split('.').fold(obj.clone(), |v, k| {
-        js_sys::Reflect::get(&v, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED)
-    })
+    path.split('.').fold(obj.clone(), |v, k| js_sys::Reflect::get(&v, &JsValue::from_str(k)).unwrap_or(JsValue::UNDEFINED))
 }
 
 fn array(v: &JsValue) -> Vec<JsValue> {
@@ -180,10 +136,7 @@ fn array(v: &JsValue) -> Vec<JsValue> {
 #[wasm_bindgen_test]
 fn a_design_crosses_the_boundary_and_back_intact() {
     // Ogata, Modern Control Engineering, pole-placement example (from memory): K = [199, 55, 8].
-    let out = web::evaluate(js(
-        r#"{"a": "0 1 0\n0 0 1\n-1 -5 -6", "b": "0 0 1", "poles": "-2±4j, -10"}"#,
-    ))
-    .expect("evaluate runs");
+    let out = web::evaluate(js(r#"{"a": "0 1 0\n0 0 1\n-1 -5 -6", "b": "0 0 1", "poles": "-2±4j, -10"}"#)).expect("evaluate runs");
     assert_eq!(get(&out, "status").as_string().as_deref(), Some("designed"));
     assert_eq!(array(&get(&out, "errors")).len(), 0);
     let gain = array(&get(&out, "design.feedback.gain"));
@@ -194,24 +147,12 @@ fn a_design_crosses_the_boundary_and_back_intact() {
     }
     assert_eq!(k.len(), 3);
     // The same numbers as the native evaluation of the same form.
-    let native = polewright_page::form::evaluate_form(&polewright_page::form::FormInput {
-        a: "0 1 0\n0 0 1\n-1 -5 -6".into(),
-        b: "0 0 1".into(),
-        poles: "-2±4j, -10".into(),
-        ..Default::default()
-    });
+    let native = polewright_page::form::evaluate_form(&polewright_page::form::FormInput { a: "0 1 0\n0 0 1\n-1 -5 -6".into(), b: "0 0 1".into(), poles: "-2±4j, -10".into(), ..Default::default() });
     let native_k = &native.design.expect("native design").feedback.gain[0];
     assert_eq!(&k, native_k, "bit-identical after the round trip");
     // The report's copyable text parses back to the same gain.
     let text = get(&out, "report.gain.text").as_string().unwrap_or_default();
-    let row: Vec<f64> = text
-        .lines()
-        .nth(2)
-        .unwrap_or("")
-        .split('\t')
-        .skip(1)
-        .filter_map(|c| c.parse().ok())
-        .collect();
+    let row: Vec<f64> = text.lines().nth(2).unwrap_or("").split('\t').skip(1).filter_map(|c| c.parse().ok()).collect();
     assert_eq!(row, k);
     assert_eq!(get(&out, "sizes.a").as_string().as_deref(), Some("3 × 3"));
     assert!(get(&out, "sizes.c").is_undefined(), "blank optional matrices have no size");
@@ -222,10 +163,7 @@ fn a_design_crosses_the_boundary_and_back_intact() {
 
 #[wasm_bindgen_test]
 fn bad_input_comes_back_as_field_errors_not_a_panic() {
-    let out = web::evaluate(js(
-        r#"{"a": "0 1 0\n0 0 x\n-1 -5 -6", "b": "0\n0\n1\n1", "poles": "-1, 2+j", "limits": "-4"}"#,
-    ))
-    .expect("evaluate runs");
+    let out = web::evaluate(js(r#"{"a": "0 1 0\n0 0 x\n-1 -5 -6", "b": "0\n0\n1\n1", "poles": "-1, 2+j", "limits": "-4"}"#)).expect("evaluate runs");
     assert_eq!(get(&out, "status").as_string().as_deref(), Some("invalid"));
     let errors = array(&get(&out, "errors"));
     let fields: Vec<String> = errors.iter().filter_map(|e| get(e, "field").as_string()).collect();
@@ -273,10 +211,7 @@ fn a_version_2_design_crosses_the_boundary_intact() {
     // The digital demo: observer, integral action with clamping, a 1 kHz sample time, a
     // reference step and a load step, evaluated through the JS boundary and natively.
     let list = array(&web::demo_list().expect("list"));
-    let index = list
-        .iter()
-        .position(|d| get(d, "title").as_string().unwrap_or_default().contains("digital"))
-        .expect("a digital demo");
+    let index = list.iter().position(|d| get(d, "title").as_string().unwrap_or_default().contains("digital")).expect("a digital demo");
     let form = web::demo(index).expect("demo");
     assert_eq!(get(&form, "sample_time").as_string().as_deref(), Some("0.001"));
     let out = web::evaluate(form).expect("evaluate runs");
@@ -287,9 +222,7 @@ fn a_version_2_design_crosses_the_boundary_intact() {
     let native_form = polewright_page::demos::demo(index).expect("native demo").form;
     let native = polewright_page::form::evaluate_form(&native_form);
     let nd = native.design.as_ref().expect("native design");
-    let rows = |path: &str| -> Vec<Vec<f64>> {
-        array(&get(&out, path)).iter().map(|r| array(r).iter().filter_map(|v| v.as_f64()).collect()).collect()
-    };
+    let rows = |path: &str| -> Vec<Vec<f64>> { array(&get(&out, path)).iter().map(|r| array(r).iter().filter_map(|v| v.as_f64()).collect()).collect() };
     // Bit-identical after the round trip: K, L, K_i, Φ and the loop's signals.
     assert_eq!(rows("design.feedback.gain"), nd.feedback.gain);
     let no = nd.observer.as_ref().expect("native observer");
@@ -314,20 +247,14 @@ fn a_version_2_design_crosses_the_boundary_intact() {
     assert_eq!(array(&get(&out, "report.controller.events")).len(), 2);
 
     // A bad observer field comes back as that field's error.
-    let bad = web::evaluate(js(
-        r#"{"a": "0 1\n0 0", "b": "0\n1", "poles": "-1, -2", "observer": "poles", "observer_poles": "-5, x"}"#,
-    ))
-    .expect("evaluate runs");
+    let bad = web::evaluate(js(r#"{"a": "0 1\n0 0", "b": "0\n1", "poles": "-1, -2", "observer": "poles", "observer_poles": "-5, x"}"#)).expect("evaluate runs");
     let errors = array(&get(&bad, "errors"));
     let fields: Vec<String> = errors.iter().filter_map(|e| get(e, "field").as_string()).collect();
     assert_eq!(fields, ["observer", "observer_poles"], "no C for the observer, and a bad pole");
 
     // The z-plane map with observer poles draws.
     let canvas = add_canvas("wbt-z-map", 420, 320);
-    web::draw_pole_map(
-        "wbt-z-map",
-        js(r#"{"closed_loop": [[0.98, 0.03], [0.98, -0.03]], "observer": [[0.9, 0.1], [0.9, -0.1]], "open_loop": [[1, 0]], "discrete": true}"#),
-    )
-    .expect("z-plane map drawn");
+    web::draw_pole_map("wbt-z-map", js(r#"{"closed_loop": [[0.98, 0.03], [0.98, -0.03]], "observer": [[0.9, 0.1], [0.9, -0.1]], "open_loop": [[1, 0]], "discrete": true}"#))
+        .expect("z-plane map drawn");
     assert!(distinct_colours(&canvas) > 5, "z-plane map has content");
 }

@@ -70,12 +70,7 @@ impl std::fmt::Display for EigenError {
             EigenError::NotSquare { rows, columns } => {
                 write!(f, "eigenvalues need a square matrix, got {rows}×{columns}")
             }
-            EigenError::NotFinite { row, column } => write!(
-                f,
-                "eigenvalues cannot be computed: entry ({}, {}) is not a finite number",
-                row + 1,
-                column + 1
-            ),
+            EigenError::NotFinite { row, column } => write!(f, "eigenvalues cannot be computed: entry ({}, {}) is not a finite number", row + 1, column + 1),
             EigenError::NoConvergence { found, size, iterations } => write!(
                 f,
                 "the eigenvalue iteration did not converge after {iterations} sweeps \

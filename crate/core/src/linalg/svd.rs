@@ -53,10 +53,7 @@ impl std::fmt::Display for SvdError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
             SvdError::NotFinite => write!(f, "singular values cannot be computed: the matrix has a non-finite entry"),
-            SvdError::NoConvergence { rows, columns, limit } => write!(
-                f,
-                "the singular value iteration on a {rows}×{columns} matrix did not converge within {limit} sweeps"
-            ),
+            SvdError::NoConvergence { rows, columns, limit } => write!(f, "the singular value iteration on a {rows}×{columns} matrix did not converge within {limit} sweeps"),
         }
     }
 }
@@ -214,8 +211,7 @@ pub fn try_singular_values<T: ComplexField<RealField = f64>>(m: &DMatrix<T>, par
         return Ok(DVector::zeros(0));
     }
     let limit = limit_for(rows, columns, params);
-    let svd = nalgebra::SVD::try_new(m.clone(), false, false, f64::EPSILON, limit)
-        .ok_or(SvdError::NoConvergence { rows, columns, limit })?;
+    let svd = nalgebra::SVD::try_new(m.clone(), false, false, f64::EPSILON, limit).ok_or(SvdError::NoConvergence { rows, columns, limit })?;
     Ok(svd.singular_values)
 }
 

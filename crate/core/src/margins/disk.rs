@@ -38,7 +38,6 @@
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 
-
 /// Relative gap between the lower and upper bounds under which `μ` is reported as exact.
 pub const EXACT_GAP: f64 = 1e-3;
 

@@ -233,12 +233,7 @@ impl LoopModel {
     pub fn evaluator(&self) -> Result<Evaluator, MarginError> {
         let (e, acl) = self.closed_loop()?;
         let zero = DMatrix::zeros(e.nrows(), e.ncols());
-        Ok(Evaluator {
-            open: Reduced::new(&self.a, &self.b, &self.c, &self.d),
-            closed: Reduced::new(&acl, &(&self.b * &e), &(&e * &self.c), &zero),
-            e,
-            sample_time: self.sample_time,
-        })
+        Ok(Evaluator { open: Reduced::new(&self.a, &self.b, &self.c, &self.d), closed: Reduced::new(&acl, &(&self.b * &e), &(&e * &self.c), &zero), e, sample_time: self.sample_time })
     }
 
     /// `L` at the frequency `w` (rad/s) (for many frequencies, use [`LoopModel::evaluator`]).

@@ -134,10 +134,10 @@ use crate::linalg::eigen::{sort_eigenvalues, try_eigenvalues, EigenError};
 use crate::linalg::expm::{try_zero_order_hold, ExpmError};
 use crate::poles::{check_conjugate_pairs, PoleError};
 
-mod response;
 mod polynomials;
-pub use response::*;
+mod response;
 pub use polynomials::*;
+pub use response::*;
 
 /// Highest order of the Bessel, Butterworth and binomial patterns (the Bessel
 /// coefficients are exact integers up to this order, and a companion matrix of
@@ -165,14 +165,8 @@ pub const RISE_LEVELS: (f64, f64) = (0.1, 0.9);
 /// ITAE standard forms, ascending coefficients `a₀ … aₙ` with `ω₀ = 1`.
 /// Graham & Lathrop, "The synthesis of optimum transient response: criteria and
 /// standard forms", Trans. AIEE 72(II):273–288, 1953 — **from memory**.
-const ITAE_COEFFICIENTS: [&[f64]; ITAE_MAX_ORDER] = [
-    &[1.0, 1.0],
-    &[1.0, 1.4, 1.0],
-    &[1.0, 2.15, 1.75, 1.0],
-    &[1.0, 2.7, 3.4, 2.1, 1.0],
-    &[1.0, 3.4, 5.5, 5.0, 2.8, 1.0],
-    &[1.0, 3.95, 7.45, 8.6, 6.6, 3.25, 1.0],
-];
+const ITAE_COEFFICIENTS: [&[f64]; ITAE_MAX_ORDER] =
+    [&[1.0, 1.0], &[1.0, 1.4, 1.0], &[1.0, 2.15, 1.75, 1.0], &[1.0, 2.7, 3.4, 2.1, 1.0], &[1.0, 3.4, 5.5, 5.0, 2.8, 1.0], &[1.0, 3.95, 7.45, 8.6, 6.6, 3.25, 1.0]];
 
 // ----------------------------------------------------------------------------
 // errors
@@ -207,10 +201,7 @@ impl fmt::Display for PatternError {
             PatternError::InvalidValue { quantity, value, allowed } => {
                 write!(f, "{quantity} is {value}, but it must be {allowed}")
             }
-            PatternError::UnsupportedOrder { pattern, order, min, max } => write!(
-                f,
-                "the {pattern} pattern is available for orders {min} to {max}, not {order}"
-            ),
+            PatternError::UnsupportedOrder { pattern, order, min, max } => write!(f, "the {pattern} pattern is available for orders {min} to {max}, not {order}"),
             PatternError::NotStable { pole } => write!(
                 f,
                 "the pole {} is not in the open left half-plane, so the step response never settles; \
@@ -228,10 +219,7 @@ impl fmt::Display for PatternError {
                 "the step response had not settled after {horizon} s of simulation \
                  (the limit on horizon doublings was reached)"
             ),
-            PatternError::NoHalfPowerFrequency { searched_up_to } => write!(
-                f,
-                "no half-power (−3 dB) frequency was found below {searched_up_to} rad/s"
-            ),
+            PatternError::NoHalfPowerFrequency { searched_up_to } => write!(f, "no half-power (−3 dB) frequency was found below {searched_up_to} rad/s"),
             PatternError::Eigen(e) => write!(f, "finding polynomial roots failed: {e}"),
             PatternError::Expm(e) => write!(f, "simulating the step response failed: {e}"),
         }
@@ -314,13 +302,7 @@ impl Specification {
     /// A specification with the documented defaults: 2 % band, envelope bound, no
     /// speed requirement.
     pub fn new(overshoot: f64, settling_time: f64) -> Self {
-        Specification {
-            overshoot,
-            settling_time,
-            settling_band: DEFAULT_BAND,
-            settling_rule: SettlingRule::EnvelopeBound,
-            speed: None,
-        }
+        Specification { overshoot, settling_time, settling_band: DEFAULT_BAND, settling_rule: SettlingRule::EnvelopeBound, speed: None }
     }
 }
 
@@ -446,12 +428,7 @@ pub fn specification_region(spec: &Specification) -> Result<Region, PatternError
     let wn = natural_frequency.map_or(sigma / zeta, |w| w.max(sigma / zeta));
     let re = -zeta * wn;
     let im = wn * (1.0 - zeta * zeta).sqrt();
-    Ok(Region {
-        min_damping: zeta,
-        min_decay_rate: sigma,
-        natural_frequency,
-        dominant_pair: [Complex64::new(re, im), Complex64::new(re, -im)],
-    })
+    Ok(Region { min_damping: zeta, min_decay_rate: sigma, natural_frequency, dominant_pair: [Complex64::new(re, im), Complex64::new(re, -im)] })
 }
 
 /// Damping ratio of a pole, `−Re s / |s|` (1 on the negative real axis, negative in
@@ -497,11 +474,7 @@ impl fmt::Display for RegionViolation {
             ViolationKind::TooLittleDamping { damping } => {
                 write!(f, "pole {} ({p}) is too lightly damped (ζ = {damping})", self.index + 1)
             }
-            ViolationKind::TooLowNaturalFrequency { natural_frequency } => write!(
-                f,
-                "pole {} ({p}) is too slow for the rise time or bandwidth (|s| = {natural_frequency} rad/s)",
-                self.index + 1
-            ),
+            ViolationKind::TooLowNaturalFrequency { natural_frequency } => write!(f, "pole {} ({p}) is too slow for the rise time or bandwidth (|s| = {natural_frequency} rad/s)", self.index + 1),
         }
     }
 }
@@ -751,10 +724,7 @@ pub fn bessel_polynomial(order: usize) -> Result<Vec<u128>, PatternError> {
     c[order] = 1;
     for k in (1..=order).rev() {
         let kk = k as u128;
-        let num = c[k]
-            .checked_mul(2 * n - kk + 1)
-            .and_then(|v| v.checked_mul(kk))
-            .ok_or_else(|| overflow.clone())?;
+        let num = c[k].checked_mul(2 * n - kk + 1).and_then(|v| v.checked_mul(kk)).ok_or_else(|| overflow.clone())?;
         c[k - 1] = num / (2 * (n - kk + 1));
     }
     Ok(c)

@@ -157,12 +157,7 @@ pub fn step_figures(response: &StepResponse, band: f64) -> StepFigures {
         (Some(a), Some(b)) => Some(b - a),
         _ => None,
     };
-    StepFigures {
-        settling_time,
-        overshoot: (peak - 1.0).max(0.0),
-        peak_time: t.get(peak_index).copied().unwrap_or(0.0),
-        rise_time,
-    }
+    StepFigures { settling_time, overshoot: (peak - 1.0).max(0.0), peak_time: t.get(peak_index).copied().unwrap_or(0.0), rise_time }
 }
 
 /// Settling time of the unit-step response of `p(0)/p(s)`: the last instant at which

@@ -394,7 +394,18 @@ fn partial(a: &DMatrix<f64>, b: &DMatrix<f64>, st: &crate::analysis::Staircase, 
         return Err(PlacementError::PoleCount { expected: n, controllable: nc, found: poles.len() });
     };
     let mut core = if nc == 0 {
-        Core { gain: DMatrix::zeros(m, n), iterations: 0, converged: true, condition: 1.0, balanced_condition: 1.0, abs_det: 1.0, rank: 0, method: PlacementMethod::Robust, eigenvectors: None, branch: Branch::Fresh }
+        Core {
+            gain: DMatrix::zeros(m, n),
+            iterations: 0,
+            converged: true,
+            condition: 1.0,
+            balanced_condition: 1.0,
+            abs_det: 1.0,
+            rank: 0,
+            method: PlacementMethod::Robust,
+            eigenvectors: None,
+            branch: Branch::Fresh,
+        }
     } else {
         let ac = st.a.view((0, 0), (nc, nc)).into_owned();
         let bc = st.b.rows(0, nc).into_owned();
@@ -655,7 +666,11 @@ fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], param
     let s: Vec<f64> = (0..m)
         .map(|j| {
             let c = b_bal.column(j).norm();
-            if c > 0.0 { 2f64.powi((anorm / c).log2().round() as i32) } else { 1.0 }
+            if c > 0.0 {
+                2f64.powi((anorm / c).log2().round() as i32)
+            } else {
+                1.0
+            }
         })
         .collect();
     let b_scaled = DMatrix::from_fn(n, m, |i, j| b_bal[(i, j)] * s[j]);

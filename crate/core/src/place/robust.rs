@@ -79,8 +79,7 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
     if r > 1 {
         starts.extend(initial_x_seeded(&slots, &subspaces, &ordered, n, 0x5DEECE66D));
     }
-    let real_subspaces: Vec<Option<DMatrix<f64>>> =
-        slots.iter().zip(&subspaces).map(|(slot, s)| matches!(slot, Slot::Real(_)).then(|| s.map(|z| z.re))).collect();
+    let real_subspaces: Vec<Option<DMatrix<f64>>> = slots.iter().zip(&subspaces).map(|(slot, s)| matches!(slot, Slot::Real(_)).then(|| s.map(|z| z.re))).collect();
     let mut runs: Vec<Refinement> = Vec::new();
     for x0 in starts {
         let Some(run) = Refinement::new(x0, &slots)? else { continue };
@@ -130,11 +129,7 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
                 let k = gain_from_eigenvectors(a, b, &left, &followed.x, &ordered)?;
                 let fresh_norm = fresh_gain.norm().max(f64::MIN_POSITIVE);
                 let gain_difference = (&k - &fresh_gain).norm() / fresh_norm;
-                branch = if followed.drift > params.branch_drift_limit {
-                    Branch::Lost { drift: followed.drift }
-                } else {
-                    Branch::Followed { fresh_condition: condition, gain_difference }
-                };
+                branch = if followed.drift > params.branch_drift_limit { Branch::Lost { drift: followed.drift } } else { Branch::Followed { fresh_condition: condition, gain_difference } };
                 x = followed.x;
                 condition = followed.condition;
                 converged = followed.converged;
@@ -161,7 +156,13 @@ struct Followed {
 }
 
 /// Refines the continuation's start `x0` to the local maximiser of `|det X|` (tight stop).
-fn follow_branch(x0: DMatrix<Complex64>, slots: &[Slot], subspaces: &[DMatrix<Complex64>], real_subspaces: &[Option<DMatrix<f64>>], params: PlacementParams) -> Result<Option<Followed>, PlacementError> {
+fn follow_branch(
+    x0: DMatrix<Complex64>,
+    slots: &[Slot],
+    subspaces: &[DMatrix<Complex64>],
+    real_subspaces: &[Option<DMatrix<f64>>],
+    params: PlacementParams,
+) -> Result<Option<Followed>, PlacementError> {
     let start = x0.clone();
     let Some(mut run) = Refinement::new(x0, slots)? else { return Ok(None) };
     // Converged tightly: |det X| is flat at its maximum, so a loose stop leaves X behind the
@@ -522,9 +523,6 @@ fn project(s: &DMatrix<Complex64>, y: &DVector<Complex64>) -> DVector<Complex64>
     s * (s.adjoint() * y)
 }
 
-
-
-
 pub(super) fn abs_det(x: &DMatrix<Complex64>) -> f64 {
     x.clone().lu().determinant().norm()
 }
@@ -612,7 +610,15 @@ fn initial_x_seeded(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &
     let mut x = DMatrix::<Complex64>::zeros(n, n);
     for (k, slot) in slots.iter().enumerate() {
         let s = &subspaces[k];
-        let c = DVector::from_fn(s.ncols(), |_, _| Complex64::new(next(), match slot { Slot::Real(_) => 0.0, Slot::Pair(_) => next() }));
+        let c = DVector::from_fn(s.ncols(), |_, _| {
+            Complex64::new(
+                next(),
+                match slot {
+                    Slot::Real(_) => 0.0,
+                    Slot::Pair(_) => next(),
+                },
+            )
+        });
         let mut v = s * c;
         if let Slot::Real(_) = slot {
             for z in v.iter_mut() {
@@ -667,7 +673,6 @@ fn continued_start(slots: &[Slot], subspaces: &[DMatrix<Complex64>], ordered: &[
     }
     Some(x)
 }
-
 
 /// The largest `1 − |x_jᴴ y_j|` over the columns of two unit-column matrices: how far the
 /// sweeps moved each eigenvector from where the continuation started it.

@@ -337,24 +337,12 @@ pub enum RiccatiError {
 impl std::fmt::Display for RiccatiError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            RiccatiError::DimensionMismatch { matrix, expected, found } => write!(
-                f,
-                "{} must be {}×{}, got {}×{}",
-                matrix.describe(),
-                expected.0,
-                expected.1,
-                found.0,
-                found.1
-            ),
+            RiccatiError::DimensionMismatch { matrix, expected, found } => write!(f, "{} must be {}×{}, got {}×{}", matrix.describe(), expected.0, expected.1, found.0, found.1),
             RiccatiError::Empty => write!(f, "the problem needs at least one state and one input"),
             RiccatiError::NotFinite { matrix } => {
                 write!(f, "{} has an entry that is not a finite number", matrix.describe())
             }
-            RiccatiError::NotSymmetric { matrix, relative_asymmetry } => write!(
-                f,
-                "{} must be symmetric (relative asymmetry {relative_asymmetry:.3e}); use (M + Mᵀ)/2",
-                matrix.describe()
-            ),
+            RiccatiError::NotSymmetric { matrix, relative_asymmetry } => write!(f, "{} must be symmetric (relative asymmetry {relative_asymmetry:.3e}); use (M + Mᵀ)/2", matrix.describe()),
             RiccatiError::StateWeightNotSemidefinite { smallest, relative, cause } => {
                 let short = |v: f64| crate::poles::format_complex(Complex64::new(format!("{v:.4e}").parse().unwrap_or(v), 0.0));
                 write!(
@@ -367,10 +355,7 @@ impl std::fmt::Display for RiccatiError {
                     short(-*smallest)
                 )
             }
-            RiccatiError::InputWeightNotPositiveDefinite => write!(
-                f,
-                "the input weight R must be positive definite (every input needs a positive cost)"
-            ),
+            RiccatiError::InputWeightNotPositiveDefinite => write!(f, "the input weight R must be positive definite (every input needs a positive cost)"),
             RiccatiError::NotStabilizable { mode, margin } => write!(
                 f,
                 "the plant is not stabilisable: the mode {} is not stable and cannot be moved \
@@ -394,11 +379,7 @@ impl std::fmt::Display for RiccatiError {
             RiccatiError::SingularMatrix { stage } => {
                 write!(f, "{} met a singular matrix", stage.describe())
             }
-            RiccatiError::NotStabilizing { pole } => write!(
-                f,
-                "the computed Riccati solution does not stabilise the loop (closed-loop pole {})",
-                format_complex(*pole)
-            ),
+            RiccatiError::NotStabilizing { pole } => write!(f, "the computed Riccati solution does not stabilise the loop (closed-loop pole {})", format_complex(*pole)),
             RiccatiError::InaccurateSolution { residual, limit } => write!(
                 f,
                 "the Riccati solution is inaccurate (normalised residual {residual:.1e}, accepted \
@@ -496,13 +477,7 @@ pub struct LqrDesign {
 /// # Errors
 /// See [`RiccatiError`]: input checks, [`RiccatiError::NotStabilizable`],
 /// [`RiccatiError::NotDetectable`], or a capped iteration.
-pub fn solve_continuous_riccati(
-    a: &DMatrix<f64>,
-    b: &DMatrix<f64>,
-    q: &DMatrix<f64>,
-    r: &DMatrix<f64>,
-    params: RiccatiParams,
-) -> Result<RiccatiSolution, RiccatiError> {
+pub fn solve_continuous_riccati(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatrix<f64>, params: RiccatiParams) -> Result<RiccatiSolution, RiccatiError> {
     let data = Problem::new(a, b, q, r, params)?;
     continuous_core(&data, params).map(|(s, _, _)| s).map_err(|e| data.explain(e))
 }
@@ -511,13 +486,7 @@ pub fn solve_continuous_riccati(
 ///
 /// # Errors
 /// As [`solve_continuous_riccati`].
-pub fn solve_discrete_riccati(
-    a: &DMatrix<f64>,
-    b: &DMatrix<f64>,
-    q: &DMatrix<f64>,
-    r: &DMatrix<f64>,
-    params: RiccatiParams,
-) -> Result<RiccatiSolution, RiccatiError> {
+pub fn solve_discrete_riccati(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatrix<f64>, params: RiccatiParams) -> Result<RiccatiSolution, RiccatiError> {
     let data = Problem::new(a, b, q, r, params)?;
     discrete_core(&data, params).map(|(s, _, _)| s).map_err(|e| data.explain(e))
 }
@@ -534,13 +503,7 @@ pub fn lqr_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatri
 ///
 /// # Errors
 /// See [`RiccatiError`].
-pub fn lqr_gain_with(
-    a: &DMatrix<f64>,
-    b: &DMatrix<f64>,
-    q: &DMatrix<f64>,
-    r: &DMatrix<f64>,
-    params: RiccatiParams,
-) -> Result<LqrDesign, RiccatiError> {
+pub fn lqr_gain_with(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatrix<f64>, params: RiccatiParams) -> Result<LqrDesign, RiccatiError> {
     let data = Problem::new(a, b, q, r, params)?;
     let (s, gain, poles) = continuous_core(&data, params).map_err(|e| data.explain(e))?;
     Ok(LqrDesign { gain, riccati_solution: s.solution, residual: s.residual, closed_loop_poles: poles, iterations: s.iterations, state_weight_smallest_eigenvalue: data.indefinite })
@@ -559,13 +522,7 @@ pub fn discrete_lqr_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r
 ///
 /// # Errors
 /// See [`RiccatiError`].
-pub fn discrete_lqr_gain_with(
-    a: &DMatrix<f64>,
-    b: &DMatrix<f64>,
-    q: &DMatrix<f64>,
-    r: &DMatrix<f64>,
-    params: RiccatiParams,
-) -> Result<LqrDesign, RiccatiError> {
+pub fn discrete_lqr_gain_with(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatrix<f64>, params: RiccatiParams) -> Result<LqrDesign, RiccatiError> {
     let data = Problem::new(a, b, q, r, params)?;
     let (s, gain, poles) = discrete_core(&data, params).map_err(|e| data.explain(e))?;
     Ok(LqrDesign { gain, riccati_solution: s.solution, residual: s.residual, closed_loop_poles: poles, iterations: s.iterations, state_weight_smallest_eigenvalue: data.indefinite })
@@ -629,13 +586,7 @@ pub fn bryson_weights(max_state: &[f64], max_input: &[f64]) -> Result<(DMatrix<f
 ///
 /// # Errors
 /// Input checks as for [`solve_continuous_riccati`], plus a shape check of `x`.
-pub fn continuous_riccati_residual(
-    a: &DMatrix<f64>,
-    b: &DMatrix<f64>,
-    q: &DMatrix<f64>,
-    r: &DMatrix<f64>,
-    x: &DMatrix<f64>,
-) -> Result<f64, RiccatiError> {
+pub fn continuous_riccati_residual(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatrix<f64>, x: &DMatrix<f64>) -> Result<f64, RiccatiError> {
     let data = Problem::new(a, b, q, r, RiccatiParams::default())?;
     check_solution_shape(&data, x)?;
     Ok(continuous_residual(&data, x).1)
@@ -646,13 +597,7 @@ pub fn continuous_riccati_residual(
 /// # Errors
 /// Input checks as for [`solve_discrete_riccati`], plus a shape check of `x`;
 /// [`RiccatiError::SingularMatrix`] if `R + Bᵀ X B` is singular.
-pub fn discrete_riccati_residual(
-    a: &DMatrix<f64>,
-    b: &DMatrix<f64>,
-    q: &DMatrix<f64>,
-    r: &DMatrix<f64>,
-    x: &DMatrix<f64>,
-) -> Result<f64, RiccatiError> {
+pub fn discrete_riccati_residual(a: &DMatrix<f64>, b: &DMatrix<f64>, q: &DMatrix<f64>, r: &DMatrix<f64>, x: &DMatrix<f64>) -> Result<f64, RiccatiError> {
     let data = Problem::new(a, b, q, r, RiccatiParams::default())?;
     check_solution_shape(&data, x)?;
     discrete_residual(&data, x).map(|d| d.normalised)
@@ -836,7 +781,13 @@ fn continuous_residual(data: &Problem, x: &DMatrix<f64>) -> (DMatrix<f64>, f64) 
     let res = &atx + atx.transpose() - &xgx + &data.q;
     let denom = data.q.norm() + 2.0 * atx.norm() + xgx.norm();
     let num = res.norm();
-    let normalised = if denom > 0.0 { num / denom } else if num == 0.0 { 0.0 } else { f64::INFINITY };
+    let normalised = if denom > 0.0 {
+        num / denom
+    } else if num == 0.0 {
+        0.0
+    } else {
+        f64::INFINITY
+    };
     (res, normalised)
 }
 
@@ -875,7 +826,13 @@ fn discrete_residual(data: &Problem, x: &DMatrix<f64>) -> Result<DiscreteResidua
     let res = symmetrize(&(&ata - x - &correction + &data.q));
     let denom = data.q.norm() + ata.norm() + x.norm() + correction.norm();
     let num = res.norm();
-    let normalised = if denom > 0.0 { num / denom } else if num == 0.0 { 0.0 } else { f64::INFINITY };
+    let normalised = if denom > 0.0 {
+        num / denom
+    } else if num == 0.0 {
+        0.0
+    } else {
+        f64::INFINITY
+    };
     Ok(DiscreteResidual { matrix: res, normalised, gain })
 }
 

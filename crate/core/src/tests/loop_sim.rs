@@ -6,12 +6,7 @@
 use super::*;
 
 fn double_integrator() -> (DMatrix<f64>, DMatrix<f64>, DMatrix<f64>, DMatrix<f64>) {
-    (
-        DMatrix::from_row_slice(2, 2, &[0.0, 1.0, 0.0, 0.0]),
-        DMatrix::from_row_slice(2, 1, &[0.0, 1.0]),
-        DMatrix::from_row_slice(1, 2, &[1.0, 0.0]),
-        DMatrix::zeros(1, 1),
-    )
+    (DMatrix::from_row_slice(2, 2, &[0.0, 1.0, 0.0, 0.0]), DMatrix::from_row_slice(2, 1, &[0.0, 1.0]), DMatrix::from_row_slice(1, 2, &[1.0, 0.0]), DMatrix::zeros(1, 1))
 }
 
 fn scenario(duration: f64) -> LoopScenario {

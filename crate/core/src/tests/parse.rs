@@ -14,13 +14,7 @@ fn matrix(rows: usize, columns: usize, values: &[f64]) -> DMatrix<f64> {
 #[test]
 fn spaces_tabs_commas_and_mixes() {
     let expected = matrix(2, 3, &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0]);
-    for text in [
-        "1 2 3\n4 5 6",
-        "1\t2\t3\n4\t5\t6",
-        "1,2,3\n4,5,6",
-        "1, 2  3\n4 ,5,\t6",
-        "  1   2   3  \n\t4 5 6\t",
-    ] {
+    for text in ["1 2 3\n4 5 6", "1\t2\t3\n4\t5\t6", "1,2,3\n4,5,6", "1, 2  3\n4 ,5,\t6", "  1   2   3  \n\t4 5 6\t"] {
         assert_eq!(parse_matrix(text), Ok(expected.clone()), "text {text:?}");
     }
 }
@@ -35,39 +29,23 @@ fn crlf_line_endings_and_trailing_newline() {
 #[test]
 fn blank_lines_are_ignored_and_not_counted() {
     let expected = matrix(2, 2, &[1.0, 2.0, 3.0, 4.0]);
-    assert_eq!(
-        parse_matrix("\n\n1 2\n   \n\t\n3 4\n\n"),
-        Ok(expected.clone())
-    );
+    assert_eq!(parse_matrix("\n\n1 2\n   \n\t\n3 4\n\n"), Ok(expected.clone()));
     // Row numbering skips the blank lines: the "x" is on the third text line
     // but in matrix row 2.
-    assert_eq!(
-        parse_matrix("1 2\n\n3 x"),
-        Err(MatrixParseError::BadToken {
-            row: 2,
-            column: 2,
-            token: "x".into()
-        })
-    );
+    assert_eq!(parse_matrix("1 2\n\n3 x"), Err(MatrixParseError::BadToken { row: 2, column: 2, token: "x".into() }));
 }
 
 #[test]
 fn trailing_comma_tolerated() {
     assert_eq!(parse_matrix("1,2,3,"), Ok(matrix(1, 3, &[1.0, 2.0, 3.0])));
-    assert_eq!(
-        parse_matrix("1,2,3 ,  "),
-        Ok(matrix(1, 3, &[1.0, 2.0, 3.0]))
-    );
+    assert_eq!(parse_matrix("1,2,3 ,  "), Ok(matrix(1, 3, &[1.0, 2.0, 3.0])));
 }
 
 #[test]
 fn number_syntax() {
     let m = parse_matrix("1e-3 -2.5E+4 +3 .5 4. -0 1E3 -.25").unwrap();
     let values: Vec<f64> = m.iter().copied().collect();
-    assert_eq!(
-        values,
-        vec![1e-3, -2.5e4, 3.0, 0.5, 4.0, 0.0, 1000.0, -0.25]
-    );
+    assert_eq!(values, vec![1e-3, -2.5e4, 3.0, 0.5, 4.0, 0.0, 1000.0, -0.25]);
     // Tiny numbers underflow quietly to zero or a subnormal; that is fine.
     assert!(parse_matrix("1e-999").is_ok());
 }
@@ -80,10 +58,7 @@ fn single_entry_and_column() {
 
 #[test]
 fn byte_order_mark_ignored() {
-    assert_eq!(
-        parse_matrix("\u{feff}1 2\n3 4"),
-        Ok(matrix(2, 2, &[1.0, 2.0, 3.0, 4.0]))
-    );
+    assert_eq!(parse_matrix("\u{feff}1 2\n3 4"), Ok(matrix(2, 2, &[1.0, 2.0, 3.0, 4.0])));
     assert_eq!(parse_matrix("\u{feff}[[1]]"), Ok(matrix(1, 1, &[1.0])));
 }
 
@@ -99,52 +74,17 @@ fn empty_inputs() {
 
 #[test]
 fn stray_tokens() {
-    assert_eq!(
-        parse_matrix("1 2 x"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 3,
-            token: "x".into()
-        })
-    );
-    assert_eq!(
-        parse_matrix("1 2 3\n4 5 6)"),
-        Err(MatrixParseError::BadToken {
-            row: 2,
-            column: 3,
-            token: "6)".into()
-        })
-    );
+    assert_eq!(parse_matrix("1 2 x"), Err(MatrixParseError::BadToken { row: 1, column: 3, token: "x".into() }));
+    assert_eq!(parse_matrix("1 2 3\n4 5 6)"), Err(MatrixParseError::BadToken { row: 2, column: 3, token: "6)".into() }));
     // Semicolons are recognised as another notation's row separator, and explained.
     assert_eq!(parse_matrix("1;2"), Err(MatrixParseError::SemicolonRows { groups: 2 }));
-    assert_eq!(
-        parse_matrix("1 -"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 2,
-            token: "-".into()
-        })
-    );
-    assert_eq!(
-        parse_matrix("1 1e"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 2,
-            token: "1e".into()
-        })
-    );
+    assert_eq!(parse_matrix("1 -"), Err(MatrixParseError::BadToken { row: 1, column: 2, token: "-".into() }));
+    assert_eq!(parse_matrix("1 1e"), Err(MatrixParseError::BadToken { row: 1, column: 2, token: "1e".into() }));
 }
 
 #[test]
 fn unicode_junk() {
-    assert_eq!(
-        parse_matrix("1 ☃ 3"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 2,
-            token: "☃".into()
-        })
-    );
+    assert_eq!(parse_matrix("1 ☃ 3"), Err(MatrixParseError::BadToken { row: 1, column: 2, token: "☃".into() }));
     // The typographic minus is read as a minus.
     assert_eq!(parse_matrix("1 \u{2212}2"), Ok(matrix(1, 2, &[1.0, -2.0])));
     // Non-breaking spaces count as spaces.
@@ -155,29 +95,14 @@ fn unicode_junk() {
 fn non_finite_words_any_case() {
     for word in ["nan", "NaN", "inf", "-inf", "+Infinity", "INFINITY", "-NAN"] {
         let text = format!("1 2\n3 {word}");
-        assert_eq!(
-            parse_matrix(&text),
-            Err(MatrixParseError::NotFinite {
-                row: 2,
-                column: 2,
-                token: word.into()
-            }),
-            "{word}"
-        );
+        assert_eq!(parse_matrix(&text), Err(MatrixParseError::NotFinite { row: 2, column: 2, token: word.into() }), "{word}");
     }
 }
 
 #[test]
 fn overflow_is_not_finite() {
     let err = parse_matrix("1e999").unwrap_err();
-    assert_eq!(
-        err,
-        MatrixParseError::NotFinite {
-            row: 1,
-            column: 1,
-            token: "1e999".into()
-        }
-    );
+    assert_eq!(err, MatrixParseError::NotFinite { row: 1, column: 1, token: "1e999".into() });
     let message = err.to_string();
     assert!(message.contains("\"1e999\""), "{message}");
     assert!(message.contains("too large"), "{message}");
@@ -188,73 +113,27 @@ fn overflow_is_not_finite() {
 
 #[test]
 fn empty_entries() {
-    assert_eq!(
-        parse_matrix("1,,2"),
-        Err(MatrixParseError::EmptyEntry { row: 1, column: 2 })
-    );
-    assert_eq!(
-        parse_matrix("1 2\n3, ,4"),
-        Err(MatrixParseError::EmptyEntry { row: 2, column: 2 })
-    );
-    assert_eq!(
-        parse_matrix(",1,2"),
-        Err(MatrixParseError::EmptyEntry { row: 1, column: 1 })
-    );
-    assert_eq!(
-        parse_matrix("1,2,,"),
-        Err(MatrixParseError::EmptyEntry { row: 1, column: 3 })
-    );
-    assert_eq!(
-        parse_matrix(","),
-        Err(MatrixParseError::EmptyEntry { row: 1, column: 1 })
-    );
+    assert_eq!(parse_matrix("1,,2"), Err(MatrixParseError::EmptyEntry { row: 1, column: 2 }));
+    assert_eq!(parse_matrix("1 2\n3, ,4"), Err(MatrixParseError::EmptyEntry { row: 2, column: 2 }));
+    assert_eq!(parse_matrix(",1,2"), Err(MatrixParseError::EmptyEntry { row: 1, column: 1 }));
+    assert_eq!(parse_matrix("1,2,,"), Err(MatrixParseError::EmptyEntry { row: 1, column: 3 }));
+    assert_eq!(parse_matrix(","), Err(MatrixParseError::EmptyEntry { row: 1, column: 1 }));
 }
 
 #[test]
 fn ragged_rows() {
     let err = parse_matrix("1 2 3\n4 5 6\n7 8").unwrap_err();
-    assert_eq!(
-        err,
-        MatrixParseError::RaggedRow {
-            row: 3,
-            expected: 3,
-            found: 2
-        }
-    );
-    assert_eq!(
-        err.to_string(),
-        "row 3 has 2 entries but row 1 has 3; every row needs the same number of entries"
-    );
-    assert_eq!(
-        parse_matrix("1\n2 3"),
-        Err(MatrixParseError::RaggedRow {
-            row: 2,
-            expected: 1,
-            found: 2
-        })
-    );
+    assert_eq!(err, MatrixParseError::RaggedRow { row: 3, expected: 3, found: 2 });
+    assert_eq!(err.to_string(), "row 3 has 2 entries but row 1 has 3; every row needs the same number of entries");
+    assert_eq!(parse_matrix("1\n2 3"), Err(MatrixParseError::RaggedRow { row: 2, expected: 1, found: 2 }));
     // Blank lines do not shift the row number.
-    assert_eq!(
-        parse_matrix("1 2\n\n\n3"),
-        Err(MatrixParseError::RaggedRow {
-            row: 2,
-            expected: 2,
-            found: 1
-        })
-    );
+    assert_eq!(parse_matrix("1 2\n\n\n3"), Err(MatrixParseError::RaggedRow { row: 2, expected: 2, found: 1 }));
 }
 
 #[test]
 fn first_error_in_reading_order_wins() {
     // Row 2 is ragged before row 3's bad token is reached.
-    assert_eq!(
-        parse_matrix("1 2\n3\n4 x"),
-        Err(MatrixParseError::RaggedRow {
-            row: 2,
-            expected: 2,
-            found: 1
-        })
-    );
+    assert_eq!(parse_matrix("1 2\n3\n4 x"), Err(MatrixParseError::RaggedRow { row: 2, expected: 2, found: 1 }));
 }
 
 #[test]
@@ -273,31 +152,16 @@ fn long_tokens_are_shortened() {
 
 #[test]
 fn json_nested_and_flat() {
-    assert_eq!(
-        parse_matrix("[[1,2],[3,4]]"),
-        Ok(matrix(2, 2, &[1.0, 2.0, 3.0, 4.0]))
-    );
-    assert_eq!(
-        parse_matrix("  [\n  [1, 2.5e-1],\r\n  [-3, .5]\n]\n"),
-        Ok(matrix(2, 2, &[1.0, 0.25, -3.0, 0.5]))
-    );
-    assert_eq!(
-        parse_matrix("[1, 2, 3]"),
-        Ok(matrix(1, 3, &[1.0, 2.0, 3.0]))
-    );
+    assert_eq!(parse_matrix("[[1,2],[3,4]]"), Ok(matrix(2, 2, &[1.0, 2.0, 3.0, 4.0])));
+    assert_eq!(parse_matrix("  [\n  [1, 2.5e-1],\r\n  [-3, .5]\n]\n"), Ok(matrix(2, 2, &[1.0, 0.25, -3.0, 0.5])));
+    assert_eq!(parse_matrix("[1, 2, 3]"), Ok(matrix(1, 3, &[1.0, 2.0, 3.0])));
     assert_eq!(parse_matrix("[[7]]"), Ok(matrix(1, 1, &[7.0])));
-    assert_eq!(
-        parse_matrix("[[1],[2],[3]]"),
-        Ok(matrix(3, 1, &[1.0, 2.0, 3.0]))
-    );
+    assert_eq!(parse_matrix("[[1],[2],[3]]"), Ok(matrix(3, 1, &[1.0, 2.0, 3.0])));
 }
 
 #[test]
 fn json_trailing_commas_tolerated() {
-    assert_eq!(
-        parse_matrix("[[1,2,],[3,4],]"),
-        Ok(matrix(2, 2, &[1.0, 2.0, 3.0, 4.0]))
-    );
+    assert_eq!(parse_matrix("[[1,2,],[3,4],]"), Ok(matrix(2, 2, &[1.0, 2.0, 3.0, 4.0])));
     assert_eq!(parse_matrix("[1,2,]"), Ok(matrix(1, 2, &[1.0, 2.0])));
 }
 
@@ -310,90 +174,25 @@ fn json_empty() {
 
 #[test]
 fn json_bad_and_non_finite_tokens() {
-    assert_eq!(
-        parse_matrix("[[1,2],[3,x]]"),
-        Err(MatrixParseError::BadToken {
-            row: 2,
-            column: 2,
-            token: "x".into()
-        })
-    );
-    assert_eq!(
-        parse_matrix("[1, null]"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 2,
-            token: "null".into()
-        })
-    );
-    assert_eq!(
-        parse_matrix("[[1, \"2\"]]"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 2,
-            token: "\"2\"".into()
-        })
-    );
-    assert_eq!(
-        parse_matrix("[[1],[NaN]]"),
-        Err(MatrixParseError::NotFinite {
-            row: 2,
-            column: 1,
-            token: "NaN".into()
-        })
-    );
-    assert_eq!(
-        parse_matrix("[[1e999]]"),
-        Err(MatrixParseError::NotFinite {
-            row: 1,
-            column: 1,
-            token: "1e999".into()
-        })
-    );
-    assert_eq!(
-        parse_matrix("[[1, 2#]]"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 2,
-            token: "2#".into()
-        })
-    );
+    assert_eq!(parse_matrix("[[1,2],[3,x]]"), Err(MatrixParseError::BadToken { row: 2, column: 2, token: "x".into() }));
+    assert_eq!(parse_matrix("[1, null]"), Err(MatrixParseError::BadToken { row: 1, column: 2, token: "null".into() }));
+    assert_eq!(parse_matrix("[[1, \"2\"]]"), Err(MatrixParseError::BadToken { row: 1, column: 2, token: "\"2\"".into() }));
+    assert_eq!(parse_matrix("[[1],[NaN]]"), Err(MatrixParseError::NotFinite { row: 2, column: 1, token: "NaN".into() }));
+    assert_eq!(parse_matrix("[[1e999]]"), Err(MatrixParseError::NotFinite { row: 1, column: 1, token: "1e999".into() }));
+    assert_eq!(parse_matrix("[[1, 2#]]"), Err(MatrixParseError::BadToken { row: 1, column: 2, token: "2#".into() }));
 }
 
 #[test]
 fn json_empty_entries() {
-    assert_eq!(
-        parse_matrix("[[1,,2]]"),
-        Err(MatrixParseError::EmptyEntry { row: 1, column: 2 })
-    );
-    assert_eq!(
-        parse_matrix("[[1,2],[,3,4]]"),
-        Err(MatrixParseError::EmptyEntry { row: 2, column: 1 })
-    );
-    assert_eq!(
-        parse_matrix("[,]"),
-        Err(MatrixParseError::EmptyEntry { row: 1, column: 1 })
-    );
+    assert_eq!(parse_matrix("[[1,,2]]"), Err(MatrixParseError::EmptyEntry { row: 1, column: 2 }));
+    assert_eq!(parse_matrix("[[1,2],[,3,4]]"), Err(MatrixParseError::EmptyEntry { row: 2, column: 1 }));
+    assert_eq!(parse_matrix("[,]"), Err(MatrixParseError::EmptyEntry { row: 1, column: 1 }));
 }
 
 #[test]
 fn json_ragged() {
-    assert_eq!(
-        parse_matrix("[[1,2,3],[4,5]]"),
-        Err(MatrixParseError::RaggedRow {
-            row: 2,
-            expected: 3,
-            found: 2
-        })
-    );
-    assert_eq!(
-        parse_matrix("[[1,2],[]]"),
-        Err(MatrixParseError::RaggedRow {
-            row: 2,
-            expected: 2,
-            found: 0
-        })
-    );
+    assert_eq!(parse_matrix("[[1,2,3],[4,5]]"), Err(MatrixParseError::RaggedRow { row: 2, expected: 3, found: 2 }));
+    assert_eq!(parse_matrix("[[1,2],[]]"), Err(MatrixParseError::RaggedRow { row: 2, expected: 2, found: 0 }));
 }
 
 fn json_position(text: &str) -> usize {
@@ -449,28 +248,9 @@ fn vectors() {
     assert_eq!(parse_vector("[[1, 2, 3]]"), Ok(vec![1.0, 2.0, 3.0]));
     assert_eq!(parse_vector("[[1], [2], [3]]"), Ok(vec![1.0, 2.0, 3.0]));
     assert_eq!(parse_vector("5"), Ok(vec![5.0]));
-    assert_eq!(
-        parse_vector("1 2\n3 4\n5 6"),
-        Err(MatrixParseError::NotAVector {
-            rows: 3,
-            columns: 2
-        })
-    );
-    assert_eq!(
-        parse_vector("[[1,2],[3,4]]"),
-        Err(MatrixParseError::NotAVector {
-            rows: 2,
-            columns: 2
-        })
-    );
-    assert_eq!(
-        parse_vector("1 x"),
-        Err(MatrixParseError::BadToken {
-            row: 1,
-            column: 2,
-            token: "x".into()
-        })
-    );
+    assert_eq!(parse_vector("1 2\n3 4\n5 6"), Err(MatrixParseError::NotAVector { rows: 3, columns: 2 }));
+    assert_eq!(parse_vector("[[1,2],[3,4]]"), Err(MatrixParseError::NotAVector { rows: 2, columns: 2 }));
+    assert_eq!(parse_vector("1 x"), Err(MatrixParseError::BadToken { row: 1, column: 2, token: "x".into() }));
     assert_eq!(parse_vector("[]"), Err(MatrixParseError::Empty));
 }
 
@@ -478,10 +258,7 @@ fn vectors() {
 
 #[test]
 fn names() {
-    assert_eq!(
-        parse_names(" x1, x2\nvelocity\r\n\t angle ,,\n"),
-        vec!["x1", "x2", "velocity", "angle"]
-    );
+    assert_eq!(parse_names(" x1, x2\nvelocity\r\n\t angle ,,\n"), vec!["x1", "x2", "velocity", "angle"]);
     assert_eq!(parse_names("cart position"), vec!["cart position"]);
     assert!(parse_names("").is_empty());
     assert!(parse_names(" , \n\t,").is_empty());
@@ -492,11 +269,7 @@ fn names() {
 
 #[test]
 fn display_messages() {
-    let bad = MatrixParseError::BadToken {
-        row: 2,
-        column: 3,
-        token: "x".into(),
-    };
+    let bad = MatrixParseError::BadToken { row: 2, column: 3, token: "x".into() };
     assert_eq!(
         bad.to_string(),
         "row 2, column 3: \"x\" is not a number; use digits, a decimal point and an \
@@ -506,18 +279,9 @@ fn display_messages() {
     let message = empty_entry.to_string();
     assert!(message.contains("row 4, column 2"), "{message}");
     assert!(message.contains("comma"), "{message}");
-    let ragged = MatrixParseError::RaggedRow {
-        row: 2,
-        expected: 3,
-        found: 1,
-    };
-    assert!(ragged
-        .to_string()
-        .starts_with("row 2 has 1 entry but row 1 has 3"));
-    let not_vector = MatrixParseError::NotAVector {
-        rows: 2,
-        columns: 3,
-    };
+    let ragged = MatrixParseError::RaggedRow { row: 2, expected: 3, found: 1 };
+    assert!(ragged.to_string().starts_with("row 2 has 1 entry but row 1 has 3"));
+    let not_vector = MatrixParseError::NotAVector { rows: 2, columns: 3 };
     assert!(not_vector.to_string().contains("2 rows and 3 columns"));
     assert!(MatrixParseError::Empty.to_string().contains("no numbers"));
     // Control characters in tokens are escaped, keeping the message on one line.
@@ -544,16 +308,12 @@ impl XorShift {
 
 #[test]
 fn random_strings_never_panic() {
-    let alphabet: Vec<char> = "0123456789.-+eEj i±,;\t\n\r[]x\"\u{feff}☃"
-        .chars()
-        .collect();
+    let alphabet: Vec<char> = "0123456789.-+eEj i±,;\t\n\r[]x\"\u{feff}☃".chars().collect();
     let mut rng = XorShift(0x9E37_79B9_7F4A_7C15);
     let mut accepted = 0;
     for _ in 0..6000 {
         let length = (rng.next() % 24) as usize;
-        let text: String = (0..length)
-            .map(|_| alphabet[(rng.next() % alphabet.len() as u64) as usize])
-            .collect();
+        let text: String = (0..length).map(|_| alphabet[(rng.next() % alphabet.len() as u64) as usize]).collect();
         match parse_matrix(&text) {
             Ok(m) => {
                 accepted += 1;

@@ -105,8 +105,5 @@ fn wrong_count_and_unpaired() {
     let a = DMatrix::from_row_slice(2, 2, &[0.0, 1.0, 0.0, 0.0]);
     let b = DMatrix::from_row_slice(2, 1, &[0.0, 1.0]);
     assert!(matches!(state_feedback_gain(&a, &b, &[c(-1.0, 0.0)], PlacementParams::default()), Err(PlacementError::PoleCount { .. })));
-    assert!(matches!(
-        state_feedback_gain(&a, &b, &[c(-1.0, 1.0), c(-2.0, 0.0)], PlacementParams::default()),
-        Err(PlacementError::InvalidPoles { .. })
-    ));
+    assert!(matches!(state_feedback_gain(&a, &b, &[c(-1.0, 1.0), c(-2.0, 0.0)], PlacementParams::default()), Err(PlacementError::InvalidPoles { .. })));
 }

@@ -5,9 +5,9 @@ use num_complex::Complex64;
 
 use super::{non_negative, outputs, plural, poles, positive, vector, Checker, DEFAULT_OBSERVER_SPEED, MAX_LOOP_SAMPLES};
 use crate::controller::{AntiWindup, ObserverForm};
+use crate::plant::Plant;
 use crate::spec::{AntiWindupMode, DesignSpec, ObserverFormChoice, PlaneChoice, TrackingMode, Whole};
 use crate::{fmt_num, ControllerSpec, DesignRequest, FieldPath as P, Implementation, ObserverPoles, ObserverSpec, Plane, ScenarioSpec, TrackingSpec};
-use crate::plant::Plant;
 
 /// Everything beyond the plain state feedback, field by field.
 pub(super) fn controller(spec: &DesignSpec, plant: Option<&Plant>, c: &mut Checker) -> ControllerSpec {
@@ -99,8 +99,10 @@ fn observer(spec: &DesignSpec, n: Option<usize>, has_c: Option<bool>, digital: b
                 c.push(P::ObserverPoles, "required with this choice: list one observer pole per state, or choose a speed factor instead");
                 None
             }
-            Some(r) => counted_poles(c, P::ObserverPoles, r, n, |k, n| format!("{} given but the plant has {}; give one observer pole per state", plural(k, "pole", "poles"), plural(n, "state", "states")))
-                .map(ObserverPoles::Given),
+            Some(r) => {
+                counted_poles(c, P::ObserverPoles, r, n, |k, n| format!("{} given but the plant has {}; give one observer pole per state", plural(k, "pole", "poles"), plural(n, "state", "states")))
+                    .map(ObserverPoles::Given)
+            }
         },
         (None, Some(f)) => match positive(f, "how many times faster than the controller poles", "4") {
             None => Some(ObserverPoles::SpeedFactor(DEFAULT_OBSERVER_SPEED)),
@@ -158,13 +160,24 @@ fn tracking(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, out: 
                 );
             }
             if mode == TrackingMode::Integral && o.len() > m {
-                c.push(P::TrackedOutputs, format!("integral action can hold at most as many outputs as there are inputs: {} tracked, {}; list fewer outputs", plural(o.len(), "output", "outputs"), plural(m, "input", "inputs")));
+                c.push(
+                    P::TrackedOutputs,
+                    format!(
+                        "integral action can hold at most as many outputs as there are inputs: {} tracked, {}; list fewer outputs",
+                        plural(o.len(), "output", "outputs"),
+                        plural(m, "input", "inputs")
+                    ),
+                );
             }
         }
         let integral_poles = match t.integral_poles.as_ref().filter(|_| mode == TrackingMode::Integral).and_then(poles) {
             None => Some(Vec::new()),
             Some(r) => counted_poles(c, P::IntegralPoles, r, tracked, |k, q| {
-                format!("{} given but {} tracked; give one pole per integrator, or leave this out and list them with the controller poles", plural(k, "pole", "poles"), plural(q, "output is", "outputs are"))
+                format!(
+                    "{} given but {} tracked; give one pole per integrator, or leave this out and list them with the controller poles",
+                    plural(k, "pole", "poles"),
+                    plural(q, "output is", "outputs are")
+                )
             }),
         };
         if t.integral_poles.is_some() && mode != TrackingMode::Integral {
@@ -270,10 +283,16 @@ pub(super) fn loop_length(req: &DesignRequest, spec: &ControllerSpec, c: &mut Ch
     let events = sc.reference_time.max(if sc.disturbance.is_empty() { 0.0 } else { sc.disturbance_time });
     if let Some(d) = req.duration {
         if !matches!(spec.tracking, TrackingSpec::None) && sc.reference_time > d {
-            c.push(P::ReferenceTime, format!("the reference step at {} s comes after the end of the simulated time ({} s); make it earlier, or simulate longer", fmt_num(sc.reference_time), fmt_num(d)));
+            c.push(
+                P::ReferenceTime,
+                format!("the reference step at {} s comes after the end of the simulated time ({} s); make it earlier, or simulate longer", fmt_num(sc.reference_time), fmt_num(d)),
+            );
         }
         if !sc.disturbance.is_empty() && sc.disturbance_time > d {
-            c.push(P::DisturbanceTime, format!("the load step at {} s comes after the end of the simulated time ({} s); make it earlier, or simulate longer", fmt_num(sc.disturbance_time), fmt_num(d)));
+            c.push(
+                P::DisturbanceTime,
+                format!("the load step at {} s comes after the end of the simulated time ({} s); make it earlier, or simulate longer", fmt_num(sc.disturbance_time), fmt_num(d)),
+            );
         }
     }
     let Some(t) = spec.sample_time() else { return };

@@ -2,10 +2,10 @@
 
 use nalgebra::DMatrix;
 
-use super::{blank, limits, matrix, names, plural, positive, band_fraction, vector, Basics, Checker};
+use super::{band_fraction, blank, limits, matrix, names, plural, positive, vector, Basics, Checker};
+use crate::plant::{Field, Plant, PlantError, PlantSpec};
 use crate::spec::{DesignSpec, MatrixValue};
 use crate::FieldPath as P;
-use crate::plant::{Field, Plant, PlantError, PlantSpec};
 
 fn dims(m: &DMatrix<f64>) -> String {
     format!("{} × {}", m.nrows(), m.ncols())
@@ -79,7 +79,11 @@ pub(super) fn plant(spec: &DesignSpec, c: &mut Checker) -> Option<Plant> {
         let column = b.nrows() == 1 && b.ncols() > 1 && a.as_ref().is_some_and(|a| a.nrows() == b.ncols());
         let shown = if column { format!("{} (one line read as a column)", dims(&b.transpose())) } else { dims(&b) };
         c.size(P::PlantB, shown);
-        if column { b.transpose() } else { b }
+        if column {
+            b.transpose()
+        } else {
+            b
+        }
     });
     let cm = optional(c, P::PlantC, &p.c);
     let dm = optional(c, P::PlantD, &p.d);

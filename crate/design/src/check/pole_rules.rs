@@ -4,11 +4,11 @@
 use num_complex::Complex64;
 
 use super::{band_fraction, plural, poles, positive, scalar, vector, Basics, Checker, PoleSetup, PoleSource};
-use crate::spec::{BesselChoice, BrysonDoc, DesignSpec, FeedbackDoc, LqrDoc, PatternDoc, PatternFamily, PlaneChoice, SpecDoc};
-use crate::{fmt_num, ControllerSpec, FieldPath as P, LqrWeights, PoleChoice, PoleChoiceMethod, TrackingSpec};
 use crate::patterns::{BesselNormalisation, Pattern, PatternError, ScaleTarget, SettlingRule, Specification, SpeedRequirement};
 use crate::plant::Plant;
 use crate::search::Situation;
+use crate::spec::{BesselChoice, BrysonDoc, DesignSpec, FeedbackDoc, LqrDoc, PatternDoc, PatternFamily, PlaneChoice, SpecDoc};
+use crate::{fmt_num, ControllerSpec, FieldPath as P, LqrWeights, PoleChoice, PoleChoiceMethod, TrackingSpec};
 
 /// The normalisation of a pattern in words (for reports).
 fn normalisation_words(n: &crate::patterns::Normalisation) -> String {
@@ -59,7 +59,9 @@ pub fn choose_poles(request: &PoleRequest, order: usize) -> Result<PoleChoice, c
                     fmt_num(band * 100.0),
                     fmt_num(*seconds)
                 ),
-                ScaleTarget::Bandwidth { rad_per_s } => format!("{} pattern of order {order} ({}), scaled to a −3 dB bandwidth of {} rad/s", pattern.name(), normalisation_words(&scaled.prototype.normalisation), fmt_num(*rad_per_s)),
+                ScaleTarget::Bandwidth { rad_per_s } => {
+                    format!("{} pattern of order {order} ({}), scaled to a −3 dB bandwidth of {} rad/s", pattern.name(), normalisation_words(&scaled.prototype.normalisation), fmt_num(*rad_per_s))
+                }
             };
             Ok(PoleChoice { method, description, poles: scaled.poles, region: None })
         }
@@ -79,7 +81,6 @@ pub fn choose_poles(request: &PoleRequest, order: usize) -> Result<PoleChoice, c
         }
     }
 }
-
 
 /// `count` of plant states, delay states and integrators, in words.
 fn design_states_text(n: usize, delay: usize, integrators: usize) -> String {
@@ -119,7 +120,10 @@ pub(super) fn pole_source(spec: &DesignSpec, plant: Option<&Plant>, known: &Basi
     };
     let given = [fb.poles.is_some(), fb.pattern.is_some(), fb.spec.is_some(), fb.lqr.is_some()];
     if given.iter().filter(|g| **g).count() != 1 {
-        c.push(P::Feedback, "give exactly one of \"poles\" (the closed-loop poles), \"pattern\" (a prototype scaled to a settling time or bandwidth), \"spec\" (overshoot and settling time) or \"lqr\" (weights)");
+        c.push(
+            P::Feedback,
+            "give exactly one of \"poles\" (the closed-loop poles), \"pattern\" (a prototype scaled to a settling time or bandwidth), \"spec\" (overshoot and settling time) or \"lqr\" (weights)",
+        );
         return None;
     }
     let source = match given {
@@ -255,9 +259,18 @@ fn pattern_request(p: &PatternDoc, band: Option<f64>, c: &mut Checker) -> Option
             c.push(P::Pattern, "give one of the settling time (s) or the bandwidth (rad/s) to scale the pattern, not both");
             None
         }
-        (_, Some(w)) => required_positive(c, P::PatternBandwidth, Some(w), "the −3 dB bandwidth in rad/s", "10", "required: the bandwidth in rad/s").map(|rad_per_s| ScaleTarget::Bandwidth { rad_per_s }),
-        (t, None) => required_positive(c, P::PatternSettlingTime, t.as_ref(), "the settling time in seconds", "0.5", "required for a pattern: the settling time in seconds that the pattern is scaled to, for example 0.5")
-            .and_then(|seconds| band.map(|band| ScaleTarget::SettlingTime { seconds, band })),
+        (_, Some(w)) => {
+            required_positive(c, P::PatternBandwidth, Some(w), "the −3 dB bandwidth in rad/s", "10", "required: the bandwidth in rad/s").map(|rad_per_s| ScaleTarget::Bandwidth { rad_per_s })
+        }
+        (t, None) => required_positive(
+            c,
+            P::PatternSettlingTime,
+            t.as_ref(),
+            "the settling time in seconds",
+            "0.5",
+            "required for a pattern: the settling time in seconds that the pattern is scaled to, for example 0.5",
+        )
+        .and_then(|seconds| band.map(|band| ScaleTarget::SettlingTime { seconds, band })),
     };
     Some(PoleRequest::Pattern { pattern: pattern?, target: target? })
 }
@@ -283,7 +296,8 @@ fn spec_request(s: &SpecDoc, band: Option<f64>, c: &mut Checker) -> Option<PoleR
             None
         }
     };
-    let settling = required_positive(c, P::SpecSettlingTime, s.settling_time.as_ref(), "the settling time in seconds", "2", "required for a specification: the settling time in seconds, for example 2");
+    let settling =
+        required_positive(c, P::SpecSettlingTime, s.settling_time.as_ref(), "the settling time in seconds", "2", "required for a specification: the settling time in seconds, for example 2");
     let speed = match (&s.rise_time, &s.bandwidth) {
         (Some(_), Some(_)) => {
             c.push(P::Spec, "give at most one of the rise time and the bandwidth");
@@ -402,7 +416,13 @@ fn bryson(b: &BrysonDoc, plant: Option<&Plant>, out: &ControllerSpec, integrator
     let max_input = match b.max_input.as_ref().and_then(vector) {
         None => match (known.limits.as_ref(), plant) {
             (Some(l), Some(p)) if l.is_empty() => {
-                c.push(P::LqrMaxInput, format!("left out, it means the actuator limits, but none are given: give the largest acceptable value of each input ({}), or the actuator limits", plural(p.inputs(), "value", "values")));
+                c.push(
+                    P::LqrMaxInput,
+                    format!(
+                        "left out, it means the actuator limits, but none are given: give the largest acceptable value of each input ({}), or the actuator limits",
+                        plural(p.inputs(), "value", "values")
+                    ),
+                );
                 None
             }
             (Some(l), Some(p)) => match l.iter().position(|x| x.is_none()) {
@@ -428,7 +448,14 @@ fn bryson(b: &BrysonDoc, plant: Option<&Plant>, out: &ControllerSpec, integrator
             c.size(P::LqrMaxInput, plural(v.len(), "value", "values"));
             match m {
                 Some(m) if v.len() != m => {
-                    c.push(P::LqrMaxInput, format!("{} given but the plant has {}; give one largest acceptable value per input, or leave this out to use the actuator limits", plural(v.len(), "value", "values"), plural(m, "input", "inputs")));
+                    c.push(
+                        P::LqrMaxInput,
+                        format!(
+                            "{} given but the plant has {}; give one largest acceptable value per input, or leave this out to use the actuator limits",
+                            plural(v.len(), "value", "values"),
+                            plural(m, "input", "inputs")
+                        ),
+                    );
                     None
                 }
                 _ => bryson_bounds_ok(c, P::LqrMaxInput, &v, "value of that input").then_some(v),
@@ -448,7 +475,10 @@ fn search(spec: &DesignSpec, plant: Option<&Plant>, source: PoleSource, known: &
     }
     let mut can = true;
     if source == PoleSource::Lqr {
-        c.push(P::Search, "the search speeds up a pole pattern, but LQR chooses its poles from the weights: change the largest excursions instead, or copy the LQR poles into the pole list and search those");
+        c.push(
+            P::Search,
+            "the search speeds up a pole pattern, but LQR chooses its poles from the weights: change the largest excursions instead, or copy the LQR poles into the pole list and search those",
+        );
         can = false;
     } else if integrators > 0 && !apart {
         c.push(P::Search, "the search scales the plant's poles only: with integral action, give the integrator poles apart (tracking.integral_poles)");

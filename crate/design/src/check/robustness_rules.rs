@@ -165,7 +165,15 @@ pub(super) fn robustness(spec: &DesignSpec, plant: Option<&Plant>, out: &mut cra
     let Some(r) = &spec.robustness else { return };
     let mut rs = RobustnessSpec::default();
     if let Some(v) = &r.disk_skew {
-        let checked = scalar(v, "skew").map(|x| x.and_then(|x| if (-1.0..=1.0).contains(&x) { Ok(x) } else { Err(format!("{x} is outside −1 to 1; the skew is 0 for gain variations up and down alike, positive to lean toward gain increase, negative toward decrease")) }));
+        let checked = scalar(v, "skew").map(|x| {
+            x.and_then(|x| {
+                if (-1.0..=1.0).contains(&x) {
+                    Ok(x)
+                } else {
+                    Err(format!("{x} is outside −1 to 1; the skew is 0 for gain variations up and down alike, positive to lean toward gain increase, negative toward decrease"))
+                }
+            })
+        });
         if let Some(x) = checked.and_then(|x| c.take(P::DiskSkew, x)) {
             rs.skew = x;
         }
@@ -189,7 +197,16 @@ pub(super) fn robustness(spec: &DesignSpec, plant: Option<&Plant>, out: &mut cra
             Some(UncertainList::Text(t)) if t.trim().is_empty() => None,
             Some(list) => c.take(P::UncertainEntries, model(list, plant)),
         };
-        let samples = c.take(P::UncertaintySamples, whole(&u.samples, DEFAULT_SAMPLES as u64).and_then(|s| if (1..=MAX_SAMPLES as u64).contains(&s) { Ok(s as usize) } else { Err(format!("{s} samples: give 1 to {MAX_SAMPLES} (500 is the usual choice)")) }));
+        let samples = c.take(
+            P::UncertaintySamples,
+            whole(&u.samples, DEFAULT_SAMPLES as u64).and_then(|s| {
+                if (1..=MAX_SAMPLES as u64).contains(&s) {
+                    Ok(s as usize)
+                } else {
+                    Err(format!("{s} samples: give 1 to {MAX_SAMPLES} (500 is the usual choice)"))
+                }
+            }),
+        );
         let seed = c.take(P::UncertaintySeed, whole(&u.seed, 1).map_err(|e| format!("{e}; the seed picks the sample (the same seed gives the same cloud)")));
         if let (Some(model), Some(samples), Some(seed)) = (m, samples, seed) {
             rs.uncertainty = Some(UncertaintySpec { model, samples, seed });

@@ -8,7 +8,10 @@ use super::{Controller, ExportFile, NamedMatrix, Precision, Tracking};
 use crate::controller::{AntiWindup, ObserverForm};
 
 pub(super) fn files(c: &Controller, head: &[String], precision: Precision) -> Vec<ExportFile> {
-    vec![ExportFile { name: "polewright_controller.h".into(), contents: header_file(c, head, precision) }, ExportFile { name: "polewright_controller.c".into(), contents: source_file(c, head, precision) }]
+    vec![
+        ExportFile { name: "polewright_controller.h".into(), contents: header_file(c, head, precision) },
+        ExportFile { name: "polewright_controller.c".into(), contents: source_file(c, head, precision) },
+    ]
 }
 
 fn comment(head: &[String]) -> String {
@@ -50,7 +53,16 @@ fn header_file(c: &Controller, head: &[String], precision: Precision) -> String 
     // C99 has no zero-length arrays: buffers sized by these counts take at least one element.
     out.push_str("#define PW_TRACKED_ALLOC (PW_TRACKED > 0 ? PW_TRACKED : 1)\n#define PW_OUTPUTS_ALLOC (PW_OUTPUTS > 0 ? PW_OUTPUTS : 1)\n\n");
     for m in &c.matrices {
-        out.push_str(&format!("/* {} */\n#define PW_{}_ROWS {}\n#define PW_{}_COLS {}\nextern const pw_real PW_{}[{}];\n\n", comment_line(m.description), ident(m), m.rows, ident(m), m.cols, ident(m), m.data.len()));
+        out.push_str(&format!(
+            "/* {} */\n#define PW_{}_ROWS {}\n#define PW_{}_COLS {}\nextern const pw_real PW_{}[{}];\n\n",
+            comment_line(m.description),
+            ident(m),
+            m.rows,
+            ident(m),
+            m.cols,
+            ident(m),
+            m.data.len()
+        ));
     }
     out.push_str("/* Every matrix also as a matrix instance {rows, cols, data}, the layout embedded linear-algebra\n * libraries take (copy the fields into the library's own struct). */\ntypedef struct {\n    unsigned short rows;\n    unsigned short cols;\n    const pw_real *data;\n} pw_matrix;\n\n");
     for m in &c.matrices {
@@ -157,7 +169,10 @@ fn step_source(c: &Controller, precision: Precision) -> String {
     // 5. Integrators.
     if c.tracking == Tracking::Integral {
         let tracked: Vec<String> = c.tracked.iter().map(|i| i.to_string()).collect();
-        s.push_str(&format!("    {{\n        static const int tracked[PW_TRACKED] = {{ {} }};\n        pw_real e[PW_TRACKED];\n        for (i = 0; i < PW_TRACKED; ++i) e[i] = reference[i] - y[tracked[i]];\n", tracked.join(", ")));
+        s.push_str(&format!(
+            "    {{\n        static const int tracked[PW_TRACKED] = {{ {} }};\n        pw_real e[PW_TRACKED];\n        for (i = 0; i < PW_TRACKED; ++i) e[i] = reference[i] - y[tracked[i]];\n",
+            tracked.join(", ")
+        ));
         match c.anti_windup {
             AntiWindup::Clamp => s.push_str(&format!("        if (!clipped) for (i = 0; i < PW_TRACKED; ++i) s->z[i] += {t} * e[i];\n")),
             AntiWindup::BackCalculation { time_constant } => {

@@ -79,9 +79,17 @@ fn concat(a: &DMatrix<f64>, b: &DMatrix<f64>) -> DMatrix<f64> {
 /// The header lines of a fixed-point export.
 pub(super) fn header(f: &Fixed) -> Vec<String> {
     let frac = f.bits - 1;
-    let mut out = vec![format!("Fixed point Q{frac}: value = integer x 2^(shift - {frac}), one shift per matrix (the smallest that keeps the largest entry within full scale): {}.", f.mats.iter().map(|(m, q)| format!("{} {}", m.name, q.shift)).collect::<Vec<_>>().join(", "))];
+    let mut out = vec![format!(
+        "Fixed point Q{frac}: value = integer x 2^(shift - {frac}), one shift per matrix (the smallest that keeps the largest entry within full scale): {}.",
+        f.mats.iter().map(|(m, q)| format!("{} {}", m.name, q.shift)).collect::<Vec<_>>().join(", ")
+    )];
     for (name, ch) in &f.checks {
-        out.push(format!("Q{frac} re-check, {name} loop: poles move by at most {:e}; damping kept to {:.4} of its design value; stable: {}.", ch.max_distance, ch.worst_damping_fraction, if ch.stable { "yes" } else { "no" }));
+        out.push(format!(
+            "Q{frac} re-check, {name} loop: poles move by at most {:e}; damping kept to {:.4} of its design value; stable: {}.",
+            ch.max_distance,
+            ch.worst_damping_fraction,
+            if ch.stable { "yes" } else { "no" }
+        ));
     }
     out.push("Coefficients only: the controller step is exported in floating point (double or float).".into());
     out
@@ -105,7 +113,14 @@ pub(super) fn files(c: &Controller, head: &[String], f: &Fixed, format: ExportFo
             s.push_str(" */\n#include \"polewright_controller.h\"\n\n");
             for (m, q) in &f.mats {
                 let id = m.name.to_uppercase();
-                h.push_str(&format!("/* {} */\n#define PW_{id}_ROWS {}\n#define PW_{id}_COLS {}\n#define PW_{id}_SHIFT {}\nextern const pw_q PW_{id}[{}];\n\n", comment_line(m.description), m.rows, m.cols, q.shift, q.ints.len()));
+                h.push_str(&format!(
+                    "/* {} */\n#define PW_{id}_ROWS {}\n#define PW_{id}_COLS {}\n#define PW_{id}_SHIFT {}\nextern const pw_q PW_{id}[{}];\n\n",
+                    comment_line(m.description),
+                    m.rows,
+                    m.cols,
+                    q.shift,
+                    q.ints.len()
+                ));
                 s.push_str(&format!("const pw_q PW_{id}[{}] = {{\n", q.ints.len()));
                 for row in q.ints.chunks(m.cols.max(1)) {
                     let lits: Vec<String> = row.iter().map(|v| if f.bits == 32 && *v == -(1i64 << 31) { "(-2147483647 - 1)".to_string() } else { v.to_string() }).collect();
@@ -124,7 +139,16 @@ pub(super) fn files(c: &Controller, head: &[String], f: &Fixed, format: ExportFo
             out.push_str(&format!("#![allow(dead_code)]\n\npub const FRACTION_BITS: i32 = {};\n", f.bits - 1));
             for (m, q) in &f.mats {
                 let id = m.name.to_uppercase();
-                out.push_str(&format!("\n/// {} ({} x {}, row-major), value = integer x 2^(SHIFT - FRACTION_BITS).\npub const {id}_SHIFT: i32 = {};\npub const {id}: [{}; {}] = [{}];\n", m.description, m.rows, m.cols, q.shift, ty.1, q.ints.len(), q.ints.iter().map(|v| v.to_string()).collect::<Vec<_>>().join(", ")));
+                out.push_str(&format!(
+                    "\n/// {} ({} x {}, row-major), value = integer x 2^(SHIFT - FRACTION_BITS).\npub const {id}_SHIFT: i32 = {};\npub const {id}: [{}; {}] = [{}];\n",
+                    m.description,
+                    m.rows,
+                    m.cols,
+                    q.shift,
+                    ty.1,
+                    q.ints.len(),
+                    q.ints.iter().map(|v| v.to_string()).collect::<Vec<_>>().join(", ")
+                ));
             }
             vec![ExportFile { name: "polewright_controller.rs".into(), contents: out }]
         }
@@ -132,13 +156,20 @@ pub(super) fn files(c: &Controller, head: &[String], f: &Fixed, format: ExportFo
             let matrices: serde_json::Map<String, serde_json::Value> = f
                 .mats
                 .iter()
-                .map(|(m, q)| (m.name.to_string(), serde_json::json!({"description": m.description, "rows": m.rows, "cols": m.cols, "shift": q.shift, "integers": q.ints.chunks(m.cols.max(1)).collect::<Vec<_>>()})))
+                .map(|(m, q)| {
+                    (
+                        m.name.to_string(),
+                        serde_json::json!({"description": m.description, "rows": m.rows, "cols": m.cols, "shift": q.shift, "integers": q.ints.chunks(m.cols.max(1)).collect::<Vec<_>>()}),
+                    )
+                })
                 .collect();
             let checks: Vec<serde_json::Value> = f
                 .checks
                 .iter()
-                .map(|(name, ch)| serde_json::json!({"loop": name, "max_pole_move": ch.max_distance, "worst_damping_fraction": ch.worst_damping_fraction, "stable": ch.stable,
-                    "poles": ch.poles.iter().map(|p| [[p.designed.re, p.designed.im], [p.rounded.re, p.rounded.im]]).collect::<Vec<_>>()}))
+                .map(|(name, ch)| {
+                    serde_json::json!({"loop": name, "max_pole_move": ch.max_distance, "worst_damping_fraction": ch.worst_damping_fraction, "stable": ch.stable,
+                    "poles": ch.poles.iter().map(|p| [[p.designed.re, p.designed.im], [p.rounded.re, p.rounded.im]]).collect::<Vec<_>>()})
+                })
                 .collect();
             let doc = serde_json::json!({"format": "polewright.controller", "version": 1, "header": head, "number_format": format!("Q{}", f.bits - 1), "fraction_bits": f.bits - 1,
                 "document_sha256": c.document_sha256, "sample_time": c.sample_time, "matrices": matrices, "recheck": checks});

@@ -21,7 +21,10 @@ pub(super) fn lines(c: &Controller) -> Vec<String> {
         out.push(format!("Tracked outputs (reference order): {}", c.tracked.iter().map(|&i| c.output_names.get(i).cloned().unwrap_or_default()).collect::<Vec<_>>().join("; ")));
     }
     out.push(match c.sample_time {
-        Some(t) => format!("Sample time: {t} s; plant sampled by zero-order hold; computation delay: {}.", if c.computation_delay { "one sample (the command computed at sample k is applied at sample k+1)" } else { "none (the command is applied at the sample it is computed)" }),
+        Some(t) => format!(
+            "Sample time: {t} s; plant sampled by zero-order hold; computation delay: {}.",
+            if c.computation_delay { "one sample (the command computed at sample k is applied at sample k+1)" } else { "none (the command is applied at the sample it is computed)" }
+        ),
         None => "Continuous-time design: discretise it (give a sample time) before it runs on a processor.".to_string(),
     });
     out.push(format!(
@@ -52,7 +55,15 @@ fn convention(c: &Controller) -> String {
         Tracking::Feedforward => format!("u = N_u r - K ({x} - N_x r)"),
         Tracking::Integral => format!("u = -K {x} - K_i z, z[k+1] = z[k] + T (r[k] - y_t[k])"),
     };
-    let delay = if c.computation_delay { if c.tracking == Tracking::Feedforward { " - K_u (u_prev - N_u r)" } else { " - K_u u_prev" } } else { "" };
+    let delay = if c.computation_delay {
+        if c.tracking == Tracking::Feedforward {
+            " - K_u (u_prev - N_u r)"
+        } else {
+            " - K_u u_prev"
+        }
+    } else {
+        ""
+    };
     format!("{base}{delay}, then each input saturated at its limit")
 }
 

@@ -313,7 +313,15 @@ fn rust_constants(ctrl: &Controller, head: &[String]) -> String {
     }
     for m in &ctrl.matrices {
         let ident = m.name.to_uppercase();
-        out.push_str(&format!("\n/// {} ({} x {}, row-major).\npub const {ident}_ROWS: usize = {};\npub const {ident}_COLS: usize = {};\npub const {ident}: [f64; {}] = [", m.description, m.rows, m.cols, m.rows, m.cols, m.data.len()));
+        out.push_str(&format!(
+            "\n/// {} ({} x {}, row-major).\npub const {ident}_ROWS: usize = {};\npub const {ident}_COLS: usize = {};\npub const {ident}: [f64; {}] = [",
+            m.description,
+            m.rows,
+            m.cols,
+            m.rows,
+            m.cols,
+            m.data.len()
+        ));
         out.push_str(&m.data.iter().map(|v| text::rust_f64(*v)).collect::<Vec<_>>().join(", "));
         out.push_str("];\n");
     }

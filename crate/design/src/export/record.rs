@@ -61,27 +61,65 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
     let mut rows = Vec::new();
     let c = &result.controllability;
     let weakest = c.modes.iter().map(|m| m.margin).fold(f64::INFINITY, f64::min);
-    rows.push(("Controllability (staircase; PBH margins in balanced units)".into(), format!("rank {} of {}; smallest margin {}", c.rank, c.states, fmt_num(weakest)), if c.complete { "controllable" } else if c.stabilizable { "stabilisable" } else { "not stabilisable" }.into()));
+    rows.push((
+        "Controllability (staircase; PBH margins in balanced units)".into(),
+        format!("rank {} of {}; smallest margin {}", c.rank, c.states, fmt_num(weakest)),
+        if c.complete {
+            "controllable"
+        } else if c.stabilizable {
+            "stabilisable"
+        } else {
+            "not stabilisable"
+        }
+        .into(),
+    ));
     if let Some(o) = &result.observability {
         let weakest = o.modes.iter().map(|m| m.margin).fold(f64::INFINITY, f64::min);
-        rows.push(("Observability".into(), format!("rank {} of {}; smallest margin {}", o.rank, o.states, fmt_num(weakest)), if o.complete { "observable" } else if o.stabilizable { "detectable" } else { "not detectable" }.into()));
+        rows.push((
+            "Observability".into(),
+            format!("rank {} of {}; smallest margin {}", o.rank, o.states, fmt_num(weakest)),
+            if o.complete {
+                "observable"
+            } else if o.stabilizable {
+                "detectable"
+            } else {
+                "not detectable"
+            }
+            .into(),
+        ));
     }
     let f = &result.feedback;
-    rows.push(("Placement: achieved against requested poles (recomputed from A − B K)".into(), format!("largest relative error {}", fmt_num(f.max_pole_error)), if f.max_pole_error <= 1e-6 { "within 1e-6" } else { "see warnings" }.into()));
-    rows.push(("Eigenvector conditioning κ₂ (balanced)".into(), format!("{} ({} as scaled)", fmt_num(f.balanced_eigenvector_condition), fmt_num(f.eigenvector_condition)), if f.balanced_eigenvector_condition <= 1e4 { "below 1e4" } else { "fragile: see warnings" }.into()));
+    rows.push((
+        "Placement: achieved against requested poles (recomputed from A − B K)".into(),
+        format!("largest relative error {}", fmt_num(f.max_pole_error)),
+        if f.max_pole_error <= 1e-6 { "within 1e-6" } else { "see warnings" }.into(),
+    ));
+    rows.push((
+        "Eigenvector conditioning κ₂ (balanced)".into(),
+        format!("{} ({} as scaled)", fmt_num(f.balanced_eigenvector_condition), fmt_num(f.eigenvector_condition)),
+        if f.balanced_eigenvector_condition <= 1e4 { "below 1e4" } else { "fragile: see warnings" }.into(),
+    ));
     rows.push(("Independent stability verdict (eigenvalues and Lyapunov equation of the closed loop)".into(), "passed".into(), "stable".into()));
     if let Some(l) = &result.lqr {
         rows.push(("Riccati equation, normalised residual".into(), fmt_num(l.residual), if l.residual <= 1e-10 { "accurate" } else { "see warnings" }.into()));
     }
     if let Some(o) = &result.observer {
-        rows.push(("Observer placement".into(), format!("largest relative error {}; ‖K L‖₂ = {}", fmt_num(o.max_pole_error), fmt_num(o.noise_to_input_gain)), if o.max_pole_error <= 1e-6 { "within 1e-6" } else { "see warnings" }.into()));
+        rows.push((
+            "Observer placement".into(),
+            format!("largest relative error {}; ‖K L‖₂ = {}", fmt_num(o.max_pole_error), fmt_num(o.noise_to_input_gain)),
+            if o.max_pole_error <= 1e-6 { "within 1e-6" } else { "see warnings" }.into(),
+        ));
     }
     if let Some(sep) = result.closed_loop.as_ref().and_then(|l| l.separation_error) {
         rows.push(("Separation principle (loop with observer)".into(), format!("largest relative pole difference {}", fmt_num(sep)), if sep <= 1e-6 { "holds" } else { "see warnings" }.into()));
     }
     if let Some(fp) = &result.finite_precision {
         for l in &fp.loops {
-            rows.push((format!("Float32 re-check, {} loop", l.name), format!("poles move by at most {}; damping kept {} %", fmt_num(l.max_pole_move), fmt_num(100.0 * l.worst_damping_fraction)), if l.stable && l.worst_damping_fraction >= 0.9 { "float32 adequate" } else { "use double: see warnings" }.into()));
+            rows.push((
+                format!("Float32 re-check, {} loop", l.name),
+                format!("poles move by at most {}; damping kept {} %", fmt_num(l.max_pole_move), fmt_num(100.0 * l.worst_damping_fraction)),
+                if l.stable && l.worst_damping_fraction >= 0.9 { "float32 adequate" } else { "use double: see warnings" }.into(),
+            ));
         }
     }
     if let Some(m) = &result.margins {
@@ -99,7 +137,11 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
         ));
     }
     if let Some(s) = &result.sample_rate {
-        rows.push(("Sample rate against the closed-loop bandwidth".into(), s.samples_per_bandwidth.map_or("deadbeat".into(), |v| format!("{} samples per bandwidth period", fmt_num(v))), sample_rate_words(s.verdict).to_string()));
+        rows.push((
+            "Sample rate against the closed-loop bandwidth".into(),
+            s.samples_per_bandwidth.map_or("deadbeat".into(), |v| format!("{} samples per bandwidth period", fmt_num(v))),
+            sample_rate_words(s.verdict).to_string(),
+        ));
     }
     rows
 }
@@ -115,17 +157,23 @@ fn svg_plot(title: &str, time: &[f64], series: &[(String, &[f64])]) -> String {
     for (k, (_, ys)) in series.iter().enumerate() {
         let peak = ys.iter().fold(0.0f64, |a, v| a.max(v.abs())).max(f64::MIN_POSITIVE);
         let stride = (ys.len() / 300).max(1);
-        let points: Vec<String> = ys
-            .iter()
-            .zip(time)
-            .step_by(stride)
-            .map(|(y, t)| format!("{:.1},{:.1}", pad + (w - 2.0 * pad) * t / t_end, h / 2.0 - (h / 2.0 - pad) * y / peak))
-            .collect();
+        let points: Vec<String> = ys.iter().zip(time).step_by(stride).map(|(y, t)| format!("{:.1},{:.1}", pad + (w - 2.0 * pad) * t / t_end, h / 2.0 - (h / 2.0 - pad) * y / peak)).collect();
         o.push_str(&format!("<polyline fill=\"none\" stroke=\"{}\" stroke-width=\"1.2\" points=\"{}\"/>", colours[k % colours.len()], points.join(" ")));
     }
     o.push_str("</svg><figcaption>");
     o.push_str(&esc(&format!("{title} (each signal divided by its own peak; 0 to {} s): ", fmt_num(t_end))));
-    let keys: Vec<String> = series.iter().enumerate().map(|(k, (n, ys))| format!("<svg class=\"pw-rec-key\" viewBox=\"0 0 10 10\" width=\"8\" height=\"8\"><rect width=\"10\" height=\"10\" fill=\"{}\"/></svg> {} (peak {})", colours[k % colours.len()], esc(n), esc(&fmt_num(ys.iter().fold(0.0f64, |a, v| a.max(v.abs())))))).collect();
+    let keys: Vec<String> = series
+        .iter()
+        .enumerate()
+        .map(|(k, (n, ys))| {
+            format!(
+                "<svg class=\"pw-rec-key\" viewBox=\"0 0 10 10\" width=\"8\" height=\"8\"><rect width=\"10\" height=\"10\" fill=\"{}\"/></svg> {} (peak {})",
+                colours[k % colours.len()],
+                esc(n),
+                esc(&fmt_num(ys.iter().fold(0.0f64, |a, v| a.max(v.abs()))))
+            )
+        })
+        .collect();
     o.push_str(&keys.join("; "));
     o.push_str("</figcaption></figure>");
     o
@@ -159,21 +207,42 @@ pub fn record_fragment(spec: &DesignSpec, design: &CheckedDesign, result: &Desig
     let c: Controller = controller(spec, design, result);
     let p = &result.plant;
     let mut o = String::from("<article class=\"pw-record\">");
-    o.push_str(&format!("<header><h1>Design record: {}</h1><p>{} · Polewright {} · design document SHA-256 <code>{}</code></p></header>", esc(if spec.title.is_empty() { "(untitled)" } else { &spec.title }), esc(date), esc(TOOL_VERSION), esc(&c.document_sha256)));
+    o.push_str(&format!(
+        "<header><h1>Design record: {}</h1><p>{} · Polewright {} · design document SHA-256 <code>{}</code></p></header>",
+        esc(if spec.title.is_empty() { "(untitled)" } else { &spec.title }),
+        esc(date),
+        esc(TOOL_VERSION),
+        esc(&c.document_sha256)
+    ));
     o.push_str("<p class=\"pw-rec-caution\"><strong>CAUTION:</strong> a design aid, not a safety function. Verify every number independently before use on real equipment; limits, emergency stops and trips stay independent of this controller; follow local codes, the applicable functional-safety standards (e.g. IEC 61508, ISO 13849) and licensed engineering practice.</p>");
     if !spec.notes.is_empty() {
         o.push_str(&format!("<section><h2>Purpose and notes</h2><p class=\"pw-rec-notes\">{}</p></section>", esc(&spec.notes)));
     }
     // Plant.
     let plant = &design.request.plant;
-    let named = |names: &[String], units: &[String]| -> Vec<String> { names.iter().enumerate().map(|(i, n)| match units.get(i).filter(|u| !u.is_empty()) { Some(u) => format!("{n} [{u}]"), None => n.clone() }).collect() };
+    let named = |names: &[String], units: &[String]| -> Vec<String> {
+        names
+            .iter()
+            .enumerate()
+            .map(|(i, n)| match units.get(i).filter(|u| !u.is_empty()) {
+                Some(u) => format!("{n} [{u}]"),
+                None => n.clone(),
+            })
+            .collect()
+    };
     let states = named(&p.state_names, &p.state_units);
     let inputs = named(&p.input_names, &p.input_units);
     o.push_str("<section><h2>Plant</h2>");
-    o.push_str(&format!("<p>{} states, {} inputs, {} outputs; {}.</p>", p.states, p.inputs, p.outputs, esc(&match c.sample_time {
-        Some(t) => format!("digital controller at T = {} s (zero-order hold){}", fmt_num(t), if c.computation_delay { ", one-sample computation delay" } else { "" }),
-        None => "continuous-time design".into(),
-    })));
+    o.push_str(&format!(
+        "<p>{} states, {} inputs, {} outputs; {}.</p>",
+        p.states,
+        p.inputs,
+        p.outputs,
+        esc(&match c.sample_time {
+            Some(t) => format!("digital controller at T = {} s (zero-order hold){}", fmt_num(t), if c.computation_delay { ", one-sample computation delay" } else { "" }),
+            None => "continuous-time design".into(),
+        })
+    ));
     o.push_str("<div class=\"pw-rec-row\">");
     o.push_str(&matrix_table("A", &rows_of(plant.a()), &states, &states));
     o.push_str(&matrix_table("B", &rows_of(plant.b()), &states, &inputs));

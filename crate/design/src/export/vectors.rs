@@ -39,7 +39,9 @@ pub(super) fn file(c: &Controller, head: &[String], design: &CheckedDesign) -> R
     let dm = matrix(c, "D").unwrap_or_else(|| DMatrix::zeros(0, m));
     let tracking = match c.tracking {
         Tracking::None => TrackingLaw::None,
-        Tracking::Feedforward => TrackingLaw::Feedforward { nx: matrix(c, "N_x").ok_or_else(|| not_available("N_x is missing"))?, nu: matrix(c, "N_u").ok_or_else(|| not_available("N_u is missing"))? },
+        Tracking::Feedforward => {
+            TrackingLaw::Feedforward { nx: matrix(c, "N_x").ok_or_else(|| not_available("N_x is missing"))?, nu: matrix(c, "N_u").ok_or_else(|| not_available("N_u is missing"))? }
+        }
         Tracking::Integral => TrackingLaw::Integral { ki: matrix(c, "K_i").ok_or_else(|| not_available("K_i is missing"))?, anti_windup: c.anti_windup },
     };
     let ctrl = LoopController {
@@ -60,7 +62,15 @@ pub(super) fn file(c: &Controller, head: &[String], design: &CheckedDesign) -> R
         (None, true) => vec![0.0; n],
         (None, false) => (0..n).map(|i| if i == 0 { 1.0 } else { 0.0 }).collect(),
     };
-    let reference = if tracking_on { if spec.reference.is_empty() { vec![1.0; q] } else { spec.reference.clone() } } else { Vec::new() };
+    let reference = if tracking_on {
+        if spec.reference.is_empty() {
+            vec![1.0; q]
+        } else {
+            spec.reference.clone()
+        }
+    } else {
+        Vec::new()
+    };
     let scenario = LoopScenario {
         x0: DVector::from_vec(x0),
         xhat0: spec.initial_estimate.clone().map(DVector::from_vec),

@@ -8,9 +8,9 @@ use super::pair::DesignPair;
 use super::setup::{infeasible, Setup};
 use crate::analysis::{controllability_report, observability_report, ModalReport};
 use crate::controller::{feedforward_gains, map_to_discrete, observer_gain_continued, ControllerError, ObserverDesign, ObserverFailure, ObserverForm};
-use crate::{DesignError, FieldPath as P, InputError, ObserverPoles};
 use crate::linalg::eigen::try_eigenvalues;
 use crate::place::{state_feedback_gain, state_feedback_gain_continued, Placement, PlacementError};
+use crate::{DesignError, FieldPath as P, InputError, ObserverPoles};
 
 /// Open-loop poles, controllability and observability of the plant in the design domain.
 pub(super) struct Analysis {

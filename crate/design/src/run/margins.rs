@@ -33,7 +33,6 @@ pub(super) fn loop_model(s: &Setup, g: &Gains) -> Option<LoopModel> {
     plant_input_loop(&PlantMatrices { a: &s.ad, b: &s.bd, c: &c, d: &d }, &ctrl).ok()
 }
 
-
 fn disk(alpha: f64, skew: f64, frequency: f64) -> DiskMargin {
     let shape = Disk { alpha, skew };
     DiskMargin { skew, disk_margin: alpha, gain_range: shape.gain_range(), phase_margin_deg: shape.phase_deg(), frequency }
@@ -66,7 +65,11 @@ fn all_inputs(model: &LoopModel, ev: &crate::margins::Evaluator, per_input: &[In
         [one] if one.disk_skew_is(skew) => AllInputsMargin { disk: one.disk, accuracy: MultiloopAccuracy::Exact, disk_margin_at_most: Some(one.disk.disk_margin) },
         _ => {
             let all = multiloop_disk(&model.grid(MULTILOOP_GRID_POINTS).ok()?, &|w| ev.sensitivity(w).ok(), skew);
-            AllInputsMargin { disk: disk(all.alpha, skew, all.frequency), accuracy: if all.exact { MultiloopAccuracy::Exact } else { MultiloopAccuracy::Bound }, disk_margin_at_most: all.alpha_upper.is_finite().then_some(all.alpha_upper) }
+            AllInputsMargin {
+                disk: disk(all.alpha, skew, all.frequency),
+                accuracy: if all.exact { MultiloopAccuracy::Exact } else { MultiloopAccuracy::Bound },
+                disk_margin_at_most: all.alpha_upper.is_finite().then_some(all.alpha_upper),
+            }
         }
     })
 }
@@ -86,7 +89,13 @@ pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
         per_input.push(InputMarginResult {
             input: s.plant.input_names()[i].clone(),
             disk: disk(r.disk_alpha, skew, r.disk_frequency),
-            classical: ClassicalMargins { gain_margin_low: r.gain_margin_low, gain_margin_high: r.gain_margin_high, phase_margin_deg: r.phase_margin_deg, crossover: r.crossover, delay_margin: r.delay_margin },
+            classical: ClassicalMargins {
+                gain_margin_low: r.gain_margin_low,
+                gain_margin_high: r.gain_margin_high,
+                phase_margin_deg: r.phase_margin_deg,
+                crossover: r.crossover,
+                delay_margin: r.delay_margin,
+            },
         });
     }
     let ev = model.evaluator().ok()?;

@@ -14,9 +14,9 @@ mod verdict;
 mod warnings;
 
 use super::check::{check_text, CheckedDesign, PoleSource};
-use super::{RESULT_FORMAT, RESULT_VERSION};
 use super::result::*;
 use super::{ControllerSpec, DesignError, DesignRequest, FieldPath as P, InputError, LqrWeights, TrackingSpec};
+use super::{RESULT_FORMAT, RESULT_VERSION};
 use crate::plant::Plant;
 
 /// Runs a plain state-feedback design (no controller sections).
@@ -276,7 +276,15 @@ fn lqr_result(spec: &ControllerSpec, d: &crate::riccati::LqrDesign) -> LqrResult
         Some(LqrWeights::Bryson { max_state, max_input }) => crate::riccati::bryson_weights(max_state, max_input).map(|(q, r)| (rows(&q), rows(&r))).unwrap_or_default(),
         None => (Vec::new(), Vec::new()),
     };
-    LqrResult { riccati_solution: rows(&d.riccati_solution), residual: d.residual, gain: rows(&d.gain), closed_loop_poles: d.closed_loop_poles.iter().map(|z| pair(*z)).collect(), q: qw, r: rw, state_weight_smallest_eigenvalue: d.state_weight_smallest_eigenvalue }
+    LqrResult {
+        riccati_solution: rows(&d.riccati_solution),
+        residual: d.residual,
+        gain: rows(&d.gain),
+        closed_loop_poles: d.closed_loop_poles.iter().map(|z| pair(*z)).collect(),
+        q: qw,
+        r: rw,
+        state_weight_smallest_eigenvalue: d.state_weight_smallest_eigenvalue,
+    }
 }
 
 pub use warnings::OBSERVER_SPEED_RULE;

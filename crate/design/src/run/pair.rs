@@ -6,9 +6,9 @@ use num_complex::Complex64;
 
 use super::setup::{infeasible, Setup};
 use crate::controller::{delay_augmented, integral_augmented, map_to_continuous};
-use crate::{DesignError, FieldPath as P, InputError, LqrWeights};
 use crate::riccati::{LqrDesign, RiccatiError};
 use crate::search::SearchResult;
+use crate::{DesignError, FieldPath as P, InputError, LqrWeights};
 
 /// The design pair and its requested poles.
 pub(super) struct DesignPair {
@@ -28,7 +28,10 @@ pub(super) struct DesignPair {
 pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
     let spec = s.spec;
     if spec.lqr.is_some() && spec.search.is_some() {
-        return Err(DesignError::Input(InputError::new(P::Search, "the search scales a pole pattern; with LQR weights, scale the weights instead (or list the LQR poles as feedback.poles and search)")));
+        return Err(DesignError::Input(InputError::new(
+            P::Search,
+            "the search scales a pole pattern; with LQR weights, scale the weights instead (or list the LQR poles as feedback.poles and search)",
+        )));
     }
     let (mut da, mut db) = (s.ad.clone(), s.bd.clone());
     let mut delay_poles = Vec::new();
@@ -159,7 +162,13 @@ fn check_pole_count(s: &Setup, pair: &DesignPair) -> Result<(), DesignError> {
     let message = if extra > 0 {
         format!(
             "{given} poles given but the design has {states} states ({n} plant states + {extra} for {}); give {} poles{}",
-            if s.integral_poles.is_some() && s.delay { "delay and integrators" } else if s.delay { "the computation delay" } else { "the integrators" },
+            if s.integral_poles.is_some() && s.delay {
+                "delay and integrators"
+            } else if s.delay {
+                "the computation delay"
+            } else {
+                "the integrators"
+            },
             states - (given - s.req.poles.len()),
             if s.integral_poles.is_some() { ", or list the integrator poles in tracking.integral_poles" } else { "" }
         )
@@ -176,7 +185,10 @@ fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::
     let params = crate::search::SearchParams { band: s.req.band, max_samples: s.spec.scenario.max_samples.map_or(50_000, |c| c as usize), ..Default::default() };
     let pattern = s.to_s(&s.req.poles);
     if pattern.iter().any(|z| !(z.re.is_finite() && z.im.is_finite())) {
-        return Err(DesignError::Input(InputError::new(P::Search, "the search speeds up a pole pattern, but poles at z = 0 (deadbeat) cannot be made faster: give the poles in the s-plane or leave the search out")));
+        return Err(DesignError::Input(InputError::new(
+            P::Search,
+            "the search speeds up a pole pattern, but poles at z = 0 (deadbeat) cannot be made faster: give the poles in the s-plane or leave the search out",
+        )));
     }
     let c_pair = s.plant.c().map(|c| {
         let mut cp = DMatrix::<f64>::zeros(c.nrows(), da.nrows());

@@ -94,7 +94,10 @@ pub(super) fn pole_sensitivity(s: &Setup, g: &Gains) -> Option<PoleSensitivityRe
     }
     Some(PoleSensitivityResult {
         entry: entry.as_ref().map(entry_name),
-        poles: rows.iter().map(|r| PoleSensitivityRow { pole: pair(r.pole), condition: (!r.repeated).then_some(r.condition), derivative: r.derivative.filter(|_| !r.repeated).map(pair), repeated: r.repeated }).collect(),
+        poles: rows
+            .iter()
+            .map(|r| PoleSensitivityRow { pole: pair(r.pole), condition: (!r.repeated).then_some(r.condition), derivative: r.derivative.filter(|_| !r.repeated).map(pair), repeated: r.repeated })
+            .collect(),
         summary,
     })
 }

@@ -5,9 +5,9 @@ use num_complex::Complex64;
 
 use crate::analysis::{AnalysisParams, Domain};
 use crate::controller::{discretise, map_to_continuous, map_to_discrete};
-use crate::{ControllerSpec, DesignError, DesignRequest, Plane, TrackingSpec};
 use crate::place::PlacementParams;
 use crate::plant::Plant;
+use crate::{ControllerSpec, DesignError, DesignRequest, Plane, TrackingSpec};
 
 /// A design that cannot be done, with its reason.
 pub(super) fn infeasible(e: &dyn std::fmt::Display) -> DesignError {

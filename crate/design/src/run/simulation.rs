@@ -10,14 +10,14 @@ use super::gains::Gains;
 use super::pair::DesignPair;
 use super::setup::{infeasible, output_matrices, Setup};
 use crate::controller::ObserverForm;
-use crate::result::{pair as pole_pair, InputLoopMetrics, LoopResult, OutputLoopMetrics, SimulationResult};
-use crate::{fmt_num, ControllerSpec, DesignError, FieldPath as P, InputError, TrackingSpec};
 use crate::linalg::eigen::try_eigenvalues;
 use crate::loop_sim::{LoopController, LoopError, LoopResponse, LoopScenario, Noise, TrackingLaw};
 use crate::metrics;
 use crate::plant::Plant;
+use crate::result::{pair as pole_pair, InputLoopMetrics, LoopResult, OutputLoopMetrics, SimulationResult};
 use crate::simulate::{closed_loop_response, default_horizon, SimulationParams, SimulationSpec};
 use crate::warnings::{Warning, WarningCode};
+use crate::{fmt_num, ControllerSpec, DesignError, FieldPath as P, InputError, TrackingSpec};
 
 /// Most points kept per signal in the result.
 const KEPT_POINTS: usize = 1000;
@@ -134,12 +134,41 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
         }
         Some(t) => {
             // Digital regulator: the sampled state feedback on the continuous (or given discrete) plant.
-            let ctrl = LoopController { k: g.k_x.clone(), k_delay: g.k_u.clone(), observer: None, observer_form: ObserverForm::Predictor, current_gain: None, tracking: TrackingLaw::None, tracked_outputs: Vec::new(), sample_time: s.t };
+            let ctrl = LoopController {
+                k: g.k_x.clone(),
+                k_delay: g.k_u.clone(),
+                observer: None,
+                observer_form: ObserverForm::Predictor,
+                current_gain: None,
+                tracking: TrackingLaw::None,
+                tracked_outputs: Vec::new(),
+                sample_time: s.t,
+            };
             let duration = s.req.duration.unwrap_or_else(|| capped(s, h.auto, warnings));
             check_samples(s, duration)?;
-            let sc = LoopScenario { x0: DVector::from_vec(h.x0.clone()), xhat0: None, duration, reference: Vec::new(), reference_time: 0.0, disturbance: Vec::new(), disturbance_time: 0.0, noise: Noise::None, limits: h.limits.clone(), continuous_step: None };
+            let sc = LoopScenario {
+                x0: DVector::from_vec(h.x0.clone()),
+                xhat0: None,
+                duration,
+                reference: Vec::new(),
+                reference_time: 0.0,
+                disturbance: Vec::new(),
+                disturbance_time: 0.0,
+                noise: Noise::None,
+                limits: h.limits.clone(),
+                continuous_step: None,
+            };
             let lr = run_loop(s.plant, s.spec, &ctrl, &sc).map_err(|e| infeasible(&e))?;
-            crate::simulate::Response { step: t, duration, duration_chosen: s.req.duration.is_none(), diverged: lr.diverged, time: lr.time, states: lr.states, inputs: lr.inputs, commanded: lr.commanded }
+            crate::simulate::Response {
+                step: t,
+                duration,
+                duration_chosen: s.req.duration.is_none(),
+                diverged: lr.diverged,
+                time: lr.time,
+                states: lr.states,
+                inputs: lr.inputs,
+                commanded: lr.commanded,
+            }
         }
     };
     let (band, m) = (s.req.band, s.m);
@@ -232,7 +261,15 @@ pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<W
     }
     let ctrl = loop_controller(s, g);
     let sc = &spec.scenario;
-    let reference = if tracking_on { if sc.reference.is_empty() { vec![1.0; s.q()] } else { sc.reference.clone() } } else { Vec::new() };
+    let reference = if tracking_on {
+        if sc.reference.is_empty() {
+            vec![1.0; s.q()]
+        } else {
+            sc.reference.clone()
+        }
+    } else {
+        Vec::new()
+    };
     let x0 = if tracking_on && s.req.initial_state.is_none() { vec![0.0; s.n] } else { h.x0.clone() };
     let events = sc.reference_time.max(if sc.disturbance.is_empty() { 0.0 } else { sc.disturbance_time });
     let duration = s.req.duration.unwrap_or_else(|| capped(s, events + h.auto * if sc.disturbance.is_empty() { 1.0 } else { 2.0 }, warnings));
@@ -287,7 +324,14 @@ fn tracked_metrics(s: &Setup, lr: &LoopResponse, reference: &[f64]) -> Vec<Outpu
         .enumerate()
         .map(|(j, &o)| {
             let mtr = crate::loop_sim::tracking_metrics(&lr.time, &lr.outputs[o], sc.reference_time, reference[j], s.req.band, window_end);
-            OutputLoopMetrics { name: s.plant.output_names()[o].clone(), reference: reference[j], rise_time: mtr.rise_time, settling_time: mtr.settling_time, overshoot: mtr.overshoot, steady_state_error: mtr.steady_state_error }
+            OutputLoopMetrics {
+                name: s.plant.output_names()[o].clone(),
+                reference: reference[j],
+                rise_time: mtr.rise_time,
+                settling_time: mtr.settling_time,
+                overshoot: mtr.overshoot,
+                steady_state_error: mtr.steady_state_error,
+            }
         })
         .collect()
 }

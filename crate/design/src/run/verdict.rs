@@ -113,6 +113,8 @@ pub(super) fn finite(r: &DesignResult) -> Result<(), DesignError> {
     if bad.is_empty() {
         Ok(())
     } else {
-        Err(DesignError::Infeasible { message: format!("the computation gave a number that is not finite in {}: the problem is numerically beyond this tool as posed; check the plant's scaling", bad.join(", ")) })
+        Err(DesignError::Infeasible {
+            message: format!("the computation gave a number that is not finite in {}: the problem is numerically beyond this tool as posed; check the plant's scaling", bad.join(", ")),
+        })
     }
 }

@@ -7,10 +7,10 @@ use super::pair::DesignPair;
 use super::setup::Setup;
 use crate::analysis::{Domain, ModeVerdict};
 use crate::controller::SampleRateAdvice;
-use crate::result::LoopResult;
-use crate::{fmt_num, ControllerSpec, ObserverPoles};
 use crate::poles::format_complex;
+use crate::result::LoopResult;
 use crate::warnings::{Warning, WarningCode, WarningParams};
+use crate::{fmt_num, ControllerSpec, ObserverPoles};
 
 /// The usual observer speed factor (common practice): 2–6 times the controller poles.
 pub const OBSERVER_SPEED_RULE: (f64, f64) = (2.0, 6.0);
@@ -95,7 +95,10 @@ pub(super) fn placement_warnings(s: &Setup, g: &Gains, an: &Analysis) -> Vec<War
     }
     out.extend(branch_warning(&p.branch, "gain", if s.spec.search.is_some() { "the search's" } else { "the previous design's" }));
     if p.max_pole_error > wp.inaccurate_placement {
-        out.push(Warning::new(WarningCode::PlacementInaccurate, format!("The achieved poles differ from the requested ones by up to {} (relative): the problem is numerically ill conditioned.", fmt_num(p.max_pole_error))));
+        out.push(Warning::new(
+            WarningCode::PlacementInaccurate,
+            format!("The achieved poles differ from the requested ones by up to {} (relative): the problem is numerically ill conditioned.", fmt_num(p.max_pole_error)),
+        ));
     }
     if !p.converged {
         out.push(Warning::new(WarningCode::NotConverged, "The eigenvector optimisation stopped at its sweep limit; the gain is valid but its robustness may not be the best available."));
@@ -107,17 +110,27 @@ pub(super) fn placement_warnings(s: &Setup, g: &Gains, an: &Analysis) -> Vec<War
         let not_assigned = if p.not_assigned.is_empty() { String::new() } else { format!("; the requested pole(s) {} were not assigned", crate::poles::format_pole_list(&p.not_assigned)) };
         out.push(Warning::new(
             WarningCode::UncontrollableModes,
-            format!("The plant is not controllable: {} mode(s) at {} cannot be moved by feedback and stay where they are{not_assigned}.", an.ctrb.hidden_modes.len(), crate::poles::format_pole_list(&an.ctrb.hidden_modes)),
+            format!(
+                "The plant is not controllable: {} mode(s) at {} cannot be moved by feedback and stay where they are{not_assigned}.",
+                an.ctrb.hidden_modes.len(),
+                crate::poles::format_pole_list(&an.ctrb.hidden_modes)
+            ),
         ));
     }
     for md in an.ctrb.modes.iter().filter(|md| md.verdict == ModeVerdict::Weak) {
-        out.push(Warning::new(WarningCode::WeaklyControllable, format!("The mode at {} is only weakly controllable (margin {}): moving it needs large inputs.", format_complex(md.pole), fmt_num(md.margin))));
+        out.push(Warning::new(
+            WarningCode::WeaklyControllable,
+            format!("The mode at {} is only weakly controllable (margin {}): moving it needs large inputs.", format_complex(md.pole), fmt_num(md.margin)),
+        ));
     }
     for md in an.obsv.iter().flat_map(|o| o.modes.iter()).filter(|md| md.verdict == ModeVerdict::Weak) {
         out.push(Warning::new(WarningCode::WeaklyObservable, format!("The mode at {} is only weakly observable from the outputs (margin {}).", format_complex(md.pole), fmt_num(md.margin))));
     }
     if !an.ctrb.consistent || an.obsv.as_ref().is_some_and(|o| !o.consistent) {
-        out.push(Warning::new(WarningCode::AnalysisInconsistent, "The staircase and the per-mode (PBH) tests disagree: the plant is on the borderline of losing controllability or observability; treat the verdicts with care."));
+        out.push(Warning::new(
+            WarningCode::AnalysisInconsistent,
+            "The staircase and the per-mode (PBH) tests disagree: the plant is on the borderline of losing controllability or observability; treat the verdicts with care.",
+        ));
     }
     out
 }
@@ -137,7 +150,10 @@ pub(super) fn controller_warnings(g: &Gains, advice: Option<&SampleRateAdvice>) 
         if let Some(w) = jordan_warning(&od.placement, "observer", "the number of independent outputs") {
             out.push(w);
         } else if !(od.placement.eigenvector_condition <= wp.fragile_condition) {
-            out.push(Warning::new(WarningCode::FragileObserver, format!("The observer's eigenvector condition number is {}: its poles are sensitive to model errors.", fmt_num(od.placement.eigenvector_condition))));
+            out.push(Warning::new(
+                WarningCode::FragileObserver,
+                format!("The observer's eigenvector condition number is {}: its poles are sensitive to model errors.", fmt_num(od.placement.eigenvector_condition)),
+            ));
         }
     }
     out
@@ -172,10 +188,19 @@ pub(super) fn loop_warnings(l: &LoopResult, band: f64) -> Vec<Warning> {
         ));
     }
     if l.diverged {
-        out.push(Warning::new(WarningCode::LoopDiverged, "The loop simulation (the whole controller with the plant) grew without bound and was stopped: this controller does not stabilise the plant as simulated."));
+        out.push(Warning::new(
+            WarningCode::LoopDiverged,
+            "The loop simulation (the whole controller with the plant) grew without bound and was stopped: this controller does not stabilise the plant as simulated.",
+        ));
     }
     if let Some(e) = l.separation_error.filter(|e| !(*e <= 1e-6)) {
-        out.push(Warning::new(WarningCode::SeparationFailed, format!("The eigenvalues of the loop with observer differ from the controller and observer poles by up to {} (relative): the separation check failed; treat the design with care.", fmt_num(e))));
+        out.push(Warning::new(
+            WarningCode::SeparationFailed,
+            format!(
+                "The eigenvalues of the loop with observer differ from the controller and observer poles by up to {} (relative): the separation check failed; treat the design with care.",
+                fmt_num(e)
+            ),
+        ));
     }
     out
 }
@@ -225,14 +250,27 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
             };
             out.push(Warning::new(
                 WarningCode::SearchShortOfLimit,
-                format!("At the speed factor found ({}), the peak input is {} % of its limit, not the 97–100 % a steady search ends at: {reason}. Look at the samples before relying on the factor.", fmt_num(r.speed_factor), fmt_num(100.0 * r.peak_ratio)),
+                format!(
+                    "At the speed factor found ({}), the peak input is {} % of its limit, not the 97–100 % a steady search ends at: {reason}. Look at the samples before relying on the factor.",
+                    fmt_num(r.speed_factor),
+                    fmt_num(100.0 * r.peak_ratio)
+                ),
             ));
         }
         if !r.monotonic {
-            out.push(Warning::new(WarningCode::SearchNotMonotonic, "The peak input did not grow steadily with the speed-up over the searched range: the factor found is one crossing of the limit, not necessarily the only one; check the samples."));
+            out.push(Warning::new(
+                WarningCode::SearchNotMonotonic,
+                "The peak input did not grow steadily with the speed-up over the searched range: the factor found is one crossing of the limit, not necessarily the only one; check the samples.",
+            ));
         }
         if r.limited_by_range {
-            out.push(Warning::new(WarningCode::SearchRangeLimit, format!("The inputs stay within their limits even at the largest factor tried ({}): the actuators are not what limits this design; noise, model accuracy and sampling are.", fmt_num(r.speed_factor))));
+            out.push(Warning::new(
+                WarningCode::SearchRangeLimit,
+                format!(
+                    "The inputs stay within their limits even at the largest factor tried ({}): the actuators are not what limits this design; noise, model accuracy and sampling are.",
+                    fmt_num(r.speed_factor)
+                ),
+            ));
         }
     }
     out
@@ -244,7 +282,9 @@ fn jordan_warning(p: &crate::place::Placement, what: &str, limit: &str) -> Optio
     use crate::place::PlacementMethod;
     let combined = match &p.method {
         PlacementMethod::Deflation => String::new(),
-        PlacementMethod::DeflationMultiInput => " With several inputs, spreading the copies slightly apart (or using at most rank B of them) lets the eigenvectors be independent and is more robust.".to_string(),
+        PlacementMethod::DeflationMultiInput => {
+            " With several inputs, spreading the copies slightly apart (or using at most rank B of them) lets the eigenvectors be independent and is more robust.".to_string()
+        }
         PlacementMethod::Robust | PlacementMethod::Given => return None,
     };
     let (pole, copies) = crate::place::most_repeated(&p.assigned_poles);
@@ -259,7 +299,6 @@ fn jordan_warning(p: &crate::place::Placement, what: &str, limit: &str) -> Optio
         ),
     ))
 }
-
 
 /// The `branch-followed` / `branch-changed` warning of a continued placement (`source` names
 /// what it continued from).

@@ -119,9 +119,7 @@ pub(crate) fn largest(values: &[Figure]) -> Figure {
             Figure::Value(x) => Some(*x),
             _ => None,
         })
-        .fold(None, |acc: Option<f64>, x| {
-            Some(acc.map_or(x, |a| a.max(x)))
-        })
+        .fold(None, |acc: Option<f64>, x| Some(acc.map_or(x, |a| a.max(x))))
         .map_or(Figure::NotAvailable, Figure::Value)
 }
 
@@ -131,22 +129,9 @@ impl DesignSummary {
     /// simulation) the tracking figures of each tracked output.
     pub fn from_result(result: &DesignResult) -> DesignSummary {
         let sim = &result.simulation;
-        let requested: Vec<Complex64> = result
-            .feedback
-            .requested_poles
-            .iter()
-            .map(pair_to_complex)
-            .collect();
-        let settling_time: Vec<Figure> = sim
-            .settling_time
-            .iter()
-            .map(|t| Figure::from_settling(*t))
-            .collect();
-        let overshoot: Vec<Figure> = sim
-            .overshoot
-            .iter()
-            .map(|o| o.map_or(Figure::NotAvailable, |x| Figure::from_number(x * 100.0)))
-            .collect();
+        let requested: Vec<Complex64> = result.feedback.requested_poles.iter().map(pair_to_complex).collect();
+        let settling_time: Vec<Figure> = sim.settling_time.iter().map(|t| Figure::from_settling(*t)).collect();
+        let overshoot: Vec<Figure> = sim.overshoot.iter().map(|o| o.map_or(Figure::NotAvailable, |x| Figure::from_number(x * 100.0))).collect();
         let plant = &result.plant;
         let inputs = sim
             .peak_input
@@ -159,11 +144,7 @@ impl DesignSummary {
                     _ => Figure::NotAvailable,
                 };
                 InputSummary {
-                    name: plant
-                        .input_names
-                        .get(i)
-                        .cloned()
-                        .unwrap_or_else(|| format!("u{}", i + 1)),
+                    name: plant.input_names.get(i).cloned().unwrap_or_else(|| format!("u{}", i + 1)),
                     unit: plant.input_units.get(i).cloned().unwrap_or_default(),
                     peak: Figure::from_number(*peak),
                     limit,
@@ -240,13 +221,8 @@ pub fn better_of(pinned: Figure, current: Figure, params: &ComparisonParams) -> 
             if a.is_nan() || b.is_nan() {
                 return Which::Undecided;
             }
-            let tolerance = if params.equal_within.is_finite() && params.equal_within > 0.0 {
-                params.equal_within
-            } else {
-                0.0
-            };
-            let finite_close =
-                a.is_finite() && b.is_finite() && (a - b).abs() <= tolerance * a.abs().max(b.abs());
+            let tolerance = if params.equal_within.is_finite() && params.equal_within > 0.0 { params.equal_within } else { 0.0 };
+            let finite_close = a.is_finite() && b.is_finite() && (a - b).abs() <= tolerance * a.abs().max(b.abs());
             if a == b || finite_close {
                 Which::Same
             } else if a < b {
@@ -261,20 +237,8 @@ pub fn better_of(pinned: Figure, current: Figure, params: &ComparisonParams) -> 
     }
 }
 
-pub(crate) fn row(
-    figure: String,
-    pinned: Figure,
-    current: Figure,
-    params: &ComparisonParams,
-) -> ComparisonRow {
-    ComparisonRow {
-        figure,
-        pinned,
-        current,
-        pinned_text: pinned.text(),
-        current_text: current.text(),
-        better: better_of(pinned, current, params),
-    }
+pub(crate) fn row(figure: String, pinned: Figure, current: Figure, params: &ComparisonParams) -> ComparisonRow {
+    ComparisonRow { figure, pinned, current, pinned_text: pinned.text(), current_text: current.text(), better: better_of(pinned, current, params) }
 }
 
 pub(crate) fn with_unit(label: String, unit: &str) -> String {
@@ -296,63 +260,27 @@ pub fn compare(pinned: &DesignSummary, current: &DesignSummary) -> Vec<Compariso
 /// tracked output (matched by name; pinned order, then outputs only the current design
 /// tracks) its settling time, overshoot and steady-state error. A figure one design lacks is
 /// [`Figure::NotAvailable`] on that side.
-pub fn compare_with(
-    pinned: &DesignSummary,
-    current: &DesignSummary,
-    params: &ComparisonParams,
-) -> Vec<ComparisonRow> {
+pub fn compare_with(pinned: &DesignSummary, current: &DesignSummary, params: &ComparisonParams) -> Vec<ComparisonRow> {
     let mut rows = vec![
-        row(
-            "slowest settling time (s)".into(),
-            pinned.slowest_settling_time,
-            current.slowest_settling_time,
-            params,
-        ),
-        row(
-            "largest overshoot (%)".into(),
-            pinned.largest_overshoot,
-            current.largest_overshoot,
-            params,
-        ),
+        row("slowest settling time (s)".into(), pinned.slowest_settling_time, current.slowest_settling_time, params),
+        row("largest overshoot (%)".into(), pinned.largest_overshoot, current.largest_overshoot, params),
     ];
     let inputs = pinned.inputs.len().max(current.inputs.len());
     for i in 0..inputs {
         let (p, c) = (pinned.inputs.get(i), current.inputs.get(i));
         let Some(named) = c.or(p) else { continue };
-        let has_limit = |s: Option<&InputSummary>| {
-            s.is_none_or(|s| matches!(s.peak_over_limit, Figure::Value(_)))
-        };
+        let has_limit = |s: Option<&InputSummary>| s.is_none_or(|s| matches!(s.peak_over_limit, Figure::Value(_)));
         let (label, pick): (String, fn(&InputSummary) -> Figure) = if has_limit(p) && has_limit(c) {
-            (format!("peak input {} / limit", named.name), |s| {
-                s.peak_over_limit
-            })
+            (format!("peak input {} / limit", named.name), |s| s.peak_over_limit)
         } else {
-            (
-                with_unit(format!("peak input {}", named.name), &named.unit),
-                |s| s.peak,
-            )
+            (with_unit(format!("peak input {}", named.name), &named.unit), |s| s.peak)
         };
         let side = |s: Option<&InputSummary>| s.map_or(Figure::NotAvailable, pick);
         rows.push(row(label, side(p), side(c), params));
     }
-    rows.push(row(
-        "gain norm ‖K‖".into(),
-        pinned.gain_norm,
-        current.gain_norm,
-        params,
-    ));
-    rows.push(row(
-        "eigenvector condition κ₂(X)".into(),
-        pinned.eigenvector_condition,
-        current.eigenvector_condition,
-        params,
-    ));
-    rows.push(row(
-        "largest pole error (relative)".into(),
-        pinned.max_pole_error,
-        current.max_pole_error,
-        params,
-    ));
+    rows.push(row("gain norm ‖K‖".into(), pinned.gain_norm, current.gain_norm, params));
+    rows.push(row("eigenvector condition κ₂(X)".into(), pinned.eigenvector_condition, current.eigenvector_condition, params));
+    rows.push(row("largest pole error (relative)".into(), pinned.max_pole_error, current.max_pole_error, params));
     let mut names: Vec<&str> = pinned.tracked.iter().map(|t| t.name.as_str()).collect();
     for t in &current.tracked {
         if !names.contains(&t.name.as_str()) {
@@ -362,27 +290,10 @@ pub fn compare_with(
     for name in names {
         let find = |s: &DesignSummary| s.tracked.iter().find(|t| t.name == name).cloned();
         let (p, c) = (find(pinned), find(current));
-        let side = |s: &Option<TrackedSummary>, pick: fn(&TrackedSummary) -> Figure| {
-            s.as_ref().map_or(Figure::NotAvailable, pick)
-        };
-        rows.push(row(
-            format!("settling time of {name} (s)"),
-            side(&p, |t| t.settling_time),
-            side(&c, |t| t.settling_time),
-            params,
-        ));
-        rows.push(row(
-            format!("overshoot of {name} (%)"),
-            side(&p, |t| t.overshoot),
-            side(&c, |t| t.overshoot),
-            params,
-        ));
-        rows.push(row(
-            format!("steady-state error of {name}"),
-            side(&p, |t| t.steady_state_error),
-            side(&c, |t| t.steady_state_error),
-            params,
-        ));
+        let side = |s: &Option<TrackedSummary>, pick: fn(&TrackedSummary) -> Figure| s.as_ref().map_or(Figure::NotAvailable, pick);
+        rows.push(row(format!("settling time of {name} (s)"), side(&p, |t| t.settling_time), side(&c, |t| t.settling_time), params));
+        rows.push(row(format!("overshoot of {name} (%)"), side(&p, |t| t.overshoot), side(&c, |t| t.overshoot), params));
+        rows.push(row(format!("steady-state error of {name}"), side(&p, |t| t.steady_state_error), side(&c, |t| t.steady_state_error), params));
     }
     rows
 }

@@ -26,13 +26,7 @@ pub struct EditHistory {
 impl EditHistory {
     /// A history starting at `initial`, with nothing to undo.
     pub fn new(initial: PoleSet, params: EditParams) -> EditHistory {
-        EditHistory {
-            current: initial,
-            undo: VecDeque::new(),
-            redo: Vec::new(),
-            drag: None,
-            params,
-        }
+        EditHistory { current: initial, undo: VecDeque::new(), redo: Vec::new(), drag: None, params }
     }
 
     /// The current pole list.
@@ -120,10 +114,7 @@ impl EditHistory {
     pub fn begin_drag(&mut self, entry: usize) -> Result<(), EditError> {
         self.end_drag();
         self.current.existing(entry)?;
-        self.drag = Some(Drag {
-            entry,
-            before: self.current.clone(),
-        });
+        self.drag = Some(Drag { entry, before: self.current.clone() });
         Ok(())
     }
 

@@ -95,11 +95,7 @@ pub fn frame_span(frame: &Frame) -> Result<f64, EditError> {
 /// [`EditError::UnusableFrame`].
 pub fn axis_clearance(frame: &Frame, params: &EditParams) -> Result<f64, EditError> {
     let fraction = params.pair_axis_clearance;
-    let fraction = if fraction.is_finite() && fraction > 0.0 {
-        fraction
-    } else {
-        0.0
-    };
+    let fraction = if fraction.is_finite() && fraction > 0.0 { fraction } else { 0.0 };
     Ok(fraction * frame_span(frame)?)
 }
 
@@ -126,23 +122,14 @@ pub fn nudge_step(frame: &Frame, step: StepSize, params: &EditParams) -> Result<
 /// # Errors
 /// [`EditError::NoSuchEntry`] or [`EditError::UnusableFrame`]. A move that overflows to a
 /// non-finite position is refused when applied.
-pub fn nudge(
-    set: &PoleSet,
-    entry: usize,
-    direction: Direction,
-    step: StepSize,
-    frame: &Frame,
-    params: &EditParams,
-) -> Result<NudgeOutcome, EditError> {
+pub fn nudge(set: &PoleSet, entry: usize, direction: Direction, step: StepSize, frame: &Frame, params: &EditParams) -> Result<NudgeOutcome, EditError> {
     let current = set.existing(entry)?;
     let distance = nudge_step(frame, step, params)?;
     let z = current.upper();
     let to = match (current, direction) {
         (_, Direction::Left) => Complex64::new(z.re - distance, z.im),
         (_, Direction::Right) => Complex64::new(z.re + distance, z.im),
-        (PoleEntry::Real { .. }, Direction::Up | Direction::Down) => {
-            return Ok(NudgeOutcome::NoChange(NoChangeReason::RealPoleStaysOnAxis))
-        }
+        (PoleEntry::Real { .. }, Direction::Up | Direction::Down) => return Ok(NudgeOutcome::NoChange(NoChangeReason::RealPoleStaysOnAxis)),
         (PoleEntry::Pair { .. }, Direction::Up) => Complex64::new(z.re, z.im + distance),
         (PoleEntry::Pair { .. }, Direction::Down) => {
             let floor = axis_clearance(frame, params)?;
@@ -172,20 +159,12 @@ pub fn pointer_position(frame: &Frame, pointer: [f64; 2]) -> Result<Complex64, E
 ///
 /// # Errors
 /// [`EditError::NoSuchEntry`], [`EditError::NotFinite`] or [`EditError::UnusableFrame`].
-pub fn drag_edit(
-    set: &PoleSet,
-    entry: usize,
-    frame: &Frame,
-    pointer: [f64; 2],
-    params: &EditParams,
-) -> Result<Edit, EditError> {
+pub fn drag_edit(set: &PoleSet, entry: usize, frame: &Frame, pointer: [f64; 2], params: &EditParams) -> Result<Edit, EditError> {
     let current = set.existing(entry)?;
     let at = pointer_position(frame, pointer)?;
     let to = match current {
         PoleEntry::Real { .. } => Complex64::new(at.re, 0.0),
-        PoleEntry::Pair { .. } => {
-            Complex64::new(at.re, at.im.abs().max(axis_clearance(frame, params)?))
-        }
+        PoleEntry::Pair { .. } => Complex64::new(at.re, at.im.abs().max(axis_clearance(frame, params)?)),
     };
     Ok(Edit::Move { entry, to })
 }

@@ -83,12 +83,12 @@ use crate::design::{fmt_num, DesignResult, Pair};
 use crate::plot::{hit_test, Frame, HIT_RADIUS_PX};
 use crate::poles::{check_conjugate_pairs, format_pole_list, Complex64, PoleError};
 
+mod comparison;
 mod history;
 mod keys;
-mod comparison;
+pub use comparison::*;
 pub use history::*;
 pub use keys::*;
-pub use comparison::*;
 
 /// Relative tolerance for matching a pole with its conjugate: the same rule and value as
 /// [`check_conjugate_pairs`] uses, so that every list it accepts pairs up here.
@@ -116,13 +116,7 @@ pub struct EditParams {
 
 impl Default for EditParams {
     fn default() -> Self {
-        EditParams {
-            history_limit: 200,
-            nudge_fraction: 0.01,
-            large_nudge_fraction: 0.1,
-            pair_axis_clearance: 0.005,
-            hit_radius_px: HIT_RADIUS_PX,
-        }
+        EditParams { history_limit: 200, nudge_fraction: 0.01, large_nudge_fraction: 0.1, pair_axis_clearance: 0.005, hit_radius_px: HIT_RADIUS_PX }
     }
 }
 
@@ -173,42 +167,24 @@ pub enum EditError {
 impl fmt::Display for EditError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            EditError::NoSuchEntry { entry, entries } => write!(
-                f,
-                "there is no pole entry {} (the list has {entries}); choose a pole on the map",
-                entry.saturating_add(1)
-            ),
-            EditError::NotFinite => write!(
-                f,
-                "the new position is not a finite number; the pole was left where it was"
-            ),
+            EditError::NoSuchEntry { entry, entries } => write!(f, "there is no pole entry {} (the list has {entries}); choose a pole on the map", entry.saturating_add(1)),
+            EditError::NotFinite => write!(f, "the new position is not a finite number; the pole was left where it was"),
             EditError::PairOnRealAxis => write!(
                 f,
                 "a conjugate pair cannot sit on the real axis; merge it into two real poles \
                  instead"
             ),
-            EditError::NotReal { entry } => write!(
-                f,
-                "pole entry {} is a conjugate pair; only two real poles can be split into a pair",
-                entry.saturating_add(1)
-            ),
+            EditError::NotReal { entry } => write!(f, "pole entry {} is a conjugate pair; only two real poles can be split into a pair", entry.saturating_add(1)),
             EditError::NotPair { entry } => write!(
                 f,
                 "pole entry {} is a real pole; only a conjugate pair can be merged into two \
                  real poles",
                 entry.saturating_add(1)
             ),
-            EditError::SameEntry { entry } => write!(
-                f,
-                "pole entry {} was named twice; a pair is made from two different real poles",
-                entry.saturating_add(1)
-            ),
+            EditError::SameEntry { entry } => write!(f, "pole entry {} was named twice; a pair is made from two different real poles", entry.saturating_add(1)),
             EditError::Poles(inner) => inner.fmt(f),
             EditError::NoDrag => write!(f, "no pole is being dragged"),
-            EditError::UnusableFrame => write!(
-                f,
-                "the pole map has no usable scale; resize or redraw it and try again"
-            ),
+            EditError::UnusableFrame => write!(f, "the pole map has no usable scale; resize or redraw it and try again"),
             EditError::NoRealEquivalent { z } => write!(
                 f,
                 "a real s-plane pole maps to a positive real z = e^(sT); z = {z} has no real \
@@ -359,28 +335,18 @@ impl PoleSet {
                 continue;
             }
             let target = z.conj();
-            let partner = poles.iter().enumerate().skip(i + 1).find(|(j, w)| {
-                !used.get(*j).copied().unwrap_or(true) && w.im != 0.0 && is_close(**w, target)
-            });
+            let partner = poles.iter().enumerate().skip(i + 1).find(|(j, w)| !used.get(*j).copied().unwrap_or(true) && w.im != 0.0 && is_close(**w, target));
             match partner {
                 Some((j, w)) => {
                     if let Some(flag) = used.get_mut(j) {
                         *flag = true;
                     }
                     let top = if z.im >= w.im { z } else { w };
-                    entries.push(PoleEntry::Pair {
-                        re: top.re,
-                        im: top.im.abs(),
-                    });
+                    entries.push(PoleEntry::Pair { re: top.re, im: top.im.abs() });
                 }
                 // invariant: unreachable after check_conjugate_pairs, which matches greedily
                 // with the same rule; reported rather than assumed.
-                None => {
-                    return Err(EditError::Poles(PoleError::MissingConjugate {
-                        pole: *z,
-                        expected: target,
-                    }))
-                }
+                None => return Err(EditError::Poles(PoleError::MissingConjugate { pole: *z, expected: target })),
             }
         }
         Ok(PoleSet { entries })
@@ -445,10 +411,7 @@ impl PoleSet {
     }
 
     fn no_such(&self, entry: usize) -> EditError {
-        EditError::NoSuchEntry {
-            entry,
-            entries: self.entries.len(),
-        }
+        EditError::NoSuchEntry { entry, entries: self.entries.len() }
     }
 
     fn existing(&self, entry: usize) -> Result<PoleEntry, EditError> {
@@ -475,21 +438,14 @@ impl PoleSet {
             }
             Edit::Add(z) => {
                 require_finite(*z)?;
-                entries.push(if z.im == 0.0 {
-                    PoleEntry::Real { re: z.re }
-                } else {
-                    pair_entry(*z)?
-                });
+                entries.push(if z.im == 0.0 { PoleEntry::Real { re: z.re } } else { pair_entry(*z)? });
             }
             Edit::Remove { entry } => {
                 self.existing(*entry)?;
                 entries.remove(*entry);
             }
             Edit::Replace(poles) => return PoleSet::from_poles(poles),
-            Edit::SplitReal {
-                entries: (a, b),
-                to,
-            } => {
+            Edit::SplitReal { entries: (a, b), to } => {
                 for k in [*a, *b] {
                     if self.existing(k)?.is_pair() {
                         return Err(EditError::NotReal { entry: k });
@@ -526,22 +482,10 @@ impl PoleSet {
         let mut out = Vec::with_capacity(self.pole_count());
         for (entry, e) in self.entries.iter().enumerate() {
             match *e {
-                PoleEntry::Real { re } => out.push(PoleMarker {
-                    entry,
-                    member: Member::Real,
-                    point: [re, 0.0],
-                }),
+                PoleEntry::Real { re } => out.push(PoleMarker { entry, member: Member::Real, point: [re, 0.0] }),
                 PoleEntry::Pair { re, im } => {
-                    out.push(PoleMarker {
-                        entry,
-                        member: Member::Upper,
-                        point: [re, im],
-                    });
-                    out.push(PoleMarker {
-                        entry,
-                        member: Member::Lower,
-                        point: [re, -im],
-                    });
+                    out.push(PoleMarker { entry, member: Member::Upper, point: [re, im] });
+                    out.push(PoleMarker { entry, member: Member::Lower, point: [re, -im] });
                 }
             }
         }
@@ -603,10 +547,7 @@ pub enum Edit {
     /// Replace the whole list (must pass [`check_conjugate_pairs`]).
     Replace(Vec<Complex64>),
     /// Turn two real poles into the pair at `to` (reflected if `to.im < 0`).
-    SplitReal {
-        entries: (usize, usize),
-        to: Complex64,
-    },
+    SplitReal { entries: (usize, usize), to: Complex64 },
     /// Turn a pair into two real poles at `to.0` and `to.1`.
     MergePair { entry: usize, to: (f64, f64) },
 }

@@ -318,7 +318,14 @@ pub fn form_from_spec(spec: &DesignSpec) -> Result<FormInput, String> {
     put("b", p.b.as_ref().map(matrix_text));
     put("c", p.c.as_ref().map(matrix_text));
     put("d", p.d.as_ref().map(matrix_text));
-    for (key, v) in [("state_names", &p.state_names), ("state_units", &p.state_units), ("input_names", &p.input_names), ("input_units", &p.input_units), ("output_names", &p.output_names), ("output_units", &p.output_units)] {
+    for (key, v) in [
+        ("state_names", &p.state_names),
+        ("state_units", &p.state_units),
+        ("input_names", &p.input_names),
+        ("input_units", &p.input_units),
+        ("output_names", &p.output_names),
+        ("output_units", &p.output_units),
+    ] {
         put(key, v.as_ref().map(names_text));
     }
     feedback_fields(spec, &mut f);

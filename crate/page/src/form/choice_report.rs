@@ -103,14 +103,16 @@ pub(crate) fn region_report(result: &DesignResult, r: &design::RegionResult) -> 
         _ => None,
     };
     let overshoot = crate::patterns::overshoot_from_damping(region.min_damping).map(|mp| format!(" (a pure pair with this damping overshoots by {} %)", fmt_num(mp * 100.0))).unwrap_or_default();
-    let damping = format!("Damping ratio ζ ≥ {}{overshoot}: every pole within ±{}° of the negative real axis.", fmt_num(region.min_damping), fmt_num(region.min_damping.clamp(-1.0, 1.0).acos().to_degrees()));
+    let damping =
+        format!("Damping ratio ζ ≥ {}{overshoot}: every pole within ±{}° of the negative real axis.", fmt_num(region.min_damping), fmt_num(region.min_damping.clamp(-1.0, 1.0).acos().to_degrees()));
     let circle = match t.and_then(|t| crate::patterns::discrete_decay_radius(&region, t).ok()) {
         Some(radius) => format!("; in the z-plane, |z| ≤ e^(−σT) = {}", fmt_num(radius)),
         None => String::new(),
     };
     let decay_rate = format!("Decay rate σ ≥ {} 1/s: every pole at Re s ≤ −{}{circle}.", fmt_num(region.min_decay_rate), fmt_num(region.min_decay_rate));
     let natural_frequency = region.natural_frequency.map(|w| format!("Natural frequency ωn ≥ {} rad/s (from the rise time): every pole at |s| ≥ {}.", fmt_num(w), fmt_num(w)));
-    let note = "These bounds come from the formulas of a pure second-order pair (no zeros, no other poles); for this closed loop they are approximations: confirm the response by simulation.".to_string();
+    let note =
+        "These bounds come from the formulas of a pure second-order pair (no zeros, no other poles); for this closed loop they are approximations: confirm the response by simulation.".to_string();
     let violations = region_violations_of(result, &region);
     let outside_region: Vec<String> = violations.iter().map(|v| violation_text(v, &region, t)).collect();
     RegionReport { damping, decay_rate, natural_frequency, note, outside_region }
@@ -212,11 +214,18 @@ pub(crate) fn search_report(result: &DesignResult, s: &design::SearchSummary, co
     let top = s.samples.last().map_or(s.speed_factor, |x| x[0]);
     let bottom = s.samples.first().map_or(s.speed_factor, |x| x[0]);
     let monotonicity = if s.limited_by_range {
-        format!("Warning: the inputs stay within their limits even at the largest factor tried ({}): the actuators do not limit this design; measurement noise, model accuracy and sampling do.", fmt_num(s.speed_factor))
+        format!(
+            "Warning: the inputs stay within their limits even at the largest factor tried ({}): the actuators do not limit this design; measurement noise, model accuracy and sampling do.",
+            fmt_num(s.speed_factor)
+        )
     } else if s.monotonic {
         format!("The peak input grew steadily with the factor over the range checked ({} to {}), so the factor found is the only crossing of the limit there.", fmt_num(bottom), fmt_num(top))
     } else {
-        format!("Warning: the peak input did not grow steadily with the factor over the range checked ({} to {}): the factor found is one crossing of the limit, not necessarily the only one.", fmt_num(bottom), fmt_num(top))
+        format!(
+            "Warning: the peak input did not grow steadily with the factor over the range checked ({} to {}): the factor found is one crossing of the limit, not necessarily the only one.",
+            fmt_num(bottom),
+            fmt_num(top)
+        )
     };
     SearchReport {
         speed_factor: format!("Speed factor {}: every pole multiplied by it.", fmt_num(s.speed_factor)),
@@ -311,7 +320,11 @@ pub(crate) fn pole_choice_report(result: &DesignResult, context: &ReportContext)
                 Some(t) => {
                     let s: Option<Vec<Complex64>> = z.iter().map(|p| z_to_s(*p, t)).collect();
                     match s {
-                        Some(s) => (s.clone(), format!("{} (s-plane: s = ln z / T of the LQR's z-plane poles, which z = e^(sT) gives back to rounding). {adopt}{delay}", plural(s.len(), "pole", "poles")), "s"),
+                        Some(s) => (
+                            s.clone(),
+                            format!("{} (s-plane: s = ln z / T of the LQR's z-plane poles, which z = e^(sT) gives back to rounding). {adopt}{delay}", plural(s.len(), "pole", "poles")),
+                            "s",
+                        ),
                         None => (z.clone(), format!("{} (z-plane: a pole at z = 0 has no s-plane equivalent, so the pole plane becomes z). {adopt}{delay}", plural(z.len(), "pole", "poles")), "z"),
                     }
                 }
@@ -331,4 +344,3 @@ pub(crate) fn pole_choice_report(result: &DesignResult, context: &ReportContext)
         search: search.map(|s| search_report(result, s, context)),
     })
 }
-

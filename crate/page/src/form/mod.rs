@@ -103,21 +103,21 @@ pub use crate::design::check::DEFAULT_OBSERVER_SPEED;
 
 pub mod adapter;
 mod axes;
-mod fields;
-pub mod history;
 mod choice_report;
 mod context;
+mod fields;
+pub mod history;
 mod report;
 mod robustness;
 mod scenes;
 mod verdicts;
 pub use adapter::{form_from_spec, form_key, spec_from_form};
-pub use robustness::RobustnessDetail;
+pub use axes::{arrange_inputs, arrange_outputs, SignalAxes, MAX_PANELS};
 pub use choice_report::*;
 pub use context::ReportContext;
 pub use report::*;
+pub use robustness::RobustnessDetail;
 pub use scenes::*;
-pub use axes::{arrange_inputs, arrange_outputs, SignalAxes, MAX_PANELS};
 pub use verdicts::{verdicts, Verdict, VerdictTone};
 
 pub use fields::FormInput;
@@ -269,15 +269,7 @@ pub enum Depth {
 
 /// [`evaluate_form_continued`] at the given [`Depth`].
 pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Continuation>, depth: Depth) -> FormOutcome {
-    let mut outcome = FormOutcome {
-        status: FormStatus::Invalid,
-        errors: Vec::new(),
-        sizes: std::collections::BTreeMap::new(),
-        design: None,
-        design_error: None,
-        analysis: None,
-        report: None,
-    };
+    let mut outcome = FormOutcome { status: FormStatus::Invalid, errors: Vec::new(), sizes: std::collections::BTreeMap::new(), design: None, design_error: None, analysis: None, report: None };
     let spec = match adapter::spec_from_form(form) {
         Ok(spec) => spec,
         Err(errors) => {
@@ -353,10 +345,7 @@ pub fn open_loop_analysis(plant: &Plant) -> Option<OpenLoopAnalysis> {
     let mut poles = try_eigenvalues(plant.a()).ok()?;
     sort_for_display(&mut poles);
     let report = controllability_report(plant.a(), plant.b(), AnalysisParams::default()).ok()?;
-    Some(OpenLoopAnalysis {
-        open_loop_poles: poles.iter().map(|z| [z.re, z.im]).collect(),
-        controllability: modal_report_text(&report, Kind::Controllability),
-    })
+    Some(OpenLoopAnalysis { open_loop_poles: poles.iter().map(|z| [z.re, z.im]).collect(), controllability: modal_report_text(&report, Kind::Controllability) })
 }
 
 #[cfg(test)]

@@ -271,7 +271,6 @@ pub struct Report {
     pub pole_choice: Option<PoleChoiceReport>,
 }
 
-
 // ---------------------------------------------------------------------------------------------
 // Texts.
 
@@ -599,10 +598,7 @@ pub(crate) fn structure_result_text(r: &StructureResult, kind: Kind, discrete: b
         })
         .collect();
     let hidden: Vec<Complex64> = r.uncontrollable_modes.iter().map(c64).collect();
-    structure_text(
-        kind,
-        Structure { discrete, rank: r.rank, states: r.states, hidden: &hidden, modes: &modes, tolerance: r.tolerance, relative: r.relative_tolerance, consistent: r.consistent },
-    )
+    structure_text(kind, Structure { discrete, rank: r.rank, states: r.states, hidden: &hidden, modes: &modes, tolerance: r.tolerance, relative: r.relative_tolerance, consistent: r.consistent })
 }
 
 pub(crate) fn robustness_text(result: &DesignResult) -> String {
@@ -622,11 +618,7 @@ pub(crate) fn robustness_text(result: &DesignResult) -> String {
     } else {
         "fragile: small model errors can move the poles far from where they were placed"
     };
-    format!(
-        "Eigenvector condition number κ₂ = {cond} in balanced coordinates ({} as the states are scaled; 1 is ideal): {verdict}. Gain size ‖K‖₂ = {}.",
-        fmt_cond(raw),
-        fmt_num(f.gain_norm)
-    )
+    format!("Eigenvector condition number κ₂ = {cond} in balanced coordinates ({} as the states are scaled; 1 is ideal): {verdict}. Gain size ‖K‖₂ = {}.", fmt_cond(raw), fmt_num(f.gain_norm))
 }
 
 pub(crate) fn vector_text(v: &[f64]) -> String {
@@ -680,24 +672,11 @@ pub(crate) fn response_rows(result: &DesignResult) -> (Vec<StateRow>, Vec<InputR
                     format!("over the limit by {} %: saturated from t = {from} s, {} s in all", fmt_num(100.0 * (peak / l - 1.0)), fmt_num(total))
                 }
             };
-            InputRow {
-                name: label(name, u.as_ref()),
-                peak: with_unit(fmt_num(peak), &u),
-                limit: limit.map_or_else(|| "none".to_string(), |l| with_unit(fmt_num(l), &u)),
-                verdict,
-            }
+            InputRow { name: label(name, u.as_ref()), peak: with_unit(fmt_num(peak), &u), limit: limit.map_or_else(|| "none".to_string(), |l| with_unit(fmt_num(l), &u)), verdict }
         })
         .collect();
-    let start = if s.initial_state_chosen {
-        format!("x₀ = {} (none given: 1 in the first state)", vector_text(&s.initial_state))
-    } else {
-        format!("x₀ = {}", vector_text(&s.initial_state))
-    };
-    let horizon = if s.duration_chosen {
-        format!("{} s (chosen from the slowest closed-loop pole)", fmt_num(s.duration))
-    } else {
-        format!("{} s", fmt_num(s.duration))
-    };
+    let start = if s.initial_state_chosen { format!("x₀ = {} (none given: 1 in the first state)", vector_text(&s.initial_state)) } else { format!("x₀ = {}", vector_text(&s.initial_state)) };
+    let horizon = if s.duration_chosen { format!("{} s (chosen from the slowest closed-loop pole)", fmt_num(s.duration)) } else { format!("{} s", fmt_num(s.duration)) };
     let limits = if s.input_limit.iter().any(|l| l.is_some()) { "; inputs clipped at their limits" } else { "" };
     if free_response_is_zero(result) {
         let text = "The initial state is zero, so the free response is zero throughout: there is nothing to settle and no figure to read here. Give an initial state (Loop scenario, Initial state) to see how the regulator brings a disturbed state back to rest.".to_string();
@@ -825,10 +804,9 @@ pub(crate) fn observer_equations(result: &DesignResult) -> Vec<String> {
     let applied = if result.feedback.delay_gain.is_some() { "u[k−1]" } else { "u[k]" };
     match (result.sample_time.is_some(), o.form) {
         (false, _) => vec!["x̂′ = A x̂ + B u + L (y − C x̂ − D u)".into()],
-        (true, design::ObserverRunForm::Current) => vec![
-            "x̄[k] = x̂[k] + L_c (y[k] − C x̂[k] − D u_held), the estimate corrected with the measurement of the same sample".into(),
-            format!("x̂[k+1] = Φ x̄[k] + Γ {applied}"),
-        ],
+        (true, design::ObserverRunForm::Current) => {
+            vec!["x̄[k] = x̂[k] + L_c (y[k] − C x̂[k] − D u_held), the estimate corrected with the measurement of the same sample".into(), format!("x̂[k+1] = Φ x̄[k] + Γ {applied}")]
+        }
         (true, _) => vec![format!("x̂[k+1] = Φ x̂[k] + Γ {applied} + L (y[k] − C x̂[k] − D u_held)")],
     }
 }
@@ -847,7 +825,17 @@ pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
     };
     let k = if digital { "[k]" } else { "" };
     let mut lines = Vec::new();
-    let delay_term = |ff: bool| if delay { if ff { " − K_u (u[k−1] − N_u r)" } else { " − K_u u[k−1]" } } else { "" };
+    let delay_term = |ff: bool| {
+        if delay {
+            if ff {
+                " − K_u (u[k−1] − N_u r)"
+            } else {
+                " − K_u u[k−1]"
+            }
+        } else {
+            ""
+        }
+    };
     match &result.tracking {
         Some(TrackingResult::Feedforward { .. }) => lines.push(format!("u{k} = N_u r − K ({x} − N_x r){}", delay_term(true))),
         Some(TrackingResult::Integral { .. }) => lines.push(format!("u{k} = −K {x} − K_i z{k}{}", delay_term(false))),
@@ -861,7 +849,9 @@ pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
         lines.push(if digital { "z[k+1] = z[k] + T (r − y[k]) for each tracked output".into() } else { "z′ = r − y for each tracked output".into() });
         match (*anti_windup, time_constant) {
             (design::spec::AntiWindupMode::Clamp, _) => lines.push("anti-windup: the integrators hold while any input is clipped (conditional integration)".into()),
-            (design::spec::AntiWindupMode::BackCalculation, Some(tt)) => lines.push(format!("anti-windup: back-calculation, the integrators also driven by −K_i⁺ (u_applied − u_commanded) / T_t with T_t = {} s", fmt_num(*tt))),
+            (design::spec::AntiWindupMode::BackCalculation, Some(tt)) => {
+                lines.push(format!("anti-windup: back-calculation, the integrators also driven by −K_i⁺ (u_applied − u_commanded) / T_t with T_t = {} s", fmt_num(*tt)))
+            }
             _ => lines.push("no anti-windup: the integrators keep integrating while an input is clipped".into()),
         }
     }
@@ -916,8 +906,22 @@ pub(crate) fn controller_report(result: &DesignResult, context: &ReportContext) 
 
     let discrete_plant = match &result.discrete_plant {
         Some(dp) => vec![
-            matrix_table("Φ", "Φ = e^(A T): the plant's state transition over one sample (one row and one column per state)", "Φ = e^(A T); one row and one column per state", states.clone(), states.clone(), &dp.a),
-            matrix_table("Γ", "Γ = ∫₀ᵀ e^(A s) ds B: the effect of an input held over one sample (one row per state, one column per input)", "Γ = (integral of e^(A s) ds over one sample) B; one row per state, one column per input", states.clone(), inputs.clone(), &dp.b),
+            matrix_table(
+                "Φ",
+                "Φ = e^(A T): the plant's state transition over one sample (one row and one column per state)",
+                "Φ = e^(A T); one row and one column per state",
+                states.clone(),
+                states.clone(),
+                &dp.a,
+            ),
+            matrix_table(
+                "Γ",
+                "Γ = ∫₀ᵀ e^(A s) ds B: the effect of an input held over one sample (one row per state, one column per input)",
+                "Γ = (integral of e^(A s) ds over one sample) B; one row per state, one column per input",
+                states.clone(),
+                inputs.clone(),
+                &dp.b,
+            ),
         ],
         None => Vec::new(),
     };
@@ -943,7 +947,6 @@ pub(crate) fn controller_report(result: &DesignResult, context: &ReportContext) 
         events,
     })
 }
-
 
 /// How the controller runs: continuous, or digital with its sample time and delay.
 pub(crate) fn domain_text(result: &DesignResult, context: &ReportContext) -> String {
@@ -1062,11 +1065,7 @@ pub(crate) fn loop_parts(result: &DesignResult, context: &ReportContext) -> Loop
                 let err: Vec<f64> = x.iter().zip(xh).map(|(a, b)| a - b).collect();
                 let peak = err.iter().fold(0.0f64, |m, v| m.max(v.abs()));
                 let last = err.last().copied().unwrap_or(0.0).abs();
-                estimation.push(EstimationRow {
-                    name: p.state_names.get(i).map(|n| label(n, u)).unwrap_or_default(),
-                    peak: with_unit(fmt_num(peak), u),
-                    last: with_unit(fmt_num(last), u),
-                });
+                estimation.push(EstimationRow { name: p.state_names.get(i).map(|n| label(n, u)).unwrap_or_default(), peak: with_unit(fmt_num(peak), u), last: with_unit(fmt_num(last), u) });
             }
         }
         let mut parts = Vec::new();
@@ -1099,10 +1098,7 @@ pub(crate) fn loop_parts(result: &DesignResult, context: &ReportContext) -> Loop
         };
         let start = if result.observer.is_some() { " The observer starts from x̂ = 0." } else { "" };
         let separation = match l.separation_error {
-            Some(e) if e.is_finite() => format!(
-                " Separation check: the eigenvalues of the loop with observer are the controller and observer poles to within {} (relative).",
-                fmt_num(e)
-            ),
+            Some(e) if e.is_finite() => format!(" Separation check: the eigenvalues of the loop with observer are the controller and observer poles to within {} (relative).", fmt_num(e)),
             _ => String::new(),
         };
         *loop_summary = Some(format!(
@@ -1133,4 +1129,3 @@ pub fn precision_sentence(fp: &crate::design::FinitePrecisionResult) -> String {
         .collect();
     format!("Float32 re-check (the numbers rounded as a float export stores them): {}.", parts.join("; "))
 }
-

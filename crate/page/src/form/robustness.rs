@@ -130,7 +130,15 @@ fn frequency_rows(m: &crate::design::MarginsResult) -> Vec<[String; 3]> {
     picked
         .iter()
         .map(|(w, s, t)| {
-            let cell = |v: f64, peak: bool| if v.is_nan() { "—".to_string() } else if peak { format!("{} (peak)", magnitude(v)) } else { magnitude(v) };
+            let cell = |v: f64, peak: bool| {
+                if v.is_nan() {
+                    "—".to_string()
+                } else if peak {
+                    format!("{} (peak)", magnitude(v))
+                } else {
+                    magnitude(v)
+                }
+            };
             [fmt_num(*w), cell(*s, t.is_nan()), cell(*t, s.is_nan())]
         })
         .collect()
@@ -178,7 +186,11 @@ pub fn detail(result: &DesignResult, context: &ReportContext) -> RobustnessDetai
         out.frequency_rows = frequency_rows(m);
     }
     if let Some(ps) = &result.pole_sensitivity {
-        out.sensitivity_rows = ps.poles.iter().map(|r| [complex_text(&r.pole), r.condition.map_or("repeated pole: not defined".to_string(), fmt_num), r.derivative.as_ref().map_or(String::new(), complex_text)]).collect();
+        out.sensitivity_rows = ps
+            .poles
+            .iter()
+            .map(|r| [complex_text(&r.pole), r.condition.map_or("repeated pole: not defined".to_string(), fmt_num), r.derivative.as_ref().map_or(String::new(), complex_text)])
+            .collect();
         out.sensitivity_entry = ps.entry.clone();
         out.sensitivity_summary = ps.summary.clone();
     }

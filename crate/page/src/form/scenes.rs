@@ -27,9 +27,7 @@ pub fn region_shape(result: &DesignResult, length: f64) -> Option<RegionShape> {
         return None;
     }
     let sin = (1.0 - zeta * zeta).sqrt();
-    let half_circle = |w: f64| -> Vec<Complex64> {
-        (0..=REGION_CIRCLE_POINTS).map(|k| Complex64::from_polar(w, PI / 2.0 + PI * k as f64 / REGION_CIRCLE_POINTS as f64)).collect()
-    };
+    let half_circle = |w: f64| -> Vec<Complex64> { (0..=REGION_CIRCLE_POINTS).map(|k| Complex64::from_polar(w, PI / 2.0 + PI * k as f64 / REGION_CIRCLE_POINTS as f64)).collect() };
     let pairs = |points: &[Complex64]| -> Vec<[f64; 2]> { points.iter().map(|z| [z.re, z.im]).collect() };
     let words = specification_words(result, &region);
     let from = if words.is_empty() { String::new() } else { format!(" (from {words})") };
@@ -47,10 +45,7 @@ pub fn region_shape(result: &DesignResult, length: f64) -> Option<RegionShape> {
                     boundaries.push(pairs(&arc));
                 }
             }
-            Some(RegionShape {
-                boundaries,
-                label: format!("admissible (s = ln z / T): ζ ≥ {} and |z| ≤ {} (Re s ≤ −{}){speed}{from}", fmt_num(zeta), fmt_num(radius), fmt_num(sigma)),
-            })
+            Some(RegionShape { boundaries, label: format!("admissible (s = ln z / T): ζ ≥ {} and |z| ≤ {} (Re s ≤ −{}){speed}{from}", fmt_num(zeta), fmt_num(radius), fmt_num(sigma)) })
         }
         _ => {
             let decay = vec![[-sigma, -length], [-sigma, length]];
@@ -143,11 +138,7 @@ pub fn states_scene(result: &DesignResult, normalised: bool) -> TimePlotScene {
             }
         })
         .collect();
-    let band = if normalised {
-        Some(Band { lower: -s.band, upper: s.band, label: format!("±{} % settling band", fmt_num(s.band * 100.0)) })
-    } else {
-        None
-    };
+    let band = if normalised { Some(Band { lower: -s.band, upper: s.band, label: format!("±{} % settling band", fmt_num(s.band * 100.0)) }) } else { None };
     TimePlotScene {
         t: s.time.clone(),
         series,
@@ -211,11 +202,7 @@ pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
         .map(|(i, values)| Series {
             // A digital design's inputs are held between samples.
             hold: result.domain == crate::analysis::Domain::Discrete,
-            name: if shared_unit.is_some() {
-                p.input_names.get(i).cloned().unwrap_or_default()
-            } else {
-                label(&p.input_names.get(i).cloned().unwrap_or_default(), p.input_units.get(i))
-            },
+            name: if shared_unit.is_some() { p.input_names.get(i).cloned().unwrap_or_default() } else { label(&p.input_names.get(i).cloned().unwrap_or_default(), p.input_units.get(i)) },
             values: values.clone(),
             ..Series::default()
         })
@@ -314,11 +301,7 @@ pub fn estimation_scene(result: &DesignResult, report: &Report) -> Option<TimePl
         .map(|(i, (x, xh))| {
             let peak = x.iter().fold(0.0f64, |m, v| m.max(v.abs()));
             let scale = if peak > 0.0 && peak.is_finite() { 1.0 / peak } else { 1.0 };
-            Series {
-                name: p.state_names.get(i).cloned().unwrap_or_else(|| format!("x{}", i + 1)),
-                values: x.iter().zip(xh).map(|(a, b)| (a - b) * scale).collect(),
-                ..Series::default()
-            }
+            Series { name: p.state_names.get(i).cloned().unwrap_or_else(|| format!("x{}", i + 1)), values: x.iter().zip(xh).map(|(a, b)| (a - b) * scale).collect(), ..Series::default() }
         })
         .collect();
     Some(TimePlotScene {
@@ -332,4 +315,3 @@ pub fn estimation_scene(result: &DesignResult, report: &Report) -> Option<TimePl
         pinned: Vec::new(),
     })
 }
-

@@ -72,11 +72,7 @@ fn placement_verdict(result: &DesignResult) -> Verdict {
     let fragile = result.warnings.iter().any(|w| w.code == WarningCode::FragileDesign);
     let missing = if f.not_assigned.is_empty() { String::new() } else { format!("; {} requested pole(s) not assigned", f.not_assigned.len()) };
     verdict(
-        format!(
-            "Poles placed to {} (largest error, relative); eigenvector condition κ = {}{missing}.",
-            fmt_num(f.max_pole_error),
-            fmt_num(f.balanced_eigenvector_condition)
-        ),
+        format!("Poles placed to {} (largest error, relative); eigenvector condition κ = {}{missing}.", fmt_num(f.max_pole_error), fmt_num(f.balanced_eigenvector_condition)),
         inaccurate || fragile || !f.not_assigned.is_empty(),
     )
 }

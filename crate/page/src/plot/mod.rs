@@ -40,10 +40,10 @@
 
 use serde::{Deserialize, Serialize};
 
-mod simplify;
 mod scenes;
-pub use simplify::*;
+mod simplify;
 pub use scenes::*;
+pub use simplify::*;
 
 /// Largest finite data magnitude the layout works with; larger finite data
 /// values are clamped to it so that spans and paddings never overflow.
@@ -120,10 +120,7 @@ impl Range {
         values.into_iter().filter_map(finite).fold(None, |acc, v| {
             Some(match acc {
                 None => Range { min: v, max: v },
-                Some(r) => Range {
-                    min: r.min.min(v),
-                    max: r.max.max(v),
-                },
+                Some(r) => Range { min: r.min.min(v), max: r.max.max(v) },
             })
         })
     }
@@ -137,10 +134,7 @@ impl Range {
     pub fn including(self, v: f64) -> Range {
         let r = self.sanitized();
         match finite(v) {
-            Some(v) => Range {
-                min: r.min.min(v),
-                max: r.max.max(v),
-            },
+            Some(v) => Range { min: r.min.min(v), max: r.max.max(v) },
             None => r,
         }
     }
@@ -192,33 +186,20 @@ impl Range {
         }
         let scale = r.magnitude();
         if scale < MIN_SPAN * 1e3 {
-            return Range {
-                min: -1.0,
-                max: 1.0,
-            };
+            return Range { min: -1.0, max: 1.0 };
         }
         let c = r.center();
         let half = scale * 0.1;
-        Range {
-            min: c - half,
-            max: c + half,
-        }
+        Range { min: c - half, max: c + half }
     }
 
     /// [`Range::widened`], then extended on each side by `fraction` of its span
     /// (`fraction` is clamped to `[0, 10]`; NaN counts as 0).
     pub fn padded(self, fraction: f64) -> Range {
         let r = self.widened();
-        let f = if fraction.is_finite() {
-            fraction.clamp(0.0, 10.0)
-        } else {
-            0.0
-        };
+        let f = if fraction.is_finite() { fraction.clamp(0.0, 10.0) } else { 0.0 };
         let pad = r.span() * f;
-        Range {
-            min: r.min - pad,
-            max: r.max + pad,
-        }
+        Range { min: r.min - pad, max: r.max + pad }
     }
 
     /// The range extended about its centre to span at least `span`.
@@ -227,10 +208,7 @@ impl Range {
         match finite_end(span) {
             Some(s) if s > r.span() => {
                 let c = r.center();
-                Range {
-                    min: c - s / 2.0,
-                    max: c + s / 2.0,
-                }
+                Range { min: c - s / 2.0, max: c + s / 2.0 }
             }
             _ => r,
         }
@@ -249,10 +227,7 @@ impl NiceStep {
     /// Non-positive or non-finite `raw` gives 1.
     pub fn at_least(raw: f64) -> NiceStep {
         if !(raw.is_finite() && raw > 0.0) {
-            return NiceStep {
-                mantissa: 1,
-                exponent: 0,
-            };
+            return NiceStep { mantissa: 1, exponent: 0 };
         }
         let raw = raw.clamp(1e-300, 1e307);
         let mut e = raw.log10().floor() as i32;
@@ -275,10 +250,7 @@ impl NiceStep {
         } else {
             (1, e + 1)
         };
-        NiceStep {
-            mantissa: m,
-            exponent: e,
-        }
+        NiceStep { mantissa: m, exponent: e }
     }
 
     /// The step as a number.
@@ -292,44 +264,24 @@ impl NiceStep {
         let n = k.saturating_mul(i64::from(self.mantissa));
         // Decimal parsing rounds correctly for every exponent; the arithmetic
         // fallback is only for the (unreachable) parse failure.
-        format!("{n}e{}", self.exponent)
-            .parse::<f64>()
-            .unwrap_or_else(|_| n as f64 * pow10(self.exponent))
+        format!("{n}e{}", self.exponent).parse::<f64>().unwrap_or_else(|_| n as f64 * pow10(self.exponent))
     }
 
     /// The next smaller nice step (5 → 2 → 1 → 0.5 …).
     pub fn smaller(&self) -> NiceStep {
         match self.mantissa {
-            5 => NiceStep {
-                mantissa: 2,
-                exponent: self.exponent,
-            },
-            2 => NiceStep {
-                mantissa: 1,
-                exponent: self.exponent,
-            },
-            _ => NiceStep {
-                mantissa: 5,
-                exponent: self.exponent - 1,
-            },
+            5 => NiceStep { mantissa: 2, exponent: self.exponent },
+            2 => NiceStep { mantissa: 1, exponent: self.exponent },
+            _ => NiceStep { mantissa: 5, exponent: self.exponent - 1 },
         }
     }
 
     /// The next larger nice step (1 → 2 → 5 → 10 …).
     pub fn larger(&self) -> NiceStep {
         match self.mantissa {
-            1 => NiceStep {
-                mantissa: 2,
-                exponent: self.exponent,
-            },
-            2 => NiceStep {
-                mantissa: 5,
-                exponent: self.exponent,
-            },
-            _ => NiceStep {
-                mantissa: 1,
-                exponent: self.exponent + 1,
-            },
+            1 => NiceStep { mantissa: 2, exponent: self.exponent },
+            2 => NiceStep { mantissa: 5, exponent: self.exponent },
+            _ => NiceStep { mantissa: 1, exponent: self.exponent + 1 },
         }
     }
 
@@ -399,9 +351,7 @@ impl Ticks {
         for _ in 0..8 {
             match multiples_inside(range, step) {
                 Some((lo, hi)) if hi - lo + 1 < 2 => step = step.smaller(),
-                Some((lo, hi)) if hi - lo + 1 > (MAX_TICK_TARGET + 1) as i64 => {
-                    step = step.larger()
-                }
+                Some((lo, hi)) if hi - lo + 1 > (MAX_TICK_TARGET + 1) as i64 => step = step.larger(),
                 Some(_) => break,
                 None => break,
             }
@@ -438,11 +388,7 @@ impl Ticks {
                 continue;
             }
             let covered = Range::new(step.multiple(lo), step.multiple(hi));
-            return Ticks {
-                range: covered,
-                step,
-                ticks: make_ticks(lo, hi, step),
-            };
+            return Ticks { range: covered, step, ticks: make_ticks(lo, hi, step) };
         }
         Ticks::new(range, target)
     }
@@ -454,11 +400,7 @@ impl Ticks {
     pub fn with_step(range: Range, step: NiceStep, fallback_target: usize) -> Ticks {
         let range = range.widened();
         match multiples_inside(range, step) {
-            Some((lo, hi)) if hi - lo + 1 >= 2 && hi - lo < MAX_TICKS_WITH_STEP as i64 => Ticks {
-                range,
-                step,
-                ticks: make_ticks(lo, hi, step),
-            },
+            Some((lo, hi)) if hi - lo + 1 >= 2 && hi - lo < MAX_TICKS_WITH_STEP as i64 => Ticks { range, step, ticks: make_ticks(lo, hi, step) },
             _ => Ticks::new(range, fallback_target),
         }
     }
@@ -472,23 +414,13 @@ impl Ticks {
 fn make_ticks(lo: i64, hi: i64, step: NiceStep) -> Vec<Tick> {
     let values: Vec<f64> = (lo..=hi).map(|k| step.multiple(k) + 0.0).collect();
     let labels = format_tick_labels(&values, step);
-    values
-        .into_iter()
-        .zip(labels)
-        .map(|(value, label)| Tick { value, label })
-        .collect()
+    values.into_iter().zip(labels).map(|(value, label)| Tick { value, label }).collect()
 }
 
 /// Only reachable for ranges the step arithmetic cannot represent; the two
 /// ends are always a valid (if not nice) tick set.
 fn make_ticks_fallback(range: Range) -> Vec<Tick> {
-    [range.min, range.max]
-        .into_iter()
-        .map(|v| Tick {
-            value: v,
-            label: clean_negative_zero(format!("{v:.3e}")),
-        })
-        .collect()
+    [range.min, range.max].into_iter().map(|v| Tick { value: v, label: clean_negative_zero(format!("{v:.3e}")) }).collect()
 }
 
 /// Whether labels for these tick values should use scientific notation.
@@ -504,10 +436,7 @@ pub fn format_tick_labels(values: &[f64], step: NiceStep) -> Vec<String> {
         values.iter().map(|&v| format_scientific(v)).collect()
     } else {
         let d = step.decimals().min(17);
-        values
-            .iter()
-            .map(|&v| clean_negative_zero(format!("{v:.d$}")))
-            .collect()
+        values.iter().map(|&v| clean_negative_zero(format!("{v:.d$}"))).collect()
     }
 }
 
@@ -552,17 +481,10 @@ pub const MAX_TICKS_WITH_STEP: usize = 40;
 pub fn common_ticks(frame: &Frame, x_spacing: f64, y_spacing: f64) -> (Ticks, Ticks) {
     let xt = frame.x.ticks(x_spacing);
     let yt = frame.y.ticks(y_spacing);
-    let step = if xt.step.value() <= yt.step.value() {
-        xt.step
-    } else {
-        yt.step
-    };
+    let step = if xt.step.value() <= yt.step.value() { xt.step } else { yt.step };
     let x_target = tick_target(frame.x.pixel_length(), x_spacing);
     let y_target = tick_target(frame.y.pixel_length(), y_spacing);
-    (
-        Ticks::with_step(frame.x.range, step, x_target),
-        Ticks::with_step(frame.y.range, step, y_target),
-    )
+    (Ticks::with_step(frame.x.range, step, x_target), Ticks::with_step(frame.y.range, step, y_target))
 }
 
 /// A linear map between a data range and a pixel interval.
@@ -580,21 +502,9 @@ impl Axis {
     /// Axis mapping `range` (widened if degenerate) onto the given pixels.
     /// Non-finite pixel ends become 0 and 1.
     pub fn new(range: Range, pixel_at_min: f64, pixel_at_max: f64) -> Axis {
-        let p0 = if pixel_at_min.is_finite() {
-            pixel_at_min
-        } else {
-            0.0
-        };
-        let p1 = if pixel_at_max.is_finite() {
-            pixel_at_max
-        } else {
-            p0 + 1.0
-        };
-        Axis {
-            range: range.widened(),
-            pixel_at_min: p0,
-            pixel_at_max: p1,
-        }
+        let p0 = if pixel_at_min.is_finite() { pixel_at_min } else { 0.0 };
+        let p1 = if pixel_at_max.is_finite() { pixel_at_max } else { p0 + 1.0 };
+        Axis { range: range.widened(), pixel_at_min: p0, pixel_at_max: p1 }
     }
 
     /// Pixels per data unit (negative for an upward y axis).
@@ -611,8 +521,7 @@ impl Axis {
     pub fn to_pixel(&self, v: f64) -> f64 {
         let span = self.range.span();
         if span > 0.0 {
-            self.pixel_at_min
-                + (v - self.range.min) / span * (self.pixel_at_max - self.pixel_at_min)
+            self.pixel_at_min + (v - self.range.min) / span * (self.pixel_at_max - self.pixel_at_min)
         } else {
             self.pixel_at_min
         }
@@ -653,12 +562,7 @@ impl Rect {
     /// Rectangle at the origin (a canvas of that size). Non-finite or
     /// non-positive sizes become 1.
     pub fn sized(width: f64, height: f64) -> Rect {
-        Rect {
-            x: 0.0,
-            y: 0.0,
-            width: positive_or_one(width),
-            height: positive_or_one(height),
-        }
+        Rect { x: 0.0, y: 0.0, width: positive_or_one(width), height: positive_or_one(height) }
     }
 
     /// The rectangle with margins removed; never smaller than 1×1.
@@ -668,12 +572,7 @@ impl Rect {
         let y = if self.y.is_finite() { self.y } else { 0.0 };
         let w = positive_or_one(self.width);
         let h = positive_or_one(self.height);
-        Rect {
-            x: x + fin(m.left),
-            y: y + fin(m.top),
-            width: (w - fin(m.left) - fin(m.right)).max(1.0),
-            height: (h - fin(m.top) - fin(m.bottom)).max(1.0),
-        }
+        Rect { x: x + fin(m.left), y: y + fin(m.top), width: (w - fin(m.left) - fin(m.right)).max(1.0), height: (h - fin(m.top) - fin(m.bottom)).max(1.0) }
     }
 
     pub fn right(&self) -> f64 {
@@ -709,12 +608,7 @@ pub struct Margins {
 
 impl Margins {
     /// Room for y labels on the left, x labels and title below, legend on top.
-    pub const STANDARD: Margins = Margins {
-        left: 60.0,
-        right: 18.0,
-        top: 30.0,
-        bottom: 42.0,
-    };
+    pub const STANDARD: Margins = Margins { left: 60.0, right: 18.0, top: 30.0, bottom: 42.0 };
 }
 
 /// Two axes over a plot rectangle.
@@ -732,11 +626,7 @@ impl Frame {
     /// of `outer` left by `margins`.
     pub fn new(outer: Rect, margins: Margins, x_range: Range, y_range: Range) -> Frame {
         let plot = outer.inset(margins);
-        Frame {
-            plot,
-            x: Axis::new(x_range, plot.x, plot.right()),
-            y: Axis::new(y_range, plot.bottom(), plot.y),
-        }
+        Frame { plot, x: Axis::new(x_range, plot.x, plot.right()), y: Axis::new(y_range, plot.bottom(), plot.y) }
     }
 
     /// Data point → pixel point.
@@ -760,17 +650,9 @@ impl Frame {
     /// `unit_circle`) the unit circle, with `padding` (fraction of the larger
     /// extent, clamped to `[0, 1]`) around it. The imaginary range is symmetric
     /// about zero. Points are `[re, im]`; non-finite ones are ignored.
-    pub fn complex_plane(
-        outer: Rect,
-        margins: Margins,
-        points: &[[f64; 2]],
-        unit_circle: bool,
-        padding: f64,
-    ) -> Frame {
+    pub fn complex_plane(outer: Rect, margins: Margins, points: &[[f64; 2]], unit_circle: bool, padding: f64) -> Frame {
         let plot = outer.inset(margins);
-        let finite_points = points
-            .iter()
-            .filter(|p| p[0].is_finite() && p[1].is_finite());
+        let finite_points = points.iter().filter(|p| p[0].is_finite() && p[1].is_finite());
         let mut re = Range { min: 0.0, max: 0.0 };
         let mut im_max = 0.0f64;
         for p in finite_points {
@@ -781,49 +663,25 @@ impl Frame {
             re = re.including(-1.0).including(1.0);
             im_max = im_max.max(1.0);
         }
-        let mut im = Range {
-            min: -im_max,
-            max: im_max,
-        };
+        let mut im = Range { min: -im_max, max: im_max };
         let extent = re.span().max(im.span());
         if extent < MIN_SPAN * 1e3 {
             // Nothing but the origin: show a unit neighbourhood.
-            re = Range {
-                min: -1.0,
-                max: 1.0,
-            };
-            im = Range {
-                min: -1.0,
-                max: 1.0,
-            };
+            re = Range { min: -1.0, max: 1.0 };
+            im = Range { min: -1.0, max: 1.0 };
         } else {
             // Tiny extents next to the data magnitude stay visible.
             let extent = extent.max(re.magnitude().max(im_max) * 1e-6);
-            let pad = extent
-                * if padding.is_finite() {
-                    padding.clamp(0.0, 1.0)
-                } else {
-                    0.0
-                };
+            let pad = extent * if padding.is_finite() { padding.clamp(0.0, 1.0) } else { 0.0 };
             // A zero-height map (all poles real) still gets padding both ways.
-            re = Range {
-                min: re.min - pad,
-                max: re.max + pad,
-            };
-            im = Range {
-                min: im.min - pad,
-                max: im.max + pad,
-            };
+            re = Range { min: re.min - pad, max: re.max + pad };
+            im = Range { min: im.min - pad, max: im.max + pad };
         }
         // Equal scale: data units per pixel set by the tighter direction.
         let upp = (re.span() / plot.width).max(im.span() / plot.height);
         let re = re.with_min_span(upp * plot.width);
         let im = im.with_min_span(upp * plot.height);
-        Frame {
-            plot,
-            x: Axis::new(re, plot.x, plot.right()),
-            y: Axis::new(im, plot.bottom(), plot.y),
-        }
+        Frame { plot, x: Axis::new(re, plot.x, plot.right()), y: Axis::new(im, plot.bottom(), plot.y) }
     }
 }
 
@@ -835,11 +693,8 @@ impl Frame {
     /// around the origin.
     pub fn complex_region(outer: Rect, margins: Margins, points: &[[f64; 2]], padding: f64) -> Frame {
         let plot = outer.inset(margins);
-        let finite: Vec<[f64; 2]> = points
-            .iter()
-            .filter(|p| p[0].is_finite() && p[1].is_finite())
-            .map(|p| [p[0].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE), p[1].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE)])
-            .collect();
+        let finite: Vec<[f64; 2]> =
+            points.iter().filter(|p| p[0].is_finite() && p[1].is_finite()).map(|p| [p[0].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE), p[1].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE)]).collect();
         let re = Range::from_values(finite.iter().map(|p| p[0])).unwrap_or(Range { min: -1.0, max: 1.0 });
         let im = Range::from_values(finite.iter().map(|p| p[1])).unwrap_or(Range { min: -1.0, max: 1.0 });
         let magnitude = re.magnitude().max(im.magnitude());
@@ -854,11 +709,7 @@ impl Frame {
         let upp = (re.span() / plot.width).max(im.span() / plot.height);
         let re = re.with_min_span(upp * plot.width);
         let im = im.with_min_span(upp * plot.height);
-        Frame {
-            plot,
-            x: Axis::new(re, plot.x, plot.right()),
-            y: Axis::new(im, plot.bottom(), plot.y),
-        }
+        Frame { plot, x: Axis::new(re, plot.x, plot.right()), y: Axis::new(im, plot.bottom(), plot.y) }
     }
 }
 

@@ -109,8 +109,7 @@ pub struct PolePick {
 
 impl PoleMapScene {
     /// Field names, for front ends that must reject unknown keys themselves.
-    pub const FIELDS: &'static [&'static str] =
-        &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view", "uncertain"];
+    pub const FIELDS: &'static [&'static str] = &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view", "uncertain"];
 
     /// Every finite marker in keyboard order: editable requested poles, closed-loop poles,
     /// observer poles, requested poles that could not be assigned, open-loop poles, then the
@@ -126,17 +125,7 @@ impl PoleMapScene {
             (PoleSet::OpenLoop, &self.open_loop),
             (PoleSet::Pinned, &self.pinned),
         ] {
-            let mut picks: Vec<PolePick> = pts
-                .iter()
-                .enumerate()
-                .filter(|(_, p)| p[0].is_finite() && p[1].is_finite())
-                .map(|(index, p)| PolePick {
-                    set,
-                    index,
-                    re: p[0],
-                    im: p[1],
-                })
-                .collect();
+            let mut picks: Vec<PolePick> = pts.iter().enumerate().filter(|(_, p)| p[0].is_finite() && p[1].is_finite()).map(|(index, p)| PolePick { set, index, re: p[0], im: p[1] }).collect();
             picks.sort_by(|a, b| a.re.total_cmp(&b.re).then(b.im.total_cmp(&a.im)));
             out.extend(picks);
         }
@@ -168,21 +157,11 @@ impl PoleMapScene {
                 return Frame::new(outer, margins, re.with_min_span(upp * plot.width), im.with_min_span(upp * plot.height));
             }
         }
-        let all: Vec<[f64; 2]> = self
-            .layers()
-            .iter()
-            .flat_map(|(_, pts)| pts.iter().copied())
-            .collect();
+        let all: Vec<[f64; 2]> = self.layers().iter().flat_map(|(_, pts)| pts.iter().copied()).collect();
         if self.fit_poles && all.iter().any(|p| p[0].is_finite() && p[1].is_finite()) {
             return Frame::complex_region(outer, margins, &all, POLE_MAP_PADDING);
         }
-        Frame::complex_plane(
-            outer,
-            margins,
-            &all,
-            self.discrete,
-            POLE_MAP_PADDING,
-        )
+        Frame::complex_plane(outer, margins, &all, self.discrete, POLE_MAP_PADDING)
     }
 
     /// The legend's entries in order: the stable region, the admissible region's boundary
@@ -238,12 +217,7 @@ impl PoleMapScene {
         let pixels: Vec<[f64; 2]> = flat.iter().map(|(_, _, p)| frame.to_pixel(*p)).collect();
         let hit = hit_test(pointer, &pixels, HIT_RADIUS_PX)?;
         let (set, index, p) = *flat.get(hit)?;
-        Some(PolePick {
-            set,
-            index,
-            re: p[0],
-            im: p[1],
-        })
+        Some(PolePick { set, index, re: p[0], im: p[1] })
     }
 }
 
@@ -329,19 +303,13 @@ pub const TIME_PLOT_PADDING: f64 = 0.06;
 
 impl TimePlotScene {
     /// Field names, for front ends that must reject unknown keys themselves.
-    pub const FIELDS: &'static [&'static str] =
-        &["t", "series", "limits", "band", "events", "x_label", "y_label", "pinned"];
+    pub const FIELDS: &'static [&'static str] = &["t", "series", "limits", "band", "events", "x_label", "y_label", "pinned"];
 
     /// Samples of series `i` paired with their times (`[t, y]`), truncated to
     /// the shorter of the two; non-finite samples are kept (they break lines).
     pub fn points(&self, i: usize) -> Vec<[f64; 2]> {
         match self.series.get(i) {
-            Some(s) => self
-                .t
-                .iter()
-                .zip(&s.values)
-                .map(|(&t, &y)| [t, y])
-                .collect(),
+            Some(s) => self.t.iter().zip(&s.values).map(|(&t, &y)| [t, y]).collect(),
             None => Vec::new(),
         }
     }
@@ -350,23 +318,10 @@ impl TimePlotScene {
     /// samples, limits and band, padded).
     pub fn data_ranges(&self) -> (Range, Range) {
         let x = Range::from_values(self.t.iter().copied()).unwrap_or(Range::UNIT);
-        let samples = (0..self.series.len()).flat_map(|i| {
-            self.points(i)
-                .into_iter()
-                .filter(|p| p[0].is_finite())
-                .map(|p| p[1])
-        });
+        let samples = (0..self.series.len()).flat_map(|i| self.points(i).into_iter().filter(|p| p[0].is_finite()).map(|p| p[1]));
         let pinned = self.pinned.iter().flat_map(|p| p.t.iter().zip(&p.values).filter(|(t, _)| t.is_finite() && x.contains(**t)).map(|(_, v)| *v));
-        let extra = self
-            .limits
-            .iter()
-            .map(|l| l.value)
-            .chain(self.band.iter().flat_map(|b| [b.lower, b.upper]))
-            .chain(pinned);
-        let y = Range::from_values(samples.chain(extra)).unwrap_or(Range {
-            min: -1.0,
-            max: 1.0,
-        });
+        let extra = self.limits.iter().map(|l| l.value).chain(self.band.iter().flat_map(|b| [b.lower, b.upper])).chain(pinned);
+        let y = Range::from_values(samples.chain(extra)).unwrap_or(Range { min: -1.0, max: 1.0 });
         (x.widened(), y.padded(TIME_PLOT_PADDING))
     }
 
@@ -380,10 +335,7 @@ impl TimePlotScene {
     pub fn frame_with_legend_rows(&self, outer: Rect, rows: usize) -> Frame {
         let (x, y) = self.data_ranges();
         let extra = rows.clamp(1, 12).saturating_sub(1) as f64 * LEGEND_ROW_PX;
-        let margins = Margins {
-            top: Margins::STANDARD.top + extra,
-            ..Margins::STANDARD
-        };
+        let margins = Margins { top: Margins::STANDARD.top + extra, ..Margins::STANDARD };
         Frame::new(outer, margins, x, y)
     }
 }

@@ -100,7 +100,10 @@ fn each_signal_is_one_path_through_its_samples_and_limits_are_lines() {
     let u: Vec<f64> = t.iter().map(|v| -2.0 * (-3.0 * v).exp()).collect();
     let scene = TimePlotScene {
         t: t.clone(),
-        series: vec![Series { name: "position".into(), values: y.clone(), colour: Some(0), dash: Some(0), hold: false }, Series { name: "force".into(), values: u, colour: Some(1), dash: Some(0), hold: false }],
+        series: vec![
+            Series { name: "position".into(), values: y.clone(), colour: Some(0), dash: Some(0), hold: false },
+            Series { name: "force".into(), values: u, colour: Some(1), dash: Some(0), hold: false },
+        ],
         limits: vec![LimitLine { value: 1.5, label: "limit +1.5".into() }],
         band: Some(Band { lower: -0.02, upper: 0.02, label: "±2 %".into() }),
         events: vec![EventLine { time: 0.5, label: "load step".into() }],
@@ -140,7 +143,12 @@ fn hostile_scenes_give_finite_bounded_lists() {
         assert!(all_coordinates(&ops).iter().all(|v| v.is_finite() && v.abs() <= 1e6 + 1.0), "discrete {discrete}");
     }
     let t: Vec<f64> = (0..bad.len()).map(|k| k as f64).collect();
-    let scene = TimePlotScene { t, series: vec![Series { name: "x".into(), values: bad.to_vec(), colour: None, dash: None, hold: false }], limits: vec![LimitLine { value: 1e300, label: "huge".into() }], ..Default::default() };
+    let scene = TimePlotScene {
+        t,
+        series: vec![Series { name: "x".into(), values: bad.to_vec(), colour: None, dash: None, hold: false }],
+        limits: vec![LimitLine { value: 1e300, label: "huge".into() }],
+        ..Default::default()
+    };
     let ops = time_plot(&scene, RECT, &ApproximateText);
     balanced_clips(&ops);
     assert!(all_coordinates(&ops).iter().all(|v| v.is_finite() && v.abs() <= 1e6 + 1.0));

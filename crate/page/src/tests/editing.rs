@@ -16,38 +16,18 @@ fn set(poles: &[Complex64]) -> PoleSet {
 
 /// -1±2j, -3, -4, -5±1j: entries 0 (pair), 1, 2 (real), 3 (pair); 6 poles.
 fn sample() -> PoleSet {
-    set(&[
-        c(-1.0, 2.0),
-        c(-1.0, -2.0),
-        c(-3.0, 0.0),
-        c(-4.0, 0.0),
-        c(-5.0, -1.0),
-        c(-5.0, 1.0),
-    ])
+    set(&[c(-1.0, 2.0), c(-1.0, -2.0), c(-3.0, 0.0), c(-4.0, 0.0), c(-5.0, -1.0), c(-5.0, 1.0)])
 }
 
 /// Plot area 400 × 300 px at (20, 20); data [-10, 10] × [-7.5, 7.5] (equal scale,
 /// 20 px per unit); larger span 20.
 fn frame() -> Frame {
-    let m = Margins {
-        left: 20.0,
-        right: 20.0,
-        top: 20.0,
-        bottom: 20.0,
-    };
-    Frame::new(
-        Rect::sized(440.0, 340.0),
-        m,
-        Range::new(-10.0, 10.0),
-        Range::new(-7.5, 7.5),
-    )
+    let m = Margins { left: 20.0, right: 20.0, top: 20.0, bottom: 20.0 };
+    Frame::new(Rect::sized(440.0, 340.0), m, Range::new(-10.0, 10.0), Range::new(-7.5, 7.5))
 }
 
 fn bits(s: &PoleSet) -> Vec<(bool, u64, u64)> {
-    s.entries()
-        .iter()
-        .map(|e| (e.is_pair(), e.upper().re.to_bits(), e.upper().im.to_bits()))
-        .collect()
+    s.entries().iter().map(|e| (e.is_pair(), e.upper().re.to_bits(), e.upper().im.to_bits())).collect()
 }
 
 fn assert_symmetric(s: &PoleSet) {
@@ -70,28 +50,10 @@ fn assert_symmetric(s: &PoleSet) {
 #[test]
 fn pairs_and_converts_back() {
     let s = sample();
-    assert_eq!(
-        s.entries(),
-        &[
-            PoleEntry::Pair { re: -1.0, im: 2.0 },
-            PoleEntry::Real { re: -3.0 },
-            PoleEntry::Real { re: -4.0 },
-            PoleEntry::Pair { re: -5.0, im: 1.0 },
-        ]
-    );
+    assert_eq!(s.entries(), &[PoleEntry::Pair { re: -1.0, im: 2.0 }, PoleEntry::Real { re: -3.0 }, PoleEntry::Real { re: -4.0 }, PoleEntry::Pair { re: -5.0, im: 1.0 },]);
     assert_eq!(s.entry_count(), 4);
     assert_eq!(s.pole_count(), 6);
-    assert_eq!(
-        s.poles(),
-        vec![
-            c(-1.0, 2.0),
-            c(-1.0, -2.0),
-            c(-3.0, 0.0),
-            c(-4.0, 0.0),
-            c(-5.0, 1.0),
-            c(-5.0, -1.0)
-        ]
-    );
+    assert_eq!(s.poles(), vec![c(-1.0, 2.0), c(-1.0, -2.0), c(-3.0, 0.0), c(-4.0, 0.0), c(-5.0, 1.0), c(-5.0, -1.0)]);
     assert_eq!(s.text(), "-1±2j, -3, -4, -5±1j");
     assert_eq!(s.to_string(), s.text());
     let v: Vec<Complex64> = (&s).into();
@@ -108,45 +70,22 @@ fn pairs_and_converts_back() {
 
 #[test]
 fn unpaired_and_non_finite_lists_refused() {
-    assert_eq!(
-        PoleSet::from_poles(&[c(-1.0, 2.0), c(-3.0, 0.0)]),
-        Err(EditError::Poles(PoleError::MissingConjugate {
-            pole: c(-1.0, 2.0),
-            expected: c(-1.0, -2.0)
-        }))
-    );
+    assert_eq!(PoleSet::from_poles(&[c(-1.0, 2.0), c(-3.0, 0.0)]), Err(EditError::Poles(PoleError::MissingConjugate { pole: c(-1.0, 2.0), expected: c(-1.0, -2.0) })));
     assert!(PoleSet::from_poles(&[c(-1.0, 2.0), c(-1.0, 2.0), c(-1.0, -2.0)]).is_err());
-    assert_eq!(
-        PoleSet::from_poles(&[c(-1.0, 0.0), c(f64::NAN, 0.0)]),
-        Err(EditError::Poles(PoleError::NotFinite { index: 2 }))
-    );
+    assert_eq!(PoleSet::from_poles(&[c(-1.0, 0.0), c(f64::NAN, 0.0)]), Err(EditError::Poles(PoleError::NotFinite { index: 2 })));
     let err = PoleSet::from_poles(&[c(-1.0, 2.0)]).unwrap_err();
     assert!(err.to_string().contains("-1-2j"), "{err}");
     assert!(std::error::Error::source(&err).is_some());
-    assert_eq!(
-        PoleSet::from_entries(vec![PoleEntry::Pair { re: -1.0, im: -2.0 }]),
-        Err(EditError::PairOnRealAxis)
-    );
-    assert_eq!(
-        PoleSet::from_entries(vec![PoleEntry::Real { re: f64::INFINITY }]),
-        Err(EditError::NotFinite)
-    );
-    assert_eq!(
-        PoleSet::from_entries(vec![PoleEntry::Pair { re: -1.0, im: 2.0 }]).map(|s| s.text()),
-        Ok("-1±2j".into())
-    );
+    assert_eq!(PoleSet::from_entries(vec![PoleEntry::Pair { re: -1.0, im: -2.0 }]), Err(EditError::PairOnRealAxis));
+    assert_eq!(PoleSet::from_entries(vec![PoleEntry::Real { re: f64::INFINITY }]), Err(EditError::NotFinite));
+    assert_eq!(PoleSet::from_entries(vec![PoleEntry::Pair { re: -1.0, im: 2.0 }]).map(|s| s.text()), Ok("-1±2j".into()));
 }
 
 // ---- edit rules -----------------------------------------------------------------
 
 #[test]
 fn moving_a_pair_moves_its_conjugate() {
-    let s = sample()
-        .edited(&Edit::Move {
-            entry: 0,
-            to: c(-2.0, 3.0),
-        })
-        .unwrap();
+    let s = sample().edited(&Edit::Move { entry: 0, to: c(-2.0, 3.0) }).unwrap();
     assert_eq!(s.entry(0), Some(PoleEntry::Pair { re: -2.0, im: 3.0 }));
     assert_eq!(&s.poles()[..2], &[c(-2.0, 3.0), c(-2.0, -3.0)]);
     assert_eq!(s.pole_count(), 6);
@@ -156,38 +95,16 @@ fn moving_a_pair_moves_its_conjugate() {
 
 #[test]
 fn target_below_the_axis_is_reflected() {
-    let s = sample()
-        .edited(&Edit::Move {
-            entry: 3,
-            to: c(-6.0, -0.5),
-        })
-        .unwrap();
+    let s = sample().edited(&Edit::Move { entry: 3, to: c(-6.0, -0.5) }).unwrap();
     assert_eq!(s.entry(3), Some(PoleEntry::Pair { re: -6.0, im: 0.5 }));
-    assert_eq!(
-        sample().edited(&Edit::Move {
-            entry: 0,
-            to: c(-1.0, 0.0)
-        }),
-        Err(EditError::PairOnRealAxis)
-    );
-    assert_eq!(
-        sample().edited(&Edit::Move {
-            entry: 0,
-            to: c(-1.0, -0.0)
-        }),
-        Err(EditError::PairOnRealAxis)
-    );
+    assert_eq!(sample().edited(&Edit::Move { entry: 0, to: c(-1.0, 0.0) }), Err(EditError::PairOnRealAxis));
+    assert_eq!(sample().edited(&Edit::Move { entry: 0, to: c(-1.0, -0.0) }), Err(EditError::PairOnRealAxis));
     assert!(EditError::PairOnRealAxis.to_string().contains("merge"));
 }
 
 #[test]
 fn real_pole_stays_real() {
-    let s = sample()
-        .edited(&Edit::Move {
-            entry: 1,
-            to: c(-2.5, 4.0),
-        })
-        .unwrap();
+    let s = sample().edited(&Edit::Move { entry: 1, to: c(-2.5, 4.0) }).unwrap();
     assert_eq!(s.entry(1), Some(PoleEntry::Real { re: -2.5 }));
     assert_eq!(s.pole_count(), 6);
     assert_symmetric(&s);
@@ -196,54 +113,24 @@ fn real_pole_stays_real() {
 #[test]
 fn non_finite_targets_refused() {
     let s = sample();
-    for bad in [
-        c(f64::NAN, 1.0),
-        c(-1.0, f64::INFINITY),
-        c(f64::NEG_INFINITY, 0.0),
-    ] {
+    for bad in [c(f64::NAN, 1.0), c(-1.0, f64::INFINITY), c(f64::NEG_INFINITY, 0.0)] {
         for entry in [0, 1] {
-            assert_eq!(
-                s.edited(&Edit::Move { entry, to: bad }),
-                Err(EditError::NotFinite)
-            );
+            assert_eq!(s.edited(&Edit::Move { entry, to: bad }), Err(EditError::NotFinite));
         }
         assert_eq!(s.edited(&Edit::Add(bad)), Err(EditError::NotFinite));
-        assert_eq!(
-            s.edited(&Edit::SplitReal {
-                entries: (1, 2),
-                to: bad
-            }),
-            Err(EditError::NotFinite)
-        );
+        assert_eq!(s.edited(&Edit::SplitReal { entries: (1, 2), to: bad }), Err(EditError::NotFinite));
     }
-    assert_eq!(
-        s.edited(&Edit::MergePair {
-            entry: 0,
-            to: (-1.0, f64::NAN)
-        }),
-        Err(EditError::NotFinite)
-    );
-    assert!(matches!(
-        s.edited(&Edit::Replace(vec![c(f64::NAN, 0.0)])),
-        Err(EditError::Poles(PoleError::NotFinite { index: 1 }))
-    ));
+    assert_eq!(s.edited(&Edit::MergePair { entry: 0, to: (-1.0, f64::NAN) }), Err(EditError::NotFinite));
+    assert!(matches!(s.edited(&Edit::Replace(vec![c(f64::NAN, 0.0)])), Err(EditError::Poles(PoleError::NotFinite { index: 1 }))));
     // Through the history: refused, nothing recorded.
     let mut h = EditHistory::new(s.clone(), EditParams::default());
-    assert_eq!(
-        h.apply(&Edit::Move {
-            entry: 0,
-            to: c(f64::NAN, 1.0)
-        }),
-        Err(EditError::NotFinite)
-    );
+    assert_eq!(h.apply(&Edit::Move { entry: 0, to: c(f64::NAN, 1.0) }), Err(EditError::NotFinite));
     assert_eq!(h.current(), &s);
     assert!(!h.can_undo());
     h.begin_drag(0).unwrap();
     assert_eq!(h.drag_to(c(f64::INFINITY, 1.0)), Err(EditError::NotFinite));
     assert_eq!(h.current(), &s);
-    assert!(EditError::NotFinite
-        .to_string()
-        .contains("not a finite number"));
+    assert!(EditError::NotFinite.to_string().contains("not a finite number"));
 }
 
 #[test]
@@ -258,146 +145,50 @@ fn add_and_remove_change_the_count() {
     let removed = s.edited(&Edit::Remove { entry: 0 }).unwrap();
     assert_eq!(removed.pole_count(), 4);
     assert_eq!(removed.entry(0), Some(PoleEntry::Real { re: -3.0 }));
-    assert_eq!(
-        s.edited(&Edit::Remove { entry: 1 }).unwrap().pole_count(),
-        5
-    );
-    assert_eq!(
-        s.edited(&Edit::Remove { entry: 4 }),
-        Err(EditError::NoSuchEntry {
-            entry: 4,
-            entries: 4
-        })
-    );
-    assert_eq!(
-        s.edited(&Edit::Move {
-            entry: 9,
-            to: c(-1.0, 0.0)
-        }),
-        Err(EditError::NoSuchEntry {
-            entry: 9,
-            entries: 4
-        })
-    );
-    let message = EditError::NoSuchEntry {
-        entry: 4,
-        entries: 4,
-    }
-    .to_string();
-    assert!(EditError::NoSuchEntry {
-        entry: usize::MAX,
-        entries: 0
-    }
-    .to_string()
-    .contains("has 0"));
-    assert!(
-        message.contains("entry 5") && message.contains("has 4"),
-        "{message}"
-    );
+    assert_eq!(s.edited(&Edit::Remove { entry: 1 }).unwrap().pole_count(), 5);
+    assert_eq!(s.edited(&Edit::Remove { entry: 4 }), Err(EditError::NoSuchEntry { entry: 4, entries: 4 }));
+    assert_eq!(s.edited(&Edit::Move { entry: 9, to: c(-1.0, 0.0) }), Err(EditError::NoSuchEntry { entry: 9, entries: 4 }));
+    let message = EditError::NoSuchEntry { entry: 4, entries: 4 }.to_string();
+    assert!(EditError::NoSuchEntry { entry: usize::MAX, entries: 0 }.to_string().contains("has 0"));
+    assert!(message.contains("entry 5") && message.contains("has 4"), "{message}");
 }
 
 #[test]
 fn replace_swaps_the_list() {
-    let s = sample()
-        .edited(&Edit::Replace(vec![
-            c(-2.0, 0.0),
-            c(0.0, -1.0),
-            c(0.0, 1.0),
-        ]))
-        .unwrap();
+    let s = sample().edited(&Edit::Replace(vec![c(-2.0, 0.0), c(0.0, -1.0), c(0.0, 1.0)])).unwrap();
     assert_eq!(s.text(), "-2, ±1j");
-    assert!(matches!(
-        sample().edited(&Edit::Replace(vec![c(-2.0, 1.0)])),
-        Err(EditError::Poles(PoleError::MissingConjugate { .. }))
-    ));
+    assert!(matches!(sample().edited(&Edit::Replace(vec![c(-2.0, 1.0)])), Err(EditError::Poles(PoleError::MissingConjugate { .. }))));
 }
 
 #[test]
 fn split_and_merge_keep_the_count() {
     let s = sample();
-    let split = s
-        .edited(&Edit::SplitReal {
-            entries: (2, 1),
-            to: c(-3.5, -0.75),
-        })
-        .unwrap();
+    let split = s.edited(&Edit::SplitReal { entries: (2, 1), to: c(-3.5, -0.75) }).unwrap();
     assert_eq!(split.pole_count(), s.pole_count());
     assert_eq!(split.entry_count(), 3);
     assert_eq!(split.entry(1), Some(PoleEntry::Pair { re: -3.5, im: 0.75 }));
     assert_eq!(split.entry(2), Some(PoleEntry::Pair { re: -5.0, im: 1.0 }));
     assert_symmetric(&split);
 
-    let merged = s
-        .edited(&Edit::MergePair {
-            entry: 0,
-            to: (-0.5, -1.5),
-        })
-        .unwrap();
+    let merged = s.edited(&Edit::MergePair { entry: 0, to: (-0.5, -1.5) }).unwrap();
     assert_eq!(merged.pole_count(), s.pole_count());
     assert_eq!(merged.entry_count(), 5);
-    assert_eq!(
-        &merged.entries()[..3],
-        &[
-            PoleEntry::Real { re: -0.5 },
-            PoleEntry::Real { re: -1.5 },
-            PoleEntry::Real { re: -3.0 },
-        ]
-    );
+    assert_eq!(&merged.entries()[..3], &[PoleEntry::Real { re: -0.5 }, PoleEntry::Real { re: -1.5 }, PoleEntry::Real { re: -3.0 },]);
     assert_symmetric(&merged);
 
-    assert_eq!(
-        s.edited(&Edit::SplitReal {
-            entries: (1, 1),
-            to: c(-3.0, 1.0)
-        }),
-        Err(EditError::SameEntry { entry: 1 })
-    );
-    assert_eq!(
-        s.edited(&Edit::SplitReal {
-            entries: (0, 1),
-            to: c(-3.0, 1.0)
-        }),
-        Err(EditError::NotReal { entry: 0 })
-    );
-    assert_eq!(
-        s.edited(&Edit::SplitReal {
-            entries: (1, 2),
-            to: c(-3.0, 0.0)
-        }),
-        Err(EditError::PairOnRealAxis)
-    );
-    assert_eq!(
-        s.edited(&Edit::SplitReal {
-            entries: (1, 7),
-            to: c(-3.0, 1.0)
-        }),
-        Err(EditError::NoSuchEntry {
-            entry: 7,
-            entries: 4
-        })
-    );
-    assert_eq!(
-        s.edited(&Edit::MergePair {
-            entry: 1,
-            to: (-1.0, -2.0)
-        }),
-        Err(EditError::NotPair { entry: 1 })
-    );
-    assert!(EditError::NotPair { entry: 1 }
-        .to_string()
-        .contains("entry 2"));
-    assert!(EditError::NotReal { entry: 0 }
-        .to_string()
-        .contains("split"));
+    assert_eq!(s.edited(&Edit::SplitReal { entries: (1, 1), to: c(-3.0, 1.0) }), Err(EditError::SameEntry { entry: 1 }));
+    assert_eq!(s.edited(&Edit::SplitReal { entries: (0, 1), to: c(-3.0, 1.0) }), Err(EditError::NotReal { entry: 0 }));
+    assert_eq!(s.edited(&Edit::SplitReal { entries: (1, 2), to: c(-3.0, 0.0) }), Err(EditError::PairOnRealAxis));
+    assert_eq!(s.edited(&Edit::SplitReal { entries: (1, 7), to: c(-3.0, 1.0) }), Err(EditError::NoSuchEntry { entry: 7, entries: 4 }));
+    assert_eq!(s.edited(&Edit::MergePair { entry: 1, to: (-1.0, -2.0) }), Err(EditError::NotPair { entry: 1 }));
+    assert!(EditError::NotPair { entry: 1 }.to_string().contains("entry 2"));
+    assert!(EditError::NotReal { entry: 0 }.to_string().contains("split"));
 }
 
 // ---- history ---------------------------------------------------------------------
 
 fn mv(entry: usize, re: f64, im: f64) -> Edit {
-    Edit::Move {
-        entry,
-        to: c(re, im),
-    }
+    Edit::Move { entry, to: c(re, im) }
 }
 
 #[test]
@@ -442,10 +233,7 @@ fn unchanged_edit_records_nothing() {
 
 #[test]
 fn history_is_bounded() {
-    let params = EditParams {
-        history_limit: 3,
-        ..EditParams::default()
-    };
+    let params = EditParams { history_limit: 3, ..EditParams::default() };
     let mut h = EditHistory::new(sample(), params);
     let mut states = vec![h.current().clone()];
     for k in 0..5 {
@@ -463,13 +251,7 @@ fn history_is_bounded() {
     }
     assert_eq!(h.undo_steps(), 3);
 
-    let mut none = EditHistory::new(
-        sample(),
-        EditParams {
-            history_limit: 0,
-            ..EditParams::default()
-        },
-    );
+    let mut none = EditHistory::new(sample(), EditParams { history_limit: 0, ..EditParams::default() });
     none.apply(&mv(1, -2.0, 0.0)).unwrap();
     assert!(!none.can_undo());
     assert_eq!(EditParams::default().history_limit, 200);
@@ -487,13 +269,7 @@ fn a_drag_is_one_step() {
         let x = -1.0 - 0.1 * k as f64;
         assert_eq!(h.drag_to(c(x, 2.0 + 0.05 * k as f64)), Ok(Change::Changed));
         // The list follows live.
-        assert_eq!(
-            h.current().entry(0),
-            Some(PoleEntry::Pair {
-                re: x,
-                im: 2.0 + 0.05 * k as f64
-            })
-        );
+        assert_eq!(h.current().entry(0), Some(PoleEntry::Pair { re: x, im: 2.0 + 0.05 * k as f64 }));
     }
     assert_eq!(h.undo_steps(), 1, "nothing recorded during the drag");
     assert_eq!(h.end_drag(), Change::Changed);
@@ -522,13 +298,7 @@ fn a_drag_is_one_step() {
     // Without a drag.
     assert_eq!(h.drag_to(c(-1.0, 0.0)), Err(EditError::NoDrag));
     assert_eq!(h.end_drag(), Change::Unchanged);
-    assert_eq!(
-        h.begin_drag(99),
-        Err(EditError::NoSuchEntry {
-            entry: 99,
-            entries: 4
-        })
-    );
+    assert_eq!(h.begin_drag(99), Err(EditError::NoSuchEntry { entry: 99, entries: 4 }));
     assert_eq!(h.dragging(), None);
 
     // An edit or undo during a drag first commits it.
@@ -575,84 +345,32 @@ fn nudge_steps_are_relative_to_the_frame_span() {
     let down = target(&nudged(&s, 0, Direction::Down, StepSize::Normal));
     assert!((down - c(-1.0, 1.8)).norm() < 1e-12, "{down}");
     // Same data step in both directions, and it scales with the frame.
-    let wide = Frame::new(
-        Rect::sized(440.0, 340.0),
-        Margins {
-            left: 20.0,
-            right: 20.0,
-            top: 20.0,
-            bottom: 20.0,
-        },
-        Range::new(-100.0, 100.0),
-        Range::new(-75.0, 75.0),
-    );
-    let o = nudge(
-        &s,
-        3,
-        Direction::Up,
-        StepSize::Normal,
-        &wide,
-        &EditParams::default(),
-    )
-    .unwrap();
+    let wide = Frame::new(Rect::sized(440.0, 340.0), Margins { left: 20.0, right: 20.0, top: 20.0, bottom: 20.0 }, Range::new(-100.0, 100.0), Range::new(-75.0, 75.0));
+    let o = nudge(&s, 3, Direction::Up, StepSize::Normal, &wide, &EditParams::default()).unwrap();
     assert!((target(&o) - c(-5.0, 3.0)).norm() < 1e-12);
-    let o = nudge(
-        &s,
-        3,
-        Direction::Left,
-        StepSize::Normal,
-        &wide,
-        &EditParams::default(),
-    )
-    .unwrap();
+    let o = nudge(&s, 3, Direction::Left, StepSize::Normal, &wide, &EditParams::default()).unwrap();
     assert!((target(&o) - c(-7.0, 1.0)).norm() < 1e-12);
     // Applying the edit moves the pole.
     let mut h = EditHistory::new(s.clone(), EditParams::default());
-    let NudgeOutcome::Edit(edit) = nudged(&s, 0, Direction::Right, StepSize::Normal) else {
-        panic!("expected an edit")
-    };
+    let NudgeOutcome::Edit(edit) = nudged(&s, 0, Direction::Right, StepSize::Normal) else { panic!("expected an edit") };
     h.apply(&edit).unwrap();
     assert!((h.current().entry(0).unwrap().upper() - c(-0.8, 2.0)).norm() < 1e-12);
-    assert!(nudge(
-        &s,
-        9,
-        Direction::Left,
-        StepSize::Normal,
-        &f,
-        &EditParams::default()
-    )
-    .is_err());
-    let bad = EditParams {
-        nudge_fraction: f64::NAN,
-        ..EditParams::default()
-    };
-    assert_eq!(
-        nudge(&s, 0, Direction::Left, StepSize::Normal, &f, &bad),
-        Err(EditError::UnusableFrame)
-    );
+    assert!(nudge(&s, 9, Direction::Left, StepSize::Normal, &f, &EditParams::default()).is_err());
+    let bad = EditParams { nudge_fraction: f64::NAN, ..EditParams::default() };
+    assert_eq!(nudge(&s, 0, Direction::Left, StepSize::Normal, &f, &bad), Err(EditError::UnusableFrame));
 }
 
 #[test]
 fn vertical_nudge_of_a_real_pole_is_a_no_op() {
     let s = sample();
     for d in [Direction::Up, Direction::Down] {
-        assert_eq!(
-            nudged(&s, 2, d, StepSize::Normal),
-            NudgeOutcome::NoChange(NoChangeReason::RealPoleStaysOnAxis)
-        );
+        assert_eq!(nudged(&s, 2, d, StepSize::Normal), NudgeOutcome::NoChange(NoChangeReason::RealPoleStaysOnAxis));
     }
-    assert!(NoChangeReason::RealPoleStaysOnAxis
-        .to_string()
-        .contains("real axis"));
+    assert!(NoChangeReason::RealPoleStaysOnAxis.to_string().contains("real axis"));
     // A pair at the clearance cannot go further down.
     let low = set(&[c(-1.0, 0.1), c(-1.0, -0.1)]);
-    assert_eq!(
-        nudged(&low, 0, Direction::Down, StepSize::Normal),
-        NudgeOutcome::NoChange(NoChangeReason::PairAtAxisClearance)
-    );
-    assert!(NoChangeReason::PairAtAxisClearance
-        .to_string()
-        .contains("merge"));
+    assert_eq!(nudged(&low, 0, Direction::Down, StepSize::Normal), NudgeOutcome::NoChange(NoChangeReason::PairAtAxisClearance));
+    assert!(NoChangeReason::PairAtAxisClearance.to_string().contains("merge"));
     assert_eq!(Direction::Up.for_member(Member::Lower), Direction::Down);
     assert_eq!(Direction::Down.for_member(Member::Lower), Direction::Up);
     assert_eq!(Direction::Up.for_member(Member::Upper), Direction::Up);
@@ -670,43 +388,22 @@ fn pixel_drag() {
     assert_eq!(f.to_pixel([-2.0, -3.0]), [180.0, 230.0]);
     assert_eq!(pointer_position(&f, [180.0, 230.0]), Ok(c(-2.0, -3.0)));
     // A pair dragged below the axis: the upper member is the reflection.
-    assert_eq!(
-        drag_edit(&s, 0, &f, [180.0, 230.0], &params),
-        Ok(mv(0, -2.0, 3.0))
-    );
+    assert_eq!(drag_edit(&s, 0, &f, [180.0, 230.0], &params), Ok(mv(0, -2.0, 3.0)));
     // A real pole stays real.
-    assert_eq!(
-        drag_edit(&s, 1, &f, [180.0, 230.0], &params),
-        Ok(mv(1, -2.0, 0.0))
-    );
+    assert_eq!(drag_edit(&s, 1, &f, [180.0, 230.0], &params), Ok(mv(1, -2.0, 0.0)));
     // A pair at the axis is held at the clearance (0.5 % of 20).
     let on_axis = f.to_pixel([-2.0, 0.0]);
     assert_eq!(drag_edit(&s, 0, &f, on_axis, &params), Ok(mv(0, -2.0, 0.1)));
-    assert_eq!(
-        drag_edit(&s, 0, &f, [f64::NAN, 10.0], &params),
-        Err(EditError::NotFinite)
-    );
-    assert_eq!(
-        drag_edit(&s, 5, &f, [1.0, 1.0], &params),
-        Err(EditError::NoSuchEntry {
-            entry: 5,
-            entries: 4
-        })
-    );
+    assert_eq!(drag_edit(&s, 0, &f, [f64::NAN, 10.0], &params), Err(EditError::NotFinite));
+    assert_eq!(drag_edit(&s, 5, &f, [1.0, 1.0], &params), Err(EditError::NoSuchEntry { entry: 5, entries: 4 }));
     // Through the history, as one step.
     let mut h = EditHistory::new(s.clone(), params);
     h.begin_drag(3).unwrap();
     for p in [[100.0, 200.0], [120.0, 250.0], [180.0, 230.0]] {
         h.drag_to_pixel(&f, p).unwrap();
     }
-    assert_eq!(
-        h.current().entry(3),
-        Some(PoleEntry::Pair { re: -2.0, im: 3.0 })
-    );
-    assert_eq!(
-        h.drag_to_pixel(&f, [f64::INFINITY, 0.0]),
-        Err(EditError::NotFinite)
-    );
+    assert_eq!(h.current().entry(3), Some(PoleEntry::Pair { re: -2.0, im: 3.0 }));
+    assert_eq!(h.drag_to_pixel(&f, [f64::INFINITY, 0.0]), Err(EditError::NotFinite));
     h.end_drag();
     assert_eq!(h.undo(), Some(&s));
     assert_eq!(h.drag_to_pixel(&f, [1.0, 1.0]), Err(EditError::NoDrag));
@@ -733,20 +430,12 @@ fn either_member_of_a_pair_hits_the_same_entry() {
     assert_eq!(s.hit(&f, f.to_pixel([-1.0, -1.0]), radius), None);
     assert_eq!(s.hit(&f, [f64::NAN, 0.0], radius), None);
     // The lower marker then drags the same entry, reflected.
-    let edit = drag_edit(
-        &s,
-        hit_lower_entry(&s, &f),
-        &f,
-        f.to_pixel([-1.5, -2.5]),
-        &EditParams::default(),
-    );
+    let edit = drag_edit(&s, hit_lower_entry(&s, &f), &f, f.to_pixel([-1.5, -2.5]), &EditParams::default());
     assert_eq!(edit, Ok(mv(0, -1.5, 2.5)));
 }
 
 fn hit_lower_entry(s: &PoleSet, f: &Frame) -> usize {
-    s.hit(f, f.to_pixel([-1.0, -2.0]), HIT_RADIUS_PX)
-        .map(|m| m.entry)
-        .unwrap()
+    s.hit(f, f.to_pixel([-1.0, -2.0]), HIT_RADIUS_PX).map(|m| m.entry).unwrap()
 }
 
 // ---- random sequence ------------------------------------------------------------------
@@ -782,10 +471,7 @@ impl XorShift {
 #[test]
 fn random_edit_sequence_keeps_the_invariants() {
     let original = sample();
-    let params = EditParams {
-        history_limit: 10_000,
-        ..EditParams::default()
-    };
+    let params = EditParams { history_limit: 10_000, ..EditParams::default() };
     let f = frame();
     let mut h = EditHistory::new(original.clone(), params.clone());
     let mut undo_model: Vec<PoleSet> = Vec::new();
@@ -799,13 +485,7 @@ fn random_edit_sequence_keeps_the_invariants() {
         match op {
             0..=6 => {
                 let (edit, count_change): (Edit, Option<isize>) = match op {
-                    0 => (
-                        Edit::Move {
-                            entry: rng.below(entries + 1),
-                            to: rng.point(),
-                        },
-                        Some(0),
-                    ),
+                    0 => (Edit::Move { entry: rng.below(entries + 1), to: rng.point() }, Some(0)),
                     1 => {
                         let z = rng.point();
                         (Edit::Add(z), Some(if z.im == 0.0 { 1 } else { 2 }))
@@ -818,23 +498,11 @@ fn random_edit_sequence_keeps_the_invariants() {
                     3 => {
                         let a = rng.below(entries);
                         let b = rng.below(entries);
-                        (
-                            Edit::SplitReal {
-                                entries: (a, b),
-                                to: rng.point(),
-                            },
-                            Some(0),
-                        )
+                        (Edit::SplitReal { entries: (a, b), to: rng.point() }, Some(0))
                     }
                     4 => {
                         let e = rng.below(entries);
-                        (
-                            Edit::MergePair {
-                                entry: e,
-                                to: (rng.value(), rng.value()),
-                            },
-                            Some(0),
-                        )
+                        (Edit::MergePair { entry: e, to: (rng.value(), rng.value()) }, Some(0))
                     }
                     5 => {
                         // A random list, sometimes unpaired.
@@ -849,17 +517,8 @@ fn random_edit_sequence_keeps_the_invariants() {
                         (Edit::Replace(poles), None)
                     }
                     _ => {
-                        let d = [
-                            Direction::Left,
-                            Direction::Right,
-                            Direction::Up,
-                            Direction::Down,
-                        ][rng.below(4)];
-                        let step = if rng.below(2) == 0 {
-                            StepSize::Normal
-                        } else {
-                            StepSize::Large
-                        };
+                        let d = [Direction::Left, Direction::Right, Direction::Up, Direction::Down][rng.below(4)];
+                        let step = if rng.below(2) == 0 { StepSize::Normal } else { StepSize::Large };
                         match nudge(&before, rng.below(entries), d, step, &f, &params) {
                             Ok(NudgeOutcome::Edit(e)) => (e, Some(0)),
                             _ => continue,
@@ -872,11 +531,7 @@ fn random_edit_sequence_keeps_the_invariants() {
                         undo_model.push(before.clone());
                         redo_model.clear();
                         if let Some(dc) = count_change {
-                            assert_eq!(
-                                h.current().pole_count() as isize,
-                                before.pole_count() as isize + dc,
-                                "{edit:?}"
-                            );
+                            assert_eq!(h.current().pole_count() as isize, before.pole_count() as isize + dc, "{edit:?}");
                         }
                     }
                     Ok(Change::Unchanged) => assert_eq!(bits(h.current()), bits(&before)),
@@ -938,10 +593,7 @@ fn random_edit_sequence_keeps_the_invariants() {
         assert_eq!(h.undo_steps(), undo_model.len());
         assert_eq!(h.redo_steps(), redo_model.len());
     }
-    assert!(
-        changed > 500 && refused > 50,
-        "the generator exercises both: {changed} {refused}"
-    );
+    assert!(changed > 500 && refused > 50, "the generator exercises both: {changed} {refused}");
     while h.undo().is_some() {}
     assert_eq!(bits(h.current()), bits(&original));
     assert_eq!(h.undo_steps(), 0);
@@ -950,13 +602,7 @@ fn random_edit_sequence_keeps_the_invariants() {
 // ---- comparison ----------------------------------------------------------------------
 
 fn input(name: &str, peak: f64, limit: Option<f64>) -> InputSummary {
-    InputSummary {
-        name: name.into(),
-        unit: String::new(),
-        peak: Figure::Value(peak),
-        limit,
-        peak_over_limit: limit.map_or(Figure::NotAvailable, |l| Figure::Value(peak / l)),
-    }
+    InputSummary { name: name.into(), unit: String::new(), peak: Figure::Value(peak), limit, peak_over_limit: limit.map_or(Figure::NotAvailable, |l| Figure::Value(peak / l)) }
 }
 
 fn summary() -> DesignSummary {
@@ -976,9 +622,7 @@ fn summary() -> DesignSummary {
 }
 
 fn find<'a>(rows: &'a [ComparisonRow], label: &str) -> &'a ComparisonRow {
-    rows.iter()
-        .find(|r| r.figure == label)
-        .unwrap_or_else(|| panic!("no row {label}: {rows:?}"))
+    rows.iter().find(|r| r.figure == label).unwrap_or_else(|| panic!("no row {label}: {rows:?}"))
 }
 
 #[test]
@@ -994,56 +638,26 @@ fn comparison_rows_and_the_better_column() {
     let labels: Vec<&str> = rows.iter().map(|r| r.figure.as_str()).collect();
     assert_eq!(
         labels,
-        [
-            "slowest settling time (s)",
-            "largest overshoot (%)",
-            "peak input u1 / limit",
-            "peak input u2",
-            "gain norm ‖K‖",
-            "eigenvector condition κ₂(X)",
-            "largest pole error (relative)",
-        ]
+        ["slowest settling time (s)", "largest overshoot (%)", "peak input u1 / limit", "peak input u2", "gain norm ‖K‖", "eigenvector condition κ₂(X)", "largest pole error (relative)",]
     );
-    assert_eq!(
-        find(&rows, "slowest settling time (s)").better,
-        Which::Current
-    );
+    assert_eq!(find(&rows, "slowest settling time (s)").better, Which::Current);
     assert_eq!(find(&rows, "largest overshoot (%)").better, Which::Pinned);
     let u1 = find(&rows, "peak input u1 / limit");
-    assert_eq!(
-        (u1.pinned, u1.current, u1.better),
-        (Figure::Value(0.5), Figure::Value(0.75), Which::Pinned)
-    );
+    assert_eq!((u1.pinned, u1.current, u1.better), (Figure::Value(0.5), Figure::Value(0.75), Which::Pinned));
     assert_eq!(u1.current_text, "0.75");
     assert_eq!(find(&rows, "peak input u2").better, Which::Current);
-    assert_eq!(
-        find(&rows, "gain norm ‖K‖").better,
-        Which::Same,
-        "within 1e-9"
-    );
+    assert_eq!(find(&rows, "gain norm ‖K‖").better, Which::Same, "within 1e-9");
     let kappa = find(&rows, "eigenvector condition κ₂(X)");
     assert_eq!(kappa.better, Which::Pinned);
     assert_eq!(kappa.current_text, "∞");
-    assert_eq!(
-        find(&rows, "largest pole error (relative)").better,
-        Which::Same
-    );
+    assert_eq!(find(&rows, "largest pole error (relative)").better, Which::Same);
     // Swapping sides swaps the verdicts.
     let swapped = compare(&current, &pinned);
-    assert_eq!(
-        find(&swapped, "slowest settling time (s)").better,
-        Which::Pinned
-    );
-    assert_eq!(
-        find(&swapped, "eigenvector condition κ₂(X)").better,
-        Which::Current
-    );
+    assert_eq!(find(&swapped, "slowest settling time (s)").better, Which::Pinned);
+    assert_eq!(find(&swapped, "eigenvector condition κ₂(X)").better, Which::Current);
     let json = serde_json::to_string(&rows).unwrap();
     assert!(json.contains("\"better\":\"current\""), "{json}");
-    assert!(
-        json.contains("{\"kind\":\"value\",\"value\":0.5}"),
-        "{json}"
-    );
+    assert!(json.contains("{\"kind\":\"value\",\"value\":0.5}"), "{json}");
     // Strict tolerance: the tiny gain-norm difference counts.
     let strict = compare_with(&pinned, &current, &ComparisonParams { equal_within: 0.0 });
     assert_eq!(find(&strict, "gain norm ‖K‖").better, Which::Pinned);
@@ -1052,54 +666,20 @@ fn comparison_rows_and_the_better_column() {
 #[test]
 fn not_settled_and_missing_figures() {
     let p = ComparisonParams::default();
-    assert_eq!(
-        better_of(Figure::Value(9.0), Figure::NotSettled, &p),
-        Which::Pinned
-    );
-    assert_eq!(
-        better_of(Figure::NotSettled, Figure::Value(9.0), &p),
-        Which::Current
-    );
-    assert_eq!(
-        better_of(Figure::NotSettled, Figure::NotSettled, &p),
-        Which::Undecided
-    );
-    assert_eq!(
-        better_of(Figure::NotAvailable, Figure::Value(1.0), &p),
-        Which::Undecided
-    );
-    assert_eq!(
-        better_of(Figure::Value(1.0), Figure::NotAvailable, &p),
-        Which::Undecided
-    );
-    assert_eq!(
-        better_of(Figure::Value(f64::NAN), Figure::Value(1.0), &p),
-        Which::Undecided
-    );
-    assert_eq!(
-        better_of(
-            Figure::Value(f64::INFINITY),
-            Figure::Value(f64::INFINITY),
-            &p
-        ),
-        Which::Same
-    );
+    assert_eq!(better_of(Figure::Value(9.0), Figure::NotSettled, &p), Which::Pinned);
+    assert_eq!(better_of(Figure::NotSettled, Figure::Value(9.0), &p), Which::Current);
+    assert_eq!(better_of(Figure::NotSettled, Figure::NotSettled, &p), Which::Undecided);
+    assert_eq!(better_of(Figure::NotAvailable, Figure::Value(1.0), &p), Which::Undecided);
+    assert_eq!(better_of(Figure::Value(1.0), Figure::NotAvailable, &p), Which::Undecided);
+    assert_eq!(better_of(Figure::Value(f64::NAN), Figure::Value(1.0), &p), Which::Undecided);
+    assert_eq!(better_of(Figure::Value(f64::INFINITY), Figure::Value(f64::INFINITY), &p), Which::Same);
     assert_eq!(Figure::NotSettled.text(), "not settled");
     assert_eq!(Figure::from_settling(None), Figure::NotSettled);
     assert_eq!(Figure::from_number(f64::NAN), Figure::NotAvailable);
-    assert_eq!(
-        slowest(&[Figure::Value(1.0), Figure::NotSettled, Figure::Value(2.0)]),
-        Figure::NotSettled
-    );
-    assert_eq!(
-        slowest(&[Figure::Value(1.0), Figure::Value(2.0)]),
-        Figure::Value(2.0)
-    );
+    assert_eq!(slowest(&[Figure::Value(1.0), Figure::NotSettled, Figure::Value(2.0)]), Figure::NotSettled);
+    assert_eq!(slowest(&[Figure::Value(1.0), Figure::Value(2.0)]), Figure::Value(2.0));
     assert_eq!(slowest(&[]), Figure::NotAvailable);
-    assert_eq!(
-        largest(&[Figure::NotAvailable, Figure::Value(3.0), Figure::Value(1.0)]),
-        Figure::Value(3.0)
-    );
+    assert_eq!(largest(&[Figure::NotAvailable, Figure::Value(3.0), Figure::Value(1.0)]), Figure::Value(3.0));
     assert_eq!(largest(&[Figure::NotAvailable]), Figure::NotAvailable);
 
     let pinned = summary();
@@ -1110,25 +690,13 @@ fn not_settled_and_missing_figures() {
     current.inputs = vec![input("u1", 3.0, None)];
     let rows = compare(&pinned, &current);
     let settle = find(&rows, "slowest settling time (s)");
-    assert_eq!(
-        (settle.better, settle.current_text.as_str()),
-        (Which::Pinned, "not settled")
-    );
+    assert_eq!((settle.better, settle.current_text.as_str()), (Which::Pinned, "not settled"));
     let over = find(&rows, "largest overshoot (%)");
-    assert_eq!(
-        (over.better, over.current_text.as_str()),
-        (Which::Undecided, "—")
-    );
+    assert_eq!((over.better, over.current_text.as_str()), (Which::Undecided, "—"));
     let u1 = find(&rows, "peak input u1");
-    assert_eq!(
-        (u1.pinned, u1.current, u1.better),
-        (Figure::Value(4.0), Figure::Value(3.0), Which::Current)
-    );
+    assert_eq!((u1.pinned, u1.current, u1.better), (Figure::Value(4.0), Figure::Value(3.0), Which::Current));
     let u2 = find(&rows, "peak input u2");
-    assert_eq!(
-        (u2.current, u2.better),
-        (Figure::NotAvailable, Which::Undecided)
-    );
+    assert_eq!((u2.current, u2.better), (Figure::NotAvailable, Which::Undecided));
 }
 
 #[test]
@@ -1140,33 +708,15 @@ fn tracked_outputs_are_matched_by_name() {
         steady_state_error: Figure::Value(0.0),
     };
     let mut pinned = summary();
-    pinned.tracked = vec![
-        tracked("position", Some(1.0), 2.0),
-        tracked("angle", None, 1.0),
-    ];
+    pinned.tracked = vec![tracked("position", Some(1.0), 2.0), tracked("angle", None, 1.0)];
     let mut current = summary();
-    current.tracked = vec![
-        tracked("angle", Some(4.0), 3.0),
-        tracked("speed", Some(1.0), 0.0),
-    ];
+    current.tracked = vec![tracked("angle", Some(4.0), 3.0), tracked("speed", Some(1.0), 0.0)];
     let rows = compare(&pinned, &current);
-    assert_eq!(
-        find(&rows, "settling time of angle (s)").better,
-        Which::Current
-    );
+    assert_eq!(find(&rows, "settling time of angle (s)").better, Which::Current);
     assert_eq!(find(&rows, "overshoot of angle (%)").better, Which::Pinned);
-    assert_eq!(
-        find(&rows, "steady-state error of angle").better,
-        Which::Same
-    );
-    assert_eq!(
-        find(&rows, "settling time of position (s)").current,
-        Figure::NotAvailable
-    );
-    assert_eq!(
-        find(&rows, "settling time of speed (s)").pinned,
-        Figure::NotAvailable
-    );
+    assert_eq!(find(&rows, "steady-state error of angle").better, Which::Same);
+    assert_eq!(find(&rows, "settling time of position (s)").current, Figure::NotAvailable);
+    assert_eq!(find(&rows, "settling time of speed (s)").pinned, Figure::NotAvailable);
     let first_tracked = rows.iter().position(|r| r.figure.contains("of ")).unwrap();
     assert_eq!(rows[first_tracked].figure, "settling time of position (s)");
     assert_eq!(rows.len(), 7 + 3 * 3);
@@ -1182,25 +732,14 @@ fn summary_from_a_design_run() {
     let result = crate::design::run_text(TEXTBOOK).unwrap();
     let s = DesignSummary::from_result(&result);
     assert_eq!(s.poles, "-2±4j, -10");
-    let times: Vec<f64> = result
-        .simulation
-        .settling_time
-        .iter()
-        .map(|t| t.unwrap())
-        .collect();
+    let times: Vec<f64> = result.simulation.settling_time.iter().map(|t| t.unwrap()).collect();
     let worst = times.iter().copied().fold(0.0, f64::max);
     assert!(worst > 0.0);
     assert_eq!(s.slowest_settling_time, Figure::Value(worst));
     assert_eq!(s.settling_time.len(), 3);
     assert_eq!(s.gain_norm, Figure::Value(result.feedback.gain_norm));
-    assert_eq!(
-        s.eigenvector_condition,
-        Figure::Value(result.feedback.eigenvector_condition)
-    );
-    assert_eq!(
-        s.max_pole_error,
-        Figure::Value(result.feedback.max_pole_error)
-    );
+    assert_eq!(s.eigenvector_condition, Figure::Value(result.feedback.eigenvector_condition));
+    assert_eq!(s.max_pole_error, Figure::Value(result.feedback.max_pole_error));
     let peak = result.simulation.peak_input[0];
     assert_eq!(s.inputs[0].peak, Figure::Value(peak));
     assert_eq!(s.inputs[0].limit, Some(500.0));
@@ -1217,10 +756,7 @@ fn summary_from_a_design_run() {
     assert_eq!(u.slowest_settling_time, Figure::NotSettled);
     assert_eq!(u.settling_time[1], Figure::NotSettled);
     let rows = compare(&s, &u);
-    assert_eq!(
-        find(&rows, "slowest settling time (s)").better,
-        Which::Pinned
-    );
+    assert_eq!(find(&rows, "slowest settling time (s)").better, Which::Pinned);
     assert_eq!(find(&rows, "gain norm ‖K‖").better, Which::Same);
     // Without a limit the raw peak is shown, with the unit.
     let mut unlimited = result.clone();
@@ -1229,10 +765,7 @@ fn summary_from_a_design_run() {
     let u1 = find(&rows, "peak input u1 (N)");
     assert_eq!(u1.better, Which::Same);
     let json = serde_json::to_string(&s).unwrap();
-    assert!(
-        json.contains("\"slowest_settling_time\":{\"kind\":\"value\""),
-        "{json}"
-    );
+    assert!(json.contains("\"slowest_settling_time\":{\"kind\":\"value\""), "{json}");
 }
 
 // z = e^{sT} written out with Euler's formula, e^{(σ+jω)T} = e^{σT}(cos ωT + j sin ωT)
@@ -1293,9 +826,7 @@ fn mapped_nudge_steps_the_same_distance_on_the_map() {
     let set = PoleSet::from_poles(&[c(-10.0, 20.0), c(-10.0, -20.0)]).expect("pairs");
     let f = z_frame();
     let before = map.to_map(set.entry(0).expect("entry").upper());
-    let NudgeOutcome::Edit(edit) = nudge_mapped(&set, 0, Direction::Right, StepSize::Normal, &f, &EditParams::default(), map).expect("nudge") else {
-        panic!("expected a move")
-    };
+    let NudgeOutcome::Edit(edit) = nudge_mapped(&set, 0, Direction::Right, StepSize::Normal, &f, &EditParams::default(), map).expect("nudge") else { panic!("expected a move") };
     let after = map.to_map(set.edited(&edit).expect("move").entry(0).expect("entry").upper());
     // 1 % of the larger span (3.0) to the right, imaginary part kept.
     assert!((after.re - before.re - 0.03).abs() < 1e-12 && (after.im - before.im).abs() < 1e-12, "{before} -> {after}");

@@ -698,7 +698,29 @@ fn the_same_form_gives_the_same_report() {
 
 #[test]
 fn hostile_text_in_the_version_2_fields_never_panics() {
-    let samples = ["", "x", "-1", "0", "1e999", "nan", "±", "1, 2, 3", "[1]", "\u{feff}", "true", "z", "current", "integral", "poles", "speed_factor", "back_calculation", "-1±2j", "head position", "99999999999999999999", "1e-300"];
+    let samples = [
+        "",
+        "x",
+        "-1",
+        "0",
+        "1e999",
+        "nan",
+        "±",
+        "1, 2, 3",
+        "[1]",
+        "\u{feff}",
+        "true",
+        "z",
+        "current",
+        "integral",
+        "poles",
+        "speed_factor",
+        "back_calculation",
+        "-1±2j",
+        "head position",
+        "99999999999999999999",
+        "1e-300",
+    ];
     // An observer and integral action, continuous and digital (1 kHz).
     let mut continuous = axis_v2();
     continuous.observer = "speed_factor".into();
@@ -707,8 +729,28 @@ fn hostile_text_in_the_version_2_fields_never_panics() {
     let mut digital = continuous.clone();
     digital.sample_time = "0.001".into();
     let v2 = [
-        "observer", "observer_poles", "observer_speed", "observer_form", "tracking", "tracked_outputs", "integral_poles", "anti_windup", "anti_windup_time", "sample_time", "computation_delay",
-        "delay_poles", "plane", "reference", "reference_time", "disturbance", "disturbance_time", "noise_std", "seed", "output_names", "output_units", "duration",
+        "observer",
+        "observer_poles",
+        "observer_speed",
+        "observer_form",
+        "tracking",
+        "tracked_outputs",
+        "integral_poles",
+        "anti_windup",
+        "anti_windup_time",
+        "sample_time",
+        "computation_delay",
+        "delay_poles",
+        "plane",
+        "reference",
+        "reference_time",
+        "disturbance",
+        "disturbance_time",
+        "noise_std",
+        "seed",
+        "output_names",
+        "output_units",
+        "duration",
     ];
     // The continuous loop is slow to simulate: there, only the fields that set times and speeds.
     let timing = ["observer_speed", "observer_poles", "integral_poles", "anti_windup", "anti_windup_time", "reference_time", "disturbance_time", "duration"];
@@ -734,7 +776,20 @@ fn hostile_text_in_the_version_2_fields_never_panics() {
 #[test]
 fn pole_choice_fields_follow_the_poles_and_are_switched_on_by_their_source() {
     let at = |k: &str| FormInput::FIELDS.iter().position(|f| *f == k).unwrap();
-    let keys = ["poles", "pole_source", "pattern_family", "pattern_normalisation", "pattern_settling_time", "spec_overshoot", "spec_settling_time", "spec_rise_time", "settling_band", "lqr_max_state", "lqr_max_input", "search"];
+    let keys = [
+        "poles",
+        "pole_source",
+        "pattern_family",
+        "pattern_normalisation",
+        "pattern_settling_time",
+        "spec_overshoot",
+        "spec_settling_time",
+        "spec_rise_time",
+        "settling_band",
+        "lqr_max_state",
+        "lqr_max_input",
+        "search",
+    ];
     for w in keys.windows(2) {
         assert_eq!(at(w[1]), at(w[0]) + 1, "{w:?}");
     }

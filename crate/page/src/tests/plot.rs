@@ -11,24 +11,14 @@ fn labels(t: &Ticks) -> Vec<&str> {
 
 fn check_ticks(t: &Ticks) {
     let v = t.values();
-    let brief = format!(
-        "{:?} step {:?} n={} first={:?} last={:?}",
-        t.range,
-        t.step,
-        v.len(),
-        v.first(),
-        v.last()
-    );
+    let brief = format!("{:?} step {:?} n={} first={:?} last={:?}", t.range, t.step, v.len(), v.first(), v.last());
     assert!(v.len() >= 2, "too few ticks: {brief}");
     assert!(v.len() <= MAX_TICK_TARGET + 1, "too many ticks: {brief}");
     let step = t.step.value();
     for w in v.windows(2) {
         assert!(w[1] > w[0], "not increasing: {brief}");
         let d = w[1] - w[0];
-        assert!(
-            (d - step).abs() <= step * 1e-9 + w[1].abs().max(w[0].abs()) * 1e-14,
-            "uneven: {brief}"
-        );
+        assert!((d - step).abs() <= step * 1e-9 + w[1].abs().max(w[0].abs()) * 1e-14, "uneven: {brief}");
     }
     for x in &v {
         assert!(x.is_finite());
@@ -36,10 +26,7 @@ fn check_ticks(t: &Ticks) {
     }
     for l in labels(t) {
         assert!(!l.is_empty());
-        assert!(
-            !l.starts_with("-0") || l.contains(|c: char| ('1'..='9').contains(&c)),
-            "{l}"
-        );
+        assert!(!l.starts_with("-0") || l.contains(|c: char| ('1'..='9').contains(&c)), "{l}");
     }
     let mut ls: Vec<&str> = labels(t);
     ls.dedup();
@@ -59,13 +46,7 @@ fn ticks_mixed_sign() {
     let t = Ticks::new(Range::new(-3.7, 12.2), 5);
     check_ticks(&t);
     assert_eq!(t.values(), vec![0.0, 5.0, 10.0]);
-    assert_eq!(
-        t.step,
-        NiceStep {
-            mantissa: 5,
-            exponent: 0
-        }
-    );
+    assert_eq!(t.step, NiceStep { mantissa: 5, exponent: 0 });
     assert_eq!(labels(&t), vec!["0", "5", "10"]);
     let t = Ticks::new(Range::new(-3.7, 12.2), 8);
     check_ticks(&t);
@@ -88,18 +69,10 @@ fn ticks_large_magnitudes() {
     check_ticks(&t);
     assert_eq!(labels(&t), vec!["0", "1e7", "2e7", "3e7"]);
     let t = Ticks::new(Range::new(0.0, 3e7), 8);
-    assert_eq!(
-        labels(&t),
-        vec!["0", "5e6", "1e7", "1.5e7", "2e7", "2.5e7", "3e7"]
-    );
+    assert_eq!(labels(&t), vec!["0", "5e6", "1e7", "1.5e7", "2e7", "2.5e7", "3e7"]);
     let t = Ticks::new(Range::new(-4e250, -1e250), 4);
     check_ticks(&t);
-    assert!(
-        labels(&t)
-            .iter()
-            .all(|l| l.starts_with('-') && l.contains("e250")),
-        "{t:?}"
-    );
+    assert!(labels(&t).iter().all(|l| l.starts_with('-') && l.contains("e250")), "{t:?}");
 }
 
 #[test]
@@ -125,14 +98,8 @@ fn ticks_huge_and_non_finite() {
         Range::new(f64::NAN, f64::NAN),
         Range::new(f64::NEG_INFINITY, f64::INFINITY),
         Range::new(f64::NAN, 3.0),
-        Range {
-            min: f64::NAN,
-            max: f64::INFINITY,
-        },
-        Range {
-            min: 2.0,
-            max: -2.0,
-        },
+        Range { min: f64::NAN, max: f64::INFINITY },
+        Range { min: 2.0, max: -2.0 },
         Range::new(-1e-300, 1e-300),
         Range::new(1e-310, 2e-310),
         Range::new(-1e300, -1e300),
@@ -172,10 +139,7 @@ fn covering_ticks_enclose_range() {
 
 #[test]
 fn nice_step_selection() {
-    let s = |m, e| NiceStep {
-        mantissa: m,
-        exponent: e,
-    };
+    let s = |m, e| NiceStep { mantissa: m, exponent: e };
     assert_eq!(NiceStep::at_least(0.2), s(2, -1));
     assert_eq!(NiceStep::at_least(0.21), s(5, -1));
     assert_eq!(NiceStep::at_least(1000.0), s(1, 3));
@@ -198,19 +162,13 @@ fn range_padding_and_widening() {
     assert!(Range::new(1.0, 1.0 + 1e-12).is_degenerate());
     assert!(!Range::new(1.0, 1.001).is_degenerate());
     assert_eq!(Range::new(1.0, 2.0).padded(f64::NAN), Range::new(1.0, 2.0));
-    assert_eq!(
-        Range::from_values([f64::NAN, 2.0, -1.0, f64::INFINITY]),
-        Some(Range::new(-1.0, 2.0))
-    );
+    assert_eq!(Range::from_values([f64::NAN, 2.0, -1.0, f64::INFINITY]), Some(Range::new(-1.0, 2.0)));
     assert_eq!(Range::from_values([f64::NAN]), None);
     assert_eq!(Range::from_values(Vec::new()), None);
     let big = Range::new(-f64::MAX, f64::MAX).padded(10.0);
     assert!(big.min.is_finite() && big.max.is_finite() && big.span().is_finite());
     assert_eq!(Range::new(0.0, 1.0).including(f64::NAN), Range::UNIT);
-    assert_eq!(
-        Range::new(0.0, 1.0).union(Range::new(-1.0, 0.5)),
-        Range::new(-1.0, 1.0)
-    );
+    assert_eq!(Range::new(0.0, 1.0).union(Range::new(-1.0, 0.5)), Range::new(-1.0, 1.0));
 }
 
 #[test]
@@ -237,44 +195,19 @@ fn axis_round_trip() {
     assert_eq!(flat.to_data(42.0), 0.0);
     let bad = Axis::new(Range::new(0.0, 1.0), f64::NAN, f64::INFINITY);
     assert!(bad.to_pixel(0.5).is_finite());
-    assert!(Axis::new(Range::new(2.0, 2.0), 0.0, 100.0)
-        .to_pixel(2.0)
-        .is_finite());
+    assert!(Axis::new(Range::new(2.0, 2.0), 0.0, 100.0).to_pixel(2.0).is_finite());
 }
 
 #[test]
 fn frame_maps_y_upward() {
-    let f = Frame::new(
-        Rect::sized(400.0, 300.0),
-        Margins {
-            left: 40.0,
-            right: 10.0,
-            top: 10.0,
-            bottom: 30.0,
-        },
-        Range::new(0.0, 10.0),
-        Range::new(-1.0, 1.0),
-    );
-    assert_eq!(
-        f.plot,
-        Rect {
-            x: 40.0,
-            y: 10.0,
-            width: 350.0,
-            height: 260.0
-        }
-    );
+    let f = Frame::new(Rect::sized(400.0, 300.0), Margins { left: 40.0, right: 10.0, top: 10.0, bottom: 30.0 }, Range::new(0.0, 10.0), Range::new(-1.0, 1.0));
+    assert_eq!(f.plot, Rect { x: 40.0, y: 10.0, width: 350.0, height: 260.0 });
     assert_eq!(f.to_pixel([0.0, -1.0]), [40.0, 270.0]);
     assert_eq!(f.to_pixel([10.0, 1.0]), [390.0, 10.0]);
     let d = f.to_data(f.to_pixel([3.3, 0.25]));
     assert!((d[0] - 3.3).abs() < 1e-12 && (d[1] - 0.25).abs() < 1e-12);
     // A canvas smaller than its margins still gives a usable frame.
-    let tiny = Frame::new(
-        Rect::sized(10.0, f64::NAN),
-        Margins::STANDARD,
-        Range::UNIT,
-        Range::UNIT,
-    );
+    let tiny = Frame::new(Rect::sized(10.0, f64::NAN), Margins::STANDARD, Range::UNIT, Range::UNIT);
     assert!(tiny.plot.width >= 1.0 && tiny.plot.height >= 1.0);
     assert!(tiny.to_pixel([0.5, 0.5])[0].is_finite());
 }
@@ -282,10 +215,7 @@ fn frame_maps_y_upward() {
 fn assert_equal_scale(f: &Frame) {
     let sx = f.x.scale();
     let sy = -f.y.scale();
-    assert!(
-        (sx - sy).abs() <= 1e-9 * sx.abs(),
-        "unequal scale {sx} vs {sy}"
-    );
+    assert!((sx - sy).abs() <= 1e-9 * sx.abs(), "unequal scale {sx} vs {sy}");
 }
 
 #[test]
@@ -299,21 +229,12 @@ fn complex_plane_layout() {
         let px = f.to_pixel(p);
         assert!(f.plot.contains(px), "{p:?} → {px:?} outside {:?}", f.plot);
     }
-    assert!(
-        (f.y.range.min + f.y.range.max).abs() < 1e-12,
-        "symmetric imaginary range"
-    );
+    assert!((f.y.range.min + f.y.range.max).abs() < 1e-12, "symmetric imaginary range");
     // Right of the imaginary axis there is some room (padding).
     assert!(f.x.range.max > 0.0);
 
     // Only real, far-left poles: origin still shown.
-    let f = Frame::complex_plane(
-        outer,
-        Margins::STANDARD,
-        &[[-100.0, 0.0], [-120.0, 0.0]],
-        false,
-        0.1,
-    );
+    let f = Frame::complex_plane(outer, Margins::STANDARD, &[[-100.0, 0.0], [-120.0, 0.0]], false, 0.1);
     assert_equal_scale(&f);
     assert!(f.x.range.contains(0.0) && f.x.range.contains(-120.0));
     assert!(f.y.range.span() > 0.0);
@@ -326,14 +247,7 @@ fn complex_plane_layout() {
     }
 
     // Nothing, only origin, NaN/inf, huge.
-    for pts in [
-        vec![],
-        vec![[0.0, 0.0]],
-        vec![[f64::NAN, 1.0], [f64::INFINITY, 0.0]],
-        vec![[-1e300, 1e300], [f64::MAX, 0.0]],
-        vec![[1e-200, 0.0]],
-        vec![[5.0, 0.0], [5.0, 0.0]],
-    ] {
+    for pts in [vec![], vec![[0.0, 0.0]], vec![[f64::NAN, 1.0], [f64::INFINITY, 0.0]], vec![[-1e300, 1e300], [f64::MAX, 0.0]], vec![[1e-200, 0.0]], vec![[5.0, 0.0], [5.0, 0.0]]] {
         let f = Frame::complex_plane(outer, Margins::STANDARD, &pts, false, POLE_MAP_PADDING);
         assert_equal_scale(&f);
         assert!(f.x.range.span().is_finite() && f.x.range.span() > 0.0);
@@ -342,15 +256,9 @@ fn complex_plane_layout() {
         check_ticks(&f.x.ticks(70.0));
         check_ticks(&f.y.ticks(45.0));
         for p in pts.iter().filter(|p| p[0].is_finite() && p[1].is_finite()) {
-            let q = [
-                p[0].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE),
-                p[1].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE),
-            ];
+            let q = [p[0].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE), p[1].clamp(-MAX_MAGNITUDE, MAX_MAGNITUDE)];
             let px = f.to_pixel(q);
-            assert!(
-                f.plot.contains(px) || (px[0] - f.plot.right()).abs() < 1e-6,
-                "{q:?} {px:?} {f:?}"
-            );
+            assert!(f.plot.contains(px) || (px[0] - f.plot.right()).abs() < 1e-6, "{q:?} {px:?} {f:?}");
         }
     }
 }
@@ -372,19 +280,9 @@ fn hit_testing() {
     assert_eq!(hit_test([10.0, 10.0], &m, f64::NAN), None);
     assert_eq!(hit_test([10.0, 10.0], &m, 0.0), Some(0));
     // Duplicates: first one.
-    assert_eq!(
-        hit_test([5.0, 5.0], &[[5.0, 5.0], [5.0, 5.0]], 1.0),
-        Some(0)
-    );
+    assert_eq!(hit_test([5.0, 5.0], &[[5.0, 5.0], [5.0, 5.0]], 1.0), Some(0));
     // Non-finite markers are skipped.
-    assert_eq!(
-        hit_test(
-            [5.0, 5.0],
-            &[[f64::NAN, 5.0], [f64::INFINITY, 5.0], [6.0, 5.0]],
-            2.0
-        ),
-        Some(2)
-    );
+    assert_eq!(hit_test([5.0, 5.0], &[[f64::NAN, 5.0], [f64::INFINITY, 5.0], [6.0, 5.0]], 2.0), Some(2));
     // Infinite radius: everything finite is in reach.
     assert_eq!(hit_test([0.0, 0.0], &[[1e6, 0.0]], f64::INFINITY), Some(0));
 }
@@ -399,31 +297,10 @@ fn common_ticks_share_a_step() {
     check_ticks(&yt);
     assert_eq!(xt.step, yt.step);
     // Odd inputs still give valid ticks.
-    let t = Ticks::with_step(
-        Range::new(0.0, 1.0),
-        NiceStep {
-            mantissa: 1,
-            exponent: -5,
-        },
-        5,
-    );
+    let t = Ticks::with_step(Range::new(0.0, 1.0), NiceStep { mantissa: 1, exponent: -5 }, 5);
     check_ticks(&t);
-    assert_eq!(
-        t.step,
-        NiceStep {
-            mantissa: 2,
-            exponent: -1
-        },
-        "fell back"
-    );
-    let t = Ticks::with_step(
-        Range::new(0.0, 1.0),
-        NiceStep {
-            mantissa: 5,
-            exponent: 3,
-        },
-        5,
-    );
+    assert_eq!(t.step, NiceStep { mantissa: 2, exponent: -1 }, "fell back");
+    let t = Ticks::with_step(Range::new(0.0, 1.0), NiceStep { mantissa: 5, exponent: 3 }, 5);
     check_ticks(&t);
 }
 
@@ -474,10 +351,7 @@ fn property_ticks_are_nice() {
         assert!(t.range.min >= padded.widened().min && t.range.max <= padded.widened().max);
         let c = Ticks::covering(padded, target);
         check_ticks(&c);
-        assert!(
-            c.range.min <= padded.min && c.range.max >= padded.max,
-            "{padded:?} {c:?}"
-        );
+        assert!(c.range.min <= padded.min && c.range.max >= padded.max, "{padded:?} {c:?}");
     }
 }
 
@@ -488,37 +362,19 @@ fn pole_map_scene_json_and_pick() {
     assert_eq!(s.open_loop.len(), 3);
     assert_eq!(s.closed_loop.len(), 2);
     assert!(s.not_assigned.is_empty());
-    assert!(
-        serde_json::from_str::<PoleMapScene>(r#"{"closed":[]}"#).is_err(),
-        "unknown field rejected"
-    );
+    assert!(serde_json::from_str::<PoleMapScene>(r#"{"closed":[]}"#).is_err(), "unknown field rejected");
     let outer = Rect::sized(480.0, 360.0);
     let f = s.frame(outer);
     let target = f.to_pixel([-4.0, 1.0]);
     let pick = s.pick(outer, [target[0] + 2.0, target[1] - 1.0]);
-    assert_eq!(
-        pick,
-        Some(PolePick {
-            set: PoleSet::ClosedLoop,
-            index: 0,
-            re: -4.0,
-            im: 1.0
-        })
-    );
+    assert_eq!(pick, Some(PolePick { set: PoleSet::ClosedLoop, index: 0, re: -4.0, im: 1.0 }));
     let pick = s.pick(outer, f.to_pixel([1.0, 0.0]));
     assert_eq!(pick.map(|p| (p.set, p.index)), Some((PoleSet::OpenLoop, 0)));
     assert_eq!(s.pick(outer, [0.0, 0.0]), None);
     // Same location in two layers: closed loop (drawn on top) wins.
-    let both = PoleMapScene {
-        open_loop: vec![[-1.0, 0.0]],
-        closed_loop: vec![[-1.0, 0.0]],
-        ..Default::default()
-    };
+    let both = PoleMapScene { open_loop: vec![[-1.0, 0.0]], closed_loop: vec![[-1.0, 0.0]], ..Default::default() };
     let p = both.frame(outer).to_pixel([-1.0, 0.0]);
-    assert_eq!(
-        both.pick(outer, p).map(|p| p.set),
-        Some(PoleSet::ClosedLoop)
-    );
+    assert_eq!(both.pick(outer, p).map(|p| p.set), Some(PoleSet::ClosedLoop));
 }
 
 fn serialized_keys<T: Serialize>(v: &T) -> Vec<String> {
@@ -548,24 +404,10 @@ fn legend_flows_into_right_aligned_rows() {
 
 #[test]
 fn pole_markers_come_in_keyboard_order() {
-    let scene = PoleMapScene {
-        open_loop: vec![[1.0, 0.0], [-3.0, 0.0]],
-        closed_loop: vec![[-2.0, -1.0], [-5.0, 0.0], [-2.0, 1.0], [f64::NAN, 0.0]],
-        not_assigned: vec![[-1.0, 0.0]],
-        ..Default::default()
-    };
+    let scene =
+        PoleMapScene { open_loop: vec![[1.0, 0.0], [-3.0, 0.0]], closed_loop: vec![[-2.0, -1.0], [-5.0, 0.0], [-2.0, 1.0], [f64::NAN, 0.0]], not_assigned: vec![[-1.0, 0.0]], ..Default::default() };
     let order: Vec<(PoleSet, usize)> = scene.markers().iter().map(|p| (p.set, p.index)).collect();
-    assert_eq!(
-        order,
-        [
-            (PoleSet::ClosedLoop, 1),
-            (PoleSet::ClosedLoop, 2),
-            (PoleSet::ClosedLoop, 0),
-            (PoleSet::NotAssigned, 0),
-            (PoleSet::OpenLoop, 1),
-            (PoleSet::OpenLoop, 0),
-        ]
-    );
+    assert_eq!(order, [(PoleSet::ClosedLoop, 1), (PoleSet::ClosedLoop, 2), (PoleSet::ClosedLoop, 0), (PoleSet::NotAssigned, 0), (PoleSet::OpenLoop, 1), (PoleSet::OpenLoop, 0),]);
 }
 
 /// Vertical distance from `q` to the polyline `line` at `q`'s x (x increasing).
@@ -618,7 +460,20 @@ fn simplified_lines_stay_within_the_tolerance() {
 #[test]
 fn simplification_keeps_each_columns_extremes_and_odd_input() {
     // Ten samples in one pixel column with a spike: first, lowest, highest and last stay.
-    let col: Vec<[f64; 2]> = (0..10).map(|i| [5.0 + 0.05 * i as f64, if i == 4 { 90.0 } else if i == 6 { -20.0 } else { 10.0 }]).collect();
+    let col: Vec<[f64; 2]> = (0..10)
+        .map(|i| {
+            [
+                5.0 + 0.05 * i as f64,
+                if i == 4 {
+                    90.0
+                } else if i == 6 {
+                    -20.0
+                } else {
+                    10.0
+                },
+            ]
+        })
+        .collect();
     let out = simplify_polyline(&col, 0.0);
     assert_eq!(out, vec![col[0], col[4], col[6], col[9]]);
     // Too short to simplify, a straight line, and x going backwards.
@@ -661,12 +516,7 @@ fn zoomed_pole_maps_fit_the_poles_at_equal_scale() {
 
 #[test]
 fn observer_poles_are_their_own_layer() {
-    let scene = PoleMapScene {
-        closed_loop: vec![[-2.0, 0.0]],
-        observer: vec![[-8.0, 1.0], [-8.0, -1.0]],
-        open_loop: vec![[1.0, 0.0]],
-        ..Default::default()
-    };
+    let scene = PoleMapScene { closed_loop: vec![[-2.0, 0.0]], observer: vec![[-8.0, 1.0], [-8.0, -1.0]], open_loop: vec![[1.0, 0.0]], ..Default::default() };
     let order: Vec<PoleSet> = scene.markers().iter().map(|p| p.set).collect();
     assert_eq!(order, [PoleSet::ClosedLoop, PoleSet::Observer, PoleSet::Observer, PoleSet::OpenLoop]);
     let outer = Rect::sized(480.0, 360.0);
@@ -688,10 +538,7 @@ fn scene_field_lists_match_the_structs() {
     have.sort();
     assert_eq!(have, want);
     let mut want = serialized_keys(&TimePlotScene::default());
-    let mut have: Vec<String> = TimePlotScene::FIELDS
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
+    let mut have: Vec<String> = TimePlotScene::FIELDS.iter().map(|s| s.to_string()).collect();
     want.sort();
     have.sort();
     assert_eq!(have, want);
@@ -701,27 +548,9 @@ fn scene_field_lists_match_the_structs() {
 fn time_plot_scene_ranges() {
     let s = TimePlotScene {
         t: vec![0.0, 0.5, 1.0, 1.5, 2.0],
-        series: vec![
-            Series {
-                name: "x1".into(),
-                values: vec![1.0, 0.5, 0.2, f64::NAN, 0.0],
-                ..Default::default()
-            },
-            Series {
-                name: "u".into(),
-                values: vec![-3.0, -1.0, 0.0],
-                ..Default::default()
-            },
-        ],
-        limits: vec![LimitLine {
-            value: 4.0,
-            label: "u max".into(),
-        }],
-        band: Some(Band {
-            lower: -0.02,
-            upper: 0.02,
-            label: "±2 %".into(),
-        }),
+        series: vec![Series { name: "x1".into(), values: vec![1.0, 0.5, 0.2, f64::NAN, 0.0], ..Default::default() }, Series { name: "u".into(), values: vec![-3.0, -1.0, 0.0], ..Default::default() }],
+        limits: vec![LimitLine { value: 4.0, label: "u max".into() }],
+        band: Some(Band { lower: -0.02, upper: 0.02, label: "±2 %".into() }),
         ..Default::default()
     };
     let (x, y) = s.data_ranges();
@@ -732,8 +561,7 @@ fn time_plot_scene_ranges() {
     let empty = TimePlotScene::default();
     let (x, y) = empty.data_ranges();
     assert!(x.span() > 0.0 && y.span() > 0.0);
-    let s2: TimePlotScene = serde_json::from_str(r#"{"t":[0,1],"series":[{"name":"y","values":[0,1]}],"band":{"lower":0.9,"upper":1.1}}"#)
-        .expect("valid scene");
+    let s2: TimePlotScene = serde_json::from_str(r#"{"t":[0,1],"series":[{"name":"y","values":[0,1]}],"band":{"lower":0.9,"upper":1.1}}"#).expect("valid scene");
     assert_eq!(s2.series.len(), 1);
     assert_eq!(s2.band.as_ref().map(|b| b.upper), Some(1.1));
 }
