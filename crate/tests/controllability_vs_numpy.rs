@@ -9,7 +9,8 @@
 //! The plants with hidden modes are exactly uncontrollable by construction
 //! (block-triangular under an orthogonal similarity, or twin subsystems driven by one input),
 //! and the generator asserts that the ranks it computed equal the constructed ones.
-#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+// tests may fail loudly
 
 // `!(error <= tolerance)` is deliberate throughout: a NaN must count as a failure.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]

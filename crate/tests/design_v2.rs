@@ -40,7 +40,9 @@ fn tracking_errors_say_why() {
     // Tracking the velocity of a double integrator: [A B; C D] is singular (zero at s = 0).
     let plant = r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]], "c": [[0, 1]]}"#;
     match design(&format!(r#"{plant}, "feedback": {{"poles": [-1, -2]}}, "tracking": {{"mode": "feedforward"}}"#)) {
-        Err(DesignError::Infeasible { message }) => assert!(message.contains("zero at s = 0"), "{message}"),
+        Err(DesignError::Infeasible { message }) => {
+            assert!(message.contains("zero at s = 0"), "{message}")
+        }
         other => panic!("{other:?}"),
     }
     match design(&format!(r#"{plant}, "feedback": {{"poles": [-1, -2, -3]}}, "tracking": {{"mode": "integral"}}"#)) {
@@ -205,7 +207,9 @@ fn poles_from_a_pattern_or_a_specification() {
     // Errors name the field.
     match design(&format!(r#"{plant}, "feedback": {{"pattern": {{"family": "bessel"}}}}"#)) {
         // The missing scale is named precisely (was the whole pattern before version 3).
-        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "feedback.pattern.settling_time"),
+        Err(DesignError::Input(e)) => {
+            assert_eq!(e.field.dotted(), "feedback.pattern.settling_time")
+        }
         other => panic!("{other:?}"),
     }
     match design(&format!(r#"{plant}, "feedback": {{"poles": [-1, -2, -3], "spec": {{"overshoot": 0.05, "settling_time": 1}}}}"#)) {
@@ -409,4 +413,31 @@ fn an_unstable_loop_gets_no_margins_and_says_why() {
     let r = design(r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}, "feedback": {"poles": [1, -2]}"#).unwrap();
     assert!(r.margins.is_none());
     assert!(r.margins_unavailable.as_deref().is_some_and(|m| m.contains("not stable")), "{:?}", r.margins_unavailable);
+}
+
+#[test]
+fn a_load_enters_through_e_and_e_is_checked_against_the_plant() {
+    // Double integrator y = x1 with feedforward: a load w on the position rate (E = [1, 0]ᵀ:
+    // x1' = x2 + w) against poles −2, −3 (K = [6, 5]) leaves the offset w·5/6 in steady state:
+    // 0 = x2 + w and 0 = −6 (x1 − r) − 5 x2 give x1 − r = 5 w / 6 (by hand); the same load at
+    // the input (E = B) leaves w/6 (the test above).
+    let plant = |e: &str| format!(r#""plant": {{"a": [[0, 1], [0, 0]], "b": [[0], [1]], "c": [[1, 0]]{e}}}"#);
+    let sim = r#""simulation": {"reference": [1], "disturbance": [0.5], "disturbance_time": 5, "duration": 20}"#;
+    let run = |e: &str| design(&format!(r#"{}, "feedback": {{"poles": [-2, -3]}}, "tracking": {{"mode": "feedforward"}}, {sim}"#, plant(e)));
+    let on_rate = run(r#", "e": [[1], [0]]"#).unwrap();
+    let err = on_rate.closed_loop.as_ref().unwrap().tracked[0].steady_state_error;
+    assert!((err.abs() - 0.5 * 5.0 / 6.0).abs() < 1e-6, "{err}");
+    // One line of n numbers is a column, as for B.
+    let line = run(r#", "e": "1 0""#).unwrap();
+    assert_eq!(line.closed_loop.as_ref().unwrap().tracked[0].steady_state_error, err);
+    // Wrong rows: an error of plant.e naming both counts.
+    match run(r#", "e": [[1], [0], [0]]"#) {
+        Err(DesignError::Input(e)) => assert!(e.field.dotted() == "plant.e" && e.message.contains("3 rows") && e.message.contains("2 states"), "{e}"),
+        other => panic!("{other:?}"),
+    }
+    // Two loads (two columns of E) need two load values.
+    match run(r#", "e": [[1, 0], [0, 1]]"#) {
+        Err(DesignError::Input(e)) => assert!(e.field.dotted() == "simulation.disturbance" && e.message.contains("column"), "{e}"),
+        other => panic!("{other:?}"),
+    }
 }

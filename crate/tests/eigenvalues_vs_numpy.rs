@@ -20,7 +20,8 @@
 //! The companion matrices and the zero matrix are regression cases: nalgebra 0.35's own
 //! unbounded QR iteration (`complex_eigenvalues`, `Schur::new`) hung on them, so every case is
 //! run on a worker thread with a time limit and must return `Ok`.
-#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+// tests may fail loudly
 
 // `!(error <= tolerance)` is deliberate throughout: a NaN must count as a failure.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]

@@ -16,7 +16,8 @@
 //!
 //! 1e-12 ≈ 4500 ε covers n ≤ 12 and the constants of both implementations (ours and scipy's
 //! each contribute), and the `‖A t‖₁` term is the unavoidable conditioning allowance.
-#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+// tests may fail loudly
 
 // `!(error <= tolerance)` is deliberate throughout: a NaN must count as a failure.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]

@@ -221,7 +221,9 @@ fn c_export_compiles_prints_the_design_and_reproduces_the_simulation() {
                     let tol = match precision {
                         Precision::Double => 1e-12,
                         Precision::Float => 1e-3,
-                        Precision::Q15 | Precision::Q31 => unreachable!("floating-point exports only here"),
+                        Precision::Q15 | Precision::Q31 => {
+                            unreachable!("floating-point exports only here")
+                        }
                     };
                     eprintln!(
                         "{label}: {rows} samples, command error {:.1e} (of {cmd_scale:.3}), estimate {:.1e}, integrator {:.1e}",
@@ -376,7 +378,9 @@ fn fixed_point_exports_compile_and_stand_for_the_design() {
     // A dynamic range the format cannot hold with one shift is refused, naming the entry.
     let belt = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples/belt-axis-digital.json")).unwrap();
     match export_text(&belt, ExportFormat::C, Precision::Q15) {
-        Err(polewright::design::export::ExportFailure::Export(e)) => assert!(e.to_string().contains("below the resolution of Q15"), "{e}"),
+        Err(polewright::design::export::ExportFailure::Export(e)) => {
+            assert!(e.to_string().contains("below the resolution of Q15"), "{e}")
+        }
         other => panic!("{other:?}"),
     }
 }

@@ -87,6 +87,7 @@ fn build(case: &Value) -> Case {
         reference_time: case["reference_time"].as_f64().unwrap_or(0.0),
         disturbance: vec_of(&case["disturbance"]),
         disturbance_time: case["disturbance_time"].as_f64().unwrap_or(0.0),
+        disturbance_input: None,
         noise,
         limits,
         continuous_step: Some(duration / steps),

@@ -19,7 +19,9 @@ fn the_design_path_returns_scipys_lqr_gain_for_one_to_three_inputs() {
     let f = fixture("riccati.json");
     let (mut compared, mut multi_input, mut loose) = (0, 0, 0);
     for case in f["cases"].as_array().unwrap() {
-        let Some(gain) = case["scipy"].get("gain").filter(|g| g.is_array()) else { continue };
+        let Some(gain) = case["scipy"].get("gain").filter(|g| g.is_array()) else {
+            continue;
+        };
         if case.get("expected_error").is_some() {
             continue;
         }

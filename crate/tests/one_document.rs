@@ -70,7 +70,9 @@ fn assert_doors_agree(name: &str, spec: &DesignSpec) {
             let key = polewright::form::form_key(e.field).unwrap_or("a");
             assert_eq!(outcome.error_for(key), Some(e.message.as_str()), "{name}: {:?}", outcome.errors);
         }
-        (Err(DesignError::Infeasible { .. }), None) => assert_eq!(outcome.status, FormStatus::Infeasible),
+        (Err(DesignError::Infeasible { .. }), None) => {
+            assert_eq!(outcome.status, FormStatus::Infeasible)
+        }
         other => panic!("{name}: the doors disagree: {other:?}"),
     }
 }

@@ -14,7 +14,8 @@
 //! are 1e-4 or larger). Settling instants are band crossings found by bisection (ours,
 //! on the exactly propagated state) and brentq (scipy, on partial fractions); they agree
 //! to about 2e-12 relative, checked at 1e-9. Grid-based checks allow one grid step.
-#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+// tests may fail loudly
 
 // `!(error <= tolerance)` is deliberate throughout: a NaN must count as a failure.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]

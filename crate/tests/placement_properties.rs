@@ -20,7 +20,8 @@
 //!   characteristic polynomial (Cayley–Hamilton);
 //! - faster poles cost more control effort (common practice; asserted only for a stated
 //!   majority of plants, since it is not a theorem for every plant).
-#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+// tests may fail loudly
 
 // `!(error <= tolerance)` is deliberate throughout: a NaN must count as a failure.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]

@@ -27,7 +27,8 @@
 //! 4. **Stability**: every closed-loop pole strictly stable (`Re λ < 0`, `|λ| < 1`), recomputed
 //!    here with `try_eigenvalues` from the returned gain.
 //! 5. **Errors**: the error cases give the named variant (unstabilisable mode identified).
-#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)]
+// tests may fail loudly
 
 // `!(error <= tolerance)` is deliberate throughout: a NaN must count as a failure.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
@@ -106,7 +107,13 @@ fn riccati_matches_scipy_and_closed_forms() {
             }
         };
         let x = &design.riccati_solution;
-        let parts = |x: &DMatrix<f64>| if discrete { discrete_residual_parts(&a, &b, &q, &r, x) } else { continuous_residual_parts(&a, &b, &q, &r, x) };
+        let parts = |x: &DMatrix<f64>| {
+            if discrete {
+                discrete_residual_parts(&a, &b, &q, &r, x)
+            } else {
+                continuous_residual_parts(&a, &b, &q, &r, x)
+            }
+        };
         let (num, den) = parts(x);
         let ours = ratio(num, den);
 
@@ -282,7 +289,9 @@ fn worst_return_difference(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>,
     for i in 0..=points {
         let w = if i == 0 { 0.0 } else { scale * 10f64.powf(-3.0 + 6.0 * (i - 1) as f64 / (points - 1) as f64) };
         let m = DMatrix::<Complex64>::from_fn(n, n, |r, c| Complex64::new(-a[(r, c)], if r == c { w } else { 0.0 }));
-        let Some(sol) = m.lu().solve(&bc) else { continue };
+        let Some(sol) = m.lu().solve(&bc) else {
+            continue;
+        };
         let l: Complex64 = (0..n).map(|j| sol[(j, 0)] * k[(0, j)]).sum();
         let margin = (Complex64::new(1.0, 0.0) + l).norm() - 1.0;
         // Compare in units of the loop gain where it is large (|1 + L| ≥ |L| − 1 there anyway).

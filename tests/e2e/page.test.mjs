@@ -466,12 +466,12 @@ describe('built page', () => {
           assert.ok(reached, 'Tab reaches the poles field');
           await page.keyboard.press('ControlOrMeta+A');
           await page.keyboard.type('-10±8j, -15±20j');
-          await page.waitForFunction(() => /-15\+20j/.test(document.getElementById('pw-pole-table').textContent));
+          await page.waitForFunction(() => /−15 \+ 20j/.test(document.getElementById('pw-pole-table').textContent));
           assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
           const k = await readGain(page);
           assert.notDeepEqual(k, before, 'a new gain');
           const rows = await assertPolesPlaced(page);
-          assert.deepEqual(rows.map((r) => r[0]).sort(), ['-10+8j', '-10-8j', '-15+20j', '-15-20j'].sort());
+          assert.deepEqual(rows.map((r) => r[0]).sort(), ['−10 + 8j', '−10 − 8j', '−15 + 20j', '−15 − 20j'].sort());
 
           // On to the pole map; N / P (PageDown / PageUp) step through the poles.
           reached = false;
@@ -537,7 +537,7 @@ describe('built page', () => {
       await page.waitForFunction(() => /^Closed-loop pole/.test(document.getElementById('pw-pole-pick').textContent));
       const text = await page.textContent('#pw-pole-pick');
       // The lowest closed-loop marker of the belt-axis demo is −20 − 30j.
-      assert.match(text, /^Closed-loop pole \d of 4: −20 − 30j \(damping ratio 0\.5547, natural frequency 36\.0555 rad\/s\)\.$/, text);
+      assert.match(text, /^Closed-loop pole \d of 4: −20 − 30j \(damping ratio 0\.5547, natural frequency 36\.056 rad\/s\)\.$/, text);
       await page.mouse.move(box.x + 2, box.y + 2);
       assert.match(await page.textContent('#pw-pole-pick'), /Point at a pole/);
       assert.deepEqual([...pageErrors, ...consoleErrors], []);

@@ -2,7 +2,9 @@
 //! actuator saturation, reference and load-disturbance steps, measurement noise.
 //!
 //! # Model
-//! Plant `x' = A x + B (u + w)`, `y = C x + D u`; `w` is a load disturbance at the plant input.
+//! Plant `x' = A x + B u + E w`, `y = C x + D u`; `w` is a load disturbance step entering where
+//! the physics puts it through the disturbance input matrix `E` (a load torque on the load
+//! side, a heat load on one zone); without `E` it enters at the plant input (`E = B`).
 //!
 //! **Digital controller** (sample time `T`, `t_k = k T`, everything held over `[t_k, t_{k+1})`):
 //! 1. measure `y_k = C x_k + D u_held + n_k` (`u_held` is the input being applied at `t_k`);
@@ -15,7 +17,8 @@
 //! 5. observer `x̂_{k+1} = Φ x̂_k + Γ u_a + L (y_k − C x̂_k − D u_held)` (predictor) or
 //!    `Φ x̄_k + Γ u_a` (current), with `u_a` the input applied over the interval (`u_k`, or the
 //!    previous command with a delay): the observer is fed the **applied**, saturated input;
-//! 6. plant `x_{k+1} = Φ x_k + Γ (u_a + w_k)` — exact zero-order hold.
+//! 6. plant `x_{k+1} = Φ x_k + Γ u_a + Γ_E w_k` — exact zero-order hold (`Γ_E` from `(A, E)`,
+//!    the load held over the interval as the input is).
 //!
 //! **Continuous controller**: the stacked state `s = [x; x̂; z]` obeys a linear ODE while no
 //! input is clipped, stepped exactly with the block exponential of Van Loan (IEEE TAC 23(3),
@@ -95,9 +98,13 @@ pub struct LoopScenario {
     /// Reference step values, one per tracked output.
     pub reference: Vec<f64>,
     pub reference_time: f64,
-    /// Load-disturbance step values, one per input.
+    /// Load-disturbance step values: one per column of `disturbance_input`, or one per input.
     pub disturbance: Vec<f64>,
     pub disturbance_time: f64,
+    /// `E` (states × disturbances), through which the load step acts, in the time domain of
+    /// the plant given: the continuous `E` for [`simulate_loop`]; for a plant given sampled
+    /// ([`simulate_sampled_loop`]) its sampled `Γ_E`. `None`: at the plant input (`E = B`).
+    pub disturbance_input: Option<DMatrix<f64>>,
     pub noise: Noise,
     /// Per-input magnitude limits.
     pub limits: Vec<Option<f64>>,
@@ -260,9 +267,7 @@ pub fn simulate_loop(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &D
     if !matches!(ctrl.tracking, TrackingLaw::None) && sc.reference.len() != q {
         return Err(LoopError::Size { what: "reference", expected: q, found: sc.reference.len() });
     }
-    if !sc.disturbance.is_empty() && sc.disturbance.len() != m {
-        return Err(LoopError::Size { what: "disturbance", expected: m, found: sc.disturbance.len() });
-    }
+    let nd = check_disturbance(sc, n, m)?;
     if !sc.limits.is_empty() && sc.limits.len() != m {
         return Err(LoopError::Size { what: "actuator limits", expected: m, found: sc.limits.len() });
     }
@@ -275,15 +280,35 @@ pub fn simulate_loop(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &D
                 return Err(LoopError::BadTime { what: "the sample time", value: t });
             }
             let (phi, gamma) = try_zero_order_hold(a, b, t)?;
-            digital(&phi, &gamma, c, d, ctrl, sc, t)
+            let gamma_w = match &sc.disturbance_input {
+                Some(e) => try_zero_order_hold(a, e, t)?.1,
+                None => gamma.clone(),
+            };
+            digital(&phi, &gamma, &gamma_w, c, d, ctrl, sc, t)
         }
         None => {
             if !matches!(sc.noise, Noise::None) {
                 return Err(LoopError::NoiseNeedsDigital);
             }
-            continuous(a, b, c, d, ctrl, sc)
+            let e = sc.disturbance_input.clone().unwrap_or_else(|| b.clone());
+            debug_assert_eq!(e.ncols(), nd);
+            continuous(a, b, &e, c, d, ctrl, sc)
         }
     }
+}
+
+/// The number of disturbance values (columns of `E`, or the inputs) after checking the
+/// scenario's load step and `E` against the plant's `n` states and `m` inputs.
+fn check_disturbance(sc: &LoopScenario, n: usize, m: usize) -> Result<usize, LoopError> {
+    let nd = match &sc.disturbance_input {
+        Some(e) if e.nrows() != n => return Err(LoopError::Size { what: "rows of the disturbance input matrix", expected: n, found: e.nrows() }),
+        Some(e) => e.ncols(),
+        None => m,
+    };
+    if !sc.disturbance.is_empty() && sc.disturbance.len() != nd {
+        return Err(LoopError::Size { what: "disturbance", expected: nd, found: sc.disturbance.len() });
+    }
+    Ok(nd)
 }
 
 fn step_value(values: &[f64], len: usize, time: f64, at: f64, eps: f64) -> DVector<f64> {
@@ -310,12 +335,16 @@ pub fn simulate_sampled_loop(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, c: &DMatr
     if !(sc.duration.is_finite() && sc.duration > 0.0) {
         return Err(LoopError::BadTime { what: "the duration", value: sc.duration });
     }
-    digital(phi, gamma, c, d, ctrl, sc, t)
+    check_disturbance(sc, phi.nrows(), gamma.ncols())?;
+    let gamma_w = sc.disturbance_input.clone().unwrap_or_else(|| gamma.clone());
+    digital(phi, gamma, &gamma_w, c, d, ctrl, sc, t)
 }
 
-fn digital(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario, t: f64) -> Result<LoopResponse, LoopError> {
+#[allow(clippy::too_many_arguments)] // the plant's matrices, the controller and the scenario
+fn digital(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, gamma_w: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario, t: f64) -> Result<LoopResponse, LoopError> {
     let n = phi.nrows();
     let m = gamma.ncols();
+    let nd = gamma_w.ncols();
     let p = c.nrows();
     let q = ctrl.tracked_outputs.len();
     let wanted = (sc.duration / t).round();
@@ -345,7 +374,7 @@ fn digital(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatr
     for k in 0..=steps {
         let tk = k as f64 * t;
         let r = step_value(&sc.reference, q, tk, sc.reference_time, eps);
-        let w = step_value(&sc.disturbance, m, tk, sc.disturbance_time, eps);
+        let w = step_value(&sc.disturbance, nd, tk, sc.disturbance_time, eps);
         let mut noise = DVector::<f64>::zeros(p);
         match &sc.noise {
             Noise::None => {}
@@ -409,7 +438,7 @@ fn digital(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatr
             (Some(_), ObserverForm::Current, Some(_)) => phi * &estimate + gamma * &u_applied,
             (Some(l), _, _) => phi * &xhat + gamma * &u_applied + l * (&y - c * &xhat - d * &u_held),
         };
-        x = phi * &x + gamma * (&u_applied + &w);
+        x = phi * &x + gamma * &u_applied + gamma_w * &w;
         u_held = u_applied;
         if ctrl.k_delay.is_some() {
             u_prev = u;
@@ -442,8 +471,8 @@ struct Stacked {
     qi: usize,
 }
 
-fn stacked(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController) -> Stacked {
-    let (n, m, q) = (a.nrows(), b.ncols(), ctrl.tracked_outputs.len());
+fn stacked(a: &DMatrix<f64>, b: &DMatrix<f64>, e: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController) -> Stacked {
+    let (n, m, q, nd) = (a.nrows(), b.ncols(), ctrl.tracked_outputs.len(), e.ncols());
     let has_obs = ctrl.observer.is_some();
     let qi = if matches!(ctrl.tracking, TrackingLaw::Integral { .. }) { q } else { 0 };
     let ns = n + if has_obs { n } else { 0 } + qi;
@@ -452,11 +481,11 @@ fn stacked(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64
     let dt = rows_of(d, &ctrl.tracked_outputs);
     let mut f0 = DMatrix::<f64>::zeros(ns, ns);
     let mut gr = DMatrix::<f64>::zeros(ns, q);
-    let mut gw = DMatrix::<f64>::zeros(ns, m);
+    let mut gw = DMatrix::<f64>::zeros(ns, nd);
     let mut gu = DMatrix::<f64>::zeros(ns, m);
     f0.view_mut((ox, ox), (n, n)).copy_from(a);
     gu.view_mut((ox, 0), (n, m)).copy_from(b);
-    gw.view_mut((ox, 0), (n, m)).copy_from(b);
+    gw.view_mut((ox, 0), (n, nd)).copy_from(e);
     if let Some(l) = &ctrl.observer {
         // x̂' = L C x + (A − L C) x̂ + B u  (the D terms cancel in y − ŷ).
         f0.view_mut((oh, ox), (n, n)).copy_from(&(l * c));
@@ -508,14 +537,16 @@ fn fine_step(fcl: &DMatrix<f64>, sc: &LoopScenario) -> (f64, usize) {
 /// The held-input (saturated) mode `s' = F_sat s + G_sat [r; w; u]`: `u` is an external held
 /// input and the integrators follow the anti-windup rule.
 fn saturated_mode(st: &Stacked, ctrl: &LoopController) -> (DMatrix<f64>, DMatrix<f64>) {
-    let (ns, q, m) = (st.f0.nrows(), st.gr.ncols(), st.gu.ncols());
-    let exo = q + m;
+    let (ns, q, m, nd) = (st.f0.nrows(), st.gr.ncols(), st.gu.ncols(), st.gw.ncols());
+    let exo = q + nd;
     let mut fsat = st.f0.clone();
     let mut gsat = DMatrix::<f64>::zeros(ns, exo + m);
     gsat.view_mut((0, 0), (ns, q)).copy_from(&st.gr);
-    gsat.view_mut((0, q), (ns, m)).copy_from(&st.gw);
+    gsat.view_mut((0, q), (ns, nd)).copy_from(&st.gw);
     gsat.view_mut((0, exo), (ns, m)).copy_from(&st.gu);
-    let TrackingLaw::Integral { ki, anti_windup } = &ctrl.tracking else { return (fsat, gsat) };
+    let TrackingLaw::Integral { ki, anti_windup } = &ctrl.tracking else {
+        return (fsat, gsat);
+    };
     let oz = st.oz;
     match anti_windup {
         AntiWindup::None => {}
@@ -577,18 +608,18 @@ impl Transitions {
     }
 }
 
-fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario) -> Result<LoopResponse, LoopError> {
-    let (n, m, p, q) = (a.nrows(), b.ncols(), c.nrows(), ctrl.tracked_outputs.len());
-    let st = stacked(a, b, c, d, ctrl);
+fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, e: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<f64>, ctrl: &LoopController, sc: &LoopScenario) -> Result<LoopResponse, LoopError> {
+    let (n, m, p, q, nd) = (a.nrows(), b.ncols(), c.nrows(), ctrl.tracked_outputs.len(), e.ncols());
+    let st = stacked(a, b, e, c, d, ctrl);
     let ns = st.f0.nrows();
     let limits: Vec<Option<f64>> = if sc.limits.is_empty() { vec![None; m] } else { sc.limits.clone() };
     let fcl = &st.f0 + &st.gu * &st.h;
     let (hstep, steps) = fine_step(&fcl, sc);
     // Exact transitions with held exogenous inputs: closed (unsaturated) and held-input (saturated).
-    let exo = q + m;
+    let exo = q + nd;
     let mut gcl = DMatrix::<f64>::zeros(ns, exo);
     gcl.view_mut((0, 0), (ns, q)).copy_from(&(&st.gr + &st.gu * &st.j));
-    gcl.view_mut((0, q), (ns, m)).copy_from(&st.gw);
+    gcl.view_mut((0, q), (ns, nd)).copy_from(&st.gw);
     let (fsat, gsat) = saturated_mode(&st, ctrl);
     let coarse = Transitions::new(&fcl, &gcl, &fsat, &gsat, hstep)?;
     // The same over a fraction of the step, for the steps in which an input enters or leaves
@@ -605,7 +636,7 @@ fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<
     for k in 0..=steps {
         let tk = k as f64 * hstep;
         let r = step_value(&sc.reference, q, tk, sc.reference_time, eps);
-        let w = step_value(&sc.disturbance, m, tk, sc.disturbance_time, eps);
+        let w = step_value(&sc.disturbance, nd, tk, sc.disturbance_time, eps);
         let u_cmd = &st.h * &s + &st.j * &r;
         let (u, clipped) = clip(&u_cmd, &limits);
         let x = s.rows(0, n).into_owned();
@@ -624,7 +655,7 @@ fn continuous(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &DMatrix<
         }
         let mut v = DVector::<f64>::zeros(exo);
         v.rows_mut(0, q).copy_from(&r);
-        v.rows_mut(q, m).copy_from(&w);
+        v.rows_mut(q, nd).copy_from(&w);
         let next = coarse.advance(&st, &limits, &s, &v, &r);
         // An input entered or left saturation during the step: redo it in fine sub-steps.
         let (_, clipped_next) = clip(&(&st.h * &next + &st.j * &r), &limits);

@@ -43,8 +43,12 @@ pub enum SensitivityError {
 impl std::fmt::Display for SensitivityError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            SensitivityError::NotFinite => write!(f, "the closed-loop matrix has a NaN or infinite entry"),
-            SensitivityError::NoConvergence => write!(f, "the Schur form of the closed loop did not converge"),
+            SensitivityError::NotFinite => {
+                write!(f, "the closed-loop matrix has a NaN or infinite entry")
+            }
+            SensitivityError::NoConvergence => {
+                write!(f, "the Schur form of the closed loop did not converge")
+            }
             SensitivityError::Size { expected, found } => write!(f, "the perturbation is {}×{}, the closed loop {expected}×{expected}", found.0, found.1),
         }
     }
@@ -93,7 +97,13 @@ pub fn pole_sensitivities(a: &DMatrix<f64>, direction: Option<&DMatrix<f64>>) ->
     let (q, t) = schur.unpack();
     let scale = t.iter().map(|v| v.norm()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
     let small = f64::EPSILON * scale;
-    let guard = |d: Complex64| if d.norm() < small { Complex64::new(small, 0.0) } else { d };
+    let guard = |d: Complex64| {
+        if d.norm() < small {
+            Complex64::new(small, 0.0)
+        } else {
+            d
+        }
+    };
     let ec = direction.map(|e| e.map(|v| Complex64::new(v, 0.0)));
     let mut out = Vec::with_capacity(n);
     for k in 0..n {

@@ -193,6 +193,8 @@ pub struct ScenarioSpec {
     pub reference_time: f64,
     pub disturbance: Vec<f64>,
     pub disturbance_time: f64,
+    /// `E` (states × loads) through which the load step acts; `None`: at the plant input.
+    pub disturbance_input: Option<nalgebra::DMatrix<f64>>,
     pub noise_std: Vec<f64>,
     pub seed: u64,
     pub initial_estimate: Option<Vec<f64>>,

@@ -54,6 +54,7 @@ field_paths! {
     PlantB => "plant.b",
     PlantC => "plant.c",
     PlantD => "plant.d",
+    PlantE => "plant.e",
     PlantStateNames => "plant.state_names",
     PlantStateUnits => "plant.state_units",
     PlantInputNames => "plant.input_names",

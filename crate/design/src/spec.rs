@@ -104,6 +104,11 @@ pub struct PlantDoc {
     pub c: Option<MatrixValue>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub d: Option<MatrixValue>,
+    /// Disturbance input matrix `E` (states × loads): the loop scenario's load step acts as
+    /// `x' = A x + B u + E w` (in the plant's own time domain: discrete when `sample_time` is
+    /// given). Without it the load enters at the plant input (`E = B`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub e: Option<MatrixValue>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub state_names: Option<NameList>,
     #[serde(default, skip_serializing_if = "Option::is_none")]

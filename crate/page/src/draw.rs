@@ -596,7 +596,9 @@ pub fn time_plot(scene: &TimePlotScene, rect: Rect, measure: &dyn TextMeasure) -
     // Legend: swatch (colour and dash of the line) and name, flowed into rows.
     s.font(FONT);
     for (i, ser) in scene.series.iter().enumerate() {
-        let Some((row, x)) = flow.get(i).copied() else { continue };
+        let Some((row, x)) = flow.get(i).copied() else {
+            continue;
+        };
         let y = 18.0 + row as f64 * LEGEND_ROW_PX;
         let x = left + x;
         let (stroke, dash) = series_style(scene, i);

@@ -81,6 +81,7 @@ fn loop_benchmark(path: &str) {
         reference_time: case["reference_time"].as_f64().unwrap_or(0.0),
         disturbance: vecv(&case["disturbance"]),
         disturbance_time: case["disturbance_time"].as_f64().unwrap_or(0.0),
+        disturbance_input: None,
         noise: Noise::None,
         limits: vec![],
         continuous_step: None,
@@ -122,7 +123,9 @@ fn riccati_case(case: &Value) -> Value {
     let seconds = start.elapsed().as_secs_f64();
     let rows = |m: &DMatrix<f64>| -> Vec<Vec<f64>> { (0..m.nrows()).map(|i| m.row(i).iter().copied().collect()).collect() };
     match solved {
-        Ok(d) => json!({"name": name, "x": rows(&d.riccati_solution), "gain": rows(&d.gain), "residual": d.residual, "seconds": seconds, "error": null}),
+        Ok(d) => {
+            json!({"name": name, "x": rows(&d.riccati_solution), "gain": rows(&d.gain), "residual": d.residual, "seconds": seconds, "error": null})
+        }
         Err(e) => json!({"name": name, "error": e.to_string(), "seconds": seconds}),
     }
 }

@@ -632,7 +632,9 @@ pub fn set_pole_zoom(fit: bool) -> Result<(), JsValue> {
 #[wasm_bindgen]
 pub fn copy_text(which: &str) -> Result<String, JsValue> {
     with_page(|page| {
-        let Some(r) = &page.report else { return Ok(String::new()) };
+        let Some(r) = &page.report else {
+            return Ok(String::new());
+        };
         Ok(match which {
             "gain" => r.gain.text.clone(),
             "observer" => r

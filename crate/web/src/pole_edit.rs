@@ -149,8 +149,12 @@ pub(crate) fn sync_history(page: &mut PageState, input: &FormInput) {
     if !list_is_editable(input) {
         return;
     }
-    let Ok(poles) = crate::poles::parse_poles(&input.poles) else { return };
-    let Ok(set) = editing::PoleSet::from_poles(&poles) else { return };
+    let Ok(poles) = crate::poles::parse_poles(&input.poles) else {
+        return;
+    };
+    let Ok(set) = editing::PoleSet::from_poles(&poles) else {
+        return;
+    };
     match page.history.as_mut() {
         None => page.history = Some(EditHistory::new(set, EditParams::default())),
         Some(h) if h.dragging().is_none() && *h.current() != set => {
@@ -276,9 +280,15 @@ pub fn pole_pointer_down(x: f64, y: f64) -> Result<bool, JsValue> {
         let frame = page.pole_scene.frame(rect);
         let pixels: Vec<[f64; 2]> = page.pole_scene.requested.iter().map(|p| frame.to_pixel(*p)).collect();
         let radius = page.history.as_ref().map_or(crate::plot::HIT_RADIUS_PX, |h| h.params().hit_radius_px) + 3.0;
-        let Some(k) = crate::plot::hit_test([x, y], &pixels, radius) else { return Ok(false) };
-        let Some(marker) = page.requested_markers.get(k).copied() else { return Ok(false) };
-        let Some(history) = page.history.as_mut() else { return Ok(false) };
+        let Some(k) = crate::plot::hit_test([x, y], &pixels, radius) else {
+            return Ok(false);
+        };
+        let Some(marker) = page.requested_markers.get(k).copied() else {
+            return Ok(false);
+        };
+        let Some(history) = page.history.as_mut() else {
+            return Ok(false);
+        };
         history.begin_drag(marker.entry).map_err(|e| js_err("drag", e))?;
         page.drag = Some(DragView { frame, samples: Vec::new() });
         page.pole_scene.view = Some(frame.view());
@@ -297,9 +307,13 @@ pub fn pole_pointer_down(x: f64, y: f64) -> Result<bool, JsValue> {
 pub fn pole_pointer_move(x: f64, y: f64) -> Result<(), JsValue> {
     let start = now_ms();
     let moved = with_page(|page| {
-        let Some(frame) = page.drag.as_ref().map(|d| d.frame) else { return Ok(None) };
+        let Some(frame) = page.drag.as_ref().map(|d| d.frame) else {
+            return Ok(None);
+        };
         let map = page.plane_map;
-        let Some(history) = page.history.as_mut() else { return Ok(None) };
+        let Some(history) = page.history.as_mut() else {
+            return Ok(None);
+        };
         match history.drag_to_pixel_mapped(&frame, [x, y], map) {
             Ok(Change::Changed) => Ok(Some(history.current().text())),
             Ok(Change::Unchanged) => Ok(Some(String::new())),
@@ -346,7 +360,9 @@ pub(crate) fn median(samples: &[f64]) -> Option<f64> {
 #[wasm_bindgen]
 pub fn pole_pointer_up(cancel: bool) -> Result<(), JsValue> {
     let (restore, samples) = with_page(|page| {
-        let Some(drag) = page.drag.take() else { return Ok((None, Vec::new())) };
+        let Some(drag) = page.drag.take() else {
+            return Ok((None, Vec::new()));
+        };
         let restore = page.history.as_mut().and_then(|h| {
             if cancel {
                 (h.cancel_drag() == Change::Changed).then(|| h.current().text())
@@ -395,7 +411,9 @@ pub fn move_pole(direction: &str, large: bool) -> Result<(), JsValue> {
         let rect = page.canvas_rect(ids::POLE_MAP)?;
         let frame = page.pole_scene.frame(rect);
         let map = page.plane_map;
-        let Some(history) = page.history.as_mut() else { return Ok(None) };
+        let Some(history) = page.history.as_mut() else {
+            return Ok(None);
+        };
         let step = if large { StepSize::Large } else { StepSize::Normal };
         let outcome = editing::nudge_mapped(history.current(), entry, dir.for_member(member), step, &frame, &EditParams::default(), map);
         match outcome {
@@ -449,7 +467,9 @@ pub(crate) fn edit_list(edit: impl FnOnce(&PageState) -> Option<Edit>) -> Result
         }
         let Some(e) = edit(page) else { return Ok(None) };
         let added = matches!(e, Edit::Add(_));
-        let Some(history) = page.history.as_mut() else { return Ok(None) };
+        let Some(history) = page.history.as_mut() else {
+            return Ok(None);
+        };
         match history.apply(&e) {
             Ok(Change::Changed) => {
                 let text = history.current().text();
@@ -500,7 +520,9 @@ pub fn undo_edit(redo: bool) -> Result<(), JsValue> {
         if !page.last_input_editable() {
             return Ok(None);
         }
-        let Some(history) = page.history.as_mut() else { return Ok(None) };
+        let Some(history) = page.history.as_mut() else {
+            return Ok(None);
+        };
         let done = if redo { history.redo().is_some() } else { history.undo().is_some() };
         page.edit_message = if done { None } else { Some(format!("Nothing to {}.", if redo { "redo" } else { "undo" })) };
         let text = done.then(|| history.current().text());

@@ -184,7 +184,9 @@ pub fn form_state() -> Result<String, JsValue> {
 /// false is returned, leaving the page as it is.
 #[wasm_bindgen]
 pub fn restore_form_state(text: &str) -> Result<bool, JsValue> {
-    let Ok(memory) = serde_json::from_str::<PageMemory>(text) else { return Ok(false) };
+    let Ok(memory) = serde_json::from_str::<PageMemory>(text) else {
+        return Ok(false);
+    };
     write_form(&document()?, &memory.form)?;
     if let Some(pinned_form) = memory.pinned {
         let outcome = crate::form::evaluate_form(&pinned_form);

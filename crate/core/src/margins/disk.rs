@@ -323,7 +323,9 @@ pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<
     let cheap: Vec<(f64, f64, Vec<f64>)> = grid
         .iter()
         .map(|&w| {
-            let Some(m) = shifted(w) else { return (w, f64::INFINITY, Vec::new()) };
+            let Some(m) = shifted(w) else {
+                return (w, f64::INFINITY, Vec::new());
+            };
             let (v, x) = minimise_bound(&m, warm.as_deref(), 0.05, 1, 40, 1e-6);
             warm = Some(x.clone());
             (w, v, x)

@@ -77,7 +77,9 @@ impl std::fmt::Display for MarginError {
             MarginError::IllPosed => write!(f, "the loop is not well posed (I + D is singular)"),
             MarginError::BoundaryPole { frequency } => write!(f, "the closed loop has a pole on the stability boundary near {frequency} rad/s"),
             MarginError::Eigen(m) => write!(f, "{m}"),
-            MarginError::Size { what } => write!(f, "the {what} does not fit the plant's dimensions"),
+            MarginError::Size { what } => {
+                write!(f, "the {what} does not fit the plant's dimensions")
+            }
         }
     }
 }
@@ -417,7 +419,9 @@ pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMa
     let finite = |v: Complex64| v.re.is_finite() && v.im.is_finite();
     for pair in positive.windows(2) {
         let (w0, w1) = (pair[0], pair[1]);
-        let (Some(a), Some(b)) = (lval(w0).filter(|v| finite(*v)), lval(w1).filter(|v| finite(*v))) else { continue };
+        let (Some(a), Some(b)) = (lval(w0).filter(|v| finite(*v)), lval(w1).filter(|v| finite(*v))) else {
+            continue;
+        };
         // −180° crossing: Im L changes sign with Re L < 0.
         if (a.im > 0.0) != (b.im > 0.0) {
             let w = bisect(&|w| lval(w).map_or(0.0, |v| v.im), w0, w1);

@@ -553,7 +553,9 @@ pub fn pole_error_floor(domain: Domain, scale: f64) -> f64 {
 
 /// [`max_matching_error`] with an explicit floor: `|r − z| / max(|r|, floor)`.
 pub fn matching_error_with_floor(requested: &[Complex64], achieved: &[Complex64], floor: f64) -> f64 {
-    let Some(matches) = greedy_matching(requested, achieved) else { return f64::INFINITY };
+    let Some(matches) = greedy_matching(requested, achieved) else {
+        return f64::INFINITY;
+    };
     matches.iter().map(|&(i, j)| (requested[i] - achieved[j]).norm() / requested[i].norm().max(floor)).fold(0.0, f64::max)
 }
 
@@ -563,7 +565,9 @@ pub fn matching_error_with_floor(requested: &[Complex64], achieved: &[Complex64]
 /// block), and the spread is the largest individual distance among repeated poles (0 when none
 /// repeats). Both relative to `max(|r|, floor)`; infinite when the counts differ.
 pub fn cluster_errors(requested: &[Complex64], achieved: &[Complex64], floor: f64) -> (f64, f64) {
-    let Some(matches) = greedy_matching(requested, achieved) else { return (f64::INFINITY, f64::INFINITY) };
+    let Some(matches) = greedy_matching(requested, achieved) else {
+        return (f64::INFINITY, f64::INFINITY);
+    };
     let (mut worst, mut spread) = (0.0f64, 0.0f64);
     let mut done = vec![false; requested.len()];
     for &(i, _) in &matches {

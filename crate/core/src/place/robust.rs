@@ -82,7 +82,9 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
     let real_subspaces: Vec<Option<DMatrix<f64>>> = slots.iter().zip(&subspaces).map(|(slot, s)| matches!(slot, Slot::Real(_)).then(|| s.map(|z| z.re))).collect();
     let mut runs: Vec<Refinement> = Vec::new();
     for x0 in starts {
-        let Some(run) = Refinement::new(x0, &slots)? else { continue };
+        let Some(run) = Refinement::new(x0, &slots)? else {
+            continue;
+        };
         runs.push(run);
         if r == 1 {
             break; // X is unique up to column scaling: nothing to refine.
@@ -164,7 +166,9 @@ fn follow_branch(
     params: PlacementParams,
 ) -> Result<Option<Followed>, PlacementError> {
     let start = x0.clone();
-    let Some(mut run) = Refinement::new(x0, slots)? else { return Ok(None) };
+    let Some(mut run) = Refinement::new(x0, slots)? else {
+        return Ok(None);
+    };
     // Converged tightly: |det X| is flat at its maximum, so a loose stop leaves X behind the
     // moving optimum by about the square root of the tolerance, and the lag is made up later
     // in one jump of the gain.
@@ -303,7 +307,9 @@ fn invert_real(x: &DMatrix<f64>) -> Option<DMatrix<f64>> {
 impl Refinement {
     fn new(x: DMatrix<Complex64>, slots: &[Slot]) -> Result<Option<Self>, PlacementError> {
         let xr = to_real_form(&x, slots);
-        let Some(xr_inv) = invert_real(&xr) else { return Ok(None) };
+        let Some(xr_inv) = invert_real(&xr) else {
+            return Ok(None);
+        };
         let kappa = try_condition_number(&x, SvdParams::default())?;
         Ok(Some(Refinement { xr, xr_inv, best_x: x, best_kappa: kappa, sweeps: 0, converged: false }))
     }
@@ -335,7 +341,9 @@ impl Refinement {
             for (k, slot) in slots.iter().enumerate() {
                 match *slot {
                     Slot::Real(j) => {
-                        let Some(sr) = real_subspaces[k].as_ref() else { continue };
+                        let Some(sr) = real_subspaces[k].as_ref() else {
+                            continue;
+                        };
                         let y = self.xr_inv.row(j).transpose();
                         let mut v = sr * (sr.transpose() * &y);
                         let vn = v.norm();
@@ -359,7 +367,9 @@ impl Refinement {
                         // The complement of the other columns is spanned by rows j, j+1 of X_r⁻¹.
                         let r1 = self.xr_inv.row(j).transpose();
                         let r2 = self.xr_inv.row(j + 1).transpose();
-                        let Some(x) = best_pair_vector_in(&subspaces[k], &r1, &r2) else { continue };
+                        let Some(x) = best_pair_vector_in(&subspaces[k], &r1, &r2) else {
+                            continue;
+                        };
                         let xr_new = DVector::from_iterator(n, x.iter().map(|z| z.re));
                         let xi_new = DVector::from_iterator(n, x.iter().map(|z| z.im));
                         let u1 = &xr_new - self.xr.column(j);

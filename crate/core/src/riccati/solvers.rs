@@ -313,7 +313,9 @@ pub(crate) fn discrete_core(data: &Problem, params: RiccatiParams) -> Result<Cor
         };
         iterations.lyapunov += steps;
         let candidate = symmetrize(&(&best_x + delta));
-        let Ok(evaluated) = discrete_residual(data, &candidate) else { break };
+        let Ok(evaluated) = discrete_residual(data, &candidate) else {
+            break;
+        };
         if evaluated.normalised < best.normalised {
             best_x = candidate;
             best = evaluated;

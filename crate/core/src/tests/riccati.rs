@@ -127,7 +127,9 @@ fn failures_are_diagnosed() {
     let b = m(&[&[0.0], &[1.0]]);
     let i2 = DMatrix::<f64>::identity(2, 2);
     match lqr_gain(&a, &b, &i2, &one) {
-        Err(RiccatiError::NotStabilizable { mode, margin }) => assert!((mode.re - 0.5).abs() < 1e-12 && margin < 1e-12),
+        Err(RiccatiError::NotStabilizable { mode, margin }) => {
+            assert!((mode.re - 0.5).abs() < 1e-12 && margin < 1e-12)
+        }
         other => panic!("expected NotStabilizable, got {other:?}"),
     }
     let a = m(&[&[1.5, 0.0], &[1.0, 0.2]]);

@@ -47,7 +47,9 @@ fn counted_poles(c: &mut Checker, path: P, r: Result<Vec<Complex64>, String>, ex
 /// The digital implementation; true when the controller is digital (a sample time was given,
 /// even one that did not read).
 fn implementation(spec: &DesignSpec, m: Option<usize>, out: &mut ControllerSpec, c: &mut Checker) -> bool {
-    let Some(imp) = &spec.implementation else { return spec.plant.sample_time.is_some() };
+    let Some(imp) = &spec.implementation else {
+        return spec.plant.sample_time.is_some();
+    };
     if spec.plant.sample_time.is_some() {
         c.push(P::Implementation, "the plant is already discrete (plant.sample_time); remove one of the two");
         return true;
@@ -222,13 +224,28 @@ fn counted(c: &mut Checker, path: P, list: Option<&crate::spec::NumberList>, cou
     Some(v)
 }
 
+/// The disturbance input matrix `E`: one row per state (one line of n numbers is a column).
+fn disturbance_input(spec: &DesignSpec, n: Option<usize>, c: &mut Checker) -> Option<nalgebra::DMatrix<f64>> {
+    let e = c.take(P::PlantE, spec.plant.e.as_ref().and_then(super::matrix)?)?;
+    let e = if e.nrows() == 1 && e.ncols() > 1 && n == Some(e.ncols()) { e.transpose() } else { e };
+    c.size(P::PlantE, format!("{} × {}", e.nrows(), e.ncols()));
+    match n {
+        Some(n) if e.nrows() != n => {
+            c.push(P::PlantE, format!("E has {} but the plant has {}; give one row per state (one column per load)", plural(e.nrows(), "row", "rows"), plural(n, "state", "states")));
+            None
+        }
+        _ => Some(e),
+    }
+}
+
 fn scenario(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, digital: bool, tracked: Option<usize>, out: &mut ControllerSpec, c: &mut Checker) {
     let mut sc = ScenarioSpec::default();
+    let (n, m, p) = (plant.map(|p| p.states()), plant.map(|p| p.inputs()), plant.map(|p| p.outputs()));
+    sc.disturbance_input = disturbance_input(spec, n, c);
     let Some(s) = &spec.simulation else {
         out.scenario = ScenarioSpec { max_samples: out.sample_time().map(|_| MAX_LOOP_SAMPLES), ..sc };
         return;
     };
-    let (n, m, p) = (plant.map(|p| p.states()), plant.map(|p| p.inputs()), plant.map(|p| p.outputs()));
     if s.reference.is_some() && tracked == Some(0) {
         c.push(P::Reference, "a reference step needs tracking: choose feedforward or integral action, or leave this out");
     } else if let Some(r) = counted(c, P::Reference, s.reference.as_ref(), tracked.map(|q| (q, "tracked output", "tracked outputs"))) {
@@ -238,7 +255,12 @@ fn scenario(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, digit
         sc.reference_time = c.take(P::ReferenceTime, t).unwrap_or(0.0);
     }
     let loop_runs = spec.observer.is_some() || !matches!(out.tracking, TrackingSpec::None) || spec.tracking.as_ref().is_some_and(|t| t.mode != TrackingMode::None) || digital;
-    if let Some(w) = counted(c, P::Disturbance, s.disturbance.as_ref(), m.map(|m| (m, "input", "inputs"))) {
+    let loads = match &sc.disturbance_input {
+        Some(e) => Some((e.ncols(), "column of E (load)", "columns of E (loads)")),
+        None if c.has(P::PlantE) => None,
+        None => m.map(|m| (m, "input", "inputs")),
+    };
+    if let Some(w) = counted(c, P::Disturbance, s.disturbance.as_ref(), loads) {
         if loop_runs {
             sc.disturbance = w;
         } else {

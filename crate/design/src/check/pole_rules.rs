@@ -492,7 +492,9 @@ fn search(spec: &DesignSpec, plant: Option<&Plant>, source: PoleSource, known: &
         Some(_) => {}
         None => can = false,
     }
-    let Some(p) = plant.filter(|_| can) else { return false };
+    let Some(p) = plant.filter(|_| can) else {
+        return false;
+    };
     let situations = match &s.situations {
         Some(list) => given_situations(list, p, c),
         None => derived_situations(p, known, out, setup),

@@ -99,7 +99,9 @@ pub enum ExportError {
 impl std::fmt::Display for ExportError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            ExportError::NotAvailable { what, why } => write!(f, "{what} cannot be exported: {why}"),
+            ExportError::NotAvailable { what, why } => {
+                write!(f, "{what} cannot be exported: {why}")
+            }
         }
     }
 }

@@ -249,6 +249,9 @@ pub fn record_fragment(spec: &DesignSpec, design: &CheckedDesign, result: &Desig
     if let Some(cm) = plant.c() {
         o.push_str(&matrix_table("C", &rows_of(cm), &p.output_names, &states));
     }
+    if let Some(e) = &design.controller.scenario.disturbance_input {
+        o.push_str(&matrix_table("E (the load step's input)", &rows_of(e), &states, &[]));
+    }
     o.push_str("</div></section>");
     // Poles.
     o.push_str("<section><h2>Closed-loop poles: how they were chosen</h2><p>");

@@ -29,6 +29,20 @@ fn not_available(why: &str) -> ExportError {
     ExportError::NotAvailable { what: "test vectors".into(), why: why.into() }
 }
 
+/// The load's input matrix in the sampled plant's terms: `Γ_E` of a continuous `E` (the
+/// zero-order hold of `(A, E)`), or `E` itself for a plant given in discrete time; `None`
+/// (the load at the plant input) without `E`.
+fn sampled_disturbance_input(design: &CheckedDesign, t: f64) -> Result<Option<DMatrix<f64>>, ExportError> {
+    let Some(e) = &design.controller.scenario.disturbance_input else {
+        return Ok(None);
+    };
+    if design.controller.plant_sample_time.is_some() {
+        return Ok(Some(e.clone()));
+    }
+    let (_, gamma_e) = crate::linalg::expm::try_zero_order_hold(design.request.plant.a(), e, t).map_err(|err| not_available(&err.to_string()))?;
+    Ok(Some(gamma_e))
+}
+
 pub(super) fn file(c: &Controller, head: &[String], design: &CheckedDesign) -> Result<ExportFile, ExportError> {
     let t = c.sample_time.ok_or_else(|| not_available("the design is continuous; give a sample time so that there is a controller step to test"))?;
     let (Some(phi), Some(gamma), Some(k)) = (matrix(c, "Phi"), matrix(c, "Gamma"), matrix(c, "K")) else {
@@ -79,6 +93,7 @@ pub(super) fn file(c: &Controller, head: &[String], design: &CheckedDesign) -> R
         reference_time: spec.reference_time,
         disturbance: spec.disturbance.clone(),
         disturbance_time: spec.disturbance_time,
+        disturbance_input: sampled_disturbance_input(design, t)?,
         noise: Noise::None,
         limits: c.limits.clone(),
         continuous_step: None,

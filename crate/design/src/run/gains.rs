@@ -83,7 +83,9 @@ pub(super) fn gains(s: &Setup, pair: &DesignPair) -> Result<Gains, DesignError> 
 }
 
 fn observer(s: &Setup, pair: &DesignPair) -> Result<Option<Observer>, DesignError> {
-    let (Some(os), Some(c)) = (&s.spec.observer, s.plant.c()) else { return Ok(None) };
+    let (Some(os), Some(c)) = (&s.spec.observer, s.plant.c()) else {
+        return Ok(None);
+    };
     let poles = match &os.poles {
         ObserverPoles::Given(p) => s.to_design(p),
         ObserverPoles::SpeedFactor(f) => {

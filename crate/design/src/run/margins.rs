@@ -40,9 +40,13 @@ fn disk(alpha: f64, skew: f64, frequency: f64) -> DiskMargin {
 
 /// Why margins are not given for a design (`None`: they are).
 pub(super) fn unavailable(s: &Setup, g: &Gains) -> Option<String> {
-    let Some(model) = loop_model(s, g) else { return Some("the loop as built could not be formed".into()) };
+    let Some(model) = loop_model(s, g) else {
+        return Some("the loop as built could not be formed".into());
+    };
     let poles = model.closed_loop().ok().and_then(|(_, acl)| crate::linalg::eigen::try_eigenvalues(&acl).ok());
-    let Some(poles) = poles else { return Some("the closed loop's poles could not be computed".into()) };
+    let Some(poles) = poles else {
+        return Some("the closed loop's poles could not be computed".into());
+    };
     let scale = poles.iter().map(|p| p.norm()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
     let unstable = match s.t {
         None => poles.iter().any(|p| p.re >= -1e-12 * scale),

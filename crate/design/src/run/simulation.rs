@@ -154,6 +154,7 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
                 reference_time: 0.0,
                 disturbance: Vec::new(),
                 disturbance_time: 0.0,
+                disturbance_input: None,
                 noise: Noise::None,
                 limits: h.limits.clone(),
                 continuous_step: None,
@@ -283,6 +284,7 @@ pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<W
         reference_time: sc.reference_time,
         disturbance: sc.disturbance.clone(),
         disturbance_time: sc.disturbance_time,
+        disturbance_input: sc.disturbance_input.clone(),
         noise,
         limits: h.limits.clone(),
         continuous_step: None,
@@ -363,7 +365,9 @@ fn input_metrics(s: &Setup, lr: &LoopResponse, h: &Horizon, warnings: &mut Vec<W
 fn separation(s: &Setup, g: &Gains) -> (Option<Vec<crate::Pair>>, Option<f64>) {
     let n = s.n;
     let plain = g.k_u.is_none() && g.k_i.is_none();
-    let (Some((od, _, form)), true, Some(c)) = (&g.observer, plain, s.plant.c()) else { return (None, None) };
+    let (Some((od, _, form)), true, Some(c)) = (&g.observer, plain, s.plant.c()) else {
+        return (None, None);
+    };
     if !(*form == ObserverForm::Predictor || s.t.is_none()) {
         return (None, None);
     }

@@ -161,7 +161,9 @@ pub(super) fn controller_warnings(g: &Gains, advice: Option<&SampleRateAdvice>) 
 
 /// A speed factor outside [`OBSERVER_SPEED_RULE`].
 pub(super) fn observer_speed_warning(spec: &ControllerSpec) -> Option<Warning> {
-    let Some(ObserverPoles::SpeedFactor(f)) = spec.observer.as_ref().map(|o| &o.poles) else { return None };
+    let Some(ObserverPoles::SpeedFactor(f)) = spec.observer.as_ref().map(|o| &o.poles) else {
+        return None;
+    };
     let (lo, hi) = OBSERVER_SPEED_RULE;
     if *f < lo {
         Some(Warning::new(WarningCode::ObserverSlow, format!("The observer poles are only {} times the controller poles; the usual rule of thumb is 2–6 times faster than the controller (common practice): with a slow observer the estimation error shapes the response.", fmt_num(*f))))

@@ -59,7 +59,9 @@ fn unstable_uncontrollable_is_infeasible() {
     let text = r#"{"format": "polewright.design", "version": 1,
             "plant": {"a": [[1,0],[0,-1]], "b": [[0],[1]]}, "feedback": {"poles": [-1, -2]}}"#;
     match run_text(text) {
-        Err(DesignError::Infeasible { message }) => assert!(message.contains("mode at 1"), "{message}"),
+        Err(DesignError::Infeasible { message }) => {
+            assert!(message.contains("mode at 1"), "{message}")
+        }
         other => panic!("{other:?}"),
     }
 }

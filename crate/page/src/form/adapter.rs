@@ -63,6 +63,7 @@ pub fn spec_from_form(form: &FormInput) -> Result<DesignSpec, Vec<FieldError>> {
         b: Some(MatrixValue::Text(text("b"))),
         c: opt(&text("c")).map(MatrixValue::Text),
         d: opt(&text("d")).map(MatrixValue::Text),
+        e: opt(&text("disturbance_input")).map(MatrixValue::Text),
         state_names: names("state_names"),
         state_units: names("state_units"),
         input_names: names("input_names"),
@@ -318,6 +319,7 @@ pub fn form_from_spec(spec: &DesignSpec) -> Result<FormInput, String> {
     put("b", p.b.as_ref().map(matrix_text));
     put("c", p.c.as_ref().map(matrix_text));
     put("d", p.d.as_ref().map(matrix_text));
+    put("disturbance_input", p.e.as_ref().map(matrix_text));
     for (key, v) in [
         ("state_names", &p.state_names),
         ("state_units", &p.state_units),

@@ -70,7 +70,9 @@ fn arrange(scene: TimePlotScene, groups: &[Group], axes: SignalAxes, quantity: &
     };
     match chosen {
         SignalAxes::Separate => groups.iter().map(|g| panel(&scene, g)).collect(),
-        SignalAxes::DividedByLimit if groups.iter().any(|g| g.limit.is_some()) => vec![divided(scene, groups, quantity)],
+        SignalAxes::DividedByLimit if groups.iter().any(|g| g.limit.is_some()) => {
+            vec![divided(scene, groups, quantity)]
+        }
         _ => vec![scene],
     }
 }
@@ -179,3 +181,7 @@ pub fn arrange_outputs(scene: TimePlotScene, result: &DesignResult, report: &Rep
     let axes = if axes == SignalAxes::DividedByLimit { SignalAxes::Automatic } else { axes };
     arrange(scene, &groups, axes, "output")
 }
+
+#[cfg(test)]
+#[path = "../tests/axes.rs"]
+mod tests;

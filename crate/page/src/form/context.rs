@@ -56,7 +56,9 @@ impl ReportContext {
                 .map(|list| {
                     list.iter()
                         .map(|s| match s {
-                            crate::search::Situation::InitialState(x) => format!("the free response from x₀ = {}", vector_text(x)),
+                            crate::search::Situation::InitialState(x) => {
+                                format!("the free response from x₀ = {}", vector_text(x))
+                            }
                             crate::search::Situation::ReferenceStep(r) => format!("the reference step r = {} (followed with feedforward)", vector_text(r)),
                         })
                         .collect()

@@ -112,6 +112,7 @@ form_fields! {
     reference => "reference" @ [Reference],
     reference_time => "reference step time" @ [ReferenceTime],
     disturbance => "load disturbance" @ [Disturbance],
+    disturbance_input => "disturbance input E" @ [PlantE],
     disturbance_time => "load step time" @ [DisturbanceTime],
     noise_std => "measurement noise" @ [NoiseStd],
     seed => "noise seed" @ [Seed],

@@ -529,8 +529,12 @@ pub(crate) fn structure_text(kind: Kind, st: Structure<'_>) -> StructureReport {
     let stable_hidden = hidden.iter().all(stable);
     let mut summary = if rank == states {
         match kind {
-            Kind::Controllability => format!("Controllable: every one of the {states} modes can be moved by feedback."),
-            Kind::Observability => format!("Observable: every one of the {states} modes is seen in the outputs."),
+            Kind::Controllability => {
+                format!("Controllable: every one of the {states} modes can be moved by feedback.")
+            }
+            Kind::Observability => {
+                format!("Observable: every one of the {states} modes is seen in the outputs.")
+            }
         }
     } else {
         let list = display::pole_list(hidden);
@@ -567,7 +571,9 @@ pub(crate) fn structure_text(kind: Kind, st: Structure<'_>) -> StructureReport {
             verdict: match m.verdict {
                 ModeVerdict::Yes => word.to_string(),
                 ModeVerdict::Weak => format!("{weak}: moving it needs large inputs"),
-                ModeVerdict::No if stable(&m.pole) => format!("not {word}; stable, so it stays where it is"),
+                ModeVerdict::No if stable(&m.pole) => {
+                    format!("not {word}; stable, so it stays where it is")
+                }
                 ModeVerdict::No => format!("not {word} and not stable"),
             },
         })
@@ -607,7 +613,13 @@ pub(crate) fn robustness_text(result: &DesignResult) -> String {
     // fragile-design warning is; the condition as the states are scaled is shown beside it.
     let k = f.balanced_eigenvector_condition;
     let raw = f.eigenvector_condition;
-    let fmt_cond = |k: f64| if k.is_finite() { fmt_num(k) } else { "infinite".into() };
+    let fmt_cond = |k: f64| {
+        if k.is_finite() {
+            fmt_num(k)
+        } else {
+            "infinite".into()
+        }
+    };
     let cond = fmt_cond(k);
     let verdict = if !k.is_finite() {
         "the closed-loop eigenvectors are dependent: the placement is extremely sensitive to model errors"
@@ -800,7 +812,9 @@ pub(crate) fn matched_pole_rows(result: &DesignResult, requested: &[Pair], achie
 /// the gain tables' headings and every copied text): with a computation delay the input
 /// applied during the sample is `u[k−1]`.
 pub(crate) fn observer_equations(result: &DesignResult) -> Vec<String> {
-    let Some(o) = result.observer.as_ref() else { return Vec::new() };
+    let Some(o) = result.observer.as_ref() else {
+        return Vec::new();
+    };
     let applied = if result.feedback.delay_gain.is_some() { "u[k−1]" } else { "u[k]" };
     match (result.sample_time.is_some(), o.form) {
         (false, _) => vec!["x̂′ = A x̂ + B u + L (y − C x̂ − D u)".into()],

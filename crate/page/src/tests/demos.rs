@@ -16,7 +16,13 @@ fn every_demo_designs_a_stable_closed_loop() {
         assert!(out.errors.is_empty(), "{}: {:?}", d.title, out.errors);
         assert_eq!(out.status, FormStatus::Designed, "{}: {:?}", d.title, out.design_error);
         let r = out.design.as_ref().unwrap();
-        let stable = |p: &[f64; 2]| if r.domain == crate::analysis::Domain::Discrete { p[0].hypot(p[1]) < 1.0 } else { p[0] < 0.0 };
+        let stable = |p: &[f64; 2]| {
+            if r.domain == crate::analysis::Domain::Discrete {
+                p[0].hypot(p[1]) < 1.0
+            } else {
+                p[0] < 0.0
+            }
+        };
         assert!(r.feedback.achieved_poles.iter().all(stable), "{}: {:?}", d.title, r.feedback.achieved_poles);
         assert!(r.feedback.max_pole_error < 1e-8, "{}: {}", d.title, r.feedback.max_pole_error);
         assert!(r.controllability.complete, "{}", d.title);
