@@ -24,3 +24,4 @@ pub mod search;
 pub mod sensitivity;
 pub mod simulate;
 pub mod uncertainty;
+pub mod zeros;

@@ -688,6 +688,10 @@ pub struct TrackingMetrics {
     pub settling_time: Option<f64>,
     /// Overshoot beyond the reference, fraction of the step.
     pub overshoot: f64,
+    /// Undershoot: the largest move the wrong way (against the step, from the value at the
+    /// step), fraction of the step; what a non-minimum-phase output does first. Moves below
+    /// 1e-9 of the step count as 0 (rounding).
+    pub undershoot: f64,
     /// `r − y` at the end of the run.
     pub steady_state_error: f64,
 }
@@ -710,7 +714,7 @@ fn tracking_metrics_in(t: &[f64], y: &[f64], t_ref: f64, r_final: f64, band: f64
     let step = r_final - y0;
     let last = y.last().copied().unwrap_or(0.0);
     if step == 0.0 || y.len() <= start + 1 {
-        return TrackingMetrics { rise_time: None, settling_time: None, overshoot: 0.0, steady_state_error: r_final - last };
+        return TrackingMetrics { rise_time: None, settling_time: None, overshoot: 0.0, undershoot: 0.0, steady_state_error: r_final - last };
     }
     let frac = |v: f64| (v - y0) / step;
     let t10 = (start..y.len()).find(|&i| frac(y[i]) >= 0.1).map(|i| t[i]);
@@ -727,7 +731,9 @@ fn tracking_metrics_in(t: &[f64], y: &[f64], t_ref: f64, r_final: f64, band: f64
         Some(i) => Some(t[i + 1] - t[start]),
     };
     let overshoot = (start..y.len()).map(|i| frac(y[i]) - 1.0).fold(0.0, f64::max);
-    TrackingMetrics { rise_time, settling_time, overshoot, steady_state_error: r_final - last }
+    let undershoot = (start..y.len()).map(|i| -frac(y[i])).fold(0.0, f64::max);
+    let undershoot = if undershoot < 1e-9 { 0.0 } else { undershoot };
+    TrackingMetrics { rise_time, settling_time, overshoot, undershoot, steady_state_error: r_final - last }
 }
 
 #[cfg(test)]

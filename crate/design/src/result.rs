@@ -28,6 +28,11 @@ pub struct DesignResult {
     pub convention: &'static str,
     pub plant: PlantSummary,
     pub open_loop_poles: Vec<Pair>,
+    /// The plant's zeros (`null` without outputs C, or when they could not be computed:
+    /// `zeros_unavailable` says why).
+    pub zeros: Option<ZerosResult>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub zeros_unavailable: Option<String>,
     pub feedback: FeedbackResult,
     pub controllability: StructureResult,
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -259,6 +264,18 @@ pub struct FrequencyResponse {
     pub complementary_sensitivity: Vec<f64>,
 }
 
+/// The plant's invariant (transmission) zeros from the inputs to the outputs C, in the
+/// design's domain (the sampled plant's zeros, sampling zeros included, for a digital design).
+#[derive(Debug, Clone, Serialize)]
+pub struct ZerosResult {
+    pub zeros: Vec<Pair>,
+    /// Per zero, `σ_min(S(z)) / ‖S(z)‖₂` of the system matrix (0 at an exact zero).
+    pub residuals: Vec<f64>,
+    /// A zero in the right half-plane (outside the unit circle for a digital design): the
+    /// response of an output first moves the wrong way, and feedback cannot move the zero.
+    pub non_minimum_phase: bool,
+}
+
 /// How sensitive each closed-loop pole of the loop as built is to model error.
 #[derive(Debug, Clone, Serialize)]
 pub struct PoleSensitivityResult {
@@ -353,6 +370,9 @@ pub struct OutputLoopMetrics {
     pub rise_time: Option<f64>,
     pub settling_time: Option<f64>,
     pub overshoot: f64,
+    /// The largest move the wrong way after the step, fraction of the step (a non-minimum-phase
+    /// output's dip).
+    pub undershoot: f64,
     pub steady_state_error: f64,
 }
 

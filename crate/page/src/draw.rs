@@ -37,6 +37,8 @@ pub mod colour {
     pub const PINNED: &str = "#8b4a6e";
     /// Poles of the sampled uncertain plants (dots).
     pub const UNCERTAIN: &str = "#6e6a9a";
+    /// A plant zero (○, smaller and darker than the teal ring of a requested pole).
+    pub const ZERO: &str = "#3b4752";
     /// Boundary of a specification's admissible region (dark amber).
     pub const REGION: &str = "#8a5a0c";
     /// Signal colours, in order.
@@ -328,6 +330,7 @@ fn marker_style(set: PoleSet) -> MarkerStyle {
         PoleSet::Requested => (8.5, 1.5, colour::REQUESTED),
         PoleSet::Pinned => (6.0, 2.0, colour::PINNED),
         PoleSet::Uncertain => (1.75, 0.0, colour::UNCERTAIN),
+        PoleSet::Zero => (4.5, 1.75, colour::ZERO),
     };
     MarkerStyle { half, width, stroke }
 }
@@ -360,7 +363,7 @@ fn marker(s: &mut DisplayList, set: PoleSet, c: [f64; 2]) {
             }
             s.path(d);
         }
-        PoleSet::Requested => {
+        PoleSet::Requested | PoleSet::Zero => {
             s.line_width(st.width);
             s.ops.push(DrawOp::StrokeCircle { centre: bounded_point(c), radius: h });
         }

@@ -122,6 +122,7 @@ mod ids {
     pub const GAIN_TEXT: &str = "pw-gain-text";
     pub const POLE_TABLE: &str = "pw-pole-table";
     pub const OPEN_LOOP: &str = "pw-open-loop";
+    pub const ZEROS: &str = "pw-zeros";
     pub const CONTROLLABILITY: &str = "pw-controllability";
     pub const OBSERVABILITY: &str = "pw-observability";
     pub const ROBUSTNESS: &str = "pw-robustness";

@@ -12,6 +12,7 @@ pub(crate) fn set_name(set: PoleSet) -> &'static str {
         PoleSet::Requested => "Requested pole",
         PoleSet::Pinned => "Pinned design's closed-loop pole",
         PoleSet::Uncertain => "Closed-loop pole of a sampled uncertain plant",
+        PoleSet::Zero => "Plant zero",
     }
 }
 

@@ -125,6 +125,9 @@ pub(crate) fn render_report(doc: &Document, page: &mut PageState, r: &Report, di
         let open = if discrete { "Open-loop poles (eigenvalues of Φ)" } else { "Open-loop poles (eigenvalues of A)" };
         set_text(doc, ids::OPEN_LOOP, &format!("{open}: {}.", r.open_loop))?;
     }
+    if !page.unchanged(ids::ZEROS, hash_of(&r.zeros)) {
+        set_text(doc, ids::ZEROS, &r.zeros)?;
+    }
 
     if !page.unchanged(ids::CONTROLLABILITY, hash_of(&r.controllability)) {
         fill(doc, ids::CONTROLLABILITY, &structure_block(doc, &r.controllability, "Controllability of each open-loop mode")?)?;
@@ -341,9 +344,12 @@ pub(crate) fn render_controller(doc: &Document, page: &mut PageState, c: Option<
             make_class(doc, "p", Some("No reference is tracked, so there are no step figures: choose feedforward or integral tracking to see rise and settling times."), "empty")?
         } else {
             let settling = format!("settling time ({}) after the step", c.settling_band);
-            let head = strings(&["tracked output", "reference step", "rise time (10–90 %)", &settling, "overshoot", "error at the end (r − y)"]);
-            let rows: Vec<Vec<String>> =
-                c.loop_outputs.iter().map(|o| vec![o.name.clone(), o.reference.clone(), o.rise_time.clone(), o.settling_time.clone(), o.overshoot.clone(), o.steady_state_error.clone()]).collect();
+            let head = strings(&["tracked output", "reference step", "rise time (10–90 %)", &settling, "overshoot", "undershoot (wrong way first)", "error at the end (r − y)"]);
+            let rows: Vec<Vec<String>> = c
+                .loop_outputs
+                .iter()
+                .map(|o| vec![o.name.clone(), o.reference.clone(), o.rise_time.clone(), o.settling_time.clone(), o.overshoot.clone(), o.undershoot.clone(), o.steady_state_error.clone()])
+                .collect();
             let t = table(doc, Some("Loop simulation: step figures of each tracked output"), &head, &rows, true, 1)?;
             t.set_id("pw-loop-metrics");
             t
@@ -404,6 +410,9 @@ pub(crate) fn pole_map_label(scene: &PoleMapScene) -> String {
         parts.push(format!("{} requested poles that could not be assigned", scene.not_assigned.len()));
     }
     parts.push(format!("{} open-loop poles", scene.open_loop.len()));
+    if !scene.zeros.is_empty() {
+        parts.push(format!("{} plant zeros", scene.zeros.len()));
+    }
     let plane = if scene.discrete { "Pole map in the z-plane with the unit circle" } else { "Pole map in the complex plane" };
     format!("{plane}: {}. Focus it and press N / P to read each pole, the arrow keys to move a requested one; the pole tables in Results list them all.", parts.join(", "))
 }
@@ -419,6 +428,9 @@ pub(crate) fn pole_legend(scene: &PoleMapScene) -> String {
     }
     if !scene.pinned.is_empty() {
         text.push_str("; + the pinned design's poles (plum)");
+    }
+    if !scene.zeros.is_empty() {
+        text.push_str("; ○ a zero of the plant, from the inputs to the outputs C (small dark ring; feedback does not move it)");
     }
     text.push_str(". ");
     if let Some(r) = &scene.region {

@@ -98,12 +98,15 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     warnings.extend(finite_precision.as_ref().and_then(warnings::precision_warning));
     warnings.extend(margins.as_ref().and_then(warnings::margin_warning));
     let t = s.t;
+    let zeros = plant_zeros(&s);
     let result = DesignResult {
         format: RESULT_FORMAT,
         version: RESULT_VERSION,
         convention: "u = -K x",
         plant: plant_summary(s.plant),
         open_loop_poles: analysis.open_loop.iter().map(|z| pair(*z)).collect(),
+        zeros: zeros.as_ref().ok().cloned().flatten(),
+        zeros_unavailable: zeros.err(),
         feedback: feedback_result(&dp, &g),
         controllability: structure(&analysis.ctrb),
         observability: analysis.obsv.as_ref().map(structure),
@@ -325,6 +328,24 @@ pub fn run_checked_continued(design: &CheckedDesign, previous: Option<&crate::Co
         }
         other => other,
     })
+}
+
+/// The plant's zeros in the design's domain; `Ok(None)` without outputs.
+fn plant_zeros(s: &setup::Setup) -> Result<Option<ZerosResult>, String> {
+    let Some(c) = s.plant.c() else { return Ok(None) };
+    let (_, d) = output_matrices(s.plant);
+    if s.ad.nrows() != c.ncols() {
+        return Err("the zeros are computed for the plant without its computation-delay states".into());
+    }
+    let z = crate::zeros::try_invariant_zeros(&s.ad, &s.bd, c, &d, crate::zeros::ZeroParams::default()).map_err(|e| e.to_string())?;
+    let unstable = |z: &Complex64| match s.domain {
+        crate::analysis::Domain::Discrete => z.norm() > 1.0,
+        crate::analysis::Domain::Continuous => z.re > 0.0,
+    };
+    let mut zeros = z.zeros.clone();
+    crate::linalg::eigen::sort_eigenvalues(&mut zeros);
+    let residuals = zeros.iter().map(|w| z.zeros.iter().position(|v| v == w).and_then(|i| z.residuals.get(i).copied()).unwrap_or(f64::NAN)).collect();
+    Ok(Some(ZerosResult { non_minimum_phase: zeros.iter().any(unstable), zeros: zeros.iter().map(|w| pair(*w)).collect(), residuals }))
 }
 
 /// The sample-rate advice in words, with the figures in the display format.

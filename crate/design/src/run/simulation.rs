@@ -332,6 +332,7 @@ fn tracked_metrics(s: &Setup, lr: &LoopResponse, reference: &[f64]) -> Vec<Outpu
                 rise_time: mtr.rise_time,
                 settling_time: mtr.settling_time,
                 overshoot: mtr.overshoot,
+                undershoot: mtr.undershoot,
                 steady_state_error: mtr.steady_state_error,
             }
         })

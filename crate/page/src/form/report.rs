@@ -84,6 +84,8 @@ pub struct LoopOutputRow {
     pub rise_time: String,
     pub settling_time: String,
     pub overshoot: String,
+    /// The largest move the wrong way, percent of the step (`0 %` for a minimum-phase output).
+    pub undershoot: String,
     pub steady_state_error: String,
 }
 
@@ -245,6 +247,8 @@ pub struct Report {
     pub gain: GainTable,
     pub poles: Vec<PoleRow>,
     pub open_loop: String,
+    /// The plant's zeros in a sentence (empty without outputs C).
+    pub zeros: String,
     pub controllability: StructureReport,
     pub observability: Option<StructureReport>,
     /// The eigenvector condition number and what it means.
@@ -761,6 +765,7 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
         gain: gain_table(result),
         poles: pole_rows(result),
         open_loop: display::pole_list(&open),
+        zeros: zeros_text(result),
         controllability: structure_result_text(&result.controllability, Kind::Controllability, discrete),
         observability: result.observability.as_ref().map(|o| structure_result_text(o, Kind::Observability, discrete)),
         robustness: robustness_text(result),
@@ -775,6 +780,30 @@ pub fn report_with(result: &DesignResult, context: &ReportContext) -> Report {
         controller,
         pole_choice,
     }
+}
+
+/// The plant's zeros in a sentence: the list, and what a zero in the unstable region means.
+pub fn zeros_text(result: &DesignResult) -> String {
+    if let Some(why) = &result.zeros_unavailable {
+        return format!("Plant zeros: not computed ({why}).");
+    }
+    let Some(z) = &result.zeros else { return String::new() };
+    let discrete = result.domain == crate::analysis::Domain::Discrete;
+    let (plane, region) = if discrete { ("z-plane, the sampled plant's", "outside the unit circle") } else { ("s-plane", "in the right half-plane") };
+    if z.zeros.is_empty() {
+        return format!("Plant zeros (from the inputs to the outputs C, {plane}): none.");
+    }
+    let mut list: Vec<Complex64> = z.zeros.iter().map(c64).collect();
+    sort_for_display(&mut list);
+    let unstable = list.iter().filter(|w| if discrete { w.norm() > 1.0 } else { w.re > 0.0 }).count();
+    let mut text = format!("Plant zeros (from the inputs to the outputs C, {plane}): {}.", display::pole_list(&list));
+    if z.non_minimum_phase {
+        text.push_str(&format!(
+            " {} {region}: the plant is non-minimum-phase — after a step an output first moves the wrong way (undershoot), and feedback cannot move such a zero; keep the closed-loop bandwidth well below it (common practice).",
+            plural(unstable, "zero", "zeros")
+        ));
+    }
+    text
 }
 
 /// `value unit`, or the value alone.
@@ -1053,6 +1082,7 @@ pub(crate) fn loop_parts(result: &DesignResult, context: &ReportContext) -> Loop
                 rise_time: tm.rise_time.map_or_else(|| "not reached".to_string(), |v| format!("{} s", fmt_num(v))),
                 settling_time: tm.settling_time.map_or_else(|| format!("not settled within ±{} %", fmt_num(band * 100.0)), |v| format!("{} s", fmt_num(v))),
                 overshoot: format!("{} %", fmt_num(tm.overshoot * 100.0)),
+                undershoot: format!("{} %", fmt_num(tm.undershoot * 100.0)),
                 steady_state_error: if step != 0.0 {
                     format!("{} ({} % of the step)", with_unit(fmt_num(tm.steady_state_error), u.as_ref()), fmt_num(100.0 * tm.steady_state_error / step))
                 } else {

@@ -84,6 +84,7 @@ pub fn pole_map_scene(result: &DesignResult) -> PoleMapScene {
         highlight: None,
         region: region_shape(result, (10.0 * largest).max(10.0)),
         uncertain: result.uncertainty.as_ref().map(|u| u.poles.clone()).unwrap_or_default(),
+        zeros: result.zeros.as_ref().map(|z| z.zeros.clone()).unwrap_or_default(),
         ..PoleMapScene::default()
     }
 }

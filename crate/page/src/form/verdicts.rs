@@ -31,6 +31,7 @@ fn verdict(text: String, bad: bool) -> Verdict {
 /// The verdict lines of a design, in reading order.
 pub fn verdicts(result: &DesignResult) -> Vec<Verdict> {
     let mut out = vec![decay_verdict(result), placement_verdict(result), controllability_verdict(result)];
+    out.extend(zeros_verdict(result));
     out.extend(input_verdict(result));
     out.push(margin_verdict(result));
     let warnings = result.warnings.len();
@@ -75,6 +76,14 @@ fn placement_verdict(result: &DesignResult) -> Verdict {
         format!("Poles placed to {} (largest error, relative); eigenvector condition κ = {}{missing}.", fmt_num(f.max_pole_error), fmt_num(f.balanced_eigenvector_condition)),
         inaccurate || fragile || !f.not_assigned.is_empty(),
     )
+}
+
+/// Only when a plant zero lies in the unstable region (the zeros are listed under Details).
+fn zeros_verdict(result: &DesignResult) -> Option<Verdict> {
+    let z = result.zeros.as_ref().filter(|z| z.non_minimum_phase)?;
+    let discrete = result.domain == Domain::Discrete;
+    let worst = z.zeros.iter().map(c64).filter(|w| if discrete { w.norm() > 1.0 } else { w.re > 0.0 }).min_by(|a, b| a.norm().total_cmp(&b.norm()))?;
+    Some(verdict(format!("Non-minimum-phase plant: a zero at {} (outputs first move the wrong way after a step).", crate::design::format::complex(worst)), true))
 }
 
 fn controllability_verdict(result: &DesignResult) -> Verdict {

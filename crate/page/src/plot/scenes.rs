@@ -45,6 +45,9 @@ pub struct PoleMapScene {
     /// Closed-loop poles of the sampled uncertain plants (small dots under everything; not
     /// pickable).
     pub uncertain: Vec<[f64; 2]>,
+    /// The plant's (transmission) zeros from the inputs to the outputs C: ○, the trade's
+    /// convention.
+    pub zeros: Vec<[f64; 2]>,
 }
 
 /// The boundary of an admissible pole region, for drawing: each polyline is a list of
@@ -56,6 +59,13 @@ pub struct RegionShape {
     pub boundaries: Vec<Vec<[f64; 2]>>,
     pub label: String,
 }
+
+/// Zeros farther out than this many times the largest pole are left out of the fitted view.
+pub const ZERO_VIEW_FACTOR: f64 = 10.0;
+
+/// Poles within this distance of z = 0 may be left out when the view is fitted to the poles
+/// (the page's readout calls them `z = 0` at the same distance).
+pub const POLE_MAP_ORIGIN: f64 = 1e-6;
 
 /// Which list of a [`PoleMapScene`] a marker belongs to.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -71,6 +81,8 @@ pub enum PoleSet {
     Pinned,
     /// A closed-loop pole of a sampled uncertain plant.
     Uncertain,
+    /// A zero of the plant (from the inputs to the outputs C).
+    Zero,
 }
 
 impl PoleSet {
@@ -84,6 +96,7 @@ impl PoleSet {
             PoleSet::Requested => "requested (drag)",
             PoleSet::Pinned => "pinned design",
             PoleSet::Uncertain => "uncertain plant (sample)",
+            PoleSet::Zero => "plant zero",
         }
     }
 }
@@ -109,11 +122,11 @@ pub struct PolePick {
 
 impl PoleMapScene {
     /// Field names, for front ends that must reject unknown keys themselves.
-    pub const FIELDS: &'static [&'static str] = &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view", "uncertain"];
+    pub const FIELDS: &'static [&'static str] = &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view", "uncertain", "zeros"];
 
     /// Every finite marker in keyboard order: editable requested poles, closed-loop poles,
-    /// observer poles, requested poles that could not be assigned, open-loop poles, then the
-    /// pinned design's poles; within each set by increasing real part, then decreasing
+    /// observer poles, requested poles that could not be assigned, open-loop poles, the plant's
+    /// zeros, then the pinned design's poles; within each set by increasing real part, then decreasing
     /// imaginary part. `index` is the position in the scene's own list.
     pub fn markers(&self) -> Vec<PolePick> {
         let mut out = Vec::new();
@@ -123,6 +136,7 @@ impl PoleMapScene {
             (PoleSet::Observer, &self.observer),
             (PoleSet::NotAssigned, &self.not_assigned),
             (PoleSet::OpenLoop, &self.open_loop),
+            (PoleSet::Zero, &self.zeros),
             (PoleSet::Pinned, &self.pinned),
         ] {
             let mut picks: Vec<PolePick> = pts.iter().enumerate().filter(|(_, p)| p[0].is_finite() && p[1].is_finite()).map(|(index, p)| PolePick { set, index, re: p[0], im: p[1] }).collect();
@@ -133,11 +147,12 @@ impl PoleMapScene {
     }
 
     /// The lists in drawing order (bottom first) with their set tag.
-    pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 7] {
+    pub fn layers(&self) -> [(PoleSet, &[[f64; 2]]); 8] {
         [
             (PoleSet::Uncertain, &self.uncertain),
             (PoleSet::Pinned, &self.pinned),
             (PoleSet::OpenLoop, &self.open_loop),
+            (PoleSet::Zero, &self.zeros),
             (PoleSet::NotAssigned, &self.not_assigned),
             (PoleSet::Observer, &self.observer),
             (PoleSet::ClosedLoop, &self.closed_loop),
@@ -157,11 +172,27 @@ impl PoleMapScene {
                 return Frame::new(outer, margins, re.with_min_span(upp * plot.width), im.with_min_span(upp * plot.height));
             }
         }
-        let all: Vec<[f64; 2]> = self.layers().iter().flat_map(|(_, pts)| pts.iter().copied()).collect();
+        let all = self.extent_points();
         if self.fit_poles && all.iter().any(|p| p[0].is_finite() && p[1].is_finite()) {
-            return Frame::complex_region(outer, margins, &all, POLE_MAP_PADDING);
+            // Fitting to the poles may leave out those at the origin of the z-plane (deadbeat
+            // and delay poles), which would otherwise pull the view to the origin.
+            let size = |p: &[f64; 2]| p[0].hypot(p[1]);
+            let away: Vec<[f64; 2]> = all.iter().copied().filter(|p| !(self.discrete && size(p) <= POLE_MAP_ORIGIN)).collect();
+            let fit = if away.iter().any(|p| p[0].is_finite() && p[1].is_finite()) { away } else { all };
+            return Frame::complex_region(outer, margins, &fit, POLE_MAP_PADDING);
         }
         Frame::complex_plane(outer, margins, &all, self.discrete, POLE_MAP_PADDING)
+    }
+
+    /// The points the view is fitted to: every layer, except zeros more than
+    /// [`ZERO_VIEW_FACTOR`] times farther out than the largest pole (a zero far out, from a small
+    /// feedthrough say, would squash every pole into a dot; the zeros table lists it).
+    fn extent_points(&self) -> Vec<[f64; 2]> {
+        let size = |p: &[f64; 2]| p[0].hypot(p[1]);
+        let poles = self.layers().iter().filter(|(set, _)| *set != PoleSet::Zero).flat_map(|(_, pts)| pts.iter().copied()).collect::<Vec<_>>();
+        let largest = poles.iter().map(size).filter(|r| r.is_finite()).fold(0.0f64, f64::max);
+        let near = self.zeros.iter().copied().filter(|z| largest == 0.0 || size(z) <= ZERO_VIEW_FACTOR * largest);
+        poles.iter().copied().chain(near).collect()
     }
 
     /// The legend's entries in order: the stable region, the admissible region's boundary

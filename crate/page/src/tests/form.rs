@@ -957,3 +957,31 @@ fn copied_rows(table: &MatrixTable) -> Vec<Vec<f64>> {
 fn shown_pole(text: &str) -> Complex64 {
     crate::poles::parse_pole_items(&text.replace('\u{2212}', "-").replace(' ', "")).unwrap()[0]
 }
+
+#[test]
+fn a_non_minimum_phase_plant_shows_its_zero_and_its_dip() {
+    // G(s) = (2 − s) / ((s + 1)(s + 3)) in controllable canonical form (by hand: zero at +2),
+    // feedforward tracking of a unit step: the output first moves the wrong way.
+    let f = FormInput { a: "0 1\n-3 -4".into(), b: "0\n1".into(), c: "2 -1".into(), poles: "-2±1j".into(), tracking: "feedforward".into(), reference: "1".into(), ..Default::default() };
+    let out = evaluate_form(&f);
+    assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+    let d = out.design.as_ref().unwrap();
+    let z = d.zeros.as_ref().unwrap();
+    assert_eq!(z.zeros.len(), 1);
+    assert!((z.zeros[0][0] - 2.0).abs() < 1e-12 && z.zeros[0][1] == 0.0, "{:?}", z.zeros);
+    assert!(z.non_minimum_phase);
+    let r = out.report.as_ref().unwrap();
+    assert!(r.zeros.contains("Plant zeros") && r.zeros.contains(": 2.") && r.zeros.contains("non-minimum-phase"), "{}", r.zeros);
+    assert!(r.verdicts.iter().any(|v| v.tone == VerdictTone::Attention && v.text.contains("zero at 2")), "{:?}", r.verdicts);
+    let dip = &r.controller.as_ref().unwrap().loop_outputs[0].undershoot;
+    let percent: f64 = dip.trim_end_matches(" %").parse().unwrap();
+    assert!(percent > 1.0, "{dip}");
+    assert_eq!(pole_map_scene(d).zeros, z.zeros);
+    // The mirror (2 + s): a zero at −2, no dip, no verdict line.
+    let g = FormInput { c: "2 1".into(), ..f };
+    let out = evaluate_form(&g);
+    let r = out.report.as_ref().unwrap();
+    assert!(!out.design.as_ref().unwrap().zeros.as_ref().unwrap().non_minimum_phase);
+    assert_eq!(r.controller.as_ref().unwrap().loop_outputs[0].undershoot, "0 %");
+    assert!(!r.verdicts.iter().any(|v| v.text.contains("Non-minimum")));
+}
