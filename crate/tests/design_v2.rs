@@ -441,3 +441,44 @@ fn a_load_enters_through_e_and_e_is_checked_against_the_plant() {
         other => panic!("{other:?}"),
     }
 }
+
+#[test]
+fn state_limits_are_reported_against_the_peaks() {
+    // Double integrator from x₀ = [1, 0] with poles −1, −2 (K = [2, 3]): the velocity is
+    // v(t) = −2 e^{−t} + 2 e^{−2t}, largest in magnitude at t = ln 2 where |v| = 0.5 (by hand).
+    let body = |limits: &str| format!(r#""plant": {{"a": [[0, 1], [0, 0]], "b": [[0], [1]], "state_names": ["position", "velocity"], "state_units": ["m", "m/s"], "state_limits": {limits}}}, "feedback": {{"poles": [-1, -2]}}, "simulation": {{"initial_state": [1, 0], "duration": 10}}"#);
+    let tight = design(&body("[null, 0.4]")).unwrap();
+    let peak = tight.simulation.peak_state[1];
+    assert!((peak - 0.5).abs() < 1e-4, "{peak}");
+    assert_eq!(tight.simulation.state_limit, [None, Some(0.4)]);
+    let w: Vec<&str> = tight.warnings.iter().filter(|w| w.code == polewright::warnings::WarningCode::StateOverLimit).map(|w| w.message.as_str()).collect();
+    assert_eq!(w.len(), 1, "{:?}", tight.warnings);
+    // The peak of the simulated samples: 0.5 to 1e-4, so 125 % of the limit to 0.02 %.
+    assert!(w[0].contains("velocity") && w[0].contains("0.4 m/s") && (w[0].contains("124.99 %") || w[0].contains("125 %")), "{}", w[0]);
+    let loose = design(&body(r#""none, 0.6""#)).unwrap();
+    assert!(loose.warnings.iter().all(|w| w.code != polewright::warnings::WarningCode::StateOverLimit));
+    // One limit per state, positive.
+    match design(&body("[1]")) {
+        Err(DesignError::Input(e)) => assert!(e.field.dotted() == "plant.state_limits" && e.message.contains("1 limit") && e.message.contains("2 states"), "{e}"),
+        other => panic!("{other:?}"),
+    }
+    match design(&body(r#""1, -2""#)) {
+        Err(DesignError::Input(e)) => assert!(e.field.dotted() == "plant.state_limits" && e.message.contains("state"), "{e}"),
+        other => panic!("{other:?}"),
+    }
+}
+
+#[test]
+fn the_loop_reports_peak_states_over_every_step() {
+    // With a loop scenario the peaks are taken on every simulation step: never below the peak of
+    // the plotted (decimated) samples, and a limit between the two is still caught.
+    let doc = r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]], "c": [[1, 0]], "state_limits": [null, 0.1]}, "feedback": {"poles": [-3, -4]}, "tracking": {"mode": "feedforward"}, "simulation": {"reference": [1], "duration": 6}"#;
+    let r = design(doc).unwrap();
+    let l = r.closed_loop.as_ref().unwrap();
+    assert_eq!(l.peak_states.len(), 2);
+    for (i, peak) in l.peak_states.iter().enumerate() {
+        let plotted = l.states[i].iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        assert!(*peak >= plotted && *peak <= plotted * 1.01 + 1e-12, "{peak} vs {plotted}");
+    }
+    assert!(r.warnings.iter().any(|w| w.code == polewright::warnings::WarningCode::LoopStateOverLimit && w.message.contains("In the loop simulation")), "{:?}", r.warnings);
+}

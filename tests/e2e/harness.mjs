@@ -182,7 +182,7 @@ export async function screenshot(page, name) {
 
 /** The form's field keys; the control for key k has the id `pw-k`. */
 export const FORM_FIELDS = [
-  'a', 'b', 'state_names', 'state_units', 'input_names', 'input_units',
+  'a', 'b', 'state_names', 'state_units', 'state_limits', 'input_names', 'input_units',
   'c', 'd', 'output_names', 'output_units',
   'poles', 'pole_source', 'pattern_family', 'pattern_normalisation', 'pattern_settling_time',
   'spec_overshoot', 'spec_settling_time', 'spec_rise_time', 'settling_band', 'lqr_max_state', 'lqr_max_input', 'search',
@@ -190,7 +190,7 @@ export const FORM_FIELDS = [
   'observer', 'observer_poles', 'observer_speed', 'observer_form',
   'tracking', 'tracked_outputs', 'integral_poles', 'anti_windup', 'anti_windup_time',
   'sample_time', 'computation_delay', 'delay_poles', 'plane',
-  'reference', 'reference_time', 'disturbance', 'disturbance_time', 'noise_std', 'seed',
+  'reference', 'reference_time', 'disturbance', 'disturbance_input', 'disturbance_time', 'noise_std', 'seed',
   'disk_skew', 'sensitivity_entry', 'uncertain_entries', 'uncertainty_samples', 'uncertainty_seed',
 ];
 

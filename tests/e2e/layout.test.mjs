@@ -8,7 +8,7 @@
 
 import { test, after, describe } from 'node:test';
 import assert from 'node:assert/strict';
-import { withPage, closeBrowser, pageFileUrl, requireBuiltPage, readGain } from './harness.mjs';
+import { withPage, closeBrowser, pageFileUrl, requireBuiltPage, readGain, design, tableRows } from './harness.mjs';
 
 requireBuiltPage();
 after(closeBrowser);
@@ -145,6 +145,33 @@ describe('readable numbers', () => {
         assert.ok(full.split(/\s+/).some((t) => /\d\.\d{8,}/.test(t)), full);
         await page.selectOption('#pw-digits', '5');
       }
+    }, { viewport: { width: 1280, height: 800 } });
+  });
+});
+
+describe('the plant as it really is', () => {
+  test('zeros on the map and in words, the dip, state limits, a load through E', async () => {
+    await withPage(pageFileUrl, async ({ page, pageErrors, consoleErrors }) => {
+      // G(s) = (2 − s) / ((s + 1)(s + 3)) (zero at +2, by hand) with feedforward tracking,
+      // a velocity limit and a load on the first state's rate through E (invented data).
+      const outcome = await design(page, {
+        a: '0 1\n-3 -4', b: '0\n1', c: '2 -1', poles: '-2±1j', tracking: 'feedforward', reference: '1',
+        state_names: 'x, v', state_limits: 'none, 0.05', disturbance: '0.2', disturbance_time: '3', disturbance_input: '1 0', duration: '8',
+      });
+      assert.equal(outcome, 'designed', await page.textContent('#pw-status'));
+      assert.match(await page.textContent('#pw-zeros'), /Plant zeros .*: 2\. 1 zero in the right half-plane: the plant is non-minimum-phase/);
+      assert.match(await page.textContent('#pw-verdicts'), /Non-minimum-phase plant: a zero at 2/);
+      assert.match(await page.getAttribute('#pw-pole-map', 'aria-label'), /1 plant zeros/);
+      assert.match(await page.textContent('#pw-pole-legend'), /a zero of the plant/);
+      const loop = await tableRows(page, 'pw-loop-table');
+      const dip = Number(loop[0][5].replace(' %', ''));
+      assert.ok(dip > 1, `undershoot ${loop[0][5]}`);
+      const states = await tableRows(page, 'pw-loop-state-table');
+      assert.equal(states.length, 2, JSON.stringify(states));
+      assert.match(states[1][2], /±0\.05: EXCEEDED/);
+      assert.match(await page.textContent('#pw-warnings'), /In the loop simulation, state 2 \(v\) reaches/);
+      assert.equal(await page.textContent('#pw-disturbance_input-size'), '2 × 1');
+      assert.deepEqual([...pageErrors, ...consoleErrors], []);
     }, { viewport: { width: 1280, height: 800 } });
   });
 });

@@ -239,24 +239,25 @@ fn non_negative(v: &Scalar, what: &str) -> Option<Result<f64, String>> {
     scalar(v, what).map(|r| r.and_then(|x| if x >= 0.0 { Ok(x) } else { Err(format!("{} must be zero or positive ({what})", full(x))) }))
 }
 
-fn positive_limit(k: usize, v: f64, token: &str) -> Result<Option<f64>, String> {
+fn positive_limit(k: usize, v: f64, token: &str, what: &str) -> Result<Option<f64>, String> {
     if v > 0.0 && v.is_finite() {
         Ok(Some(v))
     } else {
-        Err(format!("entry {k}: {token} must be a positive number (a limit is the largest magnitude the input can reach); write none for an input without a limit"))
+        Err(format!("entry {k}: {token} must be a positive number (a limit is the largest magnitude the {what} can reach); write none for {} {what} without a limit", if what.starts_with(['a', 'e', 'i', 'o', 'u']) { "an" } else { "a" }))
     }
 }
 
-/// Limits: positive numbers, `none` (text) or `null` (JSON) for an unlimited input.
-fn limits(v: &LimitList) -> Option<Result<Vec<Option<f64>>, String>> {
+/// Limits of inputs or of states (`what`): positive numbers, `none` (text) or `null` (JSON)
+/// for one without a limit.
+fn limits(v: &LimitList, what: &str) -> Option<Result<Vec<Option<f64>>, String>> {
     let text = match v {
-        LimitList::One(x) => return Some(positive_limit(1, *x, &full(*x)).map(|l| vec![l])),
-        LimitList::List(items) => return Some(items.iter().enumerate().map(|(i, x)| x.map_or(Ok(None), |x| positive_limit(i + 1, x, &full(x)))).collect()),
+        LimitList::One(x) => return Some(positive_limit(1, *x, &full(*x), what).map(|l| vec![l])),
+        LimitList::List(items) => return Some(items.iter().enumerate().map(|(i, x)| x.map_or(Ok(None), |x| positive_limit(i + 1, x, &full(x), what))).collect()),
         LimitList::Text(s) if blank(s) => return None,
         LimitList::Text(s) => s.trim_start_matches('\u{feff}').trim(),
     };
     if text.starts_with('[') {
-        return Some(parse_vector(text).map_err(|e| e.to_string()).and_then(|vals| vals.into_iter().enumerate().map(|(i, v)| positive_limit(i + 1, v, &full(v))).collect()));
+        return Some(parse_vector(text).map_err(|e| e.to_string()).and_then(|vals| vals.into_iter().enumerate().map(|(i, v)| positive_limit(i + 1, v, &full(v), what)).collect()));
     }
     let mut out = Vec::new();
     for (i, token) in text.split(|c: char| c == ',' || c.is_whitespace()).filter(|t| !t.is_empty()).enumerate() {
@@ -269,11 +270,14 @@ fn limits(v: &LimitList) -> Option<Result<Vec<Option<f64>>, String>> {
             _ => None,
         };
         match value {
-            Some(v) => match positive_limit(i + 1, v, token) {
+            Some(v) => match positive_limit(i + 1, v, token, what) {
                 Ok(l) => out.push(l),
                 Err(e) => return Some(Err(e)),
             },
-            None => return Some(Err(format!("entry {}: {token:?} is not a number; give a positive limit such as 60 (in the input's unit), or none for an input without a limit", i + 1))),
+            None => {
+                let article = if what.starts_with(['a', 'e', 'i', 'o', 'u']) { "an" } else { "a" };
+                return Some(Err(format!("entry {}: {token:?} is not a number; give a positive limit such as 60 (in the {what}'s unit), or none for {article} {what} without a limit", i + 1)));
+            }
         }
     }
     Some(Ok(out))
@@ -334,9 +338,9 @@ pub fn check(spec: &DesignSpec) -> CheckReport {
     robustness_rules::robustness(spec, plant.as_ref(), &mut controller, &mut c);
     let poles = pole_rules::pole_source(spec, plant.as_ref(), &basics, &mut controller, &mut c);
     let design = match (plant, basics, poles) {
-        (Some(plant), b, Some(setup)) if c.errors.is_empty() => match (b.limits, b.initial_state, b.duration, b.band) {
-            (Some(limits), Some(initial_state), Some(duration), Some(band)) => {
-                let request = DesignRequest { plant, poles: setup.poles, limits, initial_state, duration, band };
+        (Some(plant), b, Some(setup)) if c.errors.is_empty() => match (b.limits, b.state_limits, b.initial_state, b.duration, b.band) {
+            (Some(limits), Some(state_limits), Some(initial_state), Some(duration), Some(band)) => {
+                let request = DesignRequest { plant, poles: setup.poles, limits, state_limits, initial_state, duration, band };
                 controller_rules::loop_length(&request, &controller, &mut c);
                 Some(CheckedDesign { request, controller, source: setup.source, lqr_inputs_from_limits: setup.lqr_inputs_from_limits, search_notes: setup.search_notes })
             }
@@ -351,6 +355,7 @@ pub fn check(spec: &DesignSpec) -> CheckReport {
 /// What the other sections gave, for the rules that join them.
 struct Basics {
     limits: Option<Vec<Option<f64>>>,
+    state_limits: Option<Vec<Option<f64>>>,
     initial_state: Option<Option<Vec<f64>>>,
     duration: Option<Option<f64>>,
     band: Option<f64>,
@@ -375,7 +380,7 @@ struct PoleSetup {
 pub fn canonical(spec: &DesignSpec) -> DesignSpec {
     let mut out = spec.clone();
     let p = &mut out.plant;
-    for m in [&mut p.a, &mut p.b, &mut p.c, &mut p.d].into_iter().flatten() {
+    for m in [&mut p.a, &mut p.b, &mut p.c, &mut p.d, &mut p.e].into_iter().flatten() {
         *m = canonical_matrix(m);
     }
     for n in [&mut p.state_names, &mut p.state_units, &mut p.input_names, &mut p.input_units, &mut p.output_names, &mut p.output_units].into_iter().flatten() {
@@ -405,7 +410,12 @@ pub fn canonical(spec: &DesignSpec) -> DesignSpec {
         }
     }
     if let Some(Some(l)) = out.actuators.as_mut().map(|a| &mut a.limit) {
-        if let Some(Ok(v)) = limits(l) {
+        if let Some(Ok(v)) = limits(l, "input") {
+            *l = LimitList::List(v);
+        }
+    }
+    if let Some(l) = out.plant.state_limits.as_mut() {
+        if let Some(Ok(v)) = limits(l, "state") {
             *l = LimitList::List(v);
         }
     }

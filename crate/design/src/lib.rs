@@ -125,6 +125,8 @@ pub struct DesignRequest {
     pub poles: Vec<Complex64>,
     /// Per-input limits; empty = none given.
     pub limits: Vec<Option<f64>>,
+    /// Per-state limits (reported against the peaks, not enforced); empty = none given.
+    pub state_limits: Vec<Option<f64>>,
     /// `None`: a unit deviation of the first state.
     pub initial_state: Option<Vec<f64>>,
     pub duration: Option<f64>,

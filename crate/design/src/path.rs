@@ -57,6 +57,7 @@ field_paths! {
     PlantE => "plant.e",
     PlantStateNames => "plant.state_names",
     PlantStateUnits => "plant.state_units",
+    PlantStateLimits => "plant.state_limits",
     PlantInputNames => "plant.input_names",
     PlantInputUnits => "plant.input_units",
     PlantOutputNames => "plant.output_names",

@@ -400,6 +400,9 @@ pub struct LoopResult {
     pub commanded: Vec<Vec<f64>>,
     pub tracked: Vec<OutputLoopMetrics>,
     pub input_metrics: Vec<InputLoopMetrics>,
+    /// Per state, its largest magnitude over the whole loop simulation (every step, not only
+    /// the plotted ones); compared with `simulation.state_limit`.
+    pub peak_states: Vec<f64>,
     /// Eigenvalues of the linear closed loop with observer (when computed).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub loop_poles: Option<Vec<Pair>>,
@@ -496,6 +499,8 @@ pub struct SimulationResult {
     /// Per state, fraction of the initial value; `null` for states starting at zero.
     pub overshoot: Vec<Option<f64>>,
     pub peak_state: Vec<f64>,
+    /// Per state, its limit (`plant.state_limits`; `null`: none); empty when none was given.
+    pub state_limit: Vec<Option<f64>>,
     /// Per input, peak of the commanded `|−K x|`.
     pub peak_input: Vec<f64>,
     pub input_limit: Vec<Option<f64>>,

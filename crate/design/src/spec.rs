@@ -113,6 +113,12 @@ pub struct PlantDoc {
     pub state_names: Option<NameList>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub state_units: Option<NameList>,
+    /// The largest magnitude each state may reach (an armature current, a stroke), one per
+    /// state, `none` (text) or `null` (JSON) for a state without a limit: the simulations report
+    /// each state's peak against it and warn when it is exceeded (the controller does not
+    /// enforce it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub state_limits: Option<LimitList>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub input_names: Option<NameList>,
     #[serde(default, skip_serializing_if = "Option::is_none")]

@@ -21,6 +21,8 @@
 //! | `observer-inaccurate` | danger | the observer poles are achieved to worse than 1e-6 (relative) |
 //! | `fragile-observer` | caution | the observer's eigenvector condition number is above 1e4 |
 //! | `loop-input-over-limit` | caution | in the loop simulation an input is commanded beyond its limit (and saturates) |
+//! | `state-over-limit` | caution | in the free response a state's peak exceeds its limit (`plant.state_limits`) |
+//! | `loop-state-over-limit` | caution | in the loop simulation a state's peak exceeds its limit |
 //! | `observer-slow` | caution | the observer speed factor is below 2 (common practice: 2–6) |
 //! | `observer-fast` | caution | the observer speed factor is above 6: more measurement noise reaches the inputs |
 //! | `loop-not-settled` | caution | a tracked output does not settle before the loop simulation ends or the load step comes |
@@ -97,6 +99,10 @@ pub enum WarningCode {
     WeaklyObservable,
     /// The staircase and PBH tests disagree (borderline controllability).
     AnalysisInconsistent,
+    /// A state's peak in the free response exceeds its limit.
+    StateOverLimit,
+    /// A state's peak in the loop simulation exceeds its limit.
+    LoopStateOverLimit,
     /// The commanded input from the initial state exceeds its actuator limit.
     InputOverLimit,
     /// A state has not settled within the simulated horizon.
@@ -149,7 +155,7 @@ pub enum WarningCode {
 
 impl WarningCode {
     /// Every code, in the table's order.
-    pub const ALL: [WarningCode; 35] = [
+    pub const ALL: [WarningCode; 37] = [
         WarningCode::RequestedPoleUnstable,
         WarningCode::RequestedPoleOnAxis,
         WarningCode::FastPole,
@@ -168,6 +174,8 @@ impl WarningCode {
         WarningCode::ObserverInaccurate,
         WarningCode::FragileObserver,
         WarningCode::LoopInputOverLimit,
+        WarningCode::StateOverLimit,
+        WarningCode::LoopStateOverLimit,
         WarningCode::ObserverSlow,
         WarningCode::ObserverFast,
         WarningCode::LoopNotSettled,
@@ -208,6 +216,8 @@ impl WarningCode {
             WarningCode::ObserverInaccurate => "observer-inaccurate",
             WarningCode::FragileObserver => "fragile-observer",
             WarningCode::LoopInputOverLimit => "loop-input-over-limit",
+            WarningCode::StateOverLimit => "state-over-limit",
+            WarningCode::LoopStateOverLimit => "loop-state-over-limit",
             WarningCode::ObserverSlow => "observer-slow",
             WarningCode::ObserverFast => "observer-fast",
             WarningCode::LoopNotSettled => "loop-not-settled",
@@ -249,6 +259,8 @@ impl WarningCode {
             | WarningCode::SampleRateTooSlow
             | WarningCode::FragileObserver
             | WarningCode::LoopInputOverLimit
+            | WarningCode::StateOverLimit
+            | WarningCode::LoopStateOverLimit
             | WarningCode::ObserverSlow
             | WarningCode::ObserverFast
             | WarningCode::LoopNotSettled

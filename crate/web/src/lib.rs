@@ -163,6 +163,7 @@ mod ids {
     pub const LOOP_TABLE: &str = "pw-loop-table";
     pub const LOOP_INPUT_PLOT: &str = "pw-loop-input-plot";
     pub const LOOP_INPUT_TABLE: &str = "pw-loop-input-table";
+    pub const LOOP_STATE_TABLE: &str = "pw-loop-state-table";
     pub const ESTIMATION: &str = "pw-estimation";
     pub const ESTIMATION_PLOT: &str = "pw-estimation-plot";
     pub const ESTIMATION_TABLE: &str = "pw-estimation-table";

@@ -174,8 +174,8 @@ pub(crate) fn render_report(doc: &Document, page: &mut PageState, r: &Report, di
 
     // Response figures.
     if !page.unchanged(ids::STATE_TABLE, hash_of(&r.states)) {
-        let head = strings(&["state", "initial value", "peak |value|", "settling time", "overshoot past zero"]);
-        let rows: Vec<Vec<String>> = r.states.iter().map(|s| vec![s.name.clone(), s.initial.clone(), s.peak.clone(), s.settling.clone(), s.overshoot.clone()]).collect();
+        let head = strings(&["state", "initial value", "peak |value|", "settling time", "overshoot past zero", "limit (plant.state_limits)"]);
+        let rows: Vec<Vec<String>> = r.states.iter().map(|s| vec![s.name.clone(), s.initial.clone(), s.peak.clone(), s.settling.clone(), s.overshoot.clone(), s.limit.clone()]).collect();
         page.show_table(doc, ids::STATE_TABLE, None, "States: settling time and overshoot", &head, &rows, true, 1)?;
     }
     if !page.unchanged(ids::INPUT_TABLE, hash_of(&r.inputs)) {
@@ -358,6 +358,9 @@ pub(crate) fn render_controller(doc: &Document, page: &mut PageState, c: Option<
         let head = strings(&["input", "peak commanded |u|", "limit", "time saturated"]);
         let rows: Vec<Vec<String>> = c.loop_inputs.iter().map(|i| vec![i.name.clone(), i.peak.clone(), i.limit.clone(), i.saturated.clone()]).collect();
         fill(doc, ids::LOOP_INPUT_TABLE, &[table(doc, Some("Loop simulation: each input's peak command against its limit"), &head, &rows, true, 1)?])?;
+        let head = strings(&["state", "peak |x| over the run", "limit"]);
+        let rows: Vec<Vec<String>> = c.loop_states.iter().map(|s| vec![s.name.clone(), s.peak.clone(), s.limit.clone()]).collect();
+        fill(doc, ids::LOOP_STATE_TABLE, &[table(doc, Some("Loop simulation: each state's peak (every step) against its limit"), &head, &rows, true, 1)?])?;
         set_hidden_id(doc, ids::ESTIMATION, c.estimation.is_empty())?;
         if !c.estimation.is_empty() {
             let head = strings(&["state", "peak |x − x̂|", "|x − x̂| at the end"]);

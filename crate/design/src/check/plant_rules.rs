@@ -139,12 +139,19 @@ pub(super) fn plant(spec: &DesignSpec, c: &mut Checker) -> Option<Plant> {
 /// Actuator limits, initial state, duration and settling band.
 pub(super) fn basics(spec: &DesignSpec, plant: Option<&Plant>, c: &mut Checker) -> Basics {
     let sim = spec.simulation.as_ref();
-    let limits = match spec.actuators.as_ref().and_then(|a| a.limit.as_ref()).and_then(limits) {
+    let limits = match spec.actuators.as_ref().and_then(|a| a.limit.as_ref()).and_then(|l| limits(l, "input")) {
         None => Some(Vec::new()),
         Some(r) => c.take(P::ActuatorLimits, r),
     };
     if let Some(l) = limits.as_ref().filter(|l| !l.is_empty()) {
         c.size(P::ActuatorLimits, plural(l.len(), "limit", "limits"));
+    }
+    let state_limits = match spec.plant.state_limits.as_ref().and_then(|l| super::limits(l, "state")) {
+        None => Some(Vec::new()),
+        Some(r) => c.take(P::PlantStateLimits, r),
+    };
+    if let Some(l) = state_limits.as_ref().filter(|l| !l.is_empty()) {
+        c.size(P::PlantStateLimits, plural(l.len(), "limit", "limits"));
     }
     let initial_state = match sim.and_then(|s| s.initial_state.as_ref()).and_then(vector) {
         None => Some(None),
@@ -180,6 +187,9 @@ pub(super) fn basics(spec: &DesignSpec, plant: Option<&Plant>, c: &mut Checker) 
                 ),
             );
         }
+        if let Some(l) = state_limits.as_ref().filter(|l| !l.is_empty() && l.len() != n) {
+            c.push(P::PlantStateLimits, format!("{} given but the plant has {}; give one limit per state in the order of the rows of A (none for a state without a limit), or leave this out", plural(l.len(), "limit", "limits"), plural(n, "state", "states")));
+        }
         if let Some(Some(x)) = initial_state.as_ref().filter(|x| x.as_ref().is_some_and(|x| x.len() != n)) {
             c.push(
                 P::InitialState,
@@ -196,5 +206,5 @@ pub(super) fn basics(spec: &DesignSpec, plant: Option<&Plant>, c: &mut Checker) 
         }
     }
     let _ = blank;
-    Basics { limits, initial_state, duration, band }
+    Basics { limits, state_limits, initial_state, duration, band }
 }

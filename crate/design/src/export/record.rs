@@ -100,6 +100,12 @@ fn checks(result: &DesignResult) -> Vec<(String, String, String)> {
         if f.balanced_eigenvector_condition <= 1e4 { "below 1e4" } else { "fragile: see warnings" }.into(),
     ));
     rows.push(("Independent stability verdict (eigenvalues and Lyapunov equation of the closed loop)".into(), "passed".into(), "stable".into()));
+    if let Some(z) = &result.zeros {
+        let zeros: Vec<String> = z.zeros.iter().map(|p| crate::format::complex(num_complex::Complex64::new(p[0], p[1]))).collect();
+        let figure = if zeros.is_empty() { "none".to_string() } else { zeros.join(", ") };
+        rows.push(("Plant zeros, inputs to outputs C (rank drop of the system matrix)".into(), figure, if z.non_minimum_phase { "non-minimum-phase: see report" } else { "minimum-phase" }.into()));
+    }
+    rows.extend(state_limit_row(result));
     if let Some(l) = &result.lqr {
         rows.push(("Riccati equation, normalised residual".into(), fmt_num(l.residual), if l.residual <= 1e-10 { "accurate" } else { "see warnings" }.into()));
     }
@@ -362,4 +368,14 @@ fn sample_rate_words(v: crate::controller::SampleRateVerdict) -> &'static str {
         V::Fast => "fast (more than 30)",
         V::Deadbeat => "deadbeat (rule does not apply)",
     }
+}
+
+/// The state nearest its limit, over the loop simulation when there is one.
+fn state_limit_row(result: &DesignResult) -> Option<(String, String, String)> {
+    let limits = &result.simulation.state_limit;
+    let peaks = result.closed_loop.as_ref().map_or(&result.simulation.peak_state, |l| &l.peak_states);
+    let (i, ratio) = limits.iter().zip(peaks).enumerate().filter_map(|(i, (l, p))| l.map(|l| (i, p / l))).max_by(|a, b| a.1.total_cmp(&b.1))?;
+    let name = result.plant.state_names.get(i).cloned().unwrap_or_default();
+    let situation = if result.closed_loop.is_some() { "loop simulation" } else { "free response" };
+    Some((format!("State limits ({situation})"), format!("largest: {name} at {} % of its limit", fmt_num(100.0 * ratio)), if ratio <= 1.0 { "within the limits" } else { "EXCEEDED: see warnings" }.into()))
 }

@@ -196,6 +196,10 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
             ));
         }
     }
+    let peak_state: Vec<f64> = resp.states.iter().map(|x| metrics::peak_magnitude(x)).collect();
+    if judged {
+        warnings.extend(state_limit_warnings(s, &peak_state, WarningCode::StateOverLimit, "From this initial state"));
+    }
     if resp.diverged {
         warnings.push(Warning::new(WarningCode::SimulationDiverged, "The simulated closed loop grew without bound and the run was stopped."));
     } else {
@@ -220,7 +224,8 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
         inputs: resp.inputs.iter().map(|u| decimate(u, stride)).collect(),
         settling_time: settling,
         overshoot: resp.states.iter().map(|x| metrics::overshoot(x)).collect(),
-        peak_state: resp.states.iter().map(|x| metrics::peak_magnitude(x)).collect(),
+        peak_state,
+        state_limit: s.req.state_limits.clone(),
         peak_input,
         input_limit: h.limits.clone(),
         first_saturation: first_sat,
@@ -295,6 +300,8 @@ pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<W
     })?;
     let tracked = tracked_metrics(s, &lr, &reference);
     let input_metrics = input_metrics(s, &lr, h, warnings);
+    let peak_states: Vec<f64> = lr.states.iter().map(|x| metrics::peak_magnitude(x)).collect();
+    warnings.extend(state_limit_warnings(s, &peak_states, WarningCode::LoopStateOverLimit, "In the loop simulation"));
     let (loop_poles, separation_error) = separation(s, g);
     let stride = stride_for(lr.time.len());
     let dec = |v: &Vec<Vec<f64>>| v.iter().map(|x| decimate(x, stride)).collect::<Vec<_>>();
@@ -313,6 +320,7 @@ pub(super) fn whole_loop(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Vec<W
         commanded: dec(&lr.commanded),
         tracked,
         input_metrics,
+        peak_states,
         loop_poles,
         separation_error,
     }))
@@ -335,6 +343,33 @@ fn tracked_metrics(s: &Setup, lr: &LoopResponse, reference: &[f64]) -> Vec<Outpu
                 undershoot: mtr.undershoot,
                 steady_state_error: mtr.steady_state_error,
             }
+        })
+        .collect()
+}
+
+/// A warning per state whose peak exceeds its limit (`plant.state_limits`).
+fn state_limit_warnings(s: &Setup, peaks: &[f64], code: WarningCode, situation: &str) -> Vec<Warning> {
+    let names = s.plant.state_names();
+    let units = s.plant.state_units();
+    s.req
+        .state_limits
+        .iter()
+        .zip(peaks)
+        .enumerate()
+        .filter_map(|(i, (limit, peak))| limit.filter(|l| peak > l).map(|l| (i, l, *peak)))
+        .map(|(i, l, peak)| {
+            let unit = units.get(i).map(|u| u.trim()).filter(|u| !u.is_empty()).map(|u| format!(" {u}")).unwrap_or_default();
+            Warning::new(
+                code,
+                format!(
+                    "{situation}, state {} ({}) reaches {}{unit}, beyond its limit of {}{unit} ({} % of it): slow the poles down, reduce the step or the initial deviation, or check that the limit is protected independently of this controller.",
+                    i + 1,
+                    names.get(i).map_or("", String::as_str),
+                    fmt_num(peak),
+                    fmt_num(l),
+                    fmt_num(100.0 * peak / l)
+                ),
+            )
         })
         .collect()
 }

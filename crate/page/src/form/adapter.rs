@@ -64,6 +64,7 @@ pub fn spec_from_form(form: &FormInput) -> Result<DesignSpec, Vec<FieldError>> {
         c: opt(&text("c")).map(MatrixValue::Text),
         d: opt(&text("d")).map(MatrixValue::Text),
         e: opt(&text("disturbance_input")).map(MatrixValue::Text),
+        state_limits: opt(&text("state_limits")).map(LimitList::Text),
         state_names: names("state_names"),
         state_units: names("state_units"),
         input_names: names("input_names"),
@@ -374,13 +375,17 @@ fn feedback_fields(spec: &DesignSpec, f: &mut FormInput) {
     f.set("search", if spec.search.is_some() { "true" } else { "false" });
 }
 
-fn controller_fields(spec: &DesignSpec, f: &mut FormInput) {
-    let limits = spec.actuators.as_ref().and_then(|a| a.limit.as_ref()).map(|l| match l {
+fn limit_text(l: &LimitList) -> String {
+    match l {
         LimitList::Text(s) => s.clone(),
         LimitList::One(x) => num(*x),
         LimitList::List(items) => items.iter().map(|v| v.map_or("none".to_string(), num)).collect::<Vec<_>>().join(", "),
-    });
-    f.set("limits", limits.unwrap_or_default());
+    }
+}
+
+fn controller_fields(spec: &DesignSpec, f: &mut FormInput) {
+    f.set("limits", spec.actuators.as_ref().and_then(|a| a.limit.as_ref()).map(limit_text).unwrap_or_default());
+    f.set("state_limits", spec.plant.state_limits.as_ref().map(limit_text).unwrap_or_default());
     let sim = spec.simulation.clone().unwrap_or_default();
     f.set("initial_state", sim.initial_state.as_ref().map(numbers_text).unwrap_or_default());
     f.set("duration", sim.duration.as_ref().map(scalar_text).unwrap_or_default());

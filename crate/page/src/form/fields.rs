@@ -75,6 +75,7 @@ form_fields! {
     b => "B" @ [PlantB],
     state_names => "state names" @ [PlantStateNames],
     state_units => "state units" @ [PlantStateUnits],
+    state_limits => "state limits" @ [PlantStateLimits],
     input_names => "input names" @ [PlantInputNames],
     input_units => "input units" @ [PlantInputUnits],
     c => "C" @ [PlantC],

@@ -33,6 +33,7 @@ pub fn verdicts(result: &DesignResult) -> Vec<Verdict> {
     let mut out = vec![decay_verdict(result), placement_verdict(result), controllability_verdict(result)];
     out.extend(zeros_verdict(result));
     out.extend(input_verdict(result));
+    out.extend(state_verdict(result));
     out.push(margin_verdict(result));
     let warnings = result.warnings.len();
     out.push(match warnings {
@@ -117,6 +118,19 @@ fn input_verdict(result: &DesignResult) -> Option<Verdict> {
         None if peaks.is_empty() => None,
         None => Some(verdict(format!("No input limits given; peak inputs in the {source} are in the table below."), false)),
     }
+}
+
+/// The state nearest its limit (`plant.state_limits`), over the loop simulation when there is
+/// one, else the free response; nothing without limits.
+fn state_verdict(result: &DesignResult) -> Option<Verdict> {
+    let limits = &result.simulation.state_limit;
+    let peaks = result.closed_loop.as_ref().map_or(&result.simulation.peak_state, |l| &l.peak_states);
+    let source = if result.closed_loop.is_some() { "loop simulation" } else { "free response" };
+    let (i, ratio) = limits.iter().zip(peaks).enumerate().filter_map(|(i, (l, p))| l.filter(|l| *l > 0.0).map(|l| (i, p / l))).max_by(|a, b| a.1.total_cmp(&b.1))?;
+    let p = &result.plant;
+    let name = label(p.state_names.get(i).map_or("state", String::as_str), p.state_units.get(i));
+    let over = ratio > 1.0;
+    Some(verdict(format!("Peak state {} % {}: {name} ({source}).", fmt_num(100.0 * ratio), if over { "over its limit" } else { "of its limit" }), over))
 }
 
 fn margin_verdict(result: &DesignResult) -> Verdict {
