@@ -482,3 +482,39 @@ fn the_loop_reports_peak_states_over_every_step() {
     }
     assert!(r.warnings.iter().any(|w| w.code == polewright::warnings::WarningCode::LoopStateOverLimit && w.message.contains("In the loop simulation")), "{:?}", r.warnings);
 }
+
+#[test]
+fn two_degrees_of_freedom_rise_at_once_and_still_reject_a_load() {
+    // An invented position servo x'' = −20 x' + 500 u with poles −150 ± 150j and the integrator
+    // at −150. With integral action alone the reference reaches the plant only through the
+    // integrator; fed forward as well it acts at once. Both end without error after a load
+    // (the internal-model principle, common practice); feedforward alone does not.
+    let run = |tracking: &str| {
+        let doc = format!(
+            r#""plant": {{"a": [[0, 1], [0, -20]], "b": [[0], [500]], "c": [[1, 0]]}}, "feedback": {{"poles": ["-150+150j", "-150-150j"{}]}}, "tracking": {tracking}, "simulation": {{"reference": [1], "disturbance": [0.2], "disturbance_time": 0.15, "duration": 0.3}}"#,
+            if tracking.contains("integral") { ", -150" } else { "" }
+        );
+        design(&doc).unwrap()
+    };
+    let integral = run(r#"{"mode": "integral"}"#);
+    let two_dof = run(r#"{"mode": "integral", "feedforward": true}"#);
+    let feedforward = run(r#"{"mode": "feedforward"}"#);
+    let metric = |r: &DesignResult| r.closed_loop.as_ref().unwrap().tracked[0].clone();
+    let (i, t, f) = (metric(&integral), metric(&two_dof), metric(&feedforward));
+    let (ri, rt) = (i.rise_time.unwrap(), t.rise_time.unwrap());
+    assert!(rt < 0.7 * ri, "two degrees of freedom rise in {rt} s, integral alone in {ri} s");
+    assert!(i.steady_state_error.abs() < 1e-6 && t.steady_state_error.abs() < 1e-6, "{} {}", i.steady_state_error, t.steady_state_error);
+    assert!(f.steady_state_error.abs() > 1e-4, "feedforward alone keeps an offset under a load: {}", f.steady_state_error);
+    // The same integrator gain: feedforward changes the reference path, not the loop.
+    let ki = |r: &DesignResult| match r.tracking.as_ref().unwrap() {
+        polewright::design::TrackingResult::Integral { integral_gain, nx, .. } => (integral_gain.clone(), nx.is_some()),
+        other => panic!("{other:?}"),
+    };
+    assert_eq!(ki(&integral).0, ki(&two_dof).0);
+    assert_eq!((ki(&integral).1, ki(&two_dof).1), (false, true));
+    // Feedforward with integral action needs the integral mode.
+    match design(r#""plant": {"a": [[0, 1], [0, -20]], "b": [[0], [500]], "c": [[1, 0]]}, "feedback": {"poles": [-3, -4]}, "tracking": {"mode": "feedforward", "feedforward": true}"#) {
+        Err(DesignError::Input(e)) => assert_eq!(e.field.dotted(), "tracking.feedforward", "{e}"),
+        other => panic!("{other:?}"),
+    }
+}

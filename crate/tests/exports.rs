@@ -202,12 +202,20 @@ const DELAY_CURRENT: &str = r#"{"format": "polewright.design", "version": 3, "ti
   "observer": {"speed_factor": 3, "form": "current"}, "tracking": {"mode": "feedforward"},
   "actuators": {"limit": [5]}, "simulation": {"reference": [0.5], "reference_time": 0.1, "disturbance": [0.3], "disturbance_time": 2}}"#;
 
+/// Integral action with the reference also fed forward (two degrees of freedom), a
+/// computation delay and a saturating input (invented data).
+const TWO_DOF: &str = r#"{"format": "polewright.design", "version": 3, "title": "two degrees of freedom",
+  "plant": {"a": [[0, 1], [-4, -0.4]], "b": [[0], [2]], "c": [[1, 0]]},
+  "feedback": {"poles": ["-3±3j", -4]}, "implementation": {"sample_time": 0.02, "computation_delay": true},
+  "observer": {"speed_factor": 3}, "tracking": {"mode": "integral", "feedforward": true},
+  "actuators": {"limit": [5]}, "simulation": {"reference": [0.5], "reference_time": 0.1, "disturbance": [0.3], "disturbance_time": 2}}"#;
+
 #[test]
 fn c_export_compiles_prints_the_design_and_reproduces_the_simulation() {
     let belt = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples/belt-axis-digital.json")).unwrap();
     // The belt axis saturates: a 60 N limit on a 10 mm step with integral action and clamping.
     let saturating = belt.replace("\"limit\": [60]", "\"limit\": [0.5]");
-    for (tag, doc, digital) in [("continuous", CONTINUOUS, false), ("delay-current", DELAY_CURRENT, true), ("integral-saturating", saturating.as_str(), true)] {
+    for (tag, doc, digital) in [("continuous", CONTINUOUS, false), ("delay-current", DELAY_CURRENT, true), ("integral-saturating", saturating.as_str(), true), ("two-degrees-of-freedom", TWO_DOF, true)] {
         for precision in [Precision::Double, Precision::Float] {
             let label = format!("{tag}/{precision:?}");
             let run = compile_and_run(doc, precision, &label);

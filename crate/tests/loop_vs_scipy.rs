@@ -57,7 +57,7 @@ fn build(case: &Value) -> Case {
     };
     let tracking = match case["tracking"].as_str() {
         Some("feedforward") => TrackingLaw::Feedforward { nx: matrix(&g["nx"]), nu: matrix(&g["nu"]) },
-        Some("integral") => TrackingLaw::Integral { ki: matrix(&g["k_i"]), anti_windup },
+        Some("integral") => TrackingLaw::Integral { ki: matrix(&g["k_i"]), anti_windup, feedforward: None },
         _ => TrackingLaw::None,
     };
     let p = c.nrows();

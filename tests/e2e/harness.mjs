@@ -188,7 +188,7 @@ export const FORM_FIELDS = [
   'spec_overshoot', 'spec_settling_time', 'spec_rise_time', 'settling_band', 'lqr_max_state', 'lqr_max_input', 'search',
   'limits', 'initial_state', 'duration',
   'observer', 'observer_poles', 'observer_speed', 'observer_form',
-  'tracking', 'tracked_outputs', 'integral_poles', 'anti_windup', 'anti_windup_time',
+  'tracking', 'tracked_outputs', 'integral_poles', 'tracking_feedforward', 'anti_windup', 'anti_windup_time',
   'sample_time', 'computation_delay', 'delay_poles', 'plane',
   'reference', 'reference_time', 'disturbance', 'disturbance_input', 'disturbance_time', 'noise_std', 'seed',
   'disk_skew', 'sensitivity_entry', 'uncertain_entries', 'uncertainty_samples', 'uncertainty_seed',
@@ -198,7 +198,7 @@ export const FORM_FIELDS = [
 export const CHOICE_DEFAULTS = {
   observer: 'none', observer_form: 'predictor', tracking: 'none', anti_windup: 'none', plane: 's',
   pole_source: 'list', pattern_family: 'bessel', pattern_normalisation: 'unit_settling_time', settling_band: '2',
-  computation_delay: false, search: false,
+  computation_delay: false, search: false, tracking_feedforward: false,
 };
 
 /**

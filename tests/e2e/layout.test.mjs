@@ -171,6 +171,11 @@ describe('the plant as it really is', () => {
       assert.match(states[1][2], /±0\.05: EXCEEDED/);
       assert.match(await page.textContent('#pw-warnings'), /In the loop simulation, state 2 \(v\) reaches/);
       assert.equal(await page.textContent('#pw-disturbance_input-size'), '2 × 1');
+      // Integral action with the reference also fed forward (two degrees of freedom).
+      const again = await design(page, { a: '0 1\n-3 -4', b: '0\n1', c: '2 -1', poles: '-2±1j, -3', tracking: 'integral', tracking_feedforward: true, reference: '1' });
+      assert.equal(again, 'designed', await page.textContent('#pw-status'));
+      assert.match(await page.textContent('#pw-controller-law'), /N_u r − K \(x − N_x r\) − K_i z/);
+      assert.match(await page.textContent('#pw-tracking-note'), /Two degrees of freedom/);
       assert.deepEqual([...pageErrors, ...consoleErrors], []);
     }, { viewport: { width: 1280, height: 800 } });
   });

@@ -17,7 +17,9 @@ simulated here independently:
 2. digital controller (T = 1 ms) with a predictor observer and integral action: the
    sampled plant Φ, Γ and Γ_E come from scipy.signal.cont2discrete (zero-order hold) of
    (A, B) and (A, E), and the loop is stepped in numpy;
-3. the same digital design with E = B, which must give what the document without E gives.
+3. the same digital design with E = B, which must give what the document without E gives;
+4. the digital design with the reference also fed forward (two degrees of freedom:
+   u = N_u r − K (x̂ − N_x r) − K_i z), stepped the same way.
 
 In the digital cases the loop's reported peak states are compared with the largest |x| over
 every sample of the numpy loop.
@@ -128,6 +130,10 @@ def digital_loop(spec: dict, res: dict, e: np.ndarray) -> dict:
     k = np.array(res["tracking"]["state_gain"], float)
     ki = np.array(res["tracking"]["integral_gain"], float)
     l = np.array(res["observer"]["gain"], float)
+    # Two degrees of freedom: the reference also fed forward through N_x, N_u.
+    two_dof = spec["tracking"].get("feedforward", False)
+    nx = np.array(res["tracking"]["nx"], float) if two_dof else np.zeros((a.shape[0], 1))
+    nu = np.array(res["tracking"]["nu"], float) if two_dof else np.zeros((1, 1))
     sim = spec["simulation"]
     steps = int(round(sim["duration"] / t_s))
     n = a.shape[0]
@@ -138,7 +144,7 @@ def digital_loop(spec: dict, res: dict, e: np.ndarray) -> dict:
         r = sim["reference"][0] if tk + 1e-9 * t_s >= sim["reference_time"] else 0.0
         w = sim["disturbance"][0] if tk + 1e-9 * t_s >= sim["disturbance_time"] else 0.0
         y = c @ x
-        u = -k @ xh - ki @ z
+        u = nu @ [r] - k @ (xh - nx @ [r]) - ki @ z
         xs.append(x.copy())
         us.append(u.copy())
         z = z + (r - y) * t_s
@@ -154,10 +160,12 @@ def digital_case(cli: str) -> float:
     spec["tracking"] = {"mode": "integral", "integral_poles": [-10]}
     worst = 0.0
     heads = {}
-    for label, e in [("E on the head", E_HEAD), ("E = B", spec["plant"]["b"]), ("no E", None)]:
+    for label, e, two_dof in [("E on the head", E_HEAD, False), ("E = B", spec["plant"]["b"], False), ("no E", None, False), ("E on the head, two degrees of freedom", E_HEAD, True)]:
         s = json.loads(json.dumps(spec))
         if e is not None:
             s["plant"]["e"] = e
+        if two_dof:
+            s["tracking"]["feedforward"] = True
         res = run(cli, s)
         loop = res["loop"]
         t = np.array(loop["time"], float)

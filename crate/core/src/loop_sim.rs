@@ -52,8 +52,21 @@ pub enum TrackingLaw {
     None,
     /// `u = N_u r − K (x̂ − N_x r)`.
     Feedforward { nx: DMatrix<f64>, nu: DMatrix<f64> },
-    /// `u = −K x̂ − K_i z`.
-    Integral { ki: DMatrix<f64>, anti_windup: AntiWindup },
+    /// `u = −K x̂ − K_i z`; with `feedforward` `(N_x, N_u)` also `+ N_u r + K N_x r` (two
+    /// degrees of freedom: the reference acts at once through the feedforward, the integrator
+    /// removes what the model got wrong).
+    Integral { ki: DMatrix<f64>, anti_windup: AntiWindup, feedforward: Option<(DMatrix<f64>, DMatrix<f64>)> },
+}
+
+impl TrackingLaw {
+    /// `(N_x, N_u)` when the reference is fed forward (feedforward, or integral with feedforward).
+    pub fn feedforward(&self) -> Option<(&DMatrix<f64>, &DMatrix<f64>)> {
+        match self {
+            TrackingLaw::Feedforward { nx, nu } => Some((nx, nu)),
+            TrackingLaw::Integral { feedforward: Some((nx, nu)), .. } => Some((nx, nu)),
+            _ => None,
+        }
+    }
 }
 
 /// A complete controller as it would go into firmware.
@@ -354,7 +367,7 @@ fn digital(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, gamma_w: &DMatrix<f64>, c: 
     let steps = (wanted as usize).max(1);
     let limits: Vec<Option<f64>> = if sc.limits.is_empty() { vec![None; m] } else { sc.limits.clone() };
     let (ki, aw) = match &ctrl.tracking {
-        TrackingLaw::Integral { ki, anti_windup } => (Some(ki.clone()), *anti_windup),
+        TrackingLaw::Integral { ki, anti_windup, .. } => (Some(ki.clone()), *anti_windup),
         _ => (None, AntiWindup::None),
     };
     let qi = if ki.is_some() { q } else { 0 };
@@ -401,13 +414,14 @@ fn digital(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, gamma_w: &DMatrix<f64>, c: 
         let mut u_cmd = match &ctrl.tracking {
             TrackingLaw::None => -(&ctrl.k * &estimate),
             TrackingLaw::Feedforward { nx, nu } => nu * &r - &ctrl.k * (&estimate - nx * &r),
-            TrackingLaw::Integral { ki, .. } => -(&ctrl.k * &estimate) - ki * &z,
+            TrackingLaw::Integral { ki, feedforward: None, .. } => -(&ctrl.k * &estimate) - ki * &z,
+            TrackingLaw::Integral { ki, feedforward: Some((nx, nu)), .. } => nu * &r - &ctrl.k * (&estimate - nx * &r) - ki * &z,
         };
         if let Some(ku) = &ctrl.k_delay {
             // With feedforward the delayed input is fed back about its steady-state value N_u r.
-            match &ctrl.tracking {
-                TrackingLaw::Feedforward { nu, .. } => u_cmd -= ku * (&u_prev - nu * &r),
-                _ => u_cmd -= ku * &u_prev,
+            match ctrl.tracking.feedforward() {
+                Some((_, nu)) => u_cmd -= ku * (&u_prev - nu * &r),
+                None => u_cmd -= ku * &u_prev,
             }
         }
         let (u, clipped) = clip(&u_cmd, &limits);
@@ -506,7 +520,12 @@ fn stacked(a: &DMatrix<f64>, b: &DMatrix<f64>, e: &DMatrix<f64>, c: &DMatrix<f64
     match &ctrl.tracking {
         TrackingLaw::None => {}
         TrackingLaw::Feedforward { nx, nu } => j.copy_from(&(nu + &ctrl.k * nx)),
-        TrackingLaw::Integral { ki, .. } => h.view_mut((0, oz), (m, q)).copy_from(&(-ki)),
+        TrackingLaw::Integral { ki, feedforward, .. } => {
+            h.view_mut((0, oz), (m, q)).copy_from(&(-ki));
+            if let Some((nx, nu)) = feedforward {
+                j.copy_from(&(nu + &ctrl.k * nx));
+            }
+        }
     }
     Stacked { f0, gr, gw, gu, h, j, est, oz, qi }
 }
@@ -544,7 +563,7 @@ fn saturated_mode(st: &Stacked, ctrl: &LoopController) -> (DMatrix<f64>, DMatrix
     gsat.view_mut((0, 0), (ns, q)).copy_from(&st.gr);
     gsat.view_mut((0, q), (ns, nd)).copy_from(&st.gw);
     gsat.view_mut((0, exo), (ns, m)).copy_from(&st.gu);
-    let TrackingLaw::Integral { ki, anti_windup } = &ctrl.tracking else {
+    let TrackingLaw::Integral { ki, anti_windup, .. } = &ctrl.tracking else {
         return (fsat, gsat);
     };
     let oz = st.oz;

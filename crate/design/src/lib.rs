@@ -180,6 +180,8 @@ pub enum TrackingSpec {
     Integral {
         outputs: Vec<usize>,
         integral_poles: Vec<Complex64>,
+        /// The reference is also fed forward (two degrees of freedom).
+        feedforward: bool,
     },
 }
 

@@ -109,6 +109,7 @@ field_paths! {
     ObserverForm => "observer.form",
     Tracking => "tracking",
     TrackingMode => "tracking.mode",
+    TrackingFeedforward => "tracking.feedforward",
     TrackedOutputs => "tracking.outputs",
     IntegralPoles => "tracking.integral_poles",
     AntiWindup => "anti_windup",

@@ -170,7 +170,18 @@ pub struct ObserverResult {
 #[serde(tag = "mode", rename_all = "snake_case")]
 pub enum TrackingResult {
     Feedforward { outputs: Vec<String>, nx: Vec<Vec<f64>>, nu: Vec<Vec<f64>> },
-    Integral { outputs: Vec<String>, state_gain: Vec<Vec<f64>>, integral_gain: Vec<Vec<f64>>, anti_windup: crate::spec::AntiWindupMode, time_constant: Option<f64> },
+    Integral {
+        outputs: Vec<String>,
+        state_gain: Vec<Vec<f64>>,
+        integral_gain: Vec<Vec<f64>>,
+        anti_windup: crate::spec::AntiWindupMode,
+        time_constant: Option<f64>,
+        /// `N_x`, `N_u` when the reference is also fed forward (two degrees of freedom).
+        #[serde(skip_serializing_if = "Option::is_none")]
+        nx: Option<Vec<Vec<f64>>>,
+        #[serde(skip_serializing_if = "Option::is_none")]
+        nu: Option<Vec<Vec<f64>>>,
+    },
 }
 
 /// Margins of the loop as built, broken at the plant input (`crate::margins`).

@@ -326,6 +326,10 @@ pub struct TrackingDoc {
     pub outputs: Option<OutputList>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub integral_poles: Option<PoleList>,
+    /// With integral action: also feed the reference forward (`N_u r + K N_x r`), two degrees
+    /// of freedom. Needs as many tracked outputs as inputs.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub feedforward: Option<bool>,
 }
 
 /// Anti-windup mode.

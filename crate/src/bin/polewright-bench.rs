@@ -69,7 +69,7 @@ fn loop_benchmark(path: &str) {
         observer: Some(get(&g["l"])),
         observer_form: ObserverForm::Predictor,
         current_gain: None,
-        tracking: TrackingLaw::Integral { ki: get(&g["k_i"]), anti_windup: AntiWindup::None },
+        tracking: TrackingLaw::Integral { ki: get(&g["k_i"]), anti_windup: AntiWindup::None, feedforward: None },
         tracked_outputs: (0..p).collect(),
         sample_time: case["t_sample"].as_f64(),
     };

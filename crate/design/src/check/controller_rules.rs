@@ -148,8 +148,23 @@ fn tracking(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, out: 
             },
             None => None,
         };
+        let two_dof = t.feedforward == Some(true);
+        if two_dof && mode != TrackingMode::Integral {
+            c.push(P::TrackingFeedforward, "feedforward added to integral action (two degrees of freedom) needs tracking.mode integral; with mode feedforward the reference is fed forward already: leave this out");
+        }
         if let (Some(o), Some(m)) = (&chosen, m) {
             tracked = Some(o.len());
+            if mode == TrackingMode::Integral && two_dof && o.len() != m {
+                c.push(
+                    P::TrackingFeedforward,
+                    format!(
+                        "feedforward needs exactly as many tracked outputs as inputs: {} tracked, {}; list {} outputs, or use integral action alone",
+                        plural(o.len(), "output", "outputs"),
+                        plural(m, "input", "inputs"),
+                        if o.len() > m { "fewer" } else { "more" }
+                    ),
+                );
+            }
             if mode == TrackingMode::Feedforward && o.len() != m {
                 c.push(
                     P::TrackedOutputs,
@@ -187,7 +202,7 @@ fn tracking(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, out: 
         }
         match (mode, chosen, integral_poles) {
             (TrackingMode::Feedforward, Some(outputs), _) => out.tracking = TrackingSpec::Feedforward { outputs },
-            (TrackingMode::Integral, Some(outputs), Some(integral_poles)) => out.tracking = TrackingSpec::Integral { outputs, integral_poles },
+            (TrackingMode::Integral, Some(outputs), Some(integral_poles)) => out.tracking = TrackingSpec::Integral { outputs, integral_poles, feedforward: two_dof },
             _ => {}
         }
     }

@@ -134,7 +134,7 @@ pub(super) fn pole_source(spec: &DesignSpec, plant: Option<&Plant>, known: &Basi
     };
     let n = plant.map(|p| p.states());
     let (integrators, apart) = match &out.tracking {
-        TrackingSpec::Integral { outputs, integral_poles } => (outputs.len(), !integral_poles.is_empty()),
+        TrackingSpec::Integral { outputs, integral_poles, .. } => (outputs.len(), !integral_poles.is_empty()),
         _ => (0, false),
     };
     // The tracking fields decide the number of poles: without them the count is unknown.

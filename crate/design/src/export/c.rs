@@ -151,6 +151,14 @@ fn step_source(c: &Controller, precision: Precision) -> String {
             s.push_str(&mat_vec("N_U", "reference", "cmd", "+"));
             s.push_str(&mat_vec("K", "dx", "cmd", "-"));
         }
+        Tracking::Integral if c.matrix("N_x").is_some() => {
+            // Two degrees of freedom: the reference fed forward, the integrator on the error.
+            s.push_str("    for (i = 0; i < PW_STATES; ++i) dx[i] = est[i];\n");
+            s.push_str(&mat_vec("N_X", "reference", "dx", "-"));
+            s.push_str(&mat_vec("N_U", "reference", "cmd", "+"));
+            s.push_str(&mat_vec("K", "dx", "cmd", "-"));
+            s.push_str(&mat_vec("K_I", "s->z", "cmd", "-"));
+        }
         Tracking::Integral => {
             s.push_str(&mat_vec("K", "est", "cmd", "-"));
             s.push_str(&mat_vec("K_I", "s->z", "cmd", "-"));
@@ -158,7 +166,7 @@ fn step_source(c: &Controller, precision: Precision) -> String {
     }
     if c.computation_delay {
         s.push_str("    for (i = 0; i < PW_INPUTS; ++i) ua[i] = s->u_prev[i];\n");
-        if c.tracking == Tracking::Feedforward {
+        if c.matrix("N_u").is_some() {
             s.push_str(&mat_vec("N_U", "reference", "ua", "-"));
         }
         s.push_str(&mat_vec("K_U", "ua", "cmd", "-"));

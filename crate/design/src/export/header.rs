@@ -53,10 +53,11 @@ fn convention(c: &Controller) -> String {
     let base = match c.tracking {
         Tracking::None => format!("u = -K {x}"),
         Tracking::Feedforward => format!("u = N_u r - K ({x} - N_x r)"),
+        Tracking::Integral if c.matrix("N_x").is_some() => format!("u = N_u r - K ({x} - N_x r) - K_i z, z[k+1] = z[k] + T (r[k] - y_t[k])"),
         Tracking::Integral => format!("u = -K {x} - K_i z, z[k+1] = z[k] + T (r[k] - y_t[k])"),
     };
     let delay = if c.computation_delay {
-        if c.tracking == Tracking::Feedforward {
+        if c.matrix("N_u").is_some() {
             " - K_u (u_prev - N_u r)"
         } else {
             " - K_u u_prev"

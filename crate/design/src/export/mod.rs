@@ -213,7 +213,11 @@ pub fn controller(spec: &DesignSpec, design: &CheckedDesign, result: &DesignResu
             matrices.push(NamedMatrix::from_rows("N_u", "steady-state input per unit reference (inputs x tracked)", nu));
             Tracking::Feedforward
         }
-        Some(crate::result::TrackingResult::Integral { integral_gain, .. }) => {
+        Some(crate::result::TrackingResult::Integral { integral_gain, nx, nu, .. }) => {
+            if let (Some(nx), Some(nu)) = (nx, nu) {
+                matrices.push(NamedMatrix::from_rows("N_x", "steady-state state per unit reference, fed forward with integral action (states x tracked)", nx));
+                matrices.push(NamedMatrix::from_rows("N_u", "steady-state input per unit reference, fed forward with integral action (inputs x tracked)", nu));
+            }
             matrices.push(NamedMatrix::from_rows("K_i", "gain on the integrators of the tracking error (inputs x tracked)", integral_gain));
             if let AntiWindup::BackCalculation { .. } = ctrl.anti_windup {
                 let ki = DMatrix::from_row_slice(integral_gain.len(), integral_gain.first().map_or(0, |r| r.len()), &integral_gain.iter().flatten().copied().collect::<Vec<_>>());

@@ -252,6 +252,8 @@ fn tracking_result(s: &setup::Setup, g: &gains::Gains) -> Option<TrackingResult>
                 crate::controller::AntiWindup::BackCalculation { time_constant } => Some(time_constant),
                 _ => None,
             },
+            nx: g.feedforward.as_ref().map(|(nx, _)| rows(nx)),
+            nu: g.feedforward.as_ref().map(|(_, nu)| rows(nu)),
         }),
         _ => None,
     }

@@ -56,7 +56,7 @@ impl<'a> Setup<'a> {
         let (tracked, integral_poles): (Vec<usize>, Option<&Vec<Complex64>>) = match &spec.tracking {
             TrackingSpec::None => (Vec::new(), None),
             TrackingSpec::Feedforward { outputs } => (outputs.clone(), None),
-            TrackingSpec::Integral { outputs, integral_poles } => (outputs.clone(), Some(integral_poles)),
+            TrackingSpec::Integral { outputs, integral_poles, .. } => (outputs.clone(), Some(integral_poles)),
         };
         let (c_full, d_full) = output_matrices(plant);
         let q = tracked.len();

@@ -242,9 +242,10 @@ fn loop_runs(s: &Setup) -> bool {
 /// the margins break at the plant input).
 pub(super) fn loop_controller(s: &Setup, g: &Gains) -> LoopController {
     let tracking = match (&g.feedforward, &g.k_i) {
-        (Some((nx, nu)), _) => TrackingLaw::Feedforward { nx: nx.clone(), nu: nu.clone() },
-        (None, Some(ki)) => TrackingLaw::Integral { ki: ki.clone(), anti_windup: s.spec.anti_windup },
-        _ => TrackingLaw::None,
+        // Integral action, with the reference also fed forward when asked (two degrees of freedom).
+        (feedforward, Some(ki)) => TrackingLaw::Integral { ki: ki.clone(), anti_windup: s.spec.anti_windup, feedforward: feedforward.clone() },
+        (Some((nx, nu)), None) => TrackingLaw::Feedforward { nx: nx.clone(), nu: nu.clone() },
+        (None, None) => TrackingLaw::None,
     };
     LoopController {
         k: g.k_x.clone(),

@@ -137,6 +137,7 @@ pub fn spec_from_form(form: &FormInput) -> Result<DesignSpec, Vec<FieldError>> {
         outputs: opt(&text("tracked_outputs")).map(OutputList::Text),
         // With LQR the integrator poles come from the LQR as well.
         integral_poles: opt(&text("integral_poles")).filter(|_| integral && source != "lqr").map(PoleList::Text),
+        feedforward: (integral && choice("tracking_feedforward") == "true").then_some(true),
     });
     let anti_windup_doc = match (integral, anti_windup.as_str()) {
         (true, "clamp") => Some(AntiWindupDoc { mode: AntiWindupMode::Clamp, time_constant: None }),
@@ -421,6 +422,7 @@ fn controller_fields(spec: &DesignSpec, f: &mut FormInput) {
     f.set("observer_form", if obs.and_then(|o| o.form) == Some(ObserverFormChoice::Current) { "current" } else { "predictor" });
     let tr = spec.tracking.as_ref();
     f.set("tracking", tr.map_or("none", |t| serde_name_static(&t.mode)));
+    f.set("tracking_feedforward", if tr.and_then(|t| t.feedforward) == Some(true) { "true" } else { "false" });
     f.set(
         "tracked_outputs",
         tr.and_then(|t| t.outputs.as_ref())

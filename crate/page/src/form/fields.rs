@@ -104,6 +104,7 @@ form_fields! {
     tracking => "tracking" ["none", "feedforward", "integral"] @ [Tracking, TrackingMode],
     tracked_outputs => "tracked outputs" @ [TrackedOutputs],
     integral_poles => "integrator poles" @ [IntegralPoles],
+    tracking_feedforward => "feedforward with integral action" ["false", "true"] @ [TrackingFeedforward],
     anti_windup => "anti-windup" ["none", "clamp", "back_calculation"] @ [AntiWindup, AntiWindupMode],
     anti_windup_time => "anti-windup time constant" @ [AntiWindupTime],
     sample_time => "sample time" @ [Implementation, SampleTime, Method],

@@ -157,7 +157,7 @@ impl FormInput {
             "tracked_outputs" | "reference" | "reference_time" => tracking != "none",
             // With LQR the integrator poles come from the LQR as well.
             "integral_poles" => tracking == "integral" && source != "lqr",
-            "anti_windup" => tracking == "integral",
+            "anti_windup" | "tracking_feedforward" => tracking == "integral",
             "anti_windup_time" => tracking == "integral" && self.choice("anti_windup") == "back_calculation",
             "delay_poles" => self.choice("computation_delay") == "true",
             k => FormInput::FIELDS.contains(&k),

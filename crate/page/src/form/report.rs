@@ -649,6 +649,7 @@ pub(crate) fn law_lines(result: &DesignResult) -> Vec<String> {
     };
     match &result.tracking {
         Some(TrackingResult::Feedforward { .. }) => lines.push(format!("u{k} = N_u r − K ({x} − N_x r){}", delay_term(true))),
+        Some(TrackingResult::Integral { nx: Some(_), .. }) => lines.push(format!("u{k} = N_u r − K ({x} − N_x r) − K_i z{k}{}", delay_term(true))),
         Some(TrackingResult::Integral { .. }) => lines.push(format!("u{k} = −K {x} − K_i z{k}{}", delay_term(false))),
         None => lines.push(format!("u{k} = −K {x}{}", delay_term(false))),
     }
@@ -705,12 +706,17 @@ pub(crate) fn controller_report(result: &DesignResult, context: &ReportContext) 
                 Some(format!("Feedforward from the steady-state equations [A B; C D] [N_x; N_u] = [0; I] (digital: [Φ − I, Γ; C, D]): the reference sets the target state N_x r and the input N_u r; K acts on the difference. Tracked: {}.", names.join(", "))),
             )
         }
-        Some(TrackingResult::Integral { outputs: names, integral_gain, .. }) => {
+        Some(TrackingResult::Integral { outputs: names, integral_gain, nx, nu, .. }) => {
             let cols: Vec<String> = names.iter().map(|n| format!("∫ error of {}", output_label(result, &context.output_units, n))).collect();
-            (
-                vec![matrix_table("K_i", "K_i: integral gain, one row per input, one column per integrator (tracked output)", "u = -K x - K_i z; K_i has one row per input and one column per integrator", inputs.clone(), cols, integral_gain)],
-                Some(format!("Integral action: one integrator z of r − y per tracked output ({}); the state gain K_x of u = −K_x x − K_i z is the gain K above. Placed with the plant: the desired poles and the integrator poles together.", names.join(", "))),
-            )
+            let refs: Vec<String> = names.iter().map(|n| format!("per unit r of {}", output_label(result, &context.output_units, n))).collect();
+            let mut tables = vec![matrix_table("K_i", "K_i: integral gain, one row per input, one column per integrator (tracked output)", "u = -K x - K_i z; K_i has one row per input and one column per integrator", inputs.clone(), cols, integral_gain)];
+            let mut note = format!("Integral action: one integrator z of r − y per tracked output ({}); the state gain K_x of u = −K_x x − K_i z is the gain K above. Placed with the plant: the desired poles and the integrator poles together.", names.join(", "));
+            if let (Some(nx), Some(nu)) = (nx, nu) {
+                tables.push(matrix_table("N_x", "N_x: the steady state per unit of reference, fed forward (one row per state, one column per tracked output)", "N_x: steady state per unit reference; one row per state, one column per tracked output", states.clone(), refs.clone(), nx));
+                tables.push(matrix_table("N_u", "N_u: the steady input per unit of reference, fed forward (one row per input, one column per tracked output)", "N_u: steady input per unit reference; one row per input, one column per tracked output", inputs.clone(), refs, nu));
+                note.push_str(" Two degrees of freedom: the reference is also fed forward (u = N_u r − K (x − N_x r) − K_i z), so a step acts at once instead of waiting for the integrator, which only removes what the model got wrong (a load, a gain error).");
+            }
+            (tables, Some(note))
         }
         None => (Vec::new(), None),
     };
