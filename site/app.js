@@ -100,6 +100,8 @@ const onPoleKey = guarded((event) => {
   else if (key === 'Delete' || key === 'Backspace') remove_pole();
   else if (key === '+' || key === 'Insert') add_pole('real');
   else if (key === 'Escape') pole_pointer_up(true);
+  else if (key === 'i' || key === 'I' || key === 'o' || key === 'O') zoomAtCentre(poleMap, key.toLowerCase() === 'i' ? 1.5 : 1 / 1.5);
+  else if (key === '0') reset_plot(poleMap.id);
   else return;
   event.preventDefault();
 });
@@ -427,3 +429,68 @@ document.querySelectorAll('.section-nav a').forEach((link) => {
     section.querySelector('.section-toggle').focus({ preventScroll: true });
   });
 });
+
+// Zoom and pan (the views are Rust's): the wheel zooms about the pointer, a drag on a time plot
+// moves its time window, keys on a focused plot (+ / − or I / O zoom, ← / → move, 0 shows
+// everything; on the pole map I / O and 0), a double click shows everything again, and the
+// buttons under each plot do the same with single clicks.
+function zoomAtCentre(canvas, factor) {
+  zoom_plot(canvas.id, factor, canvas.clientWidth / 2, canvas.clientHeight / 2);
+}
+function plotTools(canvas) {
+  const bar = document.createElement('div');
+  bar.className = 'plot-tools';
+  bar.setAttribute('role', 'group');
+  bar.setAttribute('aria-label', 'View of this plot');
+  const tools = [['Zoom in', () => zoomAtCentre(canvas, 1.5)], ['Zoom out', () => zoomAtCentre(canvas, 1 / 1.5)],
+    ['Pan left', () => pan_plot(canvas.id, canvas.clientWidth / 4, 0)], ['Pan right', () => pan_plot(canvas.id, -canvas.clientWidth / 4, 0)],
+    ['Show all', () => reset_plot(canvas.id)]];
+  for (const [label, act] of tools) {
+    const b = document.createElement('button');
+    b.type = 'button';
+    b.textContent = label;
+    b.tabIndex = -1; // keyboard users have the plot's own keys
+    b.addEventListener('click', guarded(act));
+    bar.appendChild(b);
+  }
+  canvas.closest('figure').after(bar);
+}
+for (const canvas of document.querySelectorAll('canvas.plot')) {
+  canvas.addEventListener('wheel', guarded((e) => {
+    e.preventDefault();
+    zoom_plot(canvas.id, e.deltaY < 0 ? 1.25 : 1 / 1.25, e.offsetX, e.offsetY);
+  }), { passive: false });
+  canvas.addEventListener('dblclick', guarded(() => reset_plot(canvas.id)));
+  if (canvas === poleMap) continue;
+  canvas.tabIndex = 0;
+  canvas.setAttribute('aria-keyshortcuts', '+ - ArrowLeft ArrowRight 0');
+  plotTools(canvas);
+  let from = null;
+  canvas.addEventListener('pointerdown', (e) => {
+    if (e.button !== 0) return;
+    from = e.offsetX;
+    canvas.setPointerCapture(e.pointerId);
+  });
+  canvas.addEventListener('pointermove', guarded((e) => {
+    if (from === null) return;
+    pan_plot(canvas.id, e.offsetX - from, 0);
+    from = e.offsetX;
+  }));
+  const stop = () => { from = null; };
+  canvas.addEventListener('pointerup', stop);
+  canvas.addEventListener('pointercancel', stop);
+  canvas.addEventListener('keydown', guarded((e) => {
+    const k = e.key;
+    if (e.ctrlKey || e.metaKey || e.altKey) return;
+    if (k === '+' || k === '=' || k === 'i' || k === 'I') zoomAtCentre(canvas, 1.5);
+    else if (k === '-' || k === 'o' || k === 'O') zoomAtCentre(canvas, 1 / 1.5);
+    else if (k === 'ArrowLeft') pan_plot(canvas.id, canvas.clientWidth / 10, 0);
+    else if (k === 'ArrowRight') pan_plot(canvas.id, -canvas.clientWidth / 10, 0);
+    else if (k === '0' || k === 'Home') reset_plot(canvas.id);
+    else return;
+    e.preventDefault();
+  }));
+}
+byId('pw-zoom-in').addEventListener('click', guarded(() => zoomAtCentre(poleMap, 1.5)));
+byId('pw-zoom-out').addEventListener('click', guarded(() => zoomAtCentre(poleMap, 1 / 1.5)));
+byId('pw-zoom-reset').addEventListener('click', guarded(() => reset_plot(poleMap.id)));

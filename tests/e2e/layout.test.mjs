@@ -8,7 +8,7 @@
 
 import { test, after, describe } from 'node:test';
 import assert from 'node:assert/strict';
-import { withPage, closeBrowser, pageFileUrl, requireBuiltPage, readGain, design, tableRows } from './harness.mjs';
+import { withPage, closeBrowser, pageFileUrl, requireBuiltPage, readGain, design, tableRows, canvasStats } from './harness.mjs';
 
 requireBuiltPage();
 after(closeBrowser);
@@ -176,6 +176,49 @@ describe('the plant as it really is', () => {
       assert.equal(again, 'designed', await page.textContent('#pw-status'));
       assert.match(await page.textContent('#pw-controller-law'), /N_u r − K \(x − N_x r\) − K_i z/);
       assert.match(await page.textContent('#pw-tracking-note'), /Two degrees of freedom/);
+      assert.deepEqual([...pageErrors, ...consoleErrors], []);
+    }, { viewport: { width: 1280, height: 800 } });
+  });
+});
+
+describe('zoom and pan', () => {
+  test('time plots zoom by wheel, keys and buttons, pan by drag and keys, and show all again; the pole map too', async () => {
+    await withPage(pageFileUrl, async ({ page, pageErrors, consoleErrors }) => {
+      await loadDemo(page, 0);
+      const plot = page.locator('#pw-state-plot');
+      await plot.scrollIntoViewIfNeeded();
+      const whole = await canvasStats(page, 'pw-state-plot');
+      const box = await plot.boundingBox();
+      // The wheel zooms about the pointer.
+      await page.mouse.move(box.x + box.width * 0.3, box.y + box.height / 2);
+      await page.mouse.wheel(0, -300);
+      // The wheel's handler repaints synchronously: the canvas has changed when it returns.
+      const zoomed = await canvasStats(page, 'pw-state-plot');
+      assert.notDeepEqual(zoomed, whole, 'the wheel zoomed the plot');
+      // A drag moves the window; the keys and the buttons act without dragging.
+      await page.mouse.move(box.x + box.width * 0.6, box.y + box.height / 2);
+      await page.mouse.down();
+      await page.mouse.move(box.x + box.width * 0.4, box.y + box.height / 2, { steps: 4 });
+      await page.mouse.up();
+      const dragged = await canvasStats(page, 'pw-state-plot');
+      assert.notDeepEqual(dragged, zoomed, 'the drag moved the window');
+      await plot.focus();
+      await page.keyboard.press('0');
+      assert.deepEqual(await canvasStats(page, 'pw-state-plot'), whole, '0 shows the whole run again');
+      await page.keyboard.press('+');
+      assert.notDeepEqual(await canvasStats(page, 'pw-state-plot'), whole, '+ zooms in');
+      const tools = page.locator('#pw-state-plot').locator('xpath=ancestor::figure/following-sibling::div[1]');
+      await tools.getByRole('button', { name: 'Pan right' }).click();
+      await tools.getByRole('button', { name: 'Show all' }).click();
+      assert.deepEqual(await canvasStats(page, 'pw-state-plot'), whole, 'Show all restores the whole run');
+      // The pole map: buttons (and I / O / 0 on the focused map) zoom about the centre.
+      const before = await page.getAttribute('#pw-pole-map', 'data-requested-px');
+      const map = await canvasStats(page, 'pw-pole-map');
+      await page.click('#pw-zoom-in');
+      assert.notDeepEqual(await canvasStats(page, 'pw-pole-map'), map, 'the map zoomed in');
+      await page.click('#pw-zoom-reset');
+      assert.deepEqual(await canvasStats(page, 'pw-pole-map'), map, 'the whole view again');
+      assert.equal(await page.getAttribute('#pw-pole-map', 'data-requested-px'), before);
       assert.deepEqual([...pageErrors, ...consoleErrors], []);
     }, { viewport: { width: 1280, height: 800 } });
   });

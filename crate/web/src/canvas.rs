@@ -32,6 +32,7 @@ impl PageState {
     /// Paints `picture` on canvas `id` unless that very picture is already there. A picture
     /// of stacked panels sets the canvas's `data-panels` (the style sheet makes it taller).
     pub(crate) fn paint(&mut self, id: &'static str, picture: Picture) -> Result<(), JsValue> {
+        let picture = self.windowed(id, picture);
         let panels = panel_count(&picture).to_string();
         let canvas = find_canvas(id)?;
         if canvas.get_attribute("data-panels").unwrap_or_else(|| "1".into()) != panels {

@@ -228,6 +228,10 @@ struct PageState {
     focus: Option<usize>,
     normalised: bool,
     fit_poles: bool,
+    /// Zoomed time windows, per time-plot canvas (none: the whole run).
+    time_windows: Vec<(&'static str, [f64; 2])>,
+    /// The pole map's zoomed region (none: fitted to the poles).
+    pole_view: Option<[f64; 4]>,
     /// How input and output plots share axes (the page's "Axes" choice).
     signal_axes: form::SignalAxes,
     canvases: Vec<CanvasState>,
@@ -305,6 +309,8 @@ thread_local! {
         focus: None,
         normalised: true,
         fit_poles: false,
+        time_windows: Vec::new(),
+        pole_view: None,
         signal_axes: form::SignalAxes::Automatic,
         canvases: ids::CANVASES.iter().map(|id| CanvasState { id, size: None, painted: None }).collect(),
         rendered: Vec::new(),
@@ -346,10 +352,12 @@ fn with_page<T>(f: impl FnOnce(&mut PageState) -> Result<T, JsValue>) -> Result<
 
 mod canvas;
 mod dom;
+mod plot_view;
 mod pole_edit;
 mod render;
 use canvas::*;
 use dom::*;
+pub use plot_view::*;
 pub use pole_edit::*;
 use render::*;
 

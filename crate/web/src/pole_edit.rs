@@ -183,7 +183,7 @@ pub(crate) fn edit_layers(page: &mut PageState, input: &FormInput) {
         Some(p) if (p.domain == crate::analysis::Domain::Discrete) == discrete => p.poles.clone(),
         _ => Vec::new(),
     };
-    page.pole_scene.view = page.drag.as_ref().map(|d| d.frame.view());
+    page.pole_scene.view = page.drag.as_ref().map(|d| d.frame.view()).or(page.pole_view);
     refocus(page);
 }
 
@@ -384,7 +384,7 @@ pub fn pole_pointer_up(cancel: bool) -> Result<(), JsValue> {
         Some(text) => commit_poles(&text),
         None => {
             with_page(|page| {
-                page.pole_scene.view = None;
+                page.pole_scene.view = page.pole_view;
                 Ok(())
             })?;
             // The full cycle on release brings the margins and pole sensitivity back.

@@ -94,6 +94,7 @@ fn panel(scene: &TimePlotScene, g: &Group) -> TimePlotScene {
         x_label: scene.x_label.clone(),
         y_label: g.title.clone(),
         pinned: scene.pinned.iter().filter(|s| mine(s.colour)).cloned().collect(),
+        window: None,
     }
 }
 

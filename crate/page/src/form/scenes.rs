@@ -149,6 +149,7 @@ pub fn states_scene(result: &DesignResult, normalised: bool) -> TimePlotScene {
         x_label: "time (s)".into(),
         y_label: if normalised { "state ÷ its peak |value|".into() } else { "state (own units)".into() },
         pinned: Vec::new(),
+        window: None,
     }
 }
 
@@ -220,6 +221,7 @@ pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
             None => "input (own units)".into(),
         },
         pinned: Vec::new(),
+        window: None,
     }
 }
 
@@ -264,6 +266,7 @@ pub(crate) fn loop_scene(l: &design::LoopResult, report: &Report, series: Vec<Se
             None => format!("{quantity} (own units)"),
         },
         pinned: Vec::new(),
+        window: None,
     }
 }
 
@@ -314,5 +317,6 @@ pub fn estimation_scene(result: &DesignResult, report: &Report) -> Option<TimePl
         x_label: "time (s)".into(),
         y_label: "(x − x̂) ÷ the state's peak |x|".into(),
         pinned: Vec::new(),
+        window: None,
     })
 }

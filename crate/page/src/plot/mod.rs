@@ -44,6 +44,8 @@ mod scenes;
 mod simplify;
 pub use scenes::*;
 pub use simplify::*;
+mod view;
+pub use view::*;
 
 /// Largest finite data magnitude the layout works with; larger finite data
 /// values are clamped to it so that spans and paddings never overflow.

@@ -316,6 +316,9 @@ pub struct TimePlotScene {
     /// Signals of a pinned design, each on its own time grid, drawn thin and dashed under
     /// the current ones.
     pub pinned: Vec<PinnedSeries>,
+    /// The time window shown (zoomed in); `None` shows the whole run. The vertical axis fits
+    /// what is inside the window.
+    pub window: Option<[f64; 2]>,
 }
 
 /// A signal of a pinned design with its own sample times.
@@ -334,7 +337,7 @@ pub const TIME_PLOT_PADDING: f64 = 0.06;
 
 impl TimePlotScene {
     /// Field names, for front ends that must reject unknown keys themselves.
-    pub const FIELDS: &'static [&'static str] = &["t", "series", "limits", "band", "events", "x_label", "y_label", "pinned"];
+    pub const FIELDS: &'static [&'static str] = &["t", "series", "limits", "band", "events", "x_label", "y_label", "pinned", "window"];
 
     /// Samples of series `i` paired with their times (`[t, y]`), truncated to
     /// the shorter of the two; non-finite samples are kept (they break lines).
@@ -348,12 +351,22 @@ impl TimePlotScene {
     /// Time range (exact, widened if degenerate) and value range (holding all
     /// samples, limits and band, padded).
     pub fn data_ranges(&self) -> (Range, Range) {
-        let x = Range::from_values(self.t.iter().copied()).unwrap_or(Range::UNIT);
-        let samples = (0..self.series.len()).flat_map(|i| self.points(i).into_iter().filter(|p| p[0].is_finite()).map(|p| p[1]));
+        let full = Range::from_values(self.t.iter().copied()).unwrap_or(Range::UNIT);
+        let x = match self.window {
+            Some([a, b]) if a.is_finite() && b.is_finite() && b > a => Range { min: a.max(full.min), max: b.min(full.max) },
+            _ => full,
+        };
+        let x = if x.span() > 0.0 { x } else { full };
+        let samples = (0..self.series.len()).flat_map(|i| self.points(i).into_iter().filter(|p| p[0].is_finite() && x.contains(p[0])).map(|p| p[1]));
         let pinned = self.pinned.iter().flat_map(|p| p.t.iter().zip(&p.values).filter(|(t, _)| t.is_finite() && x.contains(**t)).map(|(_, v)| *v));
         let extra = self.limits.iter().map(|l| l.value).chain(self.band.iter().flat_map(|b| [b.lower, b.upper])).chain(pinned);
         let y = Range::from_values(samples.chain(extra)).unwrap_or(Range { min: -1.0, max: 1.0 });
-        (x.widened(), y.padded(TIME_PLOT_PADDING))
+        (if self.window.is_some() { x } else { x.widened() }, y.padded(TIME_PLOT_PADDING))
+    }
+
+    /// The whole run's time range (what a window is zoomed from).
+    pub fn time_range(&self) -> Range {
+        Range::from_values(self.t.iter().copied()).unwrap_or(Range::UNIT)
     }
 
     /// The frame the painter uses for a canvas of `outer` size.

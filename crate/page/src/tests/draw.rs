@@ -110,6 +110,7 @@ fn each_signal_is_one_path_through_its_samples_and_limits_are_lines() {
         x_label: "time (s)".into(),
         y_label: "value".into(),
         pinned: Vec::new(),
+        window: None,
     };
     let ops = time_plot(&scene, RECT, &ApproximateText);
     balanced_clips(&ops);
