@@ -494,3 +494,15 @@ for (const canvas of document.querySelectorAll('canvas.plot')) {
 byId('pw-zoom-in').addEventListener('click', guarded(() => zoomAtCentre(poleMap, 1.5)));
 byId('pw-zoom-out').addEventListener('click', guarded(() => zoomAtCentre(poleMap, 1 / 1.5)));
 byId('pw-zoom-reset').addEventListener('click', guarded(() => reset_plot(poleMap.id)));
+
+// After the results change (any path: typing, a drag, a file, undo), mark the tables that
+// scroll sideways as focusable regions at the next frame, when layout is computed anyway.
+let tablesPending = false;
+new MutationObserver(() => {
+  if (tablesPending) return;
+  tablesPending = true;
+  requestAnimationFrame(() => {
+    tablesPending = false;
+    guarded(refresh_scrollable_tables)();
+  });
+}).observe(document.querySelector('.outputs'), { childList: true, subtree: true });

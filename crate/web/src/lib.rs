@@ -512,7 +512,9 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
                 render_compare(&doc, page)?;
                 refresh_readout(page)?;
                 refresh_edit_controls(page)?;
-                dom::mark_scrollable_tables(&doc)?;
+                // Which tables scroll sideways is read from layout after the cycle
+                // (refresh_scrollable_tables, called by the page's script at the next frame):
+                // reading it here would force a layout inside every cycle.
                 phase("results", now_ms() - t0);
                 text
             }
@@ -594,6 +596,14 @@ pub fn canvases_resized() -> Result<(), JsValue> {
         dom::mark_scrollable_tables(&document()?)?;
         paint_all(page)
     })
+}
+
+/// Marks every table box that scrolls sideways as a focusable, labelled region (keyboard users
+/// can then scroll it) and unmarks those that no longer do. Reads layout: the page's script
+/// calls it at the next animation frame after the results change, not inside a design cycle.
+#[wasm_bindgen]
+pub fn refresh_scrollable_tables() -> Result<(), JsValue> {
+    dom::mark_scrollable_tables(&document()?)
 }
 
 /// Choose how the state plot is scaled: each state divided by its peak (`true`, shows
