@@ -446,7 +446,11 @@ fn a_load_enters_through_e_and_e_is_checked_against_the_plant() {
 fn state_limits_are_reported_against_the_peaks() {
     // Double integrator from x₀ = [1, 0] with poles −1, −2 (K = [2, 3]): the velocity is
     // v(t) = −2 e^{−t} + 2 e^{−2t}, largest in magnitude at t = ln 2 where |v| = 0.5 (by hand).
-    let body = |limits: &str| format!(r#""plant": {{"a": [[0, 1], [0, 0]], "b": [[0], [1]], "state_names": ["position", "velocity"], "state_units": ["m", "m/s"], "state_limits": {limits}}}, "feedback": {{"poles": [-1, -2]}}, "simulation": {{"initial_state": [1, 0], "duration": 10}}"#);
+    let body = |limits: &str| {
+        format!(
+            r#""plant": {{"a": [[0, 1], [0, 0]], "b": [[0], [1]], "state_names": ["position", "velocity"], "state_units": ["m", "m/s"], "state_limits": {limits}}}, "feedback": {{"poles": [-1, -2]}}, "simulation": {{"initial_state": [1, 0], "duration": 10}}"#
+        )
+    };
     let tight = design(&body("[null, 0.4]")).unwrap();
     let peak = tight.simulation.peak_state[1];
     assert!((peak - 0.5).abs() < 1e-4, "{peak}");

@@ -215,7 +215,9 @@ fn c_export_compiles_prints_the_design_and_reproduces_the_simulation() {
     let belt = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples/belt-axis-digital.json")).unwrap();
     // The belt axis saturates: a 60 N limit on a 10 mm step with integral action and clamping.
     let saturating = belt.replace("\"limit\": [60]", "\"limit\": [0.5]");
-    for (tag, doc, digital) in [("continuous", CONTINUOUS, false), ("delay-current", DELAY_CURRENT, true), ("integral-saturating", saturating.as_str(), true), ("two-degrees-of-freedom", TWO_DOF, true)] {
+    for (tag, doc, digital) in
+        [("continuous", CONTINUOUS, false), ("delay-current", DELAY_CURRENT, true), ("integral-saturating", saturating.as_str(), true), ("two-degrees-of-freedom", TWO_DOF, true)]
+    {
         for precision in [Precision::Double, Precision::Float] {
             let label = format!("{tag}/{precision:?}");
             let run = compile_and_run(doc, precision, &label);

@@ -78,11 +78,17 @@ pub struct Zeros {
 #[derive(Debug, Clone, PartialEq)]
 pub enum ZerosError {
     /// The matrices do not fit together (`what`: expected and found sizes).
-    Size { what: &'static str, expected: usize, found: usize },
+    Size {
+        what: &'static str,
+        expected: usize,
+        found: usize,
+    },
     Svd(SvdError),
     Eigen(EigenError),
     /// The alternating reduction did not reach a square, invertible `D` within its limit.
-    NoConvergence { steps: usize },
+    NoConvergence {
+        steps: usize,
+    },
 }
 
 impl std::fmt::Display for ZerosError {

@@ -243,7 +243,10 @@ fn positive_limit(k: usize, v: f64, token: &str, what: &str) -> Result<Option<f6
     if v > 0.0 && v.is_finite() {
         Ok(Some(v))
     } else {
-        Err(format!("entry {k}: {token} must be a positive number (a limit is the largest magnitude the {what} can reach); write none for {} {what} without a limit", if what.starts_with(['a', 'e', 'i', 'o', 'u']) { "an" } else { "a" }))
+        Err(format!(
+            "entry {k}: {token} must be a positive number (a limit is the largest magnitude the {what} can reach); write none for {} {what} without a limit",
+            if what.starts_with(['a', 'e', 'i', 'o', 'u']) { "an" } else { "a" }
+        ))
     }
 }
 

@@ -169,7 +169,11 @@ pub struct ObserverResult {
 #[derive(Debug, Clone, Serialize)]
 #[serde(tag = "mode", rename_all = "snake_case")]
 pub enum TrackingResult {
-    Feedforward { outputs: Vec<String>, nx: Vec<Vec<f64>>, nu: Vec<Vec<f64>> },
+    Feedforward {
+        outputs: Vec<String>,
+        nx: Vec<Vec<f64>>,
+        nu: Vec<Vec<f64>>,
+    },
     Integral {
         outputs: Vec<String>,
         state_gain: Vec<Vec<f64>>,
@@ -282,9 +286,14 @@ pub struct ZerosResult {
     pub zeros: Vec<Pair>,
     /// Per zero, `σ_min(S(z)) / ‖S(z)‖₂` of the system matrix (0 at an exact zero).
     pub residuals: Vec<f64>,
-    /// A zero in the right half-plane (outside the unit circle for a digital design): the
-    /// response of an output first moves the wrong way, and feedback cannot move the zero.
+    /// Per zero, whether it lies in the right half-plane (outside the unit circle for a digital
+    /// design), beyond rounding (1e-9) of the boundary.
+    pub unstable: Vec<bool>,
+    /// Some zero is unstable: feedback cannot move it, and (unless it is a sampling zero on the
+    /// negative real axis of the z-plane) an output's step response first moves the wrong way.
     pub non_minimum_phase: bool,
+    /// The zeros are those to the tracked outputs (tracking is on), not to every output.
+    pub tracked_only: bool,
 }
 
 /// How sensitive each closed-loop pole of the loop as built is to model error.

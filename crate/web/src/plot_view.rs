@@ -61,6 +61,9 @@ pub fn zoom_plot(id: &str, factor: f64, x: f64, y: f64) -> Result<(), JsValue> {
             page.pole_scene.view = page.pole_view;
         } else if let Some((scene, frame)) = page.time_frame(id)? {
             let window = crate::plot::zoom_window(scene.time_range(), scene.window, factor, frame.x.to_data(x));
+            if window == scene.window {
+                return Ok(());
+            }
             page.set_window(id, window);
         }
         paint_all(page)
@@ -82,6 +85,9 @@ pub fn pan_plot(id: &str, dx: f64, dy: f64) -> Result<(), JsValue> {
             page.pole_scene.view = page.pole_view;
         } else if let Some((scene, frame)) = page.time_frame(id)? {
             let window = crate::plot::pan_window(scene.time_range(), scene.window, -dx / frame.plot.width.max(1.0));
+            if window == scene.window {
+                return Ok(()); // nothing moved (the whole run is shown, or an end is reached)
+            }
             page.set_window(id, window);
         }
         paint_all(page)

@@ -150,7 +150,10 @@ fn tracking(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, out: 
         };
         let two_dof = t.feedforward == Some(true);
         if two_dof && mode != TrackingMode::Integral {
-            c.push(P::TrackingFeedforward, "feedforward added to integral action (two degrees of freedom) needs tracking.mode integral; with mode feedforward the reference is fed forward already: leave this out");
+            c.push(
+                P::TrackingFeedforward,
+                "feedforward added to integral action (two degrees of freedom) needs tracking.mode integral; with mode feedforward the reference is fed forward already: leave this out",
+            );
         }
         if let (Some(o), Some(m)) = (&chosen, m) {
             tracked = Some(o.len());

@@ -188,7 +188,14 @@ pub(super) fn basics(spec: &DesignSpec, plant: Option<&Plant>, c: &mut Checker) 
             );
         }
         if let Some(l) = state_limits.as_ref().filter(|l| !l.is_empty() && l.len() != n) {
-            c.push(P::PlantStateLimits, format!("{} given but the plant has {}; give one limit per state in the order of the rows of A (none for a state without a limit), or leave this out", plural(l.len(), "limit", "limits"), plural(n, "state", "states")));
+            c.push(
+                P::PlantStateLimits,
+                format!(
+                    "{} given but the plant has {}; give one limit per state in the order of the rows of A (none for a state without a limit), or leave this out",
+                    plural(l.len(), "limit", "limits"),
+                    plural(n, "state", "states")
+                ),
+            );
         }
         if let Some(Some(x)) = initial_state.as_ref().filter(|x| x.as_ref().is_some_and(|x| x.len() != n)) {
             c.push(

@@ -143,26 +143,18 @@ fn step_source(c: &Controller, precision: Precision) -> String {
     }
     // 3. The command.
     s.push_str("    for (i = 0; i < PW_INPUTS; ++i) cmd[i] = 0;\n");
-    match c.tracking {
-        Tracking::None => s.push_str(&mat_vec("K", "est", "cmd", "-")),
-        Tracking::Feedforward => {
-            s.push_str("    for (i = 0; i < PW_STATES; ++i) dx[i] = est[i];\n");
-            s.push_str(&mat_vec("N_X", "reference", "dx", "-"));
-            s.push_str(&mat_vec("N_U", "reference", "cmd", "+"));
-            s.push_str(&mat_vec("K", "dx", "cmd", "-"));
-        }
-        Tracking::Integral if c.matrix("N_x").is_some() => {
-            // Two degrees of freedom: the reference fed forward, the integrator on the error.
-            s.push_str("    for (i = 0; i < PW_STATES; ++i) dx[i] = est[i];\n");
-            s.push_str(&mat_vec("N_X", "reference", "dx", "-"));
-            s.push_str(&mat_vec("N_U", "reference", "cmd", "+"));
-            s.push_str(&mat_vec("K", "dx", "cmd", "-"));
-            s.push_str(&mat_vec("K_I", "s->z", "cmd", "-"));
-        }
-        Tracking::Integral => {
-            s.push_str(&mat_vec("K", "est", "cmd", "-"));
-            s.push_str(&mat_vec("K_I", "s->z", "cmd", "-"));
-        }
+    // The reference fed forward (feedforward, or integral action with it: two degrees of
+    // freedom): u = N_u r − K (x̂ − N_x r); else u = −K x̂. Integral action adds − K_i z.
+    if c.matrix("N_x").is_some() {
+        s.push_str("    for (i = 0; i < PW_STATES; ++i) dx[i] = est[i];\n");
+        s.push_str(&mat_vec("N_X", "reference", "dx", "-"));
+        s.push_str(&mat_vec("N_U", "reference", "cmd", "+"));
+        s.push_str(&mat_vec("K", "dx", "cmd", "-"));
+    } else {
+        s.push_str(&mat_vec("K", "est", "cmd", "-"));
+    }
+    if c.tracking == Tracking::Integral {
+        s.push_str(&mat_vec("K_I", "s->z", "cmd", "-"));
     }
     if c.computation_delay {
         s.push_str("    for (i = 0; i < PW_INPUTS; ++i) ua[i] = s->u_prev[i];\n");
@@ -184,8 +176,9 @@ fn step_source(c: &Controller, precision: Precision) -> String {
         match c.anti_windup {
             AntiWindup::Clamp => s.push_str(&format!("        if (!clipped) for (i = 0; i < PW_TRACKED; ++i) s->z[i] += {t} * e[i];\n")),
             AntiWindup::BackCalculation { time_constant } => {
-                s.push_str("        for (i = 0; i < PW_INPUTS; ++i) dx[i] = u[i] - cmd[i];\n");
-                s.push_str(&format!("        for (i = 0; i < PW_TRACKED; ++i) {{\n            pw_real back = 0;\n            for (j = 0; j < PW_INPUTS; ++j) back += PW_K_I_PINV[i * PW_INPUTS + j] * dx[j];\n            s->z[i] += {t} * (e[i] - back / {});\n        }}\n", literal(precision, time_constant)));
+                // du has its own PW_INPUTS entries (dx has PW_STATES, fewer with more inputs).
+                s.push_str("        pw_real du[PW_INPUTS];\n        for (i = 0; i < PW_INPUTS; ++i) du[i] = u[i] - cmd[i];\n");
+                s.push_str(&format!("        for (i = 0; i < PW_TRACKED; ++i) {{\n            pw_real back = 0;\n            for (j = 0; j < PW_INPUTS; ++j) back += PW_K_I_PINV[i * PW_INPUTS + j] * du[j];\n            s->z[i] += {t} * (e[i] - back / {});\n        }}\n", literal(precision, time_constant)));
             }
             AntiWindup::None => s.push_str(&format!("        for (i = 0; i < PW_TRACKED; ++i) s->z[i] += {t} * e[i];\n")),
         }

@@ -377,5 +377,9 @@ fn state_limit_row(result: &DesignResult) -> Option<(String, String, String)> {
     let (i, ratio) = limits.iter().zip(peaks).enumerate().filter_map(|(i, (l, p))| l.map(|l| (i, p / l))).max_by(|a, b| a.1.total_cmp(&b.1))?;
     let name = result.plant.state_names.get(i).cloned().unwrap_or_default();
     let situation = if result.closed_loop.is_some() { "loop simulation" } else { "free response" };
-    Some((format!("State limits ({situation})"), format!("largest: {name} at {} % of its limit", fmt_num(100.0 * ratio)), if ratio <= 1.0 { "within the limits" } else { "EXCEEDED: see warnings" }.into()))
+    Some((
+        format!("State limits ({situation})"),
+        format!("largest: {name} at {} % of its limit", fmt_num(100.0 * ratio)),
+        if ratio <= 1.0 { "within the limits" } else { "EXCEEDED: see warnings" }.into(),
+    ))
 }

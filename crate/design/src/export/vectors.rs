@@ -56,7 +56,9 @@ pub(super) fn file(c: &Controller, head: &[String], design: &CheckedDesign) -> R
         Tracking::Feedforward => {
             TrackingLaw::Feedforward { nx: matrix(c, "N_x").ok_or_else(|| not_available("N_x is missing"))?, nu: matrix(c, "N_u").ok_or_else(|| not_available("N_u is missing"))? }
         }
-        Tracking::Integral => TrackingLaw::Integral { ki: matrix(c, "K_i").ok_or_else(|| not_available("K_i is missing"))?, anti_windup: c.anti_windup, feedforward: matrix(c, "N_x").zip(matrix(c, "N_u")) },
+        Tracking::Integral => {
+            TrackingLaw::Integral { ki: matrix(c, "K_i").ok_or_else(|| not_available("K_i is missing"))?, anti_windup: c.anti_windup, feedforward: matrix(c, "N_x").zip(matrix(c, "N_u")) }
+        }
     };
     let ctrl = LoopController {
         k,

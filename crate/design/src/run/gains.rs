@@ -76,7 +76,9 @@ pub(super) fn gains(s: &Setup, pair: &DesignPair) -> Result<Gains, DesignError> 
     let k_i = s.integral_poles.map(|_| placement.gain.columns(pair.nd, s.q()).into_owned());
     let observer = observer(s, pair)?;
     let feedforward = match &s.spec.tracking {
-        crate::TrackingSpec::Feedforward { .. } | crate::TrackingSpec::Integral { feedforward: true, .. } => Some(feedforward_gains(&s.ad, &s.bd, &s.ct, &s.dt, s.t.is_some()).map_err(|e| infeasible(&e))?),
+        crate::TrackingSpec::Feedforward { .. } | crate::TrackingSpec::Integral { feedforward: true, .. } => {
+            Some(feedforward_gains(&s.ad, &s.bd, &s.ct, &s.dt, s.t.is_some()).map_err(|e| infeasible(&e))?)
+        }
         _ => None,
     };
     Ok(Gains { placement, k_x, k_u, k_i, observer, feedforward })

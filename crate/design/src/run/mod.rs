@@ -334,20 +334,29 @@ pub fn run_checked_continued(design: &CheckedDesign, previous: Option<&crate::Co
 
 /// The plant's zeros in the design's domain; `Ok(None)` without outputs.
 fn plant_zeros(s: &setup::Setup) -> Result<Option<ZerosResult>, String> {
-    let Some(c) = s.plant.c() else { return Ok(None) };
-    let (_, d) = output_matrices(s.plant);
-    if s.ad.nrows() != c.ncols() {
-        return Err("the zeros are computed for the plant without its computation-delay states".into());
+    if s.plant.c().is_none() {
+        return Ok(None);
     }
-    let z = crate::zeros::try_invariant_zeros(&s.ad, &s.bd, c, &d, crate::zeros::ZeroParams::default()).map_err(|e| e.to_string())?;
-    let unstable = |z: &Complex64| match s.domain {
-        crate::analysis::Domain::Discrete => z.norm() > 1.0,
-        crate::analysis::Domain::Continuous => z.re > 0.0,
+    // With tracking, the zeros from the inputs to the tracked outputs (those a step is judged
+    // on); else to every output.
+    let tracked_only = !s.tracked.is_empty();
+    let (c, d) = if tracked_only { (s.ct.clone(), s.dt.clone()) } else { output_matrices(s.plant) };
+    let z = crate::zeros::try_invariant_zeros(&s.ad, &s.bd, &c, &d, crate::zeros::ZeroParams::default()).map_err(|e| e.to_string())?;
+    // A zero within rounding (1e-9, relative to its size in the s-plane) of the stability
+    // boundary is not called unstable.
+    let unstable = |w: &Complex64| {
+        let tol = match s.domain {
+            crate::analysis::Domain::Continuous => 1e-9 * w.norm().max(1.0),
+            crate::analysis::Domain::Discrete => 1e-9,
+        };
+        !s.domain.is_strictly_stable(*w, tol) && !s.domain.is_marginal(*w, tol)
     };
-    let mut zeros = z.zeros.clone();
-    crate::linalg::eigen::sort_eigenvalues(&mut zeros);
-    let residuals = zeros.iter().map(|w| z.zeros.iter().position(|v| v == w).and_then(|i| z.residuals.get(i).copied()).unwrap_or(f64::NAN)).collect();
-    Ok(Some(ZerosResult { non_minimum_phase: zeros.iter().any(unstable), zeros: zeros.iter().map(|w| pair(*w)).collect(), residuals }))
+    let mut order: Vec<usize> = (0..z.zeros.len()).collect();
+    order.sort_by(|&i, &j| z.zeros[i].re.total_cmp(&z.zeros[j].re).then(z.zeros[j].im.total_cmp(&z.zeros[i].im)));
+    let zeros: Vec<Complex64> = order.iter().map(|&i| z.zeros[i]).collect();
+    let residuals = order.iter().map(|&i| z.residuals.get(i).copied().unwrap_or(f64::NAN)).collect();
+    let unstable: Vec<bool> = zeros.iter().map(unstable).collect();
+    Ok(Some(ZerosResult { non_minimum_phase: unstable.contains(&true), zeros: zeros.iter().map(|w| pair(*w)).collect(), residuals, unstable, tracked_only }))
 }
 
 /// The sample-rate advice in words, with the figures in the display format.

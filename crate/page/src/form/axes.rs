@@ -118,11 +118,14 @@ fn divided(scene: TimePlotScene, groups: &[Group], quantity: &str) -> TimePlotSc
             Series { name, values: s.values.iter().map(|v| v * k).collect(), ..s.clone() }
         })
         .collect();
+    // A pinned signal takes its current counterpart's scale (same colour slot), so that the two
+    // are compared on one scale even for a signal without a limit.
+    let current_scale = |colour: Option<usize>| scene.series.iter().find(|s| s.colour == colour).map(|s| scale_of(s.colour, &s.values).0);
     let pinned = scene
         .pinned
         .iter()
         .map(|s| {
-            let (k, _) = scale_of(s.colour, &s.values);
+            let k = current_scale(s.colour).unwrap_or_else(|| scale_of(s.colour, &s.values).0);
             PinnedSeries { values: s.values.iter().map(|v| v * k).collect(), ..s.clone() }
         })
         .collect();

@@ -27,6 +27,9 @@ pub struct ReportContext {
     pub search_notes: Vec<String>,
     /// Samples of the uncertainty cloud the form asks for (drawn on demand).
     pub uncertainty_samples: Option<usize>,
+    /// The load step acts through the disturbance input matrix E (one value per column of E,
+    /// not per input).
+    pub loads_through_e: bool,
 }
 
 impl ReportContext {
@@ -66,6 +69,7 @@ impl ReportContext {
                 .unwrap_or_default(),
             search_notes: Vec::new(),
             uncertainty_samples: spec.robustness.uncertainty.as_ref().map(|u| u.samples),
+            loads_through_e: spec.scenario.disturbance_input.is_some(),
         }
     }
 }

@@ -53,7 +53,10 @@
 //! | `delay_poles` | no | one z-plane pole per input for the delay states (blank: 0) |
 //! | `plane` | no | `s` (blank) or `z`: the plane the poles are given in |
 //! | `reference`, `reference_time` | no | reference step per tracked output (blank: 1) and its time |
-//! | `disturbance`, `disturbance_time` | no | load step per input and its time |
+//! | `disturbance`, `disturbance_time` | no | load step per input (or per column of E) and its time |
+//! | `disturbance_input` | no | disturbance input matrix E (states × loads): where the load step enters |
+//! | `state_limits` | no | one limit per state (positive), `none` for a state without one |
+//! | `tracking_feedforward` | no | `true`: integral action with the reference also fed forward |
 //! | `noise_std`, `seed` | no | measurement-noise standard deviation per output, and the seed |
 //! | `disk_skew` | no | skew of the disk margins, −1 to 1 (blank: 0, symmetric) |
 //! | `sensitivity_entry` | no | the plant entry whose effect on each pole is shown, e.g. `A 2 1` |

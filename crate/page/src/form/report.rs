@@ -558,20 +558,35 @@ pub fn zeros_text(result: &DesignResult) -> String {
     let Some(z) = &result.zeros else { return String::new() };
     let discrete = result.domain == crate::analysis::Domain::Discrete;
     let (plane, region) = if discrete { ("z-plane, the sampled plant's", "outside the unit circle") } else { ("s-plane", "in the right half-plane") };
+    let to = if z.tracked_only { "the tracked outputs" } else { "the outputs C" };
     if z.zeros.is_empty() {
-        return format!("Plant zeros (from the inputs to the outputs C, {plane}): none.");
+        return format!("Plant zeros (from the inputs to {to}, {plane}): none.");
     }
     let mut list: Vec<Complex64> = z.zeros.iter().map(c64).collect();
     sort_for_display(&mut list);
-    let unstable = list.iter().filter(|w| if discrete { w.norm() > 1.0 } else { w.re > 0.0 }).count();
-    let mut text = format!("Plant zeros (from the inputs to the outputs C, {plane}): {}.", display::pole_list(&list));
-    if z.non_minimum_phase {
+    let mut text = format!("Plant zeros (from the inputs to {to}, {plane}): {}.", display::pole_list(&list));
+    let (sampling, others) = unstable_zeros(result);
+    if !others.is_empty() {
         text.push_str(&format!(
             " {} {region}: the plant is non-minimum-phase — after a step an output first moves the wrong way (undershoot), and feedback cannot move such a zero; keep the closed-loop bandwidth well below it (common practice).",
-            plural(unstable, "zero", "zeros")
+            plural(others.len(), "zero", "zeros")
+        ));
+    }
+    if !sampling.is_empty() {
+        text.push_str(&format!(
+            " {} on the negative real axis outside the unit circle: sampling zeros (from sampling a plant whose output lags its input by two or more integrations); they do not make a step dip, but a controller that cancels them rings between samples.",
+            plural(sampling.len(), "zero", "zeros")
         ));
     }
     text
+}
+
+/// The unstable zeros, split into sampling zeros (a digital design's, on the negative real
+/// axis) and the others (those that make a step response dip).
+pub(crate) fn unstable_zeros(result: &DesignResult) -> (Vec<Complex64>, Vec<Complex64>) {
+    let Some(z) = &result.zeros else { return (Vec::new(), Vec::new()) };
+    let discrete = result.domain == crate::analysis::Domain::Discrete;
+    z.zeros.iter().zip(&z.unstable).filter(|(_, u)| **u).map(|(p, _)| c64(p)).partition(|w| discrete && w.re < 0.0 && w.im.abs() <= 1e-9 * w.norm())
 }
 
 /// `value unit`, or the value alone.
@@ -709,11 +724,32 @@ pub(crate) fn controller_report(result: &DesignResult, context: &ReportContext) 
         Some(TrackingResult::Integral { outputs: names, integral_gain, nx, nu, .. }) => {
             let cols: Vec<String> = names.iter().map(|n| format!("∫ error of {}", output_label(result, &context.output_units, n))).collect();
             let refs: Vec<String> = names.iter().map(|n| format!("per unit r of {}", output_label(result, &context.output_units, n))).collect();
-            let mut tables = vec![matrix_table("K_i", "K_i: integral gain, one row per input, one column per integrator (tracked output)", "u = -K x - K_i z; K_i has one row per input and one column per integrator", inputs.clone(), cols, integral_gain)];
+            let mut tables = vec![matrix_table(
+                "K_i",
+                "K_i: integral gain, one row per input, one column per integrator (tracked output)",
+                "u = -K x - K_i z; K_i has one row per input and one column per integrator",
+                inputs.clone(),
+                cols,
+                integral_gain,
+            )];
             let mut note = format!("Integral action: one integrator z of r − y per tracked output ({}); the state gain K_x of u = −K_x x − K_i z is the gain K above. Placed with the plant: the desired poles and the integrator poles together.", names.join(", "));
             if let (Some(nx), Some(nu)) = (nx, nu) {
-                tables.push(matrix_table("N_x", "N_x: the steady state per unit of reference, fed forward (one row per state, one column per tracked output)", "N_x: steady state per unit reference; one row per state, one column per tracked output", states.clone(), refs.clone(), nx));
-                tables.push(matrix_table("N_u", "N_u: the steady input per unit of reference, fed forward (one row per input, one column per tracked output)", "N_u: steady input per unit reference; one row per input, one column per tracked output", inputs.clone(), refs, nu));
+                tables.push(matrix_table(
+                    "N_x",
+                    "N_x: the steady state per unit of reference, fed forward (one row per state, one column per tracked output)",
+                    "N_x: steady state per unit reference; one row per state, one column per tracked output",
+                    states.clone(),
+                    refs.clone(),
+                    nx,
+                ));
+                tables.push(matrix_table(
+                    "N_u",
+                    "N_u: the steady input per unit of reference, fed forward (one row per input, one column per tracked output)",
+                    "N_u: steady input per unit reference; one row per input, one column per tracked output",
+                    inputs.clone(),
+                    refs,
+                    nu,
+                ));
                 note.push_str(" Two degrees of freedom: the reference is also fed forward (u = N_u r − K (x − N_x r) − K_i z), so a step acts at once instead of waiting for the integrator, which only removes what the model got wrong (a load, a gain error).");
             }
             (tables, Some(note))
@@ -900,7 +936,13 @@ pub(crate) fn loop_parts(result: &DesignResult, context: &ReportContext) -> Loop
                 .iter()
                 .enumerate()
                 .filter(|(_, w)| **w != 0.0)
-                .map(|(i, w)| format!("{} on {}", with_unit(fmt_num(*w), p.input_units.get(i)), p.input_names.get(i).map_or("", |s| s.as_str())))
+                .map(|(i, w)| {
+                    if context.loads_through_e {
+                        format!("{} through column {} of E", fmt_num(*w), i + 1)
+                    } else {
+                        format!("{} on {}", with_unit(fmt_num(*w), p.input_units.get(i)), p.input_names.get(i).map_or("", |s| s.as_str()))
+                    }
+                })
                 .collect();
             parts.push(format!("a load step of {} at t = {} s", loads.join(" and "), fmt_num(context.disturbance_time)));
             events.push(EventLine { time: context.disturbance_time, label: "load step".into() });

@@ -188,22 +188,29 @@ pub(crate) fn shared_input_unit(result: &DesignResult) -> Option<String> {
     }
 }
 
+/// True when the plotted times are the samples themselves (not thinned): consecutive times
+/// at most 1.5 sample times apart.
+fn every_sample(t: &[f64], sample_time: Option<f64>) -> bool {
+    match (sample_time, t) {
+        (Some(ts), [a, b, ..]) => b - a <= 1.5 * ts,
+        _ => false,
+    }
+}
+
 /// Applied inputs versus time, with each input's limit drawn at ± limit.
 pub fn inputs_scene(result: &DesignResult) -> TimePlotScene {
     let p = &result.plant;
     let s = &result.simulation;
-    let units: Vec<&str> = p.input_units.iter().map(|u| u.trim()).collect();
-    let shared_unit = match units.first() {
-        Some(u) if !u.is_empty() && units.iter().all(|v| v == u) => Some(*u),
-        _ => None,
-    };
+    let shared_unit = shared_input_unit(result);
+    // A digital design's inputs are held between samples: a staircase, drawn only where every
+    // sample is plotted (a thinned series would show steps several samples wide).
+    let hold = result.domain == crate::analysis::Domain::Discrete && every_sample(&s.time, result.sample_time);
     let series = s
         .inputs
         .iter()
         .enumerate()
         .map(|(i, values)| Series {
-            // A digital design's inputs are held between samples.
-            hold: result.domain == crate::analysis::Domain::Discrete,
+            hold,
             name: if shared_unit.is_some() { p.input_names.get(i).cloned().unwrap_or_default() } else { label(&p.input_names.get(i).cloned().unwrap_or_default(), p.input_units.get(i)) },
             values: values.clone(),
             ..Series::default()
@@ -284,8 +291,9 @@ pub fn loop_inputs_scene(result: &DesignResult, report: &Report) -> Option<TimeP
             label(&n, p.input_units.get(i))
         }
     };
-    // A digital controller's commands are held between samples (zero-order hold).
-    let hold = l.sample_time.is_some();
+    // A digital controller's commands are held between samples (zero-order hold), drawn as a
+    // staircase where every sample is plotted.
+    let hold = l.sample_time.is_some() && every_sample(&l.time, l.sample_time);
     let mut series: Vec<Series> = l.inputs.iter().enumerate().map(|(i, v)| Series { name: format!("{} applied", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(0), hold }).collect();
     series.extend(l.commanded.iter().enumerate().map(|(i, v)| Series { name: format!("{} commanded", name_of(i)), values: v.clone(), colour: Some(i), dash: Some(1), hold }));
     Some(loop_scene(l, report, series, limit_lines(result), "input", shared))

@@ -81,10 +81,12 @@ fn placement_verdict(result: &DesignResult) -> Verdict {
 
 /// Only when a plant zero lies in the unstable region (the zeros are listed under Details).
 fn zeros_verdict(result: &DesignResult) -> Option<Verdict> {
-    let z = result.zeros.as_ref().filter(|z| z.non_minimum_phase)?;
-    let discrete = result.domain == Domain::Discrete;
-    let worst = z.zeros.iter().map(c64).filter(|w| if discrete { w.norm() > 1.0 } else { w.re > 0.0 }).min_by(|a, b| a.norm().total_cmp(&b.norm()))?;
-    Some(verdict(format!("Non-minimum-phase plant: a zero at {} (outputs first move the wrong way after a step).", crate::design::format::complex(worst)), true))
+    let (sampling, others) = unstable_zeros(result);
+    let nearest = |v: &[Complex64]| v.iter().copied().min_by(|a, b| a.norm().total_cmp(&b.norm()));
+    if let Some(w) = nearest(&others) {
+        return Some(verdict(format!("Non-minimum-phase plant: a zero at {} (outputs first move the wrong way after a step).", crate::design::format::complex(w)), true));
+    }
+    nearest(&sampling).map(|w| verdict(format!("A sampling zero at {} outside the unit circle: do not cancel it with the controller.", crate::design::format::complex(w)), true))
 }
 
 fn controllability_verdict(result: &DesignResult) -> Verdict {
@@ -112,7 +114,7 @@ fn input_verdict(result: &DesignResult) -> Option<Verdict> {
     match worst {
         Some((i, ratio)) => {
             let over = ratio > 1.0;
-            let how = if over { "over its limit" } else { "of its limit" };
+            let how = if over { "of its limit (over it)" } else { "of its limit" };
             Some(verdict(format!("Peak input {} % {how}: {} ({source}).", fmt_num(100.0 * ratio), name(i)), over))
         }
         None if peaks.is_empty() => None,
@@ -130,7 +132,7 @@ fn state_verdict(result: &DesignResult) -> Option<Verdict> {
     let p = &result.plant;
     let name = label(p.state_names.get(i).map_or("state", String::as_str), p.state_units.get(i));
     let over = ratio > 1.0;
-    Some(verdict(format!("Peak state {} % {}: {name} ({source}).", fmt_num(100.0 * ratio), if over { "over its limit" } else { "of its limit" }), over))
+    Some(verdict(format!("Peak state {} % {}: {name} ({source}).", fmt_num(100.0 * ratio), if over { "of its limit (over it)" } else { "of its limit" }), over))
 }
 
 fn margin_verdict(result: &DesignResult) -> Verdict {

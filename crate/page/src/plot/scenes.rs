@@ -122,7 +122,8 @@ pub struct PolePick {
 
 impl PoleMapScene {
     /// Field names, for front ends that must reject unknown keys themselves.
-    pub const FIELDS: &'static [&'static str] = &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view", "uncertain", "zeros"];
+    pub const FIELDS: &'static [&'static str] =
+        &["open_loop", "closed_loop", "not_assigned", "observer", "discrete", "fit_poles", "highlight", "requested", "pinned", "region", "view", "uncertain", "zeros"];
 
     /// Every finite marker in keyboard order: editable requested poles, closed-loop poles,
     /// observer poles, requested poles that could not be assigned, open-loop poles, the plant's

@@ -10,8 +10,8 @@ pub const MIN_WINDOW_FRACTION: f64 = 1e-6;
 /// A time window zoomed by `factor` (> 1 zooms in) about the time `at`, kept inside `full`;
 /// `None` when it would show the whole run again.
 pub fn zoom_window(full: Range, current: Option<[f64; 2]>, factor: f64, at: f64) -> Option<[f64; 2]> {
-    let [lo, hi] = current.unwrap_or([full.min, full.max]);
-    if !(factor.is_finite() && factor > 0.0 && full.span() > 0.0) {
+    let [lo, hi] = current.filter(|[a, b]| b > a && a.is_finite() && b.is_finite()).unwrap_or([full.min, full.max]);
+    if !(factor.is_finite() && factor > 0.0 && full.span() > 0.0 && full.span().is_finite()) {
         return current;
     }
     let at = if at.is_finite() { at.clamp(lo, hi) } else { 0.5 * (lo + hi) };
@@ -26,14 +26,21 @@ pub fn zoom_window(full: Range, current: Option<[f64; 2]>, factor: f64, at: f64)
 /// A time window moved by `fraction` of its own width (positive: later), kept inside `full`.
 pub fn pan_window(full: Range, current: Option<[f64; 2]>, fraction: f64) -> Option<[f64; 2]> {
     let [lo, hi] = current?;
-    if !fraction.is_finite() {
+    if !(fraction.is_finite() && hi > lo) {
         return current;
+    }
+    // A window kept from a longer run may now be as wide as the whole run: show it all.
+    if hi - lo >= full.span() {
+        return None;
     }
     Some(clamp_window(full, lo + fraction * (hi - lo), hi - lo))
 }
 
+/// `[left, left + span]` moved inside `full` (a span wider than `full` is cut to it).
 fn clamp_window(full: Range, left: f64, span: f64) -> [f64; 2] {
-    let left = left.clamp(full.min, full.max - span);
+    let span = span.min(full.span()).max(0.0);
+    let right_most = (full.max - span).max(full.min);
+    let left = if left.is_finite() { left.max(full.min).min(right_most) } else { full.min };
     [left, left + span]
 }
 

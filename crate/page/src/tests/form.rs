@@ -985,3 +985,25 @@ fn a_non_minimum_phase_plant_shows_its_zero_and_its_dip() {
     assert_eq!(r.controller.as_ref().unwrap().loop_outputs[0].undershoot, "0 %");
     assert!(!r.verdicts.iter().any(|v| v.text.contains("Non-minimum")));
 }
+
+#[test]
+fn the_sampling_zeros_of_a_triple_integrator_are_named_as_such() {
+    // Zero-order hold of 1/s³: the sampled numerator is (T³/6)(z² + 4 z + 1), zeros −2 ± √3
+    // (Åström & Wittenmark, Computer-Controlled Systems; from memory; any T). The one at
+    // −3.732 lies outside the unit circle: a sampling zero, not a reason for undershoot.
+    let f = FormInput { a: "0 1 0\n0 0 1\n0 0 0".into(), b: "0\n0\n1".into(), c: "1 0 0".into(), poles: "-2, -3, -4".into(), sample_time: "0.01".into(), ..Default::default() };
+    let out = evaluate_form(&f);
+    assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
+    let z = out.design.as_ref().unwrap().zeros.as_ref().unwrap();
+    let mut re: Vec<f64> = z.zeros.iter().map(|p| p[0]).collect();
+    re.sort_by(f64::total_cmp);
+    let want = [-2.0 - 3f64.sqrt(), -2.0 + 3f64.sqrt()];
+    assert_eq!(re.len(), 2);
+    for (g, w) in re.iter().zip(want) {
+        assert!((g - w).abs() < 1e-6, "{re:?}");
+    }
+    assert!(z.non_minimum_phase && !z.tracked_only);
+    let r = out.report.as_ref().unwrap();
+    assert!(r.zeros.contains("sampling zeros") && !r.zeros.contains("first moves the wrong way"), "{}", r.zeros);
+    assert!(r.verdicts.iter().any(|v| v.text.starts_with("A sampling zero at \u{2212}3.7321")), "{:?}", r.verdicts);
+}

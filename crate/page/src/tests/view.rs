@@ -46,3 +46,16 @@ fn a_region_of_the_plane_zooms_about_a_fixed_point_and_pans() {
     assert_eq!(pan_region(r, 0.25, -0.5), [-2.0, 6.0, -6.0, 0.0]);
     assert_eq!(zoom_region(r, 2.0, [f64::NAN, 0.0]), r);
 }
+
+#[test]
+fn a_window_from_a_longer_run_never_breaks_the_view() {
+    // A window zoomed on a run of 10 s, kept while a redesign shortened the run to 2 s: panning
+    // and zooming show the new run (no panic; the window is cut to it).
+    let short = Range { min: 0.0, max: 2.0 };
+    assert_eq!(pan_window(short, Some([1.0, 6.0]), 0.5), None);
+    assert_eq!(pan_window(short, Some([5.0, 6.0]), 0.5), Some([1.0, 2.0]));
+    let z = zoom_window(short, Some([5.0, 6.0]), 2.0, 5.5).unwrap();
+    assert!(z[0] >= 0.0 && z[1] <= 2.0 && z[1] > z[0], "{z:?}");
+    // A broken window is left alone (nothing to move), never a panic.
+    assert!(pan_window(short, Some([f64::NAN, 1.0]), 0.5).is_some_and(|w| w[0].is_nan() && w[1] == 1.0));
+}
