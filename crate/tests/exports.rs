@@ -136,8 +136,13 @@ fn compile_and_run(doc: &str, precision: Precision, tag: &str) -> Run {
         })
         .collect();
     std::fs::write(dir.join("harness.c"), HARNESS.replace("MATRICES", &prints.join("\n    "))).unwrap();
+    // Built with the address and undefined-behaviour sanitizers: an out-of-bounds write in the
+    // generated step (as the back-calculation scratch once was, with more inputs than states)
+    // stops the harness instead of passing silently.
+    // (The plain object is the one whose symbols are listed below.)
     gcc(&dir, &["-c", "polewright_controller.c", "-o", "controller.o"]);
-    gcc(&dir, &["harness.c", "controller.o", "-lm", "-o", "harness"]);
+    gcc(&dir, &["-fsanitize=address,undefined", "-fno-sanitize-recover=all", "-c", "polewright_controller.c", "-o", "controller_checked.o"]);
+    gcc(&dir, &["-fsanitize=address,undefined", "-fno-sanitize-recover=all", "harness.c", "controller_checked.o", "-lm", "-o", "harness"]);
     let vectors = export_text(doc, ExportFormat::Vectors, precision).ok();
     let mut cmd = Command::new(dir.join("harness"));
     if let Some(v) = &vectors {
@@ -210,14 +215,26 @@ const TWO_DOF: &str = r#"{"format": "polewright.design", "version": 3, "title": 
   "observer": {"speed_factor": 3}, "tracking": {"mode": "integral", "feedforward": true},
   "actuators": {"limit": [5]}, "simulation": {"reference": [0.5], "reference_time": 0.1, "disturbance": [0.3], "disturbance_time": 2}}"#;
 
+/// More inputs than states, integral action with back-calculation anti-windup, saturating
+/// (invented data): the generated step's scratch buffers must fit both counts.
+const MORE_INPUTS: &str = r#"{"format": "polewright.design", "version": 3, "title": "more inputs than states",
+  "plant": {"a": [[-1]], "b": [[1, 0.5]], "c": [[1]]},
+  "feedback": {"poles": [-3, -4]}, "implementation": {"sample_time": 0.01},
+  "tracking": {"mode": "integral"}, "anti_windup": {"mode": "back_calculation", "time_constant": 0.05},
+  "actuators": {"limit": [0.5, 0.5]}, "simulation": {"reference": [1], "reference_time": 0.1}}"#;
+
 #[test]
 fn c_export_compiles_prints_the_design_and_reproduces_the_simulation() {
     let belt = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples/belt-axis-digital.json")).unwrap();
     // The belt axis saturates: a 60 N limit on a 10 mm step with integral action and clamping.
     let saturating = belt.replace("\"limit\": [60]", "\"limit\": [0.5]");
-    for (tag, doc, digital) in
-        [("continuous", CONTINUOUS, false), ("delay-current", DELAY_CURRENT, true), ("integral-saturating", saturating.as_str(), true), ("two-degrees-of-freedom", TWO_DOF, true)]
-    {
+    for (tag, doc, digital) in [
+        ("continuous", CONTINUOUS, false),
+        ("delay-current", DELAY_CURRENT, true),
+        ("integral-saturating", saturating.as_str(), true),
+        ("two-degrees-of-freedom", TWO_DOF, true),
+        ("more-inputs-than-states", MORE_INPUTS, true),
+    ] {
         for precision in [Precision::Double, Precision::Float] {
             let label = format!("{tag}/{precision:?}");
             let run = compile_and_run(doc, precision, &label);
