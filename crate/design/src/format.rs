@@ -75,18 +75,34 @@ pub fn number_with(x: f64, digits: usize) -> String {
     let digits = digits.clamp(1, MAX_DIGITS);
     // Round to `digits` significant digits first (through the decimal text, so that the
     // rounding is the decimal one), then choose how to write the rounded value.
-    let rounded: f64 = format!("{:.*e}", digits - 1, x).parse().unwrap_or(x);
+    let scientific = format!("{:.*e}", digits - 1, x);
+    let rounded: f64 = scientific.parse().unwrap_or(x);
     let magnitude = rounded.abs();
-    let power = magnitude.log10().floor() as i32;
+    // The decimal exponent as the text has it (a logarithm could land one off at a power of 10).
+    let power: i32 = scientific.split_once('e').and_then(|(_, p)| p.parse().ok()).unwrap_or_else(|| magnitude.log10().floor() as i32);
     if (1e-3..1e6).contains(&magnitude) {
         let decimals = (digits as i32 - 1 - power).max(0) as usize;
         trim(format!("{rounded:.decimals$}"))
     } else {
-        let exponent = power.div_euclid(3) * 3;
-        let mantissa = rounded / 10f64.powi(exponent);
-        let decimals = (digits as i32 - 1 - (power - exponent)).max(0) as usize;
-        format!("{}e{exponent}", trim(format!("{mantissa:.decimals$}")))
+        engineering(&scientific, power)
     }
+}
+
+/// `d.ddd…e±p` (Rust's scientific text) moved to an exponent that is a multiple of 3 by
+/// shifting the decimal point in the text (exact: no division), trailing zeros dropped.
+fn engineering(scientific: &str, power: i32) -> String {
+    let (mantissa, _) = scientific.split_once('e').unwrap_or((scientific, "0"));
+    let negative = mantissa.starts_with('-');
+    let digits: String = mantissa.chars().filter(char::is_ascii_digit).collect();
+    let exponent = power.div_euclid(3) * 3;
+    let shift = (power - exponent) as usize; // 0, 1 or 2 digits before the point move left of it
+    let mut whole: String = digits.chars().take(shift + 1).collect();
+    while whole.len() < shift + 1 {
+        whole.push('0');
+    }
+    let fraction: String = digits.chars().skip(shift + 1).collect();
+    let text = if fraction.is_empty() { whole } else { format!("{whole}.{fraction}") };
+    format!("{}{}e{exponent}", if negative { "-" } else { "" }, trim(text))
 }
 
 fn trim(s: String) -> String {

@@ -23,6 +23,15 @@ fn engineering_exponents_outside_the_plain_range() {
     assert_eq!(number_with(-4.2e-7, 5), "-420e-9");
     assert_eq!(number_with(1.4079243886673304e-13, 5), "140.79e-15");
     assert_eq!(number_with(6.02e23, 3), "602e21");
+    // At 17 digits the text is shifted, not divided: it reads back to the very same double.
+    for x in [1.2345678901234567e-7, -9.876543210987654e12, 3.0e-300, 1.7976931348623157e308, 2.2250738585072014e-308] {
+        let text = number_with(x, 17);
+        assert_eq!(text.parse::<f64>().unwrap(), x, "{text}");
+    }
+    assert_eq!(number_with(-9.87654321e9, 5), "-9.8765e9");
+    assert_eq!(number_with(1e-5, 5), "10e-6");
+    assert_eq!(number_with(1e6, 5), "1e6");
+    assert_eq!(number_with(0.001, 5), "0.001");
     // Every exponent is a multiple of 3 and every mantissa is in [1, 1000).
     let mut x = 1.234567e-20;
     while x < 1e20 {
