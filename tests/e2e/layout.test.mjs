@@ -223,3 +223,33 @@ describe('zoom and pan', () => {
     }, { viewport: { width: 1280, height: 800 } });
   });
 });
+
+describe('targets', () => {
+  test('every visible control is at least 24 × 24 px, or a 20 px checkbox with room around it (WCAG 2.2, 2.5.8)', async () => {
+    await withPage(pageFileUrl, async ({ page }) => {
+      await loadDemo(page, 1);
+      const found = await page.evaluate(() => {
+        const all = [...document.querySelectorAll('button, select, input, textarea, summary, a, label.file-button')]
+          .filter((e) => e.offsetParent !== null && !e.classList.contains('visually-hidden'));
+        const boxes = all.map((e) => ({ e, r: e.getBoundingClientRect() }));
+        const out = { checked: 0, small: [] };
+        for (const { e, r } of boxes) {
+          out.checked += 1;
+          const name = `${e.tagName} ${e.id || e.className || e.textContent.trim().slice(0, 20)} ${Math.round(r.width)}×${Math.round(r.height)}`;
+          if (e.type === 'checkbox') {
+            // 20 px and no other target within a 24 px circle about its centre.
+            const cx = r.left + r.width / 2;
+            const cy = r.top + r.height / 2;
+            const crowded = boxes.some(({ e: o, r: q }) => o !== e && !(o.tagName === 'LABEL') && Math.max(q.left - cx, 0, cx - q.right) ** 2 + Math.max(q.top - cy, 0, cy - q.bottom) ** 2 < 12 * 12);
+            if (r.width < 19.5 || r.height < 19.5 || crowded) out.small.push(name);
+          } else if (r.width < 23.5 || r.height < 23.5) {
+            out.small.push(name);
+          }
+        }
+        return out;
+      });
+      assert.ok(found.checked > 60, `only ${found.checked} controls found`);
+      assert.deepEqual(found.small, []);
+    }, { viewport: { width: 1280, height: 800 } });
+  });
+});
