@@ -292,10 +292,18 @@ pub fn simulate_loop(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &D
             if !(t.is_finite() && t > 0.0) {
                 return Err(LoopError::BadTime { what: "the sample time", value: t });
             }
-            let (phi, gamma) = try_zero_order_hold(a, b, t)?;
-            let gamma_w = match &sc.disturbance_input {
-                Some(e) => try_zero_order_hold(a, e, t)?.1,
-                None => gamma.clone(),
+            // One hold of (A, [B E]) gives Γ and Γ_E together.
+            let (phi, gamma, gamma_w) = match &sc.disturbance_input {
+                Some(e) => {
+                    let (phi, both) = try_zero_order_hold(a, &concat_columns(b, e), t)?;
+                    let m = b.ncols();
+                    (phi, both.columns(0, m).into_owned(), both.columns(m, e.ncols()).into_owned())
+                }
+                None => {
+                    let (phi, gamma) = try_zero_order_hold(a, b, t)?;
+                    let gamma_w = gamma.clone();
+                    (phi, gamma, gamma_w)
+                }
             };
             digital(&phi, &gamma, &gamma_w, c, d, ctrl, sc, t)
         }
@@ -308,6 +316,14 @@ pub fn simulate_loop(a: &DMatrix<f64>, b: &DMatrix<f64>, c: &DMatrix<f64>, d: &D
             continuous(a, b, &e, c, d, ctrl, sc)
         }
     }
+}
+
+/// `[B E]`, side by side (same rows).
+fn concat_columns(b: &DMatrix<f64>, e: &DMatrix<f64>) -> DMatrix<f64> {
+    let mut out = DMatrix::<f64>::zeros(b.nrows(), b.ncols() + e.ncols());
+    out.columns_mut(0, b.ncols()).copy_from(b);
+    out.columns_mut(b.ncols(), e.ncols()).copy_from(e);
+    out
 }
 
 /// The number of disturbance values (columns of `E`, or the inputs) after checking the

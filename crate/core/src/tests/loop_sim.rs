@@ -25,11 +25,9 @@ fn scenario(duration: f64) -> LoopScenario {
     }
 }
 
-#[test]
-fn feedforward_tracks_a_step_exactly_in_steady_state() {
-    // Poles −2, −3: K = [6, 5]; N_x = [1, 0]ᵀ, N_u = 0 (by hand).
-    let (a, b, c, d) = double_integrator();
-    let ctrl = LoopController {
+/// Poles −2, −3 on the double integrator: K = [6, 5], N_x = [1, 0]ᵀ, N_u = 0 (by hand).
+fn feedforward_controller() -> LoopController {
+    LoopController {
         k: DMatrix::from_row_slice(1, 2, &[6.0, 5.0]),
         k_delay: None,
         observer: None,
@@ -38,7 +36,14 @@ fn feedforward_tracks_a_step_exactly_in_steady_state() {
         tracking: TrackingLaw::Feedforward { nx: DMatrix::from_row_slice(2, 1, &[1.0, 0.0]), nu: DMatrix::zeros(1, 1) },
         tracked_outputs: vec![0],
         sample_time: None,
-    };
+    }
+}
+
+#[test]
+fn feedforward_tracks_a_step_exactly_in_steady_state() {
+    // Poles −2, −3: K = [6, 5]; N_x = [1, 0]ᵀ, N_u = 0 (by hand).
+    let (a, b, c, d) = double_integrator();
+    let ctrl = feedforward_controller();
     let r = simulate_loop(&a, &b, &c, &d, &ctrl, &scenario(8.0)).unwrap();
     // y(t) = 1 − 3 e^{−2t} + 2 e^{−3t} (by hand).
     for (t, y) in r.time.iter().zip(&r.outputs[0]) {
@@ -105,16 +110,7 @@ fn a_load_through_e_equal_to_b_is_the_load_at_the_input_and_e_is_size_checked() 
     // E bit for bit (same stacked model), and a load on the velocity only through a different
     // column must change the response.
     let (a, b, c, d) = double_integrator();
-    let ctrl = LoopController {
-        k: DMatrix::from_row_slice(1, 2, &[6.0, 5.0]),
-        k_delay: None,
-        observer: None,
-        observer_form: ObserverForm::Predictor,
-        current_gain: None,
-        tracking: TrackingLaw::Feedforward { nx: DMatrix::from_row_slice(2, 1, &[1.0, 0.0]), nu: DMatrix::zeros(1, 1) },
-        tracked_outputs: vec![0],
-        sample_time: None,
-    };
+    let ctrl = feedforward_controller();
     let mut sc = scenario(6.0);
     sc.limits = vec![Some(2.0)];
     sc.disturbance = vec![0.5];

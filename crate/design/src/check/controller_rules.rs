@@ -157,27 +157,17 @@ fn tracking(spec: &DesignSpec, plant: Option<&Plant>, has_c: Option<bool>, out: 
         }
         if let (Some(o), Some(m)) = (&chosen, m) {
             tracked = Some(o.len());
-            if mode == TrackingMode::Integral && two_dof && o.len() != m {
-                c.push(
-                    P::TrackingFeedforward,
-                    format!(
-                        "feedforward needs exactly as many tracked outputs as inputs: {} tracked, {}; list {} outputs, or use integral action alone",
-                        plural(o.len(), "output", "outputs"),
-                        plural(m, "input", "inputs"),
-                        if o.len() > m { "fewer" } else { "more" }
-                    ),
-                );
-            }
-            if mode == TrackingMode::Feedforward && o.len() != m {
-                c.push(
-                    P::TrackedOutputs,
-                    format!(
-                        "feedforward tracking needs exactly as many tracked outputs as inputs: {} tracked, {}; {}",
-                        plural(o.len(), "output", "outputs"),
-                        plural(m, "input", "inputs"),
-                        if o.len() > m { "list fewer outputs" } else { "list more outputs, or use integral action" }
-                    ),
-                );
+            // Feeding the reference forward (feedforward, or integral action with it) needs one
+            // tracked output per input: N_x, N_u solve a square system.
+            let feeds_forward = mode == TrackingMode::Feedforward || (mode == TrackingMode::Integral && two_dof);
+            if feeds_forward && o.len() != m {
+                let (path, what, advice) = match (mode, o.len() > m) {
+                    (TrackingMode::Feedforward, true) => (P::TrackedOutputs, "feedforward tracking", "list fewer outputs"),
+                    (TrackingMode::Feedforward, false) => (P::TrackedOutputs, "feedforward tracking", "list more outputs, or use integral action"),
+                    (_, true) => (P::TrackingFeedforward, "feedforward", "list fewer outputs, or use integral action alone"),
+                    (_, false) => (P::TrackingFeedforward, "feedforward", "list more outputs, or use integral action alone"),
+                };
+                c.push(path, format!("{what} needs exactly as many tracked outputs as inputs: {} tracked, {}; {advice}", plural(o.len(), "output", "outputs"), plural(m, "input", "inputs")));
             }
             if mode == TrackingMode::Integral && o.len() > m {
                 c.push(
