@@ -236,12 +236,21 @@ export async function design(page, fields) {
   return designNow(page);
 }
 
-/** Press "Design now" and wait for the page's cycle; returns the status line's outcome. */
+/**
+ * Press "Design now" and wait for the page's cycle and the robustness analysis it leaves for
+ * right after it; returns the status line's outcome.
+ */
 export async function designNow(page) {
   await page.evaluate(() => document.getElementById('pw-status').removeAttribute('data-outcome'));
   await page.click('#pw-design');
   await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+  await settled(page);
   return page.getAttribute('#pw-status', 'data-outcome');
+}
+
+/** Wait until no robustness analysis is pending (the status line has no data-pending). */
+export async function settled(page) {
+  await page.waitForFunction(() => !document.getElementById('pw-status').hasAttribute('data-pending'));
 }
 
 /** The gain table as numbers (rows = inputs), read from the displayed text. */

@@ -257,6 +257,10 @@ struct PageState {
     pinned: Option<Pinned>,
     /// Why the last edit from the map did nothing (shown under the map).
     edit_message: Option<String>,
+    /// The robustness analysis left for after the cycle ([`deferred`]).
+    pending: Option<deferred::Pending>,
+    /// Counts cycles, so that a pending run left by an older one is not shown.
+    generation: u64,
 }
 
 /// A drag in progress: the frame the map had when it began (kept, so that the view does not
@@ -326,6 +330,8 @@ thread_local! {
         fresh_start: true,
         pinned: None,
         edit_message: None,
+        pending: None,
+        generation: 0,
     });
     /// Named durations of the last cycle's phases (milliseconds).
     static PHASES: RefCell<Vec<(&'static str, f64)>> = const { RefCell::new(Vec::new()) };
@@ -351,11 +357,13 @@ fn with_page<T>(f: impl FnOnce(&mut PageState) -> Result<T, JsValue>) -> Result<
 }
 
 mod canvas;
+mod deferred;
 mod dom;
 mod plot_view;
 mod pole_edit;
 mod render;
 use canvas::*;
+pub use deferred::complete_robustness;
 use dom::*;
 pub use plot_view::*;
 pub use pole_edit::*;
@@ -445,7 +453,9 @@ pub fn sample_uncertainty() -> Result<JsValue, JsValue> {
     cycle(form::Depth::WithCloud)
 }
 
-/// The design cycle at a given depth (quick while a pole is dragged).
+/// The design cycle at a given depth (quick while a pole is dragged). At
+/// [`form::Depth::Full`] the cycle itself runs quick and leaves the robustness analysis for
+/// right after it ([`deferred`]).
 pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     let start = now_ms();
     PHASES.with(|p| {
@@ -459,8 +469,12 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     phase("read", t_read - start);
     // Continue from the last design shown, so that gains move continuously as poles are
     // dragged or edited (the result says when a fresh design would differ).
-    let previous = with_page(|page| Ok(if std::mem::take(&mut page.fresh_start) { None } else { page.design.as_ref().map(|d| d.continuation.clone()) }))?;
-    let mut outcome = form::evaluate_form_with(&input, previous.as_ref(), depth);
+    let previous = with_page(|page| {
+        deferred::supersede(page);
+        Ok(if std::mem::take(&mut page.fresh_start) { None } else { page.design.as_ref().map(|d| d.continuation.clone()) })
+    })?;
+    let defer = depth == form::Depth::Full;
+    let mut outcome = form::evaluate_form_with(&input, previous.as_ref(), if defer { form::Depth::Quick } else { depth });
     let t_eval = now_ms();
     phase("evaluate", t_eval - t_read);
     let status = outcome.status;
@@ -516,6 +530,9 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
                 // (refresh_scrollable_tables, called by the page's script at the next frame):
                 // reading it here would force a layout inside every cycle.
                 phase("results", now_ms() - t0);
+                if defer {
+                    deferred::schedule(&doc, page, input.clone(), previous.clone())?;
+                }
                 text
             }
             FormStatus::Invalid => {
@@ -563,6 +580,9 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     })?;
     let cycle_ms = now_ms() - start;
     let status_el = by_id(&doc, ids::STATUS)?;
+    if !(defer && status == FormStatus::Designed) {
+        deferred::settled(&doc)?;
+    }
     status_el.set_text_content(Some(&format!("{status_text} Cycle time {:.1} ms.", cycle_ms)));
     status_el.set_attribute("data-cycle-ms", &format!("{cycle_ms}"))?;
     let phases = PHASES.with(|p| p.try_borrow().map(|v| v.iter().map(|(k, ms)| format!("{k}={ms:.3}")).collect::<Vec<_>>().join(" ")).unwrap_or_default());

@@ -78,7 +78,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     let margins = if full { margins::margins(&s, &g) } else { None };
     let margins_unavailable = match (&margins, full) {
         (Some(_), _) => None,
-        (None, false) => Some("not computed while a pole is being dragged; they follow when it is released".into()),
+        (None, false) => Some("not computed in this quick run (the page computes them right after showing the design, or when a dragged pole is released)".into()),
         (None, true) => Some(margins::unavailable(&s, &g).unwrap_or_else(|| "a computation of the margins failed".into())),
     };
     let pole_sensitivity = if full { robustness::pole_sensitivity(&s, &g) } else { None };

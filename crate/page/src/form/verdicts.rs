@@ -139,8 +139,8 @@ fn margin_verdict(result: &DesignResult) -> Verdict {
     let Some(m) = &result.margins else {
         return verdict(
             match &result.margins_unavailable {
+                _ if result.robustness_deferred => "Margins: being computed (while a pole is dragged: once it is released).".into(),
                 Some(why) => format!("No margins: {why}."),
-                None if result.robustness_deferred => "Margins: computed when the pole is released.".into(),
                 None => "No margins.".into(),
             },
             !result.robustness_deferred,

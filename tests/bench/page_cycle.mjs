@@ -1,0 +1,205 @@
+// Browser benchmark of the page's design cycle (headless Chromium; not a test: it asserts
+// nothing about speed). Each scenario fills the form, designs once, then starts 35 cycles
+// synchronously with the "Design now" button (the first 5 warm up), alternating one pole so
+// that the gain, the tables and every canvas change each time. Each cycle's time is the
+// page's own performance.now() figure (the status line's data-cycle-ms); the robustness
+// analysis the page runs right after each cycle is timed too (data-robustness-ms), and the
+// next cycle starts when it is done.
+//
+//   node tests/bench/page_cycle.mjs            # print the table
+//   node tests/bench/page_cycle.mjs --record   # and append one line to tests/bench/log.jsonl
+//
+// The log is append-only and committed: the README quotes only figures it holds.
+
+import { execFileSync } from 'node:child_process';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { browser, closeBrowser, design, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
+
+const CYCLES = 30;
+const WARM_UP = 5;
+
+/** A chain of `masses` masses between two walls, forces at both ends: n = 2·masses, m = 2. */
+export function chainFields(masses) {
+  const n = 2 * masses;
+  const A = Array.from({ length: n }, () => Array(n).fill(0));
+  const B = Array.from({ length: n }, () => [0, 0]);
+  const k = (i) => 2 + (i % 4);
+  const m = (i) => 1 + 0.25 * (i % 3);
+  for (let i = 0; i < masses; i += 1) {
+    const p = 2 * i;
+    const v = p + 1;
+    A[p][v] = 1;
+    A[v][p] = -(k(i) + k(i + 1)) / m(i);
+    A[v][v] = -0.2 / m(i);
+    if (i > 0) A[v][p - 2] = k(i) / m(i);
+    if (i < masses - 1) A[v][p + 2] = k(i + 1) / m(i);
+  }
+  B[1][0] = 1 / m(0);
+  B[n - 1][1] = 1 / m(masses - 1);
+  const poles = [];
+  for (let i = 0; i < masses; i += 1) poles.push(`-${(1 + 0.1 * i).toFixed(1)}±${(0.5 + 0.05 * i).toFixed(2)}j`);
+  return {
+    a: A.map((r) => r.join(' ')).join('\n'),
+    b: B.map((r) => r.join(' ')).join('\n'),
+    input_names: 'left force, right force',
+    input_units: 'N, N',
+    poles: poles.join(', '),
+    limits: '40, 40',
+  };
+}
+
+/** A flexible structure in modal form (a reduced finite-element model): `modes` lightly damped
+ * modes (ζ = 0.02, ω = 1 … ) driven by two actuators with invented mode-shape values; n = 2·modes,
+ * m = 2. The listed poles keep each frequency and raise the damping to 0.3. */
+export function modalFields(modes) {
+  const n = 2 * modes;
+  const A = Array.from({ length: n }, () => Array(n).fill(0));
+  const B = Array.from({ length: n }, () => [0, 0]);
+  const poles = [];
+  for (let i = 0; i < modes; i += 1) {
+    const w = 1 + 0.5 * i;
+    A[2 * i][2 * i + 1] = 1;
+    A[2 * i + 1][2 * i] = -w * w;
+    A[2 * i + 1][2 * i + 1] = -2 * 0.02 * w;
+    B[2 * i + 1] = [Math.sin(0.7 * (i + 1)).toFixed(4), Math.cos(1.3 * (i + 1)).toFixed(4)];
+    poles.push(`${(-0.3 * w).toFixed(3)}±${(w * Math.sqrt(1 - 0.09)).toFixed(3)}j`);
+  }
+  return {
+    a: A.map((r) => r.join(' ')).join('\n'),
+    b: B.map((r) => r.join(' ')).join('\n'),
+    input_names: 'actuator 1, actuator 2',
+    input_units: 'N, N',
+    poles: poles.join(', '),
+    limits: '100, 100',
+  };
+}
+
+/** The mass chain with two measured positions, an observer, integral action on both, a digital
+ * controller at 2 ms with one sample of computation delay, and a 10 s loop: 5,000 samples. */
+function fullLoopFields() {
+  const f = massChainFields();
+  const c = [Array(10).fill(0), Array(10).fill(0)];
+  c[0][0] = 1;
+  c[1][8] = 1;
+  return {
+    ...f,
+    c: c.map((r) => r.join(' ')).join('\n'),
+    observer: 'speed_factor',
+    tracking: 'integral',
+    tracked_outputs: '1, 2',
+    integral_poles: '-4, -4.5',
+    sample_time: '0.002',
+    computation_delay: true,
+    reference: '0.1, 0',
+    duration: '10',
+  };
+}
+
+const SCENARIOS = [
+  { key: 'listed_n10_m2', what: 'chain of 5 masses, n = 10, m = 2, listed poles, actuator limits', fields: massChainFields, alternate: ['-3.5', '-3.6'] },
+  { key: 'loop_n10_m2_5000', what: 'the same with two measured positions, observer, integral action, digital at 2 ms with a computation delay, 5,000-sample loop', fields: fullLoopFields, alternate: ['-3.5', '-3.6'] },
+  { key: 'listed_n50_m2', what: 'flexible structure in modal form, 25 modes: n = 50, m = 2, listed poles, actuator limits', fields: () => modalFields(25), alternate: ['-3.900±12.401j', '-4.000±12.401j'] },
+];
+
+function quantile(values, q) {
+  const v = [...values].sort((x, y) => x - y);
+  const i = (v.length - 1) * q;
+  const lo = Math.floor(i);
+  const hi = Math.ceil(i);
+  return v[lo] + (v[hi] - v[lo]) * (i - lo);
+}
+
+async function runScenario(s) {
+  return withPage(pageFileUrl, async ({ page }) => {
+    const outcome = await design(page, s.fields());
+    if (outcome !== 'designed') throw new Error(`${s.key}: ${await page.textContent('#pw-status')}`);
+    const raw = await page.evaluate(async ({ cycles, warm, alternate }) => {
+      const button = document.getElementById('pw-design');
+      const status = document.getElementById('pw-status');
+      const poles = document.getElementById('pw-poles');
+      const p0 = poles.value;
+      const p1 = p0.replace(alternate[0], alternate[1]);
+      if (p1 === p0) throw new Error(`pole ${alternate[0]} not in the list`);
+      const times = [];
+      const deferred = [];
+      const outcomes = [];
+      const phases = [];
+      for (let i = 0; i < cycles + warm; i += 1) {
+        poles.value = i % 2 ? p1 : p0;
+        button.click(); // synchronous: read → evaluate (parse, analyse, place, simulate) → draw → results
+        times.push(Number(status.dataset.cycleMs));
+        outcomes.push(status.dataset.outcome);
+        phases.push(status.dataset.cyclePhases || '');
+        // The robustness analysis the cycle left runs on the page's own timer; wait for it.
+        for (let w = 0; status.hasAttribute('data-pending') && w < 10000; w += 1) await new Promise((r) => setTimeout(r, 1));
+        if (status.hasAttribute('data-pending')) throw new Error('the robustness analysis did not finish');
+        deferred.push(Number(status.dataset.robustnessMs));
+      }
+      return { times: times.slice(warm), deferred: deferred.slice(warm), outcomes, phases: phases.slice(warm) };
+    }, { cycles: CYCLES, warm: WARM_UP, alternate: s.alternate });
+    if (!raw.outcomes.every((o) => o === 'designed')) throw new Error(`${s.key}: ${raw.outcomes.join(' ')}`);
+    const deferred = raw.deferred.filter((t) => Number.isFinite(t));
+    const byPhase = {};
+    for (const line of raw.phases) {
+      for (const item of line.split(' ').filter(Boolean)) {
+        const [k, v] = item.split('=');
+        (byPhase[k] ||= []).push(Number(v));
+      }
+    }
+    // A phase missing from a cycle took no time in it.
+    const phaseMedians = Object.fromEntries(Object.entries(byPhase).map(([k, v]) => [k, Number(quantile(v.concat(Array(raw.times.length - v.length).fill(0)), 0.5).toFixed(2))]));
+    return {
+      what: s.what,
+      cycles: raw.times.length,
+      median_ms: quantile(raw.times, 0.5),
+      p95_ms: quantile(raw.times, 0.95),
+      max_ms: Math.max(...raw.times),
+      deferred_median_ms: deferred.length ? quantile(deferred, 0.5) : null,
+      deferred_max_ms: deferred.length ? Math.max(...deferred) : null,
+      phase_median_ms: phaseMedians,
+    };
+  }, { viewport: { width: 1440, height: 900 } });
+}
+
+function machine() {
+  const cpus = os.cpus();
+  return { cpu: cpus[0]?.model ?? 'unknown', cores: cpus.length, memory_gib: Math.round(os.totalmem() / 2 ** 30), os: `${os.type()} ${os.release()}` };
+}
+
+function commit() {
+  try {
+    const id = execFileSync('git', ['rev-parse', '--short', 'HEAD'], { cwd: repoRoot }).toString().trim();
+    const dirty = execFileSync('git', ['status', '--porcelain', '--untracked-files=no'], { cwd: repoRoot }).toString().trim() !== '';
+    return dirty ? `${id}+changes` : id;
+  } catch {
+    return 'unknown';
+  }
+}
+
+async function main() {
+  requireBuiltPage();
+  const only = process.argv.find((a) => a.startsWith('--only='))?.slice(7);
+  const results = {};
+  for (const s of SCENARIOS.filter((x) => !only || x.key === only)) {
+    results[s.key] = await runScenario(s);
+    const r = results[s.key];
+    const def = r.deferred_median_ms === null ? '' : `; then robustness ${r.deferred_median_ms.toFixed(1)} ms (max ${r.deferred_max_ms.toFixed(1)})`;
+    console.log(`  phases: ${JSON.stringify(r.phase_median_ms)}`);
+    console.log(`${s.key}: median ${r.median_ms.toFixed(2)} ms, 95th percentile ${r.p95_ms.toFixed(2)} ms, max ${r.max_ms.toFixed(2)} ms over ${r.cycles} cycles${def}  (${r.what})`);
+  }
+  const b = await browser();
+  const entry = { date: new Date().toISOString(), benchmark: 'page_cycle', commit: commit(), machine: machine(), browser: `Chromium ${b.version()} (headless)`, results };
+  await closeBrowser();
+  if (process.argv.includes('--record')) {
+    fs.appendFileSync(path.join(repoRoot, 'tests', 'bench', 'log.jsonl'), `${JSON.stringify(entry)}\n`);
+    console.log('appended to tests/bench/log.jsonl');
+  }
+}
+
+if (process.argv[1] && process.argv[1].endsWith("page_cycle.mjs")) main().catch(async (e) => {
+  console.error(e);
+  await closeBrowser();
+  process.exit(1);
+});
