@@ -234,6 +234,7 @@ async function boot() {
       if (saved && restore_form_state(saved)) byId('pw-file-status').textContent = 'The remembered design was restored.';
     }
     update_page();
+    watchCanvasesInView();
     markSaved();
   } catch (err) {
     showError(`Polewright could not start: ${err && err.message ? err.message : String(err)}`);
@@ -402,8 +403,19 @@ if (typeof ResizeObserver === 'function') {
   const observer = new ResizeObserver(resized);
   for (const canvas of document.querySelectorAll('canvas.plot')) observer.observe(canvas);
 }
+// A canvas out of view is painted when it comes near the window (the cycle skips it);
+// watched from start-up on (boot calls this once the wasm runs).
+const plotCanvases = [...document.querySelectorAll('canvas.plot')];
+function watchCanvasesInView() {
+  if (typeof IntersectionObserver !== 'function') return;
+  const seen = new IntersectionObserver((entries) => {
+    for (const e of entries) guarded(canvas_in_view)(e.target.id, e.isIntersecting);
+  }, { rootMargin: '200px' });
+  for (const canvas of plotCanvases) seen.observe(canvas);
+}
 window.addEventListener('beforeprint', () => {
   for (const d of document.querySelectorAll('details')) d.open = true;
+  for (const canvas of plotCanvases) guarded(canvas_in_view)(canvas.id, true);
 });
 
 boot();

@@ -155,6 +155,7 @@ export async function startStaticServer(root) {
  * { width, height, distinct, dominantShare } over every 2nd pixel.
  */
 export async function canvasStats(page, id) {
+  await paintedInView(page, id);
   return page.evaluate((canvasId) => {
     const c = document.getElementById(canvasId);
     if (!c) return null;
@@ -172,8 +173,23 @@ export async function canvasStats(page, id) {
   }, id);
 }
 
-/** Save a full-page screenshot under tests/artifacts/. Returns its path. */
+/**
+ * Bring canvas `id` into view when the page left it unpainted out of view (`data-waiting`),
+ * and wait until it is painted. A canvas that is hidden stays as it is.
+ */
+export async function paintedInView(page, id) {
+  const waiting = await page.evaluate((canvasId) => {
+    const c = document.getElementById(canvasId);
+    if (!c || !c.hasAttribute('data-waiting') || c.offsetParent === null) return false;
+    c.scrollIntoView({ block: 'center' });
+    return true;
+  }, id);
+  if (waiting) await page.waitForFunction((canvasId) => !document.getElementById(canvasId).hasAttribute('data-waiting'), id);
+}
+
+/** Save a full-page screenshot under tests/artifacts/ (every canvas painted first). Returns its path. */
 export async function screenshot(page, name) {
+  for (const id of await page.evaluate(() => [...document.querySelectorAll('canvas[data-waiting]')].map((c) => c.id))) await paintedInView(page, id);
   fs.mkdirSync(artifactsDir, { recursive: true });
   const file = path.join(artifactsDir, name);
   await page.screenshot({ path: file, fullPage: true });

@@ -27,6 +27,7 @@ import {
   repoRoot,
   requireBuiltPage,
   screenshot,
+  settled,
   startStaticServer,
   tableRows,
   withPage,
@@ -164,9 +165,10 @@ async function legendTeal(page) {
   });
 }
 
-/** Waits for the cycle that the last change started and returns its outcome. */
-async function settled(page) {
+/** Waits for the cycle that the last change started (and its robustness analysis); returns its outcome. */
+async function cycleOutcome(page) {
   await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+  await settled(page);
   return page.getAttribute('#pw-status', 'data-outcome');
 }
 
@@ -175,7 +177,7 @@ async function loadDemo(page, index) {
   await page.selectOption('#pw-demo', String(index));
   await page.evaluate(() => document.getElementById('pw-status').removeAttribute('data-outcome'));
   await page.click('#pw-load-demo');
-  return settled(page);
+  return cycleOutcome(page);
 }
 
 const OPENINGS = [
@@ -661,77 +663,65 @@ describe('built page', () => {
     });
   });
 
-  test('one design cycle for n = 10, m = 2: median time over 30 cycles (same and changing input)', async () => {
+  // Speed itself is measured by tests/bench/page_cycle.mjs (a benchmark, logged in
+  // tests/bench/log.jsonl); this test asserts behaviour only, no time.
+  test('the cycle shows the design, then the robustness analysis follows; canvases out of view wait and are painted when scrolled to (no timing asserted)', async () => {
     const fields = massChainFields();
     await withPage(pageFileUrl, async ({ page, consoleErrors, pageErrors }) => {
       assert.equal(await design(page, fields), 'designed', await page.textContent('#pw-status'));
-      assert.match(await page.textContent('#pw-status'), /^Designed: 10 states, 2 inputs/);
-      await assertPolesPlaced(page, 1e-8);
-      // Two runs of 35 cycles (the first 5 are warm-up), each cycle started synchronously by
-      // the button: "repeat" designs the same input again (unchanged results and pictures are
-      // left as they are); "changing" alternates the last pole between -3.5 and -3.6, so the
-      // gain, the tables and every canvas change each time. Each cycle reports its phases.
-      const run = (changing) => page.evaluate((alternate) => {
-        const button = document.getElementById('pw-design');
-        const status = document.getElementById('pw-status');
+      const margins = await page.textContent('#pw-margins');
+      assert.match(margins, /All inputs at once: disk margin \d/);
+      // One synchronous cycle with a changed pole: the design is shown, the margins are pending.
+      const during = await page.evaluate(() => {
         const poles = document.getElementById('pw-poles');
-        const p0 = poles.value;
-        const p1 = p0.replace('-3.5', '-3.6');
-        const out = [];
-        const phases = [];
-        for (let i = 0; i < 35; i += 1) {
-          if (alternate) poles.value = i % 2 ? p1 : p0;
-          status.removeAttribute('data-cycle-ms');
-          button.click(); // synchronous: read → evaluate (parse, analyse, place, simulate) → draw → results
-          out.push(Number(status.dataset.cycleMs));
-          phases.push(status.dataset.cyclePhases || '');
-        }
-        poles.value = p0;
-        return { times: out.slice(5), phases: phases.slice(5) };
-      }, changing);
-      const median = (values) => {
-        const v = [...values].sort((x, y) => x - y);
-        return v.length % 2 ? v[(v.length - 1) / 2] : (v[v.length / 2 - 1] + v[v.length / 2]) / 2;
-      };
-      const summarise = ({ times, phases }) => {
-        assert.equal(times.length, 30);
-        assert.ok(times.every((t) => Number.isFinite(t) && t > 0), JSON.stringify(times));
-        const sorted = [...times].sort((x, y) => x - y);
-        const byPhase = {};
-        for (const line of phases) {
-          for (const item of line.split(' ').filter(Boolean)) {
-            const [k, v] = item.split('=');
-            (byPhase[k] ||= []).push(Number(v));
-          }
-        }
-        const phaseMedians = Object.fromEntries(Object.entries(byPhase).map(([k, v]) => [k, median(v.concat(Array(times.length - v.length).fill(0)))]));
-        assert.ok('evaluate' in phaseMedians, JSON.stringify(phases.slice(0, 2)));
-        return { median_ms: median(times), min_ms: sorted[0], max_ms: sorted[sorted.length - 1], phase_median_ms: phaseMedians, all_ms: times };
-      };
-      const repeat = summarise(await run(false));
-      const changing = summarise(await run(true));
-      const report = {
-        what: 'one full design cycle of the page (read form, evaluate: parse, analyse, place, simulate; draw the canvases; update the results), timed with performance.now() inside the page; phases in milliseconds (performance.now() is coarsened to 0.1 ms in headless Chromium)',
-        plant: 'chain of 5 masses: n = 10 states, m = 2 inputs, actuator limits',
-        cycles: 30,
-        warm_up: 5,
-        median_ms: repeat.median_ms,
-        min_ms: repeat.min_ms,
-        max_ms: repeat.max_ms,
-        all_ms: repeat.all_ms,
-        repeat,
-        changing,
-        user_agent: await page.evaluate(() => navigator.userAgent),
-        date: new Date().toISOString(),
-      };
-      fs.mkdirSync(artifactsDir, { recursive: true });
-      fs.writeFileSync(path.join(artifactsDir, 'cycle-time.json'), `${JSON.stringify(report, null, 2)}\n`);
-      console.log(`design cycle, n = 10, m = 2: median ${repeat.median_ms.toFixed(2)} ms over 30 cycles of the same input (min ${repeat.min_ms.toFixed(2)}, max ${repeat.max_ms.toFixed(2)}); ${changing.median_ms.toFixed(2)} ms with a changing input`);
-      console.log(`  phases, same input: ${JSON.stringify(repeat.phase_median_ms)}`);
-      console.log(`  phases, changing input: ${JSON.stringify(changing.phase_median_ms)}`);
-      // The changing run really redrew: its last design is the pole set it ended on.
-      assert.ok((changing.phase_median_ms['pw-state-plot'] ?? 0) > 0, 'the changing run repaints the state plot');
-      await assertCanvasesDrawn(page);
+        poles.value = poles.value.replace('-3.5', '-3.6');
+        document.getElementById('pw-design').click();
+        const status = document.getElementById('pw-status');
+        return {
+          outcome: status.dataset.outcome,
+          pending: status.dataset.pending,
+          busy: document.getElementById('pw-margins').getAttribute('aria-busy'),
+          verdicts: document.getElementById('pw-verdicts').textContent,
+          phases: status.dataset.cyclePhases,
+          waiting: [...document.querySelectorAll('canvas[data-waiting]')].map((c) => c.id),
+        };
+      });
+      assert.equal(during.outcome, 'designed');
+      assert.equal(during.pending, 'robustness');
+      assert.equal(during.busy, 'true');
+      assert.match(during.verdicts, /Margins: being computed/);
+      assert.match(during.phases, /evaluate=/);
+      // At 1200 × 1100 the state and input plots are far down the results: not painted yet.
+      assert.ok(during.waiting.includes('pw-state-plot') && during.waiting.includes('pw-input-plot'), JSON.stringify(during.waiting));
+      assert.ok(!during.waiting.includes('pw-pole-map'), 'the pole map is in view and painted');
+      await settled(page);
+      assert.equal(await page.getAttribute('#pw-margins', 'aria-busy'), null);
+      assert.ok(Number(await page.getAttribute('#pw-status', 'data-robustness-ms')) > 0);
+      assert.match(await page.textContent('#pw-verdicts'), /Disk margin \(all inputs at once, symmetric\)/);
+      const after = await page.textContent('#pw-margins');
+      assert.match(after, /All inputs at once: disk margin \d/);
+      assert.notEqual(after, margins, 'the margins are those of the new design');
+      // Brought into view, each waiting canvas is painted with the newest picture.
+      await assertCanvasesDrawn(page, [...CANVASES, 'pw-frequency-plot']);
+      assert.deepEqual(await page.evaluate(() => [...document.querySelectorAll('canvas[data-waiting]')].map((c) => c.id)), []);
+      // A newer cycle makes a pending analysis stale: two cycles in one task, one analysis shown.
+      const robustnessRuns = await page.evaluate(async () => {
+        const poles = document.getElementById('pw-poles');
+        const status = document.getElementById('pw-status');
+        poles.value = poles.value.replace('-3.6', '-3.7');
+        document.getElementById('pw-design').click();
+        poles.value = poles.value.replace('-3.7', '-3.8');
+        document.getElementById('pw-design').click();
+        let shown = 0;
+        const seen = new MutationObserver(() => { if (status.hasAttribute('data-robustness-ms')) shown += 1; });
+        seen.observe(status, { attributes: true, attributeFilter: ['data-robustness-ms'] });
+        for (let i = 0; i < 200 && status.hasAttribute('data-pending'); i += 1) await new Promise((r) => setTimeout(r, 5));
+        await new Promise((r) => setTimeout(r, 50));
+        seen.disconnect();
+        return shown;
+      });
+      assert.equal(robustnessRuns, 1);
+      assert.match(await page.textContent('#pw-pole-table'), /−3\.8/);
       assert.deepEqual([...pageErrors, ...consoleErrors], []);
     });
   });

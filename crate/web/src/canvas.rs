@@ -39,6 +39,17 @@ impl PageState {
             canvas.set_attribute("data-panels", &panels)?;
             self.canvas(id)?.size = None;
         }
+        let state = self.canvas(id)?;
+        if !state.in_view {
+            if state.waiting.is_none() {
+                canvas.set_attribute("data-waiting", "")?;
+            }
+            state.waiting = Some(picture);
+            return Ok(());
+        }
+        if state.waiting.take().is_some() {
+            canvas.remove_attribute("data-waiting")?;
+        }
         let rect = self.canvas_rect(id)?;
         let dpr = pixel_ratio();
         let state = self.canvas(id)?;
@@ -57,6 +68,29 @@ impl PageState {
         }
         Ok(())
     }
+}
+
+/// Canvas `id` came into view (or left it; `in_view`): a picture that waited is painted now.
+///
+/// # Errors
+/// When `id` is not a page canvas or the paint fails.
+#[wasm_bindgen]
+pub fn canvas_in_view(id: &str, in_view: bool) -> Result<(), JsValue> {
+    with_page(|page| {
+        let state = page.canvas(id)?;
+        state.in_view = in_view;
+        let key = state.id;
+        match state.waiting.take() {
+            Some(picture) if in_view => {
+                find_canvas(key)?.remove_attribute("data-waiting")?;
+                page.paint(key, picture)
+            }
+            waiting => {
+                page.canvas(key)?.waiting = waiting;
+                Ok(())
+            }
+        }
+    })
 }
 
 /// One plot, panels, or the message when there is nothing to draw.

@@ -204,12 +204,16 @@ enum Picture {
     Message(String),
 }
 
-/// A canvas's CSS size (read from layout only when unknown or after a resize) and the
-/// picture last painted on it at that size and pixel ratio.
+/// A canvas's CSS size (read from layout only when unknown or after a resize), the
+/// picture last painted on it at that size and pixel ratio, and whether it is near the
+/// window (the page's IntersectionObserver says so): a canvas out of view keeps its newest
+/// picture waiting and is painted when it comes into view ([`canvas_in_view`]).
 struct CanvasState {
     id: &'static str,
     size: Option<Rect>,
     painted: Option<(Rect, f64, Picture)>,
+    in_view: bool,
+    waiting: Option<Picture>,
 }
 
 /// Per-field feedback last written (size, error, active), to touch only what changes.
@@ -316,7 +320,7 @@ thread_local! {
         time_windows: Vec::new(),
         pole_view: None,
         signal_axes: form::SignalAxes::Automatic,
-        canvases: ids::CANVASES.iter().map(|id| CanvasState { id, size: None, painted: None }).collect(),
+        canvases: ids::CANVASES.iter().map(|id| CanvasState { id, size: None, painted: None, in_view: true, waiting: None }).collect(),
         rendered: Vec::new(),
         tables: Vec::new(),
         feedback: Vec::new(),
@@ -363,6 +367,7 @@ mod plot_view;
 mod pole_edit;
 mod render;
 use canvas::*;
+pub use canvas::canvas_in_view;
 pub use deferred::complete_robustness;
 use dom::*;
 pub use plot_view::*;
@@ -479,8 +484,10 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     phase("evaluate", t_eval - t_read);
     let status = outcome.status;
     let status_text = with_page(|page| {
+        let t_history = now_ms();
         page.form_history.note(&input);
         sync_history(page, &input);
+        phase("history", now_ms() - t_history);
         show_field_feedback(&doc, page, &input, &outcome)?;
         phase("feedback", now_ms() - t_eval);
         let text = match status {
@@ -491,6 +498,7 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
                     _ => return Err(JsValue::from_str("internal error: a design without its report")),
                 };
                 let discrete = design.domain == crate::analysis::Domain::Discrete;
+                let t_scene = now_ms();
                 let mut scene = form::pole_map_scene(&design);
                 scene.fit_poles = page.fit_poles;
                 page.plane_map = plane_map_for(&input, &design);
@@ -512,6 +520,7 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
                 page.analysis = None;
                 page.shown = Shown::Design;
                 edit_layers(page, &input);
+                phase("scene", now_ms() - t_scene);
                 // Canvases first: text drawn on a canvas after the page changed would make
                 // the browser recompute the page's styles there and then.
                 paint_all(page)?;
@@ -531,7 +540,9 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
                 // reading it here would force a layout inside every cycle.
                 phase("results", now_ms() - t0);
                 if defer {
+                    let t1 = now_ms();
                     deferred::schedule(&doc, page, input.clone(), previous.clone())?;
+                    phase("schedule", now_ms() - t1);
                 }
                 text
             }
