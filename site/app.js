@@ -335,6 +335,9 @@ const flushMove = guarded(() => {
   queued = null;
   if (at) pole_pointer_move(at[0], at[1]);
 });
+// A drag that starts away from the requested poles moves the view instead (the buttons
+// under the map do the same with single clicks).
+let panFrom = null;
 poleMap.addEventListener('pointerdown', guarded((e) => {
   if (e.button !== 0) return;
   if (pole_pointer_down(e.offsetX, e.offsetY)) {
@@ -343,9 +346,19 @@ poleMap.addEventListener('pointerdown', guarded((e) => {
     poleMap.classList.add('is-dragging');
     poleMap.focus({ preventScroll: true });
     e.preventDefault();
+  } else {
+    panFrom = [e.offsetX, e.offsetY];
+    poleMap.setPointerCapture(e.pointerId);
+    poleMap.classList.add('is-panning');
   }
 }));
 poleMap.addEventListener('pointermove', guarded((e) => {
+  if (panFrom) {
+    const [x, y] = panFrom;
+    panFrom = [e.offsetX, e.offsetY];
+    if (x !== e.offsetX || y !== e.offsetY) pan_plot(poleMap.id, e.offsetX - x, e.offsetY - y);
+    return;
+  }
   if (!dragging) {
     hover_pole(e.offsetX, e.offsetY);
     return;
@@ -354,6 +367,10 @@ poleMap.addEventListener('pointermove', guarded((e) => {
   queued = [e.offsetX, e.offsetY];
 }));
 const endDrag = (cancel) => guarded(() => {
+  if (panFrom) {
+    panFrom = null;
+    poleMap.classList.remove('is-panning');
+  }
   if (!dragging) return;
   if (!cancel) flushMove();
   queued = null;
@@ -506,6 +523,9 @@ for (const canvas of document.querySelectorAll('canvas.plot')) {
 byId('pw-zoom-in').addEventListener('click', guarded(() => zoomAtCentre(poleMap, 1.5)));
 byId('pw-zoom-out').addEventListener('click', guarded(() => zoomAtCentre(poleMap, 1 / 1.5)));
 byId('pw-zoom-reset').addEventListener('click', guarded(() => reset_plot(poleMap.id)));
+for (const [id, dx, dy] of [['pw-view-left', 1, 0], ['pw-view-right', -1, 0], ['pw-view-up', 0, 1], ['pw-view-down', 0, -1]]) {
+  byId(id).addEventListener('click', guarded(() => pan_plot(poleMap.id, dx * poleMap.clientWidth / 4, dy * poleMap.clientHeight / 4)));
+}
 
 // After the results change (any path: typing, a drag, a file, undo), mark the tables that
 // scroll sideways as focusable regions at the next frame, when layout is computed anyway.

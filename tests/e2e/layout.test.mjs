@@ -182,7 +182,7 @@ describe('the plant as it really is', () => {
 });
 
 describe('zoom and pan', () => {
-  test('time plots zoom by wheel, keys and buttons, pan by drag and keys, and show all again; the pole map too', async () => {
+  test('time plots zoom by wheel, keys and buttons, pan by drag and keys, and show all again; the pole map zooms and moves by buttons and by a drag away from its poles', async () => {
     await withPage(pageFileUrl, async ({ page, pageErrors, consoleErrors }) => {
       await loadDemo(page, 0);
       const plot = page.locator('#pw-state-plot');
@@ -219,6 +219,31 @@ describe('zoom and pan', () => {
       await page.click('#pw-zoom-reset');
       assert.deepEqual(await canvasStats(page, 'pw-pole-map'), map, 'the whole view again');
       assert.equal(await page.getAttribute('#pw-pole-map', 'data-requested-px'), before);
+      // The map's view moves by buttons (a quarter of the map) and by a drag that starts away
+      // from the requested poles; the poles themselves stay where they are.
+      const poles = await page.inputValue('#pw-poles');
+      const px = async () => (await page.getAttribute('#pw-pole-map', 'data-requested-px')).split(' ').map((p) => p.split(',').map(Number));
+      const at0 = await px();
+      const mapBox = await page.locator('#pw-pole-map').boundingBox();
+      await page.click('#pw-view-right');
+      const right = await px();
+      assert.ok(Math.abs(right[0][0] - (at0[0][0] - mapBox.width / 4)) < 1.5 && Math.abs(right[0][1] - at0[0][1]) < 0.5, `moved left by a quarter: ${JSON.stringify([at0[0], right[0]])}`);
+      await page.click('#pw-view-up');
+      const up = await px();
+      assert.ok(up[0][1] > right[0][1] + mapBox.height / 8, 'the view moved up: the poles move down');
+      await page.click('#pw-zoom-reset');
+      assert.deepEqual(await px(), at0);
+      // A drag from an empty corner of the map.
+      const [sx, sy] = [mapBox.x + 12, mapBox.y + 12];
+      assert.ok(at0.every(([x, y]) => Math.hypot(x - 12, y - 12) > 30), 'the corner is away from the poles');
+      await page.mouse.move(sx, sy);
+      await page.mouse.down();
+      await page.mouse.move(sx + 40, sy + 25, { steps: 5 });
+      await page.mouse.up();
+      const dragged2 = await px();
+      assert.ok(Math.abs(dragged2[0][0] - at0[0][0] - 40) < 1.5 && Math.abs(dragged2[0][1] - at0[0][1] - 25) < 1.5, `the drag moved the view: ${JSON.stringify([at0[0], dragged2[0]])}`);
+      assert.equal(await page.inputValue('#pw-poles'), poles, 'moving the view edits no pole');
+      await page.click('#pw-zoom-reset');
       assert.deepEqual([...pageErrors, ...consoleErrors], []);
     }, { viewport: { width: 1280, height: 800 } });
   });

@@ -18,7 +18,7 @@ pub mod colour {
     pub const TEXT: &str = "#2c3a45";
     pub const MUTED_TEXT: &str = "#5f6d78";
     pub const STABLE_FILL: &str = "rgba(17, 110, 106, 0.09)";
-    pub const STABLE_EDGE: &str = "rgba(17, 110, 106, 0.55)";
+    pub const STABLE_EDGE: &str = "rgba(17, 110, 106, 0.8)";
     pub const OPEN_LOOP: &str = "#7b8794";
     pub const CLOSED_LOOP: &str = "#0e5f5c";
     pub const NOT_ASSIGNED: &str = "#c07a0c";

@@ -169,3 +169,88 @@ fn styles_are_set_only_when_they_change() {
     assert!(matches!(text.first(), Some(DrawOp::Clear { .. })));
     assert!(text.iter().any(|op| matches!(op, DrawOp::Text { text, align: Align::Center, .. } if text == "No design yet.")));
 }
+
+// ---------------------------------------------------------------------------
+// Contrast of the plot palette (WCAG 2.2, success criterion 1.4.11 "Non-text contrast":
+// graphical objects needed to understand the content at least 3:1 against adjacent colours;
+// relative luminance and contrast ratio as defined in WCAG 2.2's glossary).
+// ---------------------------------------------------------------------------
+
+/// `#rrggbb`, or `rgba(r, g, b, a)` composited over white, as 0–255 channels.
+fn rgb_on_white(css: &str) -> [f64; 3] {
+    if let Some(hex) = css.strip_prefix('#') {
+        let c = |i: usize| f64::from(u8::from_str_radix(&hex[i..i + 2], 16).unwrap());
+        return [c(0), c(2), c(4)];
+    }
+    let inner = css.strip_prefix("rgba(").and_then(|s| s.strip_suffix(')')).unwrap();
+    let v: Vec<f64> = inner.split(',').map(|s| s.trim().parse().unwrap()).collect();
+    let a = v[3];
+    [0, 1, 2].map(|i| a * v[i] + (1.0 - a) * 255.0)
+}
+
+fn relative_luminance(rgb: [f64; 3]) -> f64 {
+    let lin = |c: f64| {
+        let c = c / 255.0;
+        if c <= 0.04045 {
+            c / 12.92
+        } else {
+            ((c + 0.055) / 1.055).powf(2.4)
+        }
+    };
+    0.2126 * lin(rgb[0]) + 0.7152 * lin(rgb[1]) + 0.0722 * lin(rgb[2])
+}
+
+fn contrast(a: [f64; 3], b: [f64; 3]) -> f64 {
+    let (la, lb) = (relative_luminance(a), relative_luminance(b));
+    (la.max(lb) + 0.05) / (la.min(lb) + 0.05)
+}
+
+#[test]
+fn contrast_formula_matches_the_definition_at_its_ends() {
+    // Black on white is 21:1 and a colour on itself 1:1 (WCAG 2.2 glossary).
+    assert!((contrast([0.0; 3], [255.0; 3]) - 21.0).abs() < 1e-12);
+    assert!((contrast([123.0, 135.0, 148.0], [123.0, 135.0, 148.0]) - 1.0).abs() < 1e-12);
+    // #767676 on white is the well-known 4.54:1 grey (common practice, from memory).
+    assert!((contrast(rgb_on_white("#767676"), [255.0; 3]) - 4.54).abs() < 0.01);
+}
+
+#[test]
+fn every_plot_line_and_marker_has_at_least_3_to_1_contrast_against_what_it_is_drawn_on() {
+    use super::colour::*;
+    // What lines and markers are drawn on: the plot, the shaded stable region, the settling band.
+    let grounds = [("background", BACKGROUND), ("stable region", STABLE_FILL), ("settling band", BAND_FILL)];
+    let mut marks: Vec<(&str, &str)> = vec![
+        ("open-loop pole", OPEN_LOOP),
+        ("closed-loop pole", CLOSED_LOOP),
+        ("pole not assigned", NOT_ASSIGNED),
+        ("observer pole", OBSERVER),
+        ("reference or load step", EVENT),
+        ("limit line", LIMIT),
+        ("keyboard ring", FOCUS),
+        ("requested pole", REQUESTED),
+        ("pinned design", PINNED),
+        ("uncertain plant pole", UNCERTAIN),
+        ("zero", ZERO),
+        ("region boundary", REGION),
+        ("stability boundary", STABLE_EDGE),
+        ("axis", AXIS),
+        ("band label", BAND_TEXT),
+    ];
+    marks.extend(SERIES.iter().map(|c| ("signal", *c)));
+    let mut worst = f64::INFINITY;
+    for (what, mark) in &marks {
+        for (ground_name, ground) in grounds {
+            let ratio = contrast(rgb_on_white(mark), rgb_on_white(ground));
+            assert!(ratio >= 3.0, "{what} {mark} on the {ground_name} {ground}: {ratio:.2}:1, below 3:1");
+            worst = worst.min(ratio);
+        }
+    }
+    // Text on the plots is held to the 4.5:1 of criterion 1.4.3.
+    for (what, text) in [("text", TEXT), ("muted text", MUTED_TEXT)] {
+        for (ground_name, ground) in grounds {
+            let ratio = contrast(rgb_on_white(text), rgb_on_white(ground));
+            assert!(ratio >= 4.5, "{what} {text} on the {ground_name}: {ratio:.2}:1, below 4.5:1");
+        }
+    }
+    assert!(worst < 3.1, "the check reaches the tightest pair ({worst:.2}:1)");
+}
