@@ -6,8 +6,11 @@
 // analysis the page runs right after each cycle is timed too (data-robustness-ms), and the
 // next cycle starts when it is done.
 //
-//   node tests/bench/page_cycle.mjs            # print the table
+// Then two pole drags, timed by the page itself (data-drag-median-ms).
+//
+//   node tests/bench/page_cycle.mjs            # print the figures
 //   node tests/bench/page_cycle.mjs --record   # and append one line to tests/bench/log.jsonl
+//   node tests/bench/page_cycle.mjs --only=listed_n10_m2   # one scenario (or --only=drag)
 //
 // The log is append-only and committed: the README quotes only figures it holds.
 
@@ -163,6 +166,54 @@ async function runScenario(s) {
   }, { viewport: { width: 1440, height: 900 } });
 }
 
+const nextFrame = (page) => page.evaluate(() => new Promise((r) => requestAnimationFrame(() => r())));
+
+/** Drag the first requested pole by (`dx`, `dy`) px in `steps` moves (one frame each); the
+ * page's median update time of that drag (data-drag-median-ms) and its update count. */
+async function dragFirstPole(page, dx, dy, steps) {
+  await page.locator('#pw-pole-map').scrollIntoViewIfNeeded();
+  const box = await page.locator('#pw-pole-map').boundingBox();
+  const [x, y] = (await page.getAttribute('#pw-pole-map', 'data-requested-px')).split(' ')[0].split(',').map(Number);
+  const from = [box.x + x, box.y + y];
+  await page.mouse.move(from[0], from[1]);
+  await page.mouse.down();
+  for (let i = 1; i <= steps; i += 1) {
+    await page.mouse.move(from[0] + (dx * i) / steps, from[1] + (dy * i) / steps);
+    await nextFrame(page);
+  }
+  await page.mouse.up();
+  await nextFrame(page);
+  return { median_ms: Number(await page.getAttribute('#pw-pole-map', 'data-drag-median-ms')), updates: Number(await page.getAttribute('#pw-pole-map', 'data-drag-updates')) };
+}
+
+/** Drag updates (move the pole, write the list, quick cycle: design, simulate, draw): a warm-up
+ * drag, then one of 60 moves. Without and with the whole loop simulated. */
+async function runDrags() {
+  return withPage(pageFileUrl, async ({ page }) => {
+    if ((await design(page, massChainFields())) !== 'designed') throw new Error('drag: the mass chain was not designed');
+    await dragFirstPole(page, -10, 5, 10);
+    const plain = await dragFirstPole(page, -60, -45, 60);
+    // The belt-axis demo with a head-position measurement, an observer, integral action and a
+    // reference step: the continuous loop is simulated on every update.
+    await page.selectOption('#pw-demo', '0');
+    await page.click('#pw-load-demo');
+    await page.waitForFunction(() => document.getElementById('pw-status').dataset.outcome === 'designed' && document.getElementById('pw-a').value.startsWith('0 1 0 0'));
+    await page.fill('#pw-c', '0 0 1 0');
+    await page.selectOption('#pw-observer', 'speed_factor');
+    await page.selectOption('#pw-tracking', 'integral');
+    await page.fill('#pw-integral_poles', '-10');
+    await page.fill('#pw-reference', '0.01');
+    await page.click('#pw-design');
+    await page.waitForFunction(() => document.getElementById('pw-status').dataset.outcome === 'designed' && !document.getElementById('pw-status').hasAttribute('data-pending'));
+    await dragFirstPole(page, -8, 4, 10);
+    const withLoop = await dragFirstPole(page, -40, -30, 60);
+    return {
+      drag_n10_m2: { what: 'drag a pole of the 5-mass chain (n = 10, m = 2): median update over one drag of 60 moves', ...plain },
+      drag_with_loop: { what: 'drag a pole of the belt-axis demo with observer, integral action and the loop simulated', ...withLoop },
+    };
+  }, { viewport: { width: 1440, height: 900 } });
+}
+
 function machine() {
   const cpus = os.cpus();
   return { cpu: cpus[0]?.model ?? 'unknown', cores: cpus.length, memory_gib: Math.round(os.totalmem() / 2 ** 30), os: `${os.type()} ${os.release()}` };
@@ -188,6 +239,12 @@ async function main() {
     const def = r.deferred_median_ms === null ? '' : `; then robustness ${r.deferred_median_ms.toFixed(1)} ms (max ${r.deferred_max_ms.toFixed(1)})`;
     console.log(`  phases: ${JSON.stringify(r.phase_median_ms)}`);
     console.log(`${s.key}: median ${r.median_ms.toFixed(2)} ms, 95th percentile ${r.p95_ms.toFixed(2)} ms, max ${r.max_ms.toFixed(2)} ms over ${r.cycles} cycles${def}  (${r.what})`);
+  }
+  if (!only || only === 'drag') {
+    for (const [key, r] of Object.entries(await runDrags())) {
+      results[key] = r;
+      console.log(`${key}: median ${r.median_ms.toFixed(2)} ms over ${r.updates} updates  (${r.what})`);
+    }
   }
   const b = await browser();
   const entry = { date: new Date().toISOString(), benchmark: 'page_cycle', commit: commit(), machine: machine(), browser: `Chromium ${b.version()} (headless)`, results };

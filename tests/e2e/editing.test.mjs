@@ -204,8 +204,10 @@ describe('editing poles on the map', () => {
   });
 });
 
-describe('drag update time', () => {
-  test('dragging a pole for n = 10, m = 2: median update over 60 moves', async () => {
+describe('dragging', () => {
+  // The time per update is measured by tests/bench/page_cycle.mjs (a benchmark); nothing here
+  // asserts speed.
+  test('dragging a pole redesigns as it moves, with and without the loop simulated (no timing asserted)', async () => {
     await withPage(pageFileUrl, async (ctx) => {
       const { page } = ctx;
       assert.equal(await design(page, massChainFields()), 'designed', await page.textContent('#pw-status'));
@@ -240,21 +242,6 @@ describe('drag update time', () => {
       const loopMedian = Number(await page.getAttribute('#pw-pole-map', 'data-drag-median-ms'));
       assert.ok(loopUpdates >= 30 && Number.isFinite(loopMedian) && loopMedian > 0, `${loopUpdates} ${loopMedian}`);
       assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
-      console.log(`drag update, belt axis with observer, integral action and the loop simulated: median ${loopMedian.toFixed(2)} ms over ${loopUpdates} updates`);
-      const report = {
-        what: 'one drag update of the pole map (move the pole, write the poles field, full design cycle: parse, analyse, place, simulate, draw, results), timed with performance.now() inside the page; median over the moves of one drag',
-        plant: 'chain of 5 masses: n = 10 states, m = 2 inputs, actuator limits',
-        moves: 60,
-        updates,
-        median_ms: median,
-        target_ms: 8,
-        with_loop: { plant: 'belt-axis demo (4 states) with C = head position, observer (speed factor), integral action, reference step: continuous loop simulated', updates: loopUpdates, median_ms: loopMedian },
-        user_agent: await page.evaluate(() => navigator.userAgent),
-        date: new Date().toISOString(),
-      };
-      fs.mkdirSync(artifactsDir, { recursive: true });
-      fs.writeFileSync(path.join(artifactsDir, 'drag-time.json'), `${JSON.stringify(report, null, 2)}\n`);
-      console.log(`drag update, n = 10, m = 2: median ${median.toFixed(2)} ms over ${updates} updates`);
       noErrors(ctx);
     });
   });
