@@ -589,7 +589,7 @@ pub fn unpin_design() -> Result<(), JsValue> {
 
 pub(crate) fn format_pairs(poles: &[[f64; 2]]) -> String {
     let z: Vec<Complex64> = poles.iter().map(|p| Complex64::new(p[0], p[1])).collect();
-    crate::poles::format_pole_list(&z)
+    crate::design::format::pole_list(&z)
 }
 
 /// The pinned-versus-current table (hidden without a pin).

@@ -378,7 +378,7 @@ pub(crate) fn render_infeasible(doc: &Document, message: &str, analysis: Option<
     match analysis {
         Some(a) => {
             let poles: Vec<Complex64> = a.open_loop_poles.iter().map(|p| Complex64::new(p[0], p[1])).collect();
-            set_text(doc, ids::OPEN_LOOP, &format!("Open-loop poles (eigenvalues of A): {}.", crate::poles::format_pole_list(&poles)))?;
+            set_text(doc, ids::OPEN_LOOP, &format!("Open-loop poles (eigenvalues of A): {}.", crate::design::format::pole_list(&poles)))?;
             fill(doc, ids::CONTROLLABILITY, &structure_block(doc, &a.controllability, "Controllability of each open-loop mode")?)?;
         }
         None => {

@@ -21,7 +21,6 @@ use nalgebra::DMatrix;
 use num_complex::Complex64;
 
 use crate::analysis::Domain;
-use crate::poles::format_pole_list;
 use crate::result::{DesignResult, Pair};
 use crate::DesignError;
 
@@ -45,7 +44,7 @@ pub(super) fn stability(domain: Domain, closed: &DMatrix<f64>, requested: &[Comp
     let found = if unstable.is_empty() {
         "the Lyapunov equation of the closed loop has no positive definite solution".to_string()
     } else {
-        format!("the closed-loop matrix has pole(s) at {}", format_pole_list(&unstable))
+        format!("the closed-loop matrix has pole(s) at {}", crate::format::pole_list(&unstable))
     };
     Err(DesignError::Infeasible {
         message: format!(

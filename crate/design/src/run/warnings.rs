@@ -7,7 +7,6 @@ use super::pair::DesignPair;
 use super::setup::Setup;
 use crate::analysis::{Domain, ModeVerdict};
 use crate::controller::SampleRateAdvice;
-use crate::poles::format_complex;
 use crate::result::LoopResult;
 use crate::warnings::{Warning, WarningCode, WarningParams};
 use crate::{fmt_num, ControllerSpec, ObserverPoles};
@@ -19,7 +18,7 @@ fn shown(z: &Complex64) -> String {
     if z.im > 0.0 {
         format!("{}±{}j", fmt_num(z.re), fmt_num(z.im))
     } else {
-        format_complex(*z)
+        crate::format::complex(*z)
     }
 }
 
@@ -107,24 +106,24 @@ pub(super) fn placement_warnings(s: &Setup, g: &Gains, an: &Analysis) -> Vec<War
         out.push(Warning::new(WarningCode::DependentInputs, format!("B has rank {} but {m} columns: some inputs act in the same directions; the gain shown is the smallest-norm one.", p.input_rank)));
     }
     if !an.ctrb.is_complete() {
-        let not_assigned = if p.not_assigned.is_empty() { String::new() } else { format!("; the requested pole(s) {} were not assigned", crate::poles::format_pole_list(&p.not_assigned)) };
+        let not_assigned = if p.not_assigned.is_empty() { String::new() } else { format!("; the requested pole(s) {} were not assigned", crate::format::pole_list(&p.not_assigned)) };
         out.push(Warning::new(
             WarningCode::UncontrollableModes,
             format!(
                 "The plant is not controllable: {} mode(s) at {} cannot be moved by feedback and stay where they are{not_assigned}.",
                 an.ctrb.hidden_modes.len(),
-                crate::poles::format_pole_list(&an.ctrb.hidden_modes)
+                crate::format::pole_list(&an.ctrb.hidden_modes)
             ),
         ));
     }
     for md in an.ctrb.modes.iter().filter(|md| md.verdict == ModeVerdict::Weak) {
         out.push(Warning::new(
             WarningCode::WeaklyControllable,
-            format!("The mode at {} is only weakly controllable (margin {}): moving it needs large inputs.", format_complex(md.pole), fmt_num(md.margin)),
+            format!("The mode at {} is only weakly controllable (margin {}): moving it needs large inputs.", crate::format::complex(md.pole), fmt_num(md.margin)),
         ));
     }
     for md in an.obsv.iter().flat_map(|o| o.modes.iter()).filter(|md| md.verdict == ModeVerdict::Weak) {
-        out.push(Warning::new(WarningCode::WeaklyObservable, format!("The mode at {} is only weakly observable from the outputs (margin {}).", format_complex(md.pole), fmt_num(md.margin))));
+        out.push(Warning::new(WarningCode::WeaklyObservable, format!("The mode at {} is only weakly observable from the outputs (margin {}).", crate::format::complex(md.pole), fmt_num(md.margin))));
     }
     if !an.ctrb.consistent || an.obsv.as_ref().is_some_and(|o| !o.consistent) {
         out.push(Warning::new(
@@ -218,7 +217,7 @@ pub(super) fn choice_warnings(s: &Setup, pair: &DesignPair, g: &Gains) -> Vec<Wa
         outside.dedup();
         if !outside.is_empty() {
             let slowed = pair.search.as_ref().is_some_and(|r| r.speed_factor < 1.0);
-            let each: Vec<String> = violations.iter().map(|v| format!("{}: {v}", format_complex(v.pole))).collect();
+            let each: Vec<String> = violations.iter().map(|v| format!("{}: {v}", crate::format::complex(v.pole))).collect();
             out.push(Warning::new(
                 WarningCode::PoleOutsideRegion,
                 format!(

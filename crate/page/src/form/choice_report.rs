@@ -196,7 +196,7 @@ pub(crate) fn lqr_report(result: &DesignResult, l: &design::LqrResult, context: 
         }
         text
     });
-    LqrReport { q, r, residual, riccati_solution, gain, closed_loop_poles: format_pole_list(&poles), gain_note, margins }
+    LqrReport { q, r, residual, riccati_solution, gain, closed_loop_poles: crate::design::format::pole_list(&poles), gain_note, margins }
 }
 
 pub(crate) fn search_report(result: &DesignResult, s: &design::SearchSummary, context: &ReportContext) -> SearchReport {
