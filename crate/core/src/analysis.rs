@@ -35,7 +35,10 @@
 //!
 //! # Cost
 //! `O(n³)` for the staircase (at most `n` SVDs of shrinking blocks, typically a
-//! few), plus one `n × (n+m)` SVD per distinct eigenvalue: `O(n⁴)` worst case.
+//! few). The PBH margins: one Hessenberg reduction, then `O(n²(m + k))` per distinct
+//! eigenvalue ([`crate::linalg::shifted_sigma`]: rotations to a triangular factor and `k`
+//! inverse-iteration steps), `O(n³)` in all; a mode whose two smallest singular values are too
+//! close for the iteration to settle gets a full `n × (n+m)` SVD instead.
 //!
 //! # Failure modes
 //! Errors only if an eigenvalue or SVD iteration fails to converge
@@ -47,6 +50,7 @@ use num_complex::Complex64;
 
 use crate::linalg::eigen::{sort_eigenvalues, try_eigenvalues, EigenError};
 use crate::linalg::qr::full_qr;
+use crate::linalg::shifted_sigma::{ShiftedPair, ShiftedSigmaParams};
 use crate::linalg::svd::{try_norm2, try_singular_values, try_svd, SvdError, SvdParams};
 
 /// Whether the model is a differential (`x' = A x + B u`) or a difference
@@ -363,7 +367,10 @@ fn report_in_range(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -
     ab_pbh.columns_mut(0, n).copy_from(&a_bal);
     ab_pbh.columns_mut(n, m).copy_from(&b_pbh);
     let scale_pbh = try_norm2(&ab_pbh, SvdParams::default())?;
-    // One SVD per distinct eigenvalue (a conjugate shares its partner's).
+    // One Hessenberg reduction per pair, then O(n²) work per distinct eigenvalue (a conjugate
+    // shares its partner's); a full SVD only where the inverse iteration does not settle.
+    let fast_pbh = ShiftedPair::new(&a_bal, &b_pbh);
+    let fast_raw = ShiftedPair::new(a, b);
     let mut margins = vec![0.0; n];
     let mut unscaled = vec![0.0; n];
     for i in 0..n {
@@ -380,8 +387,8 @@ fn report_in_range(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -
             unscaled[i] = unscaled[j];
             continue;
         }
-        margins[i] = pbh_margin(&a_bal, &b_pbh, lambda, scale_pbh)?;
-        unscaled[i] = pbh_margin(a, b, lambda, scale)?;
+        margins[i] = pbh_margin(&fast_pbh, &a_bal, &b_pbh, lambda, scale_pbh)?;
+        unscaled[i] = pbh_margin(&fast_raw, a, b, lambda, scale)?;
     }
     // Verdicts: the staircase's hidden modes, matched to the nearest open-loop modes.
     let mut hidden_flag = vec![false; n];
@@ -440,8 +447,18 @@ pub fn observability_report(a: &DMatrix<f64>, c: &DMatrix<f64>, params: Analysis
     controllability_report(&a.transpose(), &c.transpose(), params)
 }
 
-/// `σ_min([A − λI, B]) / scale`.
-fn pbh_margin(a: &DMatrix<f64>, b: &DMatrix<f64>, lambda: Complex64, scale: f64) -> Result<f64, AnalysisError> {
+/// `σ_min([A − λI, B]) / scale`: from the reduced pair, or by a full SVD when its inverse
+/// iteration does not settle.
+fn pbh_margin(fast: &ShiftedPair, a: &DMatrix<f64>, b: &DMatrix<f64>, lambda: Complex64, scale: f64) -> Result<f64, AnalysisError> {
+    let smin = match fast.smallest_singular_value(lambda, ShiftedSigmaParams::default()) {
+        Ok(s) => s,
+        Err(_) => dense_sigma_min(a, b, lambda)?,
+    };
+    Ok(if scale > 0.0 { smin / scale } else { 0.0 })
+}
+
+/// `σ_min([A − λI, B])` by a full SVD (the route the reduced one is checked against).
+pub(crate) fn dense_sigma_min(a: &DMatrix<f64>, b: &DMatrix<f64>, lambda: Complex64) -> Result<f64, AnalysisError> {
     let n = a.nrows();
     let m = b.ncols();
     let s = if lambda.im == 0.0 {
@@ -465,8 +482,7 @@ fn pbh_margin(a: &DMatrix<f64>, b: &DMatrix<f64>, lambda: Complex64, scale: f64)
         }
         try_singular_values(&w, SvdParams::default())?
     };
-    let smin = s.iter().cloned().fold(f64::INFINITY, f64::min);
-    Ok(if scale > 0.0 { smin / scale } else { 0.0 })
+    Ok(s.iter().cloned().fold(f64::INFINITY, f64::min))
 }
 
 #[cfg(test)]

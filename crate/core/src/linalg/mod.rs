@@ -4,11 +4,13 @@
 //! explicit iteration limit and turns non-convergence into an error:
 //! [`eigen`] (eigenvalues), [`svd`] (singular values and vectors). The finite
 //! algorithms ([`qr`] Householder with the full orthogonal factor, [`expm`]
-//! matrix exponential) live beside them.
+//! matrix exponential) live beside them, and [`shifted_sigma`] (the smallest singular value
+//! of `[A − λI, B]` for many shifts, after one Hessenberg reduction).
 
 pub mod eigen;
 pub mod expm;
 pub mod qr;
+pub mod shifted_sigma;
 pub mod svd;
 
 pub use eigen::{try_eigenvalues, EigenError, EigenParams};

@@ -10,7 +10,8 @@
 //! factor; the full one is needed for orthogonal complements.
 //!
 //! # Cost
-//! `4 n k² − 4k³/3` flops for `R` plus `4 n² k` for `Q` (real arithmetic; four times that for complex).
+//! `4 n k² − 4k³/3` flops for `R` plus `4 n² k` for all of `Q`, or `4 n k d` for its last `d`
+//! columns ([`trailing_q_columns`]) (real arithmetic; four times that for complex).
 //!
 //! # Failure modes
 //! None: the algorithm is finite and backward stable. Rank decisions are left
@@ -22,17 +23,69 @@ use super::svd::{try_svd, SvdError, SvdParams};
 
 /// Full Householder QR: returns `(Q, R)` with `Q` `n × n` unitary and `R` `n × k`.
 pub fn full_qr<T: ComplexField<RealField = f64>>(m: &DMatrix<T>) -> (DMatrix<T>, DMatrix<T>) {
+    let n = m.nrows();
+    let (reflectors, r) = householder(m);
+    let mut q = DMatrix::<T>::identity(n, n);
+    // Q = H₁ H₂ … H_k: applied to I from the right, in order.
+    for h in &reflectors {
+        for row in 0..n {
+            let mut dot = T::zero();
+            for (idx, i) in (h.start..n).enumerate() {
+                dot += q[(row, i)].clone() * h.v[idx].clone();
+            }
+            let f = dot.scale(h.beta);
+            for (idx, i) in (h.start..n).enumerate() {
+                q[(row, i)] = q[(row, i)].clone() - f.clone() * h.v[idx].clone().conjugate();
+            }
+        }
+    }
+    (q, r)
+}
+
+/// The last `d` columns of the full `Q` of `m = Q R` (`n × k`, `d ≤ n`): an orthonormal basis of
+/// the orthogonal complement of `range m` when `m` has full column rank and `d = n − k`.
+/// Only these columns are formed (`Q [0; I_d]`, the reflectors applied in reverse order), at
+/// `4 n k d` flops instead of the `4 n² k` of all of `Q`.
+pub fn trailing_q_columns<T: ComplexField<RealField = f64>>(m: &DMatrix<T>, d: usize) -> DMatrix<T> {
+    let n = m.nrows();
+    let d = d.min(n);
+    let (reflectors, _) = householder(m);
+    let mut e = DMatrix::<T>::zeros(n, d);
+    for j in 0..d {
+        e[(n - d + j, j)] = T::one();
+    }
+    for h in reflectors.iter().rev() {
+        for c in 0..d {
+            let mut dot = T::zero();
+            for (idx, i) in (h.start..n).enumerate() {
+                dot += h.v[idx].clone().conjugate() * e[(i, c)].clone();
+            }
+            let f = dot.scale(h.beta);
+            for (idx, i) in (h.start..n).enumerate() {
+                e[(i, c)] = e[(i, c)].clone() - h.v[idx].clone() * f.clone();
+            }
+        }
+    }
+    e
+}
+
+/// One reflector `H = I − β v vᴴ` acting on rows `start..n`.
+struct Reflector<T> {
+    start: usize,
+    v: Vec<T>,
+    beta: f64,
+}
+
+/// The reflectors of `m`'s Householder QR and its `R`.
+fn householder<T: ComplexField<RealField = f64>>(m: &DMatrix<T>) -> (Vec<Reflector<T>>, DMatrix<T>) {
     let (n, k) = m.shape();
     let mut r = m.clone();
-    let mut q = DMatrix::<T>::identity(n, n);
     let steps = k.min(n.saturating_sub(1));
-    let mut v = vec![T::zero(); n];
+    let mut reflectors = Vec::with_capacity(steps);
     for j in 0..steps {
-        let len = n - j;
         let mut norm_sq = 0.0;
         for i in j..n {
-            let z = r[(i, j)].clone();
-            norm_sq += z.clone().modulus_squared();
+            norm_sq += r[(i, j)].clone().modulus_squared();
         }
         let alpha = norm_sq.sqrt();
         if alpha == 0.0 {
@@ -41,11 +94,9 @@ pub fn full_qr<T: ComplexField<RealField = f64>>(m: &DMatrix<T>) -> (DMatrix<T>,
         let x0 = r[(j, j)].clone();
         let x0_mod = x0.clone().modulus();
         let phase = if x0_mod > 0.0 { x0.clone().unscale(x0_mod) } else { T::one() };
-        for (idx, i) in (j..n).enumerate() {
-            v[idx] = r[(i, j)].clone();
-        }
-        v[0] = v[0].clone() + phase.clone().scale(alpha);
-        let vnorm_sq: f64 = v[..len].iter().map(|z| z.clone().modulus_squared()).sum();
+        let mut v: Vec<T> = (j..n).map(|i| r[(i, j)].clone()).collect();
+        v[0] = v[0].clone() + phase.scale(alpha);
+        let vnorm_sq: f64 = v.iter().map(|z| z.clone().modulus_squared()).sum();
         if vnorm_sq == 0.0 {
             continue;
         }
@@ -61,22 +112,12 @@ pub fn full_qr<T: ComplexField<RealField = f64>>(m: &DMatrix<T>) -> (DMatrix<T>,
                 r[(i, c)] = r[(i, c)].clone() - v[idx].clone() * f.clone();
             }
         }
-        // Q ← Q H  (Q accumulates H₁ H₂ …)
-        for row in 0..n {
-            let mut dot = T::zero();
-            for (idx, i) in (j..n).enumerate() {
-                dot += q[(row, i)].clone() * v[idx].clone();
-            }
-            let f = dot.scale(beta);
-            for (idx, i) in (j..n).enumerate() {
-                q[(row, i)] = q[(row, i)].clone() - f.clone() * v[idx].clone().conjugate();
-            }
-        }
         for i in (j + 1)..n {
             r[(i, j)] = T::zero();
         }
+        reflectors.push(Reflector { start: j, v, beta });
     }
-    (q, r)
+    (reflectors, r)
 }
 
 /// An orthonormal basis of the null space of `w` (`p × n`), as the columns of an

@@ -7,7 +7,7 @@ use num_complex::Complex64;
 
 use super::{max_matching_error, Branch, Core, Eigenvectors, PlacementError, PlacementMethod, PlacementParams, Slot};
 use crate::linalg::eigen::{balancing_scale, try_eigenvalues};
-use crate::linalg::qr::full_qr;
+use crate::linalg::qr::{full_qr, trailing_q_columns};
 use crate::linalg::svd::{try_condition_number, try_svd, SvdParams};
 
 pub(super) fn to_complex(m: &DMatrix<f64>) -> DMatrix<Complex64> {
@@ -543,8 +543,7 @@ fn admissible_subspace(a: &DMatrix<f64>, u1: &DMatrix<f64>, lambda: Complex64, r
                 w[(i, j)] -= lambda.re * u1[(i, j)];
             }
         }
-        let (q, _) = full_qr(&w);
-        to_complex(&q.columns(n - r, r).into_owned())
+        to_complex(&trailing_q_columns(&w, r))
     } else {
         // (A − λI)ᴴ U₁ = (Aᵀ − λ̄ I) U₁.
         let at_u1 = to_complex(&(a.transpose() * u1));
@@ -555,8 +554,7 @@ fn admissible_subspace(a: &DMatrix<f64>, u1: &DMatrix<f64>, lambda: Complex64, r
                 w[(i, j)] -= lc * u1[(i, j)];
             }
         }
-        let (q, _) = full_qr(&w);
-        q.columns(n - r, r).into_owned()
+        trailing_q_columns(&w, r)
     }
 }
 

@@ -29,3 +29,18 @@ fn null_space_of_rank_deficient() {
     assert!((&w * &ns).norm() < 1e-14);
     assert!((ns.transpose() * &ns - DMatrix::identity(2, 2)).norm() < 1e-14);
 }
+
+#[test]
+fn trailing_columns_are_those_of_the_full_q() {
+    // Real and complex, tall and square: the formed columns equal the full Q's (same reflectors).
+    let real = DMatrix::from_fn(9, 5, |i, j| ((i * 7 + j * 3) % 11) as f64 - 5.0 + 0.1 * (i as f64));
+    let (q, _) = full_qr(&real);
+    let tail = trailing_q_columns(&real, 4);
+    assert!((&tail - q.columns(5, 4)).norm() < 1e-14 * q.norm(), "{}", (&tail - q.columns(5, 4)).norm());
+    assert!((real.transpose() * &tail).norm() < 1e-13 * real.norm(), "orthogonal to the range");
+    let complex = DMatrix::from_fn(7, 3, |i, j| num_complex::Complex64::new((i + 2 * j) as f64 - 3.0, ((i * j) % 4) as f64 - 1.5));
+    let (qc, _) = full_qr(&complex);
+    let tc = trailing_q_columns(&complex, 4);
+    assert!((&tc - qc.columns(3, 4)).norm() < 1e-14 * qc.norm());
+    assert!((tc.adjoint() * &tc - DMatrix::identity(4, 4)).norm() < 1e-14, "orthonormal");
+}
