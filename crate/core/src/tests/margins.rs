@@ -71,3 +71,36 @@ fn loop_at_a_time_closes_the_other_inputs() {
     let want = Complex64::new(3.0, 0.0) / Complex64::new(1.0, w);
     assert!((v - want).norm() < 1e-14, "{v} vs {want}");
 }
+
+#[test]
+fn sigma_max_fast_routes_agree_with_the_svd() {
+    // The closed form (2 × 2) and the Hermitian eigenvalues of MᴴM (3 × 3 … 8 × 8) against the
+    // SVD on seeded complex matrices, including nearly rank-one and widely scaled ones.
+    let mut state = 0xC0FFEEu64;
+    let mut next = || {
+        state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = state;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^= z >> 31;
+        2.0 * ((z >> 11) as f64 / (1u64 << 53) as f64) - 1.0
+    };
+    let mut compared = 0;
+    for k in 2..=8 {
+        for case in 0..20 {
+            let scale = 10f64.powi(case % 7 - 3);
+            let mut m = DMatrix::<Complex64>::from_fn(k, k, |_, _| Complex64::new(next(), next()) * scale);
+            if case % 5 == 0 {
+                // Nearly rank one: u vᴴ plus 1e-9.
+                let u: Vec<Complex64> = (0..k).map(|_| Complex64::new(next(), next())).collect();
+                let v: Vec<Complex64> = (0..k).map(|_| Complex64::new(next(), next())).collect();
+                m = DMatrix::from_fn(k, k, |i, j| (u[i] * v[j].conj() + Complex64::new(1e-9 * next(), 0.0)) * scale);
+            }
+            let svd = sigma_max_svd(&m);
+            let fast = sigma_max(&m);
+            assert!((fast - svd).abs() <= 1e-13 * svd, "k {k} case {case}: {fast} vs {svd}");
+            compared += 1;
+        }
+    }
+    assert_eq!(compared, 140);
+}
