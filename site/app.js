@@ -214,8 +214,14 @@ const openText = guarded((text, name) => {
     markSaved();
   }
 });
+// Design files over 8 MiB are refused unread (the same limit as the command line's).
+const MAX_DESIGN_BYTES = 8 * 1024 * 1024;
 function openFile(file) {
   if (!file) return;
+  if (file.size > MAX_DESIGN_BYTES) {
+    byId('pw-file-status').textContent = `${file.name} is ${file.size} bytes; design files of up to ${MAX_DESIGN_BYTES} bytes (8 MiB) are read. Nothing was changed.`;
+    return;
+  }
   file.text().then((text) => openText(text, file.name), (err) => {
     byId('pw-file-status').textContent = `${file.name} could not be read: ${err.message}`;
   });

@@ -65,6 +65,11 @@ async function checkSaveOpen(url) {
     await page.setInputFiles('#pw-open-file', { name: 'new.json', mimeType: 'application/json', buffer: Buffer.from(text.replace('"version": 3', '"version": 7')) });
     await page.waitForFunction(() => document.getElementById('pw-file-status').textContent.includes('version 7 is newer'));
     assert.deepEqual(await fieldValues(page), before);
+    // A file over 8 MiB is refused unread, by its size.
+    await page.setInputFiles('#pw-open-file', { name: 'huge.json', mimeType: 'application/json', buffer: Buffer.alloc(9_000_000, 32) });
+    await page.waitForFunction(() => document.getElementById('pw-file-status').textContent.includes('9000000 bytes'));
+    assert.match(await page.textContent('#pw-file-status'), /up to 8388608 bytes \(8 MiB\) are read\. Nothing was changed\./);
+    assert.deepEqual(await fieldValues(page), before);
     // Nothing left the page: every request is the page itself or a data:/blob: URL.
     const base = url.split('#')[0];
     assert.deepEqual(requests.filter((r) => r !== base && !r.startsWith('data:') && !r.startsWith('blob:')), []);
@@ -72,9 +77,9 @@ async function checkSaveOpen(url) {
 }
 
 describe('design document', () => {
-  test('save, open and a refused bad file, from file://', async () => checkSaveOpen(pageFileUrl));
+  test('save, open and refused bad, newer and oversized files, from file://', async () => checkSaveOpen(pageFileUrl));
 
-  test('save, open and a refused bad file, from http://127.0.0.1', async () => {
+  test('save, open and refused bad, newer and oversized files, from http://127.0.0.1', async () => {
     const server = await startStaticServer(distDir);
     try {
       await checkSaveOpen(`${server.origin}/polewright.html`);

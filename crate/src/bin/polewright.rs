@@ -106,21 +106,45 @@ fn run(args: &[String]) -> ExitCode {
     }
 }
 
-/// The text of a design file, or of standard input for `-`.
+/// The text of a design file, or of standard input for `-`. More than
+/// [`design::spec::MAX_DESIGN_BYTES`] is refused before it is read (a file by its size, standard
+/// input after one byte more than the limit), so an oversized input costs neither time nor memory.
 fn read_source(source: &str) -> Result<String, ExitCode> {
+    let limit = design::spec::MAX_DESIGN_BYTES;
+    let too_big = |what: &str, size: String| {
+        eprintln!("polewright: invalid input: {what} is {size} bytes; design files of up to {limit} bytes (8 MiB) are read");
+        ExitCode::from(2)
+    };
+    let mut bytes = Vec::new();
     if source == "-" {
-        let mut s = String::new();
-        std::io::stdin().read_to_string(&mut s).map_err(|e| {
+        std::io::stdin().take(limit as u64 + 1).read_to_end(&mut bytes).map_err(|e| {
             eprintln!("polewright: cannot read standard input: {e}");
             ExitCode::from(2)
         })?;
-        Ok(s)
+        if bytes.len() > limit {
+            return Err(too_big("standard input", format!("more than {limit}")));
+        }
     } else {
-        std::fs::read_to_string(source).map_err(|e| {
+        let file = std::fs::File::open(source).map_err(|e| {
             eprintln!("polewright: cannot read {source}: {e}");
             ExitCode::from(2)
-        })
+        })?;
+        let size = file.metadata().map(|m| m.len()).unwrap_or(0);
+        if size > limit as u64 {
+            return Err(too_big(source, size.to_string()));
+        }
+        file.take(limit as u64 + 1).read_to_end(&mut bytes).map_err(|e| {
+            eprintln!("polewright: cannot read {source}: {e}");
+            ExitCode::from(2)
+        })?;
+        if bytes.len() > limit {
+            return Err(too_big(source, format!("more than {limit}")));
+        }
     }
+    String::from_utf8(bytes).map_err(|e| {
+        eprintln!("polewright: invalid input: {source} is not UTF-8 text (byte {}); save the design file as UTF-8", e.utf8_error().valid_up_to());
+        ExitCode::from(2)
+    })
 }
 
 /// Runs one design file; a failure is reported (prefixed with `what`) as its exit code.

@@ -217,7 +217,7 @@ fn pole_count(c: &mut Checker, given: usize, n: usize, integrators: usize) -> bo
     let message = if integrators > 0 {
         format!("{given} poles given but the design has {wanted} states ({n} plant states + {integrators} for the integrators); give {wanted} poles, or list the integrator poles in tracking.integral_poles")
     } else {
-        format!("{given} poles given but the plant has {n} states; give exactly {n} poles")
+        format!("{given} pole{} given but the plant has {n} state{}; give exactly {n} pole{}", if given == 1 { "" } else { "s" }, if n == 1 { "" } else { "s" }, if n == 1 { "" } else { "s" })
     };
     c.push(P::FeedbackPoles, message);
     false

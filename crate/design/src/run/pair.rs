@@ -173,7 +173,7 @@ fn check_pole_count(s: &Setup, pair: &DesignPair) -> Result<(), DesignError> {
             if s.integral_poles.is_some() { ", or list the integrator poles in tracking.integral_poles" } else { "" }
         )
     } else {
-        format!("{given} poles given but the plant has {n} states; give exactly {n} poles")
+        format!("{given} pole{} given but the plant has {n} state{}; give exactly {n} pole{}", if given == 1 { "" } else { "s" }, if n == 1 { "" } else { "s" }, if n == 1 { "" } else { "s" })
     };
     Err(DesignError::Input(InputError::new(P::FeedbackPoles, message)))
 }

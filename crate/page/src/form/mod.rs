@@ -236,6 +236,30 @@ fn plural(count: usize, one: &str, many: &str) -> String {
 /// Most samples a digital simulation may take (the rule is the design layer's, at both doors).
 pub use crate::design::check::MAX_LOOP_SAMPLES;
 
+/// Most characters the page reads from a matrix field (a 50-state `A` with 25-character
+/// entries is about 65,000); longer text is refused before it is parsed.
+pub const MAX_MATRIX_CHARS: usize = 500_000;
+
+/// Most characters the page reads from any other field (a pole list of 50 poles is under
+/// 2,000); longer text is refused before it is parsed.
+pub const MAX_FIELD_CHARS: usize = 50_000;
+
+/// The fields that hold matrices.
+const MATRIX_FIELDS: [&str; 5] = ["a", "b", "c", "d", "disturbance_input"];
+
+/// Fields over their length limit, refused before anything is parsed (a pasted file or a
+/// runaway generator must not freeze the page).
+fn oversized_fields(form: &FormInput) -> Vec<FieldError> {
+    FormInput::FIELDS
+        .iter()
+        .filter_map(|&key| {
+            let limit = if MATRIX_FIELDS.contains(&key) { MAX_MATRIX_CHARS } else { MAX_FIELD_CHARS };
+            let chars = form.get(key).map_or(0, |t| t.len());
+            (chars > limit).then(|| FieldError { field: key, message: format!("the text has {chars} characters; this field reads at most {limit}: shorten it (the command-line tool reads design files of up to 8 MiB)") })
+        })
+        .collect()
+}
+
 /// Page capacity (not a design rule: the CLI designs larger plants): at most [`MAX_STATES`].
 fn page_capacity(form: &FormInput) -> Option<FieldError> {
     let rows = crate::parse::parse_matrix(&form.a).ok()?.nrows();
@@ -275,6 +299,11 @@ pub enum Depth {
 /// [`evaluate_form_continued`] at the given [`Depth`].
 pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Continuation>, depth: Depth) -> FormOutcome {
     let mut outcome = FormOutcome { status: FormStatus::Invalid, errors: Vec::new(), sizes: std::collections::BTreeMap::new(), design: None, design_error: None, analysis: None, report: None };
+    let oversized = oversized_fields(form);
+    if !oversized.is_empty() {
+        outcome.errors = oversized;
+        return outcome;
+    }
     let spec = match adapter::spec_from_form(form) {
         Ok(spec) => spec,
         Err(errors) => {

@@ -1007,3 +1007,27 @@ fn the_sampling_zeros_of_a_triple_integrator_are_named_as_such() {
     assert!(r.zeros.contains("sampling zeros") && !r.zeros.contains("first moves the wrong way"), "{}", r.zeros);
     assert!(r.verdicts.iter().any(|v| v.text.starts_with("A sampling zero at \u{2212}3.7321")), "{:?}", r.verdicts);
 }
+
+#[test]
+fn oversized_fields_are_refused_before_parsing() {
+    // A runaway pole list (2 million poles, 8 MB) and an oversized matrix: each field gets its
+    // own error naming the length and the limit; nothing is designed.
+    let poles = vec!["-1"; 2_000_000].join(", ");
+    let o = evaluate_form(&form("0", "1", &poles));
+    assert_eq!(o.status, FormStatus::Invalid);
+    assert_eq!(o.errors.len(), 1);
+    assert_eq!(o.errors[0].field, "poles");
+    assert!(o.errors[0].message.contains(&format!("{} characters", poles.len())) && o.errors[0].message.contains(&MAX_FIELD_CHARS.to_string()), "{}", o.errors[0].message);
+    let big_a = vec!["0.5"; 140_000].join(" ");
+    let o = evaluate_form(&form(&big_a, "1", &vec!["-1"; 10_000].join(", ")));
+    let fields: Vec<&str> = o.errors.iter().map(|e| e.field).collect();
+    assert_eq!(fields, ["a"], "{:?}", o.errors);
+    // Just under the limits the text is read as usual (and judged on its content).
+    let a = vec!["0"; 124_999].join(" ");
+    assert!(a.len() < MAX_MATRIX_CHARS);
+    let o = evaluate_form(&form(&a, "1", "-1"));
+    assert!(o.errors.iter().all(|e| !e.message.contains("characters")), "{:?}", o.errors);
+    // The plural follows the count.
+    let o = evaluate_form(&form("0", "1", "-1, -2"));
+    assert!(o.errors.iter().any(|e| e.message.contains("2 poles given but the plant has 1 state; give exactly 1 pole")), "{:?}", o.errors);
+}
