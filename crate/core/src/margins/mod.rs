@@ -101,8 +101,9 @@ fn complex(m: &DMatrix<f64>) -> DMatrix<Complex64> {
 /// `O(n³)` LU.
 #[derive(Debug, Clone)]
 struct Reduced {
-    /// `−H`, `B̃`, `C̃`, `D` as complex matrices, converted once.
-    minus_h: DMatrix<Complex64>,
+    /// `−Hᵀ` (stored transposed, so that each row of `H` is a contiguous column), `B̃`, `C̃`,
+    /// `D` as complex matrices, converted once.
+    minus_ht: DMatrix<Complex64>,
     b: DMatrix<Complex64>,
     c: DMatrix<Complex64>,
     d: DMatrix<Complex64>,
@@ -116,34 +117,39 @@ impl Reduced {
             let (q, h) = a.clone().hessenberg().unpack();
             (h, q.transpose() * b, c * &q)
         };
-        Reduced { minus_h: -complex(&h), b: complex(&b), c: complex(&c), d: complex(d) }
+        Reduced { minus_ht: -complex(&h.transpose()), b: complex(&b), c: complex(&c), d: complex(d) }
     }
 
     /// `C̃ (pI − H)⁻¹ B̃ + D` by Gaussian elimination with adjacent-row pivoting (pivots compared
-    /// by squared modulus: no square roots in the inner loop).
+    /// by squared modulus: no square roots in the inner loop). Rows of `pI − H` are columns of
+    /// the stored transpose: every inner loop runs over contiguous memory.
     fn at(&self, p: Complex64, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
-        let n = self.minus_h.nrows();
-        let mut m = self.minus_h.clone();
+        let n = self.minus_ht.nrows();
+        // mt = (pI − H)ᵀ: column k is row k of pI − H.
+        let mut mt = self.minus_ht.clone();
         for i in 0..n {
-            m[(i, i)] += p;
+            mt[(i, i)] += p;
         }
         let mut x = self.b.clone();
         for k in 0..n.saturating_sub(1) {
-            if m[(k + 1, k)].norm_sqr() > m[(k, k)].norm_sqr() {
-                m.swap_rows(k, k + 1);
+            if mt[(k, k + 1)].norm_sqr() > mt[(k, k)].norm_sqr() {
+                mt.swap_columns(k, k + 1);
                 x.swap_rows(k, k + 1);
             }
-            let pivot = m[(k, k)];
+            let pivot = mt[(k, k)];
             if pivot.norm_sqr() == 0.0 {
                 continue;
             }
-            let f = m[(k + 1, k)] / pivot;
+            let f = mt[(k, k + 1)] / pivot;
             if f.norm_sqr() == 0.0 {
                 continue;
             }
-            for j in k..n {
-                let v = m[(k, j)];
-                m[(k + 1, j)] -= f * v;
+            // Row k+1 −= f · row k (entries k..n): columns k+1 and k of the transpose.
+            let (upper, lower) = mt.as_mut_slice().split_at_mut((k + 1) * n);
+            let row_k = &upper[k * n + k..k * n + n];
+            let row_k1 = &mut lower[k..n];
+            for (dst, src) in row_k1.iter_mut().zip(row_k) {
+                *dst -= f * src;
             }
             for j in 0..x.ncols() {
                 let v = x[(k, j)];
@@ -151,14 +157,16 @@ impl Reduced {
             }
         }
         for k in (0..n).rev() {
-            let pivot = m[(k, k)];
+            let pivot = mt[(k, k)];
             if !(pivot.norm_sqr() > 0.0) {
                 return Err(MarginError::BoundaryPole { frequency: w });
             }
+            let row = &mt.as_slice()[k * n..k * n + n];
             for j in 0..x.ncols() {
                 let mut v = x[(k, j)];
+                let col = x.column(j);
                 for i in k + 1..n {
-                    v -= m[(k, i)] * x[(i, j)];
+                    v -= row[i] * col[i];
                 }
                 x[(k, j)] = v / pivot;
             }
