@@ -47,8 +47,9 @@ import scipy.signal  # noqa: E402
 HERE = Path(__file__).resolve().parent
 REPO = HERE.parent.parent
 
-# (n, m) pairs: the issue's two ratio cases, then the growth table.
-DEFAULT_SIZES = [(20, 3), (40, 4), (10, 3), (50, 4), (100, 4), (200, 4), (300, 4), (500, 4)]
+# (family, n, m): random plants against scipy, then the growth table on modal plants.
+DEFAULT_SIZES = [("random", 10, 3), ("random", 20, 3), ("random", 40, 4), ("random", 50, 4), ("random", 100, 4),
+                 ("modal", 10, 4), ("modal", 20, 4), ("modal", 50, 4), ("modal", 100, 4), ("modal", 200, 4), ("modal", 300, 4), ("modal", 500, 4)]
 SCIPY_LIMIT = 100
 
 
@@ -68,8 +69,27 @@ def plant(n: int, m: int, seed: int):
     return a, b, reals, poles, np.array(full)
 
 
+def modal_plant(n: int, m: int):
+    """A flexible structure in modal form (invented, illustrative): n/2 modes with damping 0.02
+    and frequencies 1, 1.5, 2, ... rad/s, m actuators with mode-shape values sin(0.7 (i+1)(j+1));
+    the targets keep each frequency and raise the damping to 0.05 (a well-conditioned request)."""
+    k = n // 2
+    a = np.zeros((n, n))
+    b = np.zeros((n, m))
+    pairs = []
+    for i in range(k):
+        w = 1 + 0.5 * i
+        a[2 * i, 2 * i + 1] = 1
+        a[2 * i + 1, 2 * i] = -w * w
+        a[2 * i + 1, 2 * i + 1] = -2 * 0.02 * w
+        b[2 * i + 1] = [np.sin(0.7 * (i + 1) * (j + 1)) for j in range(m)]
+        pairs.append(complex(-0.05 * w, w * np.sqrt(1 - 0.05**2)))
+    full = np.array([p for z in pairs for p in (z, z.conjugate())])
+    return a, b, [], pairs, full
+
+
 def document(a, b, reals, pairs) -> dict:
-    poles = [r for r in reals] + [f"{z.real!r}±{z.imag!r}j" for z in pairs]
+    poles = [float(r) for r in reals] + [f"{float(z.real)!r}±{float(z.imag)!r}j" for z in pairs]
     return {"format": "polewright.design", "version": 1, "comment": "benchmark plant (seeded, illustrative)",
             "plant": {"a": a.tolist(), "b": b.tolist()}, "feedback": {"poles": poles}}
 
@@ -86,22 +106,22 @@ def judged(a, b, k, wanted):
 
 
 def time_polewright(binary: Path, path: Path, repeats: int, timeout: float):
-    walls, peaks, out = [], [], None
+    """Median wall time of `repeats` whole processes started from here, and the peak resident
+    memory (KiB) of one more run under GNU time (a child forked from this interpreter would
+    count the interpreter's own memory, which the kernel carries over a fork)."""
+    walls, out = [], None
     for _ in range(repeats):
-        # ru_maxrss of RUSAGE_CHILDREN is the largest child so far: measure each size in a fresh
-        # helper so the figure belongs to this process alone.
-        script = ("import resource,subprocess,sys,time,json;t=time.perf_counter();"
-                  "p=subprocess.run(sys.argv[1:],capture_output=True);w=time.perf_counter()-t;"
-                  "sys.stdout.buffer.write(json.dumps({'wall':w,'rc':p.returncode,"
-                  "'rss':resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss}).encode()+b'\\n'+p.stdout);"
-                  "sys.stderr.buffer.write(p.stderr)")
-        proc = subprocess.run([sys.executable, "-c", script, str(binary), "design", str(path)], capture_output=True, timeout=timeout)
-        head, _, body = proc.stdout.partition(b"\n")
-        info = json.loads(head)
-        walls.append(info["wall"])
-        peaks.append(info["rss"])
-        out = (info["rc"], body, proc.stderr)
-    return statistics.median(walls), max(peaks), out
+        t0 = time.perf_counter()
+        proc = subprocess.run([str(binary), "design", str(path)], capture_output=True, timeout=timeout)
+        walls.append(time.perf_counter() - t0)
+        out = (proc.returncode, proc.stdout, proc.stderr)
+    peak = float("nan")
+    if Path("/usr/bin/time").exists():
+        with tempfile.TemporaryDirectory() as tmp:
+            report = Path(tmp) / "rss"
+            subprocess.run(["/usr/bin/time", "-f", "%M", "-o", str(report), str(binary), "design", str(path)], capture_output=True, timeout=timeout)
+            peak = float(report.read_text().strip().splitlines()[-1])
+    return statistics.median(walls), peak, out
 
 
 def time_scipy(a, b, full, repeats: int):
@@ -139,40 +159,41 @@ def commit() -> str:
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--binary", type=Path, default=REPO / "target" / "release" / "polewright")
-    ap.add_argument("--sizes", default=None, help="n:m pairs, e.g. 20:3,40:4")
+    ap.add_argument("--sizes", default=None, help="family:n:m triples, e.g. random:20:3,modal:200:4")
     ap.add_argument("--plants", type=int, default=3, help="seeded plants per size (default 3)")
     ap.add_argument("--record", action="store_true", help="append the figures to tests/bench/log.jsonl")
     args = ap.parse_args(argv)
-    sizes = DEFAULT_SIZES if not args.sizes else [tuple(int(v) for v in s.split(":")) for s in args.sizes.split(",")]
+    sizes = DEFAULT_SIZES if not args.sizes else [(t.split(":")[0], int(t.split(":")[1]), int(t.split(":")[2])) for t in args.sizes.split(",")]
     if not args.binary.exists():
         print(f"{args.binary} not found: cargo build --release -p polewright --bin polewright", file=sys.stderr)
         return 2
     rows = []
     with tempfile.TemporaryDirectory() as tmp:
-        for n, m in sizes:
-            for p in range(args.plants):
+        for family, n, m in sizes:
+            for p in range(args.plants if family == "random" else 1):
                 seed = 1000 * n + 10 * m + p
-                a, b, reals, pairs, full = plant(n, m, seed)
-                path = Path(tmp) / f"plant_{n}_{m}_{p}.json"
+                a, b, reals, pairs, full = plant(n, m, seed) if family == "random" else modal_plant(n, m)
+                path = Path(tmp) / f"{family}_{n}_{m}_{p}.json"
                 path.write_text(json.dumps(document(a, b, reals, pairs)))
-                repeats = 5 if n <= 100 else 1
+                repeats = 7 if n <= 100 else 1
                 wall, peak_kib, (rc, body, err) = time_polewright(args.binary, path, repeats, timeout=600)
-                row = {"n": n, "m": m, "seed": seed, "process_ms": wall * 1e3, "peak_rss_mib": peak_kib / 1024, "exit": rc}
+                row = {"family": family, "n": n, "m": m, "seed": seed if family == "random" else None, "process_ms": wall * 1e3, "peak_rss_mib": peak_kib / 1024, "exit": rc}
                 if rc == 0:
                     result = json.loads(body)
                     k = np.array(result["feedback"]["gain"], dtype=float)
+                    row["sweeps"] = result["feedback"].get("iterations")
                     row["error"], row["kappa"] = judged(a, b, k, full)
                 else:
                     row["message"] = err.decode(errors="replace").strip()[:300]
-                if n <= SCIPY_LIMIT:
+                if family == "random" and n <= SCIPY_LIMIT:
                     s_time, s_gain = time_scipy(a, b, full, 3 if n <= 40 else 1)
                     row["scipy_ms"] = s_time * 1e3
                     row["scipy_error"], row["scipy_kappa"] = judged(a, b, s_gain, full)
                     row["speed_ratio"] = row["scipy_ms"] / row["process_ms"]
                 rows.append(row)
                 ratio = f"  scipy {row['scipy_ms']:9.1f} ms  ratio {row['speed_ratio']:6.1f}" if "scipy_ms" in row else ""
-                judged_text = f"  error {row['error']:.2e} (scipy {row.get('scipy_error', float('nan')):.2e})  kappa {row['kappa']:.3g} (scipy {row.get('scipy_kappa', float('nan')):.3g})" if rc == 0 else f"  exit {rc}: {row.get('message', '')}"
-                print(f"n {n:4d} m {m}  plant {p}: process {wall * 1e3:9.1f} ms  peak {peak_kib / 1024:7.1f} MiB{ratio}{judged_text}", flush=True)
+                judged_text = f"  sweeps {row.get('sweeps')}  error {row['error']:.2e} (scipy {row.get('scipy_error', float('nan')):.2e})  kappa {row['kappa']:.3g} (scipy {row.get('scipy_kappa', float('nan')):.3g})" if rc == 0 else f"  exit {rc}: {row.get('message', '')}"
+                print(f"{family:6s} n {n:4d} m {m}  plant {p}: process {wall * 1e3:9.1f} ms  peak {peak_kib / 1024:7.1f} MiB{ratio}{judged_text}", flush=True)
     if args.record:
         entry = {"date": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"), "benchmark": "whole_process",
                  "commit": commit(), "machine": machine(), "scipy": scipy.__version__, "numpy": np.__version__, "rows": rows}

@@ -43,8 +43,19 @@
 //! modes stay where they are and the requested poles they displace are reported.
 //!
 //! # Cost
-//! `O(n² (n − r))` per distinct pole for the subspaces (`O(n⁴)` in all, less with
-//! conjugate pairs, which share theirs), and `O(n³)` per sweep.
+//! - Subspaces: a Householder QR of the `n × (n − r)` matrix `(A − λI)ᴴ U₁` per distinct pole
+//!   (a conjugate pair shares one), forming only the `r` trailing columns of `Q`: about
+//!   `4n(n − r)² − 4(n − r)³/3 + 4n(n − r)r` flops (four times that in complex arithmetic), so
+//!   `O(n⁴)` for `n` distinct poles — the dominant term beyond a few hundred states.
+//! - One sweep: each real column costs two `n × n` matrix–vector products' worth (`X_r⁻¹ u` and
+//!   the rank-one update of `X_r⁻¹`, `2n²` flops each) plus `4nr` for the projection; a pair
+//!   twice that: about `4n³ + 4n²r` flops per sweep, with no allocation inside it. `X_r⁻¹` is
+//!   refactored every [`PlacementParams::refactor_interval`] sweeps (`≈ 2n³`, LU and inverse).
+//! - Sweeps: each of the (up to three) starting guesses gets
+//!   [`PlacementParams::condition_check_interval`] sweeps, the best continues to convergence
+//!   or [`PlacementParams::max_sweeps`]; the count is reported (`iterations`). Measured on the
+//!   benchmark plants of `tests/bench/whole_process.py` (README table): see the `sweeps`
+//!   column there.
 //!
 //! A pole requested more often than `rank B` allows (with one input: any repeated pole, as in
 //! deadbeat designs) has no diagonalisable closed loop; such requests go to the orthogonal
