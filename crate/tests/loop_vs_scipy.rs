@@ -130,7 +130,11 @@ fn every_loop_matches_the_scipy_reference() {
         let digital = built.ctrl.sample_time.is_some();
         let y_ours = if matches!(built.sc.noise, Noise::Given(_)) { &r.measured } else { &r.outputs };
         let mut pairs: Vec<(&str, f64)> = vec![("y", compare(y_ours, &series(&s["y"]).unwrap(), built.decimation)), ("x", compare(&r.states, &series(&s["x"]).unwrap(), built.decimation))];
-        if let Some(xh) = series(&s["xhat"]) {
+        // Required wherever the loop has what the series describes: an observer's estimate, an
+        // integrator's state (a missing series fails instead of being skipped).
+        let name = case["name"].as_str().unwrap_or("?");
+        if built.ctrl.observer.is_some() {
+            let xh = series(&s["xhat"]).unwrap_or_else(|| panic!("{name}: an observer but no xhat series"));
             pairs.push(("xhat", compare(&r.estimates, &xh, built.decimation)));
         }
         if digital {
@@ -139,7 +143,8 @@ fn every_loop_matches_the_scipy_reference() {
         } else {
             pairs.push(("u", compare(&r.inputs, &series(&s["u"]).unwrap(), built.decimation)));
         }
-        if let Some(z) = series(&s["z"]) {
+        if matches!(built.ctrl.tracking, TrackingLaw::Integral { .. }) {
+            let z = series(&s["z"]).unwrap_or_else(|| panic!("{name}: integral action but no z series"));
             pairs.push(("z", compare(&r.integrator, &z, built.decimation)));
         }
         // Continuous: both sides use exact exponentials of the same stacked system, differing only

@@ -133,8 +133,12 @@ fn bands(f: &serde_json::Value) -> Vec<f64> {
     f["bands"].as_array().expect("bands").iter().map(f64_of).collect()
 }
 
+/// The fixture cases of one kind; a kind with no case fails (a loop over none would pass).
 fn cases<'a>(f: &'a serde_json::Value, kind: &str) -> Vec<&'a serde_json::Value> {
-    f["cases"].as_array().expect("cases").iter().filter(|c| c["kind"] == kind).collect()
+    let found: Vec<&serde_json::Value> = f["cases"].as_array().expect("cases").iter().filter(|c| c["kind"] == kind).collect();
+    assert!(!found.is_empty(), "no fixture case of kind {kind:?}");
+    println!("{kind}: {} fixture cases", found.len());
+    found
 }
 
 fn params() -> ResponseParams {

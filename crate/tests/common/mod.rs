@@ -31,8 +31,10 @@ pub fn complex_list(v: &Value) -> Vec<Complex64> {
         .collect()
 }
 
+/// A required number of a fixture: a missing or non-numeric value fails the test (it used to
+/// become NaN, which sent a case silently down a branch that skipped its checks).
 pub fn f64_of(v: &Value) -> f64 {
-    v.as_f64().unwrap_or(f64::NAN)
+    v.as_f64().unwrap_or_else(|| panic!("the fixture lacks a required number (found {v})"))
 }
 
 /// A one-to-one assignment minimising the summed cost (Hungarian method, Kuhn 1955 / Munkres
@@ -98,6 +100,11 @@ pub fn assignment(cost: &DMatrix<f64>) -> Vec<usize> {
     out
 }
 
+thread_local! {
+    /// How many judged gains needed Polewright's eigenvalue routine (nalgebra's Schur failed).
+    pub static SCHUR_FALLBACKS: std::cell::Cell<usize> = const { std::cell::Cell::new(0) };
+}
+
 /// A gain judged without anything Polewright computed about it: the eigenvalues of `A − B K`
 /// by nalgebra's Schur decomposition (not Polewright's eigenvalue code), matched one-to-one to
 /// the request ([`assignment`], the fixtures' rule), the largest relative error
@@ -105,11 +112,6 @@ pub fn assignment(cost: &DMatrix<f64>) -> Vec<usize> {
 /// singular vector of `A − B K − λ I` for its smallest singular value (nalgebra's SVD; the
 /// k-th copy of a repeated eigenvalue takes the k-th smallest). Where eigenvalues repeat,
 /// `reported` (the placement's poles and eigenvectors) is used once verified against the gain.
-thread_local! {
-    /// How many judged gains needed Polewright's eigenvalue routine (nalgebra's Schur failed).
-    pub static SCHUR_FALLBACKS: std::cell::Cell<usize> = const { std::cell::Cell::new(0) };
-}
-
 pub struct Judged {
     pub max_rel_error: f64,
     pub eigenvector_condition: f64,
