@@ -46,8 +46,11 @@ fn number_syntax() {
     let m = parse_matrix("1e-3 -2.5E+4 +3 .5 4. -0 1E3 -.25").unwrap();
     let values: Vec<f64> = m.iter().copied().collect();
     assert_eq!(values, vec![1e-3, -2.5e4, 3.0, 0.5, 4.0, 0.0, 1000.0, -0.25]);
-    // Tiny numbers underflow quietly to zero or a subnormal; that is fine.
-    assert!(parse_matrix("1e-999").is_ok());
+    // Tiny numbers underflow quietly to zero (IEEE 754 rounding of 1e-999); the smallest
+    // subnormal is kept exactly.
+    assert_eq!(parse_matrix("1e-999").unwrap()[(0, 0)].to_bits(), 0.0f64.to_bits());
+    assert_eq!(parse_matrix("-1e-999").unwrap()[(0, 0)], 0.0);
+    assert_eq!(parse_matrix("4.9406564584124654e-324").unwrap()[(0, 0)], f64::from_bits(1));
 }
 
 #[test]
