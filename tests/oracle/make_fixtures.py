@@ -48,6 +48,8 @@ PLACE_RTOL = 1e-3
 
 # Tolerance of --check, relative to the largest magnitude in each numeric field.
 CHECK_RTOL = 1e-9
+# Rounding floor of the staleness check, relative to a field's largest entry.
+CHECK_FLOOR = 1e-14
 
 RANK_TOL = 1e-9  # relative tolerance of the controllable-subspace recursion
 STAB_TOL = 1e-9  # an uncontrollable eigenvalue counts as stable if Re < -STAB_TOL max(1, ||A||)
@@ -906,9 +908,13 @@ class Comparer:
             if isinstance(o, int) and o != n:
                 self.fail(f"{where} (element {i})", f"committed {o!r} vs regenerated {n!r}")
         if floats:
+            # Each element against its own size (CHECK_RTOL), plus a rounding floor relative to
+            # the field (CHECK_FLOOR x its largest entry): an entry at 1e-17 of a field of size 1
+            # is rounding noise, but a small entry that matters (1e-6 beside 1) is held to its
+            # own 1e-9 instead of 1e-9 of the largest.
             scale = max(max(abs(o), abs(n)) for _, o, n in floats)
-            tol = CHECK_RTOL * scale
             for i, o, n in floats:
+                tol = CHECK_RTOL * max(abs(o), abs(n)) + CHECK_FLOOR * scale
                 if abs(o - n) > tol:
                     self.fail(f"{where} (element {i})",
                               f"committed {o!r} vs regenerated {n!r} "
