@@ -379,3 +379,52 @@ fn return_difference_check_rejects_a_non_optimal_gain() {
     // Closed form of the double integrator with Q = diag(1, 0), R = 1: K = [1, √2].
     assert!((design.gain[(0, 0)] - 1.0).abs() <= 1e-14 && (design.gain[(0, 1)] - 2f64.sqrt()).abs() <= 1e-14, "{}", design.gain);
 }
+
+/// The closed-form cases again, through the whole design path a user takes: a design document
+/// with `"feedback": {"lqr": {"q", "r"}}` (a discrete case as a plant with its `sample_time`),
+/// run by the same function the CLI and the page use. The gain must be the closed form's
+/// (K from X_exact, within the bound of the solver test above), or the refusal must say why.
+#[test]
+fn closed_form_cases_through_the_design_document() {
+    let f = fixture("riccati.json");
+    let cases: Vec<&serde_json::Value> = f["cases"].as_array().expect("cases").iter().filter(|c| c.get("exact").is_some()).collect();
+    let (mut designed, mut refused) = (Vec::new(), Vec::new());
+    for case in &cases {
+        let name = case["name"].as_str().unwrap_or("?");
+        let discrete = case["domain"].as_str() == Some("discrete");
+        let (a, b, q, r) = (matrix(&case["a"]), matrix(&case["b"]), matrix(&case["q"]), matrix(&case["r"]));
+        let json = |m: &DMatrix<f64>| serde_json::to_string(&(0..m.nrows()).map(|i| (0..m.ncols()).map(|j| m[(i, j)]).collect::<Vec<f64>>()).collect::<Vec<_>>()).unwrap();
+        let sample = if discrete { r#", "sample_time": 1"# } else { "" };
+        let doc = format!(
+            r#"{{"format": "polewright.design", "version": 2, "plant": {{"a": {}, "b": {}{sample}}}, "feedback": {{"lqr": {{"q": {}, "r": {}}}}}}}"#,
+            json(&a),
+            json(&b),
+            json(&q),
+            json(&r)
+        );
+        match polewright::design::run_text(&doc) {
+            Ok(result) => {
+                let k: DMatrix<f64> = {
+                    let rows = &result.feedback.gain;
+                    DMatrix::from_fn(rows.len(), rows[0].len(), |i, j| rows[i][j])
+                };
+                let xe = matrix(&case["exact"]["x"]);
+                let k_exact = if discrete {
+                    (&r + b.transpose() * &xe * &b).try_inverse().unwrap() * b.transpose() * &xe * &a
+                } else {
+                    r.clone().try_inverse().unwrap() * b.transpose() * &xe
+                };
+                let rel = (&k - &k_exact).norm() / k_exact.norm().max(f64::MIN_POSITIVE);
+                // X_exact's condition (the fixture's) times ε, generously: 1e-8 relative at most.
+                let kappa = f64_of(&case["exact"]["condition"]);
+                let tol = (1e3 * kappa * f64::EPSILON).clamp(1e-12, 1e-8);
+                assert!(rel <= tol, "{name}: the designed gain differs from the closed form by {rel:.2e} (tolerance {tol:.1e})");
+                designed.push(name.to_string());
+            }
+            Err(e) => refused.push(format!("{name}: {e}")),
+        }
+    }
+    println!("closed forms through the design document: {} designed, {} refused{}", designed.len(), refused.len(), refused.iter().map(|r| format!("\n  {r}")).collect::<String>());
+    assert!(cases.len() >= 18, "only {} closed-form cases", cases.len());
+    assert!(refused.is_empty(), "closed-form Riccati cases refused by the design path:\n{}", refused.join("\n"));
+}
