@@ -22,10 +22,11 @@ B standard normal, from numpy.random.default_rng with a per-plant seed.  Targets
              lam -> -|Re lam| - 0.5 + i Im lam
   clustered  conjugate pairs drawn uniformly in the upper half of the disc of
              radius 0.2 about -1 (Im >= 0.01), plus one real pole there if n is odd
-The error and conditioning measures are those of tests/oracle/make_fixtures.py:
-max over requested poles of |lam_achieved - lam_req| / max(1, |lam_req|) after a
-one-to-one matching, and the 2-norm condition number of the eigenvector matrix X
-with unit 2-norm columns.  BLAS is pinned to one thread for both sides' fairness
+The error and conditioning measures are computed here by numpy for both programs from their
+gains (never from either program's report): max over requested poles of
+|lam_achieved - lam_req| / max(1, |lam_req|) after a one-to-one matching (as in
+tests/oracle/make_fixtures.py), and the 2-norm condition number of numpy's eigenvector matrix
+of A - B K with unit 2-norm columns.  BLAS is pinned to one thread for both sides' fairness
 (scipy here; the binary is expected to be single-threaded).
 """
 
@@ -146,12 +147,20 @@ def run_scipy(case, repeats):
                 "eigenvector_condition": None, "iterations": None,
                 "error": f"{type(exc).__name__}: {exc}"}
     k = np.asarray(res.gain_matrix, dtype=float)
-    achieved = np.linalg.eigvals(a - b @ k)
-    err = float(np.max(match_poles(achieved, poles)))
-    kappa = float(np.linalg.cond(normalised_columns(res.X)))
+    err, kappa = judge(a, b, k, poles)
     it = None if (isinstance(res.nb_iter, float) and math.isnan(res.nb_iter)) else int(res.nb_iter)
     return {"seconds": statistics.median(times), "repeats": repeats, "max_rel_error": err,
             "eigenvector_condition": kappa, "iterations": it, "error": None}
+
+
+def judge(a, b, k, poles):
+    """Both programs' gains judged the same way, by numpy, from the gain alone: the eigenvalues
+    of A - B K matched one-to-one to the request (the largest relative error), and kappa_2 of
+    numpy's unit-column eigenvectors of A - B K."""
+    lam, x = np.linalg.eig(a - b @ k)
+    err = float(np.max(match_poles(lam, poles)))
+    kappa = float(np.linalg.cond(normalised_columns(x)))
+    return err, kappa
 
 
 def run_binary(binary: Path, cases, timeout):
@@ -237,6 +246,8 @@ def main(argv=None) -> int:
                     help="smoke run: n in {4, 10, 20}, fewer repeats (well under 30 s of scipy)")
     ap.add_argument("--out", type=Path, default=HERE / "last_run.json",
                     help="where to write the JSON dump (default: tests/bench/last_run.json)")
+    ap.add_argument("--record", action="store_true",
+                    help="also append the run (date, machine, commit, table) to tests/bench/log.jsonl")
     args = ap.parse_args(argv)
 
     binary = args.bench_binary if args.bench_binary is not None else REPO / DEFAULT_BINARY
@@ -262,8 +273,14 @@ def main(argv=None) -> int:
             got = {"error": "no result line from the bench binary"}
         p_err = got.get("error")
         p_sec = num_or_none(got.get("seconds")) if not p_err else None
-        p_e = num_or_none(got.get("max_rel_error")) if not p_err else None
-        p_k = num_or_none(got.get("eigenvector_condition")) if not p_err else None
+        p_e = p_k = None
+        if not p_err:
+            if got.get("gain") is None:
+                p_err = got["error"] = "the bench binary printed no gain"
+            else:
+                # Judged here from the printed gain, as scipy's is (never the binary's own figures).
+                p_e, p_k = judge(c["a"], c["b"], np.asarray(got["gain"], dtype=float), c["poles"])
+                got["judged_max_rel_error"], got["judged_eigenvector_condition"] = p_e, p_k
         rows.append({
             "name": c["name"], "n": c["n"], "m": c["m"], "kind": c["kind"],
             "scipy": sp,
@@ -313,6 +330,17 @@ def main(argv=None) -> int:
     args.out.parent.mkdir(parents=True, exist_ok=True)
     args.out.write_text(json.dumps(finite_or_none(dump), indent=1, allow_nan=False) + "\n", encoding="utf-8")
     print(f"wrote {display_path(args.out)}")
+    if args.record:
+        import datetime
+        import platform
+        rev = subprocess.run(["git", "rev-parse", "--short", "HEAD"], cwd=REPO, capture_output=True, text=True).stdout.strip()
+        dirty = subprocess.run(["git", "status", "--porcelain", "--untracked-files=no"], cwd=REPO, capture_output=True, text=True).stdout.strip()
+        entry = {"date": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"), "benchmark": "placement_vs_scipy",
+                 "commit": rev + ("+changes" if dirty else ""), "machine": {"cpu": platform.processor() or platform.machine(), "cores": os.cpu_count(), "os": f"{platform.system()} {platform.release()}"},
+                 "quick": args.quick, "scipy": scipy.__version__, "numpy": np.__version__, "table_markdown": table}
+        with open(HERE / "log.jsonl", "a", encoding="utf-8") as f:
+            f.write(json.dumps(entry) + "\n")
+        print("appended to tests/bench/log.jsonl")
     if not pw:
         print(f"error: the bench binary {display_path(binary)} printed no result lines "
               "(is it up to date? rebuild with: " + BUILD_HINT + ")", file=sys.stderr)

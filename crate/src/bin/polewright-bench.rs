@@ -3,7 +3,8 @@
 //! `polewright-bench CASES.json` reads `{"cases": [{"name", "a", "b", "poles": [[re, im], ...]}]}`
 //! (written by `tests/bench/compare_scipy.py`), times `state_feedback_gain` on each case and prints
 //! one JSON object per line: `{"name", "seconds" (median per placement), "repeats",
-//! "max_rel_error", "eigenvector_condition", "iterations", "error"}`.
+//! "max_rel_error", "eigenvector_condition", "iterations", "gain", "error"}` (the gain, rows =
+//! inputs, so that a caller can judge it by its own means).
 //!
 //! `polewright-bench --loop tests/fixtures/loop.json` times the whole-loop simulation of the
 //! ten-state case (observer, integral action, 5000 samples) and prints the median.
@@ -210,6 +211,7 @@ fn main() {
                 "max_rel_error": err,
                 "eigenvector_condition": if result.eigenvector_condition.is_finite() { json!(result.eigenvector_condition) } else { json!(null) },
                 "iterations": result.iterations,
+                "gain": (0..result.gain.nrows()).map(|i| (0..result.gain.ncols()).map(|j| result.gain[(i, j)]).collect::<Vec<f64>>()).collect::<Vec<_>>(),
                 "error": null,
             })
         );
