@@ -269,6 +269,19 @@ export async function settled(page) {
   await page.waitForFunction(() => !document.getElementById('pw-status').hasAttribute('data-pending'));
 }
 
+/**
+ * Record what the page copies: navigator.clipboard.writeText is replaced (in this page only)
+ * by a recorder that keeps the text and succeeds. Returns a function that reads the records.
+ */
+export async function recordClipboard(page) {
+  await page.evaluate(() => {
+    window.__copied = [];
+    const clipboard = { writeText: (text) => { window.__copied.push(String(text)); return Promise.resolve(); } };
+    Object.defineProperty(navigator, 'clipboard', { value: clipboard, configurable: true });
+  });
+  return () => page.evaluate(() => window.__copied);
+}
+
 /** The gain table as numbers (rows = inputs), read from the displayed text. */
 // The gain at full precision, read from its copyable text (the table shows rounded figures):
 // line 1 the heading, line 2 the symbol and the state labels, then one row per input.

@@ -24,6 +24,7 @@ import {
   pagePath,
   parseComplex,
   readGain,
+  recordClipboard,
   repoRoot,
   requireBuiltPage,
   screenshot,
@@ -412,14 +413,14 @@ describe('built page', () => {
           assert.match(await page.textContent('#pw-pole-pick'), /^Observer pole 1 of 4: −\d/);
           // The estimation error is plotted (continuous loop with the observer).
           await assertCanvasesDrawn(page, ['pw-estimation-plot']);
-          // Copy L.
+          // Copy L: the observer gain's text block, as shown.
+          const copiedL = await recordClipboard(page);
           await page.click('#pw-copy-observer');
           await page.waitForFunction(() => document.getElementById('pw-copy-observer-status').textContent !== '');
-          const note = await page.textContent('#pw-copy-observer-status');
-          if (note !== 'Copied.') {
-            assert.match(note, /selected/);
-            assert.match(String(await page.evaluate(() => String(window.getSelection()))), /\nL\t/);
-          }
+          assert.equal(await page.textContent('#pw-copy-observer-status'), 'Copied.');
+          const [lText] = await copiedL();
+          assert.match(lText, /\nL\t/);
+          assert.equal(lText, await page.evaluate(() => document.getElementById('pw-obs-text').textContent));
           assert.deepEqual([...pageErrors, ...consoleErrors], []);
           assert.deepEqual(requests, [url]);
         });
@@ -646,19 +647,30 @@ describe('built page', () => {
     });
   });
 
-  test('copying K gives the labelled text (or selects it for copying)', async () => {
+  test('copying K puts the labelled full-precision text on the clipboard, or selects it', async () => {
     await withPage(pageFileUrl, async ({ page, consoleErrors, pageErrors }) => {
+      // With a clipboard: exactly the text of the copy block, at full precision.
+      const copied = await recordClipboard(page);
       await page.focus('#pw-copy-gain');
       await page.keyboard.press('Enter');
       await page.waitForFunction(() => document.getElementById('pw-copy-status').textContent !== '');
-      const note = await page.textContent('#pw-copy-status');
-      if (note === 'Copied.') {
-        // Nothing more to see: the clipboard itself is not readable here.
-      } else {
-        assert.match(note, /selected/);
-        const selected = await page.evaluate(() => String(window.getSelection()));
-        assert.match(selected, /^u = -K x/);
-      }
+      assert.equal(await page.textContent('#pw-copy-status'), 'Copied.');
+      const [text] = await copied();
+      assert.equal(text, await page.evaluate(() => document.getElementById('pw-gain-text').textContent));
+      const lines = text.split('\n');
+      assert.match(lines[0], /^u = -K x/);
+      const k = await readGain(page);
+      assert.ok(k.length > 0 && k.every((row) => row.length > 0));
+      // Full precision: every gain entry reads back to the same double from the copied text.
+      const copiedNumbers = lines.slice(2).filter((l) => l.trim() !== '').map((l) => l.split('\t').slice(1).map(Number));
+      assert.deepEqual(copiedNumbers, k);
+      // Without one: the text is selected for Ctrl+C.
+      await page.evaluate(() => Object.defineProperty(navigator, 'clipboard', { value: undefined, configurable: true }));
+      await page.evaluate(() => { document.getElementById('pw-copy-status').textContent = ''; });
+      await page.click('#pw-copy-gain');
+      await page.waitForFunction(() => document.getElementById('pw-copy-status').textContent !== '');
+      assert.match(await page.textContent('#pw-copy-status'), /selected/);
+      assert.equal((await page.evaluate(() => String(window.getSelection()))).trimEnd(), text.trimEnd());
       assert.deepEqual([...pageErrors, ...consoleErrors], []);
     });
   });
