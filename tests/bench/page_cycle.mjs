@@ -18,40 +18,10 @@ import { execFileSync } from 'node:child_process';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { browser, closeBrowser, design, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
+import { browser, closeBrowser, design, drag, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
 
 const CYCLES = 30;
 const WARM_UP = 5;
-
-/** A chain of `masses` masses between two walls, forces at both ends: n = 2·masses, m = 2. */
-export function chainFields(masses) {
-  const n = 2 * masses;
-  const A = Array.from({ length: n }, () => Array(n).fill(0));
-  const B = Array.from({ length: n }, () => [0, 0]);
-  const k = (i) => 2 + (i % 4);
-  const m = (i) => 1 + 0.25 * (i % 3);
-  for (let i = 0; i < masses; i += 1) {
-    const p = 2 * i;
-    const v = p + 1;
-    A[p][v] = 1;
-    A[v][p] = -(k(i) + k(i + 1)) / m(i);
-    A[v][v] = -0.2 / m(i);
-    if (i > 0) A[v][p - 2] = k(i) / m(i);
-    if (i < masses - 1) A[v][p + 2] = k(i + 1) / m(i);
-  }
-  B[1][0] = 1 / m(0);
-  B[n - 1][1] = 1 / m(masses - 1);
-  const poles = [];
-  for (let i = 0; i < masses; i += 1) poles.push(`-${(1 + 0.1 * i).toFixed(1)}±${(0.5 + 0.05 * i).toFixed(2)}j`);
-  return {
-    a: A.map((r) => r.join(' ')).join('\n'),
-    b: B.map((r) => r.join(' ')).join('\n'),
-    input_names: 'left force, right force',
-    input_units: 'N, N',
-    poles: poles.join(', '),
-    limits: '40, 40',
-  };
-}
 
 /** A flexible structure in modal form (a reduced finite-element model): `modes` lightly damped
  * modes (ζ = 0.02, ω = 1 … ) driven by two actuators with invented mode-shape values; n = 2·modes,
@@ -166,23 +136,13 @@ async function runScenario(s) {
   }, { viewport: { width: 1440, height: 900 } });
 }
 
-const nextFrame = (page) => page.evaluate(() => new Promise((r) => requestAnimationFrame(() => r())));
-
 /** Drag the first requested pole by (`dx`, `dy`) px in `steps` moves (one frame each); the
  * page's median update time of that drag (data-drag-median-ms) and its update count. */
 async function dragFirstPole(page, dx, dy, steps) {
   await page.locator('#pw-pole-map').scrollIntoViewIfNeeded();
   const box = await page.locator('#pw-pole-map').boundingBox();
   const [x, y] = (await page.getAttribute('#pw-pole-map', 'data-requested-px')).split(' ')[0].split(',').map(Number);
-  const from = [box.x + x, box.y + y];
-  await page.mouse.move(from[0], from[1]);
-  await page.mouse.down();
-  for (let i = 1; i <= steps; i += 1) {
-    await page.mouse.move(from[0] + (dx * i) / steps, from[1] + (dy * i) / steps);
-    await nextFrame(page);
-  }
-  await page.mouse.up();
-  await nextFrame(page);
+  await drag(page, [box.x + x, box.y + y], dx, dy, steps);
   return { median_ms: Number(await page.getAttribute('#pw-pole-map', 'data-drag-median-ms')), updates: Number(await page.getAttribute('#pw-pole-map', 'data-drag-updates')) };
 }
 

@@ -6,7 +6,6 @@
 // Run: node --test tests/e2e/   (after scripts/build-page)
 
 import assert from 'node:assert/strict';
-import fs from 'node:fs';
 import path from 'node:path';
 import { after, before, describe, test } from 'node:test';
 import {
@@ -14,6 +13,7 @@ import {
   closeBrowser,
   design,
   designNow,
+  drag,
   massChainFields,
   pageFileUrl,
   parseComplex,
@@ -37,19 +37,6 @@ async function requestedPoints(page) {
   return attr.split(' ').map((p) => p.split(',').map(Number)).map(([x, y]) => [box.x + x, box.y + y]);
 }
 
-const nextFrame = (page) => page.evaluate(() => new Promise((r) => requestAnimationFrame(() => r())));
-
-/** Drags from `from` by (`dx`, `dy`) pixels in `steps` moves, one animation frame each. */
-async function drag(page, from, dx, dy, steps = 10) {
-  await page.mouse.move(from[0], from[1]);
-  await page.mouse.down();
-  for (let i = 1; i <= steps; i += 1) {
-    await page.mouse.move(from[0] + (dx * i) / steps, from[1] + (dy * i) / steps);
-    await nextFrame(page);
-  }
-  await page.mouse.up();
-  await nextFrame(page);
-}
 
 /** The poles field split into its items (a pair stays one item, as typed). */
 async function poleItems(page) {

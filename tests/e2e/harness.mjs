@@ -269,6 +269,21 @@ export async function settled(page) {
   await page.waitForFunction(() => !document.getElementById('pw-status').hasAttribute('data-pending'));
 }
 
+/** Resolves at the page's next animation frame. */
+export const nextFrame = (page) => page.evaluate(() => new Promise((r) => requestAnimationFrame(() => r())));
+
+/** Drags from `from` by (`dx`, `dy`) pixels in `steps` moves, one animation frame each. */
+export async function drag(page, from, dx, dy, steps = 10) {
+  await page.mouse.move(from[0], from[1]);
+  await page.mouse.down();
+  for (let i = 1; i <= steps; i += 1) {
+    await page.mouse.move(from[0] + (dx * i) / steps, from[1] + (dy * i) / steps);
+    await nextFrame(page);
+  }
+  await page.mouse.up();
+  await nextFrame(page);
+}
+
 /**
  * Record what the page copies: navigator.clipboard.writeText is replaced (in this page only)
  * by a recorder that keeps the text and succeeds. Returns a function that reads the records.

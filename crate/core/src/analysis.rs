@@ -351,22 +351,7 @@ fn report_in_range(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -
     };
     let mut open_loop = try_eigenvalues(a)?;
     sort_eigenvalues(&mut open_loop);
-    // PBH margins in the balanced coordinates, each input column brought to the scale of A by
-    // a power of two: the margin is then (nearly) independent of the units of the states and
-    // inputs (eigenvalues are similarity invariant, and a rank-deficient [A − λI, B] stays so).
-    let anorm_bal = try_norm2(&a_bal, SvdParams::default())?;
-    let b_pbh = DMatrix::from_fn(n, m, |i, j| {
-        let c = b_bal.column(j).norm();
-        if c > 0.0 && anorm_bal > 0.0 {
-            b_bal[(i, j)] * 2f64.powi((anorm_bal / c).log2().round() as i32)
-        } else {
-            b_bal[(i, j)]
-        }
-    });
-    let mut ab_pbh = DMatrix::<f64>::zeros(n, n + m);
-    ab_pbh.columns_mut(0, n).copy_from(&a_bal);
-    ab_pbh.columns_mut(n, m).copy_from(&b_pbh);
-    let scale_pbh = try_norm2(&ab_pbh, SvdParams::default())?;
+    let (b_pbh, scale_pbh) = pbh_input_scaling(&a_bal, &b_bal)?;
     // One Hessenberg reduction per pair, then O(n²) work per distinct eigenvalue (a conjugate
     // shares its partner's); a full SVD only where the inverse iteration does not settle.
     let fast_pbh = ShiftedPair::new(&a_bal, &b_pbh);
@@ -437,6 +422,28 @@ fn report_in_range(a: &DMatrix<f64>, b: &DMatrix<f64>, params: AnalysisParams) -
     let floor = rounding_floor(params.domain, a);
     let stable_hidden_modes = hidden.iter().all(|z| params.domain.is_strictly_stable(*z, params.domain.mode_tolerance(params.relative_tolerance, *z, floor)));
     Ok(ModalReport { states: n, rank: nc, stable_hidden_modes, modes, hidden_modes: hidden, tolerance: tol, relative_tolerance: params.relative_tolerance, consistent })
+}
+
+/// PBH margins are taken in the balanced coordinates with each input column brought to the
+/// scale of `A_bal` by a power of two: the margin is then (nearly) independent of the units of
+/// the states and inputs (eigenvalues are similarity invariant, and a rank-deficient
+/// `[A − λI, B]` stays so). Returns that `B` and `‖[A_bal B]‖₂`.
+pub(crate) fn pbh_input_scaling(a_bal: &DMatrix<f64>, b_bal: &DMatrix<f64>) -> Result<(DMatrix<f64>, f64), AnalysisError> {
+    let (n, m) = (a_bal.nrows(), b_bal.ncols());
+    let anorm_bal = try_norm2(a_bal, SvdParams::default())?;
+    let b_pbh = DMatrix::from_fn(n, m, |i, j| {
+        let c = b_bal.column(j).norm();
+        if c > 0.0 && anorm_bal > 0.0 {
+            b_bal[(i, j)] * 2f64.powi((anorm_bal / c).log2().round() as i32)
+        } else {
+            b_bal[(i, j)]
+        }
+    });
+    let mut ab_pbh = DMatrix::<f64>::zeros(n, n + m);
+    ab_pbh.columns_mut(0, n).copy_from(a_bal);
+    ab_pbh.columns_mut(n, m).copy_from(&b_pbh);
+    let scale_pbh = try_norm2(&ab_pbh, SvdParams::default())?;
+    Ok((b_pbh, scale_pbh))
 }
 
 /// Observability of `(a, c)`, by duality with controllability of `(aᵀ, cᵀ)`.

@@ -112,19 +112,7 @@ fn reduced_pbh_margins_agree_with_one_svd_per_mode_up_to_n_60() {
         let d = crate::linalg::eigen::balancing_scale(&a, 100);
         let a_bal = DMatrix::from_fn(n, n, |i, j| a[(i, j)] * d[j] / d[i]);
         let b_bal = DMatrix::from_fn(n, m, |i, j| b[(i, j)] / d[i]);
-        let anorm_bal = try_norm2(&a_bal, SvdParams::default()).unwrap();
-        let b_pbh = DMatrix::from_fn(n, m, |i, j| {
-            let c = b_bal.column(j).norm();
-            if c > 0.0 && anorm_bal > 0.0 {
-                b_bal[(i, j)] * 2f64.powi((anorm_bal / c).log2().round() as i32)
-            } else {
-                b_bal[(i, j)]
-            }
-        });
-        let mut ab_pbh = DMatrix::<f64>::zeros(n, n + m);
-        ab_pbh.columns_mut(0, n).copy_from(&a_bal);
-        ab_pbh.columns_mut(n, m).copy_from(&b_pbh);
-        let scale_pbh = try_norm2(&ab_pbh, SvdParams::default()).unwrap();
+        let (b_pbh, scale_pbh) = pbh_input_scaling(&a_bal, &b_bal).unwrap();
         for md in &report.modes {
             let raw = dense_sigma_min(&a, &b, md.pole).unwrap() / scale;
             let bal = dense_sigma_min(&a_bal, &b_pbh, md.pole).unwrap() / scale_pbh;
