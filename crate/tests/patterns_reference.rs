@@ -352,7 +352,12 @@ fn itae_standard_forms_as_recalled() {
     let bands = bands(&f);
     for case in cases(&f, "itae") {
         let n = case["n"].as_u64().unwrap() as usize;
-        // Source: Graham & Lathrop 1953 (from memory) — the module's table is the recollection.
+        // Source: Graham & Lathrop 1953 (from memory) — the module's table is the recollection,
+        // and this test, the module and the fixture share that one remembered table: what is
+        // checked against scipy here is only the root finding (numpy.roots), the figures of
+        // the response and the integrator, never the coefficients themselves. Independent
+        // evidence for the coefficients is the near-optimality check below
+        // (`itae_forms_are_near_minimal_under_coefficient_perturbations`).
         assert_eq!(itae_polynomial(n).unwrap(), RECALLED_ITAE[n - 1].to_vec(), "ITAE n = {n}");
         let proto = prototype_poles(Pattern::Itae, n, &params()).unwrap();
         assert_eq!(proto.normalisation, Normalisation::UnitNaturalFrequency);
