@@ -277,7 +277,23 @@ document.addEventListener('keydown', (e) => {
 byId('pw-save').addEventListener('click', saveDesign);
 byId('pw-export').addEventListener('click', exportFiles);
 byId('pw-print-record').addEventListener('click', printRecord);
-byId('pw-sample-uncertainty').addEventListener('click', guarded(() => { if (ready) sample_uncertainty(); }));
+// Sampling the uncertain plant can take a while: say so first, let the browser paint it
+// (a frame, then a task), then sample; the button is disabled meanwhile.
+byId('pw-sample-uncertainty').addEventListener('click', guarded(() => {
+  const button = byId('pw-sample-uncertainty');
+  const list = byId('pw-uncertainty');
+  button.disabled = true;
+  list.setAttribute('aria-busy', 'true');
+  byId('pw-status').textContent = 'Sampling the uncertain plant…';
+  requestAnimationFrame(() => setTimeout(() => {
+    try {
+      guarded(sample_uncertainty)();
+    } finally {
+      button.disabled = false;
+      list.removeAttribute('aria-busy');
+    }
+  }, 0));
+}));
 byId('pw-open-file').addEventListener('change', (e) => {
   openFile(e.target.files[0]);
   e.target.value = '';

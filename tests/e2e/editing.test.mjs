@@ -371,8 +371,15 @@ describe('choosing the poles from the form', () => {
       for (const r of sens) assert.ok(r[0] === '-1' && /repeated pole/.test(r[1]), JSON.stringify(r));
       assert.match(await page.textContent('#pw-sensitivity-summary'), /Repeated poles \(-1, -1\)/);
       assert.match(await page.textContent('#pw-uncertainty'), /200 samples of the uncertain plant are ready/);
-      await page.click('#pw-sample-uncertainty');
+      // The page says it is sampling (and disables the button) before the work starts.
+      const busy = await page.evaluate(() => {
+        document.getElementById('pw-sample-uncertainty').click();
+        return [document.getElementById('pw-status').textContent, document.getElementById('pw-sample-uncertainty').disabled, document.getElementById('pw-uncertainty').getAttribute('aria-busy')];
+      });
+      assert.deepEqual(busy, ['Sampling the uncertain plant…', true, 'true']);
       await page.waitForFunction(() => /seed 3/.test(document.getElementById('pw-uncertainty').textContent));
+      assert.equal(await page.isDisabled('#pw-sample-uncertainty'), false);
+      assert.equal(await page.getAttribute('#pw-uncertainty', 'aria-busy'), null);
       // Every sample is [[−1, 10 u], [0, −1]] with |u| ≤ 0.1: all stable, decay rate 1 (by hand).
       assert.match(await page.textContent('#pw-uncertainty'), /200 of 200 stable \(100 %\); worst decay rate 1 1\/s/);
       noErrors(ctx);
