@@ -187,6 +187,26 @@ export async function paintedInView(page, id) {
   if (waiting) await page.waitForFunction((canvasId) => !document.getElementById(canvasId).hasAttribute('data-waiting'), id);
 }
 
+/**
+ * How many pixels of canvas `id` are within `tolerance` (per channel) of each colour in
+ * `hexes` (`#rrggbb`), read back with getImageData (the canvas is brought into view first).
+ */
+export async function colourCounts(page, id, hexes, tolerance = 12) {
+  await paintedInView(page, id);
+  return page.evaluate(([canvasId, wanted, tol]) => {
+    const c = document.getElementById(canvasId);
+    const { data } = c.getContext('2d').getImageData(0, 0, c.width, c.height);
+    const rgb = wanted.map((h) => [1, 3, 5].map((i) => parseInt(h.slice(i, i + 2), 16)));
+    const counts = rgb.map(() => 0);
+    for (let i = 0; i < data.length; i += 4) {
+      rgb.forEach(([r, g, b], k) => {
+        if (Math.abs(data[i] - r) <= tol && Math.abs(data[i + 1] - g) <= tol && Math.abs(data[i + 2] - b) <= tol) counts[k] += 1;
+      });
+    }
+    return counts;
+  }, [id, hexes, tolerance]);
+}
+
 /** Save a full-page screenshot under tests/artifacts/ (every canvas painted first). Returns its path. */
 export async function screenshot(page, name) {
   for (const id of await page.evaluate(() => [...document.querySelectorAll('canvas[data-waiting]')].map((c) => c.id))) await paintedInView(page, id);

@@ -14,6 +14,7 @@ import {
   artifactsDir,
   shownNumber,
   canvasStats,
+  colourCounts,
   closeBrowser,
   design,
   designNow,
@@ -715,6 +716,16 @@ describe('built page', () => {
       assert.notEqual(after, margins, 'the margins are those of the new design');
       // Brought into view, each waiting canvas is painted with the newest picture.
       await assertCanvasesDrawn(page, [...CANVASES, 'pw-frequency-plot']);
+      // What is drawn, by colour (the palette of crate/page/src/draw.rs): the ten states use
+      // all six signal colours; the pole map shows closed-loop (teal) and open-loop (grey)
+      // poles and the limit lines of the input plot are drawn (brick red).
+      const signals = ['#0e5f5c', '#c07a0c', '#3f4f86', '#8b4a6e', '#5f7a2a', '#56636e'];
+      const stateColours = await colourCounts(page, 'pw-state-plot', signals);
+      assert.ok(stateColours.every((k) => k >= 20), `every signal colour on the state plot: ${stateColours}`);
+      const [closedLoop, openLoop] = await colourCounts(page, 'pw-pole-map', ['#0e5f5c', '#7b8794']);
+      assert.ok(closedLoop >= 20 && openLoop >= 20, `pole map: closed loop ${closedLoop} px, open loop ${openLoop} px`);
+      const [limitLines] = await colourCounts(page, 'pw-input-plot', ['#9c3d2e']);
+      assert.ok(limitLines >= 50, `limit lines on the input plot: ${limitLines} px`);
       assert.deepEqual(await page.evaluate(() => [...document.querySelectorAll('canvas[data-waiting]')].map((c) => c.id)), []);
       // A newer cycle makes a pending analysis stale: two cycles in one task, one analysis shown.
       const robustnessRuns = await page.evaluate(async () => {
