@@ -18,7 +18,7 @@ import { execFileSync } from 'node:child_process';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { browser, closeBrowser, design, drag, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
+import { beltAxisLoop, browser, closeBrowser, design, drag, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
 
 const CYCLES = 30;
 const WARM_UP = 5;
@@ -155,16 +155,7 @@ async function runDrags() {
     const plain = await dragFirstPole(page, -60, -45, 60);
     // The belt-axis demo with a head-position measurement, an observer, integral action and a
     // reference step: the continuous loop is simulated on every update.
-    await page.selectOption('#pw-demo', '0');
-    await page.click('#pw-load-demo');
-    await page.waitForFunction(() => document.getElementById('pw-status').dataset.outcome === 'designed' && document.getElementById('pw-a').value.startsWith('0 1 0 0'));
-    await page.fill('#pw-c', '0 0 1 0');
-    await page.selectOption('#pw-observer', 'speed_factor');
-    await page.selectOption('#pw-tracking', 'integral');
-    await page.fill('#pw-integral_poles', '-10');
-    await page.fill('#pw-reference', '0.01');
-    await page.click('#pw-design');
-    await page.waitForFunction(() => document.getElementById('pw-status').dataset.outcome === 'designed' && !document.getElementById('pw-status').hasAttribute('data-pending'));
+    if ((await beltAxisLoop(page)) !== 'designed') throw new Error('drag: the belt-axis loop was not designed');
     await dragFirstPole(page, -8, 4, 10);
     const withLoop = await dragFirstPole(page, -40, -30, 60);
     return {

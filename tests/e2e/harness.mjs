@@ -273,6 +273,23 @@ export async function design(page, fields) {
 }
 
 /**
+ * Load the belt-axis demo and give it a head-position measurement, an observer (speed factor),
+ * integral action and a reference step, so that the continuous loop is simulated on every
+ * update; design it and return the outcome.
+ */
+export async function beltAxisLoop(page) {
+  await page.selectOption('#pw-demo', '0');
+  await page.click('#pw-load-demo');
+  await page.waitForFunction(() => document.getElementById('pw-status').dataset.outcome === 'designed' && document.getElementById('pw-a').value.startsWith('0 1 0 0'));
+  await page.fill('#pw-c', '0 0 1 0');
+  await page.selectOption('#pw-observer', 'speed_factor');
+  await page.selectOption('#pw-tracking', 'integral');
+  await page.fill('#pw-integral_poles', '-10');
+  await page.fill('#pw-reference', '0.01');
+  return designNow(page);
+}
+
+/**
  * Press "Design now" and wait for the page's cycle and the robustness analysis it leaves for
  * right after it; returns the status line's outcome.
  */
