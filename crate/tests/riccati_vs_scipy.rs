@@ -395,13 +395,8 @@ fn closed_form_cases_through_the_design_document() {
         let (a, b, q, r) = (matrix(&case["a"]), matrix(&case["b"]), matrix(&case["q"]), matrix(&case["r"]));
         let json = |m: &DMatrix<f64>| serde_json::to_string(&(0..m.nrows()).map(|i| (0..m.ncols()).map(|j| m[(i, j)]).collect::<Vec<f64>>()).collect::<Vec<_>>()).unwrap();
         let sample = if discrete { r#", "sample_time": 1"# } else { "" };
-        let doc = format!(
-            r#"{{"format": "polewright.design", "version": 2, "plant": {{"a": {}, "b": {}{sample}}}, "feedback": {{"lqr": {{"q": {}, "r": {}}}}}}}"#,
-            json(&a),
-            json(&b),
-            json(&q),
-            json(&r)
-        );
+        let doc =
+            format!(r#"{{"format": "polewright.design", "version": 2, "plant": {{"a": {}, "b": {}{sample}}}, "feedback": {{"lqr": {{"q": {}, "r": {}}}}}}}"#, json(&a), json(&b), json(&q), json(&r));
         match polewright::design::run_text(&doc) {
             Ok(result) => {
                 let k: DMatrix<f64> = {
@@ -409,11 +404,7 @@ fn closed_form_cases_through_the_design_document() {
                     DMatrix::from_fn(rows.len(), rows[0].len(), |i, j| rows[i][j])
                 };
                 let xe = matrix(&case["exact"]["x"]);
-                let k_exact = if discrete {
-                    (&r + b.transpose() * &xe * &b).try_inverse().unwrap() * b.transpose() * &xe * &a
-                } else {
-                    r.clone().try_inverse().unwrap() * b.transpose() * &xe
-                };
+                let k_exact = if discrete { (&r + b.transpose() * &xe * &b).try_inverse().unwrap() * b.transpose() * &xe * &a } else { r.clone().try_inverse().unwrap() * b.transpose() * &xe };
                 let rel = (&k - &k_exact).norm() / k_exact.norm().max(f64::MIN_POSITIVE);
                 // X_exact's condition (the fixture's) times ε, generously: 1e-8 relative at most.
                 let kappa = f64_of(&case["exact"]["condition"]);

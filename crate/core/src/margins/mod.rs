@@ -17,7 +17,7 @@
 //! - Frequencies: a logarithmic grid over six decades around the closed-loop poles' magnitudes,
 //!   with 0, the imaginary parts of the closed-loop poles and, when sampled, the Nyquist
 //!   frequency added; each maximum is refined by golden-section search on its bracket, each
-//!   crossing by bisection (capped iterations).
+//!   crossing by the Illinois variant of regula falsi (capped iterations).
 //! - Disk margin of skew `σ` (Seiler, Packard & Gahinet, "An introduction to disk margins", IEEE
 //!   Control Systems Magazine 40(5):78–95, 2020): `α = 1 / max_ω |S_i + (σ − 1)/2|`; for `σ = 0`
 //!   it guarantees the gain range `[(2 − α)/(2 + α), (2 + α)/(2 − α)]` and the phase
@@ -44,8 +44,10 @@ use crate::linalg::eigen::try_eigenvalues;
 
 pub mod built;
 pub mod disk;
+mod per_input;
 
 pub use disk::{multiloop_disk, Disk, MultiloopDisk};
+pub use per_input::{input_margins, per_input_margins, per_input_margins_on};
 
 /// A loop transfer in state-space form.
 #[derive(Debug, Clone, PartialEq)]
@@ -120,17 +122,32 @@ impl Reduced {
         Reduced { minus_ht: -complex(&h.transpose()), b: complex(&b), c: complex(&c), d: complex(d) }
     }
 
-    /// `C̃ (pI − H)⁻¹ B̃ + D` by Gaussian elimination with adjacent-row pivoting (pivots compared
-    /// by squared modulus: no square roots in the inner loop). Rows of `pI − H` are columns of
-    /// the stored transpose: every inner loop runs over contiguous memory.
+    /// `C̃ (pI − H)⁻¹ B̃ + D`.
     fn at(&self, p: Complex64, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
+        let mut x = self.b.clone();
+        self.solve(p, w, &mut x)?;
+        Ok(&self.c * x + &self.d)
+    }
+
+    /// Entry `(j, j)` of [`Reduced::at`], from one right-hand side: `c̃_j (pI − H)⁻¹ b̃_j + d_jj`.
+    fn diagonal_entry(&self, p: Complex64, w: f64, j: usize) -> Result<Complex64, MarginError> {
+        let mut x = self.b.columns(j, 1).into_owned();
+        self.solve(p, w, &mut x)?;
+        let v: Complex64 = self.c.row(j).iter().zip(x.iter()).map(|(c, x)| c * x).sum();
+        Ok(v + self.d[(j, j)])
+    }
+
+    /// Overwrites `x` with `(pI − H)⁻¹ x` by Gaussian elimination with adjacent-row pivoting
+    /// (pivots compared by squared modulus: no square roots in the inner loop). Rows of
+    /// `pI − H` are columns of the stored transpose: every inner loop runs over contiguous
+    /// memory.
+    fn solve(&self, p: Complex64, w: f64, x: &mut DMatrix<Complex64>) -> Result<(), MarginError> {
         let n = self.minus_ht.nrows();
         // mt = (pI − H)ᵀ: column k is row k of pI − H.
         let mut mt = self.minus_ht.clone();
         for i in 0..n {
             mt[(i, i)] += p;
         }
-        let mut x = self.b.clone();
         for k in 0..n.saturating_sub(1) {
             if mt[(k, k + 1)].norm_sqr() > mt[(k, k)].norm_sqr() {
                 mt.swap_columns(k, k + 1);
@@ -174,7 +191,7 @@ impl Reduced {
         if x.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
             return Err(MarginError::BoundaryPole { frequency: w });
         }
-        Ok(&self.c * x + &self.d)
+        Ok(())
     }
 }
 
@@ -183,8 +200,10 @@ impl Reduced {
 pub struct Evaluator {
     open: Reduced,
     closed: Reduced,
-    /// `E = (I + D)⁻¹`.
+    /// `E = (I + D)⁻¹` and `I − E = D E` (exactly zero without a direct term), so that
+    /// `T = I − S` is formed without cancellation.
     e: DMatrix<f64>,
+    i_minus_e: DMatrix<f64>,
     sample_time: Option<f64>,
 }
 
@@ -211,6 +230,35 @@ impl Evaluator {
     pub fn sensitivity(&self, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
         let inner = self.closed.at(self.point(w), w)?;
         Ok(complex(&self.e) - inner)
+    }
+
+    /// `S` and `T = I − S` at `w`, each from the closed loop (`T = (I − E) + E C (sI − A_cl)⁻¹ B E`
+    /// keeps its accuracy where `S ≈ I`).
+    ///
+    /// # Errors
+    /// [`MarginError::BoundaryPole`] when the closed loop has a pole at `w`.
+    pub fn sensitivity_pair(&self, w: f64) -> Result<(DMatrix<Complex64>, DMatrix<Complex64>), MarginError> {
+        let inner = self.closed.at(self.point(w), w)?;
+        Ok((complex(&self.e) - &inner, complex(&self.i_minus_e) + inner))
+    }
+
+    /// Diagonal entries `(S_ii, T_ii)` at `w`, from one right-hand side.
+    ///
+    /// # Errors
+    /// [`MarginError::BoundaryPole`] when the closed loop has a pole at `w`.
+    pub fn diagonal_pair(&self, w: f64, i: usize) -> Result<(Complex64, Complex64), MarginError> {
+        let inner = self.closed.diagonal_entry(self.point(w), w, i)?;
+        Ok((self.e[(i, i)] - inner, self.i_minus_e[(i, i)] + inner))
+    }
+
+    /// Number of loops (inputs).
+    pub fn inputs(&self) -> usize {
+        self.e.nrows()
+    }
+
+    /// The sample time (`None`: continuous).
+    pub fn sample_time(&self) -> Option<f64> {
+        self.sample_time
     }
 }
 
@@ -243,7 +291,9 @@ impl LoopModel {
     pub fn evaluator(&self) -> Result<Evaluator, MarginError> {
         let (e, acl) = self.closed_loop()?;
         let zero = DMatrix::zeros(e.nrows(), e.ncols());
-        Ok(Evaluator { open: Reduced::new(&self.a, &self.b, &self.c, &self.d), closed: Reduced::new(&acl, &(&self.b * &e), &(&e * &self.c), &zero), e, sample_time: self.sample_time })
+        // I − E = I − (I + D)⁻¹ = D (I + D)⁻¹: no cancellation, and exactly zero for D = 0.
+        let i_minus_e = &self.d * &e;
+        Ok(Evaluator { open: Reduced::new(&self.a, &self.b, &self.c, &self.d), closed: Reduced::new(&acl, &(&self.b * &e), &(&e * &self.c), &zero), e, i_minus_e, sample_time: self.sample_time })
     }
 
     /// `L` at the frequency `w` (rad/s) (for many frequencies, use [`LoopModel::evaluator`]).
@@ -301,6 +351,11 @@ impl LoopModel {
     pub fn grid(&self, points: usize) -> Result<Vec<f64>, MarginError> {
         let (_, acl) = self.closed_loop()?;
         let poles = try_eigenvalues(&acl).map_err(|e| MarginError::Eigen(e.to_string()))?;
+        Ok(self.grid_for_poles(&poles, points))
+    }
+
+    /// [`LoopModel::grid`] for closed-loop poles the caller has computed already.
+    pub fn grid_for_poles(&self, poles: &[Complex64], points: usize) -> Vec<f64> {
         let speeds: Vec<f64> = match self.sample_time {
             None => poles.iter().map(|z| z.norm()).filter(|v| *v > 0.0 && v.is_finite()).collect(),
             Some(t) => poles.iter().filter(|z| z.norm() > 0.0).map(|z| (z.ln() / t).norm()).filter(|v| *v > 0.0 && v.is_finite()).collect(),
@@ -321,7 +376,7 @@ impl LoopModel {
         let mut w: Vec<f64> = (0..count).map(|k| (lo.ln() + (top.min(hi).max(lo * 10.0).ln() - lo.ln()) * k as f64 / (count - 1) as f64).exp()).collect();
         w.push(0.0);
         w.push(top);
-        for z in &poles {
+        for z in poles {
             let im = match self.sample_time {
                 None => z.im.abs(),
                 Some(t) if z.norm() > 0.0 => (z.ln() / t).im.abs(),
@@ -333,7 +388,7 @@ impl LoopModel {
         }
         w.sort_by(f64::total_cmp);
         w.dedup();
-        Ok(w)
+        w
     }
 }
 
@@ -395,35 +450,93 @@ fn sigma_max_svd(m: &DMatrix<Complex64>) -> f64 {
     crate::linalg::svd::try_singular_values(m, crate::linalg::svd::SvdParams::default()).map_or(f64::INFINITY, |s| s.iter().copied().fold(0.0, f64::max))
 }
 
-/// Golden-section maximisation of `f` on `[a, b]` (60 steps at most). A failed evaluation
-/// counts as infinite: a margin computed from it is zero, never larger than the truth.
+/// Golden-section maximisation of `f` on `[a, b]`, one new evaluation per step, until the
+/// bracket is 1e-8 of `b` wide (80 steps at most): about the square root of the rounding unit,
+/// the accuracy to which a smooth peak's location is determined at all (its value is flat to
+/// second order there, so the value is found to about the rounding unit). A failed evaluation counts as infinite: a
+/// margin computed from it is zero, never larger than the truth.
 pub fn refine_max(f: &dyn Fn(f64) -> Option<f64>, mut a: f64, mut b: f64) -> (f64, f64) {
     let g = (5f64.sqrt() - 1.0) / 2.0;
-    let mut best = (a, f(a).unwrap_or(f64::INFINITY));
-    for _ in 0..60 {
-        let (c, d) = (b - g * (b - a), a + g * (b - a));
-        let (fc, fd) = (f(c).unwrap_or(f64::INFINITY), f(d).unwrap_or(f64::INFINITY));
-        for (x, v) in [(c, fc), (d, fd)] {
-            if v > best.1 {
-                best = (x, v);
-            }
+    let value = |x: f64| f(x).unwrap_or(f64::INFINITY);
+    let mut best = (a, value(a));
+    let mut keep = |x: f64, v: f64| {
+        if v > best.1 {
+            best = (x, v);
+        }
+    };
+    let (mut c, mut d) = (b - g * (b - a), a + g * (b - a));
+    let (mut fc, mut fd) = (value(c), value(d));
+    keep(c, fc);
+    keep(d, fd);
+    for _ in 0..80 {
+        if (b - a) <= 1e-8 * b.abs().max(1e-300) {
+            break;
         }
         if fc > fd {
-            b = d;
+            (b, d, fd) = (d, c, fc);
+            c = b - g * (b - a);
+            fc = value(c);
+            keep(c, fc);
         } else {
-            a = c;
-        }
-        if (b - a) <= 1e-12 * b.abs().max(1e-300) {
-            break;
+            (a, c, fc) = (c, d, fd);
+            d = a + g * (b - a);
+            fd = value(d);
+            keep(d, fd);
         }
     }
     best
 }
 
-/// Bisection for a sign change of `f` on `[a, b]` (80 steps at most).
-fn bisect(f: &dyn Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
+/// A sign change of `f` on `[a, b]` by the Illinois variant of regula falsi (Dowell & Jarratt,
+/// "A modified regula falsi method for computing the root of an equation", BIT 11, 1971): the
+/// bracket always holds the sign change, and its stale end's value is halved so both ends
+/// move (superlinear convergence for smooth `f`). Stops when the bracket is 1e-13 of `b` wide or
+/// `f` vanishes, 80 steps at most; a non-finite value falls back to plain bisection.
+fn sign_change(f: &dyn Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
+    let (mut fa, mut fb) = (f(a), f(b));
+    if !(fa.is_finite() && fb.is_finite()) || (fa > 0.0) == (fb > 0.0) {
+        return bisection(f, a, b);
+    }
+    let mut side = 0i8;
+    for _ in 0..80 {
+        if (b - a) <= 1e-13 * b.abs() {
+            break;
+        }
+        let mut x = (a * fb - b * fa) / (fb - fa);
+        if !(x > a && x < b) {
+            x = 0.5 * (a + b);
+        }
+        let fx = f(x);
+        if fx == 0.0 {
+            return x;
+        }
+        if !fx.is_finite() {
+            return bisection(f, a, b);
+        }
+        if (fx > 0.0) == (fb > 0.0) {
+            (b, fb) = (x, fx);
+            if side == -1 {
+                fa *= 0.5;
+            }
+            side = -1;
+        } else {
+            (a, fa) = (x, fx);
+            if side == 1 {
+                fb *= 0.5;
+            }
+            side = 1;
+        }
+    }
+    0.5 * (a + b)
+}
+
+/// Plain bisection (80 steps at most), for brackets where a value is not finite.
+fn bisection(f: &dyn Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
     let fa = f(a);
     for _ in 0..80 {
+        if (b - a) <= 1e-13 * b.abs() {
+            break;
+        }
         let m = 0.5 * (a + b);
         if (f(m) > 0.0) == (fa > 0.0) {
             a = m;
@@ -432,95 +545,6 @@ fn bisect(f: &dyn Fn(f64) -> f64, mut a: f64, mut b: f64) -> f64 {
         }
     }
     0.5 * (a + b)
-}
-
-/// Margins of the scalar loop `l` (one input, the others closed), disk of skew `sigma`.
-///
-/// # Errors
-/// [`MarginError`] from the evaluations.
-pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMargins, MarginError> {
-    let grid = l.grid(points)?;
-    let ev = l.evaluator()?;
-    let disk = |w: f64| -> Option<f64> { ev.sensitivity(w).ok().map(|s| (s[(0, 0)] + (sigma - 1.0) / 2.0).norm()) };
-    let values: Vec<f64> = grid.iter().map(|w| disk(*w).unwrap_or(f64::INFINITY)).collect();
-    let k = (0..values.len()).max_by(|&i, &j| values[i].total_cmp(&values[j])).unwrap_or(0);
-    let (lo, hi) = (grid[k.saturating_sub(1)], grid[(k + 1).min(grid.len() - 1)]);
-    let (wk, peak) = if hi > lo { refine_max(&disk, lo, hi) } else { (grid[k], values[k]) };
-    let alpha = if peak > 0.0 { 1.0 / peak } else { f64::INFINITY };
-    let disk_shape = Disk { alpha, skew: sigma };
-    let (gain_range, phase) = (disk_shape.gain_range(), disk_shape.phase_deg());
-    // Classical margins from L on the grid.
-    let lval = |w: f64| -> Option<Complex64> { ev.loop_response(w).ok().map(|m| m[(0, 0)]) };
-    let (mut gm_low, mut gm_high, mut pm, mut wc, mut delay) = (None::<f64>, None::<f64>, None::<f64>, None::<f64>, None::<f64>);
-    // ω = 0 is left out here: L has its integrators' poles there.
-    let positive: Vec<f64> = grid.iter().copied().filter(|w| *w > 0.0).collect();
-    let finite = |v: Complex64| v.re.is_finite() && v.im.is_finite();
-    for pair in positive.windows(2) {
-        let (w0, w1) = (pair[0], pair[1]);
-        let (Some(a), Some(b)) = (lval(w0).filter(|v| finite(*v)), lval(w1).filter(|v| finite(*v))) else {
-            continue;
-        };
-        // −180° crossing: Im L changes sign with Re L < 0.
-        if (a.im > 0.0) != (b.im > 0.0) {
-            let w = bisect(&|w| lval(w).map_or(0.0, |v| v.im), w0, w1);
-            if let Some(v) = lval(w).filter(|v| v.re < 0.0) {
-                let g = 1.0 / v.norm();
-                if g > 1.0 {
-                    gm_high = Some(gm_high.map_or(g, |x| x.min(g)));
-                } else {
-                    gm_low = Some(gm_low.map_or(g, |x| x.max(g)));
-                }
-            }
-        }
-        // Crossover |L| = 1: every one. The phase margin is the one of smallest size (a
-        // rotation of L by it puts a closed-loop pole on the boundary); the delay margin is the
-        // smallest lag that reaches −180° at a crossover, (PM_i mod 360°) / ω_i.
-        if (a.norm() > 1.0) != (b.norm() > 1.0) {
-            let w = bisect(&|w| lval(w).map_or(0.0, |v| v.norm() - 1.0), w0, w1);
-            if let Some(v) = lval(w) {
-                let margin = 180.0 + v.arg().to_degrees();
-                let margin = if margin > 180.0 { margin - 360.0 } else { margin };
-                if pm.is_none_or(|p: f64| margin.abs() < p.abs()) {
-                    pm = Some(margin);
-                    wc = Some(w);
-                }
-                let lag = margin.rem_euclid(360.0);
-                if lag > 0.0 && w > 0.0 {
-                    let d = lag.to_radians() / w;
-                    delay = Some(delay.map_or(d, |x: f64| x.min(d)));
-                }
-            }
-        }
-    }
-    // L is real at ω = 0 and, sampled, at the Nyquist frequency: a negative real value there is
-    // a −180° point too (a real closed-loop pole crossing z = 1 / s = 0, or z = −1).
-    let mut ends = vec![0.0];
-    if let Some(t) = l.sample_time {
-        ends.push(std::f64::consts::PI / t);
-    }
-    for w in ends {
-        // From S = (1 + L)⁻¹, so that a pole of L there (S = 0) is recognised as one.
-        let from_s = ev.sensitivity(w).ok().map(|m| m[(0, 0)]).filter(|s| s.norm() > 1e-10).map(|s| 1.0 / s - 1.0);
-        if let Some(v) = from_s.filter(|v| finite(*v) && v.re < 0.0 && v.im.abs() <= 1e-9 * v.norm()) {
-            let g = 1.0 / v.norm();
-            if g > 1.0 {
-                gm_high = Some(gm_high.map_or(g, |x| x.min(g)));
-            } else {
-                gm_low = Some(gm_low.map_or(g, |x| x.max(g)));
-            }
-        }
-    }
-    Ok(InputMargins {
-        disk_alpha: alpha,
-        disk_frequency: wk,
-        disk_gain_range: gain_range,
-        disk_phase_deg: phase,
-        gain_margin_low: gm_low,
-        gain_margin_high: gm_high,
-        phase_margin_deg: pm,
-        crossover: wc,
-        delay_margin: delay,
-    })
 }
 
 #[cfg(test)]

@@ -21,7 +21,11 @@ impl Seeded {
 
 fn dense_sigma_min(a: &DMatrix<f64>, b: &DMatrix<f64>, lambda: Complex64) -> f64 {
     let (n, m) = (a.nrows(), b.ncols());
-    let w = DMatrix::<Complex64>::from_fn(n, n + m, |i, j| if j < n { Complex64::new(a[(i, j)], 0.0) - if i == j { lambda } else { Complex64::new(0.0, 0.0) } } else { Complex64::new(b[(i, j - n)], 0.0) });
+    let w = DMatrix::<Complex64>::from_fn(
+        n,
+        n + m,
+        |i, j| if j < n { Complex64::new(a[(i, j)], 0.0) - if i == j { lambda } else { Complex64::new(0.0, 0.0) } } else { Complex64::new(b[(i, j - n)], 0.0) },
+    );
     try_singular_values(&w, SvdParams::default()).unwrap().iter().cloned().fold(f64::INFINITY, f64::min)
 }
 

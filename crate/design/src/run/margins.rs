@@ -7,13 +7,12 @@
 //! largest singular values of `S` and `T` over frequency give the sensitivity peaks and the
 //! frequency-response table.
 
-use nalgebra::DMatrix;
 use num_complex::Complex64;
 
 use super::gains::Gains;
 use super::setup::Setup;
 use crate::margins::built::{plant_input_loop, PlantMatrices};
-use crate::margins::{input_margins, multiloop_disk, sigma_max, Disk, LoopModel};
+use crate::margins::{multiloop_disk, per_input_margins_on, sigma_max, Disk, LoopModel};
 use crate::result::{AllInputsMargin, ClassicalMargins, DiskMargin, FrequencyResponse, InputMarginResult, MarginsResult, MultiloopAccuracy};
 
 /// Frequencies in the logarithmic part of the grid.
@@ -43,32 +42,39 @@ pub(super) fn unavailable(s: &Setup, g: &Gains) -> Option<String> {
     let Some(model) = loop_model(s, g) else {
         return Some("the loop as built could not be formed".into());
     };
+    stable_poles(s, &model).err()
+}
+
+/// The closed loop's poles, or why margins do not apply (not formed, not computed, unstable).
+fn stable_poles(s: &Setup, model: &LoopModel) -> Result<Vec<Complex64>, String> {
     let poles = model.closed_loop().ok().and_then(|(_, acl)| crate::linalg::eigen::try_eigenvalues(&acl).ok());
     let Some(poles) = poles else {
-        return Some("the closed loop's poles could not be computed".into());
+        return Err("the closed loop's poles could not be computed".into());
     };
     let scale = poles.iter().map(|p| p.norm()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
     let unstable = match s.t {
         None => poles.iter().any(|p| p.re >= -1e-12 * scale),
         Some(_) => poles.iter().any(|p| p.norm() >= 1.0 - 1e-12),
     };
-    unstable.then(|| "the loop as built is not stable, so stability margins do not apply".to_string())
+    if unstable {
+        return Err("the loop as built is not stable, so stability margins do not apply".to_string());
+    }
+    Ok(poles)
 }
 
 /// `σ_max(S)` and `σ_max(T)` at one frequency.
-fn peaks_at(ev: &crate::margins::Evaluator, m: usize, w: f64) -> Option<(f64, f64)> {
-    let sm = ev.sensitivity(w).ok()?;
-    let tm = DMatrix::<Complex64>::identity(m, m) - &sm;
+fn peaks_at(ev: &crate::margins::Evaluator, w: f64) -> Option<(f64, f64)> {
+    let (sm, tm) = ev.sensitivity_pair(w).ok()?;
     Some((sigma_max(&sm), sigma_max(&tm)))
 }
 
 /// The all-inputs disk margin of skew `skew`.
-fn all_inputs(model: &LoopModel, ev: &crate::margins::Evaluator, per_input: &[InputMarginResult], skew: f64) -> Option<AllInputsMargin> {
+fn all_inputs(model: &LoopModel, poles: &[Complex64], ev: &crate::margins::Evaluator, per_input: &[InputMarginResult], skew: f64) -> Option<AllInputsMargin> {
     Some(match per_input {
         // One input: all inputs at once is that input's loop, exactly.
         [one] if one.disk_skew_is(skew) => AllInputsMargin { disk: one.disk, accuracy: MultiloopAccuracy::Exact, disk_margin_at_most: Some(one.disk.disk_margin) },
         _ => {
-            let all = multiloop_disk(&model.grid(MULTILOOP_GRID_POINTS).ok()?, &|w| ev.sensitivity(w).ok(), skew);
+            let all = multiloop_disk(&model.grid_for_poles(poles, MULTILOOP_GRID_POINTS), &|w| ev.sensitivity(w).ok(), skew);
             AllInputsMargin {
                 disk: disk(all.alpha, skew, all.frequency),
                 accuracy: if all.exact { MultiloopAccuracy::Exact } else { MultiloopAccuracy::Bound },
@@ -81,17 +87,19 @@ fn all_inputs(model: &LoopModel, ev: &crate::margins::Evaluator, per_input: &[In
 /// The margins of the loop as built; `None` where the loop is unstable ([`unavailable`]) or a
 /// computation fails (the design has been judged already; margins are information on top).
 pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
-    if unavailable(s, g).is_some() {
-        return None;
-    }
     let model = loop_model(s, g)?;
+    let poles = stable_poles(s, &model).ok()?;
     let skew = s.spec.robustness.skew;
-    let m = model.b.ncols();
-    let mut per_input = Vec::with_capacity(m);
-    for i in 0..m {
-        let r = input_margins(&model.loop_at(i).ok()?, skew, GRID_POINTS).ok()?;
-        per_input.push(InputMarginResult {
-            input: s.plant.input_names()[i].clone(),
+    let ev = model.evaluator().ok()?;
+    // One grid and one evaluation of S and T per frequency serve every input's margins and
+    // the sensitivity peaks.
+    let grid = model.grid_for_poles(&poles, GRID_POINTS);
+    let scan: Vec<_> = grid.iter().map(|&w| ev.sensitivity_pair(w).ok()).collect();
+    let per_input: Vec<InputMarginResult> = per_input_margins_on(&ev, &grid, &scan, skew)
+        .into_iter()
+        .zip(s.plant.input_names())
+        .map(|(r, name)| InputMarginResult {
+            input: name.clone(),
             disk: disk(r.disk_alpha, skew, r.disk_frequency),
             classical: ClassicalMargins {
                 gain_margin_low: r.gain_margin_low,
@@ -100,18 +108,17 @@ pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
                 crossover: r.crossover,
                 delay_margin: r.delay_margin,
             },
-        });
-    }
-    let ev = model.evaluator().ok()?;
-    let all = all_inputs(&model, &ev, &per_input, skew)?;
+        })
+        .collect();
+    let all = all_inputs(&model, &poles, &ev, &per_input, skew)?;
     // The common-practice verdict is on the symmetric disk, whatever skew is shown.
-    let symmetric = if skew == 0.0 { all.disk } else { all_inputs(&model, &ev, &per_input, 0.0)?.disk };
-    let grid = model.grid(GRID_POINTS).ok()?;
+    let symmetric = if skew == 0.0 { all.disk } else { all_inputs(&model, &poles, &ev, &per_input, 0.0)?.disk };
     let (mut ps, mut ws, mut pt, mut wt, mut ks, mut kt) = (0.0f64, 0.0, 0.0f64, 0.0, 0usize, 0usize);
     let mut table = FrequencyResponse::default();
     let every = grid.len().div_ceil(TABLE_POINTS).max(1);
     for (k, &w) in grid.iter().enumerate() {
-        let (a, b) = peaks_at(&ev, m, w)?;
+        let (sm, tm) = scan[k].as_ref()?;
+        let (a, b) = (sigma_max(sm), sigma_max(tm));
         if a > ps {
             (ps, ws, ks) = (a, w, k);
         }
@@ -129,7 +136,7 @@ pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
     for (k, which) in [(ks, 0), (kt, 1)] {
         let (lo, hi) = around(k);
         if hi > lo {
-            let (w, v) = crate::margins::refine_max(&|w| peaks_at(&ev, m, w).map(|p| if which == 0 { p.0 } else { p.1 }), lo, hi);
+            let (w, v) = crate::margins::refine_max(&|w| peaks_at(&ev, w).map(|p| if which == 0 { p.0 } else { p.1 }), lo, hi);
             match which {
                 0 if v > ps => (ps, ws) = (v, w),
                 1 if v > pt => (pt, wt) = (v, w),

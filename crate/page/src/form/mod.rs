@@ -255,7 +255,10 @@ fn oversized_fields(form: &FormInput) -> Vec<FieldError> {
         .filter_map(|&key| {
             let limit = if MATRIX_FIELDS.contains(&key) { MAX_MATRIX_CHARS } else { MAX_FIELD_CHARS };
             let chars = form.get(key).map_or(0, |t| t.len());
-            (chars > limit).then(|| FieldError { field: key, message: format!("the text has {chars} characters; this field reads at most {limit}: shorten it (the command-line tool reads design files of up to 8 MiB)") })
+            (chars > limit).then(|| FieldError {
+                field: key,
+                message: format!("the text has {chars} characters; this field reads at most {limit}: shorten it (the command-line tool reads design files of up to 8 MiB)"),
+            })
         })
         .collect()
 }
