@@ -49,13 +49,28 @@ after(async () => {
   if (server) await server.close();
 });
 
+/**
+ * What every drawn canvas must show, by colour (the palette of crate/page/src/draw.rs): its
+ * axes (#56636e) and its first series — closed-loop poles on the map (#0e5f5c), the first
+ * signal on the two plots (#0e5f5c).
+ */
+const MUST_SHOW = {
+  'pw-pole-map': { axes: '#56636e', first: '#0e5f5c' },
+  'pw-state-plot': { axes: '#56636e', first: '#0e5f5c' },
+  'pw-input-plot': { axes: '#56636e', first: '#0e5f5c' },
+};
+
 async function assertCanvasesDrawn(page, ids = CANVASES) {
   for (const id of ids) {
     const s = await canvasStats(page, id);
     assert.ok(s, `canvas #${id} exists`);
     assert.ok(s.width > 100 && s.height > 100, `#${id} sized: ${JSON.stringify(s)}`);
-    assert.ok(s.distinct >= 6, `#${id} has several colours: ${JSON.stringify(s)}`);
     assert.ok(s.dominantShare < 0.97, `#${id} is not nearly blank: ${JSON.stringify(s)}`);
+    const want = MUST_SHOW[id];
+    if (want) {
+      const [axes, first] = await colourCounts(page, id, [want.axes, want.first]);
+      assert.ok(axes >= 50 && first >= 20, `#${id} shows its axes (${axes} px of ${want.axes}) and its first series (${first} px of ${want.first})`);
+    }
   }
 }
 

@@ -49,5 +49,14 @@ fn quantisation_keeps_full_scale_and_states_the_shift() {
     // A dynamic range beyond Q15 with one shift is refused with the entry named.
     let e = quantise(&DMatrix::from_row_slice(1, 2, &[1000.0, 0.001]), 16).unwrap_err();
     assert!(matches!(e, QuantiseError::BelowResolution { col: 1, .. }), "{e:?}");
-    assert!(quantise(&DMatrix::from_row_slice(1, 2, &[1000.0, 0.001]), 32).is_ok());
+    // With 32 bits the same matrix fits: each stored value is its integer times one step
+    // 2^(shift − 31), within half a step of the entry.
+    let m = DMatrix::from_row_slice(1, 2, &[1000.0, 0.001]);
+    let q = quantise(&m, 32).unwrap();
+    let step = 2f64.powi(q.shift - 31);
+    for (j, v) in m.iter().enumerate() {
+        assert_eq!(q.values[(0, j)], q.ints[j] as f64 * step, "entry {j}: {q:?}");
+        assert!((q.values[(0, j)] - v).abs() <= 0.5 * step, "entry {j}: {} vs {v} (step {step})", q.values[(0, j)]);
+    }
+    assert!(q.ints[1] != 0, "0.001 is not lost at 32 bits: {q:?}");
 }
