@@ -221,10 +221,23 @@ fn conjugate_closed(values: &[Complex64]) -> bool {
 /// The Bauer–Fike allowance for the closed loop of a placement, with `κ₂(X)` computed here
 /// from the gain ([`eigenvector_condition`]), not read from the placement's report.
 fn placement_tolerance(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) -> f64 {
+    judgeable_tolerance(a, b, p).unwrap_or_else(|why| panic!("{why}"))
+}
+
+/// [`placement_tolerance`], or why none can be granted: an allowance that could not be
+/// computed, or one above 1e-3 of the closed loop's size (it could not catch a misplaced pole),
+/// would pass everything.
+fn judgeable_tolerance(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) -> Result<f64, String> {
     let kappa = eigenvector_condition(a, b, p);
-    // An allowance that could not be computed must not pass everything.
-    assert!(kappa.is_finite(), "κ₂(X) of the closed loop could not be computed here (eigenvalues {:?})", p.achieved_poles);
-    ROUNDING * kappa * (a.norm() + b.norm() * p.gain.norm())
+    if !kappa.is_finite() {
+        return Err(format!("κ₂(X) of the closed loop could not be computed here (eigenvalues {:?})", p.achieved_poles));
+    }
+    let tol = ROUNDING * kappa * (a.norm() + b.norm() * p.gain.norm());
+    let scale = (a - b * &p.gain).norm().max(1.0);
+    if !(tol <= 1e-3 * scale) {
+        return Err(format!("the allowance {tol:.2e} (κ₂(X) = {kappa:.2e}) could not catch a misplaced pole of a closed loop of size {scale:.2e}"));
+    }
+    Ok(tol)
 }
 
 /// `κ₂` of unit-column eigenvectors of `A − B K`, computed here. Each eigenvector comes from
@@ -236,6 +249,27 @@ fn placement_tolerance(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) -> f64
 /// ≤ 1e-9 ‖A − B K‖), and `κ₂` is still computed here. Infinite when neither applies, so that
 /// no allowance is granted by a figure that could not be checked.
 fn eigenvector_condition(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) -> f64 {
+    let Some(x) = recomputed_eigenvectors(a, b, p) else {
+        return f64::INFINITY;
+    };
+    let n = x.nrows();
+    let s = singular_values(&x);
+    let (big, small) = (s[0], s[n - 1]);
+    if small > 0.0 {
+        big / small
+    } else {
+        f64::INFINITY
+    }
+}
+
+/// `|det X|` of the unit-column eigenvectors of [`recomputed_eigenvectors`] (the product of
+/// the Jacobi singular values); 0 when they cannot be computed.
+fn recomputed_abs_det(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) -> f64 {
+    recomputed_eigenvectors(a, b, p).map_or(0.0, |x| singular_values(&x).iter().product())
+}
+
+/// Unit-column eigenvectors of `A − B K` as described at [`eigenvector_condition`].
+fn recomputed_eigenvectors(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) -> Option<DMatrix<Complex64>> {
     let closed = (a - b * &p.gain).map(|v| Complex64::new(v, 0.0));
     let n = closed.nrows();
     let scale = closed.norm().max(1.0);
@@ -244,14 +278,14 @@ fn eigenvector_condition(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) -> f
     let mut x = DMatrix::<Complex64>::zeros(n, n);
     if coincide {
         let Some(e) = p.eigenvectors.as_ref().filter(|e| e.vectors.shape() == (n, n)) else {
-            return f64::INFINITY;
+            return None;
         };
         for j in 0..n {
             let v = e.vectors.column(j).into_owned();
             let v = &v / Complex64::new(v.norm(), 0.0);
             let residual = (&closed * &v - &v * e.poles[j]).norm();
             if !(residual <= 1e-9 * scale) {
-                return f64::INFINITY;
+                return None;
             }
             x.set_column(j, &v);
         }
@@ -262,30 +296,23 @@ fn eigenvector_condition(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) -> f
             let lu = (&closed - DMatrix::<Complex64>::identity(n, n) * shift).lu();
             let mut v = DVector::<Complex64>::from_fn(n, |i, _| Complex64::new(1.0 + 0.1 * i as f64, 0.05 * (i % 3) as f64));
             for _ in 0..2 {
-                let Some(w) = lu.solve(&v) else {
-                    return f64::INFINITY;
-                };
+                let w = lu.solve(&v)?;
                 let norm = w.norm();
                 if !(norm > 0.0 && norm.is_finite()) {
-                    return f64::INFINITY;
+                    return None;
                 }
                 v = w / Complex64::new(norm, 0.0);
             }
             x.set_column(j, &v);
         }
     }
-    let s = singular_values(&x);
-    let (big, small) = (s[0], s[n - 1]);
-    if small > 0.0 {
-        big / small
-    } else {
-        f64::INFINITY
-    }
+    Some(x)
 }
 
-/// Recomputes eig(A − B K) and returns it.
+/// Recomputes eig(A − B K) by nalgebra's Schur decomposition (not Polewright's eigenvalue
+/// code) and returns it.
 fn closed_loop_eigenvalues(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>) -> Vec<Complex64> {
-    try_eigenvalues(&(a - b * k)).expect("eigenvalues of A − B K")
+    common::independent_eigenvalues(&(a - b * k))
 }
 
 /// Block-triangular uncontrollable plant A = Q [[A11, A12], [0, A22]] Qᵀ, B = Q [[B1], [0]]
@@ -347,6 +374,10 @@ fn staircase_note(a: &DMatrix<f64>, b: &DMatrix<f64>, constructed: usize) -> Str
 // Tests
 // ---------------------------------------------------------------------------------------------
 
+/// Placements of `random_plants_are_placed_accurately` whose Bauer–Fike allowance exceeds
+/// 1e-3 of the closed loop (measured with this seed; see the test).
+const BEYOND_BAUER_FIKE: usize = 1;
+
 #[test]
 fn random_plants_are_placed_accurately() {
     let mut rng = Rng::new(0x0BAD_5EED_2024_0001);
@@ -354,6 +385,8 @@ fn random_plants_are_placed_accurately() {
     let mut cases = 0;
     let mut worst: f64 = 0.0;
     let mut mixed = 0;
+    let mut beyond = Vec::new();
+    let mut compared_kappa = 0;
     for n in 1..=12usize {
         for m in 1..=n.min(4) {
             for seed in 0..3 {
@@ -383,13 +416,35 @@ fn random_plants_are_placed_accurately() {
                 }
                 // Independent recomputation of the closed-loop spectrum.
                 let achieved = closed_loop_eigenvalues(&a, &b, &p.gain);
-                let tol = placement_tolerance(&a, &b, &p);
-                let ratio = worst_ratio(&poles, &achieved, &vec![tol; n]);
-                worst = worst.max(ratio);
-                if !(ratio <= 1.0) {
-                    failures.push(format!("{tag}: eig(A − BK) misses the request by {:.2}× the allowance {tol:.2e} (κ₂(X) = {:.2e})", ratio, p.eigenvector_condition));
+                match judgeable_tolerance(&a, &b, &p) {
+                    Ok(tol) => {
+                        let ratio = worst_ratio(&poles, &achieved, &vec![tol; n]);
+                        worst = worst.max(ratio);
+                        if !(ratio <= 1.0) {
+                            failures.push(format!("{tag}: eig(A − BK) misses the request by {:.2}× the allowance {tol:.2e} (κ₂(X) recomputed {:.2e})", ratio, eigenvector_condition(&a, &b, &p)));
+                        }
+                    }
+                    // Beyond double precision for Bauer–Fike: counted and bounded below.
+                    Err(why) => beyond.push(format!("{tag}: {why}")),
                 }
-                if !conjugate_closed(&p.achieved_poles) || !conjugate_closed(&achieved) {
+                // The reported κ₂(X) and |det X| describe the gain: with distinct poles the
+                // unit-column eigenvectors are unique up to phase, so both must agree with the
+                // recomputation. Each column is accurate to about κ_j ε ≤ κ₂(X) ε, which moves
+                // κ₂(X) and |det X| by at most about κ₂(X)² ε relative: 1e3 × that, floored at
+                // 1e-9, and compared only where that allows less than 1 % (else counted).
+                let kappa = eigenvector_condition(&a, &b, &p);
+                let det = recomputed_abs_det(&a, &b, &p);
+                let agree = (1e3 * kappa * kappa * EPS).max(1e-9);
+                if agree <= 1e-2 {
+                    compared_kappa += 1;
+                    if !((p.eigenvector_condition - kappa).abs() <= agree * kappa) || !((p.abs_det_x - det).abs() <= agree * det.max(f64::MIN_POSITIVE)) {
+                        failures.push(format!("{tag}: reported κ₂(X) {:.6e}, |det X| {:.6e}; recomputed {kappa:.6e}, {det:.6e} (allowed {agree:.1e} relative)", p.eigenvector_condition, p.abs_det_x));
+                    }
+                }
+                // Polewright's eigenvalue routine documents exact conjugate pairs: its output
+                // for this closed loop, and the placement's report, must be conjugate-closed.
+                let own = try_eigenvalues(&(&a - &b * &p.gain)).expect("eigenvalues of A − B K");
+                if !conjugate_closed(&p.achieved_poles) || !conjugate_closed(&own) {
                     failures.push(format!("{tag}: achieved poles not conjugate-closed: {:?}", p.achieved_poles));
                 }
                 // κ₂(X) = σ_max/σ_min ≥ 1; rounding in the SVD can only shave a few n·ε off it.
@@ -418,8 +473,12 @@ fn random_plants_are_placed_accurately() {
             }
         }
     }
-    println!("{cases} placements, {mixed} with mixed real/complex poles, worst error/allowance {worst:.3e}");
+    println!("{cases} placements, {mixed} with mixed real/complex poles, worst error/allowance {worst:.3e}; {compared_kappa} reported κ₂(X) and |det X| compared; beyond Bauer–Fike in double precision: {}\n{}", beyond.len(), beyond.join("\n"));
     assert!(mixed >= 40, "only {mixed} pole sets mix real and complex poles");
+    // Seeded plants: the count is what this seed gives (random n ≤ 12 plants reach κ₂ ~ 1e12
+    // now and then); a change means the placement's conditioning changed.
+    assert!(beyond.len() <= BEYOND_BAUER_FIKE && cases - beyond.len() >= 100, "{} of {cases} placements beyond Bauer–Fike:\n{}", beyond.len(), beyond.join("\n"));
+    assert!(compared_kappa >= 90, "only {compared_kappa} reported κ₂(X) compared");
     assert!(failures.is_empty(), "{} failures:\n{}", failures.len(), failures.join("\n"));
 }
 
@@ -756,6 +815,27 @@ fn poles_repeated_beyond_the_input_rank_give_the_requested_polynomial() {
     assert!(failures.is_empty(), "{} failures:\n{}", failures.len(), failures.join("\n"));
 }
 
+/// For each distinct requested pole, the distance of the mean of the achieved poles matched to
+/// its copies (one-to-one, the fixtures' assignment), relative to `max(1, |pole|)`: a `p`-fold
+/// Jordan block scatters its eigenvalues by about `δ^{1/p}`, but their mean moves only by about
+/// `δ` (the trace is perfectly conditioned).
+fn cluster_mean_error(requested: &[Complex64], achieved: &[Complex64]) -> f64 {
+    let n = requested.len();
+    assert_eq!(achieved.len(), n, "as many eigenvalues as requested poles");
+    let cost = DMatrix::from_fn(n, n, |i, j| (achieved[j] - requested[i]).norm());
+    let pick = common::assignment(&cost);
+    let mut worst = 0.0f64;
+    for (i, z) in requested.iter().enumerate() {
+        let members: Vec<usize> = (0..n).filter(|&k| requested[k] == *z).collect();
+        if members[0] != i {
+            continue;
+        }
+        let mean = members.iter().map(|&k| achieved[pick[k]]).sum::<Complex64>() / members.len() as f64;
+        worst = worst.max((mean - z).norm() / z.norm().max(1.0));
+    }
+    worst
+}
+
 /// One design with a pole repeated beyond rank B: succeeds, gives the requested polynomial to
 /// 1e-10 (relative, Cayley–Hamilton) and cluster means within 1e-7 of the request (recomputed
 /// eigenvalues, greedy matching).
@@ -765,7 +845,7 @@ fn check_jordan_design(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], 
             let closed = a - b * &p.gain;
             let residual = cayley_hamilton_residual(&closed, poles);
             let achieved = closed_loop_eigenvalues(a, b, &p.gain);
-            let (mean_error, _) = polewright::place::cluster_errors(poles, &achieved, 1.0);
+            let mean_error = cluster_mean_error(poles, &achieved);
             worst.0 = worst.0.max(residual);
             worst.1 = worst.1.max(mean_error);
             if !(residual <= 1e-10) || !(mean_error <= 1e-7) {

@@ -117,27 +117,33 @@ pub struct Judged {
     pub eigenvector_condition: f64,
 }
 
-pub fn judge_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>, requested: &[Complex64], reported: Option<(&[Complex64], &DMatrix<Complex64>)>) -> Judged {
-    let closed = a - b * k;
-    let n = closed.nrows();
-    // nalgebra's Schur with an iteration cap (its plain `complex_eigenvalues` has none); where it
-    // does not converge, again after a diagonal similarity by powers of two (Parlett–Reinsch
-    // balancing: the eigenvalues are unchanged exactly), and only then Polewright's own
-    // eigenvalue routine (counted in `schur_fallbacks`, so a report can say how often).
-    let achieved: Vec<Complex64> = match closed.clone().try_schur(f64::EPSILON, 100_000) {
+/// Eigenvalues by nalgebra's Schur decomposition (not Polewright's eigenvalue code), with an
+/// iteration cap (its plain `complex_eigenvalues` has none); where it does not converge, again
+/// after a diagonal similarity by powers of two (Parlett–Reinsch balancing: the eigenvalues are
+/// unchanged exactly), and only then Polewright's own routine (counted in [`SCHUR_FALLBACKS`],
+/// so a report can say how often).
+pub fn independent_eigenvalues(m: &DMatrix<f64>) -> Vec<Complex64> {
+    let n = m.nrows();
+    match m.clone().try_schur(f64::EPSILON, 100_000) {
         Some(schur) => schur.complex_eigenvalues().iter().copied().collect(),
         None => {
-            let d = polewright::linalg::eigen::balancing_scale(&closed, 100);
-            let balanced = DMatrix::from_fn(n, n, |i, j| closed[(i, j)] * d[j] / d[i]);
+            let d = polewright::linalg::eigen::balancing_scale(m, 100);
+            let balanced = DMatrix::from_fn(n, n, |i, j| m[(i, j)] * d[j] / d[i]);
             match balanced.try_schur(f64::EPSILON, 100_000) {
                 Some(schur) => schur.complex_eigenvalues().iter().copied().collect(),
                 None => {
                     SCHUR_FALLBACKS.with(|c| c.set(c.get() + 1));
-                    polewright::linalg::eigen::try_eigenvalues(&closed).expect("eigenvalues")
+                    polewright::linalg::eigen::try_eigenvalues(m).expect("eigenvalues")
                 }
             }
         }
-    };
+    }
+}
+
+pub fn judge_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>, requested: &[Complex64], reported: Option<(&[Complex64], &DMatrix<Complex64>)>) -> Judged {
+    let closed = a - b * k;
+    let n = closed.nrows();
+    let achieved = independent_eigenvalues(&closed);
     let cost = DMatrix::from_fn(n, n, |i, j| (achieved[j] - requested[i]).norm() / requested[i].norm().max(1.0));
     let pick = assignment(&cost);
     let max_rel_error = (0..n).map(|i| cost[(i, pick[i])]).fold(0.0, f64::max);
