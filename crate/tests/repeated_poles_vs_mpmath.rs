@@ -33,6 +33,7 @@ fn repeated_poles_give_the_numpy_polynomial_and_the_mpmath_gain() {
     assert_eq!(cases.len(), 30, "fixture case count");
     let mut failures = Vec::new();
     let (mut worst_residual, mut worst_gain_ratio) = (0.0f64, 0.0f64);
+    let mut gains_compared = 0;
     for c in cases {
         let name = c["name"].as_str().unwrap_or("?");
         let (a, b) = (matrix(&c["a"]), matrix(&c["b"]));
@@ -60,8 +61,11 @@ fn repeated_poles_give_the_numpy_polynomial_and_the_mpmath_gain() {
         }
         // One input: the gain is unique; rounding is amplified at most by the conditioning of
         // the controllability matrix (stored with the fixture, up to 5e3 here).
-        if let Some(k_mp) = c.get("mpmath_gain").and_then(|v| v.as_array()) {
+        if m == 1 {
+            // Required for every single-input case.
+            let k_mp = c["mpmath_gain"].as_array().unwrap_or_else(|| panic!("{name}: no mpmath_gain"));
             let kappa = c["controllability_condition"].as_f64().unwrap();
+            gains_compared += 1;
             let k_mp: Vec<f64> = k_mp.iter().map(|v| v.as_f64().unwrap()).collect();
             let norm = k_mp.iter().map(|v| v * v).sum::<f64>().sqrt();
             let err = p.gain.iter().zip(&k_mp).map(|(x, y)| (x - y).powi(2)).sum::<f64>().sqrt();
@@ -72,7 +76,8 @@ fn repeated_poles_give_the_numpy_polynomial_and_the_mpmath_gain() {
             }
         }
     }
-    eprintln!("repeated poles vs numpy/mpmath: worst Cayley–Hamilton residual {worst_residual:.1e}, worst gain error {worst_gain_ratio:.2} × ε κ(C) ‖K‖");
+    eprintln!("repeated poles vs numpy/mpmath: worst Cayley–Hamilton residual {worst_residual:.1e}, worst gain error {worst_gain_ratio:.2} × ε κ(C) ‖K‖ over {gains_compared} single-input gains");
+    assert_eq!(gains_compared, 22, "single-input gains compared with mpmath");
     assert!(failures.is_empty(), "{} failures:\n{}", failures.len(), failures.join("\n"));
 }
 
@@ -82,7 +87,9 @@ fn deadbeat_through_the_design_path() {
     // (verdict, warnings, simulation) accepts them, says deadbeat, and the simulated free
     // response is at rest after n samples.
     let f = fixture("repeated_poles.json");
+    let mut checked = 0;
     for c in f["cases"].as_array().unwrap().iter().filter(|c| c["name"].as_str().is_some_and(|s| s.contains("deadbeat"))) {
+        checked += 1;
         let n = c["n"].as_u64().unwrap() as usize;
         let doc = format!(
             r#"{{"format": "polewright.design", "version": 3, "plant": {{"a": {}, "b": {}, "sample_time": 0.01}}, "feedback": {{"poles": {}, "plane": "z"}}}}"#,
@@ -102,4 +109,5 @@ fn deadbeat_through_the_design_path() {
             assert!(s[n..].iter().all(|v| v.abs() <= 1e-9 * peak), "{}: not at rest after {n} samples: {:?}", c["name"], &s[..(n + 2).min(s.len())]);
         }
     }
+    assert_eq!(checked, 10, "deadbeat fixture cases");
 }

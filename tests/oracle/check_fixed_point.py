@@ -84,6 +84,9 @@ def loops(exact, q):
     return out
 
 
+EXPECTED_LOOPS = 6
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--cli", type=Path, default=ROOT / "target" / "release" / "polewright")
@@ -118,7 +121,12 @@ def main(argv=None) -> int:
                 print(f"{'ok  ' if ok else 'FAIL'} {name} {precision} {check['loop']}: {len(ours)} poles, worst difference from numpy {worst:.1e}; "
                       f"reported move {check['max_pole_move']:.1e}")
     print(f"fixed-point re-check against numpy: {checked} loops checked, {failures} failures")
-    return 1 if failures or checked == 0 else 0
+    # The designs above give 6 re-checked loops (controller and observer at Q31 for the belt
+    # axis, at Q15 and Q31 for the delayed current loop); fewer means a re-check went missing.
+    if checked != EXPECTED_LOOPS:
+        print(f"FAIL expected {EXPECTED_LOOPS} re-checked loops, got {checked}")
+        return 1
+    return 1 if failures else 0
 
 
 if __name__ == "__main__":

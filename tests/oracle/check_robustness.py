@@ -155,6 +155,10 @@ def check_cloud(cli):
     if abs(u["worst_decay_rate"] - decay) > 1e-9 * max(1.0, abs(decay)) or abs(u["worst_damping"] - damping) > 1e-9:
         fails.append(f"worst decay/damping {u['worst_decay_rate']}/{u['worst_damping']} vs {decay}/{damping}")
     ours = [complex(*p) for p in u["poles"]]
+    # Two poles per sample for this 2-state plant: a short or empty list must fail, not pass.
+    if len(ours) != 2 * 400:
+        fails.append(f"{len(ours)} sampled poles reported, expected 800")
+        ours = (ours + [complex(math.nan, math.nan)] * 800)[:800]
     scale = max(abs(z) for ev in poles for z in ev)
     worst = 0.0
     for s in range(400):

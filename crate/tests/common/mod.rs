@@ -115,6 +115,8 @@ thread_local! {
 pub struct Judged {
     pub max_rel_error: f64,
     pub eigenvector_condition: f64,
+    /// `|det X|` of the unit-column eigenvectors (the product of their singular values).
+    pub abs_det: f64,
 }
 
 /// Eigenvalues by nalgebra's Schur decomposition (not Polewright's eigenvalue code), with an
@@ -163,9 +165,7 @@ pub fn judge_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>, requeste
             let norm = col.norm();
             x.set_column(j, &(col / Complex64::new(norm, 0.0)));
         }
-        let s = x.singular_values();
-        let (big, small) = (s.iter().copied().fold(0.0, f64::max), s.iter().copied().fold(f64::INFINITY, f64::min));
-        return Judged { max_rel_error, eigenvector_condition: if small > 0.0 { big / small } else { f64::INFINITY } };
+        return judged(max_rel_error, &x);
     }
     for (j, lambda) in achieved.iter().enumerate() {
         // A repeated eigenvalue (a pole requested several times) has an eigenspace: its k-th
@@ -180,7 +180,12 @@ pub fn judge_gain(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>, requeste
         let norm = v.norm();
         x.set_column(j, &(v / Complex64::new(norm, 0.0)));
     }
+    judged(max_rel_error, &x)
+}
+
+/// κ₂ and `|det|` of unit-column eigenvectors `x` by nalgebra's SVD.
+fn judged(max_rel_error: f64, x: &DMatrix<Complex64>) -> Judged {
     let s = x.singular_values();
     let (big, small) = (s.iter().copied().fold(0.0, f64::max), s.iter().copied().fold(f64::INFINITY, f64::min));
-    Judged { max_rel_error, eigenvector_condition: if small > 0.0 { big / small } else { f64::INFINITY } }
+    Judged { max_rel_error, eigenvector_condition: if small > 0.0 { big / small } else { f64::INFINITY }, abs_det: s.iter().product() }
 }
