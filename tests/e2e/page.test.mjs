@@ -21,6 +21,7 @@ import {
   distDir,
   FORM_FIELDS,
   massChainFields,
+  nextFrame,
   pageFileUrl,
   pagePath,
   parseComplex,
@@ -78,10 +79,19 @@ async function assertCanvasesDrawn(page, ids = CANVASES, overrides = {}) {
   }
 }
 
-/** Every achieved pole in the pole table is within `tol` (relative) of its requested pole. */
-async function assertPolesPlaced(page, tol = 1e-9) {
+/**
+ * Every achieved pole in the pole table is within `tol` (relative) of its requested pole, and
+ * the table has `count` rows. The table is read at 17 significant digits (the Digits select is
+ * set and then restored): at the default 5 digits a miss below about 5e-5 could not be seen.
+ */
+async function assertPolesPlaced(page, count, tol = 1e-9) {
+  const digits = await page.inputValue('#pw-digits');
+  await page.selectOption('#pw-digits', '17');
+  await nextFrame(page);
   const rows = await tableRows(page, 'pw-pole-table');
-  assert.ok(rows.length > 0, 'the pole table has rows');
+  await page.selectOption('#pw-digits', digits);
+  await nextFrame(page);
+  assert.equal(rows.length, count, `the pole table has ${count} rows: ${JSON.stringify(rows)}`);
   for (const [requested, achieved] of rows) {
     const r = parseComplex(requested);
     const z = parseComplex(achieved);
@@ -112,7 +122,7 @@ async function checkLoadedPage(ctx, shotName) {
   assert.match(await page.textContent('.law'), /u = −K x/);
   const header = await page.evaluate(() => [...document.querySelectorAll('#pw-gain th')].map((t) => t.textContent));
   assert.deepEqual(header, ['K', 'carriage position (m)', 'carriage velocity (m/s)', 'head position (m)', 'head velocity (m/s)', 'motor force (N)']);
-  await assertPolesPlaced(page);
+  await assertPolesPlaced(page, 4);
   // The copyable text carries the same numbers.
   const text = await page.textContent('#pw-gain-text');
   const line = text.split('\n').find((l) => l.startsWith('motor force (N)\t'));
@@ -265,7 +275,7 @@ describe('built page', () => {
           assert.equal(await page.textContent('#pw-a-size'), '3 × 3');
           const header = await page.evaluate(() => [...document.querySelectorAll('#pw-gain th')].map((t) => t.textContent));
           assert.deepEqual(header, ['K', 'x1', 'x2', 'x3', 'u1']);
-          await assertPolesPlaced(page);
+          await assertPolesPlaced(page, 3);
           await assertCanvasesDrawn(page);
           await screenshot(page, `page-textbook-${via.startsWith('file') ? 'file' : 'http'}.png`);
           assert.deepEqual([...pageErrors, ...consoleErrors], []);
@@ -496,7 +506,7 @@ describe('built page', () => {
           assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
           const k = await readGain(page);
           assert.notDeepEqual(k, before, 'a new gain');
-          const rows = await assertPolesPlaced(page);
+          const rows = await assertPolesPlaced(page, 4);
           assert.deepEqual(rows.map((r) => r[0]).sort(), ['−10 + 8j', '−10 − 8j', '−15 + 20j', '−15 − 20j'].sort());
 
           // On to the pole map; N / P (PageDown / PageUp) step through the poles.
@@ -652,7 +662,7 @@ describe('built page', () => {
       const k = await readGain(page);
       assert.equal(k.length, 2);
       assert.equal(k[0].length, 4);
-      await assertPolesPlaced(page);
+      await assertPolesPlaced(page, 4);
       const inputs = await tableRows(page, 'pw-input-table');
       assert.equal(inputs.length, 2);
       assert.ok(inputs.every((r) => r[2] === '150 W'), JSON.stringify(inputs));
