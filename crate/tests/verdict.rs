@@ -235,10 +235,26 @@ fn a_fixed_mode_is_judged_on_its_own_scale() {
     assert!(r.stable_hidden_modes, "{:?}", r.hidden_modes);
     let poles: Vec<num_complex::Complex64> = [-1e5, -2e5].iter().map(|&x| num_complex::Complex64::new(x, 0.0)).collect();
     let p = state_feedback_gain(&a, &b, &poles, PlacementParams::default()).unwrap();
+    assert_eq!(p.fixed_modes.len(), 2, "{:?}", p.fixed_modes);
     assert!(p.fixed_modes.iter().all(|z| (z.re - sigma).abs() < 1e-6 && (z.im.abs() - omega).abs() < 1e-6), "{:?}", p.fixed_modes);
-    // The same mode shifted onto the axis (σ = 0) is refused.
+    // From the gain (nalgebra's Schur): the closed loop has the requested poles and keeps the
+    // fixed pair, each to 1e3 ε ‖A − B K‖_F absolute (the rounding of a backward-stable
+    // eigenvalue computation on blocks this well conditioned; ‖A − B K‖ ≈ 4e11 here).
+    let closed = &a - &b * &p.gain;
+    let tol = 1e3 * f64::EPSILON * closed.norm();
+    let mut got: Vec<num_complex::Complex64> = closed.clone().try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues().iter().copied().collect();
+    let want = [poles[0], poles[1], num_complex::Complex64::new(sigma, omega), num_complex::Complex64::new(sigma, -omega)];
+    for w in want {
+        let k = (0..got.len()).min_by(|&i, &j| (got[i] - w).norm().total_cmp(&(got[j] - w).norm())).unwrap();
+        assert!((got[k] - w).norm() <= tol, "{w} not in eig(A − BK) to {tol:.1e}: {got:?}");
+        got.remove(k);
+    }
+    // The same mode shifted onto the axis (σ = 0) is refused, naming it.
     a[(2, 2)] = 0.0;
     a[(3, 3)] = 0.0;
     assert!(!controllability_report(&a, &b, AnalysisParams::default()).unwrap().stable_hidden_modes);
-    assert!(state_feedback_gain(&a, &b, &poles, PlacementParams::default()).is_err());
+    match state_feedback_gain(&a, &b, &poles, PlacementParams::default()) {
+        Err(polewright::place::PlacementError::UncontrollableUnstableMode { pole }) => assert!(pole.re.abs() < 1e-6 && (pole.im.abs() - omega).abs() < 1e-6, "{pole}"),
+        other => panic!("expected the undamped mode to be refused by name, got {:?}", other.map(|p| p.gain)),
+    }
 }
