@@ -4,6 +4,51 @@
 
 use polewright::design::{run_text, DesignError, DesignResult};
 
+/// Recomputation on the test's side, with nalgebra only (nothing from Polewright): eigenvalues
+/// by nalgebra's Schur decomposition, the zero-order hold by nalgebra's matrix exponential of
+/// `[[A, B], [0, 0]] T` (Van Loan, "Computing integrals involving the matrix exponential",
+/// IEEE TAC 23(3), 1978, from memory), so that no check below reads a pole the program reports.
+mod recompute {
+    use nalgebra::DMatrix;
+    use num_complex::Complex64;
+
+    pub fn mat(rows: &[Vec<f64>]) -> DMatrix<f64> {
+        DMatrix::from_fn(rows.len(), rows.first().map_or(0, |r| r.len()), |i, j| rows[i][j])
+    }
+
+    pub fn eig(m: &DMatrix<f64>) -> Vec<Complex64> {
+        m.clone().try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues().iter().copied().collect()
+    }
+
+    /// `(Φ, Γ)` of the zero-order hold at `t`.
+    pub fn zoh(a: &DMatrix<f64>, b: &DMatrix<f64>, t: f64) -> (DMatrix<f64>, DMatrix<f64>) {
+        let (n, m) = (a.nrows(), b.ncols());
+        let mut big = DMatrix::<f64>::zeros(n + m, n + m);
+        big.view_mut((0, 0), (n, n)).copy_from(&(a * t));
+        big.view_mut((0, n), (n, m)).copy_from(&(b * t));
+        let e = big.exp();
+        (e.view((0, 0), (n, n)).into_owned(), e.view((0, n), (n, m)).into_owned())
+    }
+
+    /// Largest `|λ − w| / max(1, |w|)` over a greedy one-to-one matching (closest pairs first).
+    pub fn error(want: &[Complex64], got: &[Complex64]) -> f64 {
+        assert_eq!(want.len(), got.len(), "pole counts: want {want:?}, got {got:?}");
+        let mut pairs: Vec<(f64, usize, usize)> = want.iter().enumerate().flat_map(|(i, w)| got.iter().enumerate().map(move |(j, g)| ((w - g).norm() / w.norm().max(1.0), i, j))).collect();
+        pairs.sort_by(|x, y| x.0.total_cmp(&y.0));
+        let (mut used_i, mut used_j, mut worst) = (vec![false; want.len()], vec![false; got.len()], 0.0f64);
+        for (e, i, j) in pairs {
+            if !used_i[i] && !used_j[j] {
+                (used_i[i], used_j[j], worst) = (true, true, worst.max(e));
+            }
+        }
+        worst
+    }
+
+    pub fn c(re: f64, im: f64) -> Complex64 {
+        Complex64::new(re, im)
+    }
+}
+
 fn design(body: &str) -> Result<DesignResult, DesignError> {
     run_text(&format!(r#"{{"format": "polewright.design", "version": 2, {body}}}"#))
 }
@@ -22,17 +67,40 @@ fn textbook_observer_example() {
     let o = r.observer.as_ref().expect("observer");
     assert!((o.gain[0][0] - 16.0).abs() < 1e-7 && (o.gain[1][0] - 84.6).abs() < 1e-6, "{:?}", o.gain);
     assert_eq!(o.form, polewright::design::ObserverRunForm::Continuous);
-    // Separation principle: the loop with observer has the union of both pole sets.
+    // Separation principle: the loop with observer, [[A, −BK], [LC, A − BK − LC]], built here
+    // from the reported gains, has the union of both pole sets (recomputed eigenvalues). The
+    // split observer pair is a near-double root: its eigenvalues move by about √(ε ‖·‖) ≈ 1e-7.
+    let (a, b, cm) = (recompute::mat(&[vec![0.0, 1.0], vec![20.6, 0.0]]), recompute::mat(&[vec![0.0], vec![1.0]]), recompute::mat(&[vec![1.0, 0.0]]));
+    let loop_with_observer = |k: &[Vec<f64>], l: &[Vec<f64>]| {
+        let (k, l) = (recompute::mat(k), recompute::mat(l));
+        let mut m = nalgebra::DMatrix::<f64>::zeros(4, 4);
+        m.view_mut((0, 0), (2, 2)).copy_from(&a);
+        m.view_mut((0, 2), (2, 2)).copy_from(&(-&b * &k));
+        m.view_mut((2, 0), (2, 2)).copy_from(&(&l * &cm));
+        m.view_mut((2, 2), (2, 2)).copy_from(&(&a - &b * &k - &l * &cm));
+        recompute::eig(&m)
+    };
+    let want = [recompute::c(-1.8, 2.4), recompute::c(-1.8, -2.4), recompute::c(-7.9999, 0.0), recompute::c(-8.0001, 0.0)];
+    let err = recompute::error(&want, &loop_with_observer(&r.feedback.gain, &o.gain));
+    assert!(err < 1e-6, "separation: eig of the loop with observer misses the union by {err:.1e}");
     let sep = r.closed_loop.as_ref().and_then(|l| l.separation_error).expect("separation check");
-    assert!(sep < 1e-6, "separation error {sep}");
+    assert!(sep < 1e-6, "reported separation error {sep}");
     // Exactly repeated observer poles (one output): a Jordan block placed by the orthogonal
     // deflation, giving the textbook L = [16, 84.6]ᵀ itself, with the repeated-poles caution.
     let r = design(&format!(r#"{TEXTBOOK_OBSERVER_PLANT}, "feedback": {{"poles": ["-1.8±2.4j"]}}, "observer": {{"poles": [-8, -8]}}"#)).unwrap();
     let o = r.observer.as_ref().expect("observer");
     assert!((o.gain[0][0] - 16.0).abs() < 1e-12 && (o.gain[1][0] - 84.6).abs() < 1e-12, "{:?}", o.gain);
     assert!(r.warnings.iter().any(|w| w.code == "repeated-poles" && w.message.contains("observer")), "{:?}", r.warnings);
+    // The Jordan pair splits by about √(ε ‖·‖) ≈ 1e-7 when computed; the mean of the two (the
+    // trace of the block) is perfectly conditioned.
+    let got = loop_with_observer(&r.feedback.gain, &o.gain);
+    let mut observer_pair: Vec<_> = got.iter().filter(|z| (z.re + 8.0).abs() < 1e-3).copied().collect();
+    assert_eq!(observer_pair.len(), 2, "{got:?}");
+    let mean = (observer_pair.pop().unwrap() + observer_pair.pop().unwrap()) / 2.0;
+    assert!((mean - recompute::c(-8.0, 0.0)).norm() < 1e-9, "observer cluster mean {mean}");
+    assert!(recompute::error(&want[..2], &got.iter().filter(|z| (z.re + 8.0).abs() >= 1e-3).copied().collect::<Vec<_>>()) < 1e-12, "{got:?}");
     let sep = r.closed_loop.as_ref().and_then(|l| l.separation_error).expect("separation check");
-    assert!(sep < 1e-9, "separation error of the cluster means {sep}");
+    assert!(sep < 1e-9, "reported separation error of the cluster means {sep}");
 }
 
 #[test]
@@ -96,12 +164,12 @@ fn digital_design_maps_poles_and_tracks_the_continuous_response() {
     let dig = design(&format!(r#"{plant}, {poles}, "implementation": {{"sample_time": {t}}}, {sim}"#)).unwrap();
     assert_eq!(dig.domain, polewright::analysis::Domain::Discrete);
     assert_eq!(serde_json::to_value(dig.domain).unwrap(), "discrete", "serialised by name");
-    for z in &dig.feedback.achieved_poles {
-        let zc = num_complex::Complex64::new(z[0], z[1]);
-        let expected = (num_complex::Complex64::new(-3.0, 2.0f64.copysign(z[1])) * t).exp();
-        assert!((zc - expected).norm() < 1e-12, "{zc} vs {expected}");
-        assert!(zc.norm() < 1.0);
-    }
+    // eig(Φ − Γ K) from the reported gain and a zero-order hold computed here: z = e^{sT}.
+    let (phi, gamma) = recompute::zoh(&recompute::mat(&[vec![0.0, 1.0], vec![0.0, -0.5]]), &recompute::mat(&[vec![0.0], vec![2.0]]), t);
+    let got = recompute::eig(&(&phi - &gamma * recompute::mat(&dig.feedback.gain)));
+    let want: Vec<_> = [recompute::c(-3.0, 2.0), recompute::c(-3.0, -2.0)].iter().map(|s| (s * t).exp()).collect();
+    assert!(recompute::error(&want, &got) < 1e-12, "{got:?} vs {want:?}");
+    assert!(got.iter().all(|z| z.norm() < 1.0));
     // Compare x1 at the digital sample times with the continuous response (interpolated on its grid).
     let (tc, xc) = (&cont.simulation.time, &cont.simulation.states[0]);
     let (td, xd) = (&dig.simulation.time, &dig.simulation.states[0]);
@@ -124,9 +192,21 @@ fn computation_delay_and_current_observer() {
         r#"{plant}, "feedback": {{"poles": ["-4±3j"]}}, "implementation": {{"sample_time": 0.02, "computation_delay": true, "delay_poles": [0.1]}}, "observer": {{"speed_factor": 3, "form": "current"}}, "tracking": {{"mode": "feedforward"}}, "simulation": {{"reference": [1], "duration": 6}}"#
     ))
     .unwrap();
-    assert!(r.feedback.delay_gain.is_some());
-    assert_eq!(r.feedback.achieved_poles.len(), 3, "two plant poles and one delay pole");
-    assert!(r.feedback.achieved_poles.iter().any(|z| (z[0] - 0.1).abs() < 1e-9 && z[1] == 0.0));
+    // The loop with a one-sample computation delay, built here from the reported K and K_u:
+    // [x; u_prev]⁺ = [[Φ, Γ], [−K, −K_u]] [x; u_prev]. Its poles: e^{sT} for the two requested
+    // and the delay pole 0.1.
+    let t = 0.02;
+    let (phi, gamma) = recompute::zoh(&recompute::mat(&[vec![0.0, 1.0], vec![-4.0, -0.4]]), &recompute::mat(&[vec![0.0], vec![4.0]]), t);
+    let (k, ku) = (recompute::mat(&r.feedback.gain), recompute::mat(r.feedback.delay_gain.as_ref().expect("delay gain")));
+    let mut m = nalgebra::DMatrix::<f64>::zeros(3, 3);
+    m.view_mut((0, 0), (2, 2)).copy_from(&phi);
+    m.view_mut((0, 2), (2, 1)).copy_from(&gamma);
+    m.view_mut((2, 0), (1, 2)).copy_from(&(-k));
+    m.view_mut((2, 2), (1, 1)).copy_from(&(-ku));
+    let want = [(recompute::c(-4.0, 3.0) * t).exp(), (recompute::c(-4.0, -3.0) * t).exp(), recompute::c(0.1, 0.0)];
+    let err = recompute::error(&want, &recompute::eig(&m));
+    assert!(err < 1e-12, "delay loop poles miss by {err:.1e}");
+    assert_eq!(r.feedback.achieved_poles.len(), 3, "two plant poles and one delay pole reported");
     let o = r.observer.as_ref().unwrap();
     assert_eq!(o.form, polewright::design::ObserverRunForm::Current);
     assert!(o.current_gain.is_some());
@@ -198,7 +278,11 @@ fn poles_from_a_pattern_or_a_specification() {
     let prod: num_complex::Complex64 = poles.iter().product();
     let k = -sum.re / 6.0;
     assert!((prod.re + 15.0 * k.powi(3)).abs() < 1e-9 * 15.0 * k.powi(3), "sum {sum}, product {prod}");
-    assert!(r.feedback.max_pole_error < 1e-10);
+    // Placed: eig(A − B K) from the reported gain, against the suggested poles.
+    let a3 = recompute::mat(&[vec![0.0, 1.0, 0.0], vec![0.0, 0.0, 1.0], vec![-1.0, -5.0, -6.0]]);
+    let b3 = recompute::mat(&[vec![0.0], vec![0.0], vec![1.0]]);
+    let err = recompute::error(&poles, &recompute::eig(&(&a3 - &b3 * recompute::mat(&r.feedback.gain))));
+    assert!(err < 1e-10, "{err}");
     // A specification: 5 % overshoot, 1.5 s settling. Common practice: 5 % ↔ ζ ≈ 0.690.
     let r = design(&format!(r#"{plant}, "feedback": {{"spec": {{"overshoot": 0.05, "settling_time": 1.5}}}}"#)).unwrap();
     let region = r.pole_choice.as_ref().and_then(|c| c.region.as_ref()).expect("region");
@@ -236,7 +320,10 @@ fn lqr_as_a_way_of_choosing_poles() {
     let l = r.lqr.as_ref().expect("lqr section");
     let s3 = 3f64.sqrt();
     assert!((l.riccati_solution[0][0] - s3).abs() < 1e-12 && (l.riccati_solution[0][1] - 1.0).abs() < 1e-12 && (l.riccati_solution[1][1] - s3).abs() < 1e-12, "{:?}", l.riccati_solution);
-    assert!(l.residual < 1e-13);
+    // The residual of the reported X, computed here: AᵀX + XA − X B R⁻¹ Bᵀ X + Q (R = 1).
+    let (a2, b2, x) = (recompute::mat(&[vec![0.0, 1.0], vec![0.0, 0.0]]), recompute::mat(&[vec![0.0], vec![1.0]]), recompute::mat(&l.riccati_solution));
+    let residual = (a2.transpose() * &x + &x * &a2 - &x * &b2 * b2.transpose() * &x + nalgebra::DMatrix::<f64>::identity(2, 2)).norm();
+    assert!(residual < 1e-13 * x.norm(), "{residual}");
     // Single input: the placed gain is the LQR gain.
     let k = &r.feedback.gain[0];
     assert!((k[0] - 1.0).abs() < 1e-10 && (k[1] - s3).abs() < 1e-10, "{k:?}");
@@ -273,9 +360,26 @@ fn delay_poles_at_the_origin_are_not_reported_as_misplaced() {
         "implementation": {"sample_time": 0.001, "computation_delay": true},
         "actuators": {"limit": [60]}"#;
     let r = design(&format!(r#"{plant}, "feedback": {{"poles": ["-12±9j", "-20±30j"]}}"#)).unwrap();
-    let at_origin = r.feedback.achieved_poles.iter().map(|p| p[0].hypot(p[1])).fold(f64::INFINITY, f64::min);
+    // Recomputed: [x; u_prev]⁺ = [[Φ, Γ], [−K, −K_u]] [x; u_prev] from the reported gains and a
+    // zero-order hold computed here has e^{sT} for the four requested poles and the delay pole
+    // at 0 (absolute, to 1e-9: within rounding of the origin, as above).
+    let t = 0.001;
+    let a4 = recompute::mat(&[vec![0.0, 1.0, 0.0, 0.0], vec![-375.0, -2.291666666666667, 375.0, 0.625], vec![0.0, 0.0, 0.0, 1.0], vec![1500.0, 2.5, -1500.0, -2.5]]);
+    let b4 = recompute::mat(&[vec![0.0], vec![0.4166666666666667], vec![0.0], vec![0.0]]);
+    let (phi, gamma) = recompute::zoh(&a4, &b4, t);
+    let (k, ku) = (recompute::mat(&r.feedback.gain), recompute::mat(r.feedback.delay_gain.as_ref().expect("delay gain")));
+    let mut m = nalgebra::DMatrix::<f64>::zeros(5, 5);
+    m.view_mut((0, 0), (4, 4)).copy_from(&phi);
+    m.view_mut((0, 4), (4, 1)).copy_from(&gamma);
+    m.view_mut((4, 0), (1, 4)).copy_from(&(-k));
+    m.view_mut((4, 4), (1, 1)).copy_from(&(-ku));
+    let got = recompute::eig(&m);
+    let at_origin = got.iter().map(|z| z.norm()).fold(f64::INFINITY, f64::min);
     assert!(at_origin < 1e-9, "{at_origin}");
-    assert!(r.feedback.max_pole_error < 1e-9, "{}", r.feedback.max_pole_error);
+    let want: Vec<_> = [(-12.0, 9.0), (-12.0, -9.0), (-20.0, 30.0), (-20.0, -30.0)].iter().map(|&(re, im)| (recompute::c(re, im) * t).exp()).chain([recompute::c(0.0, 0.0)]).collect();
+    let err = recompute::error(&want, &got);
+    assert!(err < 1e-9, "{err}");
+    assert!(r.feedback.max_pole_error < 1e-9, "reported {}", r.feedback.max_pole_error);
     assert!(!r.warnings.iter().any(|w| w.code == "placement-inaccurate"), "{:?}", r.warnings);
     // LQR by Bryson weights on the same pair also puts the delay pole at the origin; the
     // sample-rate advice must come from the plant's poles, not from s = ln(1e-15) / T.
