@@ -173,8 +173,10 @@ fn lqr_with_brysons_rule_gives_the_closed_form_and_the_design_files_poles() {
     let s3 = 3f64.sqrt();
     let k = &d.feedback.gain[0];
     assert!((k[0] - 1.0).abs() < 1e-10 && (k[1] - s3).abs() < 1e-10, "{k:?}");
-    for p in &d.feedback.achieved_poles {
-        assert!((p[0] + s3 / 2.0).abs() < 1e-10 && (p[1].abs() - 0.5).abs() < 1e-10, "{p:?}");
+    // eig(A − B K) from the gain (nalgebra's Schur): s² + √3 s + 1, roots −√3/2 ± j/2.
+    let closed = nalgebra::DMatrix::from_row_slice(2, 2, &[0.0, 1.0, -k[0], -k[1]]);
+    for p in closed.try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues().iter() {
+        assert!((p.re + s3 / 2.0).abs() < 1e-10 && (p.im.abs() - 0.5).abs() < 1e-10, "{p:?}");
     }
     let reference = file(r#""plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}, "feedback": {"lqr": {"bryson": {"max_state": [1, 1], "max_input": [1]}}}"#);
     same_design(d, &reference);
