@@ -365,12 +365,38 @@ fn float32_recheck_flags_poles_near_one_at_fast_sampling() {
                "simulation": {{"duration": 0.001}}}}"#
         )
     };
+    // Recomputed here: Φ by nalgebra's matrix exponential, Φ and L rounded to float32, the
+    // observer's error dynamics Φ − L C (predictor form) and their eigenvalues by nalgebra's Schur.
+    let a = nalgebra::DMatrix::from_row_slice(2, 2, &[0.0, 1.0, -1.0, -0.1]);
+    let c = nalgebra::DMatrix::from_row_slice(1, 2, &[1.0, 0.0]);
+    let f32_poles = |r: &polewright::design::DesignResult, t: f64| -> Vec<num_complex::Complex64> {
+        let phi = (&a * t).exp().map(|v| v as f32 as f64);
+        let g = &r.observer.as_ref().expect("observer").gain;
+        let l = nalgebra::DMatrix::from_fn(2, 1, |i, _| g[i][0] as f32 as f64);
+        (phi - l * &c).try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues().iter().copied().collect()
+    };
     let fast = polewright::design::run_text(&doc("1e-7")).unwrap();
+    let radius = f32_poles(&fast, 1e-7).iter().map(|z| z.norm()).fold(0.0, f64::max);
+    assert!(radius > 1.0, "float32 moves an observer pole out of the unit circle: |z| = {radius}");
     let fp = fast.finite_precision.as_ref().expect("digital designs are re-checked");
     let observer = fp.loops.iter().find(|l| l.name == "observer").unwrap();
     assert!(!observer.stable, "{observer:?}");
     assert!(fast.warnings.iter().any(|w| w.code == "float32-sensitive"), "{:?}", fast.warnings);
     let slow = polewright::design::run_text(&doc("1e-3")).unwrap();
+    // At 1 kHz the float32 observer poles stay inside the unit circle with their damping: ζ of
+    // s = ln z / T within 0.1 % of the f64 design's.
+    let damping = |z: &num_complex::Complex64| {
+        let s = z.ln() / 1e-3;
+        -s.re / s.norm()
+    };
+    let rounded = f32_poles(&slow, 1e-3);
+    let exact: Vec<num_complex::Complex64> = {
+        let g = &slow.observer.as_ref().unwrap().gain;
+        let l = nalgebra::DMatrix::from_fn(2, 1, |i, _| g[i][0]);
+        ((&a * 1e-3).exp() - l * &c).try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues().iter().copied().collect()
+    };
+    let worst = rounded.iter().map(damping).fold(f64::INFINITY, f64::min) / exact.iter().map(damping).fold(f64::INFINITY, f64::min);
+    assert!(rounded.iter().all(|z| z.norm() < 1.0) && worst > 0.999, "{rounded:?} vs {exact:?}");
     let fp = slow.finite_precision.as_ref().unwrap();
     assert!(fp.loops.iter().all(|l| l.stable && l.worst_damping_fraction > 0.999), "{fp:?}");
     assert!(!slow.warnings.iter().any(|w| w.code == "float32-sensitive"));
