@@ -160,6 +160,9 @@ def check(name, body, r):
         pm_text = f"PM {pm:.6f} deg at {wc:.6f} rad/s ({len(idx)} crossover{'s' if len(idx) > 1 else ''})"
     else:
         pm_text = "no crossover"
+        # Both ways: no crossover here means none may be reported.
+        if p["crossover"] is not None or p["phase_margin_deg"] is not None:
+            fails.append(f"crossover {p['crossover']} / PM {p['phase_margin_deg']} reported where scipy finds none")
     # -180 degree crossings and gain margins.
     im = lw.imag
     idx = [i for i in np.where(np.sign(im[:-1]) != np.sign(im[1:]))[0]]
@@ -182,6 +185,13 @@ def check(name, body, r):
         if np.isfinite(v) and v.real < 0:
             gms.append(1.0 / abs(v))
     ours = [g for g in (p["gain_margin_low"], p["gain_margin_high"]) if g is not None]
+    # Both ways: the nearest −180° points on each side of 1 are the gain margins, so each side
+    # is reported exactly when scipy finds a point there.
+    want_low = max([g for g in gms if g < 1.0], default=None)
+    want_high = min([g for g in gms if g > 1.0], default=None)
+    for label, got, want in [("low", p["gain_margin_low"], want_low), ("high", p["gain_margin_high"], want_high)]:
+        if (got is None) != (want is None) or (got is not None and abs(got - want) > 1e-6 * want):
+            fails.append(f"{label} gain margin {got} where scipy's nearest is {want}")
     for g in ours:
         if not any(abs(g - s) <= 1e-6 * s for s in gms):
             fails.append(f"gain margin {g} not among scipy's {gms}")
