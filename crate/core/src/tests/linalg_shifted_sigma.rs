@@ -45,14 +45,18 @@ fn integrator_chain_and_a_hidden_mode() {
     b[(0, 0)] = 1.0;
     let pair = ShiftedPair::new(&a, &b);
     // A double smallest singular value |λ| beside sqrt(|λ|² + 1): settled to the iteration's
-    // tolerance (1e-9) when |λ| is small; at |λ| = 3.6 the two are within 4 % and the iteration
-    // (rate 0.86 a step) says it did not settle — the caller's full SVD takes over.
+    // tolerance (1e-9) when |λ| is small. At |λ| = 3.6 the two are within 4 % (the estimate
+    // converges by 13/14 a step): within the default 300 steps it settles, to the remaining
+    // error it estimates; capped at 20 steps it says it did not settle (the caller's full SVD
+    // then takes over).
     let s = pair.smallest_singular_value(Complex64::new(0.5, 0.0), ShiftedSigmaParams::default()).unwrap();
     assert!((s - 0.5).abs() < 1e-9 * 0.5, "{s}");
-    match pair.smallest_singular_value(Complex64::new(-2.0, 3.0), ShiftedSigmaParams::default()) {
-        Ok(s) => assert!((s - 13f64.sqrt()).abs() < 1e-7, "{s}"),
-        Err(ShiftedSigmaError::NoConvergence { steps, change }) => assert!(steps == 60 && change > 1e-9, "{change}"),
-        Err(e) => panic!("{e}"),
+    let slow = Complex64::new(-2.0, 3.0);
+    let s = pair.smallest_singular_value(slow, ShiftedSigmaParams::default()).unwrap();
+    assert!((s - 13f64.sqrt()).abs() < 1e-8 * 13f64.sqrt(), "{s}");
+    match pair.smallest_singular_value(slow, ShiftedSigmaParams { max_steps: 20, ..ShiftedSigmaParams::default() }) {
+        Err(ShiftedSigmaError::NoConvergence { steps, change }) => assert!(steps == 20 && change > 1e-9, "{change}"),
+        other => panic!("20 steps cannot settle at a rate of 13/14: {other:?}"),
     }
     // At λ = 0 the unreached states make the pencil exactly rank deficient.
     assert_eq!(pair.smallest_singular_value(Complex64::new(0.0, 0.0), ShiftedSigmaParams::default()).unwrap(), 0.0);
@@ -92,18 +96,15 @@ fn agrees_with_a_full_svd_on_seeded_pairs_across_sizes() {
 }
 
 #[test]
-fn two_equal_smallest_singular_values_are_reported_or_settled() {
+fn two_equal_smallest_singular_values_are_settled() {
     // A = diag(1, 1, 5) with B = e₃: at λ = 1 the pencil has a double zero singular value...
-    // shifted slightly, a double smallest singular value: inverse iteration either settles
-    // (the estimate is then right) or says it did not.
+    // shifted slightly, a double smallest singular value. Inverse iteration converges at once:
+    // the two equal values span an invariant subspace, so the estimate is exact after a step.
     let a = DMatrix::from_diagonal(&DVector::from_vec(vec![1.0, 1.0, 5.0]));
     let mut b = DMatrix::<f64>::zeros(3, 1);
     b[(2, 0)] = 1.0;
     let pair = ShiftedPair::new(&a, &b);
     let lambda = Complex64::new(1.001, 0.0);
-    match pair.smallest_singular_value(lambda, ShiftedSigmaParams::default()) {
-        Ok(s) => assert!((s - 0.001).abs() < 1e-12, "{s}"),
-        Err(ShiftedSigmaError::NoConvergence { steps, .. }) => assert_eq!(steps, 60),
-        Err(e) => panic!("{e}"),
-    }
+    let s = pair.smallest_singular_value(lambda, ShiftedSigmaParams::default()).expect("a double singular value is an invariant subspace: one step lands in it");
+    assert!((s - 0.001).abs() < 1e-12, "{s}");
 }
