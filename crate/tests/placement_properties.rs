@@ -277,9 +277,7 @@ fn recomputed_eigenvectors(a: &DMatrix<f64>, b: &DMatrix<f64>, p: &Placement) ->
     let coincide = (0..n).any(|j| lambdas[..j].iter().any(|z| (*z - lambdas[j]).norm() <= 1e-6 * scale));
     let mut x = DMatrix::<Complex64>::zeros(n, n);
     if coincide {
-        let Some(e) = p.eigenvectors.as_ref().filter(|e| e.vectors.shape() == (n, n)) else {
-            return None;
-        };
+        let e = p.eigenvectors.as_ref().filter(|e| e.vectors.shape() == (n, n))?;
         for j in 0..n {
             let v = e.vectors.column(j).into_owned();
             let v = &v / Complex64::new(v.norm(), 0.0);
