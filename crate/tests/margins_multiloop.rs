@@ -61,7 +61,7 @@ fn disk_geometry() {
 #[test]
 fn mu_of_rank_one_and_diagonal_matrices() {
     let mut rng = Rng(0x5eed_0001);
-    let mut compared = 0;
+    let (mut compared, mut worst) = (0, 0.0f64);
     for k in 2..=3 {
         for _ in 0..10 {
             let a: Vec<Complex64> = (0..k).map(|_| Complex64::new(rng.normal(), rng.normal())).collect();
@@ -69,11 +69,16 @@ fn mu_of_rank_one_and_diagonal_matrices() {
             let m = DMatrix::from_fn(k, k, |i, j| a[i] * b[j].conj());
             let want: f64 = (0..k).map(|i| a[i].norm() * b[i].norm()).sum();
             let (up, lo) = (mu_upper_bound(&m), mu_lower_bound(&m));
-            assert!((up - want).abs() <= 1e-6 * want, "upper {up} vs {want}");
-            assert!((lo - want).abs() <= 1e-6 * want, "lower {lo} vs {want}");
+            worst = worst.max((up - want).abs() / want).max((lo - want).abs() / want);
+            // The upper bound's minimisation stops when its simplex agrees to 1e-12 and the
+            // lower bound's phase search at steps of 1e-9 rad (an error of about 1e-18 at a smooth
+            // maximum): 1e-10 leaves a factor 100 (measured worst 7e-15).
+            assert!((up - want).abs() <= 1e-10 * want, "upper {up} vs {want}");
+            assert!((lo - want).abs() <= 1e-10 * want, "lower {lo} vs {want}");
             compared += 1;
         }
     }
+    eprintln!("μ of rank-one matrices: worst relative error of the bounds {worst:.1e}");
     assert_eq!(compared, 20);
     let d = DMatrix::from_diagonal(&DVector::from_vec(vec![Complex64::new(0.3, 0.4), Complex64::new(-2.0, 0.0), Complex64::new(0.0, 1.0)]));
     assert!((mu_upper_bound(&d) - 2.0).abs() < 1e-9 && (mu_lower_bound(&d) - 2.0).abs() < 1e-9);
@@ -297,8 +302,9 @@ fn spinning_body_is_fragile_to_simultaneous_perturbations() {
         let r = input_margins(&li, 0.0, 400).unwrap();
         assert!(r.gain_margin_high.is_none() && r.gain_margin_low.is_none(), "{r:?}");
         assert!((r.phase_margin_deg.unwrap() - 90.0).abs() < 1e-7 && (r.crossover.unwrap() - 1.0).abs() < 1e-9, "{r:?}");
-        // S_i = s/(s + 1): |S_i − 1/2| ≤ 1/2, so the single-loop disk margin is α = 2.
-        assert!((r.disk_alpha - 2.0).abs() < 1e-3, "{r:?}");
+        // S_i = s/(s + 1): |S_i − 1/2| = ½ |s − 1|/|s + 1| = ½ at every s = jω, so the
+        // single-loop disk margin is α = 2 exactly, up to rounding.
+        assert!((r.disk_alpha - 2.0).abs() < 1e-12, "{r:?}");
     }
     let grid = l.grid(400).unwrap();
     let ev = l.evaluator().unwrap();
