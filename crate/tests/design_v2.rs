@@ -286,7 +286,10 @@ fn poles_from_a_pattern_or_a_specification() {
     // A specification: 5 % overshoot, 1.5 s settling. Common practice: 5 % ↔ ζ ≈ 0.690.
     let r = design(&format!(r#"{plant}, "feedback": {{"spec": {{"overshoot": 0.05, "settling_time": 1.5}}}}"#)).unwrap();
     let region = r.pole_choice.as_ref().and_then(|c| c.region.as_ref()).expect("region");
-    assert!((region.min_damping - 0.690).abs() < 1e-3, "{}", region.min_damping);
+    // The second-order relation (common practice): overshoot e^{−πζ/√(1 − ζ²)}, so
+    // ζ = −ln(0.05) / √(π² + ln²(0.05)) = 0.690107 — to rounding.
+    let zeta = -(0.05f64.ln()) / (std::f64::consts::PI.powi(2) + 0.05f64.ln().powi(2)).sqrt();
+    assert!((region.min_damping - zeta).abs() < 1e-12, "{} vs {zeta}", region.min_damping);
     assert!(!r.warnings.iter().any(|w| w.code == "pole-outside-region"), "{:?}", r.warnings);
     // Errors name the field.
     match design(&format!(r#"{plant}, "feedback": {{"pattern": {{"family": "bessel"}}}}"#)) {
