@@ -113,7 +113,7 @@ fn a_cross_weight_gives_scipys_gain() {
     // solve_continuous_are / solve_discrete_are with s = S, K = R⁻¹(BᵀX + Sᵀ) or
     // (R + BᵀXB)⁻¹(BᵀXA + Sᵀ); 22 seeded cases, n = 2…6, m = 1…3.
     let f = fixture("riccati_cross.json");
-    let mut compared = 0;
+    let (mut compared, mut worst) = (0, 0.0f64);
     for case in f["cases"].as_array().unwrap() {
         let (a, b, q, r, s) = (matrix(&case["a"]), matrix(&case["b"]), matrix(&case["q"]), matrix(&case["r"]), matrix(&case["s"]));
         let want = matrix(&case["scipy"]["gain"]);
@@ -125,10 +125,22 @@ fn a_cross_weight_gives_scipys_gain() {
             "feedback": {"lqr": {"q": rows(&q), "r": rows(&r), "s": rows(&s)}}});
         let name = case["name"].as_str().unwrap();
         let got = design::run_text(&doc.to_string()).unwrap_or_else(|e| panic!("{name}: {e}")).feedback.gain;
-        // Random well-conditioned data: 1e-8 of ‖K‖ holds with room.
+        // Both gains come from X (K = R⁻¹(BᵀX + Sᵀ) or its discrete form), and X is sensitive to
+        // rounding in proportion to the inverse of the closed loop's Lyapunov operator, whose
+        // norm is about 1/(2 × the closed loop's decay margin) for a normal closed loop (by hand;
+        // the fixture has no condition estimate). So: 100 ε (‖A‖ + ‖B‖‖K‖) / margin relative to
+        // ‖K‖, the margin min(−Re λ) or min(1 − |z|) of eig(A − BK) computed here (measured
+        // worst ratio printed below: about 0.05).
         let err = (0..want.nrows()).flat_map(|i| (0..want.ncols()).map(move |j| (i, j))).map(|(i, j)| (got[i][j] - want[(i, j)]).abs()).fold(0.0, f64::max);
-        assert!(err <= 1e-8 * want.norm(), "{name}: {err:e} against ‖K‖ = {:e}", want.norm());
+        let closed = &a - &b * &want;
+        let poles = closed.clone().try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues();
+        let margin = if case["domain"] == "discrete" { poles.iter().map(|z| 1.0 - z.norm()).fold(f64::INFINITY, f64::min) } else { poles.iter().map(|z| -z.re).fold(f64::INFINITY, f64::min) };
+        let scale = a.norm().max(1.0) + b.norm() * want.norm();
+        let tol = 1e2 * f64::EPSILON * scale / margin.max(f64::MIN_POSITIVE);
+        worst = worst.max(err / want.norm() / tol);
+        assert!(err <= tol * want.norm(), "{name}: {err:e} against ‖K‖ = {:e} (allowed {tol:.1e} relative)", want.norm());
         compared += 1;
     }
+    eprintln!("cross-weight gains against scipy: worst difference {worst:.2e} of the allowance");
     assert_eq!(compared, 22);
 }
