@@ -157,6 +157,28 @@ fn a_specification_gives_the_design_files_poles_and_the_textbook_region() {
     let reference = file(&format!(r#"{TEXTBOOK_FILE}, "feedback": {{"spec": {{"overshoot": 0.05, "settling_time": 1.5, "rise_time": 0.3}}}}"#));
     same_design(out.design.as_ref().unwrap(), &reference);
     assert!(out.report.unwrap().pole_choice.unwrap().region.unwrap().natural_frequency.is_some());
+    // The natural frequency meets the rise time: the 10 %–90 % rise time of the pair with
+    // ωₙ = 1 and ζ = 0.690107 from its step response in closed form,
+    // y(t) = 1 − e^{−ζt} sin(√(1 − ζ²) t + acos ζ)/√(1 − ζ²) (by hand), crossings by bisection;
+    // then ωₙ ≥ t̂_r / 0.3 s.
+    let zeta = -(0.05f64.ln()) / (std::f64::consts::PI.powi(2) + 0.05f64.ln().powi(2)).sqrt();
+    let wd = (1.0 - zeta * zeta).sqrt();
+    let y = |t: f64| 1.0 - (-zeta * t).exp() * (wd * t + zeta.acos()).sin() / wd;
+    let crossing = |level: f64| {
+        let (mut lo, mut hi) = (0.0f64, 3.0f64);
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if y(mid) < level {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        lo
+    };
+    let rise = crossing(0.9) - crossing(0.1);
+    let wn = out.design.as_ref().unwrap().pole_choice.as_ref().and_then(|c| c.region.as_ref()).and_then(|r| r.natural_frequency).expect("ωₙ");
+    assert!(wn >= rise / 0.3 * (1.0 - 1e-9), "ωₙ {wn} against the rise time's {}", rise / 0.3);
 }
 
 #[test]
