@@ -209,7 +209,19 @@ fn computation_delay_and_current_observer() {
     assert_eq!(r.feedback.achieved_poles.len(), 3, "two plant poles and one delay pole reported");
     let o = r.observer.as_ref().unwrap();
     assert_eq!(o.form, polewright::design::ObserverRunForm::Current);
-    assert!(o.current_gain.is_some());
+    // The current-form observer, x̂[k|k] = x̂[k|k−1] + L_c (y − C x̂[k|k−1]), has the estimation
+    // error e⁺ = Φ (I − L_c C) e (by hand): its poles, from the reported L_c and Φ computed here,
+    // are the observer's. Three times faster than the controller's −4 ± 3j (the speed factor)
+    // means e^{3 s T} for those, and the reported predictor gain is Φ L_c.
+    let lc = recompute::mat(o.current_gain.as_ref().expect("current gain"));
+    let c = recompute::mat(&[vec![1.0, 0.0]]);
+    let error_dynamics = &phi * (nalgebra::DMatrix::<f64>::identity(2, 2) - &lc * &c);
+    let observed = recompute::eig(&error_dynamics);
+    assert!(observed.iter().all(|z| z.norm() < 1.0), "{observed:?}");
+    let want: Vec<_> = [recompute::c(-4.0, 3.0), recompute::c(-4.0, -3.0)].iter().map(|s| (s * 3.0 * t).exp()).collect();
+    let err = recompute::error(&want, &observed);
+    assert!(err < 1e-9, "current observer poles {observed:?} vs {want:?} ({err:.1e})");
+    assert!((&phi * &lc - recompute::mat(&o.gain)).norm() <= 1e-12 * (&phi * &lc).norm(), "L = Φ L_c");
     let l = r.closed_loop.as_ref().unwrap();
     assert!(!l.diverged);
     assert!(l.tracked[0].steady_state_error.abs() < 1e-6, "{:?}", l.tracked[0]);
