@@ -451,9 +451,10 @@ fn observer_fields_are_checked_one_by_one() {
     assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
     let o = out.design.as_ref().unwrap().observer.as_ref().unwrap();
     assert_eq!(o.form, crate::design::ObserverRunForm::Current);
-    assert!(o.current_gain.is_some());
+    let lc = o.current_gain.as_ref().expect("a current-form observer has L_c");
+    assert_eq!((lc.len(), lc[0].len()), (4, 1), "L_c is states × outputs");
     let c = out.report.unwrap().controller.unwrap();
-    assert!(c.observer.unwrap().current_gain.is_some());
+    assert_table_is(c.observer.as_ref().unwrap().current_gain.as_ref().expect("the page shows L_c"), lc);
     assert!(c.law.iter().any(|l| l.contains("L_c")), "{:?}", c.law);
     let mut g = axis_v2();
     g.observer = "speed_factor".into();
@@ -550,11 +551,12 @@ fn digital_fields_need_a_sample_time_and_the_right_counts() {
     let out = evaluate_form(&f);
     assert_eq!(out.status, FormStatus::Designed, "{:?} {:?}", out.errors, out.design_error);
     let d = out.design.as_ref().unwrap();
-    assert!(d.feedback.delay_gain.is_some());
+    let ku = d.feedback.delay_gain.as_ref().expect("a computation delay gives K_u");
+    assert_eq!((ku.len(), ku[0].len()), (1, 1), "K_u is inputs × inputs");
     assert_eq!(d.feedback.achieved_poles.len(), 5, "plant poles and the delay pole");
     let r = out.report.unwrap();
     let c = r.controller.unwrap();
-    assert!(c.delay_gain.is_some());
+    assert_table_is(c.delay_gain.as_ref().expect("the page shows K_u"), ku);
     assert!(c.domain.contains("computation delay") && c.domain.contains("0.1"), "{}", c.domain);
     assert!(c.law[0].contains("K_u u[k−1]"), "{:?}", c.law);
     assert!(r.poles.iter().all(|p| p.character.starts_with("|z| = ")), "{:?}", r.poles);
@@ -1030,4 +1032,12 @@ fn oversized_fields_are_refused_before_parsing() {
     // The plural follows the count.
     let o = evaluate_form(&form("0", "1", "-1, -2"));
     assert!(o.errors.iter().any(|e| e.message.contains("2 poles given but the plant has 1 state; give exactly 1 pole")), "{:?}", o.errors);
+}
+
+/// The page's table shows the design's numbers: its copyable text (heading, symbol row, then
+/// one labelled row per matrix row) reads back to exactly `values`, entry for entry.
+fn assert_table_is(table: &crate::form::MatrixTable, values: &[Vec<f64>]) {
+    let rows: Vec<Vec<f64>> = table.text.lines().skip(2).map(|line| line.split('\t').skip(1).map(|v| v.parse::<f64>().unwrap_or_else(|e| panic!("{v:?}: {e}"))).collect()).collect();
+    assert_eq!(&rows, values, "{}", table.text);
+    assert_eq!(table.entries.len(), values.len());
 }
