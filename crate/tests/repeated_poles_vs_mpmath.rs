@@ -52,7 +52,9 @@ fn repeated_poles_give_the_numpy_polynomial_and_the_mpmath_gain() {
         if repeats_beyond_rank && !matches!(p.method, PlacementMethod::Deflation | PlacementMethod::DeflationMultiInput) {
             failures.push(format!("{name}: method {:?}", p.method));
         }
-        // The closed loop's characteristic polynomial is numpy's (deadbeat: (A − BK)ⁿ = 0).
+        // The closed loop's characteristic polynomial is numpy's (deadbeat: (A − BK)ⁿ = 0). The
+        // residual is relative to Σ|c_i| ‖A − BK‖^{n−i}: a backward-stable gain leaves a few n ε
+        // there (measured worst 2e-16); 1e-12 (4,500 ε) is far below any real misplacement.
         let closed = &a - &b * &p.gain;
         let residual = polynomial_residual(&closed, &coeffs);
         worst_residual = worst_residual.max(residual);
