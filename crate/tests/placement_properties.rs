@@ -835,8 +835,8 @@ fn cluster_mean_error(requested: &[Complex64], achieved: &[Complex64]) -> f64 {
 }
 
 /// One design with a pole repeated beyond rank B: succeeds, gives the requested polynomial to
-/// 1e-10 (relative, Cayley–Hamilton) and cluster means within 1e-7 of the request (recomputed
-/// eigenvalues, greedy matching).
+/// 1e-13 (relative, Cayley–Hamilton) and cluster means within 1e-9 of the request (recomputed
+/// eigenvalues, one-to-one matching).
 fn check_jordan_design(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], label: &str, failures: &mut Vec<String>, worst: &mut (f64, f64)) {
     match state_feedback_gain(a, b, poles, PlacementParams::default()) {
         Ok(p) => {
@@ -846,7 +846,10 @@ fn check_jordan_design(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], 
             let mean_error = cluster_mean_error(poles, &achieved);
             worst.0 = worst.0.max(residual);
             worst.1 = worst.1.max(mean_error);
-            if !(residual <= 1e-10) || !(mean_error <= 1e-7) {
+            // The residual: a few n ε for a backward-stable gain (measured 7e-17); the cluster
+            // mean moves by about ε ‖A − BK‖ times a modest factor (measured 4.9e-12): 1e-13 and
+            // 1e-9 leave factors of about 1,000 and 200 over the measured worst.
+            if !(residual <= 1e-13) || !(mean_error <= 1e-9) {
                 failures.push(format!("{label}: Cayley–Hamilton residual {residual:.1e}, cluster-mean error {mean_error:.1e}"));
             }
             if !matches!(p.method, polewright::place::PlacementMethod::Deflation | polewright::place::PlacementMethod::DeflationMultiInput) {
