@@ -10,6 +10,7 @@ use crate::form::{evaluate_form, FormStatus};
 fn every_demo_designs_a_stable_closed_loop() {
     let all = demos();
     assert!(all.len() >= 3);
+    let mut recomputed = 0;
     for d in &all {
         assert!(d.description.starts_with("Illustrative"), "{}", d.title);
         let out = evaluate_form(&d.form);
@@ -25,6 +26,21 @@ fn every_demo_designs_a_stable_closed_loop() {
         };
         assert!(r.feedback.achieved_poles.iter().all(stable), "{}: {:?}", d.title, r.feedback.achieved_poles);
         assert!(r.feedback.max_pole_error < 1e-8, "{}: {}", d.title, r.feedback.max_pole_error);
+        // Where the loop is plain state feedback (continuous, K over the plant's states), the
+        // closed loop is recomputed here from the form's A, B and the gain (nalgebra's Schur):
+        // stable, with the poles the design reports.
+        let n = r.plant.states;
+        if r.domain == crate::analysis::Domain::Continuous && r.feedback.gain[0].len() == n && r.feedback.delay_gain.is_none() {
+            let (a, b) = (text_matrix(&d.form.a), text_matrix(&d.form.b));
+            let k = nalgebra::DMatrix::from_fn(r.feedback.gain.len(), n, |i, j| r.feedback.gain[i][j]);
+            let poles = (a - b * k).try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues();
+            assert!(poles.iter().all(|z| z.re < 0.0), "{}: {poles}", d.title);
+            for p in &r.feedback.achieved_poles {
+                let z = num_complex::Complex64::new(p[0], p[1]);
+                assert!(poles.iter().any(|w| (w - z).norm() <= 1e-9 * z.norm().max(1.0)), "{}: reported {z} is not an eigenvalue of A − BK", d.title);
+            }
+            recomputed += 1;
+        }
         assert!(r.controllability.complete, "{}", d.title);
         assert!(!r.simulation.diverged, "{}", d.title);
         assert!(r.simulation.settling_time.iter().all(|t| t.is_some()), "{}: {:?}", d.title, r.simulation.settling_time);
@@ -37,6 +53,14 @@ fn every_demo_designs_a_stable_closed_loop() {
         let allowed = |code: &crate::design::warnings::WarningCode| *code == "input-over-limit" || (*code == "small-margin" && d.description.contains("see the warning"));
         assert!(r.warnings.iter().all(|w| allowed(&w.code)), "{}: {:?}", d.title, r.warnings);
     }
+    // The continuous state-feedback demos (the belt axis, the heated plate, the mirror).
+    assert!(recomputed >= 3, "only {recomputed} demos recomputed");
+}
+
+/// A matrix typed in the form: one row per line, entries separated by spaces or commas.
+fn text_matrix(text: &str) -> nalgebra::DMatrix<f64> {
+    let rows: Vec<Vec<f64>> = text.lines().filter(|l| !l.trim().is_empty()).map(|l| l.split(|c: char| c.is_whitespace() || c == ',').filter(|t| !t.is_empty()).map(|t| t.parse::<f64>().unwrap_or_else(|e| panic!("{t:?}: {e}"))).collect()).collect();
+    nalgebra::DMatrix::from_fn(rows.len(), rows[0].len(), |i, j| rows[i][j])
 }
 
 #[test]
