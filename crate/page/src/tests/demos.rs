@@ -59,7 +59,11 @@ fn every_demo_designs_a_stable_closed_loop() {
 
 /// A matrix typed in the form: one row per line, entries separated by spaces or commas.
 fn text_matrix(text: &str) -> nalgebra::DMatrix<f64> {
-    let rows: Vec<Vec<f64>> = text.lines().filter(|l| !l.trim().is_empty()).map(|l| l.split(|c: char| c.is_whitespace() || c == ',').filter(|t| !t.is_empty()).map(|t| t.parse::<f64>().unwrap_or_else(|e| panic!("{t:?}: {e}"))).collect()).collect();
+    let rows: Vec<Vec<f64>> = text
+        .lines()
+        .filter(|l| !l.trim().is_empty())
+        .map(|l| l.split(|c: char| c.is_whitespace() || c == ',').filter(|t| !t.is_empty()).map(|t| t.parse::<f64>().unwrap_or_else(|e| panic!("{t:?}: {e}"))).collect())
+        .collect();
     nalgebra::DMatrix::from_fn(rows.len(), rows[0].len(), |i, j| rows[i][j])
 }
 

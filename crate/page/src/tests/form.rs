@@ -393,7 +393,25 @@ fn a_bad_sample_time_is_the_sample_time_field_error() {
     let d = out.design.unwrap();
     assert_eq!(d.domain, crate::analysis::Domain::Discrete);
     assert!(d.closed_loop.is_some(), "a digital design is simulated in the loop");
-    assert!(d.feedback.achieved_poles.iter().all(|p| p[0].hypot(p[1]) < 1.0));
+    // Recomputed here: Φ, Γ by nalgebra's exponential of [[A, B], [0, 0]] T, then eig(Φ − Γ K)
+    // from the gain (nalgebra's Schur): e^{sT} for each requested s, inside the unit circle.
+    let mut big = nalgebra::DMatrix::<f64>::zeros(5, 5);
+    let a = [[0.0, 1.0, 0.0, 0.0], [-375.0, -2.291666666666667, 375.0, 0.625], [0.0, 0.0, 0.0, 1.0], [1500.0, 2.5, -1500.0, -2.5]];
+    for i in 0..4 {
+        for j in 0..4 {
+            big[(i, j)] = a[i][j] * 0.001;
+        }
+    }
+    big[(1, 4)] = 0.4166666666666667 * 0.001;
+    let e = big.exp();
+    let (phi, gamma) = (e.view((0, 0), (4, 4)).into_owned(), e.view((0, 4), (4, 1)).into_owned());
+    let k = nalgebra::DMatrix::from_fn(1, 4, |_, j| d.feedback.gain[0][j]);
+    let poles = (phi - gamma * k).try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues();
+    for s in [(-12.0, 9.0), (-12.0, -9.0), (-20.0, 30.0), (-20.0, -30.0)] {
+        let z = (num_complex::Complex64::new(s.0, s.1) * 0.001).exp();
+        assert!(poles.iter().any(|w| (w - z).norm() < 1e-9), "{z} not in {poles}");
+    }
+    assert!(poles.iter().all(|z| z.norm() < 1.0));
 }
 
 #[test]
