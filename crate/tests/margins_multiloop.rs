@@ -325,7 +325,8 @@ fn same_margins(what: &str, a: &polewright::margins::InputMargins, b: &polewrigh
     };
     // Values to 1e-7; the disk peak's frequency only to 1e-4, or 1e-6 rad/s absolute for a peak
     // at ω = 0 (a smooth peak's location is determined to about the square root of the rounding
-    // unit, and the two routes refine it on different grids; these loops' poles are of size 1).
+    // unit, and the two routes evaluate it from different models; these loops' poles are of
+    // size 1).
     assert!(close(a.disk_alpha, b.disk_alpha, 1e-7), "{what}: disk {a:?} vs {b:?}");
     assert!(close(a.disk_frequency, b.disk_frequency, 1e-4) || (a.disk_frequency - b.disk_frequency).abs() <= 1e-6, "{what}: disk frequency {a:?} vs {b:?}");
     assert!(both(a.gain_margin_low, b.gain_margin_low, 1e-7) && both(a.gain_margin_high, b.gain_margin_high, 1e-7), "{what}: gain margins {a:?} vs {b:?}");
@@ -341,7 +342,7 @@ fn every_input_read_off_the_multivariable_sensitivity_matches_the_loop_broken_th
     // closed-loop eigenvalues and grid. Seeded LQR loops: as they are, with a direct term, and
     // sampled by a zero-order hold.
     let mut rng = Rng(0x5eed_0007);
-    let mut compared = 0;
+    let (mut compared, mut crossings) = (0, 0);
     for case in 0..15 {
         let (mut l, _) = lqr_loop(&mut rng, 5, 3);
         match case % 3 {
@@ -359,11 +360,23 @@ fn every_input_read_off_the_multivariable_sensitivity_matches_the_loop_broken_th
         let all = polewright::margins::per_input_margins(&l, 0.0, 240).unwrap();
         assert_eq!(all.len(), 3);
         for (i, from_s) in all.iter().enumerate() {
-            let broken = input_margins(&l.loop_at(i).unwrap(), 0.0, 240).unwrap();
+            let li = l.loop_at(i).unwrap();
+            let broken = input_margins(&li, 0.0, 240).unwrap();
             same_margins(&format!("case {case}, input {i}"), from_s, &broken);
+            // Independently of the margin code: L_i itself (the broken loop's own open-loop
+            // response) has |L_i| = 1 at the reported crossover, with the reported phase margin,
+            // and a gain margin g is a −180° point where |L_i| = 1/g.
+            if let (Some(wc), Some(pm)) = (from_s.crossover, from_s.phase_margin_deg) {
+                let v = li.loop_response(wc).unwrap()[(0, 0)];
+                let margin = 180.0 + v.arg().to_degrees();
+                let margin = if margin > 180.0 { margin - 360.0 } else { margin };
+                assert!((v.norm() - 1.0).abs() < 1e-9 && (margin - pm).abs() < 1e-7, "case {case}, input {i}: L_i(j{wc}) = {v}, PM {pm}");
+                crossings += 1;
+            }
             compared += 1;
         }
     }
-    eprintln!("per-input margins from S compared with the loop broken at each input: {compared} inputs");
-    assert!(compared >= 30, "only {compared} inputs compared");
+    eprintln!("per-input margins from S compared with the loop broken at each input: {compared} inputs, {crossings} crossovers checked on L_i itself");
+    assert_eq!(compared, 45, "inputs compared");
+    assert!(crossings >= 30, "only {crossings} crossovers checked");
 }

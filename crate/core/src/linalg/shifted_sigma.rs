@@ -13,8 +13,9 @@
 //!    fold `C` into `T` from the bottom up, leaving `[R, 0]` with `R` upper triangular. All
 //!    transformations are unitary: `σ([H − λI, B̃]) = σ(R)`.
 //! 3. `σ_min(R)` by inverse iteration on `Rᴴ R` (two triangular solves a step), started from a
-//!    fixed pseudo-random vector; the estimate `1/‖R⁻ᴴ x‖` decreases to `σ_min` at the rate
-//!    `(σ_min/σ₂)²` per step. An exactly zero pivot gives `σ_min = 0`.
+//!    fixed pseudo-random vector; the vector converges at the rate `(σ_min/σ₂)²` per step and
+//!    the estimate `1/‖R⁻ᴴ x‖` (a Rayleigh quotient) decreases to `σ_min` at its square,
+//!    `(σ_min/σ₂)⁴`. An exactly zero pivot gives `σ_min = 0`.
 //!
 //! This is the route Laub used for frequency responses (Hessenberg once, a cheap solve per
 //! frequency; A. J. Laub, "Efficient multivariable frequency response computations", IEEE
@@ -40,8 +41,10 @@ use num_complex::Complex64;
 /// Tuning of the inverse iteration.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ShiftedSigmaParams {
-    /// Largest number of inverse-iteration steps per shift. Default 300 (each step costs
-    /// `2 n²`, so even the cap stays below one dense SVD's `O(n³)` for `n` above about 50).
+    /// Largest number of inverse-iteration steps per shift. Default 300. Each step costs about
+    /// `2 n²` complex multiply–adds, so the cap costs less than one dense SVD of `[A − λI, B]`
+    /// (about `(8/3) n³` complex operations) only above `n ≈ 200`; a shift whose two smallest
+    /// singular values are 10 % apart settles in about 50 steps.
     pub max_steps: usize,
     /// Stop when the estimated remaining error is below this fraction of the estimate.
     /// Default `1e-9`.
@@ -178,6 +181,7 @@ fn inverse_iteration(r: &DMatrix<Complex64>, params: ShiftedSigmaParams) -> Resu
     let mut y = DVector::<Complex64>::zeros(n);
     let mut estimate = f64::INFINITY;
     let mut change = f64::INFINITY;
+    let mut last_ratio = 1.0f64;
     for step in 0..params.max_steps {
         let norm = x.norm();
         if !(norm > 0.0 && norm.is_finite()) {
@@ -201,10 +205,14 @@ fn inverse_iteration(r: &DMatrix<Complex64>, params: ShiftedSigmaParams) -> Resu
         let previous = change;
         change = (estimate - next).abs() / next;
         estimate = next;
-        // The estimate converges linearly with ratio ρ ≈ change / previous change (the squared
-        // ratio of the two smallest singular values); the error left is about
-        // change · ρ / (1 − ρ), so a slow iteration is not stopped early by a small step.
-        let rho = if previous.is_finite() && previous > 0.0 { change / previous } else { 1.0 };
+        // The estimate converges linearly with ratio ρ ≈ change / previous change (the fourth
+        // power of the ratio of the two smallest singular values); the error left is about
+        // change · ρ / (1 − ρ), so a slow iteration is not stopped early by a small step. ρ is
+        // the larger of the last two ratios (one ratio can underestimate it before the slowest
+        // component dominates), and the step itself must also be below the tolerance.
+        let ratio = if previous.is_finite() && previous > 0.0 { change / previous } else { 1.0 };
+        let rho = ratio.max(last_ratio);
+        last_ratio = ratio;
         let remaining = if change == 0.0 {
             0.0
         } else if rho < 1.0 {
@@ -212,7 +220,7 @@ fn inverse_iteration(r: &DMatrix<Complex64>, params: ShiftedSigmaParams) -> Resu
         } else {
             f64::INFINITY
         };
-        if step > 1 && remaining <= params.tolerance {
+        if step > 2 && change.max(remaining) <= params.tolerance {
             return Ok(estimate);
         }
         for i in (0..n).rev() {

@@ -30,12 +30,15 @@
 //!   assume a stable nominal loop (callers check).
 //!
 //! # Cost
-//! One Hessenberg reduction per model (`O(n³)`), then one `O(n²)` Hessenberg solve per frequency
-//! and loop, a few hundred frequencies.
+//! One Hessenberg reduction of the closed loop (`O(n³)`; of the open loop only if `L` itself is
+//! asked for), then per grid frequency one `O(n²)` Hessenberg solve with `m` right-hand sides
+//! serving every input (see [`per_input`]), a few hundred frequencies.
 //!
 //! # Failure modes
-//! A singular `I + D_L` or a singular `sI − A_cl` at a grid frequency (a closed-loop pole on the
-//! boundary): [`MarginError`].
+//! A singular `I + D_L`: [`MarginError::IllPosed`]. A singular `sI − A_cl` at a frequency (a
+//! closed-loop pole on the boundary): [`MarginError::BoundaryPole`] from a single evaluation;
+//! in a scan, that frequency counts as an infinite peak, so a disk margin computed there is
+//! zero, never larger than the truth.
 
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -195,10 +198,12 @@ impl Reduced {
     }
 }
 
-/// A loop prepared for evaluation at many frequencies: `L` and `S` each reduced once.
+/// A loop prepared for evaluation at many frequencies: `S` reduced once, `L` on first use.
 #[derive(Debug, Clone)]
 pub struct Evaluator {
-    open: Reduced,
+    /// `L`, reduced on first use (the margins need only the closed loop).
+    open: std::cell::OnceCell<Reduced>,
+    model: LoopModel,
     closed: Reduced,
     /// `E = (I + D)⁻¹` and `I − E = D E` (exactly zero without a direct term), so that
     /// `T = I − S` is formed without cancellation.
@@ -220,7 +225,8 @@ impl Evaluator {
     /// # Errors
     /// [`MarginError::BoundaryPole`] when `L` has a pole there.
     pub fn loop_response(&self, w: f64) -> Result<DMatrix<Complex64>, MarginError> {
-        self.open.at(self.point(w), w)
+        let m = &self.model;
+        self.open.get_or_init(|| Reduced::new(&m.a, &m.b, &m.c, &m.d)).at(self.point(w), w)
     }
 
     /// The input sensitivity `S = (I + L)⁻¹` at `w`, from the closed loop.
@@ -293,7 +299,7 @@ impl LoopModel {
         let zero = DMatrix::zeros(e.nrows(), e.ncols());
         // I − E = I − (I + D)⁻¹ = D (I + D)⁻¹: no cancellation, and exactly zero for D = 0.
         let i_minus_e = &self.d * &e;
-        Ok(Evaluator { open: Reduced::new(&self.a, &self.b, &self.c, &self.d), closed: Reduced::new(&acl, &(&self.b * &e), &(&e * &self.c), &zero), e, i_minus_e, sample_time: self.sample_time })
+        Ok(Evaluator { open: std::cell::OnceCell::new(), model: self.clone(), closed: Reduced::new(&acl, &(&self.b * &e), &(&e * &self.c), &zero), e, i_minus_e, sample_time: self.sample_time })
     }
 
     /// `L` at the frequency `w` (rad/s) (for many frequencies, use [`LoopModel::evaluator`]).
@@ -402,7 +408,8 @@ pub struct InputMargins {
     pub disk_gain_range: [f64; 2],
     pub disk_phase_deg: f64,
     /// Classical margins: gain factors at the −180° crossings below and above 1 (`None` when
-    /// there is no such crossing), phase margin (degrees) at the first crossover, its frequency,
+    /// there is no such crossing), phase margin (degrees) of smallest size over every crossover,
+    /// its frequency,
     /// and the delay margin (s).
     pub gain_margin_low: Option<f64>,
     pub gain_margin_high: Option<f64>,
@@ -451,10 +458,12 @@ fn sigma_max_svd(m: &DMatrix<Complex64>) -> f64 {
 }
 
 /// Golden-section maximisation of `f` on `[a, b]`, one new evaluation per step, until the
-/// bracket is 1e-8 of `b` wide (80 steps at most): about the square root of the rounding unit,
-/// the accuracy to which a smooth peak's location is determined at all (its value is flat to
-/// second order there, so the value is found to about the rounding unit). A failed evaluation counts as infinite: a
-/// margin computed from it is zero, never larger than the truth.
+/// bracket is 1e-8 of `b` wide, or of 1 % of the first bracket where `b` shrinks towards a peak
+/// at 0 (80 steps at most). The value then falls short of a smooth peak by about
+/// ½ (bracket / peak width)² of it: negligible except for a resonance narrower than about 1e-6
+/// relative, which is why callers keep the larger of this and the grid value
+/// ([`refine_grid_peak`]). A failed evaluation counts as infinite: a margin computed from it is
+/// zero, never larger than the truth.
 pub fn refine_max(f: &dyn Fn(f64) -> Option<f64>, mut a: f64, mut b: f64) -> (f64, f64) {
     let g = (5f64.sqrt() - 1.0) / 2.0;
     let value = |x: f64| f(x).unwrap_or(f64::INFINITY);
@@ -464,12 +473,13 @@ pub fn refine_max(f: &dyn Fn(f64) -> Option<f64>, mut a: f64, mut b: f64) -> (f6
             best = (x, v);
         }
     };
+    let floor = 1e-2 * (b - a).abs();
     let (mut c, mut d) = (b - g * (b - a), a + g * (b - a));
     let (mut fc, mut fd) = (value(c), value(d));
     keep(c, fc);
     keep(d, fd);
     for _ in 0..80 {
-        if (b - a) <= 1e-8 * b.abs().max(1e-300) {
+        if (b - a) <= 1e-8 * b.abs().max(floor).max(1e-300) {
             break;
         }
         if fc > fd {
@@ -485,6 +495,25 @@ pub fn refine_max(f: &dyn Fn(f64) -> Option<f64>, mut a: f64, mut b: f64) -> (f6
         }
     }
     best
+}
+
+/// The peak of `values` (at `grid`, ascending) refined by [`refine_max`] between the grid
+/// neighbours of the largest value, keeping the larger of the refined and the grid value (a
+/// refinement never lowers a peak the grid has seen, including an infinite one from a failed
+/// evaluation): `(frequency, value)`.
+pub fn refine_grid_peak(grid: &[f64], values: &[f64], f: &dyn Fn(f64) -> Option<f64>) -> (f64, f64) {
+    if grid.is_empty() {
+        return (0.0, 0.0);
+    }
+    let k = (0..values.len()).max_by(|&i, &j| values[i].total_cmp(&values[j])).unwrap_or(0);
+    let (lo, hi) = (grid[k.saturating_sub(1)], grid[(k + 1).min(grid.len() - 1)]);
+    if hi > lo {
+        let (w, v) = refine_max(f, lo, hi);
+        if v > values[k] {
+            return (w, v);
+        }
+    }
+    (grid[k], values[k])
 }
 
 /// A sign change of `f` on `[a, b]` by the Illinois variant of regula falsi (Dowell & Jarratt,

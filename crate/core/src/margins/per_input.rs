@@ -30,21 +30,24 @@
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 
-use super::{refine_max, sign_change, Disk, Evaluator, InputMargins, LoopModel, MarginError};
+use super::{refine_grid_peak, sign_change, Disk, Evaluator, InputMargins, LoopModel, MarginError};
 
 /// `S` and `T` at each grid frequency (`None` where the evaluation failed).
 pub type SensitivityScan = [Option<(DMatrix<Complex64>, DMatrix<Complex64>)>];
 
-/// Margins of the scalar loop `l` (one input, the others closed), disk of skew `sigma`.
+/// Margins of the scalar loop `l` (one input, the others closed), disk of skew `sigma`; for a
+/// loop with several inputs, those of its first input.
 ///
 /// # Errors
 /// [`MarginError`] from forming the grid or the evaluator.
 pub fn input_margins(l: &LoopModel, sigma: f64, points: usize) -> Result<InputMargins, MarginError> {
-    let mut all = per_input_margins(l, sigma, points)?;
-    if all.is_empty() {
+    let grid = l.grid(points)?;
+    let ev = l.evaluator()?;
+    if ev.inputs() == 0 {
         return Err(MarginError::Size { what: "loop model" });
     }
-    Ok(all.swap_remove(0))
+    let scan: Vec<_> = grid.iter().map(|&w| ev.sensitivity_pair(w).ok()).collect();
+    Ok(one_input(&ev, &grid, &scan, 0, sigma))
 }
 
 /// Margins of every input of `l`, each with the other inputs closed.
@@ -82,9 +85,7 @@ fn one_input(ev: &Evaluator, grid: &[f64], scan: &SensitivityScan, i: usize, sig
     let at_grid = |k: usize| scan[k].as_ref().map(|(s, t)| (s[(i, i)], t[(i, i)]));
     let disk = |w: f64| entry(w).map(|(s, _)| (s + shift).norm());
     let values: Vec<f64> = (0..grid.len()).map(|k| at_grid(k).map_or(f64::INFINITY, |(s, _)| (s + shift).norm())).collect();
-    let k = (0..values.len()).max_by(|&a, &b| values[a].total_cmp(&values[b])).unwrap_or(0);
-    let (lo, hi) = (grid[k.saturating_sub(1)], grid[(k + 1).min(grid.len() - 1)]);
-    let (wk, peak) = if hi > lo { refine_max(&disk, lo, hi) } else { (grid[k], values[k]) };
+    let (wk, peak) = refine_grid_peak(grid, &values, &disk);
     let alpha = if peak > 0.0 { 1.0 / peak } else { f64::INFINITY };
     let shape = Disk { alpha, skew: sigma };
     let classical = classical(grid, &|k| at_grid(k).and_then(loop_value), &|w| entry(w).and_then(loop_value), ev.sample_time(), &entry);
@@ -140,7 +141,7 @@ fn classical(
         };
         // −180° crossing: Im L changes sign with Re L < 0.
         if (a.im > 0.0) != (b.im > 0.0) {
-            let w = sign_change(&|w| at(w).map_or(0.0, |v| v.im), w0, w1);
+            let w = sign_change(&|w| at(w).map_or(f64::NAN, |v| v.im), w0, w1);
             if let Some(v) = at(w).filter(|v| v.re < 0.0) {
                 out.gain_at(v);
             }
@@ -149,7 +150,7 @@ fn classical(
         // rotation of L by it puts a closed-loop pole on the boundary); the delay margin is the
         // smallest lag that reaches −180° at a crossover, (PM_i mod 360°) / ω_i.
         if (a.norm() > 1.0) != (b.norm() > 1.0) {
-            let w = sign_change(&|w| at(w).map_or(0.0, |v| v.norm() - 1.0), w0, w1);
+            let w = sign_change(&|w| at(w).map_or(f64::NAN, |v| v.norm() - 1.0), w0, w1);
             if let Some(v) = at(w) {
                 let margin = 180.0 + v.arg().to_degrees();
                 let margin = if margin > 180.0 { margin - 360.0 } else { margin };

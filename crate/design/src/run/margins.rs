@@ -12,7 +12,7 @@ use num_complex::Complex64;
 use super::gains::Gains;
 use super::setup::Setup;
 use crate::margins::built::{plant_input_loop, PlantMatrices};
-use crate::margins::{multiloop_disk, per_input_margins_on, sigma_max, Disk, LoopModel};
+use crate::margins::{multiloop_disk, per_input_margins_on, refine_grid_peak, sigma_max, Disk, LoopModel};
 use crate::result::{AllInputsMargin, ClassicalMargins, DiskMargin, FrequencyResponse, InputMarginResult, MarginsResult, MultiloopAccuracy};
 
 /// Frequencies in the logarithmic part of the grid.
@@ -113,37 +113,23 @@ pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
     let all = all_inputs(&model, &poles, &ev, &per_input, skew)?;
     // The common-practice verdict is on the symmetric disk, whatever skew is shown.
     let symmetric = if skew == 0.0 { all.disk } else { all_inputs(&model, &poles, &ev, &per_input, 0.0)?.disk };
-    let (mut ps, mut ws, mut pt, mut wt, mut ks, mut kt) = (0.0f64, 0.0, 0.0f64, 0.0, 0usize, 0usize);
     let mut table = FrequencyResponse::default();
     let every = grid.len().div_ceil(TABLE_POINTS).max(1);
+    let (mut s_values, mut t_values) = (Vec::with_capacity(grid.len()), Vec::with_capacity(grid.len()));
     for (k, &w) in grid.iter().enumerate() {
         let (sm, tm) = scan[k].as_ref()?;
         let (a, b) = (sigma_max(sm), sigma_max(tm));
-        if a > ps {
-            (ps, ws, ks) = (a, w, k);
-        }
-        if b > pt {
-            (pt, wt, kt) = (b, w, k);
-        }
+        s_values.push(a);
+        t_values.push(b);
         if k % every == 0 || k + 1 == grid.len() {
             table.frequency.push(w);
             table.sensitivity.push(a);
             table.complementary_sensitivity.push(b);
         }
     }
-    // Each peak refined between its grid neighbours.
-    let around = |k: usize| (grid[k.saturating_sub(1)], grid[(k + 1).min(grid.len() - 1)]);
-    for (k, which) in [(ks, 0), (kt, 1)] {
-        let (lo, hi) = around(k);
-        if hi > lo {
-            let (w, v) = crate::margins::refine_max(&|w| peaks_at(&ev, w).map(|p| if which == 0 { p.0 } else { p.1 }), lo, hi);
-            match which {
-                0 if v > ps => (ps, ws) = (v, w),
-                1 if v > pt => (pt, wt) = (v, w),
-                _ => {}
-            }
-        }
-    }
+    // Each peak refined between its grid neighbours (never below the grid's value).
+    let (ws, ps) = refine_grid_peak(&grid, &s_values, &|w| peaks_at(&ev, w).map(|p| p.0));
+    let (wt, pt) = refine_grid_peak(&grid, &t_values, &|w| peaks_at(&ev, w).map(|p| p.1));
     Some(MarginsResult {
         skew,
         per_input,
