@@ -243,10 +243,11 @@ fn c_export_compiles_prints_the_design_and_reproduces_the_simulation() {
                 (true, Some((rows, cmd_err, cmd_scale, est_err, est_scale, z_err, z_scale))) => {
                     assert!(rows >= 100, "{label}: {rows} rows");
                     // double: the C step and the simulator differ only in the order of the sums;
-                    // float: float32 arithmetic throughout the step — a rounding of f32::EPSILON
-                    // (1.2e-7) per step, accumulated over the rows without decay (the worst case
-                    // for a stable loop), times 10 for the operations of a step: 10 · rows · ε₃₂
-                    // of the signal's size (4.8e-4 at 401 rows; measured worst 5.8e-5, the
+                    // float: float32 arithmetic throughout the step — an estimate of a rounding
+                    // of f32::EPSILON (1.2e-7) per step accumulated over the rows without decay
+                    // (a well-damped loop forgets old rounding; a non-normal one can amplify it
+                    // for a while), times 10 for the operations of a step: 10 · rows · ε₃₂ of
+                    // the signal's size (4.8e-4 at 401 rows; measured worst 5.8e-5, the
                     // saturating integral loop).
                     let tol = match precision {
                         Precision::Double => 1e-12,

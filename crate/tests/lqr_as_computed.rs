@@ -71,12 +71,12 @@ fn the_design_path_returns_scipys_lqr_gain_for_one_to_three_inputs() {
         }
     }
     eprintln!("{compared} gains compared ({multi_input} with several inputs; {loose} ill conditioned, to a looser bound)");
-    // The committed fixture gives 67 comparable cases (random and closed-form, continuous and
+    // The committed fixture gives 68 comparable cases (random and closed-form, continuous and
     // discrete), 32 of them with two or three inputs.
-    assert!(compared >= 60 && multi_input >= 30, "compared {compared}, multi-input {multi_input}");
+    assert!(compared == 68 && multi_input == 32, "compared {compared}, multi-input {multi_input}");
     // The looser bound is for the ill-conditioned cases of the committed fixture only (measured:
-    // LOOSE_CASES); more means a case slipped out of the strict comparison.
-    assert!(loose <= LOOSE_CASES, "{loose} cases compared to the looser bound (expected at most {LOOSE_CASES})");
+    // LOOSE_CASES); a change either way means a case moved between the two comparisons.
+    assert_eq!(loose, LOOSE_CASES, "cases compared to the looser bound");
 }
 
 #[test]
@@ -135,6 +135,7 @@ fn a_cross_weight_gives_scipys_gain() {
         let closed = &a - &b * &want;
         let poles = closed.clone().try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues();
         let margin = if case["domain"] == "discrete" { poles.iter().map(|z| 1.0 - z.norm()).fold(f64::INFINITY, f64::min) } else { poles.iter().map(|z| -z.re).fold(f64::INFINITY, f64::min) };
+        assert!(margin > 0.0, "{name}: scipy's closed loop is not stable (margin {margin})");
         let scale = a.norm().max(1.0) + b.norm() * want.norm();
         let tol = 1e2 * f64::EPSILON * scale / margin.max(f64::MIN_POSITIVE);
         worst = worst.max(err / want.norm() / tol);

@@ -427,9 +427,11 @@ fn random_plants_are_placed_accurately() {
                 }
                 // The reported κ₂(X) and |det X| describe the gain: with distinct poles the
                 // unit-column eigenvectors are unique up to phase, so both must agree with the
-                // recomputation. Each column is accurate to about κ_j ε ≤ κ₂(X) ε, which moves
-                // κ₂(X) and |det X| by at most about κ₂(X)² ε relative: 1e3 × that, floored at
-                // 1e-9, and compared only where that allows less than 1 % (else counted).
+                // recomputation. A working estimate (common practice; eigenvector errors depend
+                // on the gaps between eigenvalues, which κ₂(X) reflects): each computed column
+                // is off by about κ₂(X) ε, which moves κ₂(X) and |det X| by about κ₂(X)² ε
+                // relative. 1e3 × that, floored at 1e-9, and compared only where that allows less
+                // than 1 % (else counted).
                 let kappa = eigenvector_condition(&a, &b, &p);
                 let det = recomputed_abs_det(&a, &b, &p);
                 let agree = (1e3 * kappa * kappa * EPS).max(1e-9);

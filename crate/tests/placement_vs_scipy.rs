@@ -19,7 +19,7 @@ fn placement_matches_or_beats_scipy_on_every_fixture() {
     let mut report = Vec::new();
     let mut failures = Vec::new();
     let (mut error_compared, mut kappa_compared, mut ill_posed) = (0, 0, 0);
-    let (mut single_input, mut worst_single) = (0usize, 0.0f64);
+    let (mut single_input, mut worst_single, mut capped) = (0usize, 0.0f64, 0usize);
     let (mut worst_kappa_ratio, mut worst_error_ratio) = (0.0f64, 0.0f64);
     for case in cases {
         let name = case["name"].as_str().unwrap_or("?");
@@ -75,12 +75,16 @@ fn placement_matches_or_beats_scipy_on_every_fixture() {
                 failures.push(format!("{name}: κ₂(X) {kappa:.6e} > 1.05 × scipy {scipy_kappa:.6e}"));
             }
         }
-        // Single input: K is unique, K = e_nᵀ C⁻¹ p(A) with C = [b, Ab, …, Aⁿ⁻¹b] and p the
-        // requested characteristic polynomial (Ackermann's formula; Kailath, Linear Systems,
-        // 1980, from memory). Rounding of relative size ε in C and in the terms of p(A) moves K
-        // by about ε (κ₂(C) ‖K‖ + ‖C⁻¹‖₂ Σ|p_i| ‖A‖₂^i): that, times 100, relative to ‖K‖, is
-        // the allowed difference between two correct programs (computed here: nalgebra's SVD,
-        // the polynomial from the requested roots).
+        // Single input: K is unique, K = yᵀ p(A) with y = C⁻ᵀ e_n, C = [b, Ab, …, Aⁿ⁻¹b] and p
+        // the requested characteristic polynomial (Ackermann's formula; Kailath, Linear
+        // Systems, 1980, from memory). Rounding of relative size ε in C moves y by about
+        // ε κ₂(C) ‖y‖, and rounding in the terms of p(A) moves yᵀ p(A) by about ε ‖y‖ Σ|p_i| ‖A‖^i;
+        // with ‖y‖ ≤ ‖C⁻¹‖₂ and ‖p(A)‖ ≤ Σ|p_i| ‖A‖^i, K moves by at most about
+        // ε ‖C⁻¹‖₂ Σ|p_i| ‖A‖^i (κ₂(C) + 1). That, times 100, relative to ‖K‖, is the allowed
+        // difference between two correct programs (computed here: nalgebra's SVD, the
+        // polynomial from the requested roots). This a-priori bound is pessimistic on badly
+        // scaled plants (0.18 on the n = 8 case, whose gains differ by 3.2e-8): it is capped at
+        // 1e-6, the measured difference there times 30 (8 of the 20 are held to the cap; counted).
         if b.ncols() == 1 && a.nrows() <= 8 {
             let k_ref = matrix(&case["scipy"]["gain"]);
             let rel = (&p.gain - &k_ref).norm() / k_ref.norm().max(1e-300);
@@ -106,11 +110,13 @@ fn placement_matches_or_beats_scipy_on_every_fixture() {
             let a2 = a.singular_values().max();
             let terms: f64 = poly.iter().enumerate().map(|(i, c)| c.norm() * a2.powi((n - i) as i32)).sum();
             let k_norm = k_ref.norm().max(1e-300);
-            let tol = (100.0 * f64::EPSILON * (kappa_c + terms / sv.min() / k_norm)).max(1e-13);
+            let derived = (100.0 * f64::EPSILON * terms / sv.min() * (kappa_c + 1.0) / k_norm).max(1e-13);
+            let tol = derived.min(1e-6);
+            capped += usize::from(derived > 1e-6);
             single_input += 1;
             worst_single = worst_single.max(rel / tol);
             if !(rel <= tol) {
-                failures.push(format!("{name}: single-input K differs from scipy by {rel:.3e} relative > {tol:.1e} (100 ε κ₂(C), κ₂(C) = {kappa_c:.1e})"));
+                failures.push(format!("{name}: single-input K differs from scipy by {rel:.3e} relative > {tol:.1e} (Ackermann's rounding bound, κ₂(C) = {kappa_c:.1e})"));
             }
         }
         report.push(format!(
@@ -125,7 +131,7 @@ fn placement_matches_or_beats_scipy_on_every_fixture() {
         ));
     }
     let fallbacks = common::SCHUR_FALLBACKS.with(|c| c.get());
-    println!("single-input gains compared with scipy's: {single_input}, worst difference {worst_single:.2e} × the bound; worst κ₂ ratio to scipy {worst_kappa_ratio:.3}, worst pole error {worst_error_ratio:.2e} × its bound");
+    println!("single-input gains compared with scipy's: {single_input}, worst difference {worst_single:.2e} × the bound ({capped} held to the 1e-6 cap); worst κ₂ ratio to scipy {worst_kappa_ratio:.3}, worst pole error {worst_error_ratio:.2e} × its bound");
     println!("placement vs scipy: {} fixtures; error and κ₂ compared on {error_compared} and {kappa_compared}; {ill_posed} beyond double precision for both programs (κ₂ ≥ 1e14: finiteness and an honest report checked); nalgebra's Schur failed on {fallbacks} (Polewright's eigenvalues used there)", cases.len());
     if !failures.is_empty() {
         panic!("{} of {} fixtures failed:\n{}\n\nall:\n{}", failures.len(), cases.len(), failures.join("\n"), report.join("\n"));

@@ -42,7 +42,10 @@ fn third_order_textbook_example() {
     for (j, want) in expected.iter().enumerate() {
         assert!((p.gain[(0, j)] - want).abs() < 1e-10 * want, "{}", p.gain);
     }
-    assert!(recomputed_error(&a, &b, &p.gain, &[c(-2.0, 4.0), c(-2.0, -4.0), c(-10.0, 0.0)]) < 1e-12);
+    let error = recomputed_error(&a, &b, &p.gain, &[c(-2.0, 4.0), c(-2.0, -4.0), c(-10.0, 0.0)]);
+    assert!(error < 1e-12, "{error}");
+    // The report agrees with the recomputation (both at rounding level here).
+    assert!((p.max_pole_error - error).abs() < 1e-12, "reported {} vs {error}", p.max_pole_error);
     assert_eq!(p.iterations, 0);
 }
 

@@ -42,6 +42,7 @@ fn scalar_continuous_closed_form() {
         // The equation's residual from the returned x, relative to its terms.
         let residual = (2.0 * a * x - b * b / r * x * x + q).abs() / (2.0 * a.abs() * x + b * b / r * x * x + q).max(f64::MIN_POSITIVE);
         assert!(residual <= 1e-15, "residual {residual} (reported {})", sol.residual);
+        assert!(sol.residual <= 1e-15, "the reported residual agrees: {}", sol.residual);
     }
 }
 
@@ -114,6 +115,9 @@ fn discrete_unobservable_unstable_mode_uses_the_shifted_doubling() {
     // From the gain: eig(A − B K) (nalgebra's Schur) inside the unit circle.
     let poles = (&a - &d.gain).try_schur(f64::EPSILON, 10_000).expect("Schur").complex_eigenvalues();
     assert!(poles.iter().all(|z| z.norm() < 1.0), "{poles}");
+    // The reported residual and poles agree with the recomputation.
+    assert!(d.residual <= 1e-15, "residual {}", d.residual);
+    assert!(d.closed_loop_poles.iter().all(|z| poles.iter().any(|w| (w - z).norm() < 1e-12)), "{:?} vs {poles}", d.closed_loop_poles);
 }
 
 #[test]
