@@ -16,7 +16,6 @@ import {
   designNow,
   drag,
   massChainFields,
-  nextFrame,
   pageFileUrl,
   parseComplex,
   readGain,
@@ -24,6 +23,7 @@ import {
   screenshot,
   setFields,
   tableRows,
+  tableRowsAtFullPrecision,
   withPage,
 } from './harness.mjs';
 
@@ -51,16 +51,7 @@ async function poleItems(page) {
  * 5e-5 could not be seen.
  */
 async function placedPoles(page) {
-  const digits = await page.inputValue('#pw-digits');
-  if (digits !== '17') {
-    await page.selectOption('#pw-digits', '17');
-    await nextFrame(page);
-  }
-  const rows = await tableRows(page, 'pw-pole-table');
-  if (digits !== '17') {
-    await page.selectOption('#pw-digits', digits);
-    await nextFrame(page);
-  }
+  const rows = await tableRowsAtFullPrecision(page, 'pw-pole-table');
   return rows.map((r) => ({ requested: parseComplex(r[0]), achieved: parseComplex(r[1]) }));
 }
 

@@ -207,6 +207,24 @@ export async function colourCounts(page, id, hexes, tolerance = 12) {
   }, [id, hexes, tolerance]);
 }
 
+/**
+ * The rows of table `id` read at 17 significant digits: the Digits select is set to 17 and then
+ * restored, so that a difference below the display resolution can be seen.
+ */
+export async function tableRowsAtFullPrecision(page, id) {
+  const digits = await page.inputValue('#pw-digits');
+  if (digits !== '17') {
+    await page.selectOption('#pw-digits', '17');
+    await nextFrame(page);
+  }
+  const rows = await tableRows(page, id);
+  if (digits !== '17') {
+    await page.selectOption('#pw-digits', digits);
+    await nextFrame(page);
+  }
+  return rows;
+}
+
 /** Save a full-page screenshot under tests/artifacts/ (every canvas painted first). Returns its path. */
 export async function screenshot(page, name) {
   for (const id of await page.evaluate(() => [...document.querySelectorAll('canvas[data-waiting]')].map((c) => c.id))) await paintedInView(page, id);
