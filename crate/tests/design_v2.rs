@@ -47,6 +47,17 @@ mod recompute {
     pub fn c(re: f64, im: f64) -> Complex64 {
         Complex64::new(re, im)
     }
+
+    /// The loop with a one-sample computation delay, `[x; u_prev]⁺ = [[Φ, Γ], [−K, −K_u]] [x; u_prev]`.
+    pub fn delay_loop(phi: &DMatrix<f64>, gamma: &DMatrix<f64>, k: &DMatrix<f64>, ku: &DMatrix<f64>) -> DMatrix<f64> {
+        let (n, m) = (phi.nrows(), gamma.ncols());
+        let mut out = DMatrix::<f64>::zeros(n + m, n + m);
+        out.view_mut((0, 0), (n, n)).copy_from(phi);
+        out.view_mut((0, n), (n, m)).copy_from(gamma);
+        out.view_mut((n, 0), (m, n)).copy_from(&(-k));
+        out.view_mut((n, n), (m, m)).copy_from(&(-ku));
+        out
+    }
 }
 
 fn design(body: &str) -> Result<DesignResult, DesignError> {
@@ -200,11 +211,7 @@ fn computation_delay_and_current_observer() {
     let t = 0.02;
     let (phi, gamma) = recompute::zoh(&recompute::mat(&[vec![0.0, 1.0], vec![-4.0, -0.4]]), &recompute::mat(&[vec![0.0], vec![4.0]]), t);
     let (k, ku) = (recompute::mat(&r.feedback.gain), recompute::mat(r.feedback.delay_gain.as_ref().expect("delay gain")));
-    let mut m = nalgebra::DMatrix::<f64>::zeros(3, 3);
-    m.view_mut((0, 0), (2, 2)).copy_from(&phi);
-    m.view_mut((0, 2), (2, 1)).copy_from(&gamma);
-    m.view_mut((2, 0), (1, 2)).copy_from(&(-k));
-    m.view_mut((2, 2), (1, 1)).copy_from(&(-ku));
+    let m = recompute::delay_loop(&phi, &gamma, &k, &ku);
     let want = [(recompute::c(-4.0, 3.0) * t).exp(), (recompute::c(-4.0, -3.0) * t).exp(), recompute::c(0.1, 0.0)];
     let err = recompute::error(&want, &recompute::eig(&m));
     assert!(err < 1e-12, "delay loop poles miss by {err:.1e}");
@@ -385,11 +392,7 @@ fn delay_poles_at_the_origin_are_not_reported_as_misplaced() {
     let b4 = recompute::mat(&[vec![0.0], vec![0.4166666666666667], vec![0.0], vec![0.0]]);
     let (phi, gamma) = recompute::zoh(&a4, &b4, t);
     let (k, ku) = (recompute::mat(&r.feedback.gain), recompute::mat(r.feedback.delay_gain.as_ref().expect("delay gain")));
-    let mut m = nalgebra::DMatrix::<f64>::zeros(5, 5);
-    m.view_mut((0, 0), (4, 4)).copy_from(&phi);
-    m.view_mut((0, 4), (4, 1)).copy_from(&gamma);
-    m.view_mut((4, 0), (1, 4)).copy_from(&(-k));
-    m.view_mut((4, 4), (1, 1)).copy_from(&(-ku));
+    let m = recompute::delay_loop(&phi, &gamma, &k, &ku);
     let got = recompute::eig(&m);
     let at_origin = got.iter().map(|z| z.norm()).fold(f64::INFINITY, f64::min);
     assert!(at_origin < 1e-9, "{at_origin}");
