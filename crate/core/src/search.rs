@@ -112,8 +112,9 @@ impl std::fmt::Display for SearchError {
             SearchError::NeedsOutputs => write!(f, "reference-step situations need outputs (plant.c)"),
             SearchError::LimitsExceededAtSlowest { factor, ratio, situation, input } => write!(
                 f,
-                "even at the slowest speed factor {factor} situation {} needs {ratio:.3} times the limit of input {}: the limits are too tight for this pole pattern and these situations",
+                "even at the slowest speed factor {factor} situation {} needs {} the limit of input {}: the limits are too tight for this pole pattern and these situations",
                 situation + 1,
+                times(*ratio),
                 input + 1
             ),
             SearchError::Step { factor, message } => write!(f, "at speed factor {factor}: {message}"),
@@ -122,6 +123,18 @@ impl std::fmt::Display for SearchError {
 }
 
 impl std::error::Error for SearchError {}
+
+/// `ratio` as "N times", readable at any size: fixed with three decimals up to 1e6, then with an
+/// exponent (a peak can overflow the double range on an ill-conditioned request).
+fn times(ratio: f64) -> String {
+    if !ratio.is_finite() {
+        "an unbounded multiple of".to_string()
+    } else if ratio.abs() < 1e6 {
+        format!("{ratio:.3} times")
+    } else {
+        format!("{ratio:.3e} times")
+    }
+}
 
 /// Why the peak at the factor found is below 97 % of the limit.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]

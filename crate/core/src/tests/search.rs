@@ -26,7 +26,17 @@ fn too_tight_limits_and_bad_sizes() {
     let b = DMatrix::from_row_slice(2, 1, &[0.0, 1.0]);
     let pattern = [Complex64::new(-1.0, 1.0), Complex64::new(-1.0, -1.0)];
     let e = fastest_within_limits(&a, &b, None, &pattern, &[1e-9], &[Situation::InitialState(vec![1.0, 0.0])], SearchParams::default()).unwrap_err();
-    assert!(matches!(e, SearchError::LimitsExceededAtSlowest { .. }));
+    // At the slowest factor α = 0.01, K = [2α², 2α] and the peak from (1, 0) is |u(0)| = 2α² =
+    // 2e-4 (by hand): 2e5 times the limit 1e-9.
+    match &e {
+        SearchError::LimitsExceededAtSlowest { ratio, .. } => assert!((ratio - 2e5).abs() <= 1e-6 * 2e5, "{ratio}"),
+        other => panic!("{other:?}"),
+    }
+    assert!(e.to_string().contains("needs 200000.000 times the limit of input 1"), "{e}");
+    // Any size reads: an exponent beyond 1e6, words for an unbounded peak.
+    assert_eq!(times(2.5), "2.500 times");
+    assert_eq!(times(4.434e98), "4.434e98 times");
+    assert_eq!(times(f64::INFINITY), "an unbounded multiple of");
     let e = fastest_within_limits(&a, &b, None, &pattern, &[1.0], &[Situation::InitialState(vec![1.0])], SearchParams::default()).unwrap_err();
     assert!(matches!(e, SearchError::Size { .. }));
     let e = fastest_within_limits(&a, &b, None, &pattern, &[1.0], &[Situation::ReferenceStep(vec![1.0])], SearchParams::default()).unwrap_err();
