@@ -2,6 +2,8 @@
 //! digital implementation. Outside references are named beside each check.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
+mod common;
+
 use polewright::design::{run_text, DesignError, DesignResult};
 
 /// Recomputation on the test's side, with nalgebra only (nothing from Polewright): eigenvalues
@@ -30,18 +32,13 @@ mod recompute {
         (e.view((0, 0), (n, n)).into_owned(), e.view((0, n), (n, m)).into_owned())
     }
 
-    /// Largest `|λ − w| / max(1, |w|)` over a greedy one-to-one matching (closest pairs first).
+    /// Largest `|λ − w| / max(1, |w|)` over the one-to-one matching of the fixtures' rule
+    /// ([`crate::common::assignment`]).
     pub fn error(want: &[Complex64], got: &[Complex64]) -> f64 {
         assert_eq!(want.len(), got.len(), "pole counts: want {want:?}, got {got:?}");
-        let mut pairs: Vec<(f64, usize, usize)> = want.iter().enumerate().flat_map(|(i, w)| got.iter().enumerate().map(move |(j, g)| ((w - g).norm() / w.norm().max(1.0), i, j))).collect();
-        pairs.sort_by(|x, y| x.0.total_cmp(&y.0));
-        let (mut used_i, mut used_j, mut worst) = (vec![false; want.len()], vec![false; got.len()], 0.0f64);
-        for (e, i, j) in pairs {
-            if !used_i[i] && !used_j[j] {
-                (used_i[i], used_j[j], worst) = (true, true, worst.max(e));
-            }
-        }
-        worst
+        let cost = DMatrix::from_fn(want.len(), got.len(), |i, j| (want[i] - got[j]).norm() / want[i].norm().max(1.0));
+        let pick = crate::common::assignment(&cost);
+        (0..want.len()).map(|i| cost[(i, pick[i])]).fold(0.0, f64::max)
     }
 
     pub fn c(re: f64, im: f64) -> Complex64 {
