@@ -320,9 +320,6 @@ pub struct MultiloopDisk {
 
 /// The multiloop disk margin of skew `skew`, given `S` at each frequency of `grid`.
 pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<Complex64>>, skew: f64) -> MultiloopDisk {
-    if grid.is_empty() {
-        return MultiloopDisk { alpha: 0.0, frequency: 0.0, alpha_upper: f64::INFINITY, exact: false };
-    }
     let shifted = |w: f64| -> Option<DMatrix<Complex64>> {
         sensitivity(w).map(|mut s| {
             for i in 0..s.nrows() {
@@ -331,69 +328,106 @@ pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<
             s
         })
     };
-    // Level 0 at every grid frequency: the better of Osborne's scaling and the previous
-    // frequency's (one or two σ̄ each). Any scaling bounds μ from above, so the levels only
-    // decide which frequencies need more work.
+    let levels = level_zero(grid, &shifted);
+    let Some(found) = grid_peak(&levels) else {
+        return MultiloopDisk { alpha: 0.0, frequency: 0.0, alpha_upper: f64::INFINITY, exact: false };
+    };
+    let (peak, at) = refine_between(grid, found, &shifted);
+    let lower = shifted(at).map_or(0.0, |m| mu_lower_bound(&m));
+    let alpha = if peak > 0.0 { 1.0 / peak } else { f64::INFINITY };
+    let exact = peak.is_finite() && lower > 0.0 && peak - lower <= EXACT_GAP * peak;
+    MultiloopDisk { alpha, frequency: at, alpha_upper: if lower > 0.0 { 1.0 / lower } else { f64::INFINITY }, exact }
+}
+
+/// The bound at one grid frequency: `M(ω)` (`None` when it could not be evaluated), level 0
+/// and the scaling that gave it.
+struct GridBound {
+    frequency: f64,
+    level0: f64,
+    scaling: Vec<f64>,
+    m: Option<DMatrix<Complex64>>,
+}
+
+/// The largest bound found so far: its value, grid index and minimising scaling.
+struct Peak {
+    value: f64,
+    frequency: f64,
+    index: usize,
+    scaling: Vec<f64>,
+}
+
+/// Level 0 at every grid frequency: the better of Osborne's scaling and the previous
+/// frequency's (one or two σ̄ each). Any scaling bounds μ from above, so the levels only
+/// decide which frequencies need more work.
+fn level_zero(grid: &[f64], shifted: &dyn Fn(f64) -> Option<DMatrix<Complex64>>) -> Vec<GridBound> {
     let mut warm: Option<Vec<f64>> = None;
-    let cheap: Vec<(f64, f64, Vec<f64>, Option<DMatrix<Complex64>>)> = grid
-        .iter()
+    grid.iter()
         .map(|&w| {
             let Some(m) = shifted(w) else {
-                return (w, f64::INFINITY, Vec::new(), None);
+                return GridBound { frequency: w, level0: f64::INFINITY, scaling: Vec::new(), m: None };
             };
             let (v, x) = minimise_bound(&m, warm.as_deref(), 0.05, 0, 0, 1e-6);
             warm = Some(x.clone());
-            (w, v, x, Some(m))
+            GridBound { frequency: w, level0: v, scaling: x, m: Some(m) }
         })
-        .collect();
-    // The frequency of the largest level 0 is minimised fully: its value `p₀` is a lower
-    // bound of the peak, so only frequencies whose level 0 exceeds `p₀` (beyond the pruning
-    // tolerance) can hold it. Those get a short minimisation (level 1, warm-started from
-    // level 0), and are then refined fully in decreasing order of level 1 until level 1 can
-    // no longer beat the refined peak (a branch-and-bound: no grid frequency that could hold
-    // the peak is skipped).
+        .collect()
+}
+
+/// The grid peak of the fully minimised bound. The frequency of the largest level 0 is
+/// minimised fully: its value `p₀` is a lower bound of the peak, so only frequencies whose
+/// level 0 exceeds `p₀` (beyond the pruning tolerance) can hold it. Those get a short
+/// minimisation (level 1, warm-started from level 0), and are then refined fully in
+/// decreasing order of level 1 until level 1 can no longer beat the refined peak (a
+/// branch-and-bound: no grid frequency that could hold the peak is skipped). `None` for an
+/// empty grid.
+fn grid_peak(levels: &[GridBound]) -> Option<Peak> {
     let full = |i: usize, from: &[f64]| -> (f64, Vec<f64>) {
-        match &cheap[i].3 {
+        match &levels[i].m {
             Some(m) => minimise_bound(m, Some(from), 0.2, 3, 100, 1e-10),
             None => (f64::INFINITY, from.to_vec()),
         }
     };
-    let Some(first) = (0..cheap.len()).max_by(|&a, &b| cheap[a].1.total_cmp(&cheap[b].1)) else {
-        return MultiloopDisk { alpha: 0.0, frequency: 0.0, alpha_upper: f64::INFINITY, exact: false };
-    };
-    let (v, x) = full(first, &cheap[first].2);
-    let (mut peak, mut at, mut at_index, mut scaling) = (v.min(cheap[first].1), cheap[first].0, first, x);
-    let mut candidates: Vec<(usize, f64, Vec<f64>)> = (0..cheap.len())
-        .filter(|&i| i != first && cheap[i].1 > peak * (1.0 + PRUNE_TOLERANCE))
-        .map(|i| match &cheap[i].3 {
+    let first = (0..levels.len()).max_by(|&a, &b| levels[a].level0.total_cmp(&levels[b].level0))?;
+    let (v, x) = full(first, &levels[first].scaling);
+    let mut peak = Peak { value: v.min(levels[first].level0), frequency: levels[first].frequency, index: first, scaling: x };
+    let mut candidates: Vec<(usize, f64, Vec<f64>)> = (0..levels.len())
+        .filter(|&i| i != first && levels[i].level0 > peak.value * (1.0 + PRUNE_TOLERANCE))
+        .map(|i| match &levels[i].m {
             Some(m) => {
-                let (v, x) = minimise_bound(m, Some(&cheap[i].2), 0.05, 1, 40, 1e-6);
-                (i, v.min(cheap[i].1), x)
+                let (v, x) = minimise_bound(m, Some(&levels[i].scaling), 0.05, 1, 40, 1e-6);
+                (i, v.min(levels[i].level0), x)
             }
             None => (i, f64::INFINITY, Vec::new()),
         })
         .collect();
     candidates.sort_by(|a, b| b.1.total_cmp(&a.1));
     for (done, (i, level1, x1)) in candidates.into_iter().enumerate() {
-        if level1 <= peak * (1.0 + PRUNE_TOLERANCE) {
+        if level1 <= peak.value * (1.0 + PRUNE_TOLERANCE) {
             break;
         }
         if done + 1 >= MAX_REFINED {
             // Out of budget: the level-1 bound of the rest still bounds μ (a smaller, safe α).
-            peak = peak.max(level1);
+            peak.value = peak.value.max(level1);
             break;
         }
         let (v, x) = full(i, &x1);
         let v = v.min(level1);
-        if v > peak {
-            (peak, at, at_index, scaling) = (v, cheap[i].0, i, x);
+        if v > peak.value {
+            peak = Peak { value: v, frequency: levels[i].frequency, index: i, scaling: x };
         }
     }
-    // Refine between the grid neighbours: golden section on σ̄(D M(ω) D⁻¹) with the scaling D
-    // held at the last minimiser (one σ̄ per step; any D bounds μ, and by the envelope theorem
-    // the held-D function is stationary where the minimised bound is when D is the minimiser
-    // there), then the bound minimised at the point found, which gives the next D; twice.
-    let (mut lo, mut hi) = (grid[at_index.saturating_sub(1)], grid[(at_index + 1).min(grid.len() - 1)]);
+    Some(peak)
+}
+
+/// Refines the grid peak between its grid neighbours: golden section on `σ̄(D M(ω) D⁻¹)` with
+/// the scaling `D` held at the last minimiser (one σ̄ per step; any `D` bounds μ, and by the
+/// envelope theorem the held-`D` function is stationary where the minimised bound is when `D`
+/// is the minimiser there), then the bound minimised at the point found, which gives the next
+/// `D`; [`PEAK_PASSES`] times, each in a bracket a tenth as wide. Never lowers the grid peak:
+/// `(value, frequency)`.
+fn refine_between(grid: &[f64], found: Peak, shifted: &dyn Fn(f64) -> Option<DMatrix<Complex64>>) -> (f64, f64) {
+    let Peak { value: mut peak, frequency: mut at, index, mut scaling } = found;
+    let (mut lo, mut hi) = (grid[index.saturating_sub(1)], grid[(index + 1).min(grid.len() - 1)]);
     for _ in 0..PEAK_PASSES {
         if !(hi > lo) {
             break;
@@ -401,20 +435,15 @@ pub fn multiloop_disk(grid: &[f64], sensitivity: &dyn Fn(f64) -> Option<DMatrix<
         let held = |w: f64| shifted(w).map(|m| if m.nrows() > 1 && scaling.len() + 1 == m.nrows() { bound_at(&m, &scaling) } else { sigma_max(&m) });
         let (w, _) = super::refine_max(&held, lo, hi);
         let Some(m) = shifted(w) else {
-            (peak, at) = (f64::INFINITY, w);
-            break;
+            return (f64::INFINITY, w);
         };
         let (v, x) = minimise_bound(&m, Some(&scaling), 0.2, 3, 100, 1e-10);
         if v > peak {
             (peak, at) = (v, w);
         }
         scaling = x;
-        // The next pass searches a bracket a tenth as wide about the point found.
         let half = 0.05 * (hi - lo);
         (lo, hi) = ((w - half).max(lo), (w + half).min(hi));
     }
-    let lower = shifted(at).map_or(0.0, |m| mu_lower_bound(&m));
-    let alpha = if peak > 0.0 { 1.0 / peak } else { f64::INFINITY };
-    let exact = peak.is_finite() && lower > 0.0 && peak - lower <= EXACT_GAP * peak;
-    MultiloopDisk { alpha, frequency: at, alpha_upper: if lower > 0.0 { 1.0 / lower } else { f64::INFINITY }, exact }
+    (peak, at)
 }
