@@ -82,16 +82,65 @@ impl std::error::Error for ShiftedSigmaError {}
 pub struct ShiftedPair {
     h: DMatrix<f64>,
     bt: DMatrix<f64>,
+    /// The orthogonal factor of the reduction (`A = Q H Qᵀ`).
+    q: DMatrix<f64>,
+}
+
+/// A right rotation of [`ShiftedPair::fold`]: it acted on column `i` of `T` and column `j` of
+/// `C` as `[[conj(a), −b], [conj(b), a]]` (`a`, `b` unit-normalised).
+#[derive(Debug, Clone, Copy)]
+struct RightRotation {
+    i: usize,
+    j: usize,
+    a: Complex64,
+    b: Complex64,
 }
 
 impl ShiftedPair {
     /// Reduces `A` to Hessenberg form and carries `B` along.
     pub fn new(a: &DMatrix<f64>, b: &DMatrix<f64>) -> ShiftedPair {
         if a.nrows() == 0 {
-            return ShiftedPair { h: a.clone(), bt: b.clone() };
+            return ShiftedPair { h: a.clone(), bt: b.clone(), q: a.clone() };
         }
         let (q, h) = a.clone().hessenberg().unpack();
-        ShiftedPair { h, bt: q.transpose() * b }
+        ShiftedPair { h, bt: q.transpose() * b, q }
+    }
+
+    /// An orthonormal basis (`n × m`) of the `x` parts of the null space of `[A − λI, B]`:
+    /// `{x : (A − λI) x ∈ range B}` when `B` has full column rank and `λ` is a controllable
+    /// mode, the admissible eigenvector subspace of pole placement.
+    ///
+    /// The right rotations of [`ShiftedPair::fold`] make `[H − λI, B̃] P = [R, 0]` (`P`
+    /// unitary; the left rotations do not change the null space), so the null space of
+    /// `[H − λI, B̃]` is spanned by the last `m` columns of `P`, formed by applying the recorded
+    /// rotations in reverse to `[0; I]` (`O(n m²)`); `x = Q (first n rows)`, orthonormalised by
+    /// classical Gram–Schmidt applied twice (Giraud, Langou, Rozložník & van den Eshof,
+    /// "Rounding error analysis of the classical Gram–Schmidt orthogonalization process",
+    /// Numer. Math. 101, 2005). Cost per shift: the fold's `O(n² + n² m)` plus `2 n² m` for
+    /// `Q`. The `x` parts are well conditioned when `‖B̃‖`'s columns are orthonormal and scaled
+    /// to `‖A − λI‖` (then `‖w‖ ≤ ‖x‖` for a null vector `(x, w)`): the caller passes such a
+    /// `B`. `None` when a value is not finite or the `x` parts are rank deficient (the caller
+    /// then uses a full QR).
+    pub fn admissible_basis(&self, lambda: Complex64) -> Option<DMatrix<Complex64>> {
+        let (n, m) = (self.h.nrows(), self.bt.ncols());
+        let mut rotations = Vec::with_capacity(n * m);
+        let r = self.fold(lambda, Some(&mut rotations));
+        if r.iter().any(|z| !(z.re.is_finite() && z.im.is_finite())) {
+            return None;
+        }
+        // P [0; I]: the rotations in reverse order, on rows i (of the x part) and n + j.
+        let mut e = DMatrix::<Complex64>::zeros(n + m, m);
+        for j in 0..m {
+            e[(n + j, j)] = Complex64::new(1.0, 0.0);
+        }
+        for rot in rotations.iter().rev() {
+            for col in 0..m {
+                let (x, y) = (e[(rot.i, col)], e[(n + rot.j, col)]);
+                e[(rot.i, col)] = rot.a.conj() * x - rot.b * y;
+                e[(n + rot.j, col)] = rot.b.conj() * x + rot.a * y;
+            }
+        }
+        orthonormal_columns(real_times_complex(&self.q, &e.rows(0, n).into_owned()))
     }
 
     /// `σ_min([A − λI, B])`.
@@ -103,7 +152,7 @@ impl ShiftedPair {
         if n == 0 {
             return Ok(0.0);
         }
-        let r = self.triangular_factor(lambda);
+        let r = self.fold(lambda, None);
         if r.iter().any(|z| !(z.re.is_finite() && z.im.is_finite())) {
             return Err(ShiftedSigmaError::NotFinite);
         }
@@ -113,8 +162,9 @@ impl ShiftedPair {
         inverse_iteration(&r, params)
     }
 
-    /// `R` (upper triangular) with `σ(R) = σ([H − λI, B̃])`.
-    fn triangular_factor(&self, lambda: Complex64) -> DMatrix<Complex64> {
+    /// `R` (upper triangular) with `σ(R) = σ([H − λI, B̃])`; the right rotations are recorded
+    /// in `record` when given.
+    fn fold(&self, lambda: Complex64, mut record: Option<&mut Vec<RightRotation>>) -> DMatrix<Complex64> {
         let n = self.h.nrows();
         let m = self.bt.ncols();
         let mut t = DMatrix::<Complex64>::from_fn(n, n, |i, j| Complex64::new(self.h[(i, j)], 0.0) - if i == j { lambda } else { Complex64::new(0.0, 0.0) });
@@ -153,10 +203,42 @@ impl ShiftedPair {
                 }
                 t[(i, i)] = Complex64::new(r, 0.0);
                 c[(i, j)] = Complex64::new(0.0, 0.0);
+                if let Some(list) = record.as_deref_mut() {
+                    list.push(RightRotation { i, j, a: ca, b: cb });
+                }
             }
         }
         t
     }
+}
+
+/// `A S` for a real `A` and a complex `S`, as two real products (`A Re S`, `A Im S`): real
+/// matrix products take the blocked kernel, complex ones a generic loop.
+pub fn real_times_complex(a: &DMatrix<f64>, s: &DMatrix<Complex64>) -> DMatrix<Complex64> {
+    let re = a * s.map(|z| z.re);
+    let im = a * s.map(|z| z.im);
+    DMatrix::from_fn(a.nrows(), s.ncols(), |i, j| Complex64::new(re[(i, j)], im[(i, j)]))
+}
+
+/// The columns of `x` made orthonormal by classical Gram–Schmidt applied twice; `None` when a
+/// column loses more than all but `1e-8` of its norm to the previous ones (rank deficient).
+fn orthonormal_columns(mut x: DMatrix<Complex64>) -> Option<DMatrix<Complex64>> {
+    for j in 0..x.ncols() {
+        let before = x.column(j).norm();
+        for _ in 0..2 {
+            for k in 0..j {
+                let dot = x.column(k).dotc(&x.column(j));
+                let qk = x.column(k).into_owned();
+                x.column_mut(j).axpy(-dot, &qk, Complex64::new(1.0, 0.0));
+            }
+        }
+        let after = x.column(j).norm();
+        if !(after > 1e-8 * before) || !after.is_finite() {
+            return None;
+        }
+        x.column_mut(j).unscale_mut(after);
+    }
+    Some(x)
 }
 
 /// The unit rotation taking `(a, b)` to `(r, 0)`: `(a/r, b/r, r)`, `None` when both vanish.

@@ -108,3 +108,64 @@ fn two_equal_smallest_singular_values_are_settled() {
     let s = pair.smallest_singular_value(lambda, ShiftedSigmaParams::default()).expect("a double singular value is an invariant subspace: one step lands in it");
     assert!((s - 0.001).abs() < 1e-12, "{s}");
 }
+
+/// The null space of `[A − λI, B]`'s `x` part from nalgebra's complex SVD of
+/// `(I − U Uᴴ)(A − λI)`: the right singular vectors of its `m` smallest singular values
+/// (`U` an orthonormal basis of range `B`, from nalgebra's QR), as the projector `S Sᴴ`.
+fn reference_projector(a: &DMatrix<f64>, b: &DMatrix<f64>, lambda: Complex64) -> DMatrix<Complex64> {
+    let (n, m) = (a.nrows(), b.ncols());
+    let u = b.clone().qr().q().map(|v| Complex64::new(v, 0.0));
+    let shifted = DMatrix::<Complex64>::from_fn(n, n, |i, j| Complex64::new(a[(i, j)], 0.0) - if i == j { lambda } else { Complex64::new(0.0, 0.0) });
+    let outside = &shifted - &u * (u.adjoint() * &shifted);
+    let svd = outside.svd(false, true);
+    let vt = svd.v_t.unwrap();
+    let mut order: Vec<usize> = (0..n).collect();
+    order.sort_by(|&i, &j| svd.singular_values[i].total_cmp(&svd.singular_values[j]));
+    let s = DMatrix::<Complex64>::from_fn(n, m, |i, k| vt[(order[k], i)].conj());
+    &s * s.adjoint()
+}
+
+#[test]
+fn admissible_basis_spans_the_null_space_of_the_pencil() {
+    let mut rng = Seeded(0xAD41_5518);
+    let (mut compared, mut worst) = (0, 0.0f64);
+    for (n, m) in [(3, 1), (5, 2), (8, 3), (12, 2), (20, 4), (40, 3), (70, 4), (100, 5)] {
+        let a = DMatrix::from_fn(n, n, |_, _| rng.next());
+        let b = DMatrix::from_fn(n, m, |_, _| rng.next());
+        // Orthonormal columns scaled to ‖A − λI‖, as the placement passes them.
+        let u = b.clone().qr().q();
+        for lambda in [Complex64::new(-0.7, 0.0), Complex64::new(-0.3, 1.1), Complex64::new(2.5, -0.4)] {
+            let scale = a.norm() + lambda.norm();
+            let pair = ShiftedPair::new(&a, &(&u * scale));
+            let s = pair.admissible_basis(lambda).expect("a controllable pencil");
+            assert_eq!(s.shape(), (n, m));
+            // Orthonormal, and the same subspace as the SVD's (projectors compared).
+            let gram_error = (s.adjoint() * &s - DMatrix::<Complex64>::identity(m, m)).norm();
+            let projector_error = (&s * s.adjoint() - reference_projector(&a, &b, lambda)).norm();
+            worst = worst.max(projector_error);
+            // Both are backward stable: rounding of a few n ε; the SVD's gap (the m-th smallest
+            // singular value of an n × n random matrix, ≳ 1/n) may amplify it by n: 1e-10.
+            assert!(gram_error <= 1e-13, "n {n}, λ {lambda}: SᴴS − I = {gram_error:.2e}");
+            assert!(projector_error <= 1e-10, "n {n}, m {m}, λ {lambda}: projectors differ by {projector_error:.2e}");
+            compared += 1;
+        }
+    }
+    assert_eq!(compared, 24);
+    eprintln!("admissible basis against the SVD's null space: {compared} pencils, worst projector difference {worst:.2e}");
+}
+
+#[test]
+fn admissible_basis_with_one_input_and_an_uncontrollable_shift() {
+    // A = diag(1, 2), B = e₁: at λ = 2 the mode is uncontrollable, the null space of
+    // [A − 2I, B] has dimension 2, and any x with (A − 2I) x ∈ span e₁ is admissible: every x.
+    // The basis returned is one unit vector, admissible: (A − 2I) x has no e₂ part.
+    let a = DMatrix::from_row_slice(2, 2, &[1.0, 0.0, 0.0, 2.0]);
+    let b = DMatrix::from_row_slice(2, 1, &[1.0, 0.0]);
+    let pair = ShiftedPair::new(&a, &(&b * 3.0));
+    let s = pair.admissible_basis(Complex64::new(2.0, 0.0)).unwrap();
+    let v = DMatrix::from_fn(2, 1, |i, _| Complex64::new(a[(i, i)] - 2.0, 0.0) * s[(i, 0)]);
+    assert!(v[(1, 0)].norm() <= 1e-15 && (s.column(0).norm() - 1.0).abs() <= 1e-15, "{s}");
+    // At λ = −1 (controllable): (A + I) x ∈ span e₁ forces x₂ = 0: the basis is ±e₁ up to phase.
+    let s = pair.admissible_basis(Complex64::new(-1.0, 0.0)).unwrap();
+    assert!((s[(0, 0)].norm() - 1.0).abs() <= 1e-15 && s[(1, 0)].norm() <= 1e-15, "{s}");
+}
