@@ -159,10 +159,12 @@ pub fn closed_loop_response(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>
     let mut x = spec.initial_state.clone();
     let bound = 1e100 * (1.0 + x.norm());
     let mut diverged = false;
+    // Buffers reused by every step (matrix–vector products into place, no allocation).
+    let (mut u_cmd, mut u, mut next) = (DVector::<f64>::zeros(m), DVector::<f64>::zeros(m), DVector::<f64>::zeros(n));
     for step in 0..=steps {
-        let u_cmd = -(k * &x);
+        u_cmd.gemv(-1.0, k, &x, 0.0);
         let mut clipped = false;
-        let mut u = u_cmd.clone();
+        u.copy_from(&u_cmd);
         for i in 0..m {
             if let Some(l) = limits[i] {
                 if u[i] > l {
@@ -185,7 +187,13 @@ pub fn closed_loop_response(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>
         if step == steps {
             break;
         }
-        x = if clipped { &phi * &x + &gamma * &u } else { &phi_cl * &x };
+        if clipped {
+            next.gemv(1.0, &phi, &x, 0.0);
+            next.gemv(1.0, &gamma, &u, 1.0);
+        } else {
+            next.gemv(1.0, &phi_cl, &x, 0.0);
+        }
+        std::mem::swap(&mut x, &mut next);
         if !(x.norm() <= bound) {
             diverged = true;
             break;
