@@ -7,6 +7,7 @@
 //! largest singular values of `S` and `T` over frequency give the sensitivity peaks and the
 //! frequency-response table.
 
+use nalgebra::DMatrix;
 use num_complex::Complex64;
 
 use super::gains::Gains;
@@ -17,10 +18,6 @@ use crate::result::{AllInputsMargin, ClassicalMargins, DiskMargin, FrequencyResp
 
 /// Frequencies in the logarithmic part of the grid.
 const GRID_POINTS: usize = 240;
-
-/// Frequencies in the logarithmic part of the all-inputs grid (each costs a minimisation; the
-/// peak is then refined between its neighbours, and the closed-loop poles' frequencies are in).
-const MULTILOOP_GRID_POINTS: usize = 120;
 
 /// Largest number of frequencies kept in the result's frequency-response table.
 const TABLE_POINTS: usize = 200;
@@ -68,13 +65,30 @@ fn peaks_at(ev: &crate::margins::Evaluator, w: f64) -> Option<(f64, f64)> {
     Some((sigma_max(&sm), sigma_max(&tm)))
 }
 
-/// The all-inputs disk margin of skew `skew`.
-fn all_inputs(model: &LoopModel, poles: &[Complex64], ev: &crate::margins::Evaluator, per_input: &[InputMarginResult], skew: f64) -> Option<AllInputsMargin> {
+/// The grid shared by every margin, with `S` and `T` at each of its frequencies.
+struct Scan<'a> {
+    grid: &'a [f64],
+    values: &'a [Option<(DMatrix<Complex64>, DMatrix<Complex64>)>],
+}
+
+impl Scan<'_> {
+    /// `S` at `w`: from the scan at a grid frequency, evaluated elsewhere.
+    fn sensitivity(&self, ev: &crate::margins::Evaluator, w: f64) -> Option<DMatrix<Complex64>> {
+        match self.grid.binary_search_by(|g| g.total_cmp(&w)) {
+            Ok(k) => self.values[k].as_ref().map(|(s, _)| s.clone()),
+            Err(_) => ev.sensitivity(w).ok(),
+        }
+    }
+}
+
+/// The all-inputs disk margin of skew `skew`, on the shared grid (the peak is then refined
+/// between its neighbours; the closed-loop poles' frequencies are in the grid).
+fn all_inputs(scan: &Scan, ev: &crate::margins::Evaluator, per_input: &[InputMarginResult], skew: f64) -> Option<AllInputsMargin> {
     Some(match per_input {
         // One input: all inputs at once is that input's loop, exactly.
         [one] if one.disk_skew_is(skew) => AllInputsMargin { disk: one.disk, accuracy: MultiloopAccuracy::Exact, disk_margin_at_most: Some(one.disk.disk_margin) },
         _ => {
-            let all = multiloop_disk(&model.grid_for_poles(poles, MULTILOOP_GRID_POINTS), &|w| ev.sensitivity(w).ok(), skew);
+            let all = multiloop_disk(scan.grid, &|w| scan.sensitivity(ev, w), skew);
             AllInputsMargin {
                 disk: disk(all.alpha, skew, all.frequency),
                 accuracy: if all.exact { MultiloopAccuracy::Exact } else { MultiloopAccuracy::Bound },
@@ -110,9 +124,10 @@ pub(super) fn margins(s: &Setup, g: &Gains) -> Option<MarginsResult> {
             },
         })
         .collect();
-    let all = all_inputs(&model, &poles, &ev, &per_input, skew)?;
+    let shared = Scan { grid: &grid, values: &scan };
+    let all = all_inputs(&shared, &ev, &per_input, skew)?;
     // The common-practice verdict is on the symmetric disk, whatever skew is shown.
-    let symmetric = if skew == 0.0 { all.disk } else { all_inputs(&model, &poles, &ev, &per_input, 0.0)?.disk };
+    let symmetric = if skew == 0.0 { all.disk } else { all_inputs(&shared, &ev, &per_input, 0.0)?.disk };
     let mut table = FrequencyResponse::default();
     let every = grid.len().div_ceil(TABLE_POINTS).max(1);
     let (mut s_values, mut t_values) = (Vec::with_capacity(grid.len()), Vec::with_capacity(grid.len()));
