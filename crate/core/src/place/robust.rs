@@ -59,7 +59,7 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
     // One Hessenberg reduction serves every pole ([`ShiftedPair::admissible_basis`]), with U_r
     // scaled to ‖A − λI‖'s size so that the bases come out well conditioned.
     let scale = a.norm() + ordered.iter().map(|z| z.norm()).fold(0.0, f64::max);
-    let fast = ShiftedPair::new(a, &(&ur * scale.max(f64::MIN_POSITIVE)));
+    let fast = (n >= FAST_SUBSPACE_MIN_ORDER).then(|| ShiftedPair::new(a, &(&ur * scale.max(f64::MIN_POSITIVE))));
     let mut subspaces: Vec<DMatrix<Complex64>> = Vec::with_capacity(slots.len());
     let mut cache: Vec<(Complex64, usize)> = Vec::new();
     for slot in &slots {
@@ -71,7 +71,7 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
             subspaces.push(s);
             continue;
         }
-        let s = admissible_subspace(a, &u1, lambda, r, &fast, &ur);
+        let s = admissible_subspace(a, &u1, lambda, r, fast.as_ref(), &ur);
         cache.push((lambda, subspaces.len()));
         subspaces.push(s);
     }
@@ -548,15 +548,12 @@ const SUBSPACE_RESIDUAL_FACTOR: f64 = 10.0;
 /// The admissible subspace of `λ`, `null(U₁ᵀ (A − λ I))`, `n × r`, orthonormal columns: from
 /// [`FAST_SUBSPACE_MIN_ORDER`] states on [`ShiftedPair::admissible_basis`] (`O(n² r)` after the
 /// shared reduction), kept when its residual is at rounding level, else the QR route.
-fn admissible_subspace(a: &DMatrix<f64>, u1: &DMatrix<f64>, lambda: Complex64, r: usize, fast: &ShiftedPair, ur: &DMatrix<f64>) -> DMatrix<Complex64> {
+fn admissible_subspace(a: &DMatrix<f64>, u1: &DMatrix<f64>, lambda: Complex64, r: usize, fast: Option<&ShiftedPair>, ur: &DMatrix<f64>) -> DMatrix<Complex64> {
     let n = a.nrows();
     if u1.ncols() == 0 {
         return DMatrix::identity(n, n);
     }
-    if n < FAST_SUBSPACE_MIN_ORDER {
-        return admissible_subspace_by_qr(a, u1, lambda, r);
-    }
-    if let Some(s) = fast.admissible_basis(lambda) {
+    if let Some(s) = fast.and_then(|f| f.admissible_basis(lambda)) {
         // Checked: the part of (A − λI) S outside range B, relative to ‖A‖_F + |λ|. Both routes
         // leave about 1e-16 (n = 20 … 50, measured); 10 n ε allows fifty times that.
         let mut v = real_times_complex(a, &s);
