@@ -188,7 +188,7 @@ pub struct LoopResponse {
 
 impl LoopResponse {
     fn new(n: usize, m: usize, p: usize, q: usize, qi: usize, capacity: usize) -> Self {
-        let series = |k: usize| vec![Vec::with_capacity(capacity); k];
+        let series = |k: usize| (0..k).map(|_| Vec::with_capacity(capacity)).collect::<Vec<_>>();
         LoopResponse {
             time: Vec::with_capacity(capacity),
             outputs: series(p),

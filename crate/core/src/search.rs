@@ -437,8 +437,8 @@ fn sampled_response(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>, x0: &D
     let closed = a - b * k;
     let mut x = x0.clone();
     let mut time = Vec::with_capacity(samples + 1);
-    let mut states = vec![Vec::with_capacity(samples + 1); n];
-    let mut commanded = vec![Vec::with_capacity(samples + 1); m];
+    let mut states = (0..n).map(|_| Vec::with_capacity(samples + 1)).collect::<Vec<_>>();
+    let mut commanded = (0..m).map(|_| Vec::with_capacity(samples + 1)).collect::<Vec<_>>();
     let bound = 1e100 * (1.0 + x.norm());
     for step in 0..=samples {
         let u = -(k * &x);

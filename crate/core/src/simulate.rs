@@ -153,9 +153,9 @@ pub fn closed_loop_response(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>
     let (phi, gamma) = if any_limit { try_zero_order_hold(a, b, h).map_err(SimulationError::Expm)? } else { (DMatrix::zeros(0, 0), DMatrix::zeros(0, 0)) };
 
     let mut time = Vec::with_capacity(steps + 1);
-    let mut states = vec![Vec::with_capacity(steps + 1); n];
-    let mut inputs = vec![Vec::with_capacity(steps + 1); m];
-    let mut commanded = vec![Vec::with_capacity(steps + 1); m];
+    let mut states = (0..n).map(|_| Vec::with_capacity(steps + 1)).collect::<Vec<_>>();
+    let mut inputs = (0..m).map(|_| Vec::with_capacity(steps + 1)).collect::<Vec<_>>();
+    let mut commanded = (0..m).map(|_| Vec::with_capacity(steps + 1)).collect::<Vec<_>>();
     let mut x = spec.initial_state.clone();
     let bound = 1e100 * (1.0 + x.norm());
     let mut diverged = false;
