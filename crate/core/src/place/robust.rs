@@ -5,7 +5,7 @@
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
 
-use super::{max_matching_error, Branch, Core, Eigenvectors, PlacementError, PlacementMethod, PlacementParams, Slot};
+use super::{max_matching_error, Branch, Core, Eigenvectors, PlacementError, PlacementMethod, PlacementParams, Slot, LARGE_PLANT_ORDER};
 use crate::linalg::eigen::{balancing_scale, try_eigenvalues};
 use crate::linalg::qr::{full_qr, trailing_q_columns};
 use crate::linalg::shifted_sigma::{real_times_complex, ShiftedPair};
@@ -59,7 +59,7 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
     // One Hessenberg reduction serves every pole ([`ShiftedPair::admissible_basis`]), with U_r
     // scaled to ‖A − λI‖'s size so that the bases come out well conditioned.
     let scale = a.norm() + ordered.iter().map(|z| z.norm()).fold(0.0, f64::max);
-    let fast = (n >= FAST_SUBSPACE_MIN_ORDER).then(|| ShiftedPair::new(a, &(&ur * scale.max(f64::MIN_POSITIVE))));
+    let fast = (n >= LARGE_PLANT_ORDER).then(|| ShiftedPair::new(a, &(&ur * scale.max(f64::MIN_POSITIVE))));
     let mut subspaces: Vec<DMatrix<Complex64>> = Vec::with_capacity(slots.len());
     let mut cache: Vec<(Complex64, usize)> = Vec::new();
     for slot in &slots {
@@ -104,7 +104,13 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
     if r > 1 {
         // Each start gets a first stage; the best-conditioned one is then refined to the end.
         for run in runs.iter_mut() {
-            run.sweep(&slots, &subspaces, &real_subspaces, params, params.condition_check_interval)?;
+            let first_stage = if n >= LARGE_PLANT_ORDER { params.large_first_stage_sweeps } else { params.condition_check_interval };
+            run.sweep(&slots, &subspaces, &real_subspaces, params, first_stage)?;
+            // The starts are ranked by the conditioning they reached: measure it where the
+            // stage did not end on a check.
+            if !run.converged && run.sweeps % params.condition_check_interval.max(1) != 0 {
+                run.record_condition(&slots, params)?;
+            }
             total_sweeps += run.sweeps;
         }
         runs.sort_by(|p, q| p.best_kappa.total_cmp(&q.best_kappa));
@@ -364,15 +370,7 @@ impl Refinement {
             let mut stop = log_gain < params.improvement_tolerance;
             // Every few sweeps (and at the end), keep the best-conditioned X seen; stop once κ₂(X) stalls.
             if stop || self.sweeps % params.condition_check_interval.max(1) == 0 {
-                let x = from_real_form(&self.xr, slots);
-                let kappa = try_condition_number(&x, SvdParams::default())?;
-                if kappa > self.best_kappa * (1.0 - params.condition_stall_tolerance) {
-                    stop = true;
-                }
-                if kappa < self.best_kappa {
-                    self.best_kappa = kappa;
-                    self.best_x = x;
-                }
+                stop |= self.record_condition(slots, params)?;
             }
             if stop {
                 self.converged = true;
@@ -380,6 +378,19 @@ impl Refinement {
             }
         }
         Ok(())
+    }
+
+    /// Computes `κ₂(X)` now, keeps `X` if it is the best-conditioned seen, and tells whether
+    /// `κ₂` has stalled (improved by less than the stall tolerance since the best).
+    fn record_condition(&mut self, slots: &[Slot], params: PlacementParams) -> Result<bool, PlacementError> {
+        let x = from_real_form(&self.xr, slots);
+        let kappa = try_condition_number(&x, SvdParams::default())?;
+        let stalled = kappa > self.best_kappa * (1.0 - params.condition_stall_tolerance);
+        if kappa < self.best_kappa {
+            self.best_kappa = kappa;
+            self.best_x = x;
+        }
+        Ok(stalled)
     }
 
     /// One real pole's column `j`: `x_j ← S S^T y / ‖·‖` with `y` row `j` of `X_r⁻¹`, kept when
@@ -535,18 +546,11 @@ impl SweepWork {
 }
 
 /// `null(U₁ᵀ (A − λ I))`, `n × r`, orthonormal columns.
-/// Smallest order for which the fast admissible basis is used. Two of the three starting
-/// guesses are built from the basis vectors (not only the subspace), so the basis decides
-/// which local maximum of `|det X|` the sweeps reach; below this order the QR route costs a
-/// few per cent of a design, and it is kept so that the results verified against scipy on the
-/// committed fixtures (n ≤ 50) stay as they are.
-const FAST_SUBSPACE_MIN_ORDER: usize = 64;
-
 /// Residual allowance of the fast admissible basis, in units of `n ε (‖A‖_F + |λ|)`.
 const SUBSPACE_RESIDUAL_FACTOR: f64 = 10.0;
 
 /// The admissible subspace of `λ`, `null(U₁ᵀ (A − λ I))`, `n × r`, orthonormal columns: from
-/// [`FAST_SUBSPACE_MIN_ORDER`] states on [`ShiftedPair::admissible_basis`] (`O(n² r)` after the
+/// [`LARGE_PLANT_ORDER`] states on [`ShiftedPair::admissible_basis`] (`O(n² r)` after the
 /// shared reduction), kept when its residual is at rounding level, else the QR route.
 fn admissible_subspace(a: &DMatrix<f64>, u1: &DMatrix<f64>, lambda: Complex64, r: usize, fast: Option<&ShiftedPair>, ur: &DMatrix<f64>) -> DMatrix<Complex64> {
     let n = a.nrows();
