@@ -23,6 +23,10 @@
 //! standard updating of a triangular factor by Givens rotations (Golub & Van Loan, *Matrix
 //! Computations*, 4th ed., §6.5, from memory).
 //!
+//! 4. For pole placement ([`ShiftedPair::admissible_basis`]): the right rotations of step 2,
+//!    recorded and applied in reverse to `[0; I]`, span the null space of `[H − λI, B̃]`;
+//!    its `x` part, mapped back by `Q` and orthonormalised, is `{x : (A − λI) x ∈ range B}`.
+//!
 //! # Cost
 //! `10 n³ / 3` flops once; per shift about `6 n² + 3 n² m` complex multiply–adds for the
 //! rotations and `2 n²` per inverse-iteration step: the whole analysis of `n` modes is `O(n³)`
@@ -34,6 +38,8 @@
 //! [`ShiftedSigmaParams::max_steps`] (two nearly equal smallest singular values), the caller is
 //! told ([`ShiftedSigmaError::NoConvergence`]) and falls back to a full SVD. The result is
 //! accurate to a small multiple of `ε ‖[A B]‖₂` in absolute terms (backward stable steps).
+//! [`ShiftedPair::admissible_basis`] returns `None` for a non-finite factor or rank-deficient
+//! `x` parts; the placement also checks the residual of what it returns.
 
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
@@ -117,7 +123,7 @@ impl ShiftedPair {
     /// classical Gram–Schmidt applied twice (Giraud, Langou, Rozložník & van den Eshof,
     /// "Rounding error analysis of the classical Gram–Schmidt orthogonalization process",
     /// Numer. Math. 101, 2005). Cost per shift: the fold's `O(n² + n² m)` plus `2 n² m` for
-    /// `Q`. The `x` parts are well conditioned when `‖B̃‖`'s columns are orthonormal and scaled
+    /// `Q`. The `x` parts are well conditioned when `B̃`'s columns are orthonormal and scaled
     /// to `‖A − λI‖` (then `‖w‖ ≤ ‖x‖` for a null vector `(x, w)`): the caller passes such a
     /// `B`. `None` when a value is not finite or the `x` parts are rank deficient (the caller
     /// then uses a full QR).

@@ -46,8 +46,10 @@
 //! peaks agree to 2e-10 relative.
 //!
 //! # Failure modes
-//! An SVD that does not converge counts as an infinite bound (a zero margin, never a larger
-//! one); the phase search is local, so a lower bound below the upper one is reported as such.
+//! An SVD that does not converge, or a sensitivity that cannot be evaluated at a grid or
+//! refinement frequency (a closed-loop pole on the axis), counts as an infinite bound (a zero
+//! margin, never a larger one); the phase search is local, so a lower bound below the upper
+//! one is reported as such.
 
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -288,31 +290,33 @@ pub fn mu_lower_bound(m: &DMatrix<Complex64>) -> f64 {
 /// structured singular value", Automatica 29(1), 1993, §9, from memory). Elsewhere these
 /// phases are only a start, refined by the coordinate search.
 pub fn mu_lower_bound_near(m: &DMatrix<Complex64>, scaling: &[f64], upper: f64) -> f64 {
+    match mu_lower_bound_from_minimiser(m, scaling) {
+        Some(found) if upper.is_finite() && upper - found <= EXACT_GAP * upper => found,
+        Some(found) => found.max(mu_lower_bound(m)),
+        None => mu_lower_bound(m),
+    }
+}
+
+/// The coordinate search of [`mu_lower_bound`] from the one start [`mu_lower_bound_near`]
+/// describes; `None` for one input, a scaling of the wrong length, a failed SVD or a zero
+/// entry of `u`.
+pub fn mu_lower_bound_from_minimiser(m: &DMatrix<Complex64>, scaling: &[f64]) -> Option<f64> {
     let k = m.nrows();
     if k <= 1 || scaling.len() + 1 != k {
-        return mu_lower_bound(m);
+        return None;
     }
     let mut d = vec![0.0];
     d.extend(scaling.iter().map(|v| v.clamp(-300.0, 300.0)));
     let scaled = DMatrix::from_fn(k, k, |i, j| m[(i, j)] * (d[i] - d[j]).exp());
-    let Some(svd) = nalgebra::linalg::SVD::try_new(scaled, true, true, f64::EPSILON, 200) else {
-        return mu_lower_bound(m);
-    };
-    let top = (0..k).max_by(|&a, &b| svd.singular_values[a].total_cmp(&svd.singular_values[b])).unwrap_or(0);
-    let (Some(u), Some(vt)) = (svd.u.as_ref(), svd.v_t.as_ref()) else {
-        return mu_lower_bound(m);
-    };
+    let svd = nalgebra::linalg::SVD::try_new(scaled, true, true, f64::EPSILON, 200)?;
+    let top = (0..k).max_by(|&a, &b| svd.singular_values[a].total_cmp(&svd.singular_values[b]))?;
+    let (u, vt) = (svd.u.as_ref()?, svd.v_t.as_ref()?);
     let q: Vec<Complex64> = (0..k).map(|i| vt[(top, i)].conj() / u[(i, top)]).collect();
     if q.iter().any(|z| !(z.re.is_finite() && z.im.is_finite())) {
-        return mu_lower_bound(m);
+        return None;
     }
     let start: Vec<f64> = (1..k).map(|i| (q[i] / q[0]).arg()).collect();
-    let found = phase_search(m, std::iter::once(start), std::f64::consts::TAU / 24.0);
-    if upper.is_finite() && upper - found <= EXACT_GAP * upper {
-        found
-    } else {
-        found.max(mu_lower_bound(m))
-    }
+    Some(phase_search(m, std::iter::once(start), std::f64::consts::TAU / 24.0))
 }
 
 /// `max ρ(Q M)` by coordinate search over the free phases from the best of `starts` (step `h`

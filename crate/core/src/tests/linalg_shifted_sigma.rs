@@ -143,8 +143,9 @@ fn admissible_basis_spans_the_null_space_of_the_pencil() {
             let gram_error = (s.adjoint() * &s - DMatrix::<Complex64>::identity(m, m)).norm();
             let projector_error = (&s * s.adjoint() - reference_projector(&a, &b, lambda)).norm();
             worst = worst.max(projector_error);
-            // Both are backward stable: rounding of a few n ε; the SVD's gap (the m-th smallest
-            // singular value of an n × n random matrix, ≳ 1/n) may amplify it by n: 1e-10.
+            // Both are backward stable: rounding of a few n ε; the SVD's gap (the (m+1)-th
+            // smallest singular value of (I − U Uᴴ)(A − λI), ≳ 1/n for these random matrices)
+            // may amplify it by n: 1e-10.
             assert!(gram_error <= 1e-13, "n {n}, λ {lambda}: SᴴS − I = {gram_error:.2e}");
             assert!(projector_error <= 1e-10, "n {n}, m {m}, λ {lambda}: projectors differ by {projector_error:.2e}");
             compared += 1;

@@ -111,10 +111,10 @@ fn sigma_max_fast_routes_agree_with_the_svd() {
 #[test]
 fn the_lower_bound_started_from_the_upper_bounds_minimiser_meets_it() {
     // μ over diagonal complex Δ: the upper bound inf_D σ̄(D M D⁻¹) and the lower bound
-    // max_Q ρ(Q M) (Doyle 1982). The quick route starts the phase search where the upper
-    // bound's singular vectors point and falls back to the many-start search only when the
-    // bounds do not meet to EXACT_GAP; it must never report more than the upper bound, and
-    // never less than the many-start search unless the bounds already meet.
+    // max_Q ρ(Q M) (Doyle 1982). The quick route alone (the phase search from the phases the
+    // upper bound's singular vectors point to) must never exceed the upper bound, and should
+    // meet it to EXACT_GAP in most cases (up to three inputs the two are equal; the module
+    // header quotes 87 of 90).
     let mut state = 0x10AE_5EEDu64;
     let mut next = move || {
         state ^= state << 13;
@@ -127,11 +127,9 @@ fn the_lower_bound_started_from_the_upper_bounds_minimiser_meets_it() {
         for _ in 0..30 {
             let m = DMatrix::from_fn(k, k, |_, _| Complex64::new(next(), next()));
             let (upper, scaling) = disk::minimise_bound(&m, None, 0.5, 4, 150, 1e-12);
-            let quick = disk::mu_lower_bound_near(&m, &scaling, upper);
-            let many = disk::mu_lower_bound(&m);
+            let quick = disk::mu_lower_bound_from_minimiser(&m, &scaling).expect("a start");
             assert!(quick <= upper * (1.0 + 1e-9), "k {k}: lower {quick} above upper {upper}");
             let meets = upper - quick <= disk::EXACT_GAP * upper;
-            assert!(meets || quick >= many * (1.0 - 1e-12), "k {k}: quick {quick}, many starts {many}, upper {upper}");
             met_quickly += usize::from(meets);
             cases += 1;
         }
@@ -139,5 +137,5 @@ fn the_lower_bound_started_from_the_upper_bounds_minimiser_meets_it() {
     assert_eq!(cases, 90);
     eprintln!("μ lower bound from the upper bound's minimiser: met the upper bound in {met_quickly} of {cases}");
     // Up to three inputs the bounds are equal (Doyle 1982): they should meet in most k ≤ 3 cases.
-    assert!(met_quickly >= 50, "only {met_quickly} of {cases} met");
+    assert!(met_quickly >= 80, "only {met_quickly} of {cases} met");
 }
