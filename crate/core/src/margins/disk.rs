@@ -360,8 +360,11 @@ fn phase_search(m: &DMatrix<Complex64>, starts: impl Iterator<Item = Vec<f64>>, 
 /// The multiloop disk margin over a frequency grid.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct MultiloopDisk {
-    /// `α = 1 / μ_upper` (guaranteed: every perturbation in the disk at every input at once is
-    /// tolerated) and the frequency where the peak of `μ` is attained.
+    /// `α = 1 / μ_upper` (every perturbation in the disk at every input at once is tolerated
+    /// at the grid frequencies and near the refined peak, to within [`PRUNE_TOLERANCE`]
+    /// relative: a grid frequency whose bound is within that of the refined peak is not
+    /// minimised further; between grid frequencies only the peak's neighbourhood is searched)
+    /// and the frequency where the peak of `μ` is attained.
     pub alpha: f64,
     pub frequency: f64,
     /// `1 / μ_lower`: a perturbation of this size at that frequency destabilises the loop.
@@ -458,8 +461,11 @@ fn grid_peak(levels: &[GridBound]) -> Option<Peak> {
             break;
         }
         if done + 1 >= MAX_REFINED {
-            // Out of budget: the level-1 bound of the rest still bounds μ (a smaller, safe α).
-            peak.value = peak.value.max(level1);
+            // Out of budget: the level-1 bound of the rest still bounds μ (a smaller, safe α),
+            // and the largest of them is where the margin is then reported.
+            if level1 > peak.value {
+                peak = Peak { value: level1, frequency: levels[i].frequency, index: i, scaling: x1 };
+            }
             break;
         }
         let (v, x) = full(i, &x1);
