@@ -311,12 +311,15 @@ fn inverse_iteration(r: &DMatrix<Complex64>, params: ShiftedSigmaParams) -> Resu
         if step > 2 && change.max(remaining) <= params.tolerance {
             return Ok(estimate);
         }
+        // x = R⁻¹ y by columns (each column of R is contiguous; the row-wise form strides
+        // through memory): y is consumed as the right-hand side.
         for i in (0..n).rev() {
-            let mut v = y[i];
-            for k in i + 1..n {
-                v -= r[(i, k)] * x[k];
+            let xi = y[i] / r[(i, i)];
+            x[i] = xi;
+            let col = r.column(i);
+            for k in 0..i {
+                y[k] -= col[k] * xi;
             }
-            x[i] = v / r[(i, i)];
         }
     }
     Err(ShiftedSigmaError::NoConvergence { steps: params.max_steps, change })
