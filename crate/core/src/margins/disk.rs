@@ -210,10 +210,31 @@ fn bound_at(m: &DMatrix<Complex64>, x: &[f64]) -> f64 {
     scaled_norm(m, &d)
 }
 
+/// How hard [`minimise_bound`] works: Nelder–Mead `restarts` from a simplex of size `step`
+/// (shrunk five-fold each time), `budget` evaluations per free scaling each, stopping when the
+/// simplex's values agree to `tolerance` relative.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Effort {
+    pub step: f64,
+    pub restarts: usize,
+    pub budget: usize,
+    pub tolerance: f64,
+}
+
+/// Level 0 of the frequency search: Osborne's scaling or the warm start, no minimisation.
+const LEVEL_ZERO: Effort = Effort { step: 0.05, restarts: 0, budget: 0, tolerance: 1e-6 };
+/// Level 1: one short run from the level-0 scaling.
+const LEVEL_ONE: Effort = Effort { step: 0.05, restarts: 1, budget: 40, tolerance: 1e-6 };
+/// A full minimisation at a frequency that may hold the peak.
+const FULL: Effort = Effort { step: 0.2, restarts: 3, budget: 100, tolerance: 1e-10 };
+/// [`mu_upper_bound`] of a single matrix, with no warm start.
+const STANDALONE: Effort = Effort { step: 0.5, restarts: 4, budget: 150, tolerance: 1e-12 };
+
 /// Minimises the D-scaling bound from the better of `warm` and Osborne's scaling, with
-/// `restarts` Nelder–Mead runs of shrinking simplex (it can stall on the nonsmooth points of
-/// σ̄); returns the bound and the log scalings reached.
-pub(crate) fn minimise_bound(m: &DMatrix<Complex64>, warm: Option<&[f64]>, step: f64, restarts: usize, budget: usize, tolerance: f64) -> (f64, Vec<f64>) {
+/// `effort.restarts` Nelder–Mead runs of shrinking simplex (it can stall on the nonsmooth
+/// points of σ̄); returns the bound and the log scalings reached.
+pub(crate) fn minimise_bound(m: &DMatrix<Complex64>, warm: Option<&[f64]>, effort: Effort) -> (f64, Vec<f64>) {
+    let Effort { step, restarts, budget, tolerance } = effort;
     let k = m.nrows();
     if k <= 1 {
         return (m.get((0, 0)).map_or(0.0, |v| v.norm()), Vec::new());
@@ -241,7 +262,7 @@ pub(crate) fn minimise_bound(m: &DMatrix<Complex64>, warm: Option<&[f64]>, step:
 
 /// The D-scaling upper bound of `μ` for diagonal complex perturbations.
 pub fn mu_upper_bound(m: &DMatrix<Complex64>) -> f64 {
-    minimise_bound(m, None, 0.5, 4, 150, 1e-12).0
+    minimise_bound(m, None, STANDALONE).0
 }
 
 /// Spectral radius of a complex matrix (its real embedding `[[X, −Y], [Y, X]]` has the
@@ -421,7 +442,7 @@ fn level_zero(grid: &[f64], shifted: &dyn Fn(f64) -> Option<DMatrix<Complex64>>)
             let Some(m) = shifted(w) else {
                 return GridBound { frequency: w, level0: f64::INFINITY, scaling: Vec::new(), m: None };
             };
-            let (v, x) = minimise_bound(&m, warm.as_deref(), 0.05, 0, 0, 1e-6);
+            let (v, x) = minimise_bound(&m, warm.as_deref(), LEVEL_ZERO);
             warm = Some(x.clone());
             GridBound { frequency: w, level0: v, scaling: x, m: Some(m) }
         })
@@ -438,7 +459,7 @@ fn level_zero(grid: &[f64], shifted: &dyn Fn(f64) -> Option<DMatrix<Complex64>>)
 fn grid_peak(levels: &[GridBound]) -> Option<Peak> {
     let full = |i: usize, from: &[f64]| -> (f64, Vec<f64>) {
         match &levels[i].m {
-            Some(m) => minimise_bound(m, Some(from), 0.2, 3, 100, 1e-10),
+            Some(m) => minimise_bound(m, Some(from), FULL),
             None => (f64::INFINITY, from.to_vec()),
         }
     };
@@ -449,7 +470,7 @@ fn grid_peak(levels: &[GridBound]) -> Option<Peak> {
         .filter(|&i| i != first && levels[i].level0 > peak.value * (1.0 + PRUNE_TOLERANCE))
         .map(|i| match &levels[i].m {
             Some(m) => {
-                let (v, x) = minimise_bound(m, Some(&levels[i].scaling), 0.05, 1, 40, 1e-6);
+                let (v, x) = minimise_bound(m, Some(&levels[i].scaling), LEVEL_ONE);
                 (i, v.min(levels[i].level0), x)
             }
             None => (i, f64::INFINITY, Vec::new()),
@@ -496,7 +517,7 @@ fn refine_between(grid: &[f64], found: Peak, shifted: &dyn Fn(f64) -> Option<DMa
         let Some(m) = shifted(w) else {
             return (f64::INFINITY, w, scaling);
         };
-        let (v, x) = minimise_bound(&m, Some(&scaling), 0.2, 3, 100, 1e-10);
+        let (v, x) = minimise_bound(&m, Some(&scaling), FULL);
         if v > peak {
             (peak, at, at_scaling) = (v, w, x.clone());
         }

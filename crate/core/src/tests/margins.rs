@@ -126,7 +126,7 @@ fn the_lower_bound_started_from_the_upper_bounds_minimiser_meets_it() {
     for k in 2..=4usize {
         for _ in 0..30 {
             let m = DMatrix::from_fn(k, k, |_, _| Complex64::new(next(), next()));
-            let (upper, scaling) = disk::minimise_bound(&m, None, 0.5, 4, 150, 1e-12);
+            let (upper, scaling) = disk::minimise_bound(&m, None, disk::Effort { step: 0.5, restarts: 4, budget: 150, tolerance: 1e-12 });
             let quick = disk::mu_lower_bound_from_minimiser(&m, &scaling).expect("a start");
             assert!(quick <= upper * (1.0 + 1e-9), "k {k}: lower {quick} above upper {upper}");
             let meets = upper - quick <= disk::EXACT_GAP * upper;
