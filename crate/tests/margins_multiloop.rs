@@ -14,6 +14,8 @@
 //!   derived by hand (and expanded with sympy), gives the exact gain interval by Routh–Hurwitz.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // tests may fail loudly
 
+mod common;
+
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
 use polewright::controller::ObserverForm;
@@ -189,22 +191,7 @@ fn the_peak_between_grid_frequencies_matches_a_dense_scan() {
     let mut compared = 0;
     let mut worst = 0.0f64;
     for (modes, m) in [(3, 2), (4, 3), (5, 3)] {
-        let n = 2 * modes;
-        let mut a = DMatrix::<f64>::zeros(n, n);
-        let mut b = DMatrix::<f64>::zeros(n, m);
-        let mut poles = Vec::new();
-        for i in 0..modes {
-            let w = 1.0 + 0.7 * i as f64;
-            a[(2 * i, 2 * i + 1)] = 1.0;
-            a[(2 * i + 1, 2 * i)] = -w * w;
-            a[(2 * i + 1, 2 * i + 1)] = -0.02 * w;
-            for j in 0..m {
-                b[(2 * i + 1, j)] = (0.9 * (i + 1) as f64 * (j + 1) as f64).sin();
-            }
-            let z = Complex64::new(-0.03 * w, w * (1.0f64 - 0.0009).sqrt());
-            poles.push(z);
-            poles.push(z.conj());
-        }
+        let (a, b, poles) = common::modal_structure(modes, m, 0.7, 0.01, 0.9, 0.03);
         let k = state_feedback_gain(&a, &b, &poles, PlacementParams::default()).unwrap().gain;
         let l = state_feedback_loop(&a, &b, &k, None);
         let grid = l.grid(120).unwrap();

@@ -977,21 +977,7 @@ fn plants_of_sixty_four_states_and_more_are_placed_through_the_fast_subspaces() 
     // (common::judge_gain: nalgebra's Schur, unit-column eigenvectors, SVD).
     let mut judged = 0;
     for (n, m) in [(64, 3), (80, 4), (120, 4)] {
-        let mut a = DMatrix::<f64>::zeros(n, n);
-        let mut b = DMatrix::<f64>::zeros(n, m);
-        let mut poles = Vec::new();
-        for i in 0..n / 2 {
-            let w = 1.0 + 0.5 * i as f64;
-            a[(2 * i, 2 * i + 1)] = 1.0;
-            a[(2 * i + 1, 2 * i)] = -w * w;
-            a[(2 * i + 1, 2 * i + 1)] = -2.0 * 0.02 * w;
-            for j in 0..m {
-                b[(2 * i + 1, j)] = (0.7 * (i + 1) as f64 * (j + 1) as f64).sin();
-            }
-            let z = Complex64::new(-0.1 * w, w * (1.0f64 - 0.01).sqrt());
-            poles.push(z);
-            poles.push(z.conj());
-        }
+        let (a, b, poles) = common::modal_structure(n / 2, m, 0.5, 0.02, 0.7, 0.1);
         let p = state_feedback_gain(&a, &b, &poles, PlacementParams::default()).unwrap();
         let j = common::judge_gain(&a, &b, &p.gain, &poles, None);
         eprintln!("modal n = {n}, m = {m}: pole error {:.1e}, κ₂(X) {:.4e} (reported {:.4e}), sweeps {}", j.max_rel_error, j.eigenvector_condition, p.eigenvector_condition, p.iterations);

@@ -189,3 +189,27 @@ fn judged(max_rel_error: f64, x: &DMatrix<Complex64>) -> Judged {
     let (big, small) = (s.iter().copied().fold(0.0, f64::max), s.iter().copied().fold(f64::INFINITY, f64::min));
     Judged { max_rel_error, eigenvector_condition: if small > 0.0 { big / small } else { f64::INFINITY }, abs_det: s.iter().product() }
 }
+
+/// An invented flexible structure in modal form (illustrative test data): `modes` modes at
+/// `1, 1 + spacing, 1 + 2 spacing, …` rad/s with damping `damping`, `m` actuators whose
+/// mode-shape values are `sin(shape (i+1)(j+1))`, and targets keeping each frequency with the
+/// damping raised to `target_damping`: `(A, B, poles)`.
+pub fn modal_structure(modes: usize, m: usize, spacing: f64, damping: f64, shape: f64, target_damping: f64) -> (DMatrix<f64>, DMatrix<f64>, Vec<Complex64>) {
+    let n = 2 * modes;
+    let mut a = DMatrix::<f64>::zeros(n, n);
+    let mut b = DMatrix::<f64>::zeros(n, m);
+    let mut poles = Vec::with_capacity(n);
+    for i in 0..modes {
+        let w = 1.0 + spacing * i as f64;
+        a[(2 * i, 2 * i + 1)] = 1.0;
+        a[(2 * i + 1, 2 * i)] = -w * w;
+        a[(2 * i + 1, 2 * i + 1)] = -2.0 * damping * w;
+        for j in 0..m {
+            b[(2 * i + 1, j)] = (shape * (i + 1) as f64 * (j + 1) as f64).sin();
+        }
+        let z = Complex64::new(-target_damping * w, w * (1.0 - target_damping * target_damping).sqrt());
+        poles.push(z);
+        poles.push(z.conj());
+    }
+    (a, b, poles)
+}
