@@ -33,6 +33,7 @@ use num_complex::Complex64;
 
 use crate::linalg::eigen::{try_eigenvalues, EigenError};
 use crate::linalg::expm::{try_expm, try_zero_order_hold, ExpmError};
+use crate::linalg::kernels::product_into;
 
 /// Grid limits of the simulation.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -191,7 +192,7 @@ pub fn closed_loop_response(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>
             next.gemv(1.0, &phi, &x, 0.0);
             next.gemv(1.0, &gamma, &u, 1.0);
         } else {
-            next.gemv(1.0, &phi_cl, &x, 0.0);
+            product_into(&phi_cl, &x, &mut next);
         }
         std::mem::swap(&mut x, &mut next);
         if !(x.norm() <= bound) {

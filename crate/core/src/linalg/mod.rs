@@ -9,6 +9,7 @@
 
 pub mod eigen;
 pub mod expm;
+pub mod kernels;
 pub mod qr;
 pub mod shifted_sigma;
 pub mod svd;

@@ -7,6 +7,7 @@ use num_complex::Complex64;
 
 use super::{max_matching_error, Branch, Core, Eigenvectors, PlacementError, PlacementMethod, PlacementParams, Slot, LARGE_PLANT_ORDER};
 use crate::linalg::eigen::{balancing_scale, try_eigenvalues};
+use crate::linalg::kernels::{add_outer, product_into, subtract_two_outer, two_products_into};
 use crate::linalg::qr::{full_qr, trailing_q_columns};
 use crate::linalg::shifted_sigma::{real_times_complex, ShiftedPair};
 use crate::linalg::svd::{try_condition_number, try_svd, SvdParams};
@@ -409,12 +410,12 @@ impl Refinement {
         // u = v − x_j; w = X⁻¹ u; ratio = 1 + w_j.
         w.u.copy_from(&w.v);
         w.u.axpy(-1.0, &self.xr.column(j), 1.0);
-        w.w1.gemv(1.0, &self.xr_inv, &w.u, 0.0);
+        product_into(&self.xr_inv, &w.u, &mut w.w1);
         let denom = 1.0 + w.w1[j];
         if !(denom.abs() > 1.0 + 1e-15) || !denom.is_finite() {
             return None; // no improvement (or a breakdown): keep the column
         }
-        self.xr_inv.ger(-1.0 / denom, &w.w1, &w.y, 1.0);
+        add_outer(&mut self.xr_inv, -1.0 / denom, &w.w1, &w.y);
         self.xr.set_column(j, &w.v);
         Some(denom.abs().ln())
     }
@@ -430,8 +431,7 @@ impl Refinement {
         w.u.axpy(-1.0, &self.xr.column(j), 1.0);
         w.u2.copy_from(&w.v2);
         w.u2.axpy(-1.0, &self.xr.column(j + 1), 1.0);
-        w.w1.gemv(1.0, &self.xr_inv, &w.u, 0.0);
-        w.w2.gemv(1.0, &self.xr_inv, &w.u2, 0.0);
+        two_products_into(&self.xr_inv, &w.u, &w.u2, &mut w.w1, &mut w.w2);
         // C = I + Eᵀ X⁻¹ U (2 × 2); det C = |det X_new| / |det X_old|.
         let (c11, c12, c21, c22) = (1.0 + w.w1[j], w.w2[j], w.w1[j + 1], 1.0 + w.w2[j + 1]);
         let det = c11 * c22 - c12 * c21;
@@ -447,8 +447,7 @@ impl Refinement {
         w.u2.copy_from(&w.w1);
         w.u2.scale_mut(i12);
         w.u2.axpy(i22, &w.w2, 1.0);
-        self.xr_inv.ger(-1.0, &w.u, &w.y, 1.0);
-        self.xr_inv.ger(-1.0, &w.u2, &w.y2, 1.0);
+        subtract_two_outer(&mut self.xr_inv, &w.u, &w.y, &w.u2, &w.y2);
         self.xr.set_column(j, &w.v);
         self.xr.set_column(j + 1, &w.v2);
         Some(det.abs().ln())
