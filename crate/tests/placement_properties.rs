@@ -991,8 +991,8 @@ fn plants_of_sixty_four_states_and_more_are_placed_through_the_fast_subspaces() 
 
 #[test]
 fn frequent_condition_checks_on_large_plants_stop_sooner_and_lose_almost_nothing() {
-    // From 64 states κ₂(X) is checked every 10 sweeps (PlacementParams::
-    // large_condition_check_interval) instead of every 40. The claim: the sweeps stop no later,
+    // From 64 states κ₂(X) is checked every 10 sweeps (PlacementParams::final_check_interval)
+    // instead of every 40. The claim: the sweeps stop no later,
     // and the conditioning reached is within 0.5 % of the 40-sweep schedule's. Invented modal
     // structures as above (two damping targets, two input counts), and both results judged
     // by recomputation (common::judge_gain), not by what the placement reports.
@@ -1000,7 +1000,7 @@ fn frequent_condition_checks_on_large_plants_stop_sooner_and_lose_almost_nothing
     let mut fewer = 0;
     for (n, m, target) in [(64, 2, 0.1), (80, 4, 0.05), (96, 3, 0.1), (120, 4, 0.05)] {
         let (a, b, poles) = common::modal_structure(n / 2, m, 0.5, 0.02, 0.7, target);
-        let slow = PlacementParams { large_condition_check_interval: 40, ..PlacementParams::default() };
+        let slow = PlacementParams { final_check_interval: 40, ..PlacementParams::default() };
         let p_fast = state_feedback_gain(&a, &b, &poles, PlacementParams::default()).unwrap();
         let p_slow = state_feedback_gain(&a, &b, &poles, slow).unwrap();
         let j_fast = common::judge_gain(&a, &b, &p_fast.gain, &poles, None);

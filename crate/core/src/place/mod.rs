@@ -63,9 +63,9 @@
 //! - Sweeps: each of the (up to three) starting guesses gets
 //!   [`PlacementParams::condition_check_interval`] sweeps ([`PlacementParams::large_first_stage_sweeps`]
 //!   from [`LARGE_PLANT_ORDER`] states), the best continues to convergence
-//!   or [`PlacementParams::max_sweeps`]; `κ₂(X)` (one SVD, about a sweep's cost) is checked
-//!   every [`PlacementParams::condition_check_interval`] sweeps, or every
-//!   [`PlacementParams::large_condition_check_interval`] from [`LARGE_PLANT_ORDER`] states.
+//!   or [`PlacementParams::max_sweeps`]; `κ₂(X)` (one SVD, one or two sweeps' cost) is
+//!   checked at the end of the first stage, then every
+//!   [`PlacementParams::final_check_interval`] sweeps.
 //!   The count is reported (`iterations`). Measured on the
 //!   benchmark plants of `tests/bench/whole_process.py` (README table): see the `sweeps`
 //!   column there.
@@ -114,9 +114,9 @@ pub struct PlacementParams {
     pub rank_tolerance: f64,
     /// Relative rank tolerance of the staircase used for uncontrollable plants. Default `1e-10`.
     pub controllability_tolerance: f64,
-    /// Sweeps between checks of `κ₂(X)`; also the length of the first stage in which every
-    /// starting guess is refined before only the best ones continue, below
-    /// [`LARGE_PLANT_ORDER`] states. Default 40.
+    /// Below [`LARGE_PLANT_ORDER`] states, the length of the first stage in which every
+    /// starting guess is refined (with one check of `κ₂(X)` at its end) before only the best
+    /// ones continue; also the check interval of a continuation's sweeps. Default 40.
     pub condition_check_interval: usize,
     /// The first stage's length from [`LARGE_PLANT_ORDER`] states. Default 10: on the ten
     /// benchmark plants of that size (`tests/bench/whole_process.py` modal plants of 64, 100,
@@ -125,13 +125,14 @@ pub struct PlacementParams {
     /// the committed fixtures (n ≤ 50) a first stage of 10 picked a worse start in 1 of 121
     /// cases, which is why smaller plants keep 40.
     pub large_first_stage_sweeps: usize,
-    /// Sweeps between checks of `κ₂(X)` from [`LARGE_PLANT_ORDER`] states. Default 10. There a
-    /// check costs about one sweep, and on the large benchmark plants `κ₂(X)` settles to
-    /// within 0.3 % in 10–20 sweeps while `|det X|` keeps creeping up for a hundred more (the
-    /// trace of the 200-state modal plant of `tests/bench/whole_process.py`: 5319 after 10
-    /// sweeps of the winning start, 5305 after 20, 5302–5307 from then to 80); with checks
-    /// every 40 sweeps the stall was only seen at sweep 80.
-    pub large_condition_check_interval: usize,
+    /// Sweeps between checks of `κ₂(X)` once the best start continues alone (and in the first
+    /// stage from [`LARGE_PLANT_ORDER`] states, which is shorter). Default 10. A check costs
+    /// about one sweep (at n = 40, two), and `κ₂(X)` often settles, or reaches its lowest
+    /// value, long before `|det X|` stops creeping up: the trace of the 200-state modal plant of
+    /// `tests/bench/whole_process.py` read 5319 after 10 sweeps of the winning start, 5305
+    /// after 20 and 5302–5307 from then to 80; with checks every 40 sweeps the stall was seen
+    /// only at sweep 80.
+    pub final_check_interval: usize,
     /// Continuous or discrete time: decides whether a fixed (uncontrollable) mode is
     /// acceptable. Default continuous.
     pub domain: Domain,
@@ -163,7 +164,7 @@ impl Default for PlacementParams {
             controllability_tolerance: 1e-10,
             condition_check_interval: 40,
             large_first_stage_sweeps: 10,
-            large_condition_check_interval: 10,
+            final_check_interval: 10,
             refactor_interval: 4,
             finalists: 1,
             domain: Domain::Continuous,

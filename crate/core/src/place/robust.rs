@@ -103,26 +103,26 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
         });
     }
     let mut total_sweeps = 0;
-    // Large plants: a short first stage and frequent checks of κ₂ (see the parameters); the
-    // continuation below keeps its own schedule.
-    let staged = if n >= LARGE_PLANT_ORDER { PlacementParams { condition_check_interval: params.large_condition_check_interval, ..params } } else { params };
+    // A first stage for each start, with one check of κ₂ at its end; then the best start
+    // alone, with frequent checks (see the parameters). The continuation below keeps its own
+    // schedule.
+    let first_stage = if n >= LARGE_PLANT_ORDER { params.large_first_stage_sweeps } else { params.condition_check_interval };
+    let (staged, finishing) = (PlacementParams { condition_check_interval: first_stage, ..params }, PlacementParams { condition_check_interval: params.final_check_interval, ..params });
     if r > 1 {
-        // Each start gets a first stage; the best-conditioned one is then refined to the end.
         for run in runs.iter_mut() {
-            let first_stage = if n >= LARGE_PLANT_ORDER { staged.large_first_stage_sweeps } else { staged.condition_check_interval };
             run.sweep(&slots, &subspaces, &real_subspaces, staged, first_stage)?;
             // The starts are ranked by the conditioning they reached: measure it where the
             // stage did not end on a check.
-            if !run.converged && run.sweeps % staged.condition_check_interval.max(1) != 0 {
+            if !run.converged && run.sweeps % first_stage.max(1) != 0 {
                 run.record_condition(&slots, staged)?;
             }
             total_sweeps += run.sweeps;
         }
         runs.sort_by(|p, q| p.best_kappa.total_cmp(&q.best_kappa));
-        runs.truncate(staged.finalists.max(1));
+        runs.truncate(params.finalists.max(1));
         for run in runs.iter_mut() {
             let before = run.sweeps;
-            run.sweep(&slots, &subspaces, &real_subspaces, staged, staged.max_sweeps.saturating_sub(before))?;
+            run.sweep(&slots, &subspaces, &real_subspaces, finishing, params.max_sweeps.saturating_sub(before))?;
             total_sweeps += run.sweeps - before;
         }
         runs.sort_by(|p, q| q.best_kappa.total_cmp(&p.best_kappa));
