@@ -22,6 +22,7 @@ import {
   requireBuiltPage,
   screenshot,
   setFields,
+  settled,
   tableRows,
   tableRowsAtFullPrecision,
   withPage,
@@ -320,6 +321,49 @@ describe('choosing the poles from the form', () => {
       // The simulated free response agrees: its peak input is within the 60 N limit.
       const inputs = await tableRows(page, 'pw-input-table');
       assert.ok(Number(inputs[0][1].split(' ')[0]) <= 60 * (1 + 1e-6), JSON.stringify(inputs[0]));
+      noErrors(ctx);
+    });
+  });
+
+  test('the search for the fastest design is announced first, then reused while its inputs stay the same', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      await page.selectOption('#pw-pole_source', 'pattern');
+      await page.fill('#pw-pattern_settling_time', '0.4');
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      // A design request with the search on says so at once (status line, verdicts busy),
+      // before the work runs at the next frame.
+      await page.check('#pw-search');
+      await page.waitForFunction(() => /Speed factor/.test(document.getElementById('pw-choice-details').textContent));
+      await settled(page);
+      const shown = await page.evaluate(() => {
+        document.getElementById('pw-status').removeAttribute('data-outcome');
+        document.getElementById('pw-design').click();
+        return [document.getElementById('pw-status').textContent, document.getElementById('pw-verdicts').getAttribute('aria-busy')];
+      });
+      assert.match(shown[0], /^Designing: searching for the fastest design within the actuator limits/);
+      assert.equal(shown[1], 'true');
+      await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+      await settled(page);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      assert.equal(await page.getAttribute('#pw-verdicts', 'aria-busy'), null, 'not busy once designed');
+      const factor = async () => Number(/Speed factor ([0-9.]+)/.exec(await page.textContent('#pw-search-facts'))[1]);
+      const first = await factor();
+      // Nothing the search depends on changed since the checkbox's own cycle: reused.
+      assert.match(await page.textContent('#pw-search-facts'), /this design reused that search/);
+      // An input's name is not a search input: reused, the same factor.
+      await page.fill('#pw-input_names', 'push force');
+      assert.equal(await designNow(page), 'designed');
+      assert.match(await page.textContent('#pw-search-facts'), /this design reused that search/);
+      assert.equal(await factor(), first);
+      // A tighter limit is: a new search, a slower design.
+      const limit = Number((await page.inputValue('#pw-limits')).split(/[ ,]+/)[0]);
+      await page.fill('#pw-limits', String(limit / 2));
+      assert.equal(await designNow(page), 'designed');
+      const facts = await page.textContent('#pw-search-facts');
+      assert.doesNotMatch(facts, /reused/);
+      assert.match(facts, /trial designs were simulated\./);
+      assert.ok((await factor()) < first, `${await factor()} against ${first}`);
       noErrors(ctx);
     });
   });

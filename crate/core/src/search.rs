@@ -176,7 +176,7 @@ pub struct SearchProblem<'a> {
 }
 
 /// The outcome.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct SearchResult {
     /// The largest factor found with every input within its limit.
     pub speed_factor: f64,

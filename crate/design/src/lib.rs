@@ -271,10 +271,55 @@ pub struct UncertaintySpec {
 /// [`crate::place::state_feedback_gain_continued`]), so that gains move continuously while the
 /// poles are edited or dragged. Not part of the design document or the result file: a fresh
 /// run (the CLI, a reload) starts without it, and the result says when the two differ.
+///
+/// It also carries the last search for the fastest design ([`SearchMemo`]): the search is a
+/// function of its inputs alone, so a later run whose search inputs are equal reuses the
+/// result instead of repeating some forty placements and simulations (edits elsewhere in the
+/// form, and the robustness analysis that follows each page cycle).
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct Continuation {
     pub feedback: Option<crate::place::Eigenvectors>,
     pub observer: Option<crate::place::Eigenvectors>,
+    pub search: Option<SearchMemo>,
+}
+
+/// A search for the fastest design within the limits together with everything it was computed
+/// from (owned copies, compared exactly): [`SearchMemo::result_for`] gives the result only
+/// for equal inputs, so reusing it cannot change a design.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SearchMemo {
+    inputs: SearchInputs,
+    result: crate::search::SearchResult,
+}
+
+/// The inputs of one search (see [`crate::search::SearchProblem`]).
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct SearchInputs {
+    pub a: DMatrix<f64>,
+    pub b: DMatrix<f64>,
+    pub c: Option<DMatrix<f64>>,
+    pub pattern: Vec<Complex64>,
+    pub limits: Vec<f64>,
+    pub situations: Vec<crate::search::Situation>,
+    pub plant_states: usize,
+    pub domain: crate::search::SearchDomain,
+    pub params: crate::search::SearchParams,
+}
+
+impl SearchMemo {
+    pub(crate) fn new(inputs: SearchInputs, result: crate::search::SearchResult) -> SearchMemo {
+        SearchMemo { inputs, result }
+    }
+
+    /// The result, for the inputs it was computed from.
+    pub(crate) fn result(&self) -> &crate::search::SearchResult {
+        &self.result
+    }
+
+    /// The remembered result when `inputs` are exactly those it was computed from.
+    pub(crate) fn result_for(&self, inputs: &SearchInputs) -> Option<&crate::search::SearchResult> {
+        (self.inputs == *inputs).then_some(&self.result)
+    }
 }
 
 /// LQR weights as given.

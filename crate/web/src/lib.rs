@@ -541,7 +541,12 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
                 phase("results", now_ms() - t0);
                 if defer {
                     let t1 = now_ms();
-                    deferred::schedule(&doc, page, input.clone(), previous.clone())?;
+                    // The same start as this quick run, and its search (same inputs, same
+                    // result): the robustness run does not search again.
+                    let mut start = previous.clone().unwrap_or_default();
+                    start.search = page.design.as_ref().and_then(|d| d.continuation.search.clone());
+                    let start = (previous.is_some() || start.search.is_some()).then_some(start);
+                    deferred::schedule(&doc, page, input.clone(), start)?;
                     phase("schedule", now_ms() - t1);
                 }
                 text

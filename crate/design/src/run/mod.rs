@@ -122,7 +122,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         tracking: tracking_result(&s, &g),
         sample_rate: advice.map(|a| SampleRateResult { bandwidth: a.bandwidth, samples_per_bandwidth: a.samples_per_bandwidth, verdict: a.verdict, message: sample_rate_message(&a) }),
         closed_loop,
-        search: dp.search.as_ref().map(|r| search_summary(s.plant, r)),
+        search: dp.search.as_ref().map(|r| search_summary(s.plant, r, dp.search_reused)),
         pole_choice: spec.pole_choice.as_ref().map(|c| PoleChoiceResult {
             method: c.method,
             description: c.description.clone(),
@@ -136,7 +136,11 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         robustness_deferred: !full,
         pole_sensitivity,
         uncertainty,
-        continuation: crate::Continuation { feedback: g.placement.eigenvectors.clone(), observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()) },
+        continuation: crate::Continuation {
+            feedback: g.placement.eigenvectors.clone(),
+            observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()),
+            search: dp.search_memo.clone(),
+        },
     };
     verdict::finite(&result)?;
     Ok(result)
@@ -259,7 +263,7 @@ fn tracking_result(s: &setup::Setup, g: &gains::Gains) -> Option<TrackingResult>
     }
 }
 
-fn search_summary(plant: &Plant, r: &crate::search::SearchResult) -> SearchSummary {
+fn search_summary(plant: &Plant, r: &crate::search::SearchResult, reused: bool) -> SearchSummary {
     SearchSummary {
         speed_factor: r.speed_factor,
         suggested_poles: r.poles.iter().map(|z| pair(*z)).collect(),
@@ -272,6 +276,7 @@ fn search_summary(plant: &Plant, r: &crate::search::SearchResult) -> SearchSumma
         limited_by_range: r.limited_by_range,
         evaluations: r.evaluations,
         shortfall: r.shortfall,
+        reused,
     }
 }
 

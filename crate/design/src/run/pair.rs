@@ -8,7 +8,7 @@ use super::setup::{infeasible, Setup};
 use crate::controller::{delay_augmented, integral_augmented, map_to_continuous};
 use crate::riccati::{LqrDesign, RiccatiError};
 use crate::search::SearchResult;
-use crate::{DesignError, FieldPath as P, InputError, LqrWeights};
+use crate::{DesignError, FieldPath as P, InputError, LqrWeights, SearchInputs, SearchMemo};
 
 /// The design pair and its requested poles.
 pub(super) struct DesignPair {
@@ -21,6 +21,10 @@ pub(super) struct DesignPair {
     /// The controller's poles in the plane they were given (after the search, or the LQR's).
     pub base_poles: Vec<Complex64>,
     pub search: Option<SearchResult>,
+    /// The search with its inputs, for the next run of the session ([`crate::Continuation`]).
+    pub search_memo: Option<SearchMemo>,
+    /// The search came from the previous run's memo.
+    pub search_reused: bool,
     pub lqr: Option<LqrDesign>,
 }
 
@@ -41,9 +45,12 @@ pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
         db = pb;
         delay_poles = imp.delay_poles.clone();
     }
-    let search = match &spec.search {
-        Some(situations) => Some(search(s, &da, &db, situations, &delay_poles)?),
-        None => None,
+    let (search, search_memo, search_reused) = match &spec.search {
+        Some(situations) => {
+            let (memo, reused) = search(s, &da, &db, situations, &delay_poles)?;
+            (Some(memo.result().clone()), Some(memo), reused)
+        }
+        None => (None, None, false),
     };
     let base_poles: Vec<Complex64> = match &search {
         Some(r) => match s.t {
@@ -53,7 +60,7 @@ pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
         },
         None => s.req.poles.clone(),
     };
-    let mut pair = DesignPair { nd: da.nrows(), dpoles: s.to_design(&base_poles), da, db, base_poles, search, lqr: None };
+    let mut pair = DesignPair { nd: da.nrows(), dpoles: s.to_design(&base_poles), da, db, base_poles, search, search_memo, search_reused, lqr: None };
     pair.dpoles.extend(delay_poles);
     pair.nd = pair.da.nrows();
     if let Some(ip) = s.integral_poles {
@@ -179,8 +186,9 @@ fn check_pole_count(s: &Setup, pair: &DesignPair) -> Result<(), DesignError> {
 }
 
 /// The fastest design within the actuator limits: on the plant (continuous), or on the sampled
-/// plant with its computation-delay states (digital), the pattern in the s-plane.
-fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::search::Situation], delay_poles: &[Complex64]) -> Result<SearchResult, DesignError> {
+/// plant with its computation-delay states (digital), the pattern in the s-plane. The previous
+/// run's search is reused when its inputs are exactly these ([`SearchMemo`]); the flag says so.
+fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::search::Situation], delay_poles: &[Complex64]) -> Result<(SearchMemo, bool), DesignError> {
     let limits: Vec<f64> = s.req.limits.iter().map(|l| l.unwrap_or(f64::INFINITY)).collect();
     let params = crate::search::SearchParams { band: s.req.band, max_samples: s.spec.scenario.max_samples.map_or(50_000, |c| c as usize), ..Default::default() };
     let pattern = s.to_s(&s.req.poles);
@@ -199,6 +207,20 @@ fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::
         Some(t) => crate::search::SearchDomain::Sampled { sample_time: t, fixed_poles: delay_poles.to_vec() },
         None => crate::search::SearchDomain::Continuous,
     };
-    let problem = crate::search::SearchProblem { a: da, b: db, c: c_pair.as_ref(), pattern: &pattern, limits: &limits, situations, plant_states: s.n, domain };
-    crate::search::fastest_within_limits_of(&problem, params).map_err(|e| infeasible(&e))
+    let inputs = SearchInputs { a: da.clone(), b: db.clone(), c: c_pair, pattern, limits, situations: situations.to_vec(), plant_states: s.n, domain, params };
+    if let Some(r) = s.previous.and_then(|p| p.search.as_ref()).and_then(|m| m.result_for(&inputs)) {
+        return Ok((SearchMemo::new(inputs, r.clone()), true));
+    }
+    let problem = crate::search::SearchProblem {
+        a: &inputs.a,
+        b: &inputs.b,
+        c: inputs.c.as_ref(),
+        pattern: &inputs.pattern,
+        limits: &inputs.limits,
+        situations: &inputs.situations,
+        plant_states: inputs.plant_states,
+        domain: inputs.domain.clone(),
+    };
+    let result = crate::search::fastest_within_limits_of(&problem, inputs.params).map_err(|e| infeasible(&e))?;
+    Ok((SearchMemo::new(inputs, result), false))
 }

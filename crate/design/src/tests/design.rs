@@ -124,3 +124,40 @@ fn the_rulebook_counts_the_poles_before_anything_is_designed() {
     let e = report.errors.iter().find(|e| e.field == FieldPath::FeedbackPoles).expect("a pole-count error");
     assert!(e.message.contains("2 poles given but the plant has 3 states"), "{e}");
 }
+
+/// The double integrator with a limit of 8 and poles α(−1 ± j): the peak from (1, 0) is
+/// |u(0)| = k₁ = 2α² (by hand), so the search finds α = 2.
+const SEARCHED: &str = r#"{"format": "polewright.design", "version": 3,
+        "plant": {"a": [[0, 1], [0, 0]], "b": [[0], [1]]}, "feedback": {"poles": ["-1±1j"]}, "actuators": {"limit": [8]},
+        "search": {"fastest_within_limits": true, "situations": [{"initial_state": [1, 0]}]}}"#;
+
+#[test]
+fn a_search_is_reused_only_for_exactly_its_inputs() {
+    let checked = check_text(SEARCHED).unwrap();
+    let first = run_checked(&checked).unwrap();
+    let found = first.search.as_ref().expect("search").speed_factor;
+    assert!((found - 2.0).abs() < 4e-3, "{found}");
+    let memo = first.continuation.search.clone().expect("the run remembers its search");
+    // Continuing with the same inputs gives the same design (the search is a function of its
+    // inputs): bitwise the same gain.
+    let again = run_checked_continued(&checked, Some(&first.continuation)).unwrap();
+    assert_eq!(again.feedback.gain, first.feedback.gain);
+    assert_eq!(again.continuation.search.as_ref(), Some(&memo));
+    assert!(!first.search.as_ref().is_some_and(|s| s.reused) && again.search.as_ref().is_some_and(|s| s.reused));
+    // Proof that the memo, not a new search, gave that result: a doctored memo with the same
+    // inputs is believed …
+    let mut doctored = memo.clone();
+    doctored.result.speed_factor = 1.5;
+    doctored.result.poles = vec![Complex64::new(-1.5, 1.5), Complex64::new(-1.5, -1.5)];
+    doctored.result.eigenvectors = None;
+    let previous = crate::Continuation { search: Some(doctored), ..first.continuation.clone() };
+    let reused = run_checked_continued(&checked, Some(&previous)).unwrap();
+    assert_eq!(reused.search.as_ref().map(|s| s.speed_factor), Some(1.5));
+    // … and ignored as soon as one input differs: a limit of 8 · (1 + 1e-12) searches again.
+    let changed = check_text(&SEARCHED.replace("\"limit\": [8]", "\"limit\": [8.000000000008]")).unwrap();
+    let fresh = run_checked_continued(&changed, Some(&previous)).unwrap();
+    let f = fresh.search.as_ref().expect("search").speed_factor;
+    assert!((f - 2.0).abs() < 4e-3, "a changed limit must search again, not reuse 1.5: {f}");
+    assert!(!fresh.search.as_ref().is_some_and(|s| s.reused));
+    assert_ne!(fresh.continuation.search, previous.search);
+}

@@ -235,6 +235,7 @@ pub(crate) fn search_report(result: &DesignResult, s: &design::SearchSummary, co
         monotonic: s.monotonic,
         monotonicity,
         evaluations: s.evaluations,
+        reused: s.reused,
         notes: context.search_notes.clone(),
     }
 }
