@@ -255,64 +255,212 @@ fn check_problem(p: &SearchProblem) -> Result<(), SearchError> {
     Ok(())
 }
 
-/// See the module documentation.
+/// See the module documentation: [`SearchRun`] run to its end.
 ///
 /// # Errors
 /// See [`SearchError`].
 pub fn fastest_within_limits_of(problem: &SearchProblem, params: SearchParams) -> Result<SearchResult, SearchError> {
-    check_problem(problem)?;
-    let m = problem.b.ncols();
-    let discrete = matches!(problem.domain, SearchDomain::Sampled { .. });
-    let ff = match problem.c {
-        Some(c) if problem.situations.iter().any(|s| matches!(s, Situation::ReferenceStep(_))) => {
-            let d = DMatrix::zeros(c.nrows(), m);
-            Some(feedforward_gains(problem.a, problem.b, c, &d, discrete).map_err(|e| SearchError::Step { factor: 1.0, message: e.to_string() })?)
+    let mut run = SearchRun::new(problem, params)?;
+    for _ in 0..=run.max_steps() {
+        if let Some(outcome) = run.step() {
+            return outcome;
         }
-        _ => None,
-    };
-    let mut evaluations = 0usize;
-    let mut evaluate = |alpha: f64, start: Option<&Eigenvectors>| -> Result<Evaluation, SearchError> {
-        evaluations += 1;
-        evaluate_at(problem, ff.as_ref(), alpha, start, params)
-    };
-    // 1. The path.
-    let (lo0, hi0) = (params.min_factor, params.max_factor);
-    let count = params.path_samples.max(2);
-    let step = (hi0.ln() - lo0.ln()) / (count - 1) as f64;
-    let mut path: Vec<(f64, Evaluation)> = Vec::new();
-    let mut first_over: Option<usize> = None;
-    for j in 0..count {
-        let f = (lo0.ln() + step * j as f64).exp();
-        if first_over.is_some_and(|i| f > 2.0 * path[i].0 * (1.0 + 1e-12)) {
-            break;
+    }
+    // Unreachable: every step evaluates once or finishes, and the evaluations are capped.
+    Err(SearchError::Step { factor: f64::NAN, message: "the search did not finish within its evaluation cap".into() })
+}
+
+/// The search problem with its data owned (see [`SearchProblem`]).
+#[derive(Debug, Clone)]
+struct OwnedProblem {
+    a: DMatrix<f64>,
+    b: DMatrix<f64>,
+    c: Option<DMatrix<f64>>,
+    pattern: Vec<Complex64>,
+    limits: Vec<f64>,
+    situations: Vec<Situation>,
+    plant_states: usize,
+    domain: SearchDomain,
+}
+
+impl OwnedProblem {
+    fn view(&self) -> SearchProblem<'_> {
+        SearchProblem {
+            a: &self.a,
+            b: &self.b,
+            c: self.c.as_ref(),
+            pattern: &self.pattern,
+            limits: &self.limits,
+            situations: &self.situations,
+            plant_states: self.plant_states,
+            domain: self.domain.clone(),
         }
-        let e = evaluate(f, path.last().and_then(|(_, e)| e.eigenvectors.as_ref()))?;
-        if j == 0 && e.ratio > 1.0 {
-            return Err(SearchError::LimitsExceededAtSlowest { factor: lo0, ratio: e.ratio, situation: e.situation, input: e.input });
+    }
+}
+
+/// Where a [`SearchRun`] is.
+enum Stage {
+    /// Step 1: the path, at its `next` factor.
+    Path {
+        next: usize,
+        path: Vec<(f64, Evaluation)>,
+        first_over: Option<usize>,
+    },
+    /// Step 2: bisection on `log α` in `[lo, hi]`, `best` the evaluation at `lo`.
+    Bisect {
+        lo: f64,
+        hi: f64,
+        lo_f: f64,
+        best: Evaluation,
+        done: usize,
+        branch_trouble: bool,
+        samples: Vec<(f64, f64)>,
+        monotonic: bool,
+    },
+    Finished,
+}
+
+/// The search of [`fastest_within_limits_of`], one evaluation of `φ` (one placement and the
+/// situations' simulations) per [`SearchRun::step`], so that a caller can spread it over time
+/// (the page runs a few steps per slice of its main thread). The steps are exactly those of
+/// the one-piece search, in the same order: the result is the same, bit for bit.
+pub struct SearchRun {
+    problem: OwnedProblem,
+    params: SearchParams,
+    ff: Option<(DMatrix<f64>, DMatrix<f64>)>,
+    evaluations: usize,
+    stage: Stage,
+}
+
+impl SearchRun {
+    /// Checks the problem and prepares the run (the feedforward gains for reference steps).
+    ///
+    /// # Errors
+    /// [`SearchError`] for a malformed problem or when the feedforward cannot be computed.
+    pub fn new(problem: &SearchProblem, params: SearchParams) -> Result<SearchRun, SearchError> {
+        check_problem(problem)?;
+        let m = problem.b.ncols();
+        let discrete = matches!(problem.domain, SearchDomain::Sampled { .. });
+        let ff = match problem.c {
+            Some(c) if problem.situations.iter().any(|s| matches!(s, Situation::ReferenceStep(_))) => {
+                let d = DMatrix::zeros(c.nrows(), m);
+                Some(feedforward_gains(problem.a, problem.b, c, &d, discrete).map_err(|e| SearchError::Step { factor: 1.0, message: e.to_string() })?)
+            }
+            _ => None,
+        };
+        let problem = OwnedProblem {
+            a: problem.a.clone(),
+            b: problem.b.clone(),
+            c: problem.c.cloned(),
+            pattern: problem.pattern.to_vec(),
+            limits: problem.limits.to_vec(),
+            situations: problem.situations.to_vec(),
+            plant_states: problem.plant_states,
+            domain: problem.domain.clone(),
+        };
+        Ok(SearchRun { problem, params, ff, evaluations: 0, stage: Stage::Path { next: 0, path: Vec::new(), first_over: None } })
+    }
+
+    /// Evaluations of `φ` so far.
+    pub fn evaluations(&self) -> usize {
+        self.evaluations
+    }
+
+    /// The most evaluations the run can make: the path's factors and the bisection's cap.
+    pub fn max_steps(&self) -> usize {
+        self.params.path_samples.max(2) + self.params.max_iterations
+    }
+
+    /// Evaluates `φ` once (or finishes); `Some` with the outcome once the search is over, and
+    /// then again on every later call.
+    pub fn step(&mut self) -> Option<Result<SearchResult, SearchError>> {
+        // A stage change evaluates nothing: at most two of them before an evaluation or the end.
+        for _ in 0..3 {
+            let stage = std::mem::replace(&mut self.stage, Stage::Finished);
+            let (stage, outcome) = match stage {
+                Stage::Path { next, path, first_over } => self.path_step(next, path, first_over),
+                Stage::Bisect { lo, hi, lo_f, best, done, branch_trouble, samples, monotonic } => self.bisect_step(Bracket { lo, hi, lo_f }, best, done, branch_trouble, samples, monotonic),
+                Stage::Finished => (Stage::Finished, Some(StepOutcome::Done(Err(SearchError::Step { factor: f64::NAN, message: "the search has already finished".into() })))),
+            };
+            self.stage = stage;
+            match outcome {
+                Some(StepOutcome::Evaluated) => return None,
+                Some(StepOutcome::Done(r)) => return Some(r),
+                None => continue,
+            }
+        }
+        None
+    }
+
+    fn evaluate(&mut self, alpha: f64, start: Option<&Eigenvectors>) -> Result<Evaluation, SearchError> {
+        self.evaluations += 1;
+        evaluate_at(&self.problem.view(), self.ff.as_ref(), alpha, start, self.params)
+    }
+
+    /// One factor of the path, or the move to the bisection (or the end) once the path is over.
+    fn path_step(&mut self, next: usize, mut path: Vec<(f64, Evaluation)>, mut first_over: Option<usize>) -> (Stage, Option<StepOutcome>) {
+        let (lo0, hi0) = (self.params.min_factor, self.params.max_factor);
+        let count = self.params.path_samples.max(2);
+        let step = (hi0.ln() - lo0.ln()) / (count - 1) as f64;
+        let f = (lo0.ln() + step * next as f64).exp();
+        let over = next >= count || first_over.is_some_and(|i| f > 2.0 * path[i].0 * (1.0 + 1e-12));
+        if over {
+            return self.after_path(path, first_over);
+        }
+        let e = match self.evaluate(f, path.last().and_then(|(_, e)| e.eigenvectors.as_ref())) {
+            Ok(e) => e,
+            Err(err) => return (Stage::Finished, Some(StepOutcome::Done(Err(err)))),
+        };
+        if next == 0 && e.ratio > 1.0 {
+            return (Stage::Finished, Some(StepOutcome::Done(Err(SearchError::LimitsExceededAtSlowest { factor: lo0, ratio: e.ratio, situation: e.situation, input: e.input }))));
         }
         if first_over.is_none() && e.ratio > 1.0 {
             first_over = Some(path.len());
         }
         path.push((f, e));
+        (Stage::Path { next: next + 1, path, first_over }, Some(StepOutcome::Evaluated))
     }
-    let samples: Vec<(f64, f64)> = path.iter().map(|(f, e)| (*f, e.ratio)).collect();
-    let monotonic = samples.windows(2).all(|w| w[1].1 >= w[0].1 * (1.0 - 1e-9));
-    // 2. Bisection in the first bracket.
-    let Some(over) = first_over else {
-        let (f, best) = path.pop().ok_or(SearchError::NoSituations)?;
-        return Ok(finish(problem, f, best, samples, monotonic, true, evaluations, None));
-    };
-    path.truncate(over + 1);
-    let (hi_f, hi_e) = path.pop().ok_or(SearchError::NoSituations)?;
-    let (mut lo_f, mut best) = path.pop().ok_or(SearchError::NoSituations)?;
-    let (mut lo, mut hi) = (lo_f.ln(), hi_f.ln());
-    let mut branch_trouble = matches!(hi_e.branch, Branch::Changed { .. } | Branch::Lost { .. });
-    for _ in 0..params.max_iterations {
-        if hi - lo <= params.tolerance {
-            break;
+
+    /// The path is over: the result when no factor exceeded a limit, else the first bracket.
+    fn after_path(&mut self, mut path: Vec<(f64, Evaluation)>, first_over: Option<usize>) -> (Stage, Option<StepOutcome>) {
+        let samples: Vec<(f64, f64)> = path.iter().map(|(f, e)| (*f, e.ratio)).collect();
+        let monotonic = samples.windows(2).all(|w| w[1].1 >= w[0].1 * (1.0 - 1e-9));
+        let Some(over) = first_over else {
+            let outcome = match path.pop() {
+                Some((f, best)) => Ok(finish(&self.problem.view(), f, best, samples, monotonic, true, self.evaluations, None)),
+                None => Err(SearchError::NoSituations),
+            };
+            return (Stage::Finished, Some(StepOutcome::Done(outcome)));
+        };
+        path.truncate(over + 1);
+        let (Some((hi_f, hi_e)), Some((lo_f, best))) = (path.pop(), path.pop()) else {
+            return (Stage::Finished, Some(StepOutcome::Done(Err(SearchError::NoSituations))));
+        };
+        let branch_trouble = matches!(hi_e.branch, Branch::Changed { .. } | Branch::Lost { .. });
+        (Stage::Bisect { lo: lo_f.ln(), hi: hi_f.ln(), lo_f, best, done: 0, branch_trouble, samples, monotonic }, None)
+    }
+
+    /// One bisection step, or the result once the bracket is narrow enough (or the cap reached).
+    fn bisect_step(&mut self, bracket: Bracket, mut best: Evaluation, done: usize, mut branch_trouble: bool, samples: Vec<(f64, f64)>, monotonic: bool) -> (Stage, Option<StepOutcome>) {
+        let Bracket { mut lo, mut hi, mut lo_f } = bracket;
+        if done >= self.params.max_iterations || hi - lo <= self.params.tolerance {
+            // 3. Verification at the factor found.
+            let reason = if branch_trouble {
+                SearchShortfall::BranchChange
+            } else if !monotonic {
+                SearchShortfall::NonMonotonic
+            } else {
+                SearchShortfall::Discontinuous
+            };
+            let shortfall = (best.ratio < 0.97).then_some(reason);
+            let result = finish(&self.problem.view(), lo_f, best, samples, monotonic, false, self.evaluations, shortfall);
+            return (Stage::Finished, Some(StepOutcome::Done(Ok(result))));
         }
         let mid = 0.5 * (lo + hi);
-        let e = evaluate(mid.exp(), best.eigenvectors.as_ref())?;
+        let e = match self.evaluate(mid.exp(), best.eigenvectors.as_ref()) {
+            Ok(e) => e,
+            Err(err) => return (Stage::Finished, Some(StepOutcome::Done(Err(err)))),
+        };
         branch_trouble |= matches!(e.branch, Branch::Changed { .. } | Branch::Lost { .. });
         if e.ratio <= 1.0 {
             lo = mid;
@@ -321,17 +469,21 @@ pub fn fastest_within_limits_of(problem: &SearchProblem, params: SearchParams) -
         } else {
             hi = mid;
         }
+        (Stage::Bisect { lo, hi, lo_f, best, done: done + 1, branch_trouble, samples, monotonic }, Some(StepOutcome::Evaluated))
     }
-    // 3. Verification at the factor found.
-    let reason = if branch_trouble {
-        SearchShortfall::BranchChange
-    } else if !monotonic {
-        SearchShortfall::NonMonotonic
-    } else {
-        SearchShortfall::Discontinuous
-    };
-    let shortfall = (best.ratio < 0.97).then_some(reason);
-    Ok(finish(problem, lo_f, best, samples, monotonic, false, evaluations, shortfall))
+}
+
+/// The bisection's bracket: `[lo, hi]` in `log α`, and the factor at `lo` as evaluated.
+struct Bracket {
+    lo: f64,
+    hi: f64,
+    lo_f: f64,
+}
+
+/// What one stage step did.
+enum StepOutcome {
+    Evaluated,
+    Done(Result<SearchResult, SearchError>),
 }
 
 #[allow(clippy::too_many_arguments)]

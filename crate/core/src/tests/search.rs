@@ -42,3 +42,35 @@ fn too_tight_limits_and_bad_sizes() {
     let e = fastest_within_limits(&a, &b, None, &pattern, &[1.0], &[Situation::ReferenceStep(vec![1.0])], SearchParams::default()).unwrap_err();
     assert_eq!(e, SearchError::NeedsOutputs);
 }
+
+#[test]
+fn a_run_in_steps_is_one_evaluation_per_step_and_ends_where_the_search_ends() {
+    // The double integrator above (α = 2 by hand), stepped as the page steps it: each `None`
+    // is exactly one more evaluation; the outcome arrives with the count the result reports,
+    // and then stays; an error ends the run the same way.
+    let a = DMatrix::from_row_slice(2, 2, &[0.0, 1.0, 0.0, 0.0]);
+    let b = DMatrix::from_row_slice(2, 1, &[0.0, 1.0]);
+    let pattern = [Complex64::new(-1.0, 1.0), Complex64::new(-1.0, -1.0)];
+    let situations = [Situation::InitialState(vec![1.0, 0.0])];
+    let problem = SearchProblem { a: &a, b: &b, c: None, pattern: &pattern, limits: &[8.0], situations: &situations, plant_states: 2, domain: SearchDomain::Continuous };
+    let mut run = SearchRun::new(&problem, SearchParams::default()).unwrap();
+    let mut steps = 0;
+    let outcome = loop {
+        let before = run.evaluations();
+        match run.step() {
+            None => assert_eq!(run.evaluations(), before + 1, "step {steps}"),
+            Some(r) => break r,
+        }
+        steps += 1;
+        assert!(steps <= run.max_steps(), "no end after {steps} steps");
+    };
+    let r = outcome.unwrap();
+    assert!((r.speed_factor - 2.0).abs() < 2e-3 * 2.0, "{}", r.speed_factor);
+    assert_eq!(r.evaluations, run.evaluations());
+    assert!(steps + 1 >= r.evaluations && steps <= r.evaluations, "{steps} steps, {} evaluations", r.evaluations);
+    assert!(matches!(run.step(), Some(Err(_))), "a finished run says so");
+    let tight = SearchProblem { limits: &[1e-9], ..problem.clone() };
+    let mut run = SearchRun::new(&tight, SearchParams::default()).unwrap();
+    assert!(matches!(run.step(), Some(Err(SearchError::LimitsExceededAtSlowest { .. }))));
+    assert_eq!(run.evaluations(), 1);
+}
