@@ -35,7 +35,7 @@ pub use polewright_core::*;
 pub use check::{canonical, check, check_text, choose_poles, CheckReport, CheckedDesign, PoleRequest};
 pub use path::FieldPath;
 pub use result::*;
-pub use run::{fmt_num, run, run_checked, run_checked_continued, run_continued, run_text, run_with};
+pub use run::{fmt_num, run, run_checked, run_checked_continued, run_continued, run_text, run_with, search_job};
 pub use spec::{read_design, write_design, DesignSpec, DESIGN_FORMAT, DESIGN_VERSION};
 
 /// The result format name.
@@ -284,12 +284,12 @@ pub struct Continuation {
 }
 
 /// A search for the fastest design within the limits together with everything it was computed
-/// from (owned copies, compared exactly): [`SearchMemo::result_for`] gives the result only
-/// for equal inputs, so reusing it cannot change a design.
+/// from (owned copies, compared exactly): [`SearchMemo::outcome_for`] gives the outcome (a result
+/// or the reason it failed) only for equal inputs, so reusing it cannot change a design.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SearchMemo {
     inputs: SearchInputs,
-    result: crate::search::SearchResult,
+    outcome: Result<crate::search::SearchResult, crate::search::SearchError>,
 }
 
 /// The inputs of one search (see [`crate::search::SearchProblem`]).
@@ -306,19 +306,66 @@ pub(crate) struct SearchInputs {
     pub params: crate::search::SearchParams,
 }
 
+impl SearchInputs {
+    pub(crate) fn problem(&self) -> crate::search::SearchProblem<'_> {
+        crate::search::SearchProblem {
+            a: &self.a,
+            b: &self.b,
+            c: self.c.as_ref(),
+            pattern: &self.pattern,
+            limits: &self.limits,
+            situations: &self.situations,
+            plant_states: self.plant_states,
+            domain: self.domain.clone(),
+        }
+    }
+}
+
 impl SearchMemo {
-    pub(crate) fn new(inputs: SearchInputs, result: crate::search::SearchResult) -> SearchMemo {
-        SearchMemo { inputs, result }
+    pub(crate) fn new(inputs: SearchInputs, outcome: Result<crate::search::SearchResult, crate::search::SearchError>) -> SearchMemo {
+        SearchMemo { inputs, outcome }
     }
 
-    /// The result, for the inputs it was computed from.
-    pub(crate) fn result(&self) -> &crate::search::SearchResult {
-        &self.result
+    /// The outcome, for the inputs it was computed from.
+    pub(crate) fn outcome(&self) -> &Result<crate::search::SearchResult, crate::search::SearchError> {
+        &self.outcome
     }
 
-    /// The remembered result when `inputs` are exactly those it was computed from.
-    pub(crate) fn result_for(&self, inputs: &SearchInputs) -> Option<&crate::search::SearchResult> {
-        (self.inputs == *inputs).then_some(&self.result)
+    /// The remembered outcome when `inputs` are exactly those it was computed from.
+    pub(crate) fn outcome_for(&self, inputs: &SearchInputs) -> Option<&Result<crate::search::SearchResult, crate::search::SearchError>> {
+        (self.inputs == *inputs).then_some(&self.outcome)
+    }
+}
+
+/// A search for the fastest design that a caller runs in steps before the design
+/// ([`run::search_job`]): the page spreads it over slices of its main thread. Its memo, put
+/// into the [`Continuation`] of the run that follows, makes that run use the outcome instead of
+/// searching (the same outcome: the steps are those of the one-piece search).
+pub struct SearchJob {
+    inputs: SearchInputs,
+    run: crate::search::SearchRun,
+}
+
+impl SearchJob {
+    pub(crate) fn new(inputs: SearchInputs, run: crate::search::SearchRun) -> SearchJob {
+        SearchJob { inputs, run }
+    }
+
+    /// One evaluation of the search (one placement and its simulations); the memo once the
+    /// search is over.
+    pub fn step(&mut self) -> Option<SearchMemo> {
+        self.run.step().map(|outcome| SearchMemo::new(self.inputs.clone(), outcome))
+    }
+
+    /// Evaluations so far.
+    pub fn evaluations(&self) -> usize {
+        self.run.evaluations()
+    }
+
+    /// The most evaluations the search can take (the path's factors and the bisection's cap;
+    /// about 40–60 are typical).
+    pub fn max_evaluations(&self) -> usize {
+        self.run.max_steps()
     }
 }
 

@@ -299,6 +299,16 @@ fn lqr_result(spec: &ControllerSpec, d: &crate::riccati::LqrDesign) -> LqrResult
 
 pub use warnings::OBSERVER_SPEED_RULE;
 
+/// The search for the fastest design that [`run_checked_continued`] would run for `design`
+/// after `previous`, ready to run in steps ([`crate::SearchJob`]); `None` when there is none
+/// to run: no search, its outcome already in `previous` for these very inputs, or an error
+/// before it (which the run then reports). Put the job's memo into the continuation given to
+/// the run and the run uses it instead of searching.
+pub fn search_job(design: &CheckedDesign, previous: Option<&crate::Continuation>) -> Option<crate::SearchJob> {
+    let s = setup::Setup::new(&design.request, &design.controller, previous).ok()?;
+    pair::search_job(&s)
+}
+
 /// Reads, checks and runs a design file (what the CLI does).
 ///
 /// # Errors

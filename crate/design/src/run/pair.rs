@@ -8,7 +8,7 @@ use super::setup::{infeasible, Setup};
 use crate::controller::{delay_augmented, integral_augmented, map_to_continuous};
 use crate::riccati::{LqrDesign, RiccatiError};
 use crate::search::SearchResult;
-use crate::{DesignError, FieldPath as P, InputError, LqrWeights, SearchInputs, SearchMemo};
+use crate::{DesignError, FieldPath as P, InputError, LqrWeights, SearchInputs, SearchJob, SearchMemo};
 
 /// The design pair and its requested poles.
 pub(super) struct DesignPair {
@@ -28,27 +28,45 @@ pub(super) struct DesignPair {
     pub lqr: Option<LqrDesign>,
 }
 
-/// Builds the pair; see the module documentation.
-pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
-    let spec = s.spec;
-    if spec.lqr.is_some() && spec.search.is_some() {
+/// The sampled (or continuous) plant with the computation-delay states after it, and the
+/// delay's poles: the part of the pair the search works on.
+fn plant_and_delay(s: &Setup) -> Result<(DMatrix<f64>, DMatrix<f64>, Vec<Complex64>), DesignError> {
+    if s.spec.lqr.is_some() && s.spec.search.is_some() {
         return Err(DesignError::Input(InputError::new(
             P::Search,
             "the search scales a pole pattern; with LQR weights, scale the weights instead (or list the LQR poles as feedback.poles and search)",
         )));
     }
-    let (mut da, mut db) = (s.ad.clone(), s.bd.clone());
-    let mut delay_poles = Vec::new();
-    if let (true, Some(imp)) = (s.delay, &spec.implementation) {
-        let (pa, pb) = delay_augmented(&da, &db);
-        da = pa;
-        db = pb;
-        delay_poles = imp.delay_poles.clone();
+    if let (true, Some(imp)) = (s.delay, &s.spec.implementation) {
+        let (pa, pb) = delay_augmented(&s.ad, &s.bd);
+        return Ok((pa, pb, imp.delay_poles.clone()));
     }
+    Ok((s.ad.clone(), s.bd.clone(), Vec::new()))
+}
+
+/// The search the design `s` asks for, ready to run in steps; `None` when there is none to
+/// run: no search, its outcome already in `s.previous` for these very inputs, or an error
+/// before it (the design run reports that).
+pub(super) fn search_job(s: &Setup) -> Option<SearchJob> {
+    let situations = s.spec.search.as_ref()?;
+    let (da, db, delay_poles) = plant_and_delay(s).ok()?;
+    let inputs = search_inputs(s, &da, &db, situations, &delay_poles).ok()?;
+    if s.previous.and_then(|p| p.search.as_ref()).and_then(|m| m.outcome_for(&inputs)).is_some() {
+        return None;
+    }
+    let run = crate::search::SearchRun::new(&inputs.problem(), inputs.params).ok()?;
+    Some(SearchJob::new(inputs, run))
+}
+
+/// Builds the pair; see the module documentation.
+pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
+    let spec = s.spec;
+    let (da, db, delay_poles) = plant_and_delay(s)?;
     let (search, search_memo, search_reused) = match &spec.search {
         Some(situations) => {
             let (memo, reused) = search(s, &da, &db, situations, &delay_poles)?;
-            (Some(memo.result().clone()), Some(memo), reused)
+            let result = memo.outcome().clone().map_err(|e| infeasible(&e))?;
+            (Some(result), Some(memo), reused)
         }
         None => (None, None, false),
     };
@@ -185,10 +203,9 @@ fn check_pole_count(s: &Setup, pair: &DesignPair) -> Result<(), DesignError> {
     Err(DesignError::Input(InputError::new(P::FeedbackPoles, message)))
 }
 
-/// The fastest design within the actuator limits: on the plant (continuous), or on the sampled
-/// plant with its computation-delay states (digital), the pattern in the s-plane. The previous
-/// run's search is reused when its inputs are exactly these ([`SearchMemo`]); the flag says so.
-fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::search::Situation], delay_poles: &[Complex64]) -> Result<(SearchMemo, bool), DesignError> {
+/// What the search works on: on the plant (continuous), or on the sampled plant with its
+/// computation-delay states (digital), the pattern in the s-plane.
+fn search_inputs(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::search::Situation], delay_poles: &[Complex64]) -> Result<SearchInputs, DesignError> {
     let limits: Vec<f64> = s.req.limits.iter().map(|l| l.unwrap_or(f64::INFINITY)).collect();
     let params = crate::search::SearchParams { band: s.req.band, max_samples: s.spec.scenario.max_samples.map_or(50_000, |c| c as usize), ..Default::default() };
     let pattern = s.to_s(&s.req.poles);
@@ -207,20 +224,16 @@ fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::
         Some(t) => crate::search::SearchDomain::Sampled { sample_time: t, fixed_poles: delay_poles.to_vec() },
         None => crate::search::SearchDomain::Continuous,
     };
-    let inputs = SearchInputs { a: da.clone(), b: db.clone(), c: c_pair, pattern, limits, situations: situations.to_vec(), plant_states: s.n, domain, params };
-    if let Some(r) = s.previous.and_then(|p| p.search.as_ref()).and_then(|m| m.result_for(&inputs)) {
-        return Ok((SearchMemo::new(inputs, r.clone()), true));
+    Ok(SearchInputs { a: da.clone(), b: db.clone(), c: c_pair, pattern, limits, situations: situations.to_vec(), plant_states: s.n, domain, params })
+}
+
+/// The fastest design within the actuator limits ([`search_inputs`]). The previous run's
+/// outcome is reused when its inputs are exactly these ([`SearchMemo`]); the flag says so.
+fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::search::Situation], delay_poles: &[Complex64]) -> Result<(SearchMemo, bool), DesignError> {
+    let inputs = search_inputs(s, da, db, situations, delay_poles)?;
+    if let Some(outcome) = s.previous.and_then(|p| p.search.as_ref()).and_then(|m| m.outcome_for(&inputs)) {
+        return Ok((SearchMemo::new(inputs.clone(), outcome.clone()), true));
     }
-    let problem = crate::search::SearchProblem {
-        a: &inputs.a,
-        b: &inputs.b,
-        c: inputs.c.as_ref(),
-        pattern: &inputs.pattern,
-        limits: &inputs.limits,
-        situations: &inputs.situations,
-        plant_states: inputs.plant_states,
-        domain: inputs.domain.clone(),
-    };
-    let result = crate::search::fastest_within_limits_of(&problem, inputs.params).map_err(|e| infeasible(&e))?;
-    Ok((SearchMemo::new(inputs, result), false))
+    let outcome = crate::search::fastest_within_limits_of(&inputs.problem(), inputs.params);
+    Ok((SearchMemo::new(inputs, outcome), false))
 }

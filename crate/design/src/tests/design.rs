@@ -147,9 +147,11 @@ fn a_search_is_reused_only_for_exactly_its_inputs() {
     // Proof that the memo, not a new search, gave that result: a doctored memo with the same
     // inputs is believed …
     let mut doctored = memo.clone();
-    doctored.result.speed_factor = 1.5;
-    doctored.result.poles = vec![Complex64::new(-1.5, 1.5), Complex64::new(-1.5, -1.5)];
-    doctored.result.eigenvectors = None;
+    if let Ok(r) = doctored.outcome.as_mut() {
+        r.speed_factor = 1.5;
+        r.poles = vec![Complex64::new(-1.5, 1.5), Complex64::new(-1.5, -1.5)];
+        r.eigenvectors = None;
+    }
     let previous = crate::Continuation { search: Some(doctored), ..first.continuation.clone() };
     let reused = run_checked_continued(&checked, Some(&previous)).unwrap();
     assert_eq!(reused.search.as_ref().map(|s| s.speed_factor), Some(1.5));
@@ -160,4 +162,37 @@ fn a_search_is_reused_only_for_exactly_its_inputs() {
     assert!((f - 2.0).abs() < 4e-3, "a changed limit must search again, not reuse 1.5: {f}");
     assert!(!fresh.search.as_ref().is_some_and(|s| s.reused));
     assert_ne!(fresh.continuation.search, previous.search);
+}
+
+#[test]
+fn a_search_run_in_steps_gives_the_design_of_a_fresh_run() {
+    // The page's way: the job stepped to its end, its memo handed to the run. The design is
+    // bitwise that of a fresh run (the command line's), and no further job is offered.
+    let checked = check_text(SEARCHED).unwrap();
+    let fresh = run_checked(&checked).unwrap();
+    let mut job = search_job(&checked, None).expect("a search to run");
+    let mut memo = None;
+    for _ in 0..=job.max_evaluations() {
+        if let Some(m) = job.step() {
+            memo = Some(m);
+            break;
+        }
+    }
+    let previous = crate::Continuation { search: Some(memo.expect("the job ends")), ..Default::default() };
+    assert!(search_job(&checked, Some(&previous)).is_none(), "nothing left to search");
+    let stepped = run_checked_continued(&checked, Some(&previous)).unwrap();
+    assert_eq!(stepped.feedback.gain, fresh.feedback.gain);
+    let (a, b) = (stepped.search.as_ref().unwrap(), fresh.search.as_ref().unwrap());
+    assert_eq!((a.speed_factor, a.evaluations, a.peak_ratio), (b.speed_factor, b.evaluations, b.peak_ratio));
+    assert!(a.reused && !b.reused);
+    // A search that fails fails the same way from its memo.
+    let tight = check_text(&SEARCHED.replace("\"limit\": [8]", "\"limit\": [1e-9]")).unwrap();
+    let fresh_error = run_checked(&tight).unwrap_err().to_string();
+    let mut job = search_job(&tight, None).expect("a search to run");
+    let memo = (0..=job.max_evaluations()).find_map(|_| job.step()).expect("the job ends");
+    let previous = crate::Continuation { search: Some(memo), ..Default::default() };
+    assert_eq!(run_checked_continued(&tight, Some(&previous)).unwrap_err().to_string(), fresh_error);
+    assert!(fresh_error.contains("even at the slowest speed factor"), "{fresh_error}");
+    // No search asked for: no job.
+    assert!(search_job(&check_text(TEXTBOOK).unwrap(), None).is_none());
 }
