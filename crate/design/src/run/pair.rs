@@ -28,9 +28,12 @@ pub(super) struct DesignPair {
     pub lqr: Option<LqrDesign>,
 }
 
+/// `A`, `B` of the plant with the computation-delay states after it, and the delay's poles.
+type PlantAndDelay = (DMatrix<f64>, DMatrix<f64>, Vec<Complex64>);
+
 /// The sampled (or continuous) plant with the computation-delay states after it, and the
 /// delay's poles: the part of the pair the search works on.
-fn plant_and_delay(s: &Setup) -> Result<(DMatrix<f64>, DMatrix<f64>, Vec<Complex64>), DesignError> {
+fn plant_and_delay(s: &Setup) -> Result<PlantAndDelay, DesignError> {
     if s.spec.lqr.is_some() && s.spec.search.is_some() {
         return Err(DesignError::Input(InputError::new(
             P::Search,
