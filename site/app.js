@@ -61,33 +61,10 @@ async function wasmBytes() {
 
 
 let pending = 0;
-const runCycle = () => {
-  if (ready) update_page();
-  rememberNow();
-};
-// With the search for the fastest design on, a cycle may run some forty placements and
-// simulations (the page reuses the last search while its inputs are unchanged): say so first,
-// let the browser paint it (a frame, then a task), then design. Only the latest request runs.
-let searchRequest = 0;
 const designNow = guarded(() => {
   clearTimeout(pending);
-  const search = byId('pw-search');
-  if (!(ready && search && search.checked)) {
-    runCycle();
-    return;
-  }
-  const request = ++searchRequest;
-  const verdicts = byId('pw-verdicts');
-  verdicts.setAttribute('aria-busy', 'true');
-  byId('pw-status').textContent = 'Designing: searching for the fastest design within the actuator limits…';
-  requestAnimationFrame(() => setTimeout(guarded(() => {
-    if (request !== searchRequest) return;
-    try {
-      runCycle();
-    } finally {
-      if (request === searchRequest && byId('pw-status').getAttribute('data-pending') !== 'robustness') verdicts.removeAttribute('aria-busy');
-    }
-  }), 0));
+  if (ready) update_page();
+  rememberNow();
 });
 const designSoon = () => {
   if (!ready) return;

@@ -325,44 +325,59 @@ describe('choosing the poles from the form', () => {
     });
   });
 
-  test('the search for the fastest design is announced first, then reused while its inputs stay the same', async () => {
+  test('the search for the fastest design runs in slices, says so, and is not repeated while its inputs stay the same', async () => {
     await withPage(pageFileUrl, async (ctx) => {
       const { page } = ctx;
       await page.selectOption('#pw-pole_source', 'pattern');
       await page.fill('#pw-pattern_settling_time', '0.4');
       assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
-      // A design request with the search on says so at once (status line, verdicts busy),
-      // before the work runs at the next frame.
-      await page.check('#pw-search');
-      await page.waitForFunction(() => /Speed factor/.test(document.getElementById('pw-choice-details').textContent));
-      await settled(page);
-      const shown = await page.evaluate(() => {
-        document.getElementById('pw-status').removeAttribute('data-outcome');
-        document.getElementById('pw-design').click();
-        return [document.getElementById('pw-status').textContent, document.getElementById('pw-verdicts').getAttribute('aria-busy')];
+      // Turning the search on: the cycle leaves the search to slices of the main thread and
+      // says so at once (read in the same task as the click, before any slice has run).
+      const started = await page.evaluate(() => {
+        const status = document.getElementById('pw-status');
+        status.removeAttribute('data-outcome');
+        const box = document.getElementById('pw-search');
+        box.checked = true;
+        box.dispatchEvent(new Event('change', { bubbles: true }));
+        return [status.textContent, status.getAttribute('data-pending'), status.getAttribute('data-outcome'), document.getElementById('pw-verdicts').getAttribute('aria-busy')];
       });
-      assert.match(shown[0], /^Designing: searching for the fastest design within the actuator limits/);
-      assert.equal(shown[1], 'true');
+      assert.match(started[0], /^Searching for the fastest design within the actuator limits: 0 trial designs of at most \d+ so far/);
+      assert.deepEqual(started.slice(1), ['search', null, 'true']);
       await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
       await settled(page);
-      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed', await page.textContent('#pw-status'));
       assert.equal(await page.getAttribute('#pw-verdicts', 'aria-busy'), null, 'not busy once designed');
       const factor = async () => Number(/Speed factor ([0-9.]+)/.exec(await page.textContent('#pw-search-facts'))[1]);
       const first = await factor();
-      // Nothing the search depends on changed since the checkbox's own cycle: reused.
-      assert.match(await page.textContent('#pw-search-facts'), /this design reused that search/);
-      // An input's name is not a search input: reused, the same factor.
-      await page.fill('#pw-input_names', 'push force');
-      assert.equal(await designNow(page), 'designed');
-      assert.match(await page.textContent('#pw-search-facts'), /this design reused that search/);
+      const trials = Number(/([0-9]+) trial designs were simulated/.exec(await page.textContent('#pw-search-facts'))[1]);
+      assert.ok(trials >= 10, `${trials} trial designs`);
+      // The count shown while it ran never passed the search's own.
+      assert.ok(Number(await page.getAttribute('#pw-status', 'data-search-evaluations')) <= trials);
+      // An input's name is not a search input: designed in the same task, no search.
+      const renamed = await page.evaluate(() => {
+        const status = document.getElementById('pw-status');
+        status.removeAttribute('data-outcome');
+        document.getElementById('pw-input_names').value = 'push force';
+        document.getElementById('pw-design').click();
+        return [status.getAttribute('data-pending'), status.getAttribute('data-outcome')];
+      });
+      assert.notEqual(renamed[0], 'search');
+      assert.equal(renamed[1], 'designed');
+      await settled(page);
       assert.equal(await factor(), first);
-      // A tighter limit is: a new search, a slower design.
+      // A tighter limit is a search input: a new search, in slices, and a slower design.
       const limit = Number((await page.inputValue('#pw-limits')).split(/[ ,]+/)[0]);
-      await page.fill('#pw-limits', String(limit / 2));
-      assert.equal(await designNow(page), 'designed');
-      const facts = await page.textContent('#pw-search-facts');
-      assert.doesNotMatch(facts, /reused/);
-      assert.match(facts, /trial designs were simulated\./);
+      const tightened = await page.evaluate((value) => {
+        const status = document.getElementById('pw-status');
+        status.removeAttribute('data-outcome');
+        document.getElementById('pw-limits').value = value;
+        document.getElementById('pw-design').click();
+        return status.getAttribute('data-pending');
+      }, String(limit / 2));
+      assert.equal(tightened, 'search');
+      await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+      await settled(page);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
       assert.ok((await factor()) < first, `${await factor()} against ${first}`);
       noErrors(ctx);
     });

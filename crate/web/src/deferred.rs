@@ -17,9 +17,6 @@ pub(crate) struct Pending {
     pub(crate) generation: u64,
     pub(crate) input: FormInput,
     pub(crate) previous: Option<crate::design::Continuation>,
-    /// Whether the quick run reused the previous cycle's search: the full-depth run reuses the
-    /// quick run's, which is part of the same cycle, and says what the quick run said.
-    pub(crate) search_reused: Option<bool>,
 }
 
 /// Forget any pending run (a newer cycle supersedes it); returns the next generation.
@@ -35,8 +32,7 @@ pub(crate) fn supersede(page: &mut PageState) -> u64 {
 /// When the status line is missing or the browser refuses the timer.
 pub(crate) fn schedule(doc: &Document, page: &mut PageState, input: FormInput, previous: Option<crate::design::Continuation>) -> Result<(), JsValue> {
     let generation = page.generation;
-    let search_reused = page.design.as_ref().and_then(|d| d.search.as_ref()).map(|r| r.reused);
-    page.pending = Some(Pending { generation, input, previous, search_reused });
+    page.pending = Some(Pending { generation, input, previous });
     let status = by_id(doc, ids::STATUS)?;
     status.set_attribute("data-pending", "robustness")?;
     status.remove_attribute("data-robustness-ms")?;
@@ -103,18 +99,10 @@ fn complete(generation: Option<u64>) -> Result<bool, JsValue> {
         if page.generation != p.generation || page.shown != Shown::Design {
             return Ok(false);
         }
-        let (Some(mut design), Some(mut report)) = (outcome.design.take(), outcome.report.take()) else {
+        let (Some(design), Some(report)) = (outcome.design.take(), outcome.report.take()) else {
             // The quick run designed this very input; keep what it showed.
             return Ok(false);
         };
-        if let Some(reused) = p.search_reused {
-            if let Some(r) = design.search.as_mut() {
-                r.reused = reused;
-            }
-            if let Some(r) = report.pole_choice.as_mut().and_then(|c| c.search.as_mut()) {
-                r.reused = reused;
-            }
-        }
         let discrete = design.domain == crate::analysis::Domain::Discrete;
         page.design = Some(design);
         paint_all(page)?;

@@ -265,6 +265,10 @@ struct PageState {
     pending: Option<deferred::Pending>,
     /// Counts cycles, so that a pending run left by an older one is not shown.
     generation: u64,
+    /// The search for the fastest design running in slices ([`search_slices`]).
+    search: Option<search_slices::Running>,
+    /// The last search run in slices, for the next cycle's design.
+    search_memo: Option<crate::design::SearchMemo>,
 }
 
 /// A drag in progress: the frame the map had when it began (kept, so that the view does not
@@ -336,6 +340,8 @@ thread_local! {
         edit_message: None,
         pending: None,
         generation: 0,
+        search: None,
+        search_memo: None,
     });
     /// Named durations of the last cycle's phases (milliseconds).
     static PHASES: RefCell<Vec<(&'static str, f64)>> = const { RefCell::new(Vec::new()) };
@@ -366,6 +372,7 @@ mod dom;
 mod plot_view;
 mod pole_edit;
 mod render;
+mod search_slices;
 pub use canvas::canvas_in_view;
 use canvas::*;
 pub use deferred::complete_robustness;
@@ -445,7 +452,9 @@ struct CycleSummary {
 /// One full cycle: read the form, evaluate (parse → analyse → place → simulate),
 /// update the field feedback and the results, paint the canvases. Returns
 /// `{ status, cycle_ms, errors }` and records `cycle_ms` in the status line's
-/// `data-cycle-ms` (and the phases in `data-cycle-phases`).
+/// `data-cycle-ms` (and the phases in `data-cycle-phases`); returns `null` when the design
+/// first needs a search for the fastest design, which then runs in slices and ends with this
+/// cycle ([`search_slices`]).
 #[wasm_bindgen]
 pub fn update_page() -> Result<JsValue, JsValue> {
     cycle(form::Depth::Full)
@@ -474,10 +483,24 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     phase("read", t_read - start);
     // Continue from the last design shown, so that gains move continuously as poles are
     // dragged or edited (the result says when a fresh design would differ).
-    let previous = with_page(|page| {
+    let (previous, fresh) = with_page(|page| {
         deferred::supersede(page);
-        Ok(if std::mem::take(&mut page.fresh_start) { None } else { page.design.as_ref().map(|d| d.continuation.clone()) })
+        page.search = None;
+        let fresh = std::mem::take(&mut page.fresh_start);
+        let mut previous = if fresh { None } else { page.design.as_ref().map(|d| d.continuation.clone()) };
+        // A search just run in slices: its outcome, for exactly its inputs.
+        if let Some(memo) = page.search_memo.take() {
+            previous.get_or_insert_with(Default::default).search = Some(memo);
+        }
+        Ok((previous, fresh))
     })?;
+    // A search to run first (not while a pole is dragged): in slices, then this cycle again.
+    if depth != form::Depth::Quick {
+        if let Some(job) = form::search_job(&input, previous.as_ref()) {
+            with_page(|page| search_slices::start(&doc, page, job, depth, fresh))?;
+            return Ok(JsValue::NULL);
+        }
+    }
     let defer = depth == form::Depth::Full;
     let mut outcome = form::evaluate_form_with(&input, previous.as_ref(), if defer { form::Depth::Quick } else { depth });
     let t_eval = now_ms();

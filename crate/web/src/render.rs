@@ -256,11 +256,7 @@ pub(crate) fn render_pole_choice(doc: &Document, c: Option<&form::PoleChoiceRepo
         let mut lines = vec![sr.speed_factor.clone(), sr.limiting.clone(), sr.peak_ratio.clone()];
         lines.extend(sr.settling_times.iter().cloned());
         lines.push(sr.monotonicity.clone());
-        lines.push(if sr.reused {
-            format!("{} trial designs were simulated when the search's inputs last changed; this design reused that search.", sr.evaluations)
-        } else {
-            format!("{} trial designs were simulated.", sr.evaluations)
-        });
+        lines.push(format!("{} trial designs were simulated.", sr.evaluations));
         lines.extend(sr.notes.iter().cloned());
         for line in &lines {
             list.append_child(&make(doc, "li", Some(line))?.into())?;

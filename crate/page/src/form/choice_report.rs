@@ -235,7 +235,6 @@ pub(crate) fn search_report(result: &DesignResult, s: &design::SearchSummary, co
         monotonic: s.monotonic,
         monotonicity,
         evaluations: s.evaluations,
-        reused: s.reused,
         notes: context.search_notes.clone(),
     }
 }

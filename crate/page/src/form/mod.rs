@@ -378,6 +378,22 @@ pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Con
     outcome
 }
 
+/// The search for the fastest design that [`evaluate_form_with`] would run for `form` after
+/// `previous`, ready to run in steps (the page spreads it over slices of its main thread);
+/// `None` when there is none to run: no search, an outcome already remembered in `previous`
+/// for these very inputs, or input errors (which the evaluation then reports).
+pub fn search_job(form: &FormInput, previous: Option<&crate::design::Continuation>) -> Option<crate::design::SearchJob> {
+    if !oversized_fields(form).is_empty() || page_capacity(form).is_some() {
+        return None;
+    }
+    let spec = adapter::spec_from_form(form).ok()?;
+    let checked = crate::design::check(&spec);
+    if !checked.errors.is_empty() {
+        return None;
+    }
+    crate::design::search_job(checked.design.as_ref()?, previous)
+}
+
 pub fn open_loop_analysis(plant: &Plant) -> Option<OpenLoopAnalysis> {
     let mut poles = try_eigenvalues(plant.a()).ok()?;
     sort_for_display(&mut poles);

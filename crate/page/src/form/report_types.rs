@@ -244,8 +244,6 @@ pub struct SearchReport {
     pub monotonicity: String,
     /// How many trial designs the search evaluated.
     pub evaluations: usize,
-    /// The search was not run again: its inputs are those of the previous design shown.
-    pub reused: bool,
     /// What the search did not consider (for example a reference step it could not judge).
     pub notes: Vec<String>,
 }

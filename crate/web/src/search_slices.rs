@@ -1,0 +1,95 @@
+//! The search for the fastest design, in slices of the main thread.
+//!
+//! A cycle whose design asks for a search that has not been run for its inputs
+//! ([`form::search_job`]) does not run it inside the cycle: it leaves a [`Running`] search,
+//! says so in the status line (`data-pending="search"`, the verdicts `aria-busy`, and the count
+//! of trial designs so far), and asks the browser for a call back. Each call runs trial designs
+//! for about [`SLICE_MS`] and gives the main thread back (typing, painting); when the search is
+//! over, its memo goes to the next cycle, which designs with it exactly as a fresh run would
+//! (the steps are those of the one-piece search). A newer cycle makes a running search stale (its
+//! generation no longer matches) and starts its own if it needs one.
+
+use super::*;
+
+/// How long one slice runs trial designs before giving the main thread back (ms). One trial
+/// design (a placement and the situations' simulations) can take longer than this near the
+/// page's state limit; a slice then runs exactly one.
+const SLICE_MS: f64 = 40.0;
+
+/// A search running in slices.
+pub(crate) struct Running {
+    generation: u64,
+    job: crate::design::SearchJob,
+    /// The cycle to run once the search is over, and whether it starts afresh.
+    depth: form::Depth,
+    fresh: bool,
+}
+
+/// Leave `job` to run in slices after this cycle; the cycle itself stops here.
+///
+/// # Errors
+/// When the status line is missing or the browser refuses the timer.
+pub(crate) fn start(doc: &Document, page: &mut PageState, job: crate::design::SearchJob, depth: form::Depth, fresh: bool) -> Result<(), JsValue> {
+    let generation = page.generation;
+    page.search = Some(Running { generation, job, depth, fresh });
+    show_progress(doc, 0, page.search.as_ref().map_or(0, |r| r.job.max_evaluations()))?;
+    if let Some(v) = doc.get_element_by_id(ids::VERDICTS) {
+        v.set_attribute("aria-busy", "true")?;
+    }
+    schedule(generation)
+}
+
+fn show_progress(doc: &Document, done: usize, most: usize) -> Result<(), JsValue> {
+    let status = by_id(doc, ids::STATUS)?;
+    status.set_attribute("data-pending", "search")?;
+    status.set_attribute("data-search-evaluations", &done.to_string())?;
+    status.set_text_content(Some(&format!("Searching for the fastest design within the actuator limits: {done} trial design{} of at most {most} so far…", if done == 1 { "" } else { "s" })));
+    Ok(())
+}
+
+fn schedule(generation: u64) -> Result<(), JsValue> {
+    let callback = Closure::once_into_js(move || {
+        if let Err(e) = slice(generation) {
+            report_internal_error(&format!("The search for the fastest design stopped: {}", e.as_string().unwrap_or_else(|| format!("{e:?}"))));
+        }
+    });
+    let window = web_sys::window().ok_or_else(|| JsValue::from_str("no window"))?;
+    window.set_timeout_with_callback_and_timeout_and_arguments_0(callback.unchecked_ref(), 0)?;
+    Ok(())
+}
+
+/// One slice of the search of `generation` (none if a newer cycle superseded it); the cycle it
+/// was left by, once it is over.
+fn slice(generation: u64) -> Result<(), JsValue> {
+    let start = now_ms();
+    let doc = document()?;
+    let finished = with_page(|page| {
+        let current = page.search.as_ref().is_some_and(|r| r.generation == generation && page.generation == generation);
+        if !current {
+            return Ok(None);
+        }
+        let Some(running) = page.search.as_mut() else {
+            return Ok(None);
+        };
+        // Capped by the search's own evaluation cap; a step that finishes ends the slice.
+        for _ in 0..=running.job.max_evaluations() {
+            if let Some(memo) = running.job.step() {
+                let (depth, fresh) = (running.depth, running.fresh);
+                page.search = None;
+                page.search_memo = Some(memo);
+                page.fresh_start = fresh;
+                return Ok(Some(depth));
+            }
+            if now_ms() - start >= SLICE_MS {
+                break;
+            }
+        }
+        show_progress(&doc, running.job.evaluations(), running.job.max_evaluations())?;
+        schedule(generation)?;
+        Ok(None)
+    })?;
+    match finished {
+        Some(depth) => cycle(depth).map(|_| ()),
+        None => Ok(()),
+    }
+}
