@@ -86,6 +86,34 @@ fn mu_of_rank_one_and_diagonal_matrices() {
     assert!((mu_upper_bound(&d) - 2.0).abs() < 1e-9 && (mu_lower_bound(&d) - 2.0).abs() < 1e-9);
 }
 
+#[test]
+fn many_inputs_the_capped_phase_search_still_brackets_mu() {
+    // With 8 and 12 inputs the lower bound's phase search stops at its evaluation cap
+    // (LOWER_BOUND_EVALUATIONS). What it returns must still be a lower bound: for rank-one
+    // matrices a bᴴ within 1e-6 of μ = Σ |a_i| |b_i| (the closed form above), and for seeded
+    // full matrices between the spectral radius (Q = I is among its starts, so the bound can
+    // only be larger; the spectral radius from nalgebra's complex Schur) and the
+    // D-scaling upper bound.
+    let mut rng = Rng(0x5eed_0c12);
+    let mut checked = 0;
+    for k in [8usize, 12] {
+        for _ in 0..3 {
+            let a: Vec<Complex64> = (0..k).map(|_| Complex64::new(rng.normal(), rng.normal())).collect();
+            let b: Vec<Complex64> = (0..k).map(|_| Complex64::new(rng.normal(), rng.normal())).collect();
+            let m = DMatrix::from_fn(k, k, |i, j| a[i] * b[j].conj());
+            let want: f64 = (0..k).map(|i| a[i].norm() * b[i].norm()).sum();
+            let lo = mu_lower_bound(&m);
+            assert!(lo <= want * (1.0 + 1e-12) && lo >= want * (1.0 - 1e-6), "k {k}: rank one, lower {lo} vs μ {want}");
+            let full = DMatrix::from_fn(k, k, |_, _| Complex64::new(rng.normal(), rng.normal()));
+            let rho = full.clone().schur().eigenvalues().map_or(f64::NAN, |e| e.iter().map(|z| z.norm()).fold(0.0, f64::max));
+            let (lo, up) = (mu_lower_bound(&full), mu_upper_bound(&full));
+            assert!(rho.is_finite() && lo >= rho * (1.0 - 1e-12) && lo <= up * (1.0 + 1e-9), "k {k}: ρ {rho}, lower {lo}, upper {up}");
+            checked += 1;
+        }
+    }
+    assert_eq!(checked, 6);
+}
+
 /// A seeded plant with `m` inputs whose LQR problem (Q = I, diagonal R) is well posed.
 fn lqr_loop(rng: &mut Rng, n: usize, m: usize) -> (LoopModel, DMatrix<f64>) {
     let a = DMatrix::from_fn(n, n, |_, _| rng.normal());
