@@ -270,21 +270,37 @@ pub fn fastest_within_limits_of(problem: &SearchProblem, params: SearchParams) -
     Err(SearchError::Step { factor: f64::NAN, message: "the search did not finish within its evaluation cap".into() })
 }
 
-/// The search problem with its data owned (see [`SearchProblem`]).
-#[derive(Debug, Clone)]
-struct OwnedProblem {
-    a: DMatrix<f64>,
-    b: DMatrix<f64>,
-    c: Option<DMatrix<f64>>,
-    pattern: Vec<Complex64>,
-    limits: Vec<f64>,
-    situations: Vec<Situation>,
-    plant_states: usize,
-    domain: SearchDomain,
+/// A [`SearchProblem`] with its data owned, comparable exactly (a caller that remembers a
+/// search keys it by this and the [`SearchParams`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct SearchData {
+    pub a: DMatrix<f64>,
+    pub b: DMatrix<f64>,
+    pub c: Option<DMatrix<f64>>,
+    pub pattern: Vec<Complex64>,
+    pub limits: Vec<f64>,
+    pub situations: Vec<Situation>,
+    pub plant_states: usize,
+    pub domain: SearchDomain,
 }
 
-impl OwnedProblem {
-    fn view(&self) -> SearchProblem<'_> {
+impl SearchData {
+    /// Owned copies of `problem`'s data.
+    pub fn new(problem: &SearchProblem) -> SearchData {
+        SearchData {
+            a: problem.a.clone(),
+            b: problem.b.clone(),
+            c: problem.c.cloned(),
+            pattern: problem.pattern.to_vec(),
+            limits: problem.limits.to_vec(),
+            situations: problem.situations.to_vec(),
+            plant_states: problem.plant_states,
+            domain: problem.domain.clone(),
+        }
+    }
+
+    /// The problem, borrowing this data.
+    pub fn problem(&self) -> SearchProblem<'_> {
         SearchProblem {
             a: &self.a,
             b: &self.b,
@@ -325,7 +341,7 @@ enum Stage {
 /// (the page runs a few steps per slice of its main thread). The steps are exactly those of
 /// the one-piece search, in the same order: the result is the same, bit for bit.
 pub struct SearchRun {
-    problem: OwnedProblem,
+    problem: SearchData,
     params: SearchParams,
     ff: Option<(DMatrix<f64>, DMatrix<f64>)>,
     evaluations: usize,
@@ -348,16 +364,7 @@ impl SearchRun {
             }
             _ => None,
         };
-        let problem = OwnedProblem {
-            a: problem.a.clone(),
-            b: problem.b.clone(),
-            c: problem.c.cloned(),
-            pattern: problem.pattern.to_vec(),
-            limits: problem.limits.to_vec(),
-            situations: problem.situations.to_vec(),
-            plant_states: problem.plant_states,
-            domain: problem.domain.clone(),
-        };
+        let problem = SearchData::new(problem);
         Ok(SearchRun { problem, params, ff, evaluations: 0, stage: Stage::Path { next: 0, path: Vec::new(), first_over: None } })
     }
 
@@ -394,7 +401,7 @@ impl SearchRun {
 
     fn evaluate(&mut self, alpha: f64, start: Option<&Eigenvectors>) -> Result<Evaluation, SearchError> {
         self.evaluations += 1;
-        evaluate_at(&self.problem.view(), self.ff.as_ref(), alpha, start, self.params)
+        evaluate_at(&self.problem.problem(), self.ff.as_ref(), alpha, start, self.params)
     }
 
     /// One factor of the path, or the move to the bisection (or the end) once the path is over.
@@ -427,7 +434,7 @@ impl SearchRun {
         let monotonic = samples.windows(2).all(|w| w[1].1 >= w[0].1 * (1.0 - 1e-9));
         let Some(over) = first_over else {
             let outcome = match path.pop() {
-                Some((f, best)) => Ok(finish(&self.problem.view(), f, best, samples, monotonic, true, self.evaluations, None)),
+                Some((f, best)) => Ok(finish(&self.problem.problem(), f, best, samples, monotonic, true, self.evaluations, None)),
                 None => Err(SearchError::NoSituations),
             };
             return (Stage::Finished, Some(StepOutcome::Done(outcome)));
@@ -453,7 +460,7 @@ impl SearchRun {
                 SearchShortfall::Discontinuous
             };
             let shortfall = (best.ratio < 0.97).then_some(reason);
-            let result = finish(&self.problem.view(), lo_f, best, samples, monotonic, false, self.evaluations, shortfall);
+            let result = finish(&self.problem.problem(), lo_f, best, samples, monotonic, false, self.evaluations, shortfall);
             return (Stage::Finished, Some(StepOutcome::Done(Ok(result))));
         }
         let mid = 0.5 * (lo + hi);

@@ -292,33 +292,11 @@ pub struct SearchMemo {
     outcome: Result<crate::search::SearchResult, crate::search::SearchError>,
 }
 
-/// The inputs of one search (see [`crate::search::SearchProblem`]).
+/// The inputs of one search: its data and its tuning.
 #[derive(Debug, Clone, PartialEq)]
 pub(crate) struct SearchInputs {
-    pub a: DMatrix<f64>,
-    pub b: DMatrix<f64>,
-    pub c: Option<DMatrix<f64>>,
-    pub pattern: Vec<Complex64>,
-    pub limits: Vec<f64>,
-    pub situations: Vec<crate::search::Situation>,
-    pub plant_states: usize,
-    pub domain: crate::search::SearchDomain,
+    pub data: crate::search::SearchData,
     pub params: crate::search::SearchParams,
-}
-
-impl SearchInputs {
-    pub(crate) fn problem(&self) -> crate::search::SearchProblem<'_> {
-        crate::search::SearchProblem {
-            a: &self.a,
-            b: &self.b,
-            c: self.c.as_ref(),
-            pattern: &self.pattern,
-            limits: &self.limits,
-            situations: &self.situations,
-            plant_states: self.plant_states,
-            domain: self.domain.clone(),
-        }
-    }
 }
 
 impl SearchMemo {

@@ -57,7 +57,7 @@ pub(super) fn search_job(s: &Setup) -> Option<SearchJob> {
     if s.previous.and_then(|p| p.search.as_ref()).and_then(|m| m.outcome_for(&inputs)).is_some() {
         return None;
     }
-    let run = crate::search::SearchRun::new(&inputs.problem(), inputs.params).ok()?;
+    let run = crate::search::SearchRun::new(&inputs.data.problem(), inputs.params).ok()?;
     Some(SearchJob::new(inputs, run))
 }
 
@@ -227,7 +227,8 @@ fn search_inputs(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[
         Some(t) => crate::search::SearchDomain::Sampled { sample_time: t, fixed_poles: delay_poles.to_vec() },
         None => crate::search::SearchDomain::Continuous,
     };
-    Ok(SearchInputs { a: da.clone(), b: db.clone(), c: c_pair, pattern, limits, situations: situations.to_vec(), plant_states: s.n, domain, params })
+    let data = crate::search::SearchData { a: da.clone(), b: db.clone(), c: c_pair, pattern, limits, situations: situations.to_vec(), plant_states: s.n, domain };
+    Ok(SearchInputs { data, params })
 }
 
 /// The fastest design within the actuator limits ([`search_inputs`]). The previous run's
@@ -237,6 +238,6 @@ fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::
     if let Some(outcome) = s.previous.and_then(|p| p.search.as_ref()).and_then(|m| m.outcome_for(&inputs)) {
         return Ok((SearchMemo::new(inputs.clone(), outcome.clone()), true));
     }
-    let outcome = crate::search::fastest_within_limits_of(&inputs.problem(), inputs.params);
+    let outcome = crate::search::fastest_within_limits_of(&inputs.data.problem(), inputs.params);
     Ok((SearchMemo::new(inputs, outcome), false))
 }
