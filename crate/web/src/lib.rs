@@ -467,6 +467,43 @@ pub fn sample_uncertainty() -> Result<JsValue, JsValue> {
     cycle(form::Depth::WithCloud)
 }
 
+/// What a new cycle continues from, and whether it starts afresh: the last design shown, so
+/// that gains move continuously as poles are dragged or edited (the result says when a fresh
+/// design would differ), with the outcome of a search just run in slices. Drops whatever an
+/// older cycle left running (robustness analysis, search).
+fn continue_from(page: &mut PageState) -> (Option<crate::design::Continuation>, bool) {
+    deferred::supersede(page);
+    page.search = None;
+    let fresh = std::mem::take(&mut page.fresh_start);
+    let mut previous = if fresh { None } else { page.design.as_ref().map(|d| d.continuation.clone()) };
+    if let Some(memo) = page.search_memo.take() {
+        previous.get_or_insert_with(Default::default).search = Some(memo);
+    }
+    (previous, fresh)
+}
+
+/// The status line at the end of a cycle: its text with the cycle time, and the attributes
+/// tests and benchmarks read (`data-cycle-ms`, `data-cycle-phases`, `data-outcome`).
+fn finish_status(doc: &Document, status: FormStatus, text: &str, cycle_ms: f64) -> Result<(), JsValue> {
+    let status_el = by_id(doc, ids::STATUS)?;
+    status_el.set_text_content(Some(&format!("{text} Cycle time {:.1} ms.", cycle_ms)));
+    status_el.set_attribute("data-cycle-ms", &format!("{cycle_ms}"))?;
+    let phases = PHASES.with(|p| p.try_borrow().map(|v| v.iter().map(|(k, ms)| format!("{k}={ms:.3}")).collect::<Vec<_>>().join(" ")).unwrap_or_default());
+    status_el.set_attribute("data-cycle-phases", &phases)?;
+    status_el.set_attribute(
+        "data-outcome",
+        match status {
+            FormStatus::Designed => "designed",
+            FormStatus::Invalid => "invalid",
+            FormStatus::Infeasible => "infeasible",
+        },
+    )?;
+    if status_el.class_list().contains("is-error") != (status != FormStatus::Designed) {
+        status_el.class_list().toggle_with_force("is-error", status != FormStatus::Designed)?;
+    }
+    Ok(())
+}
+
 /// The design cycle at a given depth (quick while a pole is dragged). At
 /// [`form::Depth::Full`] the cycle itself runs quick and leaves the robustness analysis for
 /// right after it ([`deferred`]).
@@ -481,19 +518,7 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     let input = read_form(&doc)?;
     let t_read = now_ms();
     phase("read", t_read - start);
-    // Continue from the last design shown, so that gains move continuously as poles are
-    // dragged or edited (the result says when a fresh design would differ).
-    let (previous, fresh) = with_page(|page| {
-        deferred::supersede(page);
-        page.search = None;
-        let fresh = std::mem::take(&mut page.fresh_start);
-        let mut previous = if fresh { None } else { page.design.as_ref().map(|d| d.continuation.clone()) };
-        // A search just run in slices: its outcome, for exactly its inputs.
-        if let Some(memo) = page.search_memo.take() {
-            previous.get_or_insert_with(Default::default).search = Some(memo);
-        }
-        Ok((previous, fresh))
-    })?;
+    let (previous, fresh) = with_page(|page| Ok(continue_from(page)))?;
     // A search to run first (not while a pole is dragged): in slices, then this cycle again.
     if depth != form::Depth::Quick {
         if let Some(job) = form::search_job(&input, previous.as_ref()) {
@@ -618,25 +643,10 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
         Ok(text)
     })?;
     let cycle_ms = now_ms() - start;
-    let status_el = by_id(&doc, ids::STATUS)?;
     if !(defer && status == FormStatus::Designed) {
         deferred::settled(&doc)?;
     }
-    status_el.set_text_content(Some(&format!("{status_text} Cycle time {:.1} ms.", cycle_ms)));
-    status_el.set_attribute("data-cycle-ms", &format!("{cycle_ms}"))?;
-    let phases = PHASES.with(|p| p.try_borrow().map(|v| v.iter().map(|(k, ms)| format!("{k}={ms:.3}")).collect::<Vec<_>>().join(" ")).unwrap_or_default());
-    status_el.set_attribute("data-cycle-phases", &phases)?;
-    status_el.set_attribute(
-        "data-outcome",
-        match status {
-            FormStatus::Designed => "designed",
-            FormStatus::Invalid => "invalid",
-            FormStatus::Infeasible => "infeasible",
-        },
-    )?;
-    if status_el.class_list().contains("is-error") != (status != FormStatus::Designed) {
-        status_el.class_list().toggle_with_force("is-error", status != FormStatus::Designed)?;
-    }
+    finish_status(&doc, status, &status_text, cycle_ms)?;
     document::refresh_buttons(&doc)?;
     to_js(&CycleSummary { status, cycle_ms, errors: outcome.errors }, "cycle summary")
 }
