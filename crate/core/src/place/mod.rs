@@ -125,8 +125,8 @@ pub struct PlacementParams {
     /// the committed fixtures (n ≤ 50) a first stage of 10 picked a worse start in 1 of 121
     /// cases, which is why smaller plants keep 40.
     pub large_first_stage_sweeps: usize,
-    /// Sweeps between checks of `κ₂(X)` once the best start continues alone (and in the first
-    /// stage from [`LARGE_PLANT_ORDER`] states, which is shorter). Default 10. A check costs
+    /// Sweeps between checks of `κ₂(X)` once the best start continues alone, at every plant
+    /// size (the first stage keeps [`PlacementParams::condition_check_interval`]). Default 10. A check costs
     /// about one sweep (at n = 40, two), and `κ₂(X)` often settles, or reaches its lowest
     /// value, long before `|det X|` stops creeping up: the trace of the 200-state modal plant of
     /// `tests/bench/whole_process.py` read 5319 after 10 sweeps of the winning start, 5305

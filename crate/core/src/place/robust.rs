@@ -103,18 +103,18 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
         });
     }
     let mut total_sweeps = 0;
-    // A first stage for each start, with one check of κ₂ at its end; then the best start
-    // alone, with frequent checks (see the parameters). The continuation below keeps its own
-    // schedule.
+    // A first stage for each start (checks of κ₂ every `condition_check_interval` sweeps, as
+    // before the best is chosen), then the best start alone with checks every
+    // `final_check_interval` sweeps. The continuation below keeps its own schedule.
     let first_stage = if n >= LARGE_PLANT_ORDER { params.large_first_stage_sweeps } else { params.condition_check_interval };
-    let (staged, finishing) = (PlacementParams { condition_check_interval: first_stage, ..params }, PlacementParams { condition_check_interval: params.final_check_interval, ..params });
+    let finishing = PlacementParams { condition_check_interval: params.final_check_interval, ..params };
     if r > 1 {
         for run in runs.iter_mut() {
-            run.sweep(&slots, &subspaces, &real_subspaces, staged, first_stage)?;
+            run.sweep(&slots, &subspaces, &real_subspaces, params, first_stage)?;
             // The starts are ranked by the conditioning they reached: measure it where the
             // stage did not end on a check.
-            if !run.converged && run.sweeps % first_stage.max(1) != 0 {
-                run.record_condition(&slots, staged)?;
+            if !run.converged && run.sweeps % params.condition_check_interval.max(1) != 0 {
+                run.record_condition(&slots, params)?;
             }
             total_sweeps += run.sweeps;
         }
