@@ -322,11 +322,9 @@ enum Stage {
         path: Vec<(f64, Evaluation)>,
         first_over: Option<usize>,
     },
-    /// Step 2: bisection on `log α` in `[lo, hi]`, `best` the evaluation at `lo`.
+    /// Step 2: bisection on `log α` in the bracket, `best` the evaluation at its low end.
     Bisect {
-        lo: f64,
-        hi: f64,
-        lo_f: f64,
+        bracket: Bracket,
         best: Evaluation,
         done: usize,
         branch_trouble: bool,
@@ -378,15 +376,15 @@ impl SearchRun {
         self.params.path_samples.max(2) + self.params.max_iterations
     }
 
-    /// Evaluates `φ` once (or finishes); `Some` with the outcome once the search is over, and
-    /// then again on every later call.
+    /// Evaluates `φ` once (or finishes); `Some` with the outcome once the search is over (a
+    /// later call returns an error saying that it has finished).
     pub fn step(&mut self) -> Option<Result<SearchResult, SearchError>> {
         // A stage change evaluates nothing: at most two of them before an evaluation or the end.
         for _ in 0..3 {
             let stage = std::mem::replace(&mut self.stage, Stage::Finished);
             let (stage, outcome) = match stage {
                 Stage::Path { next, path, first_over } => self.path_step(next, path, first_over),
-                Stage::Bisect { lo, hi, lo_f, best, done, branch_trouble, samples, monotonic } => self.bisect_step(Bracket { lo, hi, lo_f }, best, done, branch_trouble, samples, monotonic),
+                Stage::Bisect { bracket, best, done, branch_trouble, samples, monotonic } => self.bisect_step(bracket, best, done, branch_trouble, samples, monotonic),
                 Stage::Finished => (Stage::Finished, Some(StepOutcome::Done(Err(SearchError::Step { factor: f64::NAN, message: "the search has already finished".into() })))),
             };
             self.stage = stage;
@@ -444,7 +442,7 @@ impl SearchRun {
             return (Stage::Finished, Some(StepOutcome::Done(Err(SearchError::NoSituations))));
         };
         let branch_trouble = matches!(hi_e.branch, Branch::Changed { .. } | Branch::Lost { .. });
-        (Stage::Bisect { lo: lo_f.ln(), hi: hi_f.ln(), lo_f, best, done: 0, branch_trouble, samples, monotonic }, None)
+        (Stage::Bisect { bracket: Bracket { lo: lo_f.ln(), hi: hi_f.ln(), lo_f }, best, done: 0, branch_trouble, samples, monotonic }, None)
     }
 
     /// One bisection step, or the result once the bracket is narrow enough (or the cap reached).
@@ -476,7 +474,7 @@ impl SearchRun {
         } else {
             hi = mid;
         }
-        (Stage::Bisect { lo, hi, lo_f, best, done: done + 1, branch_trouble, samples, monotonic }, Some(StepOutcome::Evaluated))
+        (Stage::Bisect { bracket: Bracket { lo, hi, lo_f }, best, done: done + 1, branch_trouble, samples, monotonic }, Some(StepOutcome::Evaluated))
     }
 }
 

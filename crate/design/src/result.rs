@@ -136,10 +136,6 @@ pub struct SearchSummary {
     /// Why the peak at the factor found is below 97 % of the limit (null: it is not).
     pub shortfall: Option<crate::search::SearchShortfall>,
     pub evaluations: usize,
-    /// The previous run of the session searched with exactly these inputs and its result was
-    /// used ([`crate::SearchMemo`]); never in a result file (a command-line run starts afresh).
-    #[serde(skip)]
-    pub reused: bool,
 }
 
 #[derive(Debug, Clone, Serialize)]

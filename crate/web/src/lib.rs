@@ -471,21 +471,28 @@ pub fn sample_uncertainty() -> Result<JsValue, JsValue> {
 /// that gains move continuously as poles are dragged or edited (the result says when a fresh
 /// design would differ), with the outcome of a search just run in slices. Drops whatever an
 /// older cycle left running (robustness analysis, search).
-fn continue_from(page: &mut PageState) -> (Option<crate::design::Continuation>, bool) {
+///
+/// Also says whether a search has just ended: that cycle designs with its outcome and never
+/// starts another search, so the page cannot loop between searching and designing even if an
+/// input failed to compare equal to itself.
+fn continue_from(page: &mut PageState) -> (Option<crate::design::Continuation>, bool, bool) {
     deferred::supersede(page);
-    page.search = None;
-    let fresh = std::mem::take(&mut page.fresh_start);
+    // A search dropped before it ended still owes its cycle a fresh start if it was given one.
+    let dropped_fresh = page.search.take().is_some_and(|r| r.fresh());
+    let fresh = std::mem::take(&mut page.fresh_start) || dropped_fresh;
     let mut previous = if fresh { None } else { page.design.as_ref().map(|d| d.continuation.clone()) };
+    let searched = page.search_memo.is_some();
     if let Some(memo) = page.search_memo.take() {
         previous.get_or_insert_with(Default::default).search = Some(memo);
     }
-    (previous, fresh)
+    (previous, fresh, searched)
 }
 
 /// The status line at the end of a cycle: its text with the cycle time, and the attributes
 /// tests and benchmarks read (`data-cycle-ms`, `data-cycle-phases`, `data-outcome`).
 fn finish_status(doc: &Document, status: FormStatus, text: &str, cycle_ms: f64) -> Result<(), JsValue> {
     let status_el = by_id(doc, ids::STATUS)?;
+    status_el.remove_attribute("data-search-evaluations")?;
     status_el.set_text_content(Some(&format!("{text} Cycle time {:.1} ms.", cycle_ms)));
     status_el.set_attribute("data-cycle-ms", &format!("{cycle_ms}"))?;
     let phases = PHASES.with(|p| p.try_borrow().map(|v| v.iter().map(|(k, ms)| format!("{k}={ms:.3}")).collect::<Vec<_>>().join(" ")).unwrap_or_default());
@@ -518,9 +525,9 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     let input = read_form(&doc)?;
     let t_read = now_ms();
     phase("read", t_read - start);
-    let (previous, fresh) = with_page(|page| Ok(continue_from(page)))?;
+    let (previous, fresh, searched) = with_page(|page| Ok(continue_from(page)))?;
     // A search to run first (not while a pole is dragged): in slices, then this cycle again.
-    if depth != form::Depth::Quick {
+    if depth != form::Depth::Quick && !searched {
         if let Some(job) = form::search_job(&input, previous.as_ref()) {
             with_page(|page| search_slices::start(&doc, page, job, depth, fresh))?;
             return Ok(JsValue::NULL);

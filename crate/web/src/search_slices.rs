@@ -25,14 +25,26 @@ pub(crate) struct Running {
     fresh: bool,
 }
 
+impl Running {
+    /// Whether the cycle that left it was to start afresh (a new document or demo).
+    pub(crate) fn fresh(&self) -> bool {
+        self.fresh
+    }
+}
+
 /// Leave `job` to run in slices after this cycle; the cycle itself stops here.
 ///
 /// # Errors
 /// When the status line is missing or the browser refuses the timer.
 pub(crate) fn start(doc: &Document, page: &mut PageState, job: crate::design::SearchJob, depth: form::Depth, fresh: bool) -> Result<(), JsValue> {
     let generation = page.generation;
+    let most = job.max_evaluations();
     page.search = Some(Running { generation, job, depth, fresh });
-    show_progress(doc, 0, page.search.as_ref().map_or(0, |r| r.job.max_evaluations()))?;
+    // No outcome until the design after the search: the last one's is not this input's.
+    let status = by_id(doc, ids::STATUS)?;
+    status.remove_attribute("data-outcome")?;
+    status.class_list().remove_1("is-error")?;
+    show_progress(doc, 0, most)?;
     if let Some(v) = doc.get_element_by_id(ids::VERDICTS) {
         v.set_attribute("aria-busy", "true")?;
     }
@@ -64,11 +76,8 @@ fn slice(generation: u64) -> Result<(), JsValue> {
     let start = now_ms();
     let doc = document()?;
     let finished = with_page(|page| {
-        let current = page.search.as_ref().is_some_and(|r| r.generation == generation && page.generation == generation);
-        if !current {
-            return Ok(None);
-        }
-        let Some(running) = page.search.as_mut() else {
+        // A newer cycle dropped this search (or left its own, of another generation).
+        let Some(running) = page.search.as_mut().filter(|r| r.generation == generation) else {
             return Ok(None);
         };
         // Capped by the search's own evaluation cap; a step that finishes ends the slice.

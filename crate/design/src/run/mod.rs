@@ -122,7 +122,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
         tracking: tracking_result(&s, &g),
         sample_rate: advice.map(|a| SampleRateResult { bandwidth: a.bandwidth, samples_per_bandwidth: a.samples_per_bandwidth, verdict: a.verdict, message: sample_rate_message(&a) }),
         closed_loop,
-        search: dp.search.as_ref().map(|r| search_summary(s.plant, r, dp.search_reused)),
+        search: dp.search.as_ref().map(|r| search_summary(s.plant, r)),
         pole_choice: spec.pole_choice.as_ref().map(|c| PoleChoiceResult {
             method: c.method,
             description: c.description.clone(),
@@ -263,7 +263,7 @@ fn tracking_result(s: &setup::Setup, g: &gains::Gains) -> Option<TrackingResult>
     }
 }
 
-fn search_summary(plant: &Plant, r: &crate::search::SearchResult, reused: bool) -> SearchSummary {
+fn search_summary(plant: &Plant, r: &crate::search::SearchResult) -> SearchSummary {
     SearchSummary {
         speed_factor: r.speed_factor,
         suggested_poles: r.poles.iter().map(|z| pair(*z)).collect(),
@@ -276,7 +276,6 @@ fn search_summary(plant: &Plant, r: &crate::search::SearchResult, reused: bool) 
         limited_by_range: r.limited_by_range,
         evaluations: r.evaluations,
         shortfall: r.shortfall,
-        reused,
     }
 }
 

@@ -23,8 +23,6 @@ pub(super) struct DesignPair {
     pub search: Option<SearchResult>,
     /// The search with its inputs, for the next run of the session ([`crate::Continuation`]).
     pub search_memo: Option<SearchMemo>,
-    /// The search came from the previous run's memo.
-    pub search_reused: bool,
     pub lqr: Option<LqrDesign>,
 }
 
@@ -65,13 +63,13 @@ pub(super) fn search_job(s: &Setup) -> Option<SearchJob> {
 pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
     let spec = s.spec;
     let (da, db, delay_poles) = plant_and_delay(s)?;
-    let (search, search_memo, search_reused) = match &spec.search {
+    let (search, search_memo) = match &spec.search {
         Some(situations) => {
-            let (memo, reused) = search(s, &da, &db, situations, &delay_poles)?;
+            let memo = search(s, &da, &db, situations, &delay_poles)?;
             let result = memo.outcome().clone().map_err(|e| infeasible(&e))?;
-            (Some(result), Some(memo), reused)
+            (Some(result), Some(memo))
         }
-        None => (None, None, false),
+        None => (None, None),
     };
     let base_poles: Vec<Complex64> = match &search {
         Some(r) => match s.t {
@@ -81,7 +79,7 @@ pub(super) fn design_pair(s: &Setup) -> Result<DesignPair, DesignError> {
         },
         None => s.req.poles.clone(),
     };
-    let mut pair = DesignPair { nd: da.nrows(), dpoles: s.to_design(&base_poles), da, db, base_poles, search, search_memo, search_reused, lqr: None };
+    let mut pair = DesignPair { nd: da.nrows(), dpoles: s.to_design(&base_poles), da, db, base_poles, search, search_memo, lqr: None };
     pair.dpoles.extend(delay_poles);
     pair.nd = pair.da.nrows();
     if let Some(ip) = s.integral_poles {
@@ -232,12 +230,12 @@ fn search_inputs(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[
 }
 
 /// The fastest design within the actuator limits ([`search_inputs`]). The previous run's
-/// outcome is reused when its inputs are exactly these ([`SearchMemo`]); the flag says so.
-fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::search::Situation], delay_poles: &[Complex64]) -> Result<(SearchMemo, bool), DesignError> {
+/// outcome is reused when its inputs are exactly these ([`SearchMemo`]).
+fn search(s: &Setup, da: &DMatrix<f64>, db: &DMatrix<f64>, situations: &[crate::search::Situation], delay_poles: &[Complex64]) -> Result<SearchMemo, DesignError> {
     let inputs = search_inputs(s, da, db, situations, delay_poles)?;
     if let Some(outcome) = s.previous.and_then(|p| p.search.as_ref()).and_then(|m| m.outcome_for(&inputs)) {
-        return Ok((SearchMemo::new(inputs.clone(), outcome.clone()), true));
+        return Ok(SearchMemo::new(inputs.clone(), outcome.clone()));
     }
     let outcome = crate::search::fastest_within_limits_of(&inputs.data.problem(), inputs.params);
-    Ok((SearchMemo::new(inputs, outcome), false))
+    Ok(SearchMemo::new(inputs, outcome))
 }

@@ -143,7 +143,6 @@ fn a_search_is_reused_only_for_exactly_its_inputs() {
     let again = run_checked_continued(&checked, Some(&first.continuation)).unwrap();
     assert_eq!(again.feedback.gain, first.feedback.gain);
     assert_eq!(again.continuation.search.as_ref(), Some(&memo));
-    assert!(!first.search.as_ref().is_some_and(|s| s.reused) && again.search.as_ref().is_some_and(|s| s.reused));
     // Proof that the memo, not a new search, gave that result: a doctored memo with the same
     // inputs is believed …
     let mut doctored = memo.clone();
@@ -160,7 +159,6 @@ fn a_search_is_reused_only_for_exactly_its_inputs() {
     let fresh = run_checked_continued(&changed, Some(&previous)).unwrap();
     let f = fresh.search.as_ref().expect("search").speed_factor;
     assert!((f - 2.0).abs() < 4e-3, "a changed limit must search again, not reuse 1.5: {f}");
-    assert!(!fresh.search.as_ref().is_some_and(|s| s.reused));
     assert_ne!(fresh.continuation.search, previous.search);
 }
 
@@ -184,7 +182,6 @@ fn a_search_run_in_steps_gives_the_design_of_a_fresh_run() {
     assert_eq!(stepped.feedback.gain, fresh.feedback.gain);
     let (a, b) = (stepped.search.as_ref().unwrap(), fresh.search.as_ref().unwrap());
     assert_eq!((a.speed_factor, a.evaluations, a.peak_ratio), (b.speed_factor, b.evaluations, b.peak_ratio));
-    assert!(a.reused && !b.reused);
     // A search that fails fails the same way from its memo.
     let tight = check_text(&SEARCHED.replace("\"limit\": [8]", "\"limit\": [1e-9]")).unwrap();
     let fresh_error = run_checked(&tight).unwrap_err().to_string();

@@ -383,7 +383,8 @@ pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Con
 /// `None` when there is none to run: no search, an outcome already remembered in `previous`
 /// for these very inputs, or input errors (which the evaluation then reports).
 pub fn search_job(form: &FormInput, previous: Option<&crate::design::Continuation>) -> Option<crate::design::SearchJob> {
-    if !oversized_fields(form).is_empty() || page_capacity(form).is_some() {
+    // Most cycles have no search: nothing else is read for them.
+    if form.search != "true" || !oversized_fields(form).is_empty() || page_capacity(form).is_some() {
         return None;
     }
     let spec = adapter::spec_from_form(form).ok()?;
