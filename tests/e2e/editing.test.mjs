@@ -377,7 +377,29 @@ describe('choosing the poles from the form', () => {
       await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
       await settled(page);
       assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
-      assert.ok((await factor()) < first, `${await factor()} against ${first}`);
+      const tighter = await factor();
+      assert.ok(tighter < first, `${tighter} against ${first}`);
+      // An edit while a search runs drops it: back to the first limit (a new search starts),
+      // then at once to the half limit again — the design shown is the half limit's, whose
+      // search the last design already holds, and nothing is left pending or busy.
+      const dropped = await page.evaluate(([full, half]) => {
+        const status = document.getElementById('pw-status');
+        const limits = document.getElementById('pw-limits');
+        status.removeAttribute('data-outcome');
+        limits.value = full;
+        document.getElementById('pw-design').click();
+        const first = status.getAttribute('data-pending');
+        limits.value = half;
+        document.getElementById('pw-design').click();
+        return [first, status.getAttribute('data-outcome')];
+      }, [String(limit), String(limit / 2)]);
+      assert.deepEqual(dropped, ['search', 'designed']);
+      await settled(page);
+      await page.evaluate(() => new Promise((r) => setTimeout(r, 200)));
+      assert.equal(await factor(), tighter);
+      assert.equal(await page.getAttribute('#pw-status', 'data-pending'), null);
+      assert.equal(await page.getAttribute('#pw-verdicts', 'aria-busy'), null);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
       noErrors(ctx);
     });
   });
