@@ -404,6 +404,62 @@ describe('choosing the poles from the form', () => {
     });
   });
 
+  test('an edit elsewhere in the form while a search runs keeps the search and its trial designs', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      // An invented chain of 15 unit masses and springs, each with its own actuator (limits
+      // 5 N), released from a unit displacement of the first mass: a search of some 30 trial
+      // designs, several slices long.
+      const k = 15;
+      const n = 2 * k;
+      const A = Array.from({ length: n }, () => Array(n).fill(0));
+      const B = Array.from({ length: n }, () => Array(k).fill(0));
+      for (let i = 0; i < k; i += 1) {
+        const p = 2 * i;
+        A[p][p + 1] = 1;
+        A[p + 1][p] = -((i > 0 ? 1 : 0) + (i < k - 1 ? 1 : 0));
+        A[p + 1][p + 1] = -0.05;
+        if (i > 0) A[p + 1][p - 2] = 1;
+        if (i < k - 1) A[p + 1][p + 2] = 1;
+        B[p + 1][i] = 1;
+      }
+      const x0 = Array(n).fill(0);
+      x0[0] = 1;
+      const fields = {
+        a: A.map((r) => r.join(' ')).join('\n'),
+        b: B.map((r) => r.join(' ')).join('\n'),
+        poles: Array.from({ length: k }, (_, i) => `${(-0.5 * (1 + 0.1 * i)).toFixed(3)}±${(0.8 * (1 + 0.1 * i)).toFixed(3)}j`).join(', '),
+        limits: Array(k).fill('5').join(', '),
+        initial_state: x0.join(' '),
+      };
+      assert.equal(await design(page, fields), 'designed', await page.textContent('#pw-status'));
+      await page.evaluate(() => {
+        const box = document.getElementById('pw-search');
+        box.checked = true;
+        box.dispatchEvent(new Event('change', { bubbles: true }));
+      });
+      await page.waitForFunction(() => Number(document.getElementById('pw-status').dataset.searchEvaluations) > 0);
+      // A new state name is not a search input: the cycle takes the running search over, with
+      // the trial designs it has done (read in the same task, before any further slice).
+      const taken = await page.evaluate(() => {
+        const status = document.getElementById('pw-status');
+        const before = Number(status.dataset.searchEvaluations);
+        document.getElementById('pw-state_names').value = Array.from({ length: 30 }, (_, i) => `s${i + 1}`).join(', ');
+        document.getElementById('pw-design').click();
+        return [before, status.getAttribute('data-pending'), Number(status.dataset.searchEvaluations)];
+      });
+      assert.ok(taken[0] > 0, JSON.stringify(taken));
+      assert.equal(taken[1], 'search');
+      assert.equal(taken[2], taken[0], 'the count goes on from where it was');
+      await page.waitForFunction(() => document.getElementById('pw-status').hasAttribute('data-outcome'));
+      await settled(page);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed', await page.textContent('#pw-status'));
+      const trials = Number(/([0-9]+) trial designs were simulated/.exec(await page.textContent('#pw-search-facts'))[1]);
+      assert.ok(trials > taken[0], `${trials} trial designs in all, ${taken[0]} before the edit`);
+      noErrors(ctx);
+    });
+  });
+
   test('LQR by Bryson weights: the double integrator gives K = [1, √3]', async () => {
     await withPage(pageFileUrl, async (ctx) => {
       const { page } = ctx;

@@ -340,6 +340,12 @@ impl SearchJob {
         self.run.evaluations()
     }
 
+    /// Whether `other` searches exactly what this job searches (a caller can then keep this
+    /// one running instead of starting again).
+    pub fn same_search(&self, other: &SearchJob) -> bool {
+        self.inputs == other.inputs
+    }
+
     /// The most evaluations the search can take (the path's factors and the bisection's cap;
     /// about 40–60 are typical).
     pub fn max_evaluations(&self) -> usize {

@@ -469,17 +469,18 @@ pub fn sample_uncertainty() -> Result<JsValue, JsValue> {
 
 /// What a new cycle continues from, and whether it starts afresh: the last design shown, so
 /// that gains move continuously as poles are dragged or edited (the result says when a fresh
-/// design would differ), with the outcome of a search just run in slices. Drops whatever an
-/// older cycle left running (robustness analysis, search).
+/// design would differ), with the outcome of a search just run in slices. Drops the
+/// robustness analysis an older cycle left; a running search is dropped or taken over by the
+/// cycle ([`search_slices::start`]).
 ///
 /// Also says whether a search has just ended: that cycle designs with its outcome and never
 /// starts another search, so the page cannot loop between searching and designing even if an
 /// input failed to compare equal to itself.
 fn continue_from(page: &mut PageState) -> (Option<crate::design::Continuation>, bool, bool) {
     deferred::supersede(page);
-    // A search dropped before it ended still owes its cycle a fresh start if it was given one.
-    let dropped_fresh = page.search.take().is_some_and(|r| r.fresh());
-    let fresh = std::mem::take(&mut page.fresh_start) || dropped_fresh;
+    // A running search that this cycle drops or takes over still owes a fresh start if it was
+    // given one.
+    let fresh = std::mem::take(&mut page.fresh_start) || page.search.as_ref().is_some_and(|r| r.fresh());
     let mut previous = if fresh { None } else { page.design.as_ref().map(|d| d.continuation.clone()) };
     let searched = page.search_memo.is_some();
     if let Some(memo) = page.search_memo.take() {
@@ -533,6 +534,10 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
             return Ok(JsValue::NULL);
         }
     }
+    with_page(|page| {
+        page.search = None;
+        Ok(())
+    })?;
     let defer = depth == form::Depth::Full;
     let mut outcome = form::evaluate_form_with(&input, previous.as_ref(), if defer { form::Depth::Quick } else { depth });
     let t_eval = now_ms();

@@ -6,8 +6,9 @@
 //! of trial designs so far), and asks the browser for a call back. Each call runs trial designs
 //! for about [`SLICE_MS`] and gives the main thread back (typing, painting); when the search is
 //! over, its memo goes to the next cycle, which designs with it exactly as a fresh run would
-//! (the steps are those of the one-piece search). A newer cycle makes a running search stale (its
-//! generation no longer matches) and starts its own if it needs one.
+//! (the steps are those of the one-piece search). A newer cycle takes over a running search with
+//! exactly its inputs (an edit elsewhere in the form); otherwise it drops it (its generation no
+//! longer matches) and starts its own if it needs one.
 
 use super::*;
 
@@ -32,19 +33,25 @@ impl Running {
     }
 }
 
-/// Leave `job` to run in slices after this cycle; the cycle itself stops here.
+/// Leave `job` to run in slices after this cycle; the cycle itself stops here. A search already
+/// running for exactly the same inputs (an edit elsewhere in the form while it runs) is kept,
+/// with the trial designs it has done, and ends with this cycle instead.
 ///
 /// # Errors
 /// When the status line is missing or the browser refuses the timer.
 pub(crate) fn start(doc: &Document, page: &mut PageState, job: crate::design::SearchJob, depth: form::Depth, fresh: bool) -> Result<(), JsValue> {
     let generation = page.generation;
-    let most = job.max_evaluations();
-    page.search = Some(Running { generation, job, depth, fresh });
+    let running = match page.search.take() {
+        Some(r) if r.job.same_search(&job) => Running { generation, job: r.job, depth, fresh },
+        _ => Running { generation, job, depth, fresh },
+    };
+    let (done, most) = (running.job.evaluations(), running.job.max_evaluations());
+    page.search = Some(running);
     // No outcome until the design after the search: the last one's is not this input's.
     let status = by_id(doc, ids::STATUS)?;
     status.remove_attribute("data-outcome")?;
     status.class_list().remove_1("is-error")?;
-    show_progress(doc, 0, most)?;
+    show_progress(doc, done, most)?;
     if let Some(v) = doc.get_element_by_id(ids::VERDICTS) {
         v.set_attribute("aria-busy", "true")?;
     }
