@@ -80,7 +80,7 @@ pub(super) fn assign_repeated(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Compl
     if !gain.iter().all(|v| v.is_finite()) {
         return Err(PlacementError::Numerical { message: "the gain is not finite".into() });
     }
-    Ok(Core { gain, iterations: 0, converged: true, condition: f64::NAN, balanced_condition: f64::NAN, abs_det: 0.0, rank, method, eigenvectors: None, branch: Branch::Fresh })
+    Ok(Core { gain, iterations: 0, converged: true, condition: f64::NAN, balanced_condition: f64::NAN, abs_det: 0.0, rank, method, eigenvectors: None, branch: Branch::Fresh, closed_loop_poles: None })
 }
 
 /// The multi-input deflation of the module documentation, in real arithmetic: a real pole

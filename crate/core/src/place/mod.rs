@@ -452,6 +452,7 @@ fn partial(a: &DMatrix<f64>, b: &DMatrix<f64>, st: &crate::analysis::Staircase, 
             method: PlacementMethod::Robust,
             eigenvectors: None,
             branch: Branch::Fresh,
+            closed_loop_poles: None,
         }
     } else {
         let ac = st.a.view((0, 0), (nc, nc)).into_owned();
@@ -463,6 +464,7 @@ fn partial(a: &DMatrix<f64>, b: &DMatrix<f64>, st: &crate::analysis::Staircase, 
         let mut g = DMatrix::zeros(m, n);
         g.columns_mut(0, nc).copy_from(&core.gain);
         core.gain = g;
+        core.closed_loop_poles = None; // those of the controllable block, not of this loop
         let t = st.transform.map(|t| Complex64::new(t, 0.0));
         core.eigenvectors = core.eigenvectors.map(|e| {
             map_vectors(&e, |v| {
@@ -492,6 +494,11 @@ struct Core {
     /// In the coordinates `assign` was given.
     eigenvectors: Option<Eigenvectors>,
     branch: Branch,
+    /// The eigenvalues of `A − B K` the route computed while choosing its gain, with the `K`
+    /// they belong to (in the coordinates `assign` was given): `finish` uses them when it
+    /// closes the loop with exactly that `K` on the same `A`, `B`, instead of computing them
+    /// again (the same computation on the same matrix: the same values).
+    closed_loop_poles: Option<(DMatrix<f64>, Vec<Complex64>)>,
 }
 
 /// The pole that repeats most often in `poles`, and how often (of a conjugate pair, the member
@@ -538,7 +545,10 @@ fn finish(
     domain: Domain,
 ) -> Result<Placement, PlacementError> {
     let closed = a - b * &core.gain;
-    let mut achieved = try_eigenvalues(&closed)?;
+    let mut achieved = match core.closed_loop_poles.take() {
+        Some((k, poles)) if k == core.gain => poles,
+        _ => try_eigenvalues(&closed)?,
+    };
     sort_eigenvalues(&mut achieved);
     let mut target: Vec<Complex64> = assigned.iter().chain(fixed.iter()).cloned().collect();
     sort_eigenvalues(&mut target);
@@ -734,7 +744,7 @@ fn place_balanced(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex64], param
     // u = −K_s x_bal with B_scaled = B_bal S: the input is S u_s, so K_bal = S K_s; then K = K_bal D⁻¹.
     let gain = DMatrix::from_fn(m, n, |i, j| s[i] * core.gain[(i, j)] / d[j]);
     let eigenvectors = core.eigenvectors.as_ref().map(|e| map_vectors(e, |v| DMatrix::from_fn(n, v.ncols(), |i, j| v[(i, j)] * d[i])));
-    let core = Core { gain, eigenvectors, ..core };
+    let core = Core { gain, eigenvectors, closed_loop_poles: None, ..core };
     finish(a, b, core, assigned, dropped, fixed, params.domain)
 }
 

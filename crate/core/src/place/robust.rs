@@ -135,7 +135,7 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
     let sigma_inv = DMatrix::from_diagonal(&svd.singular_values.rows(0, r).map(|s| 1.0 / s));
     let vr = svd.v_adjoint.rows(0, r).transpose();
     let left = to_complex(&(vr * sigma_inv * ur.transpose()));
-    let fresh_gain = gain_from_eigenvectors(a, b, &left, &x, &ordered)?;
+    let (fresh_gain, mut poles) = gain_from_eigenvectors(a, b, &left, &x, &ordered)?;
     let mut gain = fresh_gain.clone();
     // Continuation: the same refinement from the previous eigenvectors projected onto the new
     // admissible subspaces; kept unless its conditioning is more than the stated factor worse.
@@ -144,7 +144,7 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
         if let Some(followed) = follow_branch(x0, &slots, &subspaces, &real_subspaces, params)? {
             total_sweeps += followed.sweeps;
             if followed.condition <= params.branch_condition_factor * condition {
-                let k = gain_from_eigenvectors(a, b, &left, &followed.x, &ordered)?;
+                let (k, followed_poles) = gain_from_eigenvectors(a, b, &left, &followed.x, &ordered)?;
                 let fresh_norm = fresh_gain.norm().max(f64::MIN_POSITIVE);
                 let gain_difference = (&k - &fresh_gain).norm() / fresh_norm;
                 branch = if followed.drift > params.branch_drift_limit { Branch::Lost { drift: followed.drift } } else { Branch::Followed { fresh_condition: condition, gain_difference } };
@@ -152,6 +152,7 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
                 condition = followed.condition;
                 converged = followed.converged;
                 gain = k;
+                poles = followed_poles;
             } else {
                 branch = Branch::Changed { followed_condition: followed.condition };
             }
@@ -161,7 +162,8 @@ pub(super) fn assign_robust(a: &DMatrix<f64>, b: &DMatrix<f64>, poles: &[Complex
     let det = abs_det(&x);
     let balanced_condition = balanced_condition(&(a - b * &gain), &x).unwrap_or(condition);
     let eigenvectors = Some(Eigenvectors { poles: ordered.clone(), vectors: x });
-    Ok(Core { gain, iterations, converged, condition, balanced_condition, abs_det: det, rank: r, method: PlacementMethod::Robust, eigenvectors, branch })
+    let closed_loop_poles = poles.map(|p| (gain.clone(), p));
+    Ok(Core { gain, iterations, converged, condition, balanced_condition, abs_det: det, rank: r, method: PlacementMethod::Robust, eigenvectors, branch, closed_loop_poles })
 }
 
 /// A continuation's refinement: where it ended, its conditioning, how far it moved.
@@ -202,7 +204,15 @@ fn follow_branch(
 /// refinement; and the second route `K = L (A − M)`, `M = X Λ X⁻¹` from a solve. The two differ
 /// only in rounding; when `X` is ill conditioned one can be markedly better, so both are
 /// checked against the request through the eigenvalues of `A − B K` and the better one kept.
-fn gain_from_eigenvectors(a: &DMatrix<f64>, b: &DMatrix<f64>, left: &DMatrix<Complex64>, x: &DMatrix<Complex64>, ordered: &[Complex64]) -> Result<DMatrix<f64>, PlacementError> {
+///
+/// Returns the gain and, when they were computed to choose it, the eigenvalues of `A − B K`.
+fn gain_from_eigenvectors(
+    a: &DMatrix<f64>,
+    b: &DMatrix<f64>,
+    left: &DMatrix<Complex64>,
+    x: &DMatrix<Complex64>,
+    ordered: &[Complex64],
+) -> Result<(DMatrix<f64>, Option<Vec<Complex64>>), PlacementError> {
     let mut xl = x.clone();
     for (j, z) in ordered.iter().enumerate() {
         let mut col = xl.column_mut(j);
@@ -216,21 +226,25 @@ fn gain_from_eigenvectors(a: &DMatrix<f64>, b: &DMatrix<f64>, left: &DMatrix<Com
         gain_c += correction;
     }
     let mut gain = gain_c.transpose().map(|z| z.re);
+    let mut poles = None;
     if let Some(mt) = xt_lu.solve(&xl.transpose()) {
         let m_real = mt.transpose().map(|z| z.re);
         let gain_m = left.map(|z| z.re) * (a - m_real);
         if gain_m.iter().all(|v| v.is_finite()) {
-            let err_direct = try_eigenvalues(&(a - b * &gain)).map(|e| max_matching_error(ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
-            let err_m = try_eigenvalues(&(a - b * &gain_m)).map(|e| max_matching_error(ordered, &e, a.norm())).unwrap_or(f64::INFINITY);
-            if err_m < err_direct {
+            let (eig_direct, eig_m) = (try_eigenvalues(&(a - b * &gain)).ok(), try_eigenvalues(&(a - b * &gain_m)).ok());
+            let error = |e: &Option<Vec<Complex64>>| e.as_ref().map_or(f64::INFINITY, |e| max_matching_error(ordered, e, a.norm()));
+            if error(&eig_m) < error(&eig_direct) {
                 gain = gain_m;
+                poles = eig_m;
+            } else {
+                poles = eig_direct;
             }
         }
     }
     if !gain.iter().all(|v| v.is_finite()) {
         return Err(PlacementError::Numerical { message: "the gain is not finite".into() });
     }
-    Ok(gain)
+    Ok((gain, poles))
 }
 
 /// `κ₂(D⁻¹ X)` with unit columns for the closed loop `closed` with eigenvectors `x` (see
