@@ -20,7 +20,7 @@ import { execFileSync } from 'node:child_process';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { beltAxisLoop, browser, closeBrowser, design, drag, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
+import { actuatedChainFields, beltAxisLoop, browser, closeBrowser, design, drag, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
 
 const CYCLES = 30;
 const WARM_UP = 5;
@@ -167,32 +167,6 @@ async function runDrags() {
   }, { viewport: { width: 1440, height: 900 } });
 }
 
-/** A chain of `k` masses (unit masses and springs, damping 0.05), each with its own actuator
- * (invented, illustrative): n = 2k, m = k; listed poles −0.5(1 + 0.1 i) ± 0.8(1 + 0.1 i) j, limits
- * 5 N, and the search for the fastest design from a unit displacement of the first mass. */
-function actuatedChainFields(k) {
-  const n = 2 * k;
-  const A = Array.from({ length: n }, () => Array(n).fill(0));
-  const B = Array.from({ length: n }, () => Array(k).fill(0));
-  for (let i = 0; i < k; i += 1) {
-    const p = 2 * i;
-    A[p][p + 1] = 1;
-    A[p + 1][p] = -((i > 0 ? 1 : 0) + (i < k - 1 ? 1 : 0));
-    A[p + 1][p + 1] = -0.05;
-    if (i > 0) A[p + 1][p - 2] = 1;
-    if (i < k - 1) A[p + 1][p + 2] = 1;
-    B[p + 1][i] = 1;
-  }
-  const x0 = Array(n).fill(0);
-  x0[0] = 1;
-  return {
-    a: A.map((r) => r.join(' ')).join('\n'),
-    b: B.map((r) => r.join(' ')).join('\n'),
-    poles: Array.from({ length: k }, (_, i) => `${(-0.5 * (1 + 0.1 * i)).toFixed(3)}±${(0.8 * (1 + 0.1 * i)).toFixed(3)}j`).join(', '),
-    limits: Array(k).fill('5').join(', '),
-    initial_state: x0.join(' '),
-  };
-}
 
 /** The search for the fastest design on the actuated chain (n = 30, m = 15), started by turning
  * the search on; the page runs it in slices. Timed by the page's clock: from the click to the

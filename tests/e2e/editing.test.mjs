@@ -9,6 +9,7 @@ import assert from 'node:assert/strict';
 import path from 'node:path';
 import { after, before, describe, test } from 'node:test';
 import {
+  actuatedChainFields,
   artifactsDir,
   beltAxisLoop,
   closeBrowser,
@@ -410,28 +411,7 @@ describe('choosing the poles from the form', () => {
       // An invented chain of 15 unit masses and springs, each with its own actuator (limits
       // 5 N), released from a unit displacement of the first mass: a search of some 30 trial
       // designs, several slices long.
-      const k = 15;
-      const n = 2 * k;
-      const A = Array.from({ length: n }, () => Array(n).fill(0));
-      const B = Array.from({ length: n }, () => Array(k).fill(0));
-      for (let i = 0; i < k; i += 1) {
-        const p = 2 * i;
-        A[p][p + 1] = 1;
-        A[p + 1][p] = -((i > 0 ? 1 : 0) + (i < k - 1 ? 1 : 0));
-        A[p + 1][p + 1] = -0.05;
-        if (i > 0) A[p + 1][p - 2] = 1;
-        if (i < k - 1) A[p + 1][p + 2] = 1;
-        B[p + 1][i] = 1;
-      }
-      const x0 = Array(n).fill(0);
-      x0[0] = 1;
-      const fields = {
-        a: A.map((r) => r.join(' ')).join('\n'),
-        b: B.map((r) => r.join(' ')).join('\n'),
-        poles: Array.from({ length: k }, (_, i) => `${(-0.5 * (1 + 0.1 * i)).toFixed(3)}±${(0.8 * (1 + 0.1 * i)).toFixed(3)}j`).join(', '),
-        limits: Array(k).fill('5').join(', '),
-        initial_state: x0.join(' '),
-      };
+      const fields = actuatedChainFields(15);
       assert.equal(await design(page, fields), 'designed', await page.textContent('#pw-status'));
       await page.evaluate(() => {
         const box = document.getElementById('pw-search');

@@ -401,6 +401,33 @@ export function parseComplex(text) {
  * Form fields of a chain of five masses (springs between neighbours and to both walls, light
  * damping), a force on the first and on the last: 10 states, 2 inputs (an invented test plant).
  */
+/** A chain of `k` masses (unit masses and springs, damping 0.05), each with its own actuator
+ * (invented, illustrative): n = 2k, m = k; listed poles −0.5(1 + 0.1 i) ± 0.8(1 + 0.1 i) j, limits
+ * 5 N, and the initial state a unit displacement of the first mass (the search's situation). */
+export function actuatedChainFields(k) {
+  const n = 2 * k;
+  const A = Array.from({ length: n }, () => Array(n).fill(0));
+  const B = Array.from({ length: n }, () => Array(k).fill(0));
+  for (let i = 0; i < k; i += 1) {
+    const p = 2 * i;
+    A[p][p + 1] = 1;
+    A[p + 1][p] = -((i > 0 ? 1 : 0) + (i < k - 1 ? 1 : 0));
+    A[p + 1][p + 1] = -0.05;
+    if (i > 0) A[p + 1][p - 2] = 1;
+    if (i < k - 1) A[p + 1][p + 2] = 1;
+    B[p + 1][i] = 1;
+  }
+  const x0 = Array(n).fill(0);
+  x0[0] = 1;
+  return {
+    a: A.map((r) => r.join(' ')).join('\n'),
+    b: B.map((r) => r.join(' ')).join('\n'),
+    poles: Array.from({ length: k }, (_, i) => `${(-0.5 * (1 + 0.1 * i)).toFixed(3)}±${(0.8 * (1 + 0.1 * i)).toFixed(3)}j`).join(', '),
+    limits: Array(k).fill('5').join(', '),
+    initial_state: x0.join(' '),
+  };
+}
+
 export function massChainFields() {
   const k = [4, 3, 5, 2, 4, 3];
   const m = [1, 2, 1.5, 1, 2];
