@@ -46,7 +46,7 @@ use crate::linalg::expm::{try_expm, try_zero_order_hold, ExpmError};
 pub const MAX_SAMPLES: usize = 2_000_000;
 
 /// The reference-tracking part of the control law.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub enum TrackingLaw {
     /// Regulation: `u = −K x̂`.
     None,
@@ -70,7 +70,7 @@ impl TrackingLaw {
 }
 
 /// A complete controller as it would go into firmware.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct LoopController {
     /// `K` (or `K_x`), `m × n`.
     pub k: DMatrix<f64>,

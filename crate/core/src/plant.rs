@@ -111,7 +111,7 @@ pub struct PlantSpec {
 }
 
 /// A validated plant model.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Plant {
     a: DMatrix<f64>,
     b: DMatrix<f64>,

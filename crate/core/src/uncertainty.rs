@@ -17,7 +17,8 @@
 //! gives the same cloud on every platform.
 //!
 //! # Cost
-//! One closed-loop build and one eigenvalue computation (`O(n³)`) per sample.
+//! One closed-loop build and one eigenvalue computation (`O(n³)`) per sample; [`CloudSampler`]
+//! draws them one at a time.
 //!
 //! # Failure modes
 //! A sample whose closed loop cannot be built or whose eigenvalues do not converge counts as
@@ -179,14 +180,47 @@ pub type CloseLoop<'a> = &'a dyn Fn(&DMatrix<f64>, &DMatrix<f64>) -> Option<DMat
 
 /// Samples `samples` perturbed plants and closes each with `close`.
 pub fn sample_cloud(a: &DMatrix<f64>, b: &DMatrix<f64>, model: &UncertaintyModel, samples: usize, seed: u64, domain: LoopDomain, close: CloseLoop) -> Cloud {
-    let mut rng = SplitMix::new(seed);
-    let mut cloud = Cloud { poles: Vec::new(), stable: 0, failed: 0, worst_decay_rate: f64::INFINITY, worst_damping: f64::INFINITY };
-    for _ in 0..samples.min(MAX_SAMPLES) {
-        let (pa, pb) = perturbed(a, b, model, &mut rng);
+    let mut sampler = CloudSampler::new(samples, seed);
+    while sampler.draw(a, b, model, domain, close).is_some() {}
+    sampler.finish()
+}
+
+/// The cloud drawn one perturbed plant at a time, so that a caller can spread it over time
+/// (the page gives its main thread back between slices) or do more with each plant (the design
+/// layer simulates it): the plants and the cloud are those of [`sample_cloud`] with the same
+/// samples and seed.
+#[derive(Debug, Clone)]
+pub struct CloudSampler {
+    rng: SplitMix,
+    cloud: Cloud,
+    drawn: usize,
+    samples: usize,
+}
+
+impl CloudSampler {
+    /// A sampler of `samples` plants (at most [`MAX_SAMPLES`]) from `seed`.
+    pub fn new(samples: usize, seed: u64) -> Self {
+        CloudSampler {
+            rng: SplitMix::new(seed),
+            cloud: Cloud { poles: Vec::new(), stable: 0, failed: 0, worst_decay_rate: f64::INFINITY, worst_damping: f64::INFINITY },
+            drawn: 0,
+            samples: samples.min(MAX_SAMPLES),
+        }
+    }
+
+    /// Draws the next perturbed plant, closes it with `close` and adds its poles to the cloud
+    /// (or counts it as failed); returns the plant, or `None` once every sample is drawn.
+    pub fn draw(&mut self, a: &DMatrix<f64>, b: &DMatrix<f64>, model: &UncertaintyModel, domain: LoopDomain, close: CloseLoop) -> Option<(DMatrix<f64>, DMatrix<f64>)> {
+        if self.drawn >= self.samples {
+            return None;
+        }
+        self.drawn += 1;
+        let (pa, pb) = perturbed(a, b, model, &mut self.rng);
         let Some(poles) = close(&pa, &pb).and_then(|acl| try_eigenvalues(&acl).ok()) else {
-            cloud.failed += 1;
-            continue;
+            self.cloud.failed += 1;
+            return Some((pa, pb));
         };
+        let cloud = &mut self.cloud;
         if poles.iter().all(|p| domain.stable(*p)) {
             cloud.stable += 1;
         }
@@ -196,8 +230,23 @@ pub fn sample_cloud(a: &DMatrix<f64>, b: &DMatrix<f64>, model: &UncertaintyModel
             cloud.worst_damping = cloud.worst_damping.min(damping);
         }
         cloud.poles.push(poles);
+        Some((pa, pb))
     }
-    cloud
+
+    /// Plants drawn so far.
+    pub fn drawn(&self) -> usize {
+        self.drawn
+    }
+
+    /// Plants to draw in all.
+    pub fn samples(&self) -> usize {
+        self.samples
+    }
+
+    /// The cloud of the plants drawn so far.
+    pub fn finish(self) -> Cloud {
+        self.cloud
+    }
 }
 
 #[cfg(test)]

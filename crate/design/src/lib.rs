@@ -35,7 +35,7 @@ pub use polewright_core::*;
 pub use check::{canonical, check, check_text, choose_poles, CheckReport, CheckedDesign, PoleRequest};
 pub use path::FieldPath;
 pub use result::*;
-pub use run::{fmt_num, run, run_checked, run_checked_continued, run_continued, run_text, run_with, search_job};
+pub use run::{cloud_job, fmt_num, run, run_checked, run_checked_continued, run_continued, run_text, run_with, search_job, CloudJob, CloudMemo};
 pub use spec::{read_design, write_design, DesignSpec, DESIGN_FORMAT, DESIGN_VERSION};
 
 /// The result format name.
@@ -119,7 +119,7 @@ impl From<InputError> for DesignError {
 }
 
 /// A validated design request.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct DesignRequest {
     pub plant: Plant,
     pub poles: Vec<Complex64>,
@@ -281,6 +281,9 @@ pub struct Continuation {
     pub feedback: Option<crate::place::Eigenvectors>,
     pub observer: Option<crate::place::Eigenvectors>,
     pub search: Option<SearchMemo>,
+    /// An uncertainty cloud drawn in steps for the next run ([`CloudJob`]); a run's own
+    /// continuation never carries one on.
+    pub cloud: Option<CloudMemo>,
 }
 
 /// A search for the fastest design within the limits together with everything it was computed

@@ -318,7 +318,7 @@ pub struct PoleSensitivityRow {
 }
 
 /// The seeded Monte-Carlo sample of the uncertain plant with the gains held fixed.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct UncertaintyResult {
     pub samples: usize,
     pub seed: u64,
@@ -338,7 +338,7 @@ pub struct UncertaintyResult {
 }
 
 /// Spread of the simulated response over the samples.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ResponseSpread {
     /// `"loop"` or `"free response"`.
     pub scenario: &'static str,

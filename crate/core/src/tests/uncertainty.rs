@@ -37,3 +37,27 @@ fn norm_bounded_perturbation_stays_in_its_ball() {
         assert!(d <= 0.1 * na * (1.0 + 1e-12), "{d}");
     }
 }
+
+#[test]
+fn the_sampler_hands_out_the_seeded_plants_and_counts_failures() {
+    // The plants the sampler draws are the seeded sequence of `perturbed`, one per call and
+    // `samples` in all; a plant whose loop cannot be closed is handed out and counted as failed.
+    let a = DMatrix::from_row_slice(2, 2, &[0.0, 1.0, -2.0, -3.0]);
+    let b = DMatrix::from_row_slice(2, 1, &[0.0, 1.0]);
+    let model = UncertaintyModel { entries: vec![EntryUncertainty { matrix: PlantMatrix::A, row: 1, column: 0, relative: 0.5 }], matrices: vec![(PlantMatrix::B, 0.1)] };
+    // Closing fails whenever the perturbed A(2, 1) is below its nominal −2.
+    let close = |pa: &DMatrix<f64>, _: &DMatrix<f64>| (pa[(1, 0)] >= -2.0).then(|| pa.clone());
+    let mut sampler = CloudSampler::new(50, 11);
+    let mut rng = SplitMix::new(11);
+    let mut below = 0;
+    while let Some((pa, pb)) = sampler.draw(&a, &b, &model, LoopDomain::Continuous, &close) {
+        let (ea, eb) = perturbed(&a, &b, &model, &mut rng);
+        assert_eq!((pa.clone(), pb), (ea, eb), "plant {}", sampler.drawn());
+        below += usize::from(pa[(1, 0)] < -2.0);
+    }
+    assert_eq!((sampler.drawn(), sampler.samples()), (50, 50));
+    assert!(below > 5 && below < 45, "{below} of 50 below: the test needs both kinds");
+    let cloud = sampler.finish();
+    assert_eq!((cloud.failed, cloud.poles.len()), (below, 50 - below));
+    assert_eq!(cloud, sample_cloud(&a, &b, &model, 50, 11, LoopDomain::Continuous, &close));
+}

@@ -3,6 +3,8 @@
 
 use num_complex::Complex64;
 
+mod cloud;
+pub use cloud::{cloud_job, CloudJob, CloudMemo};
 mod gains;
 mod margins;
 mod pair;
@@ -89,7 +91,7 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
     let simulation = simulation::free_response(&s, &g, &h, &mut warnings)?;
     warnings.extend(warnings::controller_warnings(&g, advice.as_ref()));
     let closed_loop = simulation::whole_loop(&s, &g, &h, &mut warnings)?;
-    let uncertainty = if full { robustness::uncertainty(req, &s, &g, &h, closed_loop.is_some()) } else { None };
+    let uncertainty = if full { cloud::uncertainty(&s, &g, &h) } else { None };
     warnings.extend(warnings::observer_speed_warning(spec));
     if let Some(l) = &closed_loop {
         warnings.extend(warnings::loop_warnings(l, req.band));
@@ -140,6 +142,8 @@ pub fn run_continued(req: &DesignRequest, spec: &ControllerSpec, previous: Optio
             feedback: g.placement.eigenvectors.clone(),
             observer: g.observer.as_ref().and_then(|(od, _, _)| od.placement.eigenvectors.clone()),
             search: dp.search_memo.clone(),
+            // Not carried on: a cloud is drawn on request, for one design.
+            cloud: None,
         },
     };
     verdict::finite(&result)?;

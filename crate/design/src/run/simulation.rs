@@ -48,6 +48,7 @@ fn run_loop(plant: &Plant, spec: &ControllerSpec, ctrl: &LoopController, sc: &Lo
 }
 
 /// Shared inputs of both simulations.
+#[derive(Debug, Clone, PartialEq)]
 pub(super) struct Horizon {
     pub x0: Vec<f64>,
     pub x0_chosen: bool,
@@ -234,7 +235,7 @@ pub(super) fn free_response(s: &Setup, g: &Gains, h: &Horizon, warnings: &mut Ve
 }
 
 /// True when the whole loop is simulated (anything beyond plain state feedback was asked for).
-fn loop_runs(s: &Setup) -> bool {
+pub(super) fn loop_runs(s: &Setup) -> bool {
     s.spec.observer.is_some() || !matches!(s.spec.tracking, TrackingSpec::None) || s.t.is_some()
 }
 
