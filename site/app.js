@@ -277,23 +277,9 @@ document.addEventListener('keydown', (e) => {
 byId('pw-save').addEventListener('click', saveDesign);
 byId('pw-export').addEventListener('click', exportFiles);
 byId('pw-print-record').addEventListener('click', printRecord);
-// Sampling the uncertain plant can take a while: say so first, let the browser paint it
-// (a frame, then a task), then sample; the button is disabled meanwhile.
-byId('pw-sample-uncertainty').addEventListener('click', guarded(() => {
-  const button = byId('pw-sample-uncertainty');
-  const list = byId('pw-uncertainty');
-  button.disabled = true;
-  list.setAttribute('aria-busy', 'true');
-  byId('pw-status').textContent = 'Sampling the uncertain plant…';
-  requestAnimationFrame(() => setTimeout(() => {
-    try {
-      guarded(sample_uncertainty)();
-    } finally {
-      button.disabled = false;
-      list.removeAttribute('aria-busy');
-    }
-  }, 0));
-}));
+// Sampling the uncertain plant can take a while: the page draws the samples in slices and
+// says so itself (status line, button disabled, list busy), then shows the design with them.
+byId('pw-sample-uncertainty').addEventListener('click', guarded(() => sample_uncertainty()));
 byId('pw-open-file').addEventListener('change', (e) => {
   openFile(e.target.files[0]);
   e.target.value = '';

@@ -6,6 +6,9 @@
 // Run: node --test tests/e2e/   (after scripts/build-page)
 
 import assert from 'node:assert/strict';
+import { execFileSync } from 'node:child_process';
+import fs from 'node:fs';
+import os from 'node:os';
 import path from 'node:path';
 import { after, before, describe, test } from 'node:test';
 import {
@@ -19,6 +22,7 @@ import {
   massChainFields,
   pageFileUrl,
   parseComplex,
+  repoRoot,
   readGain,
   requireBuiltPage,
   screenshot,
@@ -487,17 +491,77 @@ describe('choosing the poles from the form', () => {
       for (const r of sens) assert.ok(r[0] === '-1' && /repeated pole/.test(r[1]), JSON.stringify(r));
       assert.match(await page.textContent('#pw-sensitivity-summary'), /Repeated poles \(-1, -1\)/);
       assert.match(await page.textContent('#pw-uncertainty'), /200 samples of the uncertain plant are ready/);
-      // The page says it is sampling (and disables the button) before the work starts.
+      // The page says it is sampling (and disables the button) in the same task as the click;
+      // the samples are drawn in slices after it.
       const busy = await page.evaluate(() => {
         document.getElementById('pw-sample-uncertainty').click();
-        return [document.getElementById('pw-status').textContent, document.getElementById('pw-sample-uncertainty').disabled, document.getElementById('pw-uncertainty').getAttribute('aria-busy')];
+        const status = document.getElementById('pw-status');
+        return [status.textContent, status.getAttribute('data-pending'), document.getElementById('pw-sample-uncertainty').disabled, document.getElementById('pw-uncertainty').getAttribute('aria-busy')];
       });
-      assert.deepEqual(busy, ['Sampling the uncertain plant…', true, 'true']);
+      assert.deepEqual(busy, ['Sampling the uncertain plant: 0 of 200 samples so far…', 'cloud', true, 'true']);
       await page.waitForFunction(() => /seed 3/.test(document.getElementById('pw-uncertainty').textContent));
+      await settled(page);
       assert.equal(await page.isDisabled('#pw-sample-uncertainty'), false);
       assert.equal(await page.getAttribute('#pw-uncertainty', 'aria-busy'), null);
+      assert.equal(await page.getAttribute('#pw-status', 'data-cloud-samples'), null, 'the progress count goes with the cloud');
       // Every sample is [[−1, 10 u], [0, −1]] with |u| ≤ 0.1: all stable, decay rate 1 (by hand).
       assert.match(await page.textContent('#pw-uncertainty'), /200 of 200 stable \(100 %\); worst decay rate 1 1\/s/);
+      noErrors(ctx);
+    });
+  });
+
+  test('the uncertainty cloud is drawn in slices, says how far it is, is dropped by an edit, and is the command line\'s cloud', async () => {
+    await withPage(pageFileUrl, async (ctx) => {
+      const { page } = ctx;
+      // The illustrative belt axis with a measured head position, an observer and integral action,
+      // A(2, 1) uncertain by 20 % and B by 10 %: 3,000 perturbed loops, each closed, solved and
+      // simulated, far more than one slice.
+      assert.equal(await beltAxisLoop(page), 'designed', await page.textContent('#pw-status'));
+      await page.fill('#pw-uncertain_entries', 'A 2 1 20%\nB 10%');
+      await page.fill('#pw-uncertainty_samples', '3000');
+      await page.fill('#pw-uncertainty_seed', '5');
+      assert.equal(await designNow(page), 'designed', await page.textContent('#pw-status'));
+      const click = () => page.evaluate(() => {
+        document.getElementById('pw-sample-uncertainty').click();
+        return document.getElementById('pw-status').getAttribute('data-pending');
+      });
+      assert.equal(await click(), 'cloud');
+      // Part of the way: the page has given the main thread back (this poll ran) with some of
+      // the samples drawn.
+      await page.waitForFunction(() => Number(document.getElementById('pw-status').dataset.cloudSamples) > 0);
+      const part = await page.evaluate(() => [Number(document.getElementById('pw-status').dataset.cloudSamples), document.getElementById('pw-status').textContent]);
+      assert.ok(part[0] > 0 && part[0] < 3000, JSON.stringify(part));
+      assert.match(part[1], /^Sampling the uncertain plant: \d+ of 3000 samples so far…$/);
+      // An edit drops the cloud (it belongs to one design): nothing left busy or pending, and the
+      // report offers the samples again.
+      const dropped = await page.evaluate(() => {
+        document.getElementById('pw-state_names').value = 'carriage x, carriage v, head x, head v';
+        document.getElementById('pw-design').click();
+        const status = document.getElementById('pw-status');
+        return [status.getAttribute('data-pending'), status.getAttribute('data-cloud-samples'), document.getElementById('pw-sample-uncertainty').disabled, document.getElementById('pw-uncertainty').getAttribute('aria-busy')];
+      });
+      assert.deepEqual(dropped, ['robustness', null, false, null]);
+      await settled(page);
+      await page.evaluate(() => new Promise((r) => setTimeout(r, 200)));
+      assert.equal(await page.getAttribute('#pw-status', 'data-pending'), null);
+      assert.match(await page.textContent('#pw-uncertainty'), /3000 samples of the uncertain plant are ready to draw/);
+      // Drawn to the end this time: the figures are those the command-line tool computes in one
+      // piece from the saved design file.
+      assert.equal(await click(), 'cloud');
+      await page.waitForFunction(() => /seed 5/.test(document.getElementById('pw-uncertainty').textContent));
+      await settled(page);
+      const text = await page.textContent('#pw-uncertainty');
+      const [download] = await Promise.all([page.waitForEvent('download'), page.click('#pw-save')]);
+      const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'pw-cloud-'));
+      const file = path.join(dir, 'design.json');
+      fs.writeFileSync(file, fs.readFileSync(await download.path(), 'utf8'));
+      execFileSync('cargo', ['build', '--release', '-q', '-p', 'polewright', '--bin', 'polewright'], { cwd: repoRoot, stdio: 'inherit' });
+      const cli = JSON.parse(execFileSync(path.join(repoRoot, 'target', 'release', 'polewright'), ['design', file], { encoding: 'utf8', maxBuffer: 64 << 20 }));
+      const u = cli.uncertainty;
+      assert.ok(u && u.samples === 3000, JSON.stringify(u && { samples: u.samples }));
+      assert.ok(text.includes(`: ${u.stable} of 3000 stable`), `${text} against ${u.stable} stable`);
+      if (u.response.not_settled > 0) assert.ok(text.includes(`(${u.response.not_settled} did not settle)`), `${text} against ${u.response.not_settled}`);
+      else assert.ok(!text.includes('did not settle'), text);
       noErrors(ctx);
     });
   });

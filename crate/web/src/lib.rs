@@ -179,6 +179,7 @@ mod ids {
     pub const SENSITIVITY_SUMMARY: &str = "pw-sensitivity-summary";
     pub const SENSITIVITY_TABLE: &str = "pw-sensitivity-table";
     pub const UNCERTAINTY: &str = "pw-uncertainty";
+    pub const SAMPLE_UNCERTAINTY: &str = "pw-sample-uncertainty";
     /// Sections marked stale when the input is invalid.
     pub const OUTPUT_SECTIONS: [&str; 6] = ["pw-summary", "pw-results", "pw-pole-section", "pw-glance", "pw-loop-section", "pw-response-section"];
     /// Every canvas, in painting order.
@@ -269,6 +270,10 @@ struct PageState {
     search: Option<search_slices::Running>,
     /// The last search run in slices, for the next cycle's design.
     search_memo: Option<crate::design::SearchMemo>,
+    /// The uncertainty cloud being drawn in slices ([`cloud_slices`]).
+    cloud: Option<cloud_slices::Running>,
+    /// Where the cycle after a finished cloud starts (with the cloud's memo).
+    cloud_start: Option<cloud_slices::AfterCloud>,
 }
 
 /// A drag in progress: the frame the map had when it began (kept, so that the view does not
@@ -342,6 +347,8 @@ thread_local! {
         generation: 0,
         search: None,
         search_memo: None,
+        cloud: None,
+        cloud_start: None,
     });
     /// Named durations of the last cycle's phases (milliseconds).
     static PHASES: RefCell<Vec<(&'static str, f64)>> = const { RefCell::new(Vec::new()) };
@@ -367,6 +374,7 @@ fn with_page<T>(f: impl FnOnce(&mut PageState) -> Result<T, JsValue>) -> Result<
 }
 
 mod canvas;
+mod cloud_slices;
 mod deferred;
 mod dom;
 mod plot_view;
@@ -475,9 +483,15 @@ pub fn sample_uncertainty() -> Result<JsValue, JsValue> {
 ///
 /// Also says whether a search has just ended: that cycle designs with its outcome and never
 /// starts another search, so the page cannot loop between searching and designing even if an
-/// input failed to compare equal to itself.
-fn continue_from(page: &mut PageState) -> (Option<crate::design::Continuation>, bool, bool) {
+/// input failed to compare equal to itself. The same for a cloud drawn in slices: the cycle
+/// after it starts where the cycle that left it started, with the cloud's memo, and never
+/// draws another in slices. A cloud still being drawn is dropped (it belongs to one design).
+fn continue_from(page: &mut PageState) -> Start {
     deferred::supersede(page);
+    let dropped_cloud = page.cloud.take().is_some();
+    if let Some(start) = page.cloud_start.take() {
+        return Start { previous: start.previous, fresh: start.fresh, searched: true, clouded: true, dropped_cloud };
+    }
     // A running search that this cycle drops or takes over still owes a fresh start if it was
     // given one.
     let fresh = std::mem::take(&mut page.fresh_start) || page.search.as_ref().is_some_and(|r| r.fresh());
@@ -486,7 +500,19 @@ fn continue_from(page: &mut PageState) -> (Option<crate::design::Continuation>, 
     if let Some(memo) = page.search_memo.take() {
         previous.get_or_insert_with(Default::default).search = Some(memo);
     }
-    (previous, fresh, searched)
+    Start { previous, fresh, searched, clouded: false, dropped_cloud }
+}
+
+/// Where a cycle starts ([`continue_from`]).
+struct Start {
+    previous: Option<crate::design::Continuation>,
+    fresh: bool,
+    /// A search has just ended (or ended before the cloud that has just ended): none now.
+    searched: bool,
+    /// A cloud has just been drawn in slices: not again.
+    clouded: bool,
+    /// A cloud being drawn was dropped: its button and list are free again.
+    dropped_cloud: bool,
 }
 
 /// The status line at the end of a cycle: its text with the cycle time, and the attributes
@@ -494,6 +520,7 @@ fn continue_from(page: &mut PageState) -> (Option<crate::design::Continuation>, 
 fn finish_status(doc: &Document, status: FormStatus, text: &str, cycle_ms: f64) -> Result<(), JsValue> {
     let status_el = by_id(doc, ids::STATUS)?;
     status_el.remove_attribute("data-search-evaluations")?;
+    status_el.remove_attribute("data-cloud-samples")?;
     status_el.set_text_content(Some(&format!("{text} Cycle time {:.1} ms.", cycle_ms)));
     status_el.set_attribute("data-cycle-ms", &format!("{cycle_ms}"))?;
     let phases = PHASES.with(|p| p.try_borrow().map(|v| v.iter().map(|(k, ms)| format!("{k}={ms:.3}")).collect::<Vec<_>>().join(" ")).unwrap_or_default());
@@ -526,11 +553,21 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     let input = read_form(&doc)?;
     let t_read = now_ms();
     phase("read", t_read - start);
-    let (previous, fresh, searched) = with_page(|page| Ok(continue_from(page)))?;
+    let Start { previous, fresh, searched, clouded, dropped_cloud } = with_page(|page| Ok(continue_from(page)))?;
+    if dropped_cloud {
+        cloud_slices::set_controls(&doc, false)?;
+    }
     // A search to run first (not while a pole is dragged): in slices, then this cycle again.
     if depth != form::Depth::Quick && !searched {
         if let Some(job) = form::search_job(&input, previous.as_ref()) {
             with_page(|page| search_slices::start(&doc, page, job, depth, fresh))?;
+            return Ok(JsValue::NULL);
+        }
+    }
+    // The uncertainty cloud asked for by its button: in slices, then this cycle again.
+    if depth == form::Depth::WithCloud && !clouded {
+        if let Some(job) = form::cloud_job(&input, previous.as_ref()) {
+            with_page(|page| cloud_slices::start(&doc, page, job, previous.clone(), fresh))?;
             return Ok(JsValue::NULL);
         }
     }

@@ -395,6 +395,23 @@ pub fn search_job(form: &FormInput, previous: Option<&crate::design::Continuatio
     crate::design::search_job(checked.design.as_ref()?, previous)
 }
 
+/// The uncertainty cloud that [`evaluate_form_with`] at [`Depth::WithCloud`] would draw for
+/// `form` after `previous`, ready to draw in steps (the page spreads it over slices of its main
+/// thread); `None` when there is none to draw: no uncertain parameters, a cloud already
+/// remembered in `previous` for these very inputs, or input errors (which the evaluation then
+/// reports).
+pub fn cloud_job(form: &FormInput, previous: Option<&crate::design::Continuation>) -> Option<crate::design::CloudJob> {
+    if form.uncertain_entries.trim().is_empty() || !oversized_fields(form).is_empty() || page_capacity(form).is_some() {
+        return None;
+    }
+    let spec = adapter::spec_from_form(form).ok()?;
+    let checked = crate::design::check(&spec);
+    if !checked.errors.is_empty() {
+        return None;
+    }
+    crate::design::cloud_job(checked.design.as_ref()?, previous)
+}
+
 pub fn open_loop_analysis(plant: &Plant) -> Option<OpenLoopAnalysis> {
     let mut poles = try_eigenvalues(plant.a()).ok()?;
     sort_for_display(&mut poles);

@@ -717,6 +717,28 @@ fn the_same_form_gives_the_same_report() {
 }
 
 #[test]
+fn a_cloud_drawn_in_steps_gives_the_report_of_one_evaluation() {
+    // The page's way: the form's cloud job drawn to its end, its memo handed to the evaluation
+    // with the cloud. The report is that of drawing the cloud inside the evaluation.
+    let mut f = axis_v2();
+    f.uncertain_entries = "A 2 1 20%\nB 10%".into();
+    f.uncertainty_samples = "40".into();
+    let whole = evaluate_form_with(&f, None, Depth::WithCloud);
+    let report = whole.report.expect("designed");
+    assert!(report.robustness_detail.uncertainty[0].starts_with("40 samples (seed 1)"), "{:?}", report.robustness_detail.uncertainty);
+    let mut job = cloud_job(&f, None).expect("a cloud to draw");
+    while !job.run_for(&mut || true) {}
+    let previous = crate::design::Continuation { cloud: job.memo(), ..Default::default() };
+    assert!(previous.cloud.is_some() && cloud_job(&f, Some(&previous)).is_none());
+    assert_eq!(evaluate_form_with(&f, Some(&previous), Depth::WithCloud).report, Some(report));
+    // Without uncertain parameters, or with a field to fix, there is no job.
+    f.uncertain_entries = " ".into();
+    assert!(cloud_job(&f, None).is_none());
+    f.uncertain_entries = "A 9 9 20%".into();
+    assert!(cloud_job(&f, None).is_none());
+}
+
+#[test]
 fn hostile_text_in_the_version_2_fields_never_panics() {
     let samples = [
         "",
