@@ -6,13 +6,13 @@
 // analysis the page runs right after each cycle is timed too (data-robustness-ms), and the
 // next cycle starts when it is done.
 //
-// Then the search for the fastest design on a 30-state plant, run by the page in slices (total
-// time, longest main-thread task, worst delay of a timer meanwhile), and two pole drags, timed
-// by the page itself (data-drag-median-ms).
+// Then the search for the fastest design on a 30-state plant and two uncertainty clouds, run by
+// the page in slices (total time, longest main-thread task, worst delay of a timer meanwhile),
+// and two pole drags, timed by the page itself (data-drag-median-ms).
 //
 //   node tests/bench/page_cycle.mjs            # print the figures
 //   node tests/bench/page_cycle.mjs --record   # and append one line to tests/bench/log.jsonl
-//   node tests/bench/page_cycle.mjs --only=listed_n10_m2   # one scenario (or --only=drag, --only=search)
+//   node tests/bench/page_cycle.mjs --only=listed_n10_m2   # one scenario (or --only=drag, --only=search, --only=cloud)
 //
 // The log is append-only and committed: the README quotes only figures it holds.
 
@@ -20,7 +20,7 @@ import { execFileSync } from 'node:child_process';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { actuatedChainFields, beltAxisLoop, browser, closeBrowser, design, drag, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
+import { actuatedChainFields, beltAxisLoop, browser, closeBrowser, design, designNow, drag, massChainFields, pageFileUrl, repoRoot, requireBuiltPage, withPage } from '../e2e/harness.mjs';
 
 const CYCLES = 30;
 const WARM_UP = 5;
@@ -168,63 +168,97 @@ async function runDrags() {
 }
 
 
-/** The search for the fastest design on the actuated chain (n = 30, m = 15), started by turning
- * the search on; the page runs it in slices. Timed by the page's clock: from the click to the
- * design shown, the longest main-thread task meanwhile (PerformanceObserver "longtask", tasks
- * over 50 ms; 0 when there were none) and the worst wait of a zero-delay timer queued meanwhile
- * (standing for a keystroke's handler); the robustness analysis that follows the design, in a
- * task of its own, is timed apart (data-robustness-ms). */
-async function runSearch() {
-  return withPage(pageFileUrl, async ({ page }) => {
-    if ((await design(page, actuatedChainFields(15))) !== 'designed') throw new Error(`search: the chain was not designed: ${await page.textContent('#pw-status')}`);
-    const r = await page.evaluate(async () => {
-      const status = document.getElementById('pw-status');
-      const tasks = [];
-      const observer = new PerformanceObserver((list) => list.getEntries().forEach((e) => tasks.push({ start: e.startTime, duration: e.duration })));
-      observer.observe({ type: 'longtask', buffered: false });
-      // The moment the design is shown (the cycle after the search sets data-outcome); the
-      // robustness analysis runs after it, in a task of its own, and is reported apart.
-      let doneAt = null;
-      const mutations = new MutationObserver(() => {
-        if (doneAt === null && status.hasAttribute('data-outcome')) doneAt = performance.now();
-      });
-      mutations.observe(status, { attributes: true });
-      let probeWorst = 0;
-      const probe = () => {
-        const queued = performance.now();
-        setTimeout(() => {
-          probeWorst = Math.max(probeWorst, performance.now() - queued);
-          if (doneAt === null) probe();
-        }, 0);
-      };
-      status.removeAttribute('data-outcome');
-      const t0 = performance.now();
+/** Starts work the page runs in slices (`action`: 'search' turns the search on, 'cloud' presses
+ * "Sample the uncertain plant") and times it by the page's clock: from the click to the design
+ * shown (the cycle after the slices sets data-outcome), the longest main-thread task meanwhile
+ * (PerformanceObserver "longtask", tasks over 50 ms; 0 when there were none) and the worst wait
+ * of a zero-delay timer queued meanwhile (standing for a keystroke's handler); a robustness
+ * analysis that follows the design in a task of its own is timed apart (data-robustness-ms). */
+async function timeSlices(page, action) {
+  return page.evaluate(async (what) => {
+    const status = document.getElementById('pw-status');
+    const tasks = [];
+    const observer = new PerformanceObserver((list) => list.getEntries().forEach((e) => tasks.push({ start: e.startTime, duration: e.duration })));
+    observer.observe({ type: 'longtask', buffered: false });
+    let doneAt = null;
+    const mutations = new MutationObserver(() => {
+      if (doneAt === null && status.hasAttribute('data-outcome')) doneAt = performance.now();
+    });
+    mutations.observe(status, { attributes: true });
+    let probeWorst = 0;
+    const probe = () => {
+      const queued = performance.now();
+      setTimeout(() => {
+        probeWorst = Math.max(probeWorst, performance.now() - queued);
+        if (doneAt === null) probe();
+      }, 0);
+    };
+    status.removeAttribute('data-outcome');
+    const t0 = performance.now();
+    if (what === 'search') {
       const box = document.getElementById('pw-search');
       box.checked = true;
       box.dispatchEvent(new Event('change', { bubbles: true }));
-      probe();
-      for (let w = 0; doneAt === null && w < 600000; w += 1) await new Promise((res) => setTimeout(res, 1));
-      for (let w = 0; status.hasAttribute('data-pending') && w < 600000; w += 1) await new Promise((res) => setTimeout(res, 1));
-      await new Promise((res) => setTimeout(res, 50));
-      observer.disconnect();
-      mutations.disconnect();
-      const during = tasks.filter((t) => t.start < doneAt).map((t) => t.duration);
-      const facts = document.getElementById('pw-search-facts')?.textContent ?? '';
-      return { total: doneAt - t0, during, probeWorst, outcome: status.dataset.outcome, trials: Number((/([0-9]+) trial designs/.exec(facts) || [])[1]), cycle: Number(status.dataset.cycleMs), phases: status.dataset.cyclePhases, robustness: Number(status.dataset.robustnessMs) };
-    });
-    if (r.outcome !== 'designed') throw new Error(`search: ${r.outcome}`);
+    } else {
+      document.getElementById('pw-sample-uncertainty').click();
+    }
+    const pending = status.getAttribute('data-pending');
+    probe();
+    for (let w = 0; doneAt === null && w < 600000; w += 1) await new Promise((res) => setTimeout(res, 1));
+    for (let w = 0; status.hasAttribute('data-pending') && w < 600000; w += 1) await new Promise((res) => setTimeout(res, 1));
+    await new Promise((res) => setTimeout(res, 50));
+    observer.disconnect();
+    mutations.disconnect();
+    const during = tasks.filter((t) => t.start < doneAt).map((t) => t.duration);
+    const facts = document.getElementById('pw-search-facts')?.textContent ?? '';
     return {
-      what: 'turn on the search for the fastest design: chain of 15 masses each with its actuator (n = 30, m = 15), run in slices',
-      total_ms: r.total,
-      trial_designs: r.trials,
-      longest_task_ms: r.during.length ? Math.max(...r.during) : 0,
-      long_tasks: r.during.length,
-      worst_timer_delay_ms: r.probeWorst,
-      final_cycle_ms: r.cycle,
-      final_cycle_phases: r.phases,
-      robustness_ms: r.robustness,
+      sliced: pending === what,
+      total_ms: doneAt - t0,
+      trial_designs: Number((/([0-9]+) trial designs/.exec(facts) || [])[1]),
+      longest_task_ms: during.length ? Math.max(...during) : 0,
+      long_tasks: during.length,
+      worst_timer_delay_ms: probeWorst,
+      final_cycle_ms: Number(status.dataset.cycleMs),
+      final_cycle_phases: status.dataset.cyclePhases,
+      robustness_ms: Number(status.dataset.robustnessMs),
+      outcome: status.dataset.outcome,
+      cloud: document.getElementById('pw-uncertainty').textContent.split('.')[0],
     };
+  }, action);
+}
+
+/** The search for the fastest design on the actuated chain (n = 30, m = 15), started by turning
+ * the search on; the page runs it in slices ([`timeSlices`]). */
+async function runSearch() {
+  return withPage(pageFileUrl, async ({ page }) => {
+    if ((await design(page, actuatedChainFields(15))) !== 'designed') throw new Error(`search: the chain was not designed: ${await page.textContent('#pw-status')}`);
+    const { cloud, outcome, ...r } = await timeSlices(page, 'search');
+    if (outcome !== 'designed' || !r.sliced) throw new Error(`search: ${outcome}, sliced ${r.sliced}`);
+    return { what: 'turn on the search for the fastest design: chain of 15 masses each with its actuator (n = 30, m = 15), run in slices', ...r };
   }, { viewport: { width: 1440, height: 900 } });
+}
+
+/** Sampling the uncertain plant, drawn by the page in slices ([`timeSlices`]): the belt-axis
+ * loop (observer, integral action; 4 states) at the largest sample count, and the modal plant at
+ * the page's state limit. */
+async function runClouds() {
+  const out = {};
+  const cases = [
+    ['cloud_belt_loop_10000', 'the belt-axis loop with observer and integral action, A(2, 1) ±20 % and B ±10 %: 10,000 samples, each closed, solved and simulated', beltAxisLoop, 'A 2 1 20%\nB 10%', '10000'],
+    ['cloud_modal_n50_500', 'flexible structure, 25 modes (n = 50, m = 2), B ±10 % (norm-bounded): 500 samples', (page) => design(page, modalFields(25)), 'B 10%', '500'],
+  ];
+  for (const [key, what, load, entries, samples] of cases) {
+    out[key] = await withPage(pageFileUrl, async ({ page }) => {
+      if ((await load(page)) !== 'designed') throw new Error(`${key}: not designed: ${await page.textContent('#pw-status')}`);
+      await page.fill('#pw-uncertain_entries', entries);
+      await page.fill('#pw-uncertainty_samples', samples);
+      if ((await designNow(page)) !== 'designed') throw new Error(`${key}: ${await page.textContent('#pw-status')}`);
+      const { trial_designs: _, outcome, ...r } = await timeSlices(page, 'cloud');
+      if (outcome !== 'designed' || !r.sliced || !r.cloud.startsWith(`${samples} samples`)) throw new Error(`${key}: ${outcome}, sliced ${r.sliced}: ${r.cloud}`);
+      return { what, ...r };
+    }, { viewport: { width: 1440, height: 900 } });
+  }
+  return out;
 }
 
 function machine() {
@@ -257,6 +291,12 @@ async function main() {
     const r = await runSearch();
     results.search_n30_m15 = r;
     console.log(`search_n30_m15: designed ${r.total_ms.toFixed(0)} ms after the click (${r.trial_designs} trial designs); longest task ${r.longest_task_ms.toFixed(1)} ms (${r.long_tasks} over 50 ms); a zero-delay timer waited at most ${r.worst_timer_delay_ms.toFixed(1)} ms; the cycle after the search ${r.final_cycle_ms.toFixed(1)} ms (${r.final_cycle_phases}), its robustness analysis ${r.robustness_ms.toFixed(1)} ms  (${r.what})`);
+  }
+  if (!only || only === 'cloud') {
+    for (const [key, r] of Object.entries(await runClouds())) {
+      results[key] = r;
+      console.log(`${key}: designed ${r.total_ms.toFixed(0)} ms after the click; longest task ${r.longest_task_ms.toFixed(1)} ms (${r.long_tasks} over 50 ms); a zero-delay timer waited at most ${r.worst_timer_delay_ms.toFixed(1)} ms; the cycle after the samples ${r.final_cycle_ms.toFixed(1)} ms (${r.final_cycle_phases})  (${r.what}; ${r.cloud})`);
+    }
   }
   if (!only || only === 'drag') {
     for (const [key, r] of Object.entries(await runDrags())) {
