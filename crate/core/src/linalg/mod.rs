@@ -5,10 +5,12 @@
 //! [`eigen`] (eigenvalues), [`svd`] (singular values and vectors). The finite
 //! algorithms ([`qr`] Householder with the full orthogonal factor, [`expm`]
 //! matrix exponential) live beside them, and [`shifted_sigma`] (the smallest singular value
-//! of `[A − λI, B]` for many shifts, after one Hessenberg reduction).
+//! of `[A − λI, B]` for many shifts, after one Hessenberg reduction) and [`hermitian_top`] (the
+//! largest eigenvalue of a Hermitian matrix alone, by bisection).
 
 pub mod eigen;
 pub mod expm;
+pub mod hermitian_top;
 pub mod kernels;
 pub mod qr;
 pub mod shifted_sigma;

@@ -422,11 +422,12 @@ pub struct InputMargins {
 /// computed from it is then zero, never larger than the truth).
 ///
 /// `σ_max² = λ_max(Mᴴ M)`: squaring costs no relative accuracy for the largest singular value
-/// (common practice). 2 × 2: the closed form of a Hermitian 2 × 2 eigenvalue; square matrices up
-/// to 8 × 8: the Hermitian eigenvalues of `Mᴴ M` (tridiagonal QR, capped); anything else, or a
-/// failed iteration: the SVD.
+/// (common practice). 2 × 2: the closed form of a Hermitian 2 × 2 eigenvalue; larger: the
+/// largest eigenvalue of the smaller Gram matrix alone, by tridiagonal reduction and bisection
+/// ([`crate::linalg::hermitian_top`]); the SVD only if that fails (a non-finite entry).
 pub fn sigma_max(m: &DMatrix<Complex64>) -> f64 {
     match m.shape() {
+        (0, _) | (_, 0) => 0.0,
         (1, 1) => m[(0, 0)].norm(),
         (2, 2) => {
             let col = |j: usize| (m[(0, j)], m[(1, j)]);
@@ -441,14 +442,13 @@ pub fn sigma_max(m: &DMatrix<Complex64>) -> f64 {
                 f64::INFINITY
             }
         }
-        (k, c) if k == c && k <= 8 => {
-            let g = m.adjoint() * m;
-            match nalgebra::linalg::SymmetricEigen::try_new(g, f64::EPSILON, 200) {
-                Some(e) if e.eigenvalues.iter().all(|v| v.is_finite()) => e.eigenvalues.iter().copied().fold(0.0, f64::max).sqrt(),
+        (r, c) => {
+            let g = if r >= c { m.adjoint() * m } else { m * m.adjoint() };
+            match crate::linalg::hermitian_top::try_largest_hermitian_eigenvalue(&g) {
+                Ok(v) if v.is_finite() => v.max(0.0).sqrt(),
                 _ => sigma_max_svd(m),
             }
         }
-        _ => sigma_max_svd(m),
     }
 }
 

@@ -77,8 +77,9 @@ fn loop_at_a_time_closes_the_other_inputs() {
 
 #[test]
 fn sigma_max_fast_routes_agree_with_the_svd() {
-    // The closed form (2 × 2) and the Hermitian eigenvalues of MᴴM (3 × 3 … 8 × 8) against the
-    // SVD on seeded complex matrices, including nearly rank-one and widely scaled ones.
+    // The closed form (2 × 2) and the largest eigenvalue of the Gram matrix (3 × 3 … 16 × 16,
+    // and 3 × 5, 5 × 3) against the SVD on seeded complex matrices, including nearly rank-one
+    // and widely scaled ones.
     let mut state = 0xC0FFEEu64;
     let mut next = || {
         state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
@@ -89,7 +90,7 @@ fn sigma_max_fast_routes_agree_with_the_svd() {
         2.0 * ((z >> 11) as f64 / (1u64 << 53) as f64) - 1.0
     };
     let mut compared = 0;
-    for k in 2..=8 {
+    for k in 2..=16 {
         for case in 0..20 {
             let scale = 10f64.powi(case % 7 - 3);
             let mut m = DMatrix::<Complex64>::from_fn(k, k, |_, _| Complex64::new(next(), next()) * scale);
@@ -105,7 +106,13 @@ fn sigma_max_fast_routes_agree_with_the_svd() {
             compared += 1;
         }
     }
-    assert_eq!(compared, 140);
+    for (r, c) in [(3, 5), (5, 3), (1, 4), (4, 1)] {
+        let m = DMatrix::<Complex64>::from_fn(r, c, |_, _| Complex64::new(next(), next()));
+        let (svd, fast) = (sigma_max_svd(&m), sigma_max(&m));
+        assert!((fast - svd).abs() <= 1e-13 * svd, "{r} × {c}: {fast} vs {svd}");
+        compared += 1;
+    }
+    assert_eq!(compared, 304);
 }
 
 #[test]
