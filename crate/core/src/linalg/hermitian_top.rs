@@ -6,14 +6,19 @@
 //! # Method
 //! Householder reduction to a real symmetric tridiagonal `T` with diagonal `d` and off-diagonal
 //! moduli `|e|` (nalgebra's `SymmetricTridiagonal`; a diagonal unitary similarity makes the
-//! complex off-diagonal real without changing the eigenvalues), then bisection on Sturm counts:
-//! the number of negative pivots of the `LDLᵀ` factorisation of `T − x I` is the number of
-//! eigenvalues below `x` (Barth, Martin & Wilkinson, "Calculation of the eigenvalues of a
-//! symmetric tridiagonal matrix by the method of bisection", Numer. Math. 9, 1967; Golub & Van
-//! Loan, "Matrix Computations", 4th ed., 2013, §8.4.1; both from memory). The bracket starts
-//! from Gershgorin's discs and is halved until it is `4 ε max|x|` wide (plus the pivot floor),
-//! at most [`MAX_BISECTIONS`] times; the upper end is returned, so the value never falls short
-//! of the bracket's eigenvalue.
+//! complex off-diagonal real without changing the eigenvalues). Then Laguerre's iteration on
+//! `p(x) = det(x I − T)` from above Gershgorin's discs: `p` has only real roots, and from above
+//! the largest one the iteration decreases monotonically to it, cubically near it (Wilkinson,
+//! "The Algebraic Eigenvalue Problem", 1965, ch. 7; from memory). `p'/p` and `p''/p` come from
+//! the pivots of `x I − T = L D Lᵀ` and their derivatives, `O(n)` per step, all pivots positive
+//! above the largest eigenvalue. The result is confirmed by a Sturm count (the number of
+//! negative pivots of `T − x I` is the number of eigenvalues below `x`); if Laguerre does not
+//! settle in [`MAX_LAGUERRE`] steps or the count disagrees, bisection on Sturm counts decides
+//! (Barth, Martin & Wilkinson, "Calculation of the eigenvalues of a symmetric tridiagonal
+//! matrix by the method of bisection", Numer. Math. 9, 1967; Golub & Van Loan, "Matrix
+//! Computations", 4th ed., 2013, §8.4.1; both from memory), halving the bracket until it is
+//! `4 ε max|x|` wide (plus the pivot floor), at most [`MAX_BISECTIONS`] times, and returning
+//! its upper end.
 //!
 //! # Accuracy
 //! Both stages are backward stable: the result is within a small multiple of `ε ‖G‖` of
@@ -21,8 +26,8 @@
 //! is `‖M‖₂²`) is a relative accuracy of that order.
 //!
 //! # Cost
-//! `16/3 n³` real flops for the reduction, then `O(n)` per bisection step (about 60 steps):
-//! about a third of an SVD's, and no iteration that can fail to converge.
+//! `16/3 n³` real flops for the reduction, then `O(n)` per Laguerre step (a handful) or
+//! bisection step (about 60): no iteration that can fail to give an answer.
 //!
 //! # Failure modes
 //! A non-finite entry: [`TopEigenError::NotFinite`]. An empty or non-square matrix:
@@ -30,6 +35,9 @@
 
 use nalgebra::DMatrix;
 use num_complex::Complex64;
+
+/// Most Laguerre steps before bisection takes over (a handful is usual).
+pub const MAX_LAGUERRE: usize = 40;
 
 /// Most halvings of the bracket (about 60 reach `ε` from Gershgorin's bracket of a finite matrix;
 /// the cap only guards against an unforeseen input).
@@ -72,7 +80,65 @@ pub fn try_largest_hermitian_eigenvalue(g: &DMatrix<Complex64>) -> Result<f64, T
     }
     let (d, e) = nalgebra::linalg::SymmetricTridiagonal::new(g.clone()).unpack_tridiagonal();
     let e2: Vec<f64> = e.iter().map(|v| v * v).collect();
-    Ok(largest_by_bisection(d.as_slice(), e.as_slice(), &e2))
+    let (d, e) = (d.as_slice(), e.as_slice());
+    let (lo, hi, pivmin) = gershgorin(d, e, &e2);
+    match largest_by_laguerre(d, &e2, hi, pivmin) {
+        Some(x) if count_below(d, &e2, x + 4.0 * f64::EPSILON * x.abs() + pivmin, pivmin) == d.len() => Ok(x),
+        _ => Ok(largest_by_bisection(d, &e2, lo, hi, pivmin)),
+    }
+}
+
+/// Gershgorin's bracket of the eigenvalues, widened by a few units in the last place so that
+/// rounding in the discs cannot shut one out, and the pivot floor.
+fn gershgorin(d: &[f64], e: &[f64], e2: &[f64]) -> (f64, f64, f64) {
+    let n = d.len();
+    let radius = |i: usize| (if i > 0 { e[i - 1].abs() } else { 0.0 }) + (if i + 1 < n { e[i].abs() } else { 0.0 });
+    let hi = (0..n).map(|i| d[i] + radius(i)).fold(f64::NEG_INFINITY, f64::max);
+    let lo = (0..n).map(|i| d[i] - radius(i)).fold(f64::INFINITY, f64::min);
+    let pivmin = f64::MIN_POSITIVE * e2.iter().copied().fold(1.0, f64::max);
+    let slack = 4.0 * f64::EPSILON * lo.abs().max(hi.abs()) + pivmin;
+    (lo - slack, hi + slack, pivmin)
+}
+
+/// Laguerre's iteration for the largest root of `det(x I − T)` from `start` (above it); `None`
+/// when it does not settle. A pivot that is not positive after a step means the iterate is at
+/// the root within rounding (a quadratic is solved exactly in one step), and that iterate is
+/// returned for the caller to confirm.
+fn largest_by_laguerre(d: &[f64], e2: &[f64], start: f64, pivmin: f64) -> Option<f64> {
+    let n = d.len() as f64;
+    let mut x = start;
+    for taken in 0..MAX_LAGUERRE {
+        // Pivots p of x I − T and their first two derivatives in x: G = Σ p'/p = (log det)',
+        // H = Σ (p'² − p p'')/p² = −(log det)''.
+        let (mut p, mut dp, mut ddp) = (0.0f64, 0.0f64, 0.0f64);
+        let (mut g, mut h) = (0.0f64, 0.0f64);
+        for (i, di) in d.iter().enumerate() {
+            let (np, ndp, nddp) = if i == 0 {
+                (x - di, 1.0, 0.0)
+            } else {
+                let e = e2[i - 1];
+                (x - di - e / p, 1.0 + e * dp / (p * p), e * (ddp * p - 2.0 * dp * dp) / (p * p * p))
+            };
+            (p, dp, ddp) = (np, ndp, nddp);
+            if !(p > 0.0) {
+                // At (or, by rounding, just below) the root after a step: the caller's Sturm
+                // count decides whether it is close enough.
+                return (taken > 0 && p.is_finite()).then_some(x);
+            }
+            g += dp / p;
+            h += (dp * dp - p * ddp) / (p * p);
+        }
+        let root = ((n - 1.0) * (n * h - g * g)).max(0.0).sqrt();
+        let step = n / (g + root);
+        if !step.is_finite() {
+            return None;
+        }
+        x -= step;
+        if step <= 4.0 * f64::EPSILON * x.abs() + pivmin {
+            return Some(x);
+        }
+    }
+    None
 }
 
 /// Eigenvalues of the tridiagonal `(d, e)` below `x`: the negative pivots of `T − x I = L D Lᵀ`
@@ -90,16 +156,9 @@ fn count_below(d: &[f64], e2: &[f64], x: f64, pivmin: f64) -> usize {
     count
 }
 
-fn largest_by_bisection(d: &[f64], e: &[f64], e2: &[f64]) -> f64 {
+/// Bisection on Sturm counts in `[lo, hi]`; the upper end of the last bracket.
+fn largest_by_bisection(d: &[f64], e2: &[f64], mut lo: f64, mut hi: f64, pivmin: f64) -> f64 {
     let n = d.len();
-    let radius = |i: usize| (if i > 0 { e[i - 1].abs() } else { 0.0 }) + (if i + 1 < n { e[i].abs() } else { 0.0 });
-    let mut hi = (0..n).map(|i| d[i] + radius(i)).fold(f64::NEG_INFINITY, f64::max);
-    let mut lo = (0..n).map(|i| d[i] - radius(i)).fold(f64::INFINITY, f64::min);
-    let pivmin = f64::MIN_POSITIVE * e2.iter().copied().fold(1.0, f64::max);
-    // Widen by a few units in the last place so that rounding in the discs cannot shut the
-    // eigenvalue out of the bracket.
-    let slack = 4.0 * f64::EPSILON * lo.abs().max(hi.abs()) + pivmin;
-    (lo, hi) = (lo - slack, hi + slack);
     for _ in 0..MAX_BISECTIONS {
         if hi - lo <= 4.0 * f64::EPSILON * lo.abs().max(hi.abs()) + pivmin {
             break;

@@ -76,3 +76,30 @@ fn bad_input_is_an_error_not_a_panic() {
     assert_eq!(try_largest_hermitian_eigenvalue(&DMatrix::from_element(1, 1, Complex64::new(-4.0, 0.0))), Ok(-4.0));
     assert_eq!(try_largest_hermitian_eigenvalue(&DMatrix::zeros(5, 5)), Ok(0.0));
 }
+
+#[test]
+fn laguerre_settles_and_agrees_with_bisection() {
+    // The fast route must not quietly fall back: on seeded Gram matrices (2 … 30 rows, some
+    // nearly rank one, one with a repeated top eigenvalue) Laguerre settles, and to within a few
+    // units in the last place of what bisection alone gives.
+    let mut next = deviates(0x7E57_0002);
+    for k in 2..=30usize {
+        for case in 0..4 {
+            let mut m = DMatrix::from_fn(k, k, |_, _| Complex64::new(next(), next()));
+            if case == 1 {
+                let (u, v): (Vec<Complex64>, Vec<Complex64>) = (0..k).map(|_| (Complex64::new(next(), next()), Complex64::new(next(), next()))).unzip();
+                m = DMatrix::from_fn(k, k, |i, j| u[i] * v[j].conj() + Complex64::new(1e-9 * next(), 0.0));
+            }
+            if case == 2 {
+                m = DMatrix::identity(k, k) * Complex64::new(3.0, 0.0);
+            }
+            let g = m.adjoint() * &m;
+            let (d, e) = nalgebra::linalg::SymmetricTridiagonal::new(g).unpack_tridiagonal();
+            let e2: Vec<f64> = e.iter().map(|v| v * v).collect();
+            let (lo, hi, pivmin) = gershgorin(d.as_slice(), e.as_slice(), &e2);
+            let fast = largest_by_laguerre(d.as_slice(), &e2, hi, pivmin).unwrap_or_else(|| panic!("k {k} case {case}: Laguerre did not settle"));
+            let slow = largest_by_bisection(d.as_slice(), &e2, lo, hi, pivmin);
+            assert!((fast - slow).abs() <= 16.0 * f64::EPSILON * slow.abs() * k as f64 + pivmin, "k {k} case {case}: {fast} vs {slow}");
+        }
+    }
+}
