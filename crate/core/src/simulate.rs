@@ -21,7 +21,8 @@
 //! [`SimulationParams::min_steps`] and [`SimulationParams::max_steps`] steps.
 //!
 //! # Cost
-//! Two matrix exponentials of size `n + m` plus `O(n²)` per step.
+//! Two matrix exponentials of size `n + m` plus `O(n²)` per step: `Φ_cl x` or `Φ x` by the
+//! contiguous kernel of [`crate::linalg::kernels`] (bitwise the matrix library's product).
 //!
 //! # Failure modes
 //! An unstable closed loop grows without bound: the run stops when ‖x‖ passes
@@ -189,7 +190,7 @@ pub fn closed_loop_response(a: &DMatrix<f64>, b: &DMatrix<f64>, k: &DMatrix<f64>
             break;
         }
         if clipped {
-            next.gemv(1.0, &phi, &x, 0.0);
+            product_into(&phi, &x, &mut next);
             next.gemv(1.0, &gamma, &u, 1.0);
         } else {
             product_into(&phi_cl, &x, &mut next);
