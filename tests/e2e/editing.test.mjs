@@ -545,6 +545,19 @@ describe('choosing the poles from the form', () => {
       await page.evaluate(() => new Promise((r) => setTimeout(r, 200)));
       assert.equal(await page.getAttribute('#pw-status', 'data-pending'), null);
       assert.match(await page.textContent('#pw-uncertainty'), /3000 samples of the uncertain plant are ready to draw/);
+      // A change that reaches the form while the samples are drawn but starts no cycle of its
+      // own (set without an input event): the cycle after the last slice finds another form,
+      // so it designs that form without the cloud (drawn for the old one) instead of drawing
+      // a new cloud in one task.
+      assert.equal(await click(), 'cloud');
+      await page.evaluate(() => {
+        document.getElementById('pw-state_names').value = 'carriage p, carriage s, head p, head s';
+      });
+      await page.waitForFunction(() => document.getElementById('pw-status').getAttribute('data-pending') !== 'cloud');
+      await settled(page);
+      assert.equal(await page.getAttribute('#pw-status', 'data-outcome'), 'designed');
+      assert.match(await page.textContent('#pw-uncertainty'), /3000 samples of the uncertain plant are ready to draw/);
+      assert.equal(await page.isDisabled('#pw-sample-uncertainty'), false);
       // Drawn to the end this time: the figures are those the command-line tool computes in one
       // piece from the saved design file.
       assert.equal(await click(), 'cloud');

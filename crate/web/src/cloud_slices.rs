@@ -21,14 +21,20 @@ const SLICE_MS: f64 = 40.0;
 pub(crate) struct Running {
     generation: u64,
     job: crate::design::CloudJob,
-    /// What the cycle that left it started from, for the cycle that ends it.
-    previous: Option<crate::design::Continuation>,
-    fresh: bool,
+    left: Left,
 }
 
-/// Where the cycle after a finished cloud starts: the start of the cycle that left the job,
-/// with the cloud's memo.
+/// What the cycle that left a cloud to slices had: its form and where it started.
+pub(crate) struct Left {
+    pub(crate) input: FormInput,
+    pub(crate) previous: Option<crate::design::Continuation>,
+    pub(crate) fresh: bool,
+}
+
+/// Where the cycle after a finished cloud starts ([`cycle_after`]): the start of the cycle that
+/// left the job, with the cloud's memo, for the form it was drawn for.
 pub(crate) struct AfterCloud {
+    pub(crate) input: FormInput,
     pub(crate) previous: Option<crate::design::Continuation>,
     pub(crate) fresh: bool,
 }
@@ -37,10 +43,10 @@ pub(crate) struct AfterCloud {
 ///
 /// # Errors
 /// When the status line is missing or the browser refuses the timer.
-pub(crate) fn start(doc: &Document, page: &mut PageState, job: crate::design::CloudJob, previous: Option<crate::design::Continuation>, fresh: bool) -> Result<(), JsValue> {
+pub(crate) fn start(doc: &Document, page: &mut PageState, job: crate::design::CloudJob, left: Left) -> Result<(), JsValue> {
     let generation = page.generation;
     let (done, all) = (job.drawn(), job.samples());
-    page.cloud = Some(Running { generation, job, previous, fresh });
+    page.cloud = Some(Running { generation, job, left });
     let status = by_id(doc, ids::STATUS)?;
     status.remove_attribute("data-outcome")?;
     status.class_list().remove_1("is-error")?;
@@ -80,14 +86,7 @@ fn show_progress(doc: &Document, done: usize, all: usize) -> Result<(), JsValue>
 }
 
 fn schedule(generation: u64) -> Result<(), JsValue> {
-    let callback = Closure::once_into_js(move || {
-        if let Err(e) = slice(generation) {
-            report_internal_error(&format!("Sampling the uncertain plant stopped: {}", e.as_string().unwrap_or_else(|| format!("{e:?}"))));
-        }
-    });
-    let window = web_sys::window().ok_or_else(|| JsValue::from_str("no window"))?;
-    window.set_timeout_with_callback_and_timeout_and_arguments_0(callback.unchecked_ref(), 0)?;
-    Ok(())
+    after_a_moment("Sampling the uncertain plant stopped", move || slice(generation))
 }
 
 /// One slice of the cloud of `generation` (none if a newer cycle dropped it); the cycle that
@@ -97,27 +96,27 @@ fn slice(generation: u64) -> Result<(), JsValue> {
     let doc = document()?;
     let finished = with_page(|page| {
         let Some(running) = page.cloud.as_mut().filter(|r| r.generation == generation) else {
-            return Ok(false);
+            return Ok(None);
         };
         if running.job.run_for(&mut || now_ms() - start < SLICE_MS) {
-            if let Some(r) = page.cloud.take() {
-                let mut previous = r.previous;
+            return Ok(page.cloud.take().map(|r| {
+                let Left { input, mut previous, fresh } = r.left;
                 // No memo only if the job could not go on; the cycle then draws the cloud itself.
                 if let Some(memo) = r.job.memo() {
                     previous.get_or_insert_with(Default::default).cloud = Some(memo);
                 }
-                page.cloud_start = Some(AfterCloud { previous, fresh: r.fresh });
-            }
-            return Ok(true);
+                AfterCloud { input, previous, fresh }
+            }));
         }
         show_progress(&doc, running.job.drawn(), running.job.samples())?;
         schedule(generation)?;
-        Ok(false)
+        Ok(None)
     })?;
-    if finished {
-        set_controls(&doc, false)?;
-        cycle(form::Depth::WithCloud).map(|_| ())
-    } else {
-        Ok(())
+    match finished {
+        Some(after) => {
+            set_controls(&doc, false)?;
+            cycle_after(form::Depth::WithCloud, Some(after)).map(|_| ())
+        }
+        None => Ok(()),
     }
 }

@@ -37,14 +37,7 @@ pub(crate) fn schedule(doc: &Document, page: &mut PageState, input: FormInput, p
     status.set_attribute("data-pending", "robustness")?;
     status.remove_attribute("data-robustness-ms")?;
     set_busy(doc, true)?;
-    let callback = Closure::once_into_js(move || {
-        if let Err(e) = complete(Some(generation)) {
-            report_internal_error(&format!("The robustness analysis could not be shown: {}", e.as_string().unwrap_or_else(|| format!("{e:?}"))));
-        }
-    });
-    let window = web_sys::window().ok_or_else(|| JsValue::from_str("no window"))?;
-    window.set_timeout_with_callback_and_timeout_and_arguments_0(callback.unchecked_ref(), 0)?;
-    Ok(())
+    after_a_moment("The robustness analysis could not be shown", move || complete(Some(generation)).map(|_| ()))
 }
 
 /// Run the pending robustness analysis now (the page's timer does it by itself; tests and

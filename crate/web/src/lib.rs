@@ -94,6 +94,22 @@ pub fn report_internal_error(message: &str) {
     }
 }
 
+/// Asks the browser to run `task` from a zero-delay timer (after it has painted and handled
+/// pending input); an error `task` returns is reported ([`report_internal_error`]) after `what`.
+///
+/// # Errors
+/// When there is no window or the browser refuses the timer.
+pub(crate) fn after_a_moment(what: &'static str, task: impl FnOnce() -> Result<(), JsValue> + 'static) -> Result<(), JsValue> {
+    let callback = Closure::once_into_js(move || {
+        if let Err(e) = task() {
+            report_internal_error(&format!("{what}: {}", e.as_string().unwrap_or_else(|| format!("{e:?}"))));
+        }
+    });
+    let window = web_sys::window().ok_or_else(|| JsValue::from_str("no window"))?;
+    window.set_timeout_with_callback_and_timeout_and_arguments_0(callback.unchecked_ref(), 0)?;
+    Ok(())
+}
+
 /// Package version, e.g. `0.1.0`.
 #[wasm_bindgen]
 pub fn version() -> String {
@@ -272,8 +288,6 @@ struct PageState {
     search_memo: Option<crate::design::SearchMemo>,
     /// The uncertainty cloud being drawn in slices ([`cloud_slices`]).
     cloud: Option<cloud_slices::Running>,
-    /// Where the cycle after a finished cloud starts (with the cloud's memo).
-    cloud_start: Option<cloud_slices::AfterCloud>,
 }
 
 /// A drag in progress: the frame the map had when it began (kept, so that the view does not
@@ -348,7 +362,6 @@ thread_local! {
         search: None,
         search_memo: None,
         cloud: None,
-        cloud_start: None,
     });
     /// Named durations of the last cycle's phases (milliseconds).
     static PHASES: RefCell<Vec<(&'static str, f64)>> = const { RefCell::new(Vec::new()) };
@@ -462,7 +475,8 @@ struct CycleSummary {
 /// `{ status, cycle_ms, errors }` and records `cycle_ms` in the status line's
 /// `data-cycle-ms` (and the phases in `data-cycle-phases`); returns `null` when the design
 /// first needs a search for the fastest design, which then runs in slices and ends with this
-/// cycle ([`search_slices`]).
+/// cycle ([`search_slices`]); [`sample_uncertainty`] returns `null` too while its cloud is
+/// drawn in slices ([`cloud_slices`]).
 #[wasm_bindgen]
 pub fn update_page() -> Result<JsValue, JsValue> {
     cycle(form::Depth::Full)
@@ -483,14 +497,15 @@ pub fn sample_uncertainty() -> Result<JsValue, JsValue> {
 ///
 /// Also says whether a search has just ended: that cycle designs with its outcome and never
 /// starts another search, so the page cannot loop between searching and designing even if an
-/// input failed to compare equal to itself. The same for a cloud drawn in slices: the cycle
-/// after it starts where the cycle that left it started, with the cloud's memo, and never
-/// draws another in slices. A cloud still being drawn is dropped (it belongs to one design).
-fn continue_from(page: &mut PageState) -> Start {
+/// input failed to compare equal to itself. The same for a cloud drawn in slices (`after`):
+/// the cycle after it starts where the cycle that left it started, with the cloud's memo, and
+/// never draws another in slices. A cloud still being drawn is dropped (it belongs to one
+/// design).
+fn continue_from(page: &mut PageState, after: Option<cloud_slices::AfterCloud>) -> Start {
     deferred::supersede(page);
     let dropped_cloud = page.cloud.take().is_some();
-    if let Some(start) = page.cloud_start.take() {
-        return Start { previous: start.previous, fresh: start.fresh, searched: true, clouded: true, dropped_cloud };
+    if let Some(a) = after {
+        return Start { previous: a.previous, fresh: a.fresh, searched: true, clouded: true, dropped_cloud };
     }
     // A running search that this cycle drops or takes over still owes a fresh start if it was
     // given one.
@@ -543,6 +558,40 @@ fn finish_status(doc: &Document, status: FormStatus, text: &str, cycle_ms: f64) 
 /// [`form::Depth::Full`] the cycle itself runs quick and leaves the robustness analysis for
 /// right after it ([`deferred`]).
 pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
+    cycle_after(depth, None)
+}
+
+/// Leaves the search for the fastest design, or the uncertainty cloud, to slices of the main
+/// thread when this cycle needs one first; true when it did (the cycle stops there and runs
+/// again when the work is done). Any search left running is dropped otherwise.
+fn leave_to_slices(doc: &Document, input: &FormInput, depth: form::Depth, start: &Start) -> Result<bool, JsValue> {
+    // Not while a pole is dragged, and not again right after a search.
+    if depth != form::Depth::Quick && !start.searched {
+        if let Some(job) = form::search_job(input, start.previous.as_ref()) {
+            with_page(|page| search_slices::start(doc, page, job, depth, start.fresh))?;
+            return Ok(true);
+        }
+    }
+    with_page(|page| {
+        page.search = None;
+        Ok(())
+    })?;
+    // The uncertainty cloud asked for by its button, unless it has just been drawn.
+    if depth == form::Depth::WithCloud && !start.clouded {
+        if let Some(job) = form::cloud_job(input, start.previous.as_ref()) {
+            let left = cloud_slices::Left { input: input.clone(), previous: start.previous.clone(), fresh: start.fresh };
+            with_page(|page| cloud_slices::start(doc, page, job, left))?;
+            return Ok(true);
+        }
+    }
+    Ok(false)
+}
+
+/// [`cycle`], right after a cloud was drawn in slices (`after`): it starts where the cycle that
+/// left the cloud started, with the cloud's memo. If the form changed meanwhile (an edit landed
+/// while the last slice ran), the cloud belongs to another design: the form is designed as it
+/// is, at [`form::Depth::Full`], without it.
+pub(crate) fn cycle_after(depth: form::Depth, after: Option<cloud_slices::AfterCloud>) -> Result<JsValue, JsValue> {
     let start = now_ms();
     PHASES.with(|p| {
         if let Ok(mut v) = p.try_borrow_mut() {
@@ -553,28 +602,18 @@ pub(crate) fn cycle(depth: form::Depth) -> Result<JsValue, JsValue> {
     let input = read_form(&doc)?;
     let t_read = now_ms();
     phase("read", t_read - start);
-    let Start { previous, fresh, searched, clouded, dropped_cloud } = with_page(|page| Ok(continue_from(page)))?;
-    if dropped_cloud {
+    let (after, depth) = match after {
+        Some(a) if a.input != input => (None, form::Depth::Full),
+        other => (other, depth),
+    };
+    let begin = with_page(|page| Ok(continue_from(page, after)))?;
+    if begin.dropped_cloud {
         cloud_slices::set_controls(&doc, false)?;
     }
-    // A search to run first (not while a pole is dragged): in slices, then this cycle again.
-    if depth != form::Depth::Quick && !searched {
-        if let Some(job) = form::search_job(&input, previous.as_ref()) {
-            with_page(|page| search_slices::start(&doc, page, job, depth, fresh))?;
-            return Ok(JsValue::NULL);
-        }
+    if leave_to_slices(&doc, &input, depth, &begin)? {
+        return Ok(JsValue::NULL);
     }
-    // The uncertainty cloud asked for by its button: in slices, then this cycle again.
-    if depth == form::Depth::WithCloud && !clouded {
-        if let Some(job) = form::cloud_job(&input, previous.as_ref()) {
-            with_page(|page| cloud_slices::start(&doc, page, job, previous.clone(), fresh))?;
-            return Ok(JsValue::NULL);
-        }
-    }
-    with_page(|page| {
-        page.search = None;
-        Ok(())
-    })?;
+    let previous = begin.previous;
     let defer = depth == form::Depth::Full;
     let mut outcome = form::evaluate_form_with(&input, previous.as_ref(), if defer { form::Depth::Quick } else { depth });
     let t_eval = now_ms();

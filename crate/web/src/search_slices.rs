@@ -67,14 +67,7 @@ fn show_progress(doc: &Document, done: usize, most: usize) -> Result<(), JsValue
 }
 
 fn schedule(generation: u64) -> Result<(), JsValue> {
-    let callback = Closure::once_into_js(move || {
-        if let Err(e) = slice(generation) {
-            report_internal_error(&format!("The search for the fastest design stopped: {}", e.as_string().unwrap_or_else(|| format!("{e:?}"))));
-        }
-    });
-    let window = web_sys::window().ok_or_else(|| JsValue::from_str("no window"))?;
-    window.set_timeout_with_callback_and_timeout_and_arguments_0(callback.unchecked_ref(), 0)?;
-    Ok(())
+    after_a_moment("The search for the fastest design stopped", move || slice(generation))
 }
 
 /// One slice of the search of `generation` (none if a newer cycle superseded it); the cycle it

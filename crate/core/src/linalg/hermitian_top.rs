@@ -8,8 +8,9 @@
 //! moduli `|e|` (nalgebra's `SymmetricTridiagonal`; a diagonal unitary similarity makes the
 //! complex off-diagonal real without changing the eigenvalues). Then Laguerre's iteration on
 //! `p(x) = det(x I − T)` from above Gershgorin's discs: `p` has only real roots, and from above
-//! the largest one the iteration decreases monotonically to it, cubically near it (Wilkinson,
-//! "The Algebraic Eigenvalue Problem", 1965, ch. 7; from memory). `p'/p` and `p''/p` come from
+//! the largest one the iteration decreases monotonically to it, cubically near a simple root
+//! and linearly near a repeated one (Wilkinson, "The Algebraic Eigenvalue Problem", 1965, ch. 7;
+//! from memory). A matrix far from 1 in size is first scaled by a power of two (exactly). `p'/p` and `p''/p` come from
 //! the pivots of `x I − T = L D Lᵀ` and their derivatives, `O(n)` per step, all pivots positive
 //! above the largest eigenvalue. The result is confirmed by a Sturm count (the number of
 //! negative pivots of `T − x I` is the number of eigenvalues below `x`); if Laguerre does not
@@ -78,13 +79,31 @@ pub fn try_largest_hermitian_eigenvalue(g: &DMatrix<Complex64>) -> Result<f64, T
     if rows == 1 {
         return Ok(g[(0, 0)].re);
     }
+    // Far from 1 in size, scale by a power of two (exactly) so that squares of the
+    // off-diagonal neither overflow nor underflow; the eigenvalue is scaled back.
+    let largest = g.iter().map(|z| z.re.abs().max(z.im.abs())).fold(0.0, f64::max);
+    let exponent = if largest > 0.0 { largest.log2().round().clamp(-1000.0, 1000.0) as i32 } else { 0 };
+    let (scale, scaled);
+    let g = if exponent.abs() > 500 {
+        scale = 2f64.powi(exponent);
+        scaled = g * Complex64::new(1.0 / scale, 0.0);
+        &scaled
+    } else {
+        scale = 1.0;
+        g
+    };
+    Ok(scale * largest_eigenvalue_of(g))
+}
+
+/// The largest eigenvalue of a finite Hermitian `g` of at least two rows, of moderate size.
+fn largest_eigenvalue_of(g: &DMatrix<Complex64>) -> f64 {
     let (d, e) = nalgebra::linalg::SymmetricTridiagonal::new(g.clone()).unpack_tridiagonal();
     let e2: Vec<f64> = e.iter().map(|v| v * v).collect();
     let (d, e) = (d.as_slice(), e.as_slice());
     let (lo, hi, pivmin) = gershgorin(d, e, &e2);
     match largest_by_laguerre(d, &e2, hi, pivmin) {
-        Some(x) if count_below(d, &e2, x + 4.0 * f64::EPSILON * x.abs() + pivmin, pivmin) == d.len() => Ok(x),
-        _ => Ok(largest_by_bisection(d, &e2, lo, hi, pivmin)),
+        Some(x) if count_below(d, &e2, x + 4.0 * f64::EPSILON * x.abs() + pivmin, pivmin) == d.len() => x,
+        _ => largest_by_bisection(d, &e2, lo, hi, pivmin),
     }
 }
 

@@ -6,7 +6,7 @@
 //! algorithms ([`qr`] Householder with the full orthogonal factor, [`expm`]
 //! matrix exponential) live beside them, and [`shifted_sigma`] (the smallest singular value
 //! of `[A − λI, B]` for many shifts, after one Hessenberg reduction) and [`hermitian_top`] (the
-//! largest eigenvalue of a Hermitian matrix alone, by bisection).
+//! largest eigenvalue of a Hermitian matrix alone: Laguerre's iteration, bisection as fallback).
 
 pub mod eigen;
 pub mod expm;

@@ -299,11 +299,16 @@ fn spectral_radius(m: &DMatrix<Complex64>) -> f64 {
 /// [`LOWER_BOUND_STARTS`] seeded random phase vectors; then coordinate search (step halved
 /// when no coordinate improves, to 1e-9 rad).
 pub fn mu_lower_bound(m: &DMatrix<Complex64>) -> f64 {
+    mu_lower_bound_to(m, f64::INFINITY)
+}
+
+/// [`mu_lower_bound`], stopping once the search reaches `enough`.
+fn mu_lower_bound_to(m: &DMatrix<Complex64>, enough: f64) -> f64 {
     let k = m.nrows();
     if k <= 1 {
         return m.get((0, 0)).map_or(0.0, |v| v.norm());
     }
-    phase_search(m, std::iter::once(vec![0.0; k - 1]).chain(lower_bound_starts(k)), std::f64::consts::TAU / 24.0, f64::INFINITY)
+    phase_search(m, std::iter::once(vec![0.0; k - 1]).chain(lower_bound_starts(k)), std::f64::consts::TAU / 24.0, enough)
 }
 
 /// The many starts of [`mu_lower_bound`] for `k ≥ 2` inputs: a grid of 24 phases per free input
@@ -334,16 +339,10 @@ fn lower_bound_starts(k: usize) -> Vec<Vec<f64>> {
 /// that accuracy (reported as exact), and the lower bound is the one found by then.
 pub fn mu_lower_bound_near(m: &DMatrix<Complex64>, scaling: &[f64], upper: f64) -> f64 {
     let enough = if upper.is_finite() { upper * (1.0 - EXACT_GAP) } else { f64::INFINITY };
-    let many = |k: usize| {
-        let tau = std::f64::consts::TAU;
-        let starts = lower_bound_starts(k);
-        phase_search(m, std::iter::once(vec![0.0; k - 1]).chain(starts), tau / 24.0, enough)
-    };
     match from_minimiser(m, scaling, enough) {
         Some(found) if found >= enough => found,
-        Some(found) => found.max(many(m.nrows())),
-        None if m.nrows() <= 1 => mu_lower_bound(m),
-        None => many(m.nrows()),
+        Some(found) => found.max(mu_lower_bound_to(m, enough)),
+        None => mu_lower_bound_to(m, enough),
     }
 }
 

@@ -423,8 +423,9 @@ pub struct InputMargins {
 ///
 /// `σ_max² = λ_max(Mᴴ M)`: squaring costs no relative accuracy for the largest singular value
 /// (common practice). 2 × 2: the closed form of a Hermitian 2 × 2 eigenvalue; larger: the
-/// largest eigenvalue of the smaller Gram matrix alone, by tridiagonal reduction and bisection
-/// ([`crate::linalg::hermitian_top`]); the SVD only if that fails (a non-finite entry).
+/// largest eigenvalue of the smaller Gram matrix alone, by tridiagonal reduction and Laguerre's
+/// iteration ([`crate::linalg::hermitian_top`]); the SVD only if that fails (a non-finite
+/// entry).
 pub fn sigma_max(m: &DMatrix<Complex64>) -> f64 {
     match m.shape() {
         (0, _) | (_, 0) => 0.0,

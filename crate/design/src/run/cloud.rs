@@ -225,8 +225,9 @@ impl CloudJob {
 /// The uncertainty cloud that [`super::run_checked_continued`] would draw for `design` after
 /// `previous` (the same design: the gains are computed exactly as the run computes them), ready
 /// to draw in steps; `None` when there is none to draw: no uncertain parameters, the cloud
-/// already remembered in `previous` for these very inputs, or an error before it (which the run
-/// then reports). A search for the fastest design runs here unless `previous` remembers it.
+/// already remembered in `previous` for these very inputs, or an error in the design or its
+/// simulations (which the run then reports). A search for the fastest design runs here unless
+/// `previous` remembers it; the nominal simulations run once, to find their errors.
 pub fn cloud_job(design: &CheckedDesign, previous: Option<&crate::Continuation>) -> Option<CloudJob> {
     let uncertainty = design.controller.robustness.uncertainty.clone()?;
     let s = Setup::new(&design.request, &design.controller, previous).ok()?;
@@ -234,6 +235,9 @@ pub fn cloud_job(design: &CheckedDesign, previous: Option<&crate::Continuation>)
     let g = super::gains::gains(&s, &dp).ok()?;
     super::independent_verdict(&s, &dp, &g).ok()?;
     let h = horizon(&s, &dp, &g);
+    let mut sink = Vec::new();
+    super::simulation::free_response(&s, &g, &h, &mut sink).ok()?;
+    super::simulation::whole_loop(&s, &g, &h, &mut sink).ok()?;
     let inputs = CloudInputs::new(&s, &g, &h);
     if previous.and_then(|p| p.cloud.as_ref()).is_some_and(|m| m.result_for(&inputs).is_some()) {
         return None;

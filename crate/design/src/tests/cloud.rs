@@ -74,5 +74,17 @@ fn a_remembered_cloud_is_used_only_for_exactly_its_inputs() {
     }
     // No uncertain parameters: no job.
     let none = check_text(&PLAIN.replace(r#""entries": "B 2 1 50%\nA 1 2 30%", "#, "")).unwrap();
-    assert!(none.controller.robustness.uncertainty.is_none() || cloud_job(&none, None).is_none());
+    assert!(none.controller.robustness.uncertainty.is_none());
+    assert!(cloud_job(&none, None).is_none());
+}
+
+#[test]
+fn no_job_for_a_design_the_run_refuses() {
+    // An unstable mode that the input cannot reach (x₁' = x₁): the run refuses the design, so no
+    // cloud is drawn for it first.
+    let refused = PLAIN.replace(r#""a": [[0, 1], [0, 0]], "b": [[0], [1]]"#, r#""a": [[1, 0], [0, 0]], "b": [[0], [1]]"#).replace("A 1 2 30%", "A 1 1 30%");
+    let checked = check_text(&refused).unwrap();
+    assert!(checked.controller.robustness.uncertainty.is_some());
+    assert!(run_checked(&checked).is_err());
+    assert!(cloud_job(&checked, None).is_none());
 }
