@@ -384,15 +384,10 @@ pub fn evaluate_form_with(form: &FormInput, previous: Option<&crate::design::Con
 /// for these very inputs, or input errors (which the evaluation then reports).
 pub fn search_job(form: &FormInput, previous: Option<&crate::design::Continuation>) -> Option<crate::design::SearchJob> {
     // Most cycles have no search: nothing else is read for them.
-    if form.search != "true" || !oversized_fields(form).is_empty() || page_capacity(form).is_some() {
+    if form.search != "true" {
         return None;
     }
-    let spec = adapter::spec_from_form(form).ok()?;
-    let checked = crate::design::check(&spec);
-    if !checked.errors.is_empty() {
-        return None;
-    }
-    crate::design::search_job(checked.design.as_ref()?, previous)
+    crate::design::search_job(&checked_without_errors(form)?, previous)
 }
 
 /// The uncertainty cloud that [`evaluate_form_with`] at [`Depth::WithCloud`] would draw for
@@ -401,15 +396,24 @@ pub fn search_job(form: &FormInput, previous: Option<&crate::design::Continuatio
 /// remembered in `previous` for these very inputs, or input errors (which the evaluation then
 /// reports).
 pub fn cloud_job(form: &FormInput, previous: Option<&crate::design::Continuation>) -> Option<crate::design::CloudJob> {
-    if form.uncertain_entries.trim().is_empty() || !oversized_fields(form).is_empty() || page_capacity(form).is_some() {
+    if form.uncertain_entries.trim().is_empty() {
         return None;
     }
-    let spec = adapter::spec_from_form(form).ok()?;
-    let checked = crate::design::check(&spec);
-    if !checked.errors.is_empty() {
+    crate::design::cloud_job(&checked_without_errors(form)?, previous)
+}
+
+/// The checked design of `form` when the page would design it: no oversized field, within the
+/// page's capacity, and no input error.
+fn checked_without_errors(form: &FormInput) -> Option<crate::design::CheckedDesign> {
+    if !oversized_fields(form).is_empty() || page_capacity(form).is_some() {
         return None;
     }
-    crate::design::cloud_job(checked.design.as_ref()?, previous)
+    let checked = crate::design::check(&adapter::spec_from_form(form).ok()?);
+    if checked.errors.is_empty() {
+        checked.design
+    } else {
+        None
+    }
 }
 
 pub fn open_loop_analysis(plant: &Plant) -> Option<OpenLoopAnalysis> {
